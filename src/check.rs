@@ -1,0 +1,101 @@
+//! The main job end to end: validate a plant, build its network, scan every scenario ×
+//! configuration and screen each bank's resonance. Writers in [`crate::io`] and
+//! [`crate::report`] read the [`CheckResults`] only.
+
+use crate::model::{ModelErrors, Plant};
+use crate::network::{Network, TopologyError};
+use crate::solve::{Engine, SolveError};
+use crate::study::config::{ConfigurationError, configuration_count};
+use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid, all_configurations};
+
+/// Most step combinations studied in one run; above it the engineer is asked to narrow
+/// `Studied steps` (a guard against runs of hours).
+pub const MAX_CONFIGURATIONS: u64 = 100_000;
+
+/// Why a check could not run.
+#[derive(Debug, thiserror::Error)]
+pub enum CheckError {
+    #[error(transparent)]
+    Model(#[from] ModelErrors),
+    #[error(transparent)]
+    Topology(#[from] TopologyError),
+    #[error(transparent)]
+    Solve(#[from] SolveError),
+    #[error(transparent)]
+    Configuration(#[from] ConfigurationError),
+    #[error("--bus: there is no bus \"{0}\" on the Buses sheet")]
+    UnknownBus(String),
+    #[error(
+        "{count} step combinations exceed the limit of {MAX_CONFIGURATIONS}: narrow \"Studied steps\" on the Capacitors sheet (for example 0,2,4 or 1-3)"
+    )]
+    TooManyConfigurations { count: u64 },
+}
+
+/// What the engineer asked for beyond the defaults.
+#[derive(Debug, Clone, Default)]
+pub struct CheckOptions {
+    /// Extra buses to scan (ids), beyond the PCC and the bank buses.
+    pub buses: Vec<String>,
+}
+
+/// Everything the studies found.
+#[derive(Debug, Clone)]
+pub struct CheckResults {
+    pub plant: Plant,
+    pub network: Network,
+    pub scan: Scan,
+    pub resonance: ResonanceStudy,
+    /// Network index of the PCC bus.
+    pub pcc: usize,
+}
+
+impl CheckResults {
+    /// The label of configuration `c`.
+    pub fn label(&self, c: usize) -> String {
+        self.scan.configurations[c].label(&self.plant.banks)
+    }
+}
+
+/// Runs every study that exists on `plant`.
+pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, CheckError> {
+    plant.validate()?;
+    let count = configuration_count(&plant.banks);
+    if count > MAX_CONFIGURATIONS {
+        return Err(CheckError::TooManyConfigurations { count });
+    }
+    let network = Network::build(plant)?;
+    let pcc_id = plant.pcc_bus().unwrap_or_default().to_string();
+    let pcc = network
+        .bus_index(&pcc_id)
+        .ok_or_else(|| CheckError::UnknownBus(pcc_id.clone()))?;
+    let mut buses = vec![pcc];
+    for b in &network.banks {
+        if !buses.contains(&b.bus) {
+            buses.push(b.bus);
+        }
+    }
+    for id in &options.buses {
+        let i = network
+            .bus_index(id)
+            .ok_or_else(|| CheckError::UnknownBus(id.clone()))?;
+        if !buses.contains(&i) {
+            buses.push(i);
+        }
+    }
+    let mut configurations: Vec<Configuration> = all_configurations(&plant.banks);
+    let none = Configuration::none(plant.banks.len());
+    if !configurations.contains(&none) {
+        configurations.push(none);
+    }
+    let engine = Engine::new(&network, &buses);
+    let grid = ScanGrid::new(plant.study.highest_order, plant.study.scan_step_order);
+    let scan = Scan::run(&engine, grid, configurations, buses)?;
+    let resonance = ResonanceStudy::run(plant, &network, &engine, &scan)?;
+    Ok(CheckResults {
+        plant: plant.clone(),
+        network: network.clone(),
+        scan,
+        resonance,
+        pcc,
+    })
+}

@@ -1,0 +1,93 @@
+//! CSV files that other tools read, per the input contract's "Outputs that other tools read":
+//! numbers at full precision (the shortest text that reads back to the same f64).
+
+use std::io::{self, Write};
+
+use crate::check::CheckResults;
+
+/// Which series of the scan go into the CSV.
+#[derive(Debug, Clone, Default)]
+pub struct ScanSelection {
+    /// Network bus indices; empty = the PCC and every bank bus.
+    pub buses: Vec<usize>,
+    /// Configuration indices into the scan; empty = every configuration.
+    pub configurations: Vec<usize>,
+}
+
+/// Rows above which a scan CSV is refused (input contract).
+pub const MAX_SCAN_ROWS: u64 = 5_000_000;
+
+/// The selected (bus position in the scan, configuration) lists and the row count.
+pub fn resolve(res: &CheckResults, sel: &ScanSelection) -> (Vec<usize>, Vec<usize>, u64) {
+    let buses: Vec<usize> = if sel.buses.is_empty() {
+        let mut v = vec![res.pcc];
+        for b in &res.network.banks {
+            if !v.contains(&b.bus) {
+                v.push(b.bus);
+            }
+        }
+        v
+    } else {
+        sel.buses.clone()
+    }
+    .into_iter()
+    .filter_map(|bus| res.scan.buses.iter().position(|&b| b == bus))
+    .collect();
+    let configs: Vec<usize> = if sel.configurations.is_empty() {
+        (0..res.scan.configurations.len()).collect()
+    } else {
+        sel.configurations.clone()
+    };
+    let rows = res.scan.scenarios.len() as u64
+        * configs.len() as u64
+        * buses.len() as u64
+        * res.scan.grid.orders.len() as u64;
+    (buses, configs, rows)
+}
+
+/// Writes `scenario,configuration,bus,order,frequency_hz,z_ohm,angle_deg`, one row per
+/// scenario, configuration, bus and scan point.
+pub fn write_scan_csv(
+    out: &mut dyn Write,
+    res: &CheckResults,
+    sel: &ScanSelection,
+) -> io::Result<()> {
+    let (buses, configs, _) = resolve(res, sel);
+    let f = res.plant.study.frequency_hz;
+    writeln!(
+        out,
+        "scenario,configuration,bus,order,frequency_hz,z_ohm,angle_deg"
+    )?;
+    for (s, scenario) in res.scan.scenarios.iter().enumerate() {
+        for &c in &configs {
+            let label = res.label(c);
+            for &b in &buses {
+                let bus = &res.network.buses[res.scan.buses[b]].id;
+                let series = res.scan.series(s, c, b);
+                for (h, z) in res.scan.grid.orders.iter().zip(&series.z_ohm) {
+                    writeln!(
+                        out,
+                        "{},{},{},{:?},{:?},{:?},{:?}",
+                        field(scenario),
+                        field(&label),
+                        field(bus),
+                        h,
+                        h * f,
+                        z.norm(),
+                        z.arg().to_degrees()
+                    )?;
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
+/// A CSV field, quoted when it holds a comma, quote or line break (RFC 4180).
+pub fn field(s: &str) -> String {
+    if s.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", s.replace('"', "\"\""))
+    } else {
+        s.to_string()
+    }
+}

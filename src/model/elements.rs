@@ -1,0 +1,332 @@
+//! The element types of the input contract, one struct per sheet row.
+
+use serde::Serialize;
+
+/// How series resistance varies with harmonic order h (Study sheet, `Resistance model`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum ResistanceModel {
+    /// R independent of frequency: k(h) = 1.
+    Constant,
+    /// R scaled by √h for skin effect: k(h) = √h (common practice).
+    Skin,
+}
+
+impl ResistanceModel {
+    /// The resistance multiplier k(h) at harmonic order `order` (dimensionless).
+    pub fn factor(self, order: f64) -> f64 {
+        match self {
+            ResistanceModel::Constant => 1.0,
+            ResistanceModel::Skin => order.sqrt(),
+        }
+    }
+}
+
+/// The limit set the harmonic results are held against (Study sheet, `Limits`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum LimitSet {
+    Ieee519_2014,
+    Iec61000_2_4Class1,
+    Iec61000_2_4Class2,
+    Iec61000_2_4Class3,
+}
+
+/// How the harmonic voltages that several loads cause at a bus add (Study sheet, `Summation`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Summation {
+    /// Magnitudes add: an upper bound.
+    Arithmetic,
+    /// The summation exponents of IEC 61000-3-6 by order.
+    Iec61000_3_6,
+}
+
+/// Capacitance tolerance band in percent, e.g. −5 / +10 (Study sheet).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Tolerance {
+    /// Lower deviation in percent, ≤ 0 (e.g. −5).
+    pub minus_percent: f64,
+    /// Upper deviation in percent, ≥ 0 (e.g. +10).
+    pub plus_percent: f64,
+}
+
+/// The Study sheet: settings that apply to the whole study.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StudySettings {
+    pub title: String,
+    pub plant: String,
+    pub prepared_by: String,
+    /// System frequency, 50 or 60 Hz.
+    pub frequency_hz: f64,
+    pub pcc_bus: Option<String>,
+    /// I_L at the PCC for the TDD check, A; `None` = estimate from the loads.
+    pub max_demand_current_a: Option<f64>,
+    /// Highest harmonic order studied.
+    pub highest_order: f64,
+    /// Frequency-scan step in harmonic order.
+    pub scan_step_order: f64,
+    pub resistance_model: ResistanceModel,
+    pub limits: LimitSet,
+    pub summation: Summation,
+    /// A peak within this many percent of a characteristic order is flagged.
+    pub resonance_margin_percent: f64,
+    pub capacitance_tolerance: Tolerance,
+}
+
+impl StudySettings {
+    /// The contract's defaults at `frequency_hz`.
+    pub fn new(frequency_hz: f64) -> Self {
+        StudySettings {
+            title: String::new(),
+            plant: String::new(),
+            prepared_by: String::new(),
+            frequency_hz,
+            pcc_bus: None,
+            max_demand_current_a: None,
+            highest_order: 50.0,
+            scan_step_order: 0.01,
+            resistance_model: ResistanceModel::Constant,
+            limits: LimitSet::Ieee519_2014,
+            summation: Summation::Arithmetic,
+            resonance_margin_percent: 10.0,
+            capacitance_tolerance: Tolerance {
+                minus_percent: 0.0,
+                plus_percent: 10.0,
+            },
+        }
+    }
+}
+
+/// A bus (node) of the plant.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Bus {
+    pub id: String,
+    /// Nominal line-to-line voltage, kV.
+    pub nominal_kv: f64,
+    pub description: String,
+}
+
+/// Fault level of a source: exactly one of the two forms.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub enum ShortCircuit {
+    /// Three-phase fault level, MVA.
+    Mva(f64),
+    /// Three-phase fault current, kA.
+    Ka(f64),
+}
+
+/// A utility supply or generator as a Thevenin equivalent behind its bus.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Source {
+    pub id: String,
+    pub bus: String,
+    /// Supply condition this row belongs to; `None` = in service in every scenario.
+    pub scenario: Option<String>,
+    pub short_circuit: ShortCircuit,
+    /// X/R ratio at fundamental, > 0.
+    pub x_over_r: f64,
+}
+
+impl Source {
+    /// Three-phase short-circuit power in MVA at a bus of `kv` kV: S = √3·kV·kA when given
+    /// as a current (input contract, sheet `Sources`).
+    pub fn short_circuit_mva(&self, kv: f64) -> f64 {
+        match self.short_circuit {
+            ShortCircuit::Mva(mva) => mva,
+            ShortCircuit::Ka(ka) => 3f64.sqrt() * kv * ka,
+        }
+    }
+}
+
+/// A two-winding transformer; its ratio is the ratio of its buses' nominal kV.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Transformer {
+    pub id: String,
+    pub hv_bus: String,
+    pub lv_bus: String,
+    /// Rating, kVA.
+    pub kva: f64,
+    /// Impedance on its own rating, %.
+    pub impedance_percent: f64,
+    pub x_over_r: f64,
+    pub in_service: bool,
+}
+
+/// A cable (or line) between two buses of the same nominal kV.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Cable {
+    pub id: String,
+    pub from_bus: String,
+    pub to_bus: String,
+    pub length_m: f64,
+    /// Series resistance per phase at fundamental, ohm/km.
+    pub r_ohm_per_km: f64,
+    /// Series reactance per phase at fundamental, ohm/km.
+    pub x_ohm_per_km: f64,
+    /// Shunt capacitance per phase, µF/km (0 = none).
+    pub c_uf_per_km: f64,
+    /// Parallel runs, ≥ 1.
+    pub runs: u32,
+}
+
+/// The series reactor of a capacitor bank, if any.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub enum Reactor {
+    /// A plain bank.
+    None,
+    /// Detuning factor p in percent of X_C (7 means p = 0.07).
+    Detuning { percent: f64 },
+    /// A tuned filter at this harmonic order: p = 1/order².
+    Tuned { order: f64 },
+}
+
+impl Reactor {
+    /// The detuning factor p = X_L / X_C (dimensionless); 0 for a plain bank.
+    pub fn p(self) -> f64 {
+        match self {
+            Reactor::None => 0.0,
+            Reactor::Detuning { percent } => percent / 100.0,
+            Reactor::Tuned { order } => 1.0 / (order * order),
+        }
+    }
+}
+
+/// Whether a bank is installed already or proposed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum BankStatus {
+    Existing,
+    Proposed,
+}
+
+/// A shunt capacitor bank of `steps` equal steps.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CapacitorBank {
+    pub id: String,
+    pub bus: String,
+    /// Capacitor rated voltage, line-to-line, kV.
+    pub rated_kv: f64,
+    /// Rated kvar of one step at rated kV.
+    pub step_kvar: f64,
+    pub steps: u32,
+    pub reactor: Reactor,
+    /// Reactor X/R at fundamental.
+    pub reactor_q: f64,
+    pub status: BankStatus,
+    /// Energized step counts to study, ascending, each ≤ `steps`.
+    pub studied_steps: Vec<u32>,
+}
+
+impl CapacitorBank {
+    /// Capacitive reactance of one step at fundamental, ohm per phase:
+    /// X_C = (Rated kV)² / (Step kvar / 1000) (input contract, sheet `Capacitors`).
+    pub fn step_xc_ohm(&self) -> f64 {
+        self.rated_kv * self.rated_kv / (self.step_kvar / 1000.0)
+    }
+
+    /// Reactive power of `n` energized plain steps at a bus of `bus_kv`, kvar:
+    /// Q = n·Step kvar·(kV_bus / kV_rated)².
+    pub fn kvar_at(&self, n: u32, bus_kv: f64) -> f64 {
+        let ratio = bus_kv / self.rated_kv;
+        f64::from(n) * self.step_kvar * ratio * ratio
+    }
+}
+
+/// The load types of the input contract.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum LoadType {
+    Linear,
+    Motor,
+    SixPulseDrive,
+    SixPulseDriveWithReactor,
+    TwelvePulseDrive,
+    EighteenPulseDrive,
+    ActiveFrontEnd,
+    Electronic,
+    Custom,
+}
+
+impl LoadType {
+    /// Every type, in the contract's order.
+    pub const ALL: [LoadType; 9] = [
+        LoadType::Linear,
+        LoadType::Motor,
+        LoadType::SixPulseDrive,
+        LoadType::SixPulseDriveWithReactor,
+        LoadType::TwelvePulseDrive,
+        LoadType::EighteenPulseDrive,
+        LoadType::ActiveFrontEnd,
+        LoadType::Electronic,
+        LoadType::Custom,
+    ];
+
+    /// The contract's spelling of the type.
+    pub fn label(self) -> &'static str {
+        match self {
+            LoadType::Linear => "linear",
+            LoadType::Motor => "motor",
+            LoadType::SixPulseDrive => "6-pulse drive",
+            LoadType::SixPulseDriveWithReactor => "6-pulse drive with reactor",
+            LoadType::TwelvePulseDrive => "12-pulse drive",
+            LoadType::EighteenPulseDrive => "18-pulse drive",
+            LoadType::ActiveFrontEnd => "active front end",
+            LoadType::Electronic => "electronic",
+            LoadType::Custom => "custom",
+        }
+    }
+
+    /// True for every type that injects harmonic current (all but linear and motor).
+    pub fn is_harmonic_source(self) -> bool {
+        !matches!(self, LoadType::Linear | LoadType::Motor)
+    }
+
+    /// The contract's default displacement power factor for the type.
+    pub fn default_power_factor(self) -> f64 {
+        match self {
+            LoadType::Linear | LoadType::Motor => 0.85,
+            _ => 0.95,
+        }
+    }
+}
+
+/// A load (or a group of identical loads) at a bus.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Load {
+    pub id: String,
+    pub bus: String,
+    pub kind: LoadType,
+    /// Electrical input per unit at full load, kW.
+    pub kw: f64,
+    /// Displacement power factor, 0 < pf ≤ 1.
+    pub power_factor: f64,
+    pub quantity: f64,
+    /// Fraction of full load at the study point, 0..1.
+    pub load_factor: f64,
+    /// Name of a spectrum on the Spectra sheet.
+    pub spectrum: Option<String>,
+}
+
+impl Load {
+    /// Active power at the study point, kW: P = kW × Quantity × Load factor.
+    pub fn p_kw(&self) -> f64 {
+        self.kw * self.quantity * self.load_factor
+    }
+}
+
+/// One harmonic of a spectrum.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SpectrumLine {
+    /// Harmonic order h > 1 (may be non-integer).
+    pub order: f64,
+    /// Magnitude in % of the fundamental current.
+    pub magnitude_percent: f64,
+    /// Phase angle, degrees.
+    pub angle_deg: f64,
+}
+
+/// A named harmonic current spectrum.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Spectrum {
+    pub name: String,
+    pub lines: Vec<SpectrumLine>,
+}

@@ -1,0 +1,455 @@
+//! Checks a [`Plant`] once, collecting every problem, each naming the element and field.
+
+use std::collections::HashSet;
+use std::fmt;
+
+use super::{LoadType, Plant, Reactor, ShortCircuit};
+
+/// One problem with the plant: the element (sheet and id), the field and what is wrong.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct ModelError {
+    /// Sheet of the contract the element belongs to, e.g. `Capacitors`.
+    pub sheet: &'static str,
+    /// The element's id (empty for the Study sheet).
+    pub id: String,
+    /// The field (column or Study item) at fault.
+    pub field: &'static str,
+    pub message: String,
+}
+
+impl fmt::Display for ModelError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.id.is_empty() {
+            write!(f, "{} \"{}\": {}", self.sheet, self.field, self.message)
+        } else {
+            write!(
+                f,
+                "{} \"{}\", \"{}\": {}",
+                self.sheet, self.id, self.field, self.message
+            )
+        }
+    }
+}
+
+/// Every problem found in a plant.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("{} problem(s) in the plant:\n{}", .0.len(), .0.iter().map(|e| format!("  {e}")).collect::<Vec<_>>().join("\n"))]
+pub struct ModelErrors(pub Vec<ModelError>);
+
+struct Collector<'a> {
+    errors: Vec<ModelError>,
+    bus_ids: HashSet<&'a str>,
+}
+
+impl<'a> Collector<'a> {
+    fn push(&mut self, sheet: &'static str, id: &str, field: &'static str, message: String) {
+        self.errors.push(ModelError {
+            sheet,
+            id: id.to_string(),
+            field,
+            message,
+        });
+    }
+
+    /// A finite number > 0.
+    fn positive(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
+        if !(v.is_finite() && v > 0.0) {
+            self.push(
+                sheet,
+                id,
+                field,
+                format!("must be a positive number, found {v}"),
+            );
+        }
+    }
+
+    /// A finite number ≥ 0.
+    fn non_negative(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
+        if !(v.is_finite() && v >= 0.0) {
+            self.push(
+                sheet,
+                id,
+                field,
+                format!("must be zero or positive, found {v}"),
+            );
+        }
+    }
+
+    fn bus(&mut self, sheet: &'static str, id: &str, field: &'static str, bus: &str) {
+        if !self.bus_ids.contains(bus) {
+            self.push(sheet, id, field, format!("bus \"{bus}\" does not exist"));
+        }
+    }
+
+    fn unique<'b>(
+        &mut self,
+        sheet: &'static str,
+        field: &'static str,
+        ids: impl Iterator<Item = &'b str>,
+    ) {
+        let mut seen = HashSet::new();
+        for id in ids {
+            if id.trim().is_empty() {
+                self.push(sheet, id, field, "an id is required".to_string());
+            } else if !seen.insert(id) {
+                self.push(sheet, id, field, format!("duplicate id \"{id}\""));
+            }
+        }
+    }
+}
+
+impl Plant {
+    /// Checks the whole plant and returns every problem found, or `Ok(())`.
+    pub fn validate(&self) -> Result<(), ModelErrors> {
+        let mut c = Collector {
+            errors: Vec::new(),
+            bus_ids: self.buses.iter().map(|b| b.id.as_str()).collect(),
+        };
+        self.validate_study(&mut c);
+        c.unique("Buses", "Bus", self.buses.iter().map(|b| b.id.as_str()));
+        for b in &self.buses {
+            c.positive("Buses", &b.id, "Nominal kV", b.nominal_kv);
+        }
+        self.validate_sources(&mut c);
+        self.validate_branches(&mut c);
+        self.validate_banks(&mut c);
+        self.validate_loads(&mut c);
+        if c.errors.is_empty() {
+            Ok(())
+        } else {
+            Err(ModelErrors(c.errors))
+        }
+    }
+
+    fn kv_of(&self, bus: &str) -> Option<f64> {
+        self.buses
+            .iter()
+            .find(|b| b.id == bus)
+            .map(|b| b.nominal_kv)
+    }
+
+    fn validate_study(&self, c: &mut Collector<'_>) {
+        let s = &self.study;
+        const SHEET: &str = "Study";
+        if !(s.frequency_hz == 50.0 || s.frequency_hz == 60.0) {
+            c.push(
+                SHEET,
+                "",
+                "Frequency",
+                format!("must be 50 or 60, found {}", s.frequency_hz),
+            );
+        }
+        if !(s.highest_order.is_finite() && s.highest_order > 1.0 && s.highest_order <= 1000.0) {
+            c.push(
+                SHEET,
+                "",
+                "Highest order",
+                format!(
+                    "must be a number above 1 and at most 1000, found {}",
+                    s.highest_order
+                ),
+            );
+        }
+        if !(s.scan_step_order.is_finite() && s.scan_step_order >= 1e-4 && s.scan_step_order <= 1.0)
+        {
+            c.push(
+                SHEET,
+                "",
+                "Scan step",
+                format!("must be between 0.0001 and 1, found {}", s.scan_step_order),
+            );
+        }
+        if !(s.resonance_margin_percent.is_finite()
+            && s.resonance_margin_percent >= 0.0
+            && s.resonance_margin_percent < 100.0)
+        {
+            c.push(
+                SHEET,
+                "",
+                "Resonance margin",
+                format!(
+                    "must be between 0 and 100 %, found {}",
+                    s.resonance_margin_percent
+                ),
+            );
+        }
+        let t = s.capacitance_tolerance;
+        if !(t.minus_percent.is_finite()
+            && t.plus_percent.is_finite()
+            && t.minus_percent <= 0.0
+            && t.minus_percent > -100.0
+            && t.plus_percent >= 0.0
+            && t.plus_percent <= 100.0)
+        {
+            c.push(
+                SHEET,
+                "",
+                "Capacitance tolerance",
+                format!(
+                    "must be a band like -5/+10 with -100 < minus <= 0 <= plus <= 100, found {}/{}",
+                    t.minus_percent, t.plus_percent
+                ),
+            );
+        }
+        if let Some(i_l) = s.max_demand_current_a {
+            c.positive(SHEET, "", "Max demand current", i_l);
+        }
+        if let Some(pcc) = &s.pcc_bus
+            && !c.bus_ids.contains(pcc.as_str())
+        {
+            c.push(
+                SHEET,
+                "",
+                "PCC bus",
+                format!("bus \"{pcc}\" does not exist"),
+            );
+        }
+    }
+
+    fn validate_sources(&self, c: &mut Collector<'_>) {
+        const SHEET: &str = "Sources";
+        if self.sources.is_empty() {
+            c.push(
+                SHEET,
+                "",
+                "Source",
+                "at least one source is required".to_string(),
+            );
+        }
+        c.unique(SHEET, "Source", self.sources.iter().map(|s| s.id.as_str()));
+        for s in &self.sources {
+            c.bus(SHEET, &s.id, "Bus", &s.bus);
+            match s.short_circuit {
+                ShortCircuit::Mva(v) => c.positive(SHEET, &s.id, "Short-circuit MVA", v),
+                ShortCircuit::Ka(v) => c.positive(SHEET, &s.id, "Short-circuit kA", v),
+            }
+            c.positive(SHEET, &s.id, "X/R", s.x_over_r);
+        }
+    }
+
+    fn validate_branches(&self, c: &mut Collector<'_>) {
+        const TX: &str = "Transformers";
+        c.unique(
+            TX,
+            "Transformer",
+            self.transformers.iter().map(|t| t.id.as_str()),
+        );
+        for t in &self.transformers {
+            c.bus(TX, &t.id, "HV bus", &t.hv_bus);
+            c.bus(TX, &t.id, "LV bus", &t.lv_bus);
+            c.positive(TX, &t.id, "kVA", t.kva);
+            c.positive(TX, &t.id, "Impedance", t.impedance_percent);
+            c.positive(TX, &t.id, "X/R", t.x_over_r);
+            if let (Some(hv), Some(lv)) = (self.kv_of(&t.hv_bus), self.kv_of(&t.lv_bus)) {
+                if t.hv_bus == t.lv_bus {
+                    c.push(
+                        TX,
+                        &t.id,
+                        "LV bus",
+                        "must differ from the HV bus".to_string(),
+                    );
+                } else if hv == lv {
+                    c.push(
+                        TX,
+                        &t.id,
+                        "LV bus",
+                        format!("connects two buses of the same nominal kV ({hv} kV): use a cable"),
+                    );
+                }
+            }
+        }
+        const CB: &str = "Cables";
+        c.unique(CB, "Cable", self.cables.iter().map(|t| t.id.as_str()));
+        for k in &self.cables {
+            c.bus(CB, &k.id, "From bus", &k.from_bus);
+            c.bus(CB, &k.id, "To bus", &k.to_bus);
+            c.positive(CB, &k.id, "Length", k.length_m);
+            c.non_negative(CB, &k.id, "R", k.r_ohm_per_km);
+            c.non_negative(CB, &k.id, "X", k.x_ohm_per_km);
+            c.non_negative(CB, &k.id, "C", k.c_uf_per_km);
+            if k.r_ohm_per_km == 0.0 && k.x_ohm_per_km == 0.0 {
+                c.push(CB, &k.id, "X", "R and X cannot both be zero".to_string());
+            }
+            if k.runs == 0 {
+                c.push(CB, &k.id, "Runs", "must be at least 1".to_string());
+            }
+            if k.from_bus == k.to_bus {
+                c.push(
+                    CB,
+                    &k.id,
+                    "To bus",
+                    "must differ from the from bus".to_string(),
+                );
+            } else if let (Some(a), Some(b)) = (self.kv_of(&k.from_bus), self.kv_of(&k.to_bus))
+                && a != b
+            {
+                c.push(
+                    CB,
+                    &k.id,
+                    "To bus",
+                    format!(
+                        "connects buses of different nominal kV ({a} and {b} kV): use a transformer"
+                    ),
+                );
+            }
+        }
+    }
+
+    fn validate_banks(&self, c: &mut Collector<'_>) {
+        const SHEET: &str = "Capacitors";
+        c.unique(SHEET, "Bank", self.banks.iter().map(|b| b.id.as_str()));
+        for b in &self.banks {
+            if b.id.contains(char::is_whitespace) || b.id.contains('=') {
+                c.push(
+                    SHEET,
+                    &b.id,
+                    "Bank",
+                    "a bank id may not contain spaces or '='".to_string(),
+                );
+            }
+            c.bus(SHEET, &b.id, "Bus", &b.bus);
+            c.positive(SHEET, &b.id, "Rated kV", b.rated_kv);
+            c.positive(SHEET, &b.id, "Step kvar", b.step_kvar);
+            c.positive(SHEET, &b.id, "Reactor Q", b.reactor_q);
+            if b.steps == 0 {
+                c.push(SHEET, &b.id, "Steps", "must be at least 1".to_string());
+            }
+            match b.reactor {
+                Reactor::None => {}
+                Reactor::Detuning { percent } => {
+                    if !(percent.is_finite() && percent > 0.0 && percent < 100.0) {
+                        c.push(
+                            SHEET,
+                            &b.id,
+                            "Detuning",
+                            format!("must be between 0 and 100 %, found {percent}"),
+                        );
+                    }
+                }
+                Reactor::Tuned { order } => {
+                    if !(order.is_finite() && order > 1.0) {
+                        c.push(
+                            SHEET,
+                            &b.id,
+                            "Tuned order",
+                            format!("must be above 1, found {order}"),
+                        );
+                    }
+                }
+            }
+            if b.studied_steps.is_empty() {
+                c.push(
+                    SHEET,
+                    &b.id,
+                    "Studied steps",
+                    "no step count to study".to_string(),
+                );
+            }
+            if let Some(&n) = b.studied_steps.iter().find(|&&n| n > b.steps) {
+                c.push(
+                    SHEET,
+                    &b.id,
+                    "Studied steps",
+                    format!("step count {n} exceeds the bank's {} steps", b.steps),
+                );
+            }
+            if b.studied_steps.windows(2).any(|w| w[0] >= w[1]) {
+                c.push(
+                    SHEET,
+                    &b.id,
+                    "Studied steps",
+                    "must be ascending without repeats".to_string(),
+                );
+            }
+        }
+    }
+
+    fn validate_loads(&self, c: &mut Collector<'_>) {
+        const SHEET: &str = "Loads";
+        c.unique(SHEET, "Load", self.loads.iter().map(|l| l.id.as_str()));
+        for l in &self.loads {
+            c.bus(SHEET, &l.id, "Bus", &l.bus);
+            c.non_negative(SHEET, &l.id, "kW", l.kw);
+            c.non_negative(SHEET, &l.id, "Quantity", l.quantity);
+            if !(l.power_factor.is_finite() && l.power_factor > 0.0 && l.power_factor <= 1.0) {
+                c.push(
+                    SHEET,
+                    &l.id,
+                    "Power factor",
+                    format!("must be above 0 and at most 1, found {}", l.power_factor),
+                );
+            }
+            if !(l.load_factor.is_finite() && (0.0..=1.0).contains(&l.load_factor)) {
+                c.push(
+                    SHEET,
+                    &l.id,
+                    "Load factor",
+                    format!("must be between 0 and 1, found {}", l.load_factor),
+                );
+            }
+            match (&l.spectrum, l.kind) {
+                (Some(_), LoadType::Linear | LoadType::Motor) => c.push(
+                    SHEET,
+                    &l.id,
+                    "Spectrum",
+                    format!(
+                        "a {} load injects no harmonics and takes no spectrum",
+                        l.kind.label()
+                    ),
+                ),
+                (None, LoadType::Custom) => c.push(
+                    SHEET,
+                    &l.id,
+                    "Spectrum",
+                    "a custom load needs a spectrum from the Spectra sheet".to_string(),
+                ),
+                (Some(name), _) if self.spectrum(name).is_none() => c.push(
+                    SHEET,
+                    &l.id,
+                    "Spectrum",
+                    format!("spectrum \"{name}\" is not on the Spectra sheet"),
+                ),
+                _ => {}
+            }
+        }
+        const SP: &str = "Spectra";
+        c.unique(SP, "Spectrum", self.spectra.iter().map(|s| s.name.as_str()));
+        for s in &self.spectra {
+            if s.lines.is_empty() {
+                c.push(
+                    SP,
+                    &s.name,
+                    "Order",
+                    "the spectrum has no harmonic".to_string(),
+                );
+            }
+            for (i, line) in s.lines.iter().enumerate() {
+                if !(line.order.is_finite() && line.order > 1.0) {
+                    c.push(
+                        SP,
+                        &s.name,
+                        "Order",
+                        format!("must be above 1, found {}", line.order),
+                    );
+                }
+                if s.lines[..i].iter().any(|o| o.order == line.order) {
+                    c.push(
+                        SP,
+                        &s.name,
+                        "Order",
+                        format!("order {} appears twice", line.order),
+                    );
+                }
+                c.non_negative(SP, &s.name, "Magnitude", line.magnitude_percent);
+                if !line.angle_deg.is_finite() {
+                    c.push(
+                        SP,
+                        &s.name,
+                        "Angle",
+                        format!("must be a number, found {}", line.angle_deg),
+                    );
+                }
+            }
+        }
+    }
+}

@@ -1,0 +1,4 @@
+//! Human-readable output: the terminal summary and the safety cautions every report carries.
+
+pub mod cautions;
+pub mod summary;

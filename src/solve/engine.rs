@@ -1,0 +1,246 @@
+//! The per-point engine: factor Y(h) without banks once per scan point and scenario, solve
+//! for the impedance columns at the bank buses and the buses of interest, then apply any
+//! step combination as a small dense correction (the compensation method, a form of the
+//! Woodbury identity):
+//!
+//! Y = Y₀ + P·D·Pᵀ with D = diag(n_b·y_b(h)) the bank admittances at their buses, so
+//! Z = Z₀ − Z₀P·(I + D·PᵀZ₀P)⁻¹·D·PᵀZ₀. This form needs no D⁻¹, so a bank at 0 steps is exact.
+//! Cost per configuration O(k³) for k banks, independent of the number of buses.
+
+use num_complex::Complex64;
+
+use super::{DenseLu, Factor, Symbolic};
+use crate::network::Network;
+
+/// A network that cannot be solved at some frequency.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum SolveError {
+    #[error(
+        "scenario \"{scenario}\": the network is singular at harmonic order {order} near bus \"{bus}\" (a lossless resonance or an element of zero impedance)"
+    )]
+    Singular {
+        scenario: String,
+        order: f64,
+        bus: String,
+    },
+}
+
+/// The sparse solver of one network, with the buses whose impedances are wanted.
+#[derive(Debug, Clone)]
+pub struct Engine<'a> {
+    net: &'a Network,
+    sym: Symbolic,
+    /// Distinct buses whose columns of Z₀ are solved: bank buses first, then the rest of
+    /// the buses of interest.
+    cols: Vec<usize>,
+    /// For each bank, its index in `cols`.
+    bank_col: Vec<usize>,
+    /// For each bus of interest, its index in `cols`.
+    interest_col: Vec<usize>,
+    /// The buses of interest (bus indices), as given.
+    interest: Vec<usize>,
+}
+
+/// Z₀ at one scan point and scenario, restricted to the bank buses and buses of interest,
+/// and the bank step admittances: everything needed to evaluate any step combination.
+#[derive(Debug, Clone)]
+pub struct PointSolution {
+    /// Harmonic order of the point.
+    pub order: f64,
+    /// Z₀ among the solved columns, per unit, row-major c×c (symmetric).
+    z0: Vec<Complex64>,
+    c: usize,
+    bank_col: Vec<usize>,
+    interest_col: Vec<usize>,
+    /// One step's admittance of each bank, per unit.
+    y_step: Vec<Complex64>,
+}
+
+impl<'a> Engine<'a> {
+    /// Analyses the network's pattern once and fixes the buses of interest (bus indices).
+    pub fn new(net: &'a Network, interest: &[usize]) -> Self {
+        let sym = Symbolic::new(net.buses.len(), &net.edges());
+        let mut cols: Vec<usize> = Vec::new();
+        let index_of = |bus: usize, cols: &mut Vec<usize>| match cols.iter().position(|&c| c == bus)
+        {
+            Some(i) => i,
+            None => {
+                cols.push(bus);
+                cols.len() - 1
+            }
+        };
+        let bank_col = net
+            .banks
+            .iter()
+            .map(|b| index_of(b.bus, &mut cols))
+            .collect();
+        let interest_col = interest.iter().map(|&i| index_of(i, &mut cols)).collect();
+        Engine {
+            net,
+            sym,
+            cols,
+            bank_col,
+            interest_col,
+            interest: interest.to_vec(),
+        }
+    }
+
+    /// The buses of interest (bus indices), in the order given to [`Engine::new`].
+    pub fn interest(&self) -> &[usize] {
+        &self.interest
+    }
+
+    /// The network solved.
+    pub fn network(&self) -> &Network {
+        self.net
+    }
+
+    /// The symbolic analysis in use.
+    pub fn symbolic(&self) -> &Symbolic {
+        &self.sym
+    }
+
+    fn singular(&self, order: f64, scenario: usize, index: usize) -> SolveError {
+        SolveError::Singular {
+            scenario: self
+                .net
+                .scenarios
+                .get(scenario)
+                .map_or_else(String::new, |s| s.name.clone()),
+            order,
+            bus: self
+                .net
+                .buses
+                .get(index)
+                .map_or_else(String::new, |b| b.id.clone()),
+        }
+    }
+
+    /// Factors Y(h) in `scenario` with `steps[b]` steps of bank b energized (an empty slice
+    /// means no banks).
+    pub fn factor(&self, order: f64, scenario: usize, steps: &[u32]) -> Result<Factor, SolveError> {
+        let mut values = self.sym.zeros();
+        self.net.stamp(order, scenario, |i, j, y| {
+            if let Some(s) = self.sym.slot(i, j) {
+                values[s] += y;
+            }
+        });
+        for (b, &n) in self.net.banks.iter().zip(steps) {
+            if n > 0 {
+                values[self.sym.slot(b.bus, b.bus).unwrap_or(b.bus)] +=
+                    b.y_step_pu(order, self.net.resistance) * f64::from(n);
+            }
+        }
+        self.sym
+            .factor(values)
+            .map_err(|e| self.singular(order, scenario, e.index))
+    }
+
+    /// Solves Y·x = b with a factor from [`Engine::factor`]; b and x in per unit, by bus.
+    pub fn solve(&self, f: &Factor, b: &mut [Complex64]) {
+        let mut work = Vec::with_capacity(b.len());
+        self.sym.solve_in_place(f, b, &mut work);
+    }
+
+    /// Factors Y₀(h) (no banks) and solves the columns of Z₀ at the bank buses and the
+    /// buses of interest.
+    pub fn point(&self, order: f64, scenario: usize) -> Result<PointSolution, SolveError> {
+        let f = self.factor(order, scenario, &[])?;
+        let n = self.sym.n();
+        let c = self.cols.len();
+        let mut z0 = vec![Complex64::new(0.0, 0.0); c * c];
+        let mut rhs = vec![Complex64::new(0.0, 0.0); n];
+        let mut work = Vec::with_capacity(n);
+        for (j, &bus) in self.cols.iter().enumerate() {
+            rhs.iter_mut().for_each(|v| *v = Complex64::new(0.0, 0.0));
+            rhs[bus] = Complex64::new(1.0, 0.0);
+            self.sym.solve_in_place(&f, &mut rhs, &mut work);
+            for (i, &row) in self.cols.iter().enumerate() {
+                z0[i * c + j] = rhs[row];
+            }
+        }
+        Ok(PointSolution {
+            order,
+            z0,
+            c,
+            bank_col: self.bank_col.clone(),
+            interest_col: self.interest_col.clone(),
+            y_step: self
+                .net
+                .banks
+                .iter()
+                .map(|b| b.y_step_pu(order, self.net.resistance))
+                .collect(),
+        })
+    }
+}
+
+impl PointSolution {
+    fn z0(&self, i: usize, j: usize) -> Complex64 {
+        self.z0[i * self.c + j]
+    }
+
+    /// Z₀ (no banks) at the bus of bank `b`, per unit: the driving-point impedance that the
+    /// bank sees from the rest of the network.
+    pub fn bank_bus_z0_pu(&self, b: usize) -> Complex64 {
+        let c = self.bank_col[b];
+        self.z0(c, c)
+    }
+
+    /// The correction system of one step combination: M = I + D·Z_SS and D, with
+    /// D = diag(n_b·y_b). `None` when every bank is off.
+    fn correction(&self, steps: &[u32]) -> Option<(DenseLu, Vec<Complex64>)> {
+        let k = self.bank_col.len();
+        let d: Vec<Complex64> = (0..k)
+            .map(|b| self.y_step[b] * f64::from(steps.get(b).copied().unwrap_or(0)))
+            .collect();
+        if d.iter().all(|v| *v == Complex64::new(0.0, 0.0)) {
+            return None;
+        }
+        let mut m = vec![Complex64::new(0.0, 0.0); k * k];
+        for r in 0..k {
+            for s in 0..k {
+                m[r * k + s] = d[r] * self.z0(self.bank_col[r], self.bank_col[s]);
+            }
+            m[r * k + r] += 1.0;
+        }
+        DenseLu::new(k, m).map(|lu| (lu, d))
+    }
+
+    /// Transfer impedances Z_ij (per unit) between buses of interest `pairs` (indices into
+    /// the engine's list of buses of interest) with `steps[b]` steps of each bank:
+    /// Z_ij = Z₀_ij − r_iᵀ·(I + D·Z_SS)⁻¹·D·r_j, r_i = Z₀ at (bank buses, i).
+    /// Returns `None` if the combination makes the network exactly singular.
+    pub fn transfer_pu(&self, steps: &[u32], pairs: &[(usize, usize)]) -> Option<Vec<Complex64>> {
+        let corr = self.correction(steps);
+        let k = self.bank_col.len();
+        let mut out = Vec::with_capacity(pairs.len());
+        for &(i, j) in pairs {
+            let (ci, cj) = (self.interest_col[i], self.interest_col[j]);
+            let base = self.z0(ci, cj);
+            match &corr {
+                None => out.push(base),
+                Some((lu, d)) => {
+                    let rhs: Vec<Complex64> = (0..k)
+                        .map(|b| d[b] * self.z0(self.bank_col[b], cj))
+                        .collect();
+                    let w = lu.solve(&rhs);
+                    let dz: Complex64 = (0..k).map(|b| self.z0(ci, self.bank_col[b]) * w[b]).sum();
+                    out.push(base - dz);
+                }
+            }
+        }
+        if out.iter().all(|z| z.re.is_finite() && z.im.is_finite()) {
+            Some(out)
+        } else {
+            None
+        }
+    }
+
+    /// Driving-point impedances Z_ii (per unit) at every bus of interest with `steps[b]`
+    /// steps of each bank; `None` if the combination is exactly singular.
+    pub fn driving_point_pu(&self, steps: &[u32]) -> Option<Vec<Complex64>> {
+        let pairs: Vec<(usize, usize)> = (0..self.interest_col.len()).map(|i| (i, i)).collect();
+        self.transfer_pu(steps, &pairs)
+    }
+}

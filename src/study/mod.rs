@@ -1,0 +1,11 @@
+//! The studies: what the engineer asks of the network. Each study reads the validated
+//! [`crate::model::Plant`] and the [`crate::network::Network`] and returns plain result
+//! structs; none of them formats output.
+
+pub mod config;
+pub mod resonance;
+pub mod scan;
+
+pub use config::{Configuration, all_configurations, parse_configuration};
+pub use resonance::{ResonanceRow, ResonanceStudy, Verdict, characteristic_orders};
+pub use scan::{Extremum, Scan, ScanGrid, Series};
