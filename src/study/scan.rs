@@ -52,8 +52,8 @@ pub struct Extremum {
     /// |Z| with the configuration / |Z| of the same scenario with no banks, same order.
     pub amplification: f64,
     /// Sharpness Q = h / Δh, Δh the width between the orders where |Z| crosses |Z_peak|/√2
-    /// (peaks) or √2·|Z_dip| (dips), read off the scan grid by linear interpolation; `None`
-    /// when the curve does not cross that level on both sides.
+    /// (peaks) or √2·|Z_dip| (dips), the half-power bandwidth; `None` when the curve does not
+    /// cross that level on both sides within the scan.
     pub sharpness: Option<f64>,
 }
 
@@ -226,41 +226,73 @@ fn extrema(
             z_ohm: zabs,
             angle_deg: z.arg().to_degrees(),
             amplification: z.norm() / z0.norm().max(f64::MIN_POSITIVE),
-            sharpness: sharpness(orders, mags, i, h, zabs, peaks),
+            sharpness: sharpness(orders, mags, h, zabs, peaks, eval)?,
         });
     }
     Ok(out)
 }
 
-/// Q = h / Δh at the half-power level (see [`Extremum::sharpness`]).
-fn sharpness(orders: &[f64], mags: &[f64], i: usize, h: f64, z: f64, peaks: bool) -> Option<f64> {
+/// Q = h / Δh at the half-power level (see [`Extremum::sharpness`]). The grid brackets each
+/// crossing (or the refined extremum does, for a peak narrower than the grid step) and
+/// bisection with the exact evaluator places it to 1e-5 order.
+fn sharpness(
+    orders: &[f64],
+    mags: &[f64],
+    h: f64,
+    z: f64,
+    peaks: bool,
+    eval: &dyn Fn(f64) -> Result<(Complex64, Complex64), SolveError>,
+) -> Result<Option<f64>, SolveError> {
     let level = if peaks {
         z / 2f64.sqrt()
     } else {
         z * 2f64.sqrt()
     };
     let inside = |v: f64| if peaks { v >= level } else { v <= level };
-    let cross = |j_in: usize, j_out: usize| {
-        let (a, b) = (mags[j_in], mags[j_out]);
-        let t = (a - level) / (a - b);
-        orders[j_in] + t * (orders[j_out] - orders[j_in])
+    let bisect = |mut a_out: f64, mut b_in: f64| -> Result<f64, SolveError> {
+        while (b_in - a_out).abs() > 1e-5 {
+            let m = 0.5 * (a_out + b_in);
+            if inside(eval(m)?.0.norm()) {
+                b_in = m;
+            } else {
+                a_out = m;
+            }
+        }
+        Ok(0.5 * (a_out + b_in))
     };
-    let mut j = i;
-    while j > 0 && inside(mags[j - 1]) {
-        j -= 1;
+    // Left: the nearest grid point below h outside the level, going left.
+    let mut a = match orders.iter().rposition(|&o| o <= h) {
+        Some(a) => a,
+        None => return Ok(None),
+    };
+    while a > 0 && inside(mags[a]) {
+        a -= 1;
     }
-    if j == 0 {
-        return None;
+    if inside(mags[a]) {
+        return Ok(None);
     }
-    let left = cross(j, j - 1);
-    let mut k = i;
-    while k + 1 < mags.len() && inside(mags[k + 1]) {
-        k += 1;
+    let inner = if a + 1 < orders.len() && orders[a + 1] <= h && inside(mags[a + 1]) {
+        orders[a + 1]
+    } else {
+        h
+    };
+    let left = bisect(orders[a], inner)?;
+    let mut b = match orders.iter().position(|&o| o >= h) {
+        Some(b) => b,
+        None => return Ok(None),
+    };
+    while b + 1 < orders.len() && inside(mags[b]) {
+        b += 1;
     }
-    if k + 1 == mags.len() {
-        return None;
+    if inside(mags[b]) {
+        return Ok(None);
     }
-    let right = cross(k, k + 1);
+    let inner = if b > 0 && orders[b - 1] >= h && inside(mags[b - 1]) {
+        orders[b - 1]
+    } else {
+        h
+    };
+    let right = bisect(orders[b], inner)?;
     let width = right - left;
-    (width > 0.0).then(|| h / width)
+    Ok((width > 0.0).then(|| h / width))
 }

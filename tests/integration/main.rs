@@ -1,0 +1,13 @@
+//! The integration tests, one binary. Where new tests go:
+//! - `reference_resonance`: checks against published or textbook values (source named beside each);
+//! - `solver`: sparse factorization and step-combination engine against independent dense algebra;
+//! - `model`: validation of plants and topology errors;
+//! - `scan`: grid, configurations, peak finding;
+//! - `cli`: the `overtone` binary as a user runs it.
+
+mod cli;
+mod common;
+mod model;
+mod reference_resonance;
+mod scan;
+mod solver;

@@ -1,0 +1,199 @@
+//! Resonance checks against published and textbook values, each with its source beside it.
+
+use overtone::check::{CheckOptions, CheckResults, run_check};
+use overtone::model::*;
+use overtone::study::Series;
+
+use crate::common::*;
+
+fn run(p: &Plant) -> CheckResults {
+    run_check(p, &CheckOptions::default()).expect("valid plant")
+}
+
+/// The scanned series at `bus` in the configuration labelled `label`, first scenario.
+fn series<'a>(res: &'a CheckResults, bus: &str, label: &str) -> &'a Series {
+    let b = res.network.bus_index(bus).expect("bus");
+    let sb = res
+        .scan
+        .buses
+        .iter()
+        .position(|&x| x == b)
+        .expect("scanned bus");
+    let c = (0..res.scan.configurations.len())
+        .find(|&c| res.label(c) == label)
+        .expect("configuration");
+    res.scan.series(0, c, sb)
+}
+
+/// f0 = 1/(2π√(LC)) for L = 67 mH, C = 100 nF: 1944 Hz (common practice; the formula is
+/// textbook). Built from the tool's own element models at 60 Hz on a 1 kV bus.
+const L_HENRY: f64 = 0.067;
+const C_FARAD: f64 = 100e-9;
+
+fn x_l_ohm() -> f64 {
+    2.0 * std::f64::consts::PI * 60.0 * L_HENRY
+}
+
+fn x_c_ohm() -> f64 {
+    1.0 / (2.0 * std::f64::consts::PI * 60.0 * C_FARAD)
+}
+
+#[test]
+fn lc_ring_frequency_textbook() {
+    // common practice: a 67 mH inductor with a 100 nF capacitor rings at 1944 Hz.
+    let expected_hz = 1.0 / (2.0 * std::f64::consts::PI * (L_HENRY * C_FARAD).sqrt());
+    assert!((expected_hz - 1944.0).abs() < 1.0, "{expected_hz}");
+}
+
+#[test]
+fn parallel_rlc_peak_is_r_at_f0() {
+    // Parallel R-L-C at one bus: the source is the inductor (X/R huge), a unity-pf linear
+    // load the resistor, a plain bank the capacitor. Textbook: |Z| is maximum, equal to R,
+    // at f0 = 1/(2π√(LC)).
+    let r_ohm = 1000.0;
+    let mut p = Plant::new(60.0);
+    p.buses.push(bus("B", 1.0));
+    p.sources.push(source("L", "B", 1.0 / x_l_ohm(), 1e6));
+    p.loads
+        .push(load("R", "B", LoadType::Linear, 1000.0 / r_ohm, 1.0));
+    p.banks
+        .push(bank("C", "B", 1.0, 1000.0 / x_c_ohm(), 1, Reactor::None));
+    let res = run(&p);
+    let s = series(&res, "B", "C=1");
+    assert_eq!(s.peaks.len(), 1, "{:?}", s.peaks);
+    let peak = s.peaks[0];
+    // common practice: 1944 Hz within 1 Hz.
+    assert!(
+        (peak.order * 60.0 - 1944.0).abs() < 1.0,
+        "f0 = {} Hz",
+        peak.order * 60.0
+    );
+    let expected_order = 1.0 / (2.0 * std::f64::consts::PI * (L_HENRY * C_FARAD).sqrt()) / 60.0;
+    assert!(
+        (peak.order - expected_order).abs() < 1e-3,
+        "{} vs {expected_order}",
+        peak.order
+    );
+    assert_close(peak.z_ohm, r_ohm, 1e-6);
+    // Textbook: a parallel R-L-C has Q = R / X0 with X0 = √(L/C) the characteristic
+    // reactance; as h/Δh at the half-power points, to 1e-3.
+    let q_expected = r_ohm / (L_HENRY / C_FARAD).sqrt();
+    assert_close(peak.sharpness.expect("sharpness"), q_expected, 1e-3);
+}
+
+#[test]
+fn series_rlc_dip_is_r_at_f0() {
+    // Series R-L-C: a detuned step is R_L + j(h·X_L − X_C/h). Textbook: |Z| is minimum,
+    // equal to R, at f0. The source is made very weak so the bus sees the step alone.
+    let r_ohm = 10.0;
+    let mut p = Plant::new(60.0);
+    p.buses.push(bus("B", 1.0));
+    p.sources.push(source("S", "B", 1e-9, 1.0));
+    let mut c = bank(
+        "C",
+        "B",
+        1.0,
+        1000.0 / x_c_ohm(),
+        1,
+        Reactor::Detuning {
+            percent: 100.0 * x_l_ohm() / x_c_ohm(),
+        },
+    );
+    c.reactor_q = x_l_ohm() / r_ohm;
+    p.banks.push(c);
+    let res = run(&p);
+    let s = series(&res, "B", "C=1");
+    let dip = s
+        .dips
+        .iter()
+        .min_by(|a, b| a.z_ohm.total_cmp(&b.z_ohm))
+        .expect("a dip");
+    assert!(
+        (dip.order * 60.0 - 1944.0).abs() < 1.0,
+        "f0 = {} Hz",
+        dip.order * 60.0
+    );
+    assert_close(dip.z_ohm, r_ohm, 1e-6);
+    // Textbook: a series R-L-C has Q = X0 / R, X0 = √(L/C), at the half-power points
+    // (|Z| = √2·R), to 1e-3.
+    let q_expected = (L_HENRY / C_FARAD).sqrt() / r_ohm;
+    assert_close(dip.sharpness.expect("sharpness"), q_expected, 1e-3);
+}
+
+/// Hand check and scan for a plain bank behind a transformer.
+fn bank_behind_transformer(utility_mva: f64, kva: f64, z_percent: f64, kvar: f64) -> CheckResults {
+    let mut p = Plant::new(60.0);
+    p.buses.push(bus("HV", 13.8));
+    p.buses.push(bus("LV", 0.48));
+    p.sources.push(source("U", "HV", utility_mva, 200.0));
+    p.transformers
+        .push(transformer("T", "HV", "LV", kva, z_percent, 200.0));
+    p.banks.push(bank("C", "LV", 0.48, kvar, 1, Reactor::None));
+    run(&p)
+}
+
+#[test]
+fn worked_example_7_05() {
+    // references.md: 1500 kVA, 5.5 % transformer, utility 48,000 kVA short-circuit; system
+    // 17,391 kVA; 350 kvar gives h = 7.05 (published worked example, seen once). Within 1 %.
+    let res = bank_behind_transformer(48.0, 1500.0, 5.5, 350.0);
+    let row = &res.resonance.rows[0];
+    assert_close(row.s_sc_mva * 1000.0, 17_391.0, 0.01);
+    assert_close(row.hand_order, 7.05, 0.01);
+    assert_close(row.peak.expect("peak").order, 7.05, 0.01);
+}
+
+#[test]
+fn worked_example_13_7() {
+    // references.md: 1000 kVA, 5.3 %, 480 V, 100 kvar: h = 13.7 (published worked example,
+    // seen once); the utility is taken as an infinite bus. Within 1 %.
+    let res = bank_behind_transformer(1e6, 1000.0, 5.3, 100.0);
+    let row = &res.resonance.rows[0];
+    assert_close(row.hand_order, 13.7, 0.01);
+    assert_close(row.peak.expect("peak").order, 13.7, 0.01);
+}
+
+#[test]
+fn detuning_table_orders() {
+    // references.md detuning table (common practice): p = 5.67 % -> 4.200, 7 % -> 3.780,
+    // 14 % -> 2.673; tuning order 1/√p. The series-resonance dip of a single detuned step
+    // at its bus (weak source, constant resistance) within 0.001 order.
+    for (percent, expected) in [(5.67, 4.200), (7.0, 3.780), (14.0, 2.673)] {
+        let mut p = Plant::new(50.0);
+        p.buses.push(bus("B", 0.4));
+        p.sources.push(source("S", "B", 0.01, 5.0));
+        p.banks
+            .push(bank("C", "B", 0.4, 50.0, 1, Reactor::Detuning { percent }));
+        let res = run(&p);
+        let s = series(&res, "B", "C=1");
+        let dip = s
+            .dips
+            .iter()
+            .min_by(|a, b| a.z_ohm.total_cmp(&b.z_ohm))
+            .expect("a dip");
+        assert!(
+            (dip.order - expected).abs() < 1e-3,
+            "p = {percent} %: dip at {}, expected {expected}",
+            dip.order
+        );
+    }
+}
+
+#[test]
+fn tuned_order_is_where_the_dip_lands() {
+    // Single-tuned filter (references.md): X_L = X_C / h_t², so the step's series resonance
+    // is at h_t; here h_t = 4.7 (common practice for the 5th).
+    let mut p = Plant::new(60.0);
+    p.buses.push(bus("B", 0.48));
+    p.sources.push(source("S", "B", 0.01, 5.0));
+    p.banks
+        .push(bank("F", "B", 0.6, 100.0, 1, Reactor::Tuned { order: 4.7 }));
+    let res = run(&p);
+    let s = series(&res, "B", "F=1");
+    let dip = s
+        .dips
+        .iter()
+        .min_by(|a, b| a.z_ohm.total_cmp(&b.z_ohm))
+        .expect("a dip");
+    assert!((dip.order - 4.7).abs() < 1e-3, "{}", dip.order);
+}

@@ -1,0 +1,61 @@
+//! Scan grid, configurations and their labels.
+
+use overtone::model::Reactor;
+use overtone::study::config::configuration_count;
+use overtone::study::{ScanGrid, all_configurations, parse_configuration};
+
+use crate::common::*;
+
+#[test]
+fn grid_includes_the_highest_order() {
+    // input contract: orders 1 + i·step up to the highest, which is included off the grid.
+    let g = ScanGrid::new(50.0, 0.01);
+    assert_eq!(g.orders.len(), 4901);
+    assert_eq!(g.orders[0], 1.0);
+    assert_eq!(g.orders[15], 1.15);
+    assert_eq!(*g.orders.last().unwrap(), 50.0);
+    let g = ScanGrid::new(2.0, 0.3);
+    assert_eq!(g.orders, vec![1.0, 1.3, 1.6, 1.9, 2.0]);
+}
+
+#[test]
+fn configurations_and_labels() {
+    let mut a = bank("C1", "B", 0.48, 100.0, 2, Reactor::None);
+    let mut b = bank("C2", "B", 0.48, 100.0, 4, Reactor::None);
+    a.studied_steps = vec![0, 2];
+    b.studied_steps = vec![1, 2, 3];
+    let banks = vec![a, b];
+    let all = all_configurations(&banks);
+    assert_eq!(all.len(), 6);
+    assert_eq!(configuration_count(&banks), 6);
+    let labels: Vec<String> = all.iter().map(|c| c.label(&banks)).collect();
+    assert_eq!(
+        labels,
+        [
+            "C1=0 C2=1",
+            "C1=0 C2=2",
+            "C1=0 C2=3",
+            "C1=2 C2=1",
+            "C1=2 C2=2",
+            "C1=2 C2=3"
+        ]
+    );
+    let c = parse_configuration("C2=3 C1=2", &banks).unwrap();
+    assert_eq!(c.steps, vec![2, 3]);
+    assert_eq!(
+        parse_configuration("C2=4", &banks).unwrap_err().to_string(),
+        "configuration \"C2=4\": 4 steps of bank \"C2\" is not among its studied steps (1,2,3)"
+    );
+    assert_eq!(
+        parse_configuration("none", &banks).unwrap_err().to_string(),
+        "configuration \"none\": 0 steps of bank \"C2\" is not among its studied steps (1,2,3)"
+    );
+    assert_eq!(
+        parse_configuration("C3=1", &banks).unwrap_err().to_string(),
+        "configuration \"C3=1\": there is no bank \"C3\" on the Capacitors sheet"
+    );
+    assert_eq!(
+        parse_configuration("C1:1", &banks).unwrap_err().to_string(),
+        "configuration \"C1:1\": \"C1:1\" is not of the form BANK=STEPS"
+    );
+}
