@@ -15,3 +15,4 @@ pub mod network;
 pub mod report;
 pub mod solve;
 pub mod study;
+pub mod synthetic;

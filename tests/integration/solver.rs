@@ -6,7 +6,7 @@ use num_complex::Complex64;
 use overtone::network::Network;
 use overtone::solve::Engine;
 
-use crate::common::*;
+use overtone::synthetic::generated_plant;
 
 /// Dense Y(h) of `net` in `scenario` with `steps` bank steps, from the network's own stamps.
 fn dense_y(net: &Network, order: f64, scenario: usize, steps: &[u32]) -> DMatrix<Complex64> {
@@ -33,7 +33,7 @@ fn max_rel_err(a: &[Complex64], b: &[Complex64]) -> f64 {
 }
 
 fn check_network(n: usize, extra: usize, seed: u64) {
-    let plant = generated_plant(n, extra, 3, seed);
+    let plant = generated_plant(n, extra, 3, 3, seed);
     plant.validate().expect("generated plant is valid");
     let net = Network::build(&plant).expect("connected");
     let engine = Engine::new(&net, &[0]);
@@ -87,7 +87,7 @@ fn sparse_equals_dense_meshed() {
 #[test]
 fn combination_engine_equals_refactorization() {
     for (n, extra, seed) in [(12, 0, 11), (80, 6, 12), (300, 15, 13)] {
-        let plant = generated_plant(n, extra, 3, seed);
+        let plant = generated_plant(n, extra, 3, 3, seed);
         let net = Network::build(&plant).expect("connected");
         let interest: Vec<usize> = net.banks.iter().map(|b| b.bus).chain([0, n / 3]).collect();
         let engine = Engine::new(&net, &interest);
@@ -118,7 +118,7 @@ fn combination_engine_equals_refactorization() {
 #[test]
 fn radial_factor_has_no_fill() {
     // A tree eliminated leaves first fills nothing: L has exactly n − 1 off-diagonals.
-    let plant = generated_plant(300, 0, 0, 21);
+    let plant = generated_plant(300, 0, 0, 1, 21);
     let net = Network::build(&plant).expect("connected");
     let engine = Engine::new(&net, &[0]);
     assert_eq!(engine.symbolic().nnz_l(), net.branches.len());
