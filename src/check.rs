@@ -50,6 +50,14 @@ pub struct CheckResults {
 }
 
 impl CheckResults {
+    /// True when any bank's resonance is flagged (the `--strict` criterion).
+    pub fn flagged(&self) -> bool {
+        self.resonance
+            .rows
+            .iter()
+            .any(|r| r.verdict == crate::study::Verdict::Resonant)
+    }
+
     /// The label of configuration `c`.
     pub fn label(&self, c: usize) -> String {
         self.scan.configurations[c].label(&self.plant.banks)

@@ -1,16 +1,16 @@
 //! The `overtone` command line: parse, call the library, print, and map every outcome to an
-//! exit status (0 ran, 2 bad input or usage; nothing is written on status 2).
+//! exit status: 0 ran, 1 with `--strict` when a check is flagged, 2 bad input or usage
+//! (nothing is written on status 2).
 
-use std::fs::File;
-use std::io::{self, BufWriter, Write};
+use std::io::{self, Write};
 use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 use overtone::check::{CheckOptions, CheckResults, run_check};
-use overtone::io::csv::{MAX_SCAN_ROWS, ScanSelection, resolve, write_scan_csv};
+use overtone::io::csv::{selection, write_scan_file};
+use overtone::io::workbook_in::read_workbook;
 use overtone::model::Plant;
-use overtone::study::parse_configuration;
 
 #[derive(Parser)]
 #[command(
@@ -24,14 +24,8 @@ struct Cli {
 }
 
 #[derive(clap::Args)]
-struct Outputs {
-    /// Also write the frequency scan as CSV (input contract's columns) to this file.
-    #[arg(long, value_name = "FILE")]
-    scan_csv: Option<PathBuf>,
-    /// Print the JSON summary on stdout instead of the terminal table.
-    #[arg(long)]
-    json: bool,
-    /// Narrow the scan CSV to this bus (repeatable); it is scanned even if not a bank bus.
+struct Select {
+    /// Narrow the scan CSV to this bus (repeatable); it is scanned even if it has no bank.
     #[arg(long = "bus", value_name = "BUS")]
     buses: Vec<String>,
     /// Narrow the scan CSV to this configuration, e.g. "C1=2 C2=0" or none (repeatable).
@@ -39,22 +33,57 @@ struct Outputs {
     configurations: Vec<String>,
 }
 
+#[derive(clap::Args)]
+struct Outputs {
+    /// Also write the frequency scan as CSV (the input contract's columns) to this file.
+    #[arg(long, value_name = "FILE")]
+    scan_csv: Option<PathBuf>,
+    /// Print the JSON summary on stdout instead of the terminal table.
+    #[arg(long)]
+    json: bool,
+    /// Exit with status 1 when any configuration is flagged.
+    #[arg(long)]
+    strict: bool,
+    #[command(flatten)]
+    select: Select,
+}
+
 #[derive(Subcommand)]
 enum Command {
     /// Run the built-in invented demo plant end to end.
     Demo(Outputs),
+    /// Read a plant workbook and run every study.
+    Check {
+        /// The plant's input workbook (.xlsx, .xlsm, .xls or .ods).
+        plant: PathBuf,
+        #[command(flatten)]
+        out: Outputs,
+    },
+    /// Frequency scan only: the peaks per bus and configuration, or the CSV with --csv.
+    Scan {
+        plant: PathBuf,
+        /// Write the scan CSV (the input contract's columns) to this file.
+        #[arg(long, value_name = "FILE")]
+        csv: Option<PathBuf>,
+        #[command(flatten)]
+        select: Select,
+    },
+    /// Write a blank input workbook with every sheet, header, note and dropdown.
+    Template { file: PathBuf },
 }
 
-/// A failure to report: message and exit status.
+/// A failure: the message for stderr.
 struct Failure(String);
 
+impl<E: std::fmt::Display> From<E> for Failure {
+    fn from(e: E) -> Self {
+        Failure(e.to_string())
+    }
+}
+
 fn main() -> ExitCode {
-    let cli = Cli::parse();
-    let result = match cli.command {
-        Command::Demo(out) => run(&overtone::demo::demo_plant(), &out),
-    };
-    match result {
-        Ok(()) => ExitCode::SUCCESS,
+    match run(Cli::parse().command) {
+        Ok(code) => code,
         Err(Failure(msg)) => {
             let _ = writeln!(io::stderr(), "overtone: {msg}");
             ExitCode::from(2)
@@ -62,50 +91,70 @@ fn main() -> ExitCode {
     }
 }
 
-fn run(plant: &Plant, out: &Outputs) -> Result<(), Failure> {
-    let options = CheckOptions {
-        buses: out.buses.clone(),
-    };
-    let res = run_check(plant, &options).map_err(|e| Failure(e.to_string()))?;
-    if let Some(path) = &out.scan_csv {
-        write_csv(&res, out, path)?;
+fn load(path: &std::path::Path) -> Result<Plant, Failure> {
+    let read = read_workbook(path)?;
+    let mut err = io::stderr().lock();
+    for w in &read.warnings {
+        let _ = writeln!(err, "warning: {w}");
     }
-    let stdout = io::stdout();
-    let mut lock = stdout.lock();
-    let printed = if out.json {
-        writeln!(lock, "{}", overtone::io::json::to_json(&res))
-    } else {
-        overtone::report::summary::write_summary(&mut lock, &res)
-    };
-    match printed.and_then(|()| lock.flush()) {
-        Err(e) if e.kind() != io::ErrorKind::BrokenPipe => Err(Failure(format!("stdout: {e}"))),
-        _ => Ok(()),
+    Ok(read.plant)
+}
+
+fn run(command: Command) -> Result<ExitCode, Failure> {
+    match command {
+        Command::Demo(out) => study(&overtone::demo::demo_plant(), &out),
+        Command::Check { plant, out } => study(&load(&plant)?, &out),
+        Command::Scan { plant, csv, select } => {
+            let plant = load(&plant)?;
+            let res = checked(&plant, &select)?;
+            match csv {
+                Some(path) => {
+                    let sel = selection(&res, &select.buses, &select.configurations)?;
+                    write_scan_file(&path, &res, &sel)?;
+                    Ok(ExitCode::SUCCESS)
+                }
+                None => print(|w| overtone::report::summary::write_peaks(w, &res)),
+            }
+        }
+        Command::Template { file } => {
+            overtone::io::template::write_template(&file)?;
+            Ok(ExitCode::SUCCESS)
+        }
     }
 }
 
-fn write_csv(res: &CheckResults, out: &Outputs, path: &PathBuf) -> Result<(), Failure> {
-    let mut sel = ScanSelection::default();
-    for id in &out.buses {
-        if let Some(i) = res.network.bus_index(id) {
-            sel.buses.push(i);
+fn checked(plant: &Plant, select: &Select) -> Result<CheckResults, Failure> {
+    let options = CheckOptions {
+        buses: select.buses.clone(),
+    };
+    Ok(run_check(plant, &options)?)
+}
+
+fn study(plant: &Plant, out: &Outputs) -> Result<ExitCode, Failure> {
+    let res = checked(plant, &out.select)?;
+    let sel = selection(&res, &out.select.buses, &out.select.configurations)?;
+    if let Some(path) = &out.scan_csv {
+        write_scan_file(path, &res, &sel)?;
+    }
+    let code = print(|w| {
+        if out.json {
+            writeln!(w, "{}", overtone::io::json::to_json(&res))
+        } else {
+            overtone::report::summary::write_summary(w, &res)
         }
+    })?;
+    if out.strict && res.flagged() {
+        return Ok(ExitCode::from(1));
     }
-    for text in &out.configurations {
-        let cfg =
-            parse_configuration(text, &res.plant.banks).map_err(|e| Failure(e.to_string()))?;
-        if let Some(c) = res.scan.configurations.iter().position(|x| *x == cfg) {
-            sel.configurations.push(c);
-        }
+    Ok(code)
+}
+
+/// Prints to stdout; a closed pipe is a quiet success.
+fn print(f: impl FnOnce(&mut dyn Write) -> io::Result<()>) -> Result<ExitCode, Failure> {
+    let stdout = io::stdout();
+    let mut lock = stdout.lock();
+    match f(&mut lock).and_then(|()| lock.flush()) {
+        Err(e) if e.kind() != io::ErrorKind::BrokenPipe => Err(Failure(format!("stdout: {e}"))),
+        _ => Ok(ExitCode::SUCCESS),
     }
-    let (_, _, rows) = resolve(res, &sel);
-    if rows > MAX_SCAN_ROWS {
-        return Err(Failure(format!(
-            "the scan CSV would have {rows} rows, more than {MAX_SCAN_ROWS}: narrow it with --bus and --configuration"
-        )));
-    }
-    let file = File::create(path).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
-    let mut w = BufWriter::new(file);
-    write_scan_csv(&mut w, res, &sel)
-        .and_then(|()| w.flush())
-        .map_err(|e| Failure(format!("{}: {e}", path.display())))
 }

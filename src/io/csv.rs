@@ -72,7 +72,7 @@ pub fn write_scan_csv(
                         field(&label),
                         field(bus),
                         h,
-                        h * f,
+                        frequency_hz(*h, f),
                         z.norm(),
                         z.arg().to_degrees()
                     )?;
@@ -83,6 +83,12 @@ pub fn write_scan_csv(
     Ok(())
 }
 
+/// Frequency of order `h` at fundamental `f` Hz, rounded to 1e-9 Hz like the grid's
+/// orders so that 2.05 × 60 prints as 123.0.
+pub fn frequency_hz(h: f64, f: f64) -> f64 {
+    (h * f * 1e9).round() / 1e9
+}
+
 /// A CSV field, quoted when it holds a comma, quote or line break (RFC 4180).
 pub fn field(s: &str) -> String {
     if s.contains([',', '"', '\n', '\r']) {
@@ -90,4 +96,62 @@ pub fn field(s: &str) -> String {
     } else {
         s.to_string()
     }
+}
+
+/// Builds the selection from command-line names: bus ids and configuration labels.
+pub fn selection(
+    res: &CheckResults,
+    buses: &[String],
+    configurations: &[String],
+) -> Result<ScanSelection, crate::check::CheckError> {
+    let mut sel = ScanSelection::default();
+    for id in buses {
+        let i = res
+            .network
+            .bus_index(id)
+            .ok_or_else(|| crate::check::CheckError::UnknownBus(id.clone()))?;
+        sel.buses.push(i);
+    }
+    for text in configurations {
+        let cfg = crate::study::parse_configuration(text, &res.plant.banks)?;
+        if let Some(c) = res.scan.configurations.iter().position(|x| *x == cfg) {
+            sel.configurations.push(c);
+        }
+    }
+    Ok(sel)
+}
+
+/// A scan CSV that was not written.
+#[derive(Debug, thiserror::Error)]
+pub enum CsvError {
+    #[error(
+        "the scan CSV would have {0} rows, more than {MAX_SCAN_ROWS}: narrow it with --bus and --configuration"
+    )]
+    TooLarge(u64),
+    #[error("{path}: {source}")]
+    Io {
+        path: String,
+        source: std::io::Error,
+    },
+}
+
+/// Writes the scan CSV of `sel` to `path` (refusing more than [`MAX_SCAN_ROWS`] rows).
+pub fn write_scan_file(
+    path: &std::path::Path,
+    res: &CheckResults,
+    sel: &ScanSelection,
+) -> Result<(), CsvError> {
+    let (_, _, rows) = resolve(res, sel);
+    if rows > MAX_SCAN_ROWS {
+        return Err(CsvError::TooLarge(rows));
+    }
+    let io_err = |source| CsvError::Io {
+        path: path.display().to_string(),
+        source,
+    };
+    let file = std::fs::File::create(path).map_err(io_err)?;
+    let mut w = std::io::BufWriter::new(file);
+    write_scan_csv(&mut w, res, sel)
+        .and_then(|()| w.flush())
+        .map_err(io_err)
 }

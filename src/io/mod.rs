@@ -1,4 +1,7 @@
-//! Machine-readable outputs (CSV per the input contract, JSON).
+//! Files: the input workbook reader, and machine-readable outputs (CSV per the input
+//! contract, JSON).
 
 pub mod csv;
 pub mod json;
+pub mod template;
+pub mod workbook_in;

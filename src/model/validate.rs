@@ -12,6 +12,9 @@ pub struct ModelError {
     pub sheet: &'static str,
     /// The element's id (empty for the Study sheet).
     pub id: String,
+    /// Position of the element in its list (its data row among the sheet's rows), `None`
+    /// for the Study sheet and sheet-wide problems.
+    pub index: Option<usize>,
     /// The field (column or Study item) at fault.
     pub field: &'static str,
     pub message: String,
@@ -38,6 +41,8 @@ pub struct ModelErrors(pub Vec<ModelError>);
 
 struct Collector<'a> {
     errors: Vec<ModelError>,
+    /// Index of the element being checked.
+    index: Option<usize>,
     bus_ids: HashSet<&'a str>,
 }
 
@@ -46,6 +51,7 @@ impl<'a> Collector<'a> {
         self.errors.push(ModelError {
             sheet,
             id: id.to_string(),
+            index: self.index,
             field,
             message,
         });
@@ -88,13 +94,16 @@ impl<'a> Collector<'a> {
         ids: impl Iterator<Item = &'b str>,
     ) {
         let mut seen = HashSet::new();
-        for id in ids {
+        let saved = self.index;
+        for (i, id) in ids.enumerate() {
+            self.index = Some(i);
             if id.trim().is_empty() {
                 self.push(sheet, id, field, "an id is required".to_string());
             } else if !seen.insert(id) {
                 self.push(sheet, id, field, format!("duplicate id \"{id}\""));
             }
         }
+        self.index = saved;
     }
 }
 
@@ -103,11 +112,13 @@ impl Plant {
     pub fn validate(&self) -> Result<(), ModelErrors> {
         let mut c = Collector {
             errors: Vec::new(),
+            index: None,
             bus_ids: self.buses.iter().map(|b| b.id.as_str()).collect(),
         };
         self.validate_study(&mut c);
         c.unique("Buses", "Bus", self.buses.iter().map(|b| b.id.as_str()));
-        for b in &self.buses {
+        for (i, b) in self.buses.iter().enumerate() {
+            c.index = Some(i);
             c.positive("Buses", &b.id, "Nominal kV", b.nominal_kv);
         }
         self.validate_sources(&mut c);
@@ -129,6 +140,7 @@ impl Plant {
     }
 
     fn validate_study(&self, c: &mut Collector<'_>) {
+        c.index = None;
         let s = &self.study;
         const SHEET: &str = "Study";
         if !(s.frequency_hz == 50.0 || s.frequency_hz == 60.0) {
@@ -208,6 +220,7 @@ impl Plant {
 
     fn validate_sources(&self, c: &mut Collector<'_>) {
         const SHEET: &str = "Sources";
+        c.index = None;
         if self.sources.is_empty() {
             c.push(
                 SHEET,
@@ -217,7 +230,8 @@ impl Plant {
             );
         }
         c.unique(SHEET, "Source", self.sources.iter().map(|s| s.id.as_str()));
-        for s in &self.sources {
+        for (i, s) in self.sources.iter().enumerate() {
+            c.index = Some(i);
             c.bus(SHEET, &s.id, "Bus", &s.bus);
             match s.short_circuit {
                 ShortCircuit::Mva(v) => c.positive(SHEET, &s.id, "Short-circuit MVA", v),
@@ -234,7 +248,8 @@ impl Plant {
             "Transformer",
             self.transformers.iter().map(|t| t.id.as_str()),
         );
-        for t in &self.transformers {
+        for (i, t) in self.transformers.iter().enumerate() {
+            c.index = Some(i);
             c.bus(TX, &t.id, "HV bus", &t.hv_bus);
             c.bus(TX, &t.id, "LV bus", &t.lv_bus);
             c.positive(TX, &t.id, "kVA", t.kva);
@@ -260,7 +275,8 @@ impl Plant {
         }
         const CB: &str = "Cables";
         c.unique(CB, "Cable", self.cables.iter().map(|t| t.id.as_str()));
-        for k in &self.cables {
+        for (i, k) in self.cables.iter().enumerate() {
+            c.index = Some(i);
             c.bus(CB, &k.id, "From bus", &k.from_bus);
             c.bus(CB, &k.id, "To bus", &k.to_bus);
             c.positive(CB, &k.id, "Length", k.length_m);
@@ -298,7 +314,8 @@ impl Plant {
     fn validate_banks(&self, c: &mut Collector<'_>) {
         const SHEET: &str = "Capacitors";
         c.unique(SHEET, "Bank", self.banks.iter().map(|b| b.id.as_str()));
-        for b in &self.banks {
+        for (i, b) in self.banks.iter().enumerate() {
+            c.index = Some(i);
             if b.id.contains(char::is_whitespace) || b.id.contains('=') {
                 c.push(
                     SHEET,
@@ -367,7 +384,8 @@ impl Plant {
     fn validate_loads(&self, c: &mut Collector<'_>) {
         const SHEET: &str = "Loads";
         c.unique(SHEET, "Load", self.loads.iter().map(|l| l.id.as_str()));
-        for l in &self.loads {
+        for (i, l) in self.loads.iter().enumerate() {
+            c.index = Some(i);
             c.bus(SHEET, &l.id, "Bus", &l.bus);
             c.non_negative(SHEET, &l.id, "kW", l.kw);
             c.non_negative(SHEET, &l.id, "Quantity", l.quantity);
@@ -414,7 +432,8 @@ impl Plant {
         }
         const SP: &str = "Spectra";
         c.unique(SP, "Spectrum", self.spectra.iter().map(|s| s.name.as_str()));
-        for s in &self.spectra {
+        for (i, s) in self.spectra.iter().enumerate() {
+            c.index = Some(i);
             if s.lines.is_empty() {
                 c.push(
                     SP,

@@ -189,3 +189,40 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     }
     Ok(())
 }
+
+/// Writes the peaks of every scanned series: the `scan` command's terminal output.
+pub fn write_peaks(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    writeln!(
+        out,
+        "Parallel-resonance peaks (order, |Z| ohm, amplification) per scenario, configuration and bus"
+    )?;
+    for s in &res.scan.series {
+        let peaks: Vec<String> = s
+            .peaks
+            .iter()
+            .map(|p| {
+                format!(
+                    "{:.3} ({:.4} ohm, x{:.2})",
+                    p.order, p.z_ohm, p.amplification
+                )
+            })
+            .collect();
+        writeln!(
+            out,
+            "  {:<8} {:<24} {:<10} {}",
+            res.scan.scenarios[s.scenario],
+            res.label(s.configuration),
+            res.network.buses[res.scan.buses[s.bus]].id,
+            if peaks.is_empty() {
+                "no peak".to_string()
+            } else {
+                peaks.join(", ")
+            }
+        )?;
+    }
+    writeln!(out)?;
+    for c in CAUTIONS {
+        writeln!(out, "- {c}")?;
+    }
+    Ok(())
+}

@@ -1,0 +1,332 @@
+//! Reads the plant's input workbook (`.xlsx`, `.xlsm`, `.xls`, `.ods`) per the input
+//! contract into a validated [`Plant`], or every problem found (up to
+//! [`MAX_ERRORS`]), each naming `Sheet!Cell`, the value found and what was expected.
+//!
+//! Reading is in three passes: the file (one clear sentence when it is not a readable
+//! workbook), the cells (types, blanks, enumerations, at their cells), then the plant's own
+//! validation ([`Plant::validate`]), whose element-and-field errors are mapped back to cells.
+
+mod sheets;
+mod study;
+mod table;
+
+use std::fmt;
+use std::io::Cursor;
+use std::path::Path;
+
+use calamine::{Data, HeaderRow, Range, Reader, Sheets, open_workbook_auto_from_rs};
+
+pub use sheets::{load_type, studied_steps};
+pub use study::{ITEMS as STUDY_ITEMS, limit_set, tolerance};
+pub use table::{a1, normalize};
+
+use crate::model::Plant;
+use table::{Diagnostics, Table};
+
+/// Most cell errors reported for one workbook.
+pub const MAX_ERRORS: usize = 100;
+
+/// One bad cell.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct InputError {
+    pub sheet: String,
+    /// A1 notation.
+    pub cell: String,
+    pub message: String,
+}
+
+impl fmt::Display for InputError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}!{}: {}", self.sheet, self.cell, self.message)
+    }
+}
+
+/// Something the reader assumed or ignored, kept for the report's assumptions.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct Warning {
+    pub sheet: String,
+    pub cell: Option<String>,
+    pub message: String,
+}
+
+impl fmt::Display for Warning {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match &self.cell {
+            Some(c) => write!(f, "{}!{}: {}", self.sheet, c, self.message),
+            None => write!(f, "{}: {}", self.sheet, self.message),
+        }
+    }
+}
+
+/// A workbook that could not be read into a plant.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+pub enum ReadError {
+    /// The file itself: missing, empty, not a workbook, damaged, encrypted, or without a
+    /// required sheet.
+    #[error("{file}: {reason}")]
+    File { file: String, reason: String },
+    /// Bad cells, all of them (up to [`MAX_ERRORS`]).
+    #[error("{file}: {} problem(s) in the workbook{}:\n{}", .errors.len() + .more, if *.more > 0 { format!(" (the first {} shown)", .errors.len()) } else { String::new() }, .errors.iter().map(|e| format!("  {e}")).collect::<Vec<_>>().join("\n"))]
+    Cells {
+        file: String,
+        errors: Vec<InputError>,
+        /// Errors found beyond those listed.
+        more: usize,
+    },
+}
+
+/// A plant read from a workbook, with the reader's warnings.
+#[derive(Debug, Clone)]
+pub struct ReadOutcome {
+    pub plant: Plant,
+    pub warnings: Vec<Warning>,
+}
+
+/// Reads and validates the workbook at `path`.
+pub fn read_workbook(path: &Path) -> Result<ReadOutcome, ReadError> {
+    let file = path.display().to_string();
+    let bytes = std::fs::read(path).map_err(|e| ReadError::File {
+        file: file.clone(),
+        reason: match e.kind() {
+            std::io::ErrorKind::NotFound => "the file does not exist".to_string(),
+            std::io::ErrorKind::PermissionDenied => {
+                "permission denied: the file cannot be read".to_string()
+            }
+            _ => format!("the file cannot be read ({e})"),
+        },
+    })?;
+    let stem = path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    read_workbook_bytes(&file, &stem, &bytes)
+}
+
+const ZIP_MAGIC: &[u8] = b"PK\x03\x04";
+const OLE_MAGIC: &[u8] = &[0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
+
+fn open(file: &str, bytes: &[u8]) -> Result<Sheets<Cursor<Vec<u8>>>, ReadError> {
+    let fail = |reason: String| ReadError::File {
+        file: file.to_string(),
+        reason,
+    };
+    if bytes.is_empty() {
+        return Err(fail("the file is empty".into()));
+    }
+    let is_zip = bytes.starts_with(ZIP_MAGIC);
+    let is_ole = bytes.starts_with(OLE_MAGIC);
+    if !is_zip && !is_ole {
+        return Err(fail(
+            "this is not a spreadsheet workbook (.xlsx, .xlsm, .xls or .ods)".into(),
+        ));
+    }
+    let data = bytes.to_vec();
+    let opened = std::panic::catch_unwind(move || open_workbook_auto_from_rs(Cursor::new(data)));
+    match opened {
+        Ok(Ok(mut wb)) => {
+            wb.with_header_row(HeaderRow::Row(0));
+            Ok(wb)
+        }
+        Ok(Err(e)) if is_ole && !file.to_ascii_lowercase().ends_with(".xls") => Err(fail(format!(
+            "the workbook is password-protected or encrypted and cannot be read: save a copy without a password (reader: {e})"
+        ))),
+        Ok(Err(e)) => Err(fail(format!(
+            "the workbook cannot be read; it may be truncated or damaged: open it in a spreadsheet program and save it again (reader: {e})"
+        ))),
+        Err(_) => Err(fail(
+            "the workbook is malformed in a way the reader cannot handle: open it in a spreadsheet program and save it again".into(),
+        )),
+    }
+}
+
+/// The sheets of the contract: (name, required).
+pub const SHEETS: &[(&str, bool)] = &[
+    ("Study", true),
+    ("Buses", true),
+    ("Sources", true),
+    ("Transformers", false),
+    ("Cables", false),
+    ("Capacitors", false),
+    ("Loads", false),
+    ("Spectra", false),
+];
+
+/// Reads and validates a workbook held in memory; `file` names it in messages and `stem`
+/// is the default study title.
+pub fn read_workbook_bytes(file: &str, stem: &str, bytes: &[u8]) -> Result<ReadOutcome, ReadError> {
+    let mut wb = open(file, bytes)?;
+    let names = wb.sheet_names();
+    let mut diag = Diagnostics::default();
+    let mut ranges: Vec<Option<(String, Range<Data>)>> = Vec::new();
+    let mut missing = Vec::new();
+    for &(sheet, required) in SHEETS {
+        let found = names
+            .iter()
+            .find(|n| normalize(n) == normalize(sheet))
+            .cloned();
+        match found {
+            None if required => missing.push(sheet),
+            None => ranges.push(None),
+            Some(name) => {
+                let range = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+                    wb.worksheet_range(&name)
+                }));
+                match range {
+                    Ok(Ok(r)) => ranges.push(Some((name, r))),
+                    Ok(Err(e)) => {
+                        return Err(ReadError::File {
+                            file: file.to_string(),
+                            reason: format!(
+                                "sheet \"{name}\" cannot be read; the workbook may be damaged (reader: {e})"
+                            ),
+                        });
+                    }
+                    Err(_) => {
+                        return Err(ReadError::File {
+                            file: file.to_string(),
+                            reason: format!("sheet \"{name}\" is malformed and cannot be read"),
+                        });
+                    }
+                }
+            }
+        }
+    }
+    if !missing.is_empty() {
+        return Err(ReadError::File {
+            file: file.to_string(),
+            reason: format!(
+                "the workbook has no sheet {} (sheets found: {}); `overtone template FILE.xlsx` writes a blank workbook with every sheet",
+                missing
+                    .iter()
+                    .map(|m| format!("\"{m}\""))
+                    .collect::<Vec<_>>()
+                    .join(", "),
+                if names.is_empty() {
+                    "none".to_string()
+                } else {
+                    names.join(", ")
+                }
+            ),
+        });
+    }
+    for n in &names {
+        if !SHEETS.iter().any(|(s, _)| normalize(s) == normalize(n)) {
+            diag.warn(n, None, "unknown sheet ignored".into());
+        }
+    }
+    let table = |i: usize, spec: &[table::Column], diag: &mut Diagnostics| {
+        ranges[i]
+            .as_ref()
+            .map(|(name, r)| Table::new(name, r, spec, diag))
+    };
+    let t_study = table(0, study::COLUMNS, &mut diag);
+    let t_buses = table(1, sheets::BUSES, &mut diag);
+    let t_sources = table(2, sheets::SOURCES, &mut diag);
+    let t_tx = table(3, sheets::TRANSFORMERS, &mut diag);
+    let t_cables = table(4, sheets::CABLES, &mut diag);
+    let t_caps = table(5, sheets::CAPACITORS, &mut diag);
+    let t_loads = table(6, sheets::LOADS, &mut diag);
+    let t_spectra = table(7, sheets::SPECTRA, &mut diag);
+
+    let mut plant = Plant::new(f64::NAN);
+    let mut defaults = sheets::Defaults::default();
+    let mut item_cells = study::ItemCells::new();
+    if let Some(t) = &t_study {
+        let (s, cells) = study::read(t, stem, &mut diag);
+        plant.study = s;
+        item_cells = cells;
+    }
+    if let Some(t) = &t_buses {
+        plant.buses = sheets::buses(t, &mut diag);
+    }
+    if let Some(t) = &t_sources {
+        plant.sources = sheets::sources(t, &mut diag);
+    }
+    if let Some(t) = &t_tx {
+        plant.transformers = sheets::transformers(t, &mut diag, &mut defaults);
+    }
+    if let Some(t) = &t_cables {
+        plant.cables = sheets::cables(t, &mut diag, &mut defaults);
+    }
+    if let Some(t) = &t_caps {
+        plant.banks = sheets::banks(t, &mut diag, &mut defaults);
+    }
+    if let Some(t) = &t_loads {
+        plant.loads = sheets::loads(t, &mut diag, &mut defaults);
+    }
+    if let Some(t) = &t_spectra {
+        plant.spectra = sheets::spectra(t, &mut diag);
+        for s in &plant.spectra {
+            for l in s
+                .lines
+                .iter()
+                .filter(|l| l.order > plant.study.highest_order)
+            {
+                diag.warn(
+                    &t.sheet,
+                    None,
+                    format!(
+                        "spectrum \"{}\": order {} is above the highest order studied ({}) and is not studied",
+                        s.name, l.order, plant.study.highest_order
+                    ),
+                );
+            }
+        }
+    }
+    defaults.report(&mut diag);
+
+    if let Err(model_errors) = plant.validate() {
+        for e in model_errors.0 {
+            let located = match e.sheet {
+                "Study" => t_study.as_ref().map(|t| {
+                    let cell = item_cells
+                        .get(&normalize(e.field))
+                        .cloned()
+                        .unwrap_or_else(|| "A1".to_string());
+                    (t.sheet.clone(), cell)
+                }),
+                "Spectra" => None, // every spectrum line was checked at its cell
+                sheet => {
+                    let t = match sheet {
+                        "Buses" => &t_buses,
+                        "Sources" => &t_sources,
+                        "Transformers" => &t_tx,
+                        "Cables" => &t_cables,
+                        "Capacitors" => &t_caps,
+                        "Loads" => &t_loads,
+                        _ => &None,
+                    };
+                    t.as_ref().map(|t| {
+                        let cell = e
+                            .index
+                            .and_then(|i| t.rows.get(i))
+                            .map_or_else(|| "A2".to_string(), |r| t.cell(r, e.field));
+                        (t.sheet.clone(), cell)
+                    })
+                }
+            };
+            if let Some((sheet, cell)) = located {
+                let message = if e.message.starts_with("must") {
+                    format!("\"{}\" {}", e.field, e.message)
+                } else {
+                    format!("\"{}\": {}", e.field, e.message)
+                };
+                diag.error(&sheet, cell, message);
+            }
+        }
+    }
+    if diag.errors.is_empty() {
+        return Ok(ReadOutcome {
+            plant,
+            warnings: diag.warnings,
+        });
+    }
+    let total = diag.errors.len();
+    let mut errors = diag.errors;
+    errors.truncate(MAX_ERRORS);
+    Err(ReadError::Cells {
+        file: file.to_string(),
+        more: total - errors.len(),
+        errors,
+    })
+}

@@ -1,0 +1,452 @@
+//! The element sheets of the input contract: one model element per data row, in row order,
+//! so element i of each list comes from data row i of its sheet.
+
+use super::table::{Column, Diagnostics, Table, normalize, shown};
+use crate::model::*;
+
+const fn req(header: &'static str) -> Column {
+    Column {
+        header,
+        required: true,
+    }
+}
+const fn opt(header: &'static str) -> Column {
+    Column {
+        header,
+        required: false,
+    }
+}
+
+pub const BUSES: &[Column] = &[req("Bus"), req("Nominal kV"), opt("Description")];
+pub const SOURCES: &[Column] = &[
+    req("Source"),
+    req("Bus"),
+    opt("Scenario"),
+    opt("Short-circuit MVA"),
+    opt("Short-circuit kA"),
+    req("X/R"),
+];
+pub const TRANSFORMERS: &[Column] = &[
+    req("Transformer"),
+    req("HV bus"),
+    req("LV bus"),
+    req("kVA"),
+    req("Impedance (%)"),
+    req("X/R"),
+    opt("In service"),
+];
+pub const CABLES: &[Column] = &[
+    req("Cable"),
+    req("From bus"),
+    req("To bus"),
+    req("Length (m)"),
+    req("R (ohm/km)"),
+    req("X (ohm/km)"),
+    opt("C (uF/km)"),
+    opt("Runs"),
+];
+pub const CAPACITORS: &[Column] = &[
+    req("Bank"),
+    req("Bus"),
+    req("Rated kV"),
+    req("Step kvar"),
+    opt("Steps"),
+    opt("Detuning (%)"),
+    opt("Tuned order"),
+    opt("Reactor Q"),
+    opt("Status"),
+    opt("Studied steps"),
+];
+pub const LOADS: &[Column] = &[
+    req("Load"),
+    req("Bus"),
+    req("Type"),
+    req("kW"),
+    opt("Power factor"),
+    opt("Quantity"),
+    opt("Load factor"),
+    opt("Spectrum"),
+];
+pub const SPECTRA: &[Column] = &[
+    req("Spectrum"),
+    req("Order"),
+    req("Magnitude (%)"),
+    opt("Angle (deg)"),
+];
+
+/// Default reactor X/R at fundamental (input contract, sheet `Capacitors`).
+pub const DEFAULT_REACTOR_Q: f64 = 50.0;
+
+/// Counts of defaults applied per (sheet, column), reported once per column.
+#[derive(Default)]
+pub struct Defaults(Vec<(&'static str, &'static str, String, usize)>);
+
+impl Defaults {
+    fn note(&mut self, sheet: &'static str, column: &'static str, value: &str) {
+        match self
+            .0
+            .iter_mut()
+            .find(|(s, c, _, _)| *s == sheet && *c == column)
+        {
+            Some(e) => e.3 += 1,
+            None => self.0.push((sheet, column, value.to_string(), 1)),
+        }
+    }
+
+    /// One warning per column: how many blank cells took which default.
+    pub fn report(self, diag: &mut Diagnostics) {
+        for (sheet, column, value, n) in self.0 {
+            diag.warn(
+                sheet,
+                None,
+                format!("\"{column}\" blank in {n} row(s): default {value} applied"),
+            );
+        }
+    }
+}
+
+pub fn buses(t: &Table, d: &mut Diagnostics) -> Vec<Bus> {
+    t.rows
+        .iter()
+        .map(|r| Bus {
+            id: t.id(r, "Bus", d),
+            nominal_kv: t.required_number(r, "Nominal kV", "a positive number", d),
+            description: t.text(r, "Description", d).unwrap_or_default(),
+        })
+        .collect()
+}
+
+pub fn sources(t: &Table, d: &mut Diagnostics) -> Vec<Source> {
+    if !t.has("Short-circuit MVA") && !t.has("Short-circuit kA") {
+        d.error(
+            &t.sheet,
+            "A1".into(),
+            "the header row needs a \"Short-circuit MVA\" or a \"Short-circuit kA\" column".into(),
+        );
+    }
+    t.rows
+        .iter()
+        .map(|r| {
+            let mva = t.number(r, "Short-circuit MVA", "a positive number", d);
+            let ka = t.number(r, "Short-circuit kA", "a positive number", d);
+            let short_circuit = match (mva, ka) {
+                (Some(m), None) => ShortCircuit::Mva(m),
+                (None, Some(k)) => ShortCircuit::Ka(k),
+                (Some(_), Some(_)) => {
+                    d.error(
+                        &t.sheet,
+                        t.cell(r, "Short-circuit kA"),
+                        "give either \"Short-circuit MVA\" or \"Short-circuit kA\", not both".into(),
+                    );
+                    ShortCircuit::Mva(f64::NAN)
+                }
+                (None, None) => {
+                    d.error(
+                        &t.sheet,
+                        t.cell(r, "Short-circuit MVA"),
+                        "\"Short-circuit MVA\" or \"Short-circuit kA\" is required, found both blank".into(),
+                    );
+                    ShortCircuit::Mva(f64::NAN)
+                }
+            };
+            Source {
+                id: t.id(r, "Source", d),
+                bus: t.id(r, "Bus", d),
+                scenario: t.text(r, "Scenario", d),
+                short_circuit,
+                x_over_r: t.required_number(r, "X/R", "a positive number", d),
+            }
+        })
+        .collect()
+}
+
+pub fn transformers(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Transformer> {
+    t.rows
+        .iter()
+        .map(|r| Transformer {
+            id: t.id(r, "Transformer", d),
+            hv_bus: t.id(r, "HV bus", d),
+            lv_bus: t.id(r, "LV bus", d),
+            kva: t.required_number(r, "kVA", "a positive number", d),
+            impedance_percent: t.required_number(r, "Impedance (%)", "a positive number", d),
+            x_over_r: t.required_number(r, "X/R", "a positive number", d),
+            in_service: t.yes_no(r, "In service", d).unwrap_or_else(|| {
+                defaults.note("Transformers", "In service", "yes");
+                true
+            }),
+        })
+        .collect()
+}
+
+/// A whole number ≥ `min` from a cell, or the default.
+fn count(
+    t: &Table,
+    r: &super::table::Row,
+    header: &str,
+    min: u32,
+    d: &mut Diagnostics,
+) -> Option<u32> {
+    let v = t.number(r, header, "a whole number", d)?;
+    if v.is_nan() {
+        return Some(0);
+    }
+    if v.fract() != 0.0 || v < f64::from(min) || v > 1_000_000.0 {
+        d.error(
+            &t.sheet,
+            t.cell(r, header),
+            format!(
+                "\"{header}\" must be a whole number of at least {min}, found {}",
+                shown(t.raw(r, header))
+            ),
+        );
+        return Some(0);
+    }
+    Some(v as u32)
+}
+
+pub fn cables(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Cable> {
+    t.rows
+        .iter()
+        .map(|r| Cable {
+            id: t.id(r, "Cable", d),
+            from_bus: t.id(r, "From bus", d),
+            to_bus: t.id(r, "To bus", d),
+            length_m: t.required_number(r, "Length (m)", "a positive number", d),
+            r_ohm_per_km: t.required_number(r, "R (ohm/km)", "a number of zero or more", d),
+            x_ohm_per_km: t.required_number(r, "X (ohm/km)", "a number of zero or more", d),
+            c_uf_per_km: t
+                .number(r, "C (uF/km)", "a number of zero or more", d)
+                .unwrap_or(0.0),
+            runs: count(t, r, "Runs", 1, d).unwrap_or_else(|| {
+                defaults.note("Cables", "Runs", "1");
+                1
+            }),
+        })
+        .collect()
+}
+
+/// Parses `Studied steps`: `all`, a list `0,2,4`, a range `1-3`, or a mix `0,2-4`.
+pub fn studied_steps(text: &str, steps: u32) -> Result<Vec<u32>, String> {
+    let t = text.trim();
+    if t.eq_ignore_ascii_case("all") {
+        return Ok((0..=steps).collect());
+    }
+    let mut out = Vec::new();
+    for item in t.split([',', ';']) {
+        let item = item.trim();
+        let parse = |s: &str| s.trim().parse::<u32>().map_err(|_| ());
+        let (a, b) = match item.split_once('-') {
+            Some((a, b)) => (parse(a), parse(b)),
+            None => (parse(item), parse(item)),
+        };
+        match (a, b) {
+            (Ok(a), Ok(b)) if a <= b => out.extend(a..=b),
+            _ => {
+                return Err(format!(
+                    "\"Studied steps\" must be all, a list like 0,2,4 or a range like 1-3, found \"{text}\""
+                ));
+            }
+        }
+    }
+    out.sort_unstable();
+    out.dedup();
+    if let Some(&n) = out.iter().find(|&&n| n > steps) {
+        return Err(format!(
+            "\"Studied steps\" names {n} steps but the bank has {steps}, found \"{text}\""
+        ));
+    }
+    Ok(out)
+}
+
+pub fn banks(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<CapacitorBank> {
+    t.rows
+        .iter()
+        .map(|r| {
+            let steps = count(t, r, "Steps", 1, d).unwrap_or_else(|| {
+                defaults.note("Capacitors", "Steps", "1");
+                1
+            });
+            let detuning = t.number(r, "Detuning (%)", "a percentage between 0 and 100", d);
+            let tuned = t.number(r, "Tuned order", "a harmonic order above 1", d);
+            let reactor = match (detuning, tuned) {
+                (Some(p), Some(_)) if p != 0.0 => {
+                    d.error(
+                        &t.sheet,
+                        t.cell(r, "Tuned order"),
+                        "give either \"Detuning (%)\" or \"Tuned order\", not both".into(),
+                    );
+                    Reactor::None
+                }
+                (_, Some(order)) => Reactor::Tuned { order },
+                (Some(p), None) if p != 0.0 => Reactor::Detuning { percent: p },
+                _ => Reactor::None,
+            };
+            let status = match t.text(r, "Status", d) {
+                None => {
+                    defaults.note("Capacitors", "Status", "proposed");
+                    BankStatus::Proposed
+                }
+                Some(s) => match normalize(&s).as_str() {
+                    "existing" => BankStatus::Existing,
+                    "proposed" => BankStatus::Proposed,
+                    _ => {
+                        d.error(
+                            &t.sheet,
+                            t.cell(r, "Status"),
+                            format!("\"Status\" must be existing or proposed, found \"{s}\""),
+                        );
+                        BankStatus::Proposed
+                    }
+                },
+            };
+            let studied = match t.raw(r, "Studied steps") {
+                calamine::Data::Float(f) if f.fract() == 0.0 && *f >= 0.0 => Ok(format!("{f}")),
+                calamine::Data::Int(i) => Ok(i.to_string()),
+                _ => t.text(r, "Studied steps", d).ok_or(()),
+            };
+            let studied_steps = match studied {
+                Err(()) => (0..=steps).collect(),
+                Ok(text) => studied_steps(&text, steps).unwrap_or_else(|msg| {
+                    d.error(&t.sheet, t.cell(r, "Studied steps"), msg);
+                    (0..=steps).collect()
+                }),
+            };
+            CapacitorBank {
+                id: t.id(r, "Bank", d),
+                bus: t.id(r, "Bus", d),
+                rated_kv: t.required_number(r, "Rated kV", "a positive number", d),
+                step_kvar: t.required_number(r, "Step kvar", "a positive number", d),
+                steps,
+                reactor,
+                reactor_q: t
+                    .number(r, "Reactor Q", "a positive number", d)
+                    .unwrap_or_else(|| {
+                        if reactor != Reactor::None {
+                            defaults.note("Capacitors", "Reactor Q", "50");
+                        }
+                        DEFAULT_REACTOR_Q
+                    }),
+                status,
+                studied_steps,
+            }
+        })
+        .collect()
+}
+
+/// The load type named in a cell, by the contract's matching rule.
+pub fn load_type(text: &str) -> Option<LoadType> {
+    let key = normalize(text);
+    LoadType::ALL
+        .into_iter()
+        .find(|t| normalize(t.label()) == key)
+}
+
+pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Load> {
+    t.rows
+        .iter()
+        .map(|r| {
+            let kind = match t.text(r, "Type", d) {
+                Some(s) => load_type(&s).unwrap_or_else(|| {
+                    let names: Vec<&str> = LoadType::ALL.iter().map(|t| t.label()).collect();
+                    d.error(
+                        &t.sheet,
+                        t.cell(r, "Type"),
+                        format!(
+                            "\"Type\" must be one of {}, found \"{s}\"",
+                            names.join(", ")
+                        ),
+                    );
+                    LoadType::Linear
+                }),
+                None => {
+                    d.error(
+                        &t.sheet,
+                        t.cell(r, "Type"),
+                        "\"Type\" is required, found a blank cell".into(),
+                    );
+                    LoadType::Linear
+                }
+            };
+            let pf = t.number(r, "Power factor", "a number above 0 and at most 1", d);
+            Load {
+                id: t.id(r, "Load", d),
+                bus: t.id(r, "Bus", d),
+                kind,
+                kw: t.required_number(r, "kW", "a number of zero or more", d),
+                power_factor: pf.unwrap_or_else(|| {
+                    let v = kind.default_power_factor();
+                    defaults.note(
+                        "Loads",
+                        "Power factor",
+                        "0.85 (linear, motor) or 0.95 (converters)",
+                    );
+                    v
+                }),
+                quantity: t
+                    .number(r, "Quantity", "a number of zero or more", d)
+                    .unwrap_or_else(|| {
+                        defaults.note("Loads", "Quantity", "1");
+                        1.0
+                    }),
+                load_factor: t
+                    .number(r, "Load factor", "a number from 0 to 1", d)
+                    .unwrap_or_else(|| {
+                        defaults.note("Loads", "Load factor", "1");
+                        1.0
+                    }),
+                spectrum: t.text(r, "Spectrum", d),
+            }
+        })
+        .collect()
+}
+
+/// Spectra grouped by name in order of first appearance; each line checked at its cell
+/// (order above 1 and listed once per spectrum, magnitude zero or more).
+pub fn spectra(t: &Table, d: &mut Diagnostics) -> Vec<Spectrum> {
+    let mut out: Vec<Spectrum> = Vec::new();
+    for r in &t.rows {
+        let name = t.id(r, "Spectrum", d);
+        let order = t.required_number(r, "Order", "a harmonic order above 1", d);
+        if order.is_finite() && order <= 1.0 {
+            d.error(
+                &t.sheet,
+                t.cell(r, "Order"),
+                format!("\"Order\" must be a harmonic order above 1, found {order}"),
+            );
+        }
+        let magnitude = t.required_number(r, "Magnitude (%)", "a number of zero or more", d);
+        if magnitude < 0.0 {
+            d.error(
+                &t.sheet,
+                t.cell(r, "Magnitude (%)"),
+                format!("\"Magnitude (%)\" must be a number of zero or more, found {magnitude}"),
+            );
+        }
+        let angle = t
+            .number(r, "Angle (deg)", "an angle in degrees", d)
+            .unwrap_or(0.0);
+        let i = match out.iter().position(|s| s.name == name) {
+            Some(i) => i,
+            None => {
+                out.push(Spectrum {
+                    name: name.clone(),
+                    lines: Vec::new(),
+                });
+                out.len() - 1
+            }
+        };
+        if out[i].lines.iter().any(|l| l.order == order) {
+            d.error(
+                &t.sheet,
+                t.cell(r, "Order"),
+                format!("order {order} appears twice in spectrum \"{name}\""),
+            );
+        }
+        out[i].lines.push(SpectrumLine {
+            order,
+            magnitude_percent: magnitude,
+            angle_deg: angle,
+        });
+    }
+    out
+}

@@ -1,0 +1,350 @@
+//! A sheet as a table: the header row mapped to columns by the contract's matching rule,
+//! data rows with their absolute positions, and typed cell access that records every
+//! problem with its `Sheet!Cell`.
+
+use std::collections::{HashMap, HashSet};
+
+use calamine::{Data, Range};
+
+use super::{InputError, Warning};
+
+/// The contract's matching rule for sheet, header and item names: case-insensitive,
+/// ignoring spaces, underscores, hyphens and a trailing unit in parentheses.
+pub fn normalize(name: &str) -> String {
+    let mut s = name.trim();
+    if s.ends_with(')')
+        && let Some(open) = s.rfind('(')
+    {
+        s = &s[..open];
+    }
+    s.chars()
+        .filter(|c| !matches!(c, ' ' | '_' | '-' | '\t'))
+        .flat_map(char::to_lowercase)
+        .collect()
+}
+
+/// A1 notation of a zero-based (row, column).
+pub fn a1(row: u32, col: u32) -> String {
+    let mut letters = Vec::new();
+    let mut c = col + 1;
+    while c > 0 {
+        let rem = (c - 1) % 26;
+        letters.push(b'A' + rem as u8);
+        c = (c - 1) / 26;
+    }
+    letters.reverse();
+    format!("{}{}", String::from_utf8_lossy(&letters), row + 1)
+}
+
+/// How a cell's value is shown in messages: text quoted, numbers as written.
+pub fn shown(d: &Data) -> String {
+    match d {
+        Data::String(s) => format!("\"{s}\""),
+        Data::Float(f) => format!("{f}"),
+        Data::Int(i) => format!("{i}"),
+        Data::Bool(b) => if *b { "TRUE" } else { "FALSE" }.to_string(),
+        Data::Error(e) => format!("the error {e}"),
+        Data::DateTime(d) => format!("a date ({})", d.as_f64()),
+        Data::DateTimeIso(s) | Data::DurationIso(s) => format!("a date ({s})"),
+        Data::Empty => "a blank cell".to_string(),
+    }
+}
+
+/// Problems found while reading, shared by every sheet.
+#[derive(Debug, Default)]
+pub struct Diagnostics {
+    pub errors: Vec<InputError>,
+    pub warnings: Vec<Warning>,
+    /// Cells that already carry an error (so a later check does not repeat it).
+    pub flagged: HashSet<(String, String)>,
+}
+
+impl Diagnostics {
+    pub fn error(&mut self, sheet: &str, cell: String, message: String) {
+        if self.flagged.insert((sheet.to_string(), cell.clone())) {
+            self.errors.push(InputError {
+                sheet: sheet.to_string(),
+                cell,
+                message,
+            });
+        }
+    }
+
+    pub fn warn(&mut self, sheet: &str, cell: Option<String>, message: String) {
+        self.warnings.push(Warning {
+            sheet: sheet.to_string(),
+            cell,
+            message,
+        });
+    }
+}
+
+/// One column the contract defines for a sheet.
+pub struct Column {
+    /// The header as the contract spells it (used in messages).
+    pub header: &'static str,
+    pub required: bool,
+}
+
+/// A data row: its absolute row and the cells by absolute column.
+pub struct Row {
+    pub row: u32,
+    cells: Vec<Data>,
+    col0: u32,
+}
+
+impl Row {
+    fn get(&self, col: u32) -> &Data {
+        static EMPTY: Data = Data::Empty;
+        col.checked_sub(self.col0)
+            .and_then(|i| self.cells.get(i as usize))
+            .unwrap_or(&EMPTY)
+    }
+}
+
+/// A sheet read as a table.
+pub struct Table {
+    /// The sheet's name as written in the workbook.
+    pub sheet: String,
+    /// Normalized header → absolute column.
+    columns: HashMap<String, u32>,
+    pub rows: Vec<Row>,
+}
+
+fn is_blank(d: &Data) -> bool {
+    match d {
+        Data::Empty => true,
+        Data::String(s) => s.trim().is_empty(),
+        _ => false,
+    }
+}
+
+impl Table {
+    /// Reads `range` with its header in row 1, checking for the required `columns`;
+    /// unknown headers are warned about, blank rows skipped.
+    pub fn new(sheet: &str, range: &Range<Data>, spec: &[Column], diag: &mut Diagnostics) -> Table {
+        let mut t = Table {
+            sheet: sheet.to_string(),
+            columns: HashMap::new(),
+            rows: Vec::new(),
+        };
+        let Some((r0, c0)) = range.start() else {
+            for c in spec.iter().filter(|c| c.required) {
+                diag.error(
+                    sheet,
+                    "A1".into(),
+                    format!(
+                        "required column \"{}\" is missing (the sheet is empty)",
+                        c.header
+                    ),
+                );
+            }
+            return t;
+        };
+        let known: HashMap<String, &Column> =
+            spec.iter().map(|c| (normalize(c.header), c)).collect();
+        let mut rows = range.rows();
+        let mut next_free_col = c0;
+        if r0 == 0
+            && let Some(header) = rows.next()
+        {
+            for (i, cell) in header.iter().enumerate() {
+                let col = c0 + i as u32;
+                if is_blank(cell) {
+                    continue;
+                }
+                next_free_col = col + 1;
+                let name = match cell {
+                    Data::String(s) => s.trim().to_string(),
+                    other => shown(other),
+                };
+                let key = normalize(&name);
+                if t.columns.contains_key(&key) {
+                    diag.error(
+                        sheet,
+                        a1(0, col),
+                        format!("column \"{name}\" appears twice in the header row"),
+                    );
+                    continue;
+                }
+                if !known.contains_key(&key) {
+                    diag.warn(
+                        sheet,
+                        Some(a1(0, col)),
+                        format!("unknown column \"{name}\" ignored"),
+                    );
+                }
+                t.columns.insert(key, col);
+            }
+        }
+        let start_data = if r0 == 0 { 1 } else { r0 };
+        for (i, cells) in rows.enumerate() {
+            if cells.iter().all(is_blank) {
+                continue;
+            }
+            t.rows.push(Row {
+                row: start_data + i as u32,
+                cells: cells.to_vec(),
+                col0: c0,
+            });
+        }
+        for c in spec.iter().filter(|c| c.required) {
+            if !t.columns.contains_key(&normalize(c.header)) {
+                let found: Vec<String> = spec
+                    .iter()
+                    .filter(|s| t.columns.contains_key(&normalize(s.header)))
+                    .map(|s| s.header.to_string())
+                    .collect();
+                diag.error(
+                    sheet,
+                    a1(0, next_free_col),
+                    format!(
+                        "required column \"{}\" is missing from the header row (row 1){}",
+                        c.header,
+                        if found.is_empty() {
+                            String::new()
+                        } else {
+                            format!("; found {}", found.join(", "))
+                        }
+                    ),
+                );
+            }
+        }
+        t
+    }
+
+    /// Whether the sheet has the column with this contract header.
+    pub fn has(&self, header: &str) -> bool {
+        self.columns.contains_key(&normalize(header))
+    }
+
+    /// A1 reference of `header`'s cell in `row`; column A when the column is absent.
+    pub fn cell(&self, row: &Row, header: &str) -> String {
+        a1(
+            row.row,
+            self.columns.get(&normalize(header)).copied().unwrap_or(0),
+        )
+    }
+
+    /// The cell of `header` in `row` (blank when the column is absent).
+    pub fn raw<'r>(&self, row: &'r Row, header: &str) -> &'r Data {
+        static EMPTY: Data = Data::Empty;
+        match self.columns.get(&normalize(header)) {
+            Some(&c) => row.get(c),
+            None => &EMPTY,
+        }
+    }
+
+    /// Text of a cell (ids, names, enumerations): strings trimmed, numbers as written;
+    /// `None` for a blank cell. An error cell is reported.
+    pub fn text(&self, row: &Row, header: &str, diag: &mut Diagnostics) -> Option<String> {
+        match self.raw(row, header) {
+            d if is_blank(d) => None,
+            Data::String(s) => Some(s.trim().to_string()),
+            Data::Float(f) => Some(format!("{f}")),
+            Data::Int(i) => Some(format!("{i}")),
+            Data::Bool(b) => Some(if *b { "TRUE" } else { "FALSE" }.to_string()),
+            other => {
+                diag.error(
+                    &self.sheet,
+                    self.cell(row, header),
+                    format!("\"{header}\" must be text, found {}", shown(other)),
+                );
+                None
+            }
+        }
+    }
+
+    /// A required id: reported when blank.
+    pub fn id(&self, row: &Row, header: &str, diag: &mut Diagnostics) -> String {
+        match self.text(row, header, diag) {
+            Some(s) => s,
+            None => {
+                diag.error(
+                    &self.sheet,
+                    self.cell(row, header),
+                    format!("\"{header}\" is required, found a blank cell"),
+                );
+                String::new()
+            }
+        }
+    }
+
+    /// A number: numeric cells, or text holding a number; `None` when blank. Anything else
+    /// is reported, naming what was expected (`what`, e.g. "a positive number").
+    pub fn number(
+        &self,
+        row: &Row,
+        header: &str,
+        what: &str,
+        diag: &mut Diagnostics,
+    ) -> Option<f64> {
+        let d = self.raw(row, header);
+        let bad = |diag: &mut Diagnostics| {
+            diag.error(
+                &self.sheet,
+                self.cell(row, header),
+                format!("\"{header}\" must be {what}, found {}", shown(d)),
+            );
+            Some(f64::NAN)
+        };
+        match d {
+            d if is_blank(d) => None,
+            Data::Float(f) if f.is_finite() => Some(*f),
+            Data::Int(i) => Some(*i as f64),
+            Data::String(s) => match s.trim().parse::<f64>() {
+                Ok(v) if v.is_finite() => Some(v),
+                _ => bad(diag),
+            },
+            _ => bad(diag),
+        }
+    }
+
+    /// A required number: blank is reported too; NaN stands in for a bad or blank cell.
+    pub fn required_number(
+        &self,
+        row: &Row,
+        header: &str,
+        what: &str,
+        diag: &mut Diagnostics,
+    ) -> f64 {
+        match self.number(row, header, what, diag) {
+            Some(v) => v,
+            None => {
+                diag.error(
+                    &self.sheet,
+                    self.cell(row, header),
+                    format!("\"{header}\" must be {what}, found a blank cell"),
+                );
+                f64::NAN
+            }
+        }
+    }
+
+    /// A yes/no cell: yes/no, y/n, true/false, 1/0, in/out or an Excel boolean.
+    pub fn yes_no(&self, row: &Row, header: &str, diag: &mut Diagnostics) -> Option<bool> {
+        let d = self.raw(row, header);
+        let parsed = match d {
+            d if is_blank(d) => return None,
+            Data::Bool(b) => Some(*b),
+            Data::Float(f) if *f == 1.0 => Some(true),
+            Data::Float(f) if *f == 0.0 => Some(false),
+            Data::Int(1) => Some(true),
+            Data::Int(0) => Some(false),
+            Data::String(s) => match s.trim().to_ascii_lowercase().as_str() {
+                "yes" | "y" | "true" | "1" | "in" => Some(true),
+                "no" | "n" | "false" | "0" | "out" => Some(false),
+                _ => None,
+            },
+            _ => None,
+        };
+        if parsed.is_none() {
+            diag.error(
+                &self.sheet,
+                self.cell(row, header),
+                format!("\"{header}\" must be yes or no, found {}", shown(d)),
+            );
+        }
+        parsed
+    }
+}
