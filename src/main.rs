@@ -102,7 +102,7 @@ fn load(path: &std::path::Path) -> Result<Plant, Failure> {
 
 fn run(command: Command) -> Result<ExitCode, Failure> {
     match command {
-        Command::Demo(out) => study(&overtone::demo::demo_plant(), &out),
+        Command::Demo(out) => study(&overtone::demo::demo_plant()?, &out),
         Command::Check { plant, out } => study(&load(&plant)?, &out),
         Command::Scan { plant, csv, select } => {
             let plant = load(&plant)?;

@@ -25,7 +25,12 @@ fn messages(p: &Plant) -> Vec<String> {
 #[test]
 fn valid_plant_passes() {
     assert_eq!(messages(&small()), Vec::<String>::new());
-    assert!(overtone::demo::demo_plant().validate().is_ok());
+    assert!(
+        overtone::demo::demo_plant()
+            .expect("demo reads")
+            .validate()
+            .is_ok()
+    );
 }
 
 #[test]

@@ -1,0 +1,580 @@
+//! The example cases of `cases/`, defined in code and written as workbooks by the project's
+//! own writer. `cases_are_current` fails when a committed workbook's content differs from its
+//! definition here; `OVERTONE_WRITE_CASES=1 cargo test cases_are_current` rewrites them.
+//! Every case is invented: no real plant, company or person.
+
+use std::path::PathBuf;
+
+use overtone::check::{CheckOptions, run_check};
+use overtone::io::template::plant_workbook;
+use overtone::io::workbook_in::{read_workbook, read_workbook_bytes};
+use overtone::model::*;
+use overtone::study::Verdict;
+
+fn source(id: &str, bus: &str, scenario: Option<&str>, mva: f64, x_over_r: f64) -> Source {
+    Source {
+        id: id.into(),
+        bus: bus.into(),
+        scenario: scenario.map(Into::into),
+        short_circuit: ShortCircuit::Mva(mva),
+        x_over_r,
+    }
+}
+
+fn tx(id: &str, hv: &str, lv: &str, kva: f64, z: f64, x_over_r: f64) -> Transformer {
+    Transformer {
+        id: id.into(),
+        hv_bus: hv.into(),
+        lv_bus: lv.into(),
+        kva,
+        impedance_percent: z,
+        x_over_r,
+        in_service: true,
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn cab(id: &str, from: &str, to: &str, m: f64, r: f64, x: f64, c: f64, runs: u32) -> Cable {
+    Cable {
+        id: id.into(),
+        from_bus: from.into(),
+        to_bus: to.into(),
+        length_m: m,
+        r_ohm_per_km: r,
+        x_ohm_per_km: x,
+        c_uf_per_km: c,
+        runs,
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn bank(
+    id: &str,
+    bus: &str,
+    kv: f64,
+    kvar: f64,
+    steps: u32,
+    reactor: Reactor,
+    status: BankStatus,
+) -> CapacitorBank {
+    CapacitorBank {
+        id: id.into(),
+        bus: bus.into(),
+        rated_kv: kv,
+        step_kvar: kvar,
+        steps,
+        reactor,
+        reactor_q: 50.0,
+        status,
+        studied_steps: (0..=steps).collect(),
+    }
+}
+
+fn bus(id: &str, kv: f64, description: &str) -> Bus {
+    Bus {
+        id: id.into(),
+        nominal_kv: kv,
+        description: description.into(),
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn load(id: &str, bus: &str, kind: LoadType, kw: f64, pf: f64, qty: f64, lf: f64) -> Load {
+    Load {
+        id: id.into(),
+        bus: bus.into(),
+        kind,
+        kw,
+        power_factor: pf,
+        quantity: qty,
+        load_factor: lf,
+        spectrum: None,
+    }
+}
+
+/// The bottling plant: the built-in demo (`cases/bottling-plant.xlsx`).
+pub fn bottling_plant() -> Plant {
+    let mut p = Plant::new(60.0);
+    p.study.title = "Demo: bottling plant capacitor bank review".into();
+    p.study.plant = "Invented bottling plant (demo data)".into();
+    p.study.prepared_by = "overtone demo".into();
+    p.study.pcc_bus = Some("MAIN".into());
+    p.study.scan_step_order = 0.01;
+    p.buses = vec![
+        bus("MAIN", 13.8, "13.8 kV main switchgear (PCC)"),
+        bus("T1-HV", 13.8, "unit substation 1, primary"),
+        bus("T2-HV", 13.8, "unit substation 2, primary"),
+        bus(
+            "LV1",
+            0.48,
+            "unit substation 1, 480 V: filling and conveyors",
+        ),
+        bus(
+            "LV2",
+            0.48,
+            "unit substation 2, 480 V: utilities and packaging",
+        ),
+    ];
+    p.sources = vec![
+        Source {
+            id: "UTIL-MAX".into(),
+            bus: "MAIN".into(),
+            scenario: Some("max".into()),
+            short_circuit: ShortCircuit::Mva(250.0),
+            x_over_r: 15.0,
+        },
+        Source {
+            id: "UTIL-MIN".into(),
+            bus: "MAIN".into(),
+            scenario: Some("min".into()),
+            short_circuit: ShortCircuit::Mva(90.0),
+            x_over_r: 10.0,
+        },
+    ];
+    p.transformers = vec![
+        Transformer {
+            id: "T1".into(),
+            hv_bus: "T1-HV".into(),
+            lv_bus: "LV1".into(),
+            kva: 2000.0,
+            impedance_percent: 5.75,
+            x_over_r: 8.0,
+            in_service: true,
+        },
+        Transformer {
+            id: "T2".into(),
+            hv_bus: "T2-HV".into(),
+            lv_bus: "LV2".into(),
+            kva: 1500.0,
+            impedance_percent: 5.5,
+            x_over_r: 7.0,
+            in_service: true,
+        },
+    ];
+    p.cables = vec![
+        Cable {
+            id: "K1".into(),
+            from_bus: "MAIN".into(),
+            to_bus: "T1-HV".into(),
+            length_m: 250.0,
+            r_ohm_per_km: 0.16,
+            x_ohm_per_km: 0.12,
+            c_uf_per_km: 0.30,
+            runs: 1,
+        },
+        Cable {
+            id: "K2".into(),
+            from_bus: "MAIN".into(),
+            to_bus: "T2-HV".into(),
+            length_m: 400.0,
+            r_ohm_per_km: 0.16,
+            x_ohm_per_km: 0.12,
+            c_uf_per_km: 0.30,
+            runs: 1,
+        },
+    ];
+    p.banks = vec![
+        CapacitorBank {
+            id: "C1".into(),
+            bus: "LV1".into(),
+            rated_kv: 0.48,
+            step_kvar: 200.0,
+            steps: 5,
+            reactor: Reactor::None,
+            reactor_q: 50.0,
+            status: BankStatus::Proposed,
+            studied_steps: (0..=5).collect(),
+        },
+        CapacitorBank {
+            id: "C2".into(),
+            bus: "LV2".into(),
+            rated_kv: 0.525,
+            step_kvar: 100.0,
+            steps: 3,
+            reactor: Reactor::Detuning { percent: 7.0 },
+            reactor_q: 50.0,
+            status: BankStatus::Existing,
+            studied_steps: (0..=3).collect(),
+        },
+    ];
+    use LoadType::*;
+    p.loads = vec![
+        load("FILLER-VFD", "LV1", SixPulseDrive, 75.0, 0.95, 4.0, 0.8),
+        load("CONV-VFD", "LV1", SixPulseDrive, 22.0, 0.95, 6.0, 0.7),
+        load("LV1-MOTORS", "LV1", Motor, 400.0, 0.85, 1.0, 0.8),
+        load("LV1-HEAT", "LV1", Linear, 300.0, 0.95, 1.0, 0.9),
+        load(
+            "CHILLER-VFD",
+            "LV2",
+            SixPulseDriveWithReactor,
+            150.0,
+            0.95,
+            2.0,
+            0.8,
+        ),
+        load("LV2-MOTORS", "LV2", Motor, 300.0, 0.85, 1.0, 0.8),
+        load("LV2-LIGHT", "LV2", Linear, 200.0, 0.9, 1.0, 1.0),
+    ];
+    p
+}
+
+/// A small food plant: one 480 V bus behind a 1500 kVA transformer, 6-pulse drives, and a
+/// proposed 4 × 225 kvar plain bank whose fourth step resonates near the 5th.
+pub fn food_plant() -> Plant {
+    let mut p = Plant::new(60.0);
+    p.study.title = "Food plant: proposed 4-step bank on MCC-1".into();
+    p.study.plant = "Invented snack-food plant (example case)".into();
+    p.study.prepared_by = "overtone example".into();
+    p.study.pcc_bus = Some("SVC".into());
+    p.buses = vec![
+        bus("SVC", 12.47, "12.47 kV utility service (PCC)"),
+        bus("MCC-1", 0.48, "480 V main switchboard and MCC"),
+    ];
+    p.sources = vec![source("UTIL", "SVC", None, 180.0, 10.0)];
+    p.transformers = vec![tx("T1", "SVC", "MCC-1", 1500.0, 5.75, 6.5)];
+    use LoadType::*;
+    p.loads = vec![
+        load("CONVEYOR-VFD", "MCC-1", SixPulseDrive, 30.0, 0.95, 8.0, 0.8),
+        load("MIXER-VFD", "MCC-1", SixPulseDrive, 55.0, 0.95, 4.0, 0.85),
+        load("FRYER-VFD", "MCC-1", SixPulseDrive, 75.0, 0.95, 2.0, 0.8),
+        load("COMPRESSORS", "MCC-1", Motor, 300.0, 0.85, 1.0, 0.75),
+        load("OVENS", "MCC-1", Linear, 250.0, 0.98, 1.0, 0.9),
+        load("LIGHTING", "MCC-1", Linear, 60.0, 0.9, 1.0, 1.0),
+    ];
+    p.banks = vec![bank(
+        "C1",
+        "MCC-1",
+        0.48,
+        225.0,
+        4,
+        Reactor::None,
+        BankStatus::Proposed,
+    )];
+    p
+}
+
+/// A water-treatment plant: 4.16 kV pump motors and an 18-pulse pump drive, two
+/// transformers, cables, `max` and `min` supply scenarios, an existing 7 % detuned bank at
+/// 480 V and a proposed plain bank at 4.16 kV.
+pub fn water_plant() -> Plant {
+    let mut p = Plant::new(60.0);
+    p.study.title = "Water treatment: proposed 4.16 kV bank".into();
+    p.study.plant = "Invented water-treatment plant (example case)".into();
+    p.study.prepared_by = "overtone example".into();
+    p.study.pcc_bus = Some("MAIN".into());
+    p.study.capacitance_tolerance = Tolerance {
+        minus_percent: -5.0,
+        plus_percent: 10.0,
+    };
+    p.buses = vec![
+        bus("MAIN", 13.8, "13.8 kV incoming switchgear (PCC)"),
+        bus("MV", 4.16, "4.16 kV switchgear"),
+        bus("PUMPS", 4.16, "4.16 kV high-service pump MCC"),
+        bus("LV", 0.48, "480 V switchboard"),
+        bus("BLOWERS", 0.48, "480 V aeration blower MCC"),
+    ];
+    p.sources = vec![
+        source("UTIL-MAX", "MAIN", Some("max"), 350.0, 14.0),
+        source("UTIL-MIN", "MAIN", Some("min"), 120.0, 9.0),
+    ];
+    p.transformers = vec![
+        tx("T1", "MAIN", "MV", 5000.0, 6.0, 12.0),
+        tx("T2", "MAIN", "LV", 1500.0, 5.75, 7.0),
+    ];
+    p.cables = vec![
+        cab("K1", "MV", "PUMPS", 150.0, 0.12, 0.11, 0.35, 1),
+        cab("K2", "LV", "BLOWERS", 60.0, 0.1, 0.08, 0.0, 2),
+    ];
+    use LoadType::*;
+    p.loads = vec![
+        load("HSP-MOTORS", "PUMPS", Motor, 600.0, 0.88, 3.0, 0.8),
+        load(
+            "HSP-VFD",
+            "PUMPS",
+            EighteenPulseDrive,
+            800.0,
+            0.96,
+            1.0,
+            0.8,
+        ),
+        load(
+            "BLOWER-VFD",
+            "BLOWERS",
+            SixPulseDriveWithReactor,
+            150.0,
+            0.95,
+            4.0,
+            0.75,
+        ),
+        load("UV-SYSTEM", "LV", Electronic, 120.0, 0.95, 1.0, 0.9),
+        load("HVAC-LIGHTING", "LV", Linear, 200.0, 0.9, 1.0, 0.8),
+    ];
+    p.banks = vec![
+        bank(
+            "C-LV",
+            "LV",
+            0.525,
+            50.0,
+            4,
+            Reactor::Detuning { percent: 7.0 },
+            BankStatus::Existing,
+        ),
+        bank(
+            "C-MV",
+            "MV",
+            4.16,
+            600.0,
+            3,
+            Reactor::None,
+            BankStatus::Proposed,
+        ),
+    ];
+    p
+}
+
+/// A larger site: a 34.5 kV service, a 13.8 kV distribution bus and eight unit substations,
+/// each with a 480 V switchboard and two MCCs (34 buses); 12-pulse and 6-pulse drives, arc
+/// welders with a custom spectrum, and four banks.
+pub fn large_site() -> Plant {
+    let mut p = Plant::new(60.0);
+    p.study.title = "Large site: four banks across eight unit substations".into();
+    p.study.plant = "Invented manufacturing campus (example case)".into();
+    p.study.prepared_by = "overtone example".into();
+    p.study.pcc_bus = Some("SVC-34".into());
+    p.study.scan_step_order = 0.02;
+    p.buses = vec![
+        bus("SVC-34", 34.5, "34.5 kV utility service (PCC)"),
+        bus("DIST-13", 13.8, "13.8 kV distribution switchgear"),
+    ];
+    p.sources = vec![
+        source("UTIL-MAX", "SVC-34", Some("max"), 900.0, 18.0),
+        source("UTIL-MIN", "SVC-34", Some("min"), 400.0, 12.0),
+    ];
+    p.transformers = vec![tx("TM", "SVC-34", "DIST-13", 20000.0, 8.0, 25.0)];
+    use LoadType::*;
+    for u in 1..=8 {
+        let hv = format!("US{u}-HV");
+        let lv = format!("US{u}-LV");
+        p.buses
+            .push(bus(&hv, 13.8, &format!("unit substation {u}, primary")));
+        p.buses.push(bus(
+            &lv,
+            0.48,
+            &format!("unit substation {u}, 480 V switchboard"),
+        ));
+        p.cables.push(cab(
+            &format!("F{u}"),
+            "DIST-13",
+            &hv,
+            200.0 + 90.0 * u as f64,
+            0.13,
+            0.12,
+            0.30,
+            1,
+        ));
+        let kva = if u % 2 == 0 { 2500.0 } else { 2000.0 };
+        p.transformers.push(tx(
+            &format!("T{u}"),
+            &hv,
+            &lv,
+            kva,
+            5.75,
+            7.0 + u as f64 * 0.3,
+        ));
+        for m in 1..=2 {
+            let mcc = format!("US{u}-MCC{m}");
+            p.buses
+                .push(bus(&mcc, 0.48, &format!("unit substation {u}, MCC {m}")));
+            p.cables.push(cab(
+                &format!("F{u}-{m}"),
+                &lv,
+                &mcc,
+                40.0 + 15.0 * m as f64,
+                0.06,
+                0.08,
+                0.0,
+                2,
+            ));
+            let drive = if (u + m) % 3 == 0 {
+                TwelvePulseDrive
+            } else {
+                SixPulseDrive
+            };
+            p.loads.push(load(
+                &format!("US{u}-M{m}-VFD"),
+                &mcc,
+                drive,
+                90.0,
+                0.95,
+                3.0,
+                0.75,
+            ));
+            p.loads.push(load(
+                &format!("US{u}-M{m}-MOT"),
+                &mcc,
+                Motor,
+                250.0,
+                0.86,
+                1.0,
+                0.8,
+            ));
+        }
+        p.loads.push(load(
+            &format!("US{u}-LTG"),
+            &lv,
+            Linear,
+            150.0,
+            0.92,
+            1.0,
+            0.9,
+        ));
+    }
+    p.loads.push(Load {
+        spectrum: Some("WELDER".into()),
+        ..load("WELD-SHOP", "US3-MCC2", Custom, 180.0, 0.8, 1.0, 0.6)
+    });
+    p.spectra = vec![Spectrum {
+        name: "WELDER".into(),
+        lines: [
+            (3.0, 18.0),
+            (5.0, 11.0),
+            (7.0, 6.5),
+            (9.0, 3.0),
+            (11.0, 2.5),
+            (13.0, 1.8),
+        ]
+        .iter()
+        .map(|&(order, m)| SpectrumLine {
+            order,
+            magnitude_percent: m,
+            angle_deg: 0.0,
+        })
+        .collect(),
+    }];
+    p.banks = vec![
+        bank(
+            "C1",
+            "US1-LV",
+            0.48,
+            150.0,
+            4,
+            Reactor::None,
+            BankStatus::Proposed,
+        ),
+        bank(
+            "C3",
+            "US3-LV",
+            0.525,
+            100.0,
+            5,
+            Reactor::Detuning { percent: 7.0 },
+            BankStatus::Existing,
+        ),
+        bank(
+            "C6",
+            "US6-LV",
+            0.48,
+            200.0,
+            4,
+            Reactor::None,
+            BankStatus::Proposed,
+        ),
+        bank(
+            "C8",
+            "US8-LV",
+            0.48,
+            125.0,
+            4,
+            Reactor::Detuning { percent: 14.0 },
+            BankStatus::Proposed,
+        ),
+    ];
+    p
+}
+
+/// Each case: its file name and definition.
+fn cases() -> Vec<(&'static str, Plant)> {
+    vec![
+        ("bottling-plant.xlsx", bottling_plant()),
+        ("food-plant.xlsx", food_plant()),
+        ("water-plant.xlsx", water_plant()),
+        ("large-site.xlsx", large_site()),
+    ]
+}
+
+fn case_path(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("cases")
+        .join(name)
+}
+
+#[test]
+fn cases_are_current() {
+    let write = std::env::var_os("OVERTONE_WRITE_CASES").is_some();
+    for (name, plant) in cases() {
+        plant.validate().unwrap_or_else(|e| panic!("{name}: {e}"));
+        let bytes = plant_workbook(&plant).expect("workbook");
+        let path = case_path(name);
+        if write {
+            std::fs::write(&path, &bytes).expect("write case");
+        }
+        let generated = read_workbook_bytes(name, name, &bytes).expect("generated reads");
+        let committed = read_workbook(&path).unwrap_or_else(|e| {
+            panic!("{e}\n(run OVERTONE_WRITE_CASES=1 cargo test cases_are_current)")
+        });
+        assert_eq!(
+            generated.plant, plant,
+            "{name}: the writer and reader round-trip the plant"
+        );
+        assert_eq!(
+            committed.plant, plant,
+            "{name} differs from its definition: run OVERTONE_WRITE_CASES=1 cargo test cases_are_current"
+        );
+    }
+}
+
+#[test]
+fn demo_is_the_bottling_case() {
+    assert_eq!(
+        overtone::demo::demo_plant().expect("demo reads"),
+        bottling_plant()
+    );
+}
+
+fn rows_for(plant: &Plant, bank: &str) -> Vec<overtone::study::ResonanceRow> {
+    let res = run_check(plant, &CheckOptions::default()).expect("case runs");
+    res.resonance
+        .rows
+        .into_iter()
+        .filter(|r| r.bank == bank)
+        .collect()
+}
+
+#[test]
+fn food_plant_fourth_step_resonates_near_the_5th() {
+    let rows = rows_for(&food_plant(), "C1");
+    let four: Vec<_> = rows.iter().filter(|r| r.steps == 4).collect();
+    assert_eq!(four.len(), 1);
+    assert_eq!(four[0].verdict, Verdict::Resonant);
+    assert_eq!(four[0].nearest_characteristic, Some(5.0));
+    let three = rows.iter().find(|r| r.steps == 3).expect("step 3");
+    assert_eq!(three.verdict, Verdict::Clear, "{three:?}");
+}
+
+#[test]
+fn water_plant_detuned_bank_stays_below_the_5th() {
+    for r in rows_for(&water_plant(), "C-LV") {
+        let h = r.peak.expect("peak").order;
+        assert!(
+            h < 4.0,
+            "the 7 % detuned bank's parallel resonance stays below 3.78: {h}"
+        );
+    }
+}
+
+#[test]
+fn large_site_has_34_buses_and_four_banks() {
+    let p = large_site();
+    assert_eq!(p.buses.len(), 34);
+    assert_eq!(p.banks.len(), 4);
+}
