@@ -132,11 +132,14 @@ impl Plant {
         }
     }
 
+    /// The nominal kV of `bus` when it exists and is a valid voltage (so that a bad kV is
+    /// reported once, at the bus, not again at every branch).
     fn kv_of(&self, bus: &str) -> Option<f64> {
         self.buses
             .iter()
             .find(|b| b.id == bus)
             .map(|b| b.nominal_kv)
+            .filter(|kv| kv.is_finite() && *kv > 0.0)
     }
 
     fn validate_study(&self, c: &mut Collector<'_>) {

@@ -106,6 +106,7 @@ impl Scan {
         let mut series = Vec::with_capacity(ns * nc * nb);
         for s in 0..ns {
             let mut curves = vec![Vec::with_capacity(grid.orders.len()); nc * nb];
+            let mut points = Vec::with_capacity(grid.orders.len());
             for &h in &grid.orders {
                 let point = engine.point(h, s)?;
                 for (c, cfg) in configurations.iter().enumerate() {
@@ -114,11 +115,12 @@ impl Scan {
                         curves[c * nb + b].push(z[pos[b]] * z_base[b]);
                     }
                 }
+                points.push(point);
             }
             for (idx, z_ohm) in curves.into_iter().enumerate() {
                 let (c, b) = (idx / nb, idx % nb);
                 let eval = |h: f64| -> Result<(Complex64, Complex64), SolveError> {
-                    let p = engine.point(h, s)?;
+                    let p = near(&grid.orders, &points, h, engine);
                     let z = checked(&p, &configurations[c].steps, h, s, engine)?;
                     let z0 = checked(&p, &[], h, s, engine)?;
                     Ok((z[pos[b]] * z_base[b], z0[pos[b]] * z_base[b]))
@@ -144,6 +146,19 @@ impl Scan {
             series,
         })
     }
+}
+
+/// The point solution at order `h` interpolated through the four grid solutions around it.
+fn near(orders: &[f64], points: &[PointSolution], h: f64, engine: &Engine<'_>) -> PointSolution {
+    let n = orders.len();
+    if n < 4 {
+        let idx: Vec<&PointSolution> = points.iter().collect();
+        return PointSolution::interpolate(&idx, h, engine.y_steps(h));
+    }
+    let i = orders.partition_point(|&o| o <= h).saturating_sub(1);
+    let start = i.saturating_sub(1).min(n - 4);
+    let idx: Vec<&PointSolution> = points[start..start + 4].iter().collect();
+    PointSolution::interpolate(&idx, h, engine.y_steps(h))
 }
 
 /// Index of network bus `bus` among the engine's buses of interest.

@@ -73,3 +73,122 @@ fn bad_configuration_exits_2() {
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("there is no bank \"C9\""));
 }
+
+fn temp_dir(tag: &str) -> std::path::PathBuf {
+    let dir = std::env::temp_dir().join(format!("overtone-{tag}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+fn case(name: &str) -> String {
+    format!("{}/cases/{name}", env!("CARGO_MANIFEST_DIR"))
+}
+
+#[test]
+fn scan_of_every_case_writes_the_contract_csv() {
+    let dir = temp_dir("cases");
+    for name in [
+        "bottling-plant.xlsx",
+        "food-plant.xlsx",
+        "water-plant.xlsx",
+        "large-site.xlsx",
+    ] {
+        let csv = dir.join(format!("{name}.csv"));
+        let path = case(name);
+        let mut args = vec!["scan", path.as_str(), "--csv", csv.to_str().unwrap()];
+        if name == "large-site.xlsx" {
+            args.extend(["--configuration", "C1=4 C3=0 C6=2 C8=1"]);
+        }
+        let out = overtone(&args);
+        assert!(
+            out.status.success(),
+            "{name}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let text = std::fs::read_to_string(&csv).unwrap();
+        assert!(
+            text.starts_with("scenario,configuration,bus,order,frequency_hz,z_ohm,angle_deg\n")
+        );
+        assert!(text.lines().count() > 1000, "{name}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn the_demo_case_gives_the_built_in_demo_results() {
+    let dir = temp_dir("demo-eq");
+    let a = dir.join("demo.csv");
+    let b = dir.join("case.csv");
+    assert!(
+        overtone(&["demo", "--scan-csv", a.to_str().unwrap()])
+            .status
+            .success()
+    );
+    assert!(
+        overtone(&[
+            "check",
+            &case("bottling-plant.xlsx"),
+            "--scan-csv",
+            b.to_str().unwrap()
+        ])
+        .status
+        .success()
+    );
+    assert_eq!(std::fs::read(&a).unwrap(), std::fs::read(&b).unwrap());
+    let demo = overtone(&["demo"]);
+    let check = overtone(&["check", &case("bottling-plant.xlsx")]);
+    assert_eq!(demo.stdout, check.stdout);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn check_prints_warnings_and_strict_exits_1_when_flagged() {
+    let out = overtone(&["check", &case("food-plant.xlsx"), "--strict"]);
+    assert_eq!(out.status.code(), Some(1));
+    let out = overtone(&["check", "tests/data/plant-13.xlsx"]);
+    assert!(out.status.success());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("warning: Loads: \"Quantity\" blank in 9 row(s): default 1 applied"),
+        "{err}"
+    );
+}
+
+#[test]
+fn bad_workbook_exits_2_and_writes_nothing() {
+    let dir = temp_dir("bad");
+    let bad = dir.join("bad.xlsx");
+    std::fs::write(&bad, b"not a workbook").unwrap();
+    let csv = dir.join("out.csv");
+    let out = overtone(&[
+        "check",
+        bad.to_str().unwrap(),
+        "--scan-csv",
+        csv.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(!csv.exists());
+    assert_eq!(
+        String::from_utf8_lossy(&out.stderr).trim_end(),
+        format!(
+            "overtone: {}: this is not a spreadsheet workbook (.xlsx, .xlsm, .xls or .ods)",
+            bad.display()
+        )
+    );
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn template_command_writes_a_readable_template() {
+    let dir = temp_dir("tpl");
+    let t = dir.join("blank.xlsx");
+    let out = overtone(&["template", t.to_str().unwrap()]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let bytes = std::fs::read(&t).unwrap();
+    assert_eq!(bytes, overtone::io::template::template_bytes().unwrap());
+    std::fs::remove_dir_all(&dir).ok();
+}

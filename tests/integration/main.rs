@@ -9,6 +9,7 @@ mod cases;
 mod cli;
 mod common;
 mod model;
+mod reader;
 mod reference_resonance;
 mod scan;
 mod solver;

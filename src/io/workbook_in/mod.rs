@@ -296,7 +296,7 @@ pub fn read_workbook_bytes(file: &str, stem: &str, bytes: &[u8]) -> Result<ReadO
                         "Loads" => &t_loads,
                         _ => &None,
                     };
-                    t.as_ref().map(|t| {
+                    t.as_ref().filter(|t| !t.is_missing(e.field)).map(|t| {
                         let cell = e
                             .index
                             .and_then(|i| t.rows.get(i))

@@ -132,13 +132,13 @@ pub fn sources(t: &Table, d: &mut Diagnostics) -> Vec<Source> {
             let short_circuit = match (mva, ka) {
                 (Some(m), None) => ShortCircuit::Mva(m),
                 (None, Some(k)) => ShortCircuit::Ka(k),
-                (Some(_), Some(_)) => {
+                (Some(m), Some(_)) => {
                     d.error(
                         &t.sheet,
                         t.cell(r, "Short-circuit kA"),
                         "give either \"Short-circuit MVA\" or \"Short-circuit kA\", not both".into(),
                     );
-                    ShortCircuit::Mva(f64::NAN)
+                    ShortCircuit::Mva(m)
                 }
                 (None, None) => {
                     d.error(
@@ -345,6 +345,13 @@ pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Loa
     t.rows
         .iter()
         .map(|r| {
+            let spectrum = t.text(r, "Spectrum", d);
+            // A stand-in type for a bad cell that raises no second error on the row.
+            let stand_in = if spectrum.is_some() {
+                LoadType::SixPulseDrive
+            } else {
+                LoadType::Linear
+            };
             let kind = match t.text(r, "Type", d) {
                 Some(s) => load_type(&s).unwrap_or_else(|| {
                     let names: Vec<&str> = LoadType::ALL.iter().map(|t| t.label()).collect();
@@ -356,7 +363,7 @@ pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Loa
                             names.join(", ")
                         ),
                     );
-                    LoadType::Linear
+                    stand_in
                 }),
                 None => {
                     d.error(
@@ -364,7 +371,7 @@ pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Loa
                         t.cell(r, "Type"),
                         "\"Type\" is required, found a blank cell".into(),
                     );
-                    LoadType::Linear
+                    stand_in
                 }
             };
             let pf = t.number(r, "Power factor", "a number above 0 and at most 1", d);
@@ -394,7 +401,7 @@ pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Loa
                         defaults.note("Loads", "Load factor", "1");
                         1.0
                     }),
-                spectrum: t.text(r, "Spectrum", d),
+                spectrum,
             }
         })
         .collect()

@@ -108,6 +108,9 @@ pub struct Table {
     pub sheet: String,
     /// Normalized header → absolute column.
     columns: HashMap<String, u32>,
+    /// Normalized headers of required columns that are absent (reported once, at the
+    /// header row, not again in every data row).
+    missing: HashSet<String>,
     pub rows: Vec<Row>,
 }
 
@@ -126,6 +129,7 @@ impl Table {
         let mut t = Table {
             sheet: sheet.to_string(),
             columns: HashMap::new(),
+            missing: HashSet::new(),
             rows: Vec::new(),
         };
         let Some((r0, c0)) = range.start() else {
@@ -190,6 +194,7 @@ impl Table {
         }
         for c in spec.iter().filter(|c| c.required) {
             if !t.columns.contains_key(&normalize(c.header)) {
+                t.missing.insert(normalize(c.header));
                 let found: Vec<String> = spec
                     .iter()
                     .filter(|s| t.columns.contains_key(&normalize(s.header)))
@@ -211,6 +216,11 @@ impl Table {
             }
         }
         t
+    }
+
+    /// Whether `header` is a required column absent from the sheet (already reported).
+    pub fn is_missing(&self, header: &str) -> bool {
+        self.missing.contains(&normalize(header))
     }
 
     /// Whether the sheet has the column with this contract header.
@@ -259,6 +269,7 @@ impl Table {
     pub fn id(&self, row: &Row, header: &str, diag: &mut Diagnostics) -> String {
         match self.text(row, header, diag) {
             Some(s) => s,
+            None if self.is_missing(header) => String::new(),
             None => {
                 diag.error(
                     &self.sheet,
@@ -310,6 +321,7 @@ impl Table {
     ) -> f64 {
         match self.number(row, header, what, diag) {
             Some(v) => v,
+            None if self.is_missing(header) => f64::NAN,
             None => {
                 diag.error(
                     &self.sheet,
