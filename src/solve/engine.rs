@@ -9,7 +9,7 @@
 
 use num_complex::Complex64;
 
-use super::{DenseLu, Factor, Symbolic};
+use super::{Factor, Symbolic};
 use crate::network::Network;
 
 /// A network that cannot be solved at some frequency.
@@ -221,60 +221,147 @@ impl PointSolution {
         self.z0(c, c)
     }
 
-    /// The correction system of one step combination: M = I + D·Z_SS and D, with
-    /// D = diag(n_b·y_b). `None` when every bank is off.
-    fn correction(&self, steps: &[u32]) -> Option<(DenseLu, Vec<Complex64>)> {
-        let k = self.bank_col.len();
-        let d: Vec<Complex64> = (0..k)
-            .map(|b| self.y_step[b] * f64::from(steps.get(b).copied().unwrap_or(0)))
-            .collect();
-        if d.iter().all(|v| *v == Complex64::new(0.0, 0.0)) {
-            return None;
-        }
-        let mut m = vec![Complex64::new(0.0, 0.0); k * k];
-        for r in 0..k {
-            for s in 0..k {
-                m[r * k + s] = d[r] * self.z0(self.bank_col[r], self.bank_col[s]);
-            }
-            m[r * k + r] += 1.0;
-        }
-        DenseLu::new(k, m).map(|lu| (lu, d))
-    }
-
     /// Transfer impedances Z_ij (per unit) between buses of interest `pairs` (indices into
     /// the engine's list of buses of interest) with `steps[b]` steps of each bank:
-    /// Z_ij = Z₀_ij − r_iᵀ·(I + D·Z_SS)⁻¹·D·r_j, r_i = Z₀ at (bank buses, i).
-    /// Returns `None` if the combination makes the network exactly singular.
+    /// Z_ij = Z₀_ij − r_iᵀ·(I + D·Z_SS)⁻¹·D·r_j, r_i = Z₀ at (bank buses, i), over the
+    /// energized banks only. `None` if the combination makes the network exactly singular.
     pub fn transfer_pu(&self, steps: &[u32], pairs: &[(usize, usize)]) -> Option<Vec<Complex64>> {
-        let corr = self.correction(steps);
-        let k = self.bank_col.len();
-        let mut out = Vec::with_capacity(pairs.len());
-        for &(i, j) in pairs {
-            let (ci, cj) = (self.interest_col[i], self.interest_col[j]);
-            let base = self.z0(ci, cj);
-            match &corr {
-                None => out.push(base),
-                Some((lu, d)) => {
-                    let rhs: Vec<Complex64> = (0..k)
-                        .map(|b| d[b] * self.z0(self.bank_col[b], cj))
-                        .collect();
-                    let w = lu.solve(&rhs);
-                    let dz: Complex64 = (0..k).map(|b| self.z0(ci, self.bank_col[b]) * w[b]).sum();
-                    out.push(base - dz);
-                }
-            }
+        let mut scratch = Scratch::default();
+        if !self.prepare(steps, &mut scratch) {
+            return None;
         }
-        if out.iter().all(|z| z.re.is_finite() && z.im.is_finite()) {
-            Some(out)
-        } else {
-            None
-        }
+        let out: Vec<Complex64> = pairs
+            .iter()
+            .map(|&(i, j)| self.corrected(&mut scratch, self.interest_col[i], self.interest_col[j]))
+            .collect();
+        out.iter()
+            .all(|z| z.re.is_finite() && z.im.is_finite())
+            .then_some(out)
     }
 
     /// Driving-point impedances Z_ii (per unit) at every bus of interest with `steps[b]`
     /// steps of each bank; `None` if the combination is exactly singular.
     pub fn driving_point_pu(&self, steps: &[u32]) -> Option<Vec<Complex64>> {
-        let pairs: Vec<(usize, usize)> = (0..self.interest_col.len()).map(|i| (i, i)).collect();
-        self.transfer_pu(steps, &pairs)
+        let mut out = vec![Complex64::new(0.0, 0.0); self.interest_col.len()];
+        let mut scratch = Scratch::default();
+        self.driving_point_into(steps, &mut scratch, &mut out)
+            .then_some(out)
     }
+
+    /// [`PointSolution::driving_point_pu`] into `out` (one value per bus of interest)
+    /// without allocating once `scratch` has grown; false if the combination is singular.
+    pub fn driving_point_into(
+        &self,
+        steps: &[u32],
+        scratch: &mut Scratch,
+        out: &mut [Complex64],
+    ) -> bool {
+        if !self.prepare(steps, scratch) {
+            return false;
+        }
+        for (o, &ci) in out.iter_mut().zip(&self.interest_col) {
+            *o = self.corrected(scratch, ci, ci);
+            if !(o.re.is_finite() && o.im.is_finite()) {
+                return false;
+            }
+        }
+        true
+    }
+
+    /// Builds and factors M = I + D·Z_SS over the energized banks (LU with partial
+    /// pivoting, in `scratch`); false when M is singular.
+    fn prepare(&self, steps: &[u32], sc: &mut Scratch) -> bool {
+        sc.active.clear();
+        sc.d.clear();
+        for (b, y) in self.y_step.iter().enumerate() {
+            let n = steps.get(b).copied().unwrap_or(0);
+            if n > 0 {
+                sc.active.push(self.bank_col[b]);
+                sc.d.push(*y * f64::from(n));
+            }
+        }
+        let k = sc.active.len();
+        sc.m.clear();
+        for r in 0..k {
+            for s in 0..k {
+                let v = sc.d[r] * self.z0(sc.active[r], sc.active[s]);
+                sc.m.push(if r == s { v + 1.0 } else { v });
+            }
+        }
+        sc.piv.clear();
+        sc.piv.extend(0..k);
+        let m = &mut sc.m;
+        for c in 0..k {
+            let mut best = c;
+            let mut best_norm = m[c * k + c].norm();
+            for r in c + 1..k {
+                let v = m[r * k + c].norm();
+                if v > best_norm {
+                    best = r;
+                    best_norm = v;
+                }
+            }
+            if !(best_norm.is_finite() && best_norm > 0.0) {
+                return false;
+            }
+            if best != c {
+                for j in 0..k {
+                    m.swap(c * k + j, best * k + j);
+                }
+                sc.piv.swap(c, best);
+            }
+            let inv = m[c * k + c].inv();
+            for r in c + 1..k {
+                let f = m[r * k + c] * inv;
+                m[r * k + c] = f;
+                for j in c + 1..k {
+                    let u = m[c * k + j];
+                    m[r * k + j] -= f * u;
+                }
+            }
+        }
+        true
+    }
+
+    /// Z₀_ij − r_iᵀ·M⁻¹·D·r_j with M factored by [`PointSolution::prepare`].
+    fn corrected(&self, sc: &mut Scratch, ci: usize, cj: usize) -> Complex64 {
+        let k = sc.active.len();
+        let base = self.z0(ci, cj);
+        if k == 0 {
+            return base;
+        }
+        sc.rhs.clear();
+        for &p in &sc.piv {
+            sc.rhs.push(sc.d[p] * self.z0(sc.active[p], cj));
+        }
+        let m = &sc.m;
+        let x = &mut sc.rhs;
+        for r in 0..k {
+            for j in 0..r {
+                let l = m[r * k + j];
+                let xj = x[j];
+                x[r] -= l * xj;
+            }
+        }
+        for r in (0..k).rev() {
+            for j in r + 1..k {
+                let u = m[r * k + j];
+                let xj = x[j];
+                x[r] -= u * xj;
+            }
+            x[r] /= m[r * k + r];
+        }
+        let dz: Complex64 = (0..k).map(|a| self.z0(ci, sc.active[a]) * x[a]).sum();
+        base - dz
+    }
+}
+
+/// Reusable buffers of the step-combination correction.
+#[derive(Debug, Clone, Default)]
+pub struct Scratch {
+    active: Vec<usize>,
+    d: Vec<Complex64>,
+    m: Vec<Complex64>,
+    rhs: Vec<Complex64>,
+    piv: Vec<usize>,
 }

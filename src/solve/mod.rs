@@ -1,18 +1,16 @@
 //! Linear algebra of the harmonic network: a sparse LDLᵀ factorization of the complex
 //! symmetric admittance matrix Y(h) whose ordering and symbolic analysis are done once per
-//! network ([`Symbolic`]) and reused at every scan point ([`Factor`]), a small dense LU for
-//! the capacitor-step corrections ([`DenseLu`]), and the per-point engine that turns them
-//! into driving-point and transfer impedances ([`Engine`]).
+//! network ([`Symbolic`]) and reused at every scan point ([`Factor`]), and the per-point
+//! engine that turns it into driving-point and transfer impedances and applies capacitor-step
+//! combinations as small dense corrections ([`Engine`], [`PointSolution`]).
 //!
 //! Why our own elimination rather than a general sparse LU: Y(h) is complex symmetric
 //! (not Hermitian) and, for the passive networks studied, factors stably without pivoting,
 //! so an LDLᵀ with a minimum-degree order computed once costs O(buses) per point on radial
 //! networks with no fill and no run-time pattern work; see DEVELOPERS.md for the figures.
 
-mod dense;
 mod engine;
 mod sparse;
 
-pub use dense::DenseLu;
-pub use engine::{Engine, PointSolution, SolveError};
+pub use engine::{Engine, PointSolution, Scratch, SolveError};
 pub use sparse::{Factor, SingularPivot, Symbolic};

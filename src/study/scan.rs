@@ -7,7 +7,7 @@ use num_complex::Complex64;
 use serde::Serialize;
 
 use super::Configuration;
-use crate::solve::{Engine, PointSolution, SolveError};
+use crate::solve::{Engine, PointSolution, Scratch, SolveError};
 
 /// The scan grid: orders 1 + i·step up to the highest order, which is included even when
 /// it is off the grid (input contract, "Outputs that other tools read").
@@ -107,10 +107,14 @@ impl Scan {
         for s in 0..ns {
             let mut curves = vec![Vec::with_capacity(grid.orders.len()); nc * nb];
             let mut points = Vec::with_capacity(grid.orders.len());
+            let mut scratch = Scratch::default();
+            let mut z = vec![Complex64::new(0.0, 0.0); engine.interest().len()];
             for &h in &grid.orders {
                 let point = engine.point(h, s)?;
                 for (c, cfg) in configurations.iter().enumerate() {
-                    let z = checked(&point, &cfg.steps, h, s, engine)?;
+                    if !point.driving_point_into(&cfg.steps, &mut scratch, &mut z) {
+                        return Err(singular(engine, s, h));
+                    }
                     for b in 0..nb {
                         curves[c * nb + b].push(z[pos[b]] * z_base[b]);
                     }
@@ -170,6 +174,14 @@ fn engine_interest(engine: &Engine<'_>, bus: usize) -> usize {
         .unwrap_or(0)
 }
 
+fn singular(engine: &Engine<'_>, scenario: usize, order: f64) -> SolveError {
+    SolveError::Singular {
+        scenario: engine.network().scenarios[scenario].name.clone(),
+        order,
+        bus: String::new(),
+    }
+}
+
 fn checked(
     p: &PointSolution,
     steps: &[u32],
@@ -178,11 +190,7 @@ fn checked(
     engine: &Engine<'_>,
 ) -> Result<Vec<Complex64>, SolveError> {
     p.driving_point_pu(steps)
-        .ok_or_else(|| SolveError::Singular {
-            scenario: engine.network().scenarios[scenario].name.clone(),
-            order,
-            bus: String::new(),
-        })
+        .ok_or_else(|| singular(engine, scenario, order))
 }
 
 /// Width below which golden-section refinement stops, in harmonic order (the result is then
