@@ -36,6 +36,9 @@ pub enum CheckError {
 pub struct CheckOptions {
     /// Extra buses to scan (ids), beyond the PCC and the bank buses.
     pub buses: Vec<String>,
+    /// Configurations to study (labels such as `C1=2 C2=0`); empty = every combination of
+    /// studied steps. `none`, the reference, is always studied.
+    pub configurations: Vec<String>,
 }
 
 /// Everything the studies found.
@@ -68,7 +71,7 @@ impl CheckResults {
 pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, CheckError> {
     plant.validate()?;
     let count = configuration_count(&plant.banks);
-    if count > MAX_CONFIGURATIONS {
+    if options.configurations.is_empty() && count > MAX_CONFIGURATIONS {
         return Err(CheckError::TooManyConfigurations { count });
     }
     let network = Network::build(plant)?;
@@ -90,7 +93,18 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
             buses.push(i);
         }
     }
-    let mut configurations: Vec<Configuration> = all_configurations(&plant.banks);
+    let mut configurations: Vec<Configuration> = if options.configurations.is_empty() {
+        all_configurations(&plant.banks)
+    } else {
+        let mut chosen = Vec::new();
+        for text in &options.configurations {
+            let c = crate::study::parse_configuration(text, &plant.banks)?;
+            if !chosen.contains(&c) {
+                chosen.push(c);
+            }
+        }
+        chosen
+    };
     let none = Configuration::none(plant.banks.len());
     if !configurations.contains(&none) {
         configurations.push(none);

@@ -106,7 +106,11 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
         Command::Check { plant, out } => study(&load(&plant)?, &out),
         Command::Scan { plant, csv, select } => {
             let plant = load(&plant)?;
-            let res = checked(&plant, &select)?;
+            let options = CheckOptions {
+                buses: select.buses.clone(),
+                configurations: select.configurations.clone(),
+            };
+            let res = run_check(&plant, &options)?;
             match csv {
                 Some(path) => {
                     let sel = selection(&res, &select.buses, &select.configurations)?;
@@ -126,6 +130,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
 fn checked(plant: &Plant, select: &Select) -> Result<CheckResults, Failure> {
     let options = CheckOptions {
         buses: select.buses.clone(),
+        configurations: Vec::new(),
     };
     Ok(run_check(plant, &options)?)
 }

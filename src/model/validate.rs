@@ -1,6 +1,6 @@
 //! Checks a [`Plant`] once, collecting every problem, each naming the element and field.
 
-use std::collections::HashSet;
+use std::collections::{HashMap, HashSet};
 use std::fmt;
 
 use super::{LoadType, Plant, Reactor, ShortCircuit};
@@ -40,6 +40,8 @@ impl fmt::Display for ModelError {
 pub struct ModelErrors(pub Vec<ModelError>);
 
 struct Collector<'a> {
+    /// Nominal kV of each valid bus, by id.
+    bus_kv: HashMap<&'a str, f64>,
     errors: Vec<ModelError>,
     /// Index of the element being checked.
     index: Option<usize>,
@@ -111,6 +113,12 @@ impl Plant {
     /// Checks the whole plant and returns every problem found, or `Ok(())`.
     pub fn validate(&self) -> Result<(), ModelErrors> {
         let mut c = Collector {
+            bus_kv: self
+                .buses
+                .iter()
+                .filter(|b| b.nominal_kv.is_finite() && b.nominal_kv > 0.0)
+                .map(|b| (b.id.as_str(), b.nominal_kv))
+                .collect(),
             errors: Vec::new(),
             index: None,
             bus_ids: self.buses.iter().map(|b| b.id.as_str()).collect(),
@@ -130,16 +138,6 @@ impl Plant {
         } else {
             Err(ModelErrors(c.errors))
         }
-    }
-
-    /// The nominal kV of `bus` when it exists and is a valid voltage (so that a bad kV is
-    /// reported once, at the bus, not again at every branch).
-    fn kv_of(&self, bus: &str) -> Option<f64> {
-        self.buses
-            .iter()
-            .find(|b| b.id == bus)
-            .map(|b| b.nominal_kv)
-            .filter(|kv| kv.is_finite() && *kv > 0.0)
     }
 
     fn validate_study(&self, c: &mut Collector<'_>) {
@@ -258,7 +256,10 @@ impl Plant {
             c.positive(TX, &t.id, "kVA", t.kva);
             c.positive(TX, &t.id, "Impedance", t.impedance_percent);
             c.positive(TX, &t.id, "X/R", t.x_over_r);
-            if let (Some(hv), Some(lv)) = (self.kv_of(&t.hv_bus), self.kv_of(&t.lv_bus)) {
+            if let (Some(&hv), Some(&lv)) = (
+                c.bus_kv.get(t.hv_bus.as_str()),
+                c.bus_kv.get(t.lv_bus.as_str()),
+            ) {
                 if t.hv_bus == t.lv_bus {
                     c.push(
                         TX,
@@ -299,8 +300,10 @@ impl Plant {
                     "To bus",
                     "must differ from the from bus".to_string(),
                 );
-            } else if let (Some(a), Some(b)) = (self.kv_of(&k.from_bus), self.kv_of(&k.to_bus))
-                && a != b
+            } else if let (Some(&a), Some(&b)) = (
+                c.bus_kv.get(k.from_bus.as_str()),
+                c.bus_kv.get(k.to_bus.as_str()),
+            ) && a != b
             {
                 c.push(
                     CB,

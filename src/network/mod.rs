@@ -88,9 +88,16 @@ impl Network {
                 z_base_ohm: b.nominal_kv * b.nominal_kv / BASE_MVA,
             })
             .collect();
+        let index: std::collections::HashMap<&str, usize> = plant
+            .buses
+            .iter()
+            .enumerate()
+            .map(|(i, b)| (b.id.as_str(), i))
+            .collect();
         let find = |id: &str, element: &str| {
-            plant
-                .bus_index(id)
+            index
+                .get(id)
+                .copied()
                 .ok_or_else(|| TopologyError::UnknownBus {
                     element: element.to_string(),
                     bus: id.to_string(),

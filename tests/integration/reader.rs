@@ -40,6 +40,7 @@ fn contract_example(plant: &str, buses: &[&str], configurations: &[&str]) {
         &read.plant,
         &CheckOptions {
             buses: buses.clone(),
+            configurations: configs.clone(),
         },
     )
     .expect("runs");
