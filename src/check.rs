@@ -32,13 +32,15 @@ pub enum CheckError {
 }
 
 /// What the engineer asked for beyond the defaults.
-#[derive(Debug, Clone, Default)]
+#[derive(Clone, Default)]
 pub struct CheckOptions {
     /// Extra buses to scan (ids), beyond the PCC and the bank buses.
     pub buses: Vec<String>,
     /// Configurations to study (labels such as `C1=2 C2=0`); empty = every combination of
     /// studied steps. `none`, the reference, is always studied.
     pub configurations: Vec<String>,
+    /// Called with (done, total) as the scan advances; `None` = silent.
+    pub progress: Option<std::sync::Arc<dyn Fn(u64, u64) + Send + Sync>>,
 }
 
 /// Everything the studies found.
@@ -111,7 +113,12 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
     }
     let engine = Engine::new(&network, &buses);
     let grid = ScanGrid::new(plant.study.highest_order, plant.study.scan_step_order);
-    let scan = Scan::run(&engine, grid, configurations, buses)?;
+    let quiet = |_: u64, _: u64| {};
+    let progress: &(dyn Fn(u64, u64) + Sync) = match &options.progress {
+        Some(p) => p.as_ref(),
+        None => &quiet,
+    };
+    let scan = Scan::run(&engine, grid, configurations, progress)?;
     let resonance = ResonanceStudy::run(plant, &network, &engine, &scan)?;
     Ok(CheckResults {
         plant: plant.clone(),

@@ -7,7 +7,11 @@ use std::path::PathBuf;
 use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
-use overtone::check::{CheckOptions, CheckResults, run_check};
+use std::sync::Arc;
+use std::time::Instant;
+
+use indicatif::{ProgressBar, ProgressStyle};
+use overtone::check::{CheckOptions, run_check};
 use overtone::io::csv::{selection, write_scan_file};
 use overtone::io::workbook_in::read_workbook;
 use overtone::model::Plant;
@@ -44,6 +48,9 @@ struct Outputs {
     /// Exit with status 1 when any configuration is flagged.
     #[arg(long)]
     strict: bool,
+    /// No progress bar.
+    #[arg(long)]
+    quiet: bool,
     #[command(flatten)]
     select: Select,
 }
@@ -106,11 +113,10 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
         Command::Check { plant, out } => study(&load(&plant)?, &out),
         Command::Scan { plant, csv, select } => {
             let plant = load(&plant)?;
-            let options = CheckOptions {
-                buses: select.buses.clone(),
-                configurations: select.configurations.clone(),
-            };
-            let res = run_check(&plant, &options)?;
+            let (options, bar) = options(&select, select.configurations.clone(), false);
+            let res = run_check(&plant, &options);
+            bar.finish_and_clear();
+            let res = res?;
             match csv {
                 Some(path) => {
                     let sel = selection(&res, &select.buses, &select.configurations)?;
@@ -127,16 +133,35 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
     }
 }
 
-fn checked(plant: &Plant, select: &Select) -> Result<CheckResults, Failure> {
+/// Study options with a progress bar on stderr that appears once a study has run for a
+/// second (hidden with `quiet` or when stderr is not a terminal).
+fn options(select: &Select, configurations: Vec<String>, quiet: bool) -> (CheckOptions, ProgressBar) {
+    let bar = if quiet { ProgressBar::hidden() } else { ProgressBar::new(0) };
+    bar.set_style(
+        ProgressStyle::with_template("scanning {bar:40} {pos}/{len} blocks, {eta} left")
+            .unwrap_or_else(|_| ProgressStyle::default_bar()),
+    );
+    let start = Instant::now();
+    let handle = bar.clone();
+    let progress = move |done: u64, total: u64| {
+        if start.elapsed().as_secs_f64() > 1.0 {
+            handle.set_length(total);
+            handle.set_position(done);
+        }
+    };
     let options = CheckOptions {
         buses: select.buses.clone(),
-        configurations: Vec::new(),
+        configurations,
+        progress: Some(Arc::new(progress)),
     };
-    Ok(run_check(plant, &options)?)
+    (options, bar)
 }
 
 fn study(plant: &Plant, out: &Outputs) -> Result<ExitCode, Failure> {
-    let res = checked(plant, &out.select)?;
+    let (options, bar) = options(&out.select, Vec::new(), out.quiet);
+    let res = run_check(plant, &options);
+    bar.finish_and_clear();
+    let res = res?;
     let sel = selection(&res, &out.select.buses, &out.select.configurations)?;
     if let Some(path) = &out.scan_csv {
         write_scan_file(path, &res, &sel)?;

@@ -63,8 +63,10 @@ pub fn write_scan_csv(
             let label = res.label(c);
             for &b in &buses {
                 let bus = &res.network.buses[res.scan.buses[b]].id;
-                let series = res.scan.series(s, c, b);
-                for (h, z) in res.scan.grid.orders.iter().zip(&series.z_ohm) {
+                let Some(curve) = res.scan.curve(s, c, b) else {
+                    continue;
+                };
+                for (h, z) in res.scan.grid.orders.iter().zip(&curve) {
                     writeln!(
                         out,
                         "{},{},{},{:?},{:?},{:?},{:?}",

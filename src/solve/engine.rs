@@ -41,19 +41,153 @@ pub struct Engine<'a> {
     interest: Vec<usize>,
 }
 
-/// Z₀ at one scan point and scenario, restricted to the bank buses and buses of interest,
-/// and the bank step admittances: everything needed to evaluate any step combination.
+/// Z₀ at one scan point and scenario, restricted to what any step combination needs: among
+/// the bank buses (k×k), between the buses of interest and the bank buses (m×k), and at each
+/// bus of interest (m), plus the bank step admittances.
 #[derive(Debug, Clone)]
 pub struct PointSolution {
     /// Harmonic order of the point.
     pub order: f64,
-    /// Z₀ among the solved columns, per unit, row-major c×c (symmetric).
-    z0: Vec<Complex64>,
-    c: usize,
-    bank_col: Vec<usize>,
-    interest_col: Vec<usize>,
+    state: State,
     /// One step's admittance of each bank, per unit.
     y_step: Vec<Complex64>,
+}
+
+/// The impedances a step combination updates, per unit.
+#[derive(Debug, Clone, Default)]
+struct State {
+    k: usize,
+    m: usize,
+    /// Bank bus × bank bus, k×k row-major.
+    zss: Vec<Complex64>,
+    /// Bus of interest × bank bus, m×k row-major.
+    zis: Vec<Complex64>,
+    /// Driving point at each bus of interest.
+    zii: Vec<Complex64>,
+}
+
+impl State {
+    /// Adds the shunt admittance y at the bus of bank `a` by the Sherman–Morrison update
+    /// Z′ = Z − Z[:,a]·Z[a,:]·y / (1 + y·Z[a,a]) (Z symmetric), keeping only the entries that
+    /// banks after `a` and the buses of interest still need. False when 1 + y·Z[a,a] = 0
+    /// (the combination is exactly singular).
+    fn add_into(&self, a: usize, y: Complex64, to: &mut State) -> bool {
+        let (k, m) = (self.k, self.m);
+        let denom = 1.0 + y * self.zss[a * k + a];
+        if !(denom.norm() > 1e-300 && denom.re.is_finite() && denom.im.is_finite()) {
+            return false;
+        }
+        let f = y / denom;
+        to.k = k;
+        to.m = m;
+        to.zss.resize(k * k, Complex64::default());
+        to.zis.resize(m * k, Complex64::default());
+        to.zii.resize(m, Complex64::default());
+        for i in a + 1..k {
+            let zia = self.zss[i * k + a] * f;
+            for j in a + 1..k {
+                to.zss[i * k + j] = self.zss[i * k + j] - zia * self.zss[a * k + j];
+            }
+        }
+        for p in 0..m {
+            let zpa = self.zis[p * k + a];
+            let g = zpa * f;
+            for j in a + 1..k {
+                to.zis[p * k + j] = self.zis[p * k + j] - g * self.zss[a * k + j];
+            }
+            to.zii[p] = self.zii[p] - g * zpa;
+        }
+        true
+    }
+
+    /// Driving points at the buses of interest after adding y at bank `a` (the last update
+    /// of a combination: only the diagonal is needed).
+    fn leaf(&self, a: usize, y: Complex64, out: &mut [Complex64]) -> bool {
+        let k = self.k;
+        let denom = 1.0 + y * self.zss[a * k + a];
+        if !(denom.norm() > 1e-300 && denom.re.is_finite() && denom.im.is_finite()) {
+            return false;
+        }
+        let f = y / denom;
+        for (p, o) in out.iter_mut().enumerate() {
+            let zpa = self.zis[p * k + a];
+            *o = self.zii[p] - zpa * zpa * f;
+        }
+        true
+    }
+}
+
+/// Reusable buffers for evaluating step combinations: one state per bank level.
+#[derive(Debug, Clone, Default)]
+pub struct Scratch {
+    levels: Vec<State>,
+}
+
+/// One step of a [`ComboPlan`].
+#[derive(Debug, Clone, Copy)]
+enum Op {
+    /// levels[bank + 1] = levels[bank] with `n` steps of `bank` added.
+    Apply { bank: usize, n: u32 },
+    /// Output `slot` = driving points of levels[bank] with `n` steps of `bank` added.
+    Leaf { bank: usize, n: u32, slot: usize },
+    /// Output `slot` = driving points without any bank (a plant with no banks).
+    Bare { slot: usize },
+}
+
+/// A depth-first plan over a set of step combinations: combinations sorted by their step
+/// counts share every bank update of their common prefix, so per scan point a full set of
+/// N combinations of k banks costs about N·m + (N / s)·(k² + m·k) operations (s the steps
+/// of the last bank) instead of N·k³.
+#[derive(Debug, Clone)]
+pub struct ComboPlan {
+    ops: Vec<Op>,
+    slots: usize,
+}
+
+impl ComboPlan {
+    /// The plan for `combos` (step counts per bank, each of the same length k); output slot
+    /// i belongs to `combos[i]`.
+    pub fn new(combos: &[&[u32]]) -> Self {
+        let mut order: Vec<usize> = (0..combos.len()).collect();
+        order.sort_by(|&a, &b| combos[a].cmp(combos[b]));
+        let mut ops = Vec::new();
+        let mut prev: Option<&[u32]> = None;
+        for &slot in &order {
+            let steps = combos[slot];
+            let k = steps.len();
+            if k == 0 {
+                ops.push(Op::Bare { slot });
+                continue;
+            }
+            let first = match prev {
+                None => 0,
+                Some(p) => p.iter().zip(steps).position(|(a, b)| a != b).unwrap_or(k - 1),
+            };
+            for (bank, &n) in steps.iter().enumerate().take(k - 1).skip(first) {
+                ops.push(Op::Apply { bank, n });
+            }
+            ops.push(Op::Leaf {
+                bank: k - 1,
+                n: steps[k - 1],
+                slot,
+            });
+            prev = Some(steps);
+        }
+        ComboPlan {
+            ops,
+            slots: combos.len(),
+        }
+    }
+
+    /// Number of combinations (output slots).
+    pub fn len(&self) -> usize {
+        self.slots
+    }
+
+    /// True when the plan holds no combination.
+    pub fn is_empty(&self) -> bool {
+        self.slots == 0
+    }
 }
 
 impl<'a> Engine<'a> {
@@ -168,14 +302,47 @@ impl<'a> Engine<'a> {
                 z0[i * c + j] = rhs[row];
             }
         }
+        let (k, m) = (self.bank_col.len(), self.interest_col.len());
+        let mut state = State {
+            k,
+            m,
+            zss: Vec::with_capacity(k * k),
+            zis: Vec::with_capacity(m * k),
+            zii: Vec::with_capacity(m),
+        };
+        for &a in &self.bank_col {
+            for &b in &self.bank_col {
+                state.zss.push(z0[a * c + b]);
+            }
+        }
+        for &p in &self.interest_col {
+            for &b in &self.bank_col {
+                state.zis.push(z0[p * c + b]);
+            }
+            state.zii.push(z0[p * c + p]);
+        }
         Ok(PointSolution {
             order,
-            z0,
-            c,
-            bank_col: self.bank_col.clone(),
-            interest_col: self.interest_col.clone(),
+            state,
             y_step: self.y_steps(order),
         })
+    }
+
+    /// Z_ij (per unit) between any two buses with `steps` bank steps energized, by a full
+    /// factorization (the reference the compensation method is checked against).
+    pub fn impedance_pu(
+        &self,
+        order: f64,
+        scenario: usize,
+        steps: &[u32],
+        i: usize,
+        j: usize,
+    ) -> Result<Complex64, SolveError> {
+        let f = self.factor(order, scenario, steps)?;
+        let mut rhs = vec![Complex64::new(0.0, 0.0); self.sym.n()];
+        rhs[j] = Complex64::new(1.0, 0.0);
+        self.solve(&f, &mut rhs);
+        Ok(rhs[i])
     }
 }
 
@@ -187,8 +354,14 @@ impl PointSolution {
     /// far better than the 0.001-order refinement needs (checked against exact solutions in
     /// the tests).
     pub fn interpolate(near: &[&PointSolution], order: f64, y_step: Vec<Complex64>) -> Self {
-        let first = near[0];
-        let mut z0 = vec![Complex64::new(0.0, 0.0); first.z0.len()];
+        let first = &near[0].state;
+        let mut state = State {
+            k: first.k,
+            m: first.m,
+            zss: vec![Complex64::default(); first.zss.len()],
+            zis: vec![Complex64::default(); first.zis.len()],
+            zii: vec![Complex64::default(); first.zii.len()],
+        };
         for (a, pa) in near.iter().enumerate() {
             let mut w = 1.0;
             for (b, pb) in near.iter().enumerate() {
@@ -196,172 +369,107 @@ impl PointSolution {
                     w *= (order - pb.order) / (pa.order - pb.order);
                 }
             }
-            for (acc, v) in z0.iter_mut().zip(&pa.z0) {
-                *acc += v * w;
-            }
+            let add = |acc: &mut [Complex64], v: &[Complex64]| {
+                for (x, y) in acc.iter_mut().zip(v) {
+                    *x += y * w;
+                }
+            };
+            add(&mut state.zss, &pa.state.zss);
+            add(&mut state.zis, &pa.state.zis);
+            add(&mut state.zii, &pa.state.zii);
         }
         PointSolution {
             order,
-            z0,
-            c: first.c,
-            bank_col: first.bank_col.clone(),
-            interest_col: first.interest_col.clone(),
+            state,
             y_step,
         }
     }
 
-    fn z0(&self, i: usize, j: usize) -> Complex64 {
-        self.z0[i * self.c + j]
+    /// The same point restricted to bus of interest `p` alone (m = 1): what refining one
+    /// curve needs.
+    pub fn for_bus(&self, p: usize) -> PointSolution {
+        let k = self.state.k;
+        PointSolution {
+            order: self.order,
+            state: State {
+                k,
+                m: 1,
+                zss: self.state.zss.clone(),
+                zis: self.state.zis[p * k..(p + 1) * k].to_vec(),
+                zii: vec![self.state.zii[p]],
+            },
+            y_step: self.y_step.clone(),
+        }
+    }
+
+    /// Z₀ (no banks) at bus of interest `p`, per unit.
+    pub fn z0_pu(&self, p: usize) -> Complex64 {
+        self.state.zii[p]
     }
 
     /// Z₀ (no banks) at the bus of bank `b`, per unit: the driving-point impedance that the
     /// bank sees from the rest of the network.
     pub fn bank_bus_z0_pu(&self, b: usize) -> Complex64 {
-        let c = self.bank_col[b];
-        self.z0(c, c)
-    }
-
-    /// Transfer impedances Z_ij (per unit) between buses of interest `pairs` (indices into
-    /// the engine's list of buses of interest) with `steps[b]` steps of each bank:
-    /// Z_ij = Z₀_ij − r_iᵀ·(I + D·Z_SS)⁻¹·D·r_j, r_i = Z₀ at (bank buses, i), over the
-    /// energized banks only. `None` if the combination makes the network exactly singular.
-    pub fn transfer_pu(&self, steps: &[u32], pairs: &[(usize, usize)]) -> Option<Vec<Complex64>> {
-        let mut scratch = Scratch::default();
-        if !self.prepare(steps, &mut scratch) {
-            return None;
-        }
-        let out: Vec<Complex64> = pairs
-            .iter()
-            .map(|&(i, j)| self.corrected(&mut scratch, self.interest_col[i], self.interest_col[j]))
-            .collect();
-        out.iter()
-            .all(|z| z.re.is_finite() && z.im.is_finite())
-            .then_some(out)
+        self.state.zss[b * self.state.k + b]
     }
 
     /// Driving-point impedances Z_ii (per unit) at every bus of interest with `steps[b]`
     /// steps of each bank; `None` if the combination is exactly singular.
     pub fn driving_point_pu(&self, steps: &[u32]) -> Option<Vec<Complex64>> {
-        let mut out = vec![Complex64::new(0.0, 0.0); self.interest_col.len()];
+        let mut out = vec![Complex64::new(0.0, 0.0); self.state.m];
         let mut scratch = Scratch::default();
         self.driving_point_into(steps, &mut scratch, &mut out)
             .then_some(out)
     }
 
-    /// [`PointSolution::driving_point_pu`] into `out` (one value per bus of interest)
-    /// without allocating once `scratch` has grown; false if the combination is singular.
+    /// [`PointSolution::driving_point_pu`] into `out` (one value per bus of interest),
+    /// applying the energized banks one by one (sequential Sherman–Morrison updates, equal
+    /// to the Woodbury correction Z = Z₀ − Z₀P·(I + D·PᵀZ₀P)⁻¹·D·PᵀZ₀); false if singular.
     pub fn driving_point_into(
         &self,
         steps: &[u32],
         scratch: &mut Scratch,
         out: &mut [Complex64],
     ) -> bool {
-        if !self.prepare(steps, scratch) {
-            return false;
-        }
-        for (o, &ci) in out.iter_mut().zip(&self.interest_col) {
-            *o = self.corrected(scratch, ci, ci);
-            if !(o.re.is_finite() && o.im.is_finite()) {
-                return false;
-            }
-        }
-        true
+        let plan = ComboPlan::new(&[steps]);
+        self.evaluate(&plan, scratch, out)
     }
 
-    /// Builds and factors M = I + D·Z_SS over the energized banks (LU with partial
-    /// pivoting, in `scratch`); false when M is singular.
-    fn prepare(&self, steps: &[u32], sc: &mut Scratch) -> bool {
-        sc.active.clear();
-        sc.d.clear();
-        for (b, y) in self.y_step.iter().enumerate() {
-            let n = steps.get(b).copied().unwrap_or(0);
-            if n > 0 {
-                sc.active.push(self.bank_col[b]);
-                sc.d.push(*y * f64::from(n));
-            }
-        }
-        let k = sc.active.len();
-        sc.m.clear();
-        for r in 0..k {
-            for s in 0..k {
-                let v = sc.d[r] * self.z0(sc.active[r], sc.active[s]);
-                sc.m.push(if r == s { v + 1.0 } else { v });
-            }
-        }
-        sc.piv.clear();
-        sc.piv.extend(0..k);
-        let m = &mut sc.m;
-        for c in 0..k {
-            let mut best = c;
-            let mut best_norm = m[c * k + c].norm();
-            for r in c + 1..k {
-                let v = m[r * k + c].norm();
-                if v > best_norm {
-                    best = r;
-                    best_norm = v;
+    /// Evaluates every combination of `plan`: `out` holds, slot after slot, the driving
+    /// points at the buses of interest (slots × m values). False if any is singular.
+    pub fn evaluate(&self, plan: &ComboPlan, scratch: &mut Scratch, out: &mut [Complex64]) -> bool {
+        let (k, m) = (self.state.k, self.state.m);
+        scratch.levels.resize_with(k + 1, State::default);
+        let (first, rest) = scratch.levels.split_at_mut(1);
+        first[0].clone_from(&self.state);
+        for op in &plan.ops {
+            match *op {
+                Op::Bare { slot } => out[slot * m..(slot + 1) * m].copy_from_slice(&first[0].zii),
+                Op::Apply { bank, n } => {
+                    // Read level `bank`, write level `bank + 1`.
+                    let (read, write) = if bank == 0 {
+                        (&first[0], &mut rest[0])
+                    } else {
+                        let (lo, hi) = rest.split_at_mut(bank);
+                        (&lo[bank - 1], &mut hi[0])
+                    };
+                    if n == 0 {
+                        write.clone_from(read);
+                    } else if !read.add_into(bank, self.y_step[bank] * f64::from(n), write) {
+                        return false;
+                    }
                 }
-            }
-            if !(best_norm.is_finite() && best_norm > 0.0) {
-                return false;
-            }
-            if best != c {
-                for j in 0..k {
-                    m.swap(c * k + j, best * k + j);
-                }
-                sc.piv.swap(c, best);
-            }
-            let inv = m[c * k + c].inv();
-            for r in c + 1..k {
-                let f = m[r * k + c] * inv;
-                m[r * k + c] = f;
-                for j in c + 1..k {
-                    let u = m[c * k + j];
-                    m[r * k + j] -= f * u;
+                Op::Leaf { bank, n, slot } => {
+                    let read = if bank == 0 { &first[0] } else { &rest[bank - 1] };
+                    let dst = &mut out[slot * m..(slot + 1) * m];
+                    if n == 0 {
+                        dst.copy_from_slice(&read.zii);
+                    } else if !read.leaf(bank, self.y_step[bank] * f64::from(n), dst) {
+                        return false;
+                    }
                 }
             }
         }
-        true
+        out.iter().all(|z| z.re.is_finite() && z.im.is_finite())
     }
-
-    /// Z₀_ij − r_iᵀ·M⁻¹·D·r_j with M factored by [`PointSolution::prepare`].
-    fn corrected(&self, sc: &mut Scratch, ci: usize, cj: usize) -> Complex64 {
-        let k = sc.active.len();
-        let base = self.z0(ci, cj);
-        if k == 0 {
-            return base;
-        }
-        sc.rhs.clear();
-        for &p in &sc.piv {
-            sc.rhs.push(sc.d[p] * self.z0(sc.active[p], cj));
-        }
-        let m = &sc.m;
-        let x = &mut sc.rhs;
-        for r in 0..k {
-            for j in 0..r {
-                let l = m[r * k + j];
-                let xj = x[j];
-                x[r] -= l * xj;
-            }
-        }
-        for r in (0..k).rev() {
-            for j in r + 1..k {
-                let u = m[r * k + j];
-                let xj = x[j];
-                x[r] -= u * xj;
-            }
-            x[r] /= m[r * k + r];
-        }
-        let dz: Complex64 = (0..k).map(|a| self.z0(ci, sc.active[a]) * x[a]).sum();
-        base - dz
-    }
-}
-
-/// Reusable buffers of the step-combination correction.
-#[derive(Debug, Clone, Default)]
-pub struct Scratch {
-    active: Vec<usize>,
-    d: Vec<Complex64>,
-    m: Vec<Complex64>,
-    rhs: Vec<Complex64>,
-    piv: Vec<usize>,
 }

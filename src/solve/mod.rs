@@ -12,5 +12,5 @@
 mod engine;
 mod sparse;
 
-pub use engine::{Engine, PointSolution, Scratch, SolveError};
+pub use engine::{ComboPlan, Engine, PointSolution, Scratch, SolveError};
 pub use sparse::{Factor, SingularPivot, Symbolic};

@@ -122,7 +122,11 @@ impl ResonanceStudy {
         let margin = plant.study.resonance_margin_percent;
         let mut rows = Vec::new();
         for (s, scenario) in net.scenarios.iter().enumerate() {
-            let fundamental = engine.point(1.0, s)?;
+            // The scan grid starts at order 1: its first point is the fundamental.
+            let fundamental = match scan.grid.orders.first() {
+                Some(&h) if h == 1.0 => scan.point(s, 0).clone(),
+                _ => engine.point(1.0, s)?,
+            };
             for (c, cfg) in scan.configurations.iter().enumerate() {
                 let label = cfg.label(&plant.banks);
                 for (b, bank) in net.banks.iter().enumerate() {

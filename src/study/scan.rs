@@ -1,13 +1,23 @@
 //! Frequency scan: driving-point impedance |Z(h)| and its angle at chosen buses over the
 //! scan grid, for every scenario × configuration; parallel-resonance peaks (local maxima
 //! of |Z|) and series-resonance dips (local minima) found on the grid and refined by
-//! golden-section search to better than 0.001 order.
+//! Brent's method to better than 0.001 order.
+//!
+//! Work and memory: Z₀ at the bank buses and buses of interest is solved once per grid point
+//! and scenario (in parallel over points) and kept; configurations are then taken in blocks
+//! (in parallel over blocks), each block's curves evaluated from the kept points by the
+//! step-combination plan, analysed and dropped. Only peaks and dips stay; a curve asked for
+//! (CSV, chart) is recomputed from the kept points by [`Scan::curve`]. Results do not depend
+//! on the number of threads.
+
+use std::sync::atomic::{AtomicU64, Ordering};
 
 use num_complex::Complex64;
+use rayon::prelude::*;
 use serde::Serialize;
 
 use super::Configuration;
-use crate::solve::{Engine, PointSolution, Scratch, SolveError};
+use crate::solve::{ComboPlan, Engine, PointSolution, Scratch, SolveError};
 
 /// The scan grid: orders 1 + i·step up to the highest order, which is included even when
 /// it is off the grid (input contract, "Outputs that other tools read").
@@ -30,10 +40,7 @@ impl ScanGrid {
             orders.push(h);
             i += 1;
         }
-        if orders
-            .last()
-            .is_none_or(|&last| (last - highest).abs() > 1e-9)
-        {
+        if orders.last().is_none_or(|&last| (last - highest).abs() > 1e-9) {
             orders.push(highest);
         }
         ScanGrid { orders }
@@ -57,15 +64,13 @@ pub struct Extremum {
     pub sharpness: Option<f64>,
 }
 
-/// The scan of one bus in one scenario and configuration.
+/// The peaks and dips of one bus in one scenario and configuration.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Series {
     pub scenario: usize,
     pub configuration: usize,
     /// Index into [`Scan::buses`].
     pub bus: usize,
-    /// Z(h) in ohm at each grid order.
-    pub z_ohm: Vec<Complex64>,
     pub peaks: Vec<Extremum>,
     pub dips: Vec<Extremum>,
 }
@@ -77,11 +82,18 @@ pub struct Scan {
     /// Scenario names.
     pub scenarios: Vec<String>,
     pub configurations: Vec<Configuration>,
-    /// Network bus indices scanned.
+    /// Network bus indices scanned (the engine's buses of interest).
     pub buses: Vec<usize>,
     /// One series per scenario × configuration × bus, in that nesting order.
     pub series: Vec<Series>,
+    /// Z₀ per scenario and grid point.
+    points: Vec<Vec<PointSolution>>,
+    /// Impedance base of each scanned bus, ohm.
+    z_base: Vec<f64>,
 }
+
+/// Bytes of curve magnitudes one block of configurations may hold while it is analysed.
+const BLOCK_BYTES: usize = 16 << 20;
 
 impl Scan {
     /// The series of scenario `s`, configuration `c`, scanned bus `b`.
@@ -90,160 +102,259 @@ impl Scan {
         &self.series[(s * self.configurations.len() + c) * nb + b]
     }
 
-    /// Runs the scan of `buses` (network bus indices) for every scenario and configuration.
+    /// Z₀ (no banks) of scenario `s` at grid point `i`.
+    pub fn point(&self, s: usize, i: usize) -> &PointSolution {
+        &self.points[s][i]
+    }
+
+    /// Z(h) in ohm at every grid order for scenario `s`, configuration `c`, scanned bus `b`,
+    /// recomputed from the kept points; `None` if the configuration is singular somewhere.
+    pub fn curve(&self, s: usize, c: usize, b: usize) -> Option<Vec<Complex64>> {
+        let steps = &self.configurations[c].steps;
+        let mut scratch = Scratch::default();
+        self.points[s]
+            .iter()
+            .map(|p| {
+                let one = p.for_bus(b);
+                let mut z = [Complex64::default()];
+                one.driving_point_into(steps, &mut scratch, &mut z)
+                    .then(|| z[0] * self.z_base[b])
+            })
+            .collect()
+    }
+
+    /// Runs the scan of the engine's buses of interest for every scenario and configuration.
+    /// `progress(done, total)` is called as blocks of configurations finish.
     pub fn run(
         engine: &Engine<'_>,
         grid: ScanGrid,
         configurations: Vec<Configuration>,
-        buses: Vec<usize>,
+        progress: &(dyn Fn(u64, u64) + Sync),
     ) -> Result<Scan, SolveError> {
         let net = engine.network();
+        let buses = engine.interest().to_vec();
         let nb = buses.len();
         let nc = configurations.len();
         let ns = net.scenarios.len();
         let z_base: Vec<f64> = buses.iter().map(|&i| net.buses[i].z_base_ohm).collect();
-        let pos: Vec<usize> = buses.iter().map(|&b| engine_interest(engine, b)).collect();
-        let mut series = Vec::with_capacity(ns * nc * nb);
-        for s in 0..ns {
-            let mut curves = vec![Vec::with_capacity(grid.orders.len()); nc * nb];
-            let mut points = Vec::with_capacity(grid.orders.len());
-            let mut scratch = Scratch::default();
-            let mut z = vec![Complex64::new(0.0, 0.0); engine.interest().len()];
-            for &h in &grid.orders {
-                let point = engine.point(h, s)?;
-                for (c, cfg) in configurations.iter().enumerate() {
-                    if !point.driving_point_into(&cfg.steps, &mut scratch, &mut z) {
-                        return Err(singular(engine, s, h));
-                    }
-                    for b in 0..nb {
-                        curves[c * nb + b].push(z[pos[b]] * z_base[b]);
-                    }
-                }
-                points.push(point);
-            }
-            for (idx, z_ohm) in curves.into_iter().enumerate() {
-                let (c, b) = (idx / nb, idx % nb);
-                let eval = |h: f64| -> Result<(Complex64, Complex64), SolveError> {
-                    let p = near(&grid.orders, &points, h, engine);
-                    let z = checked(&p, &configurations[c].steps, h, s, engine)?;
-                    let z0 = checked(&p, &[], h, s, engine)?;
-                    Ok((z[pos[b]] * z_base[b], z0[pos[b]] * z_base[b]))
-                };
-                let mags: Vec<f64> = z_ohm.iter().map(|z| z.norm()).collect();
-                let peaks = extrema(&grid.orders, &mags, true, &eval)?;
-                let dips = extrema(&grid.orders, &mags, false, &eval)?;
-                series.push(Series {
-                    scenario: s,
-                    configuration: c,
-                    bus: b,
-                    z_ohm,
-                    peaks,
-                    dips,
-                });
-            }
+        let points: Vec<Vec<PointSolution>> = (0..ns)
+            .map(|s| {
+                grid.orders
+                    .par_iter()
+                    .map(|&h| engine.point(h, s))
+                    .collect::<Result<Vec<_>, _>>()
+            })
+            .collect::<Result<_, _>>()?;
+        let mut order: Vec<usize> = (0..nc).collect();
+        order.sort_by(|&a, &b| configurations[a].steps.cmp(&configurations[b].steps));
+        let per_block = (BLOCK_BYTES / (grid.orders.len() * nb.max(1) * 8)).clamp(1, 256);
+        let tasks: Vec<(usize, &[usize])> = (0..ns)
+            .flat_map(|s| order.chunks(per_block).map(move |chunk| (s, chunk)))
+            .collect();
+        let total = tasks.len() as u64;
+        let done = AtomicU64::new(0);
+        let ctx = Ctx {
+            engine,
+            grid: &grid,
+            configurations: &configurations,
+            points: &points,
+            z_base: &z_base,
+        };
+        let results: Vec<Vec<Series>> = tasks
+            .par_iter()
+            .map(|&(s, chunk)| {
+                let r = ctx.block(s, chunk);
+                progress(done.fetch_add(1, Ordering::Relaxed) + 1, total);
+                r
+            })
+            .collect::<Result<_, _>>()?;
+        let mut slots: Vec<Option<Series>> = vec![None; ns * nc * nb];
+        for series in results.into_iter().flatten() {
+            let idx = (series.scenario * nc + series.configuration) * nb + series.bus;
+            slots[idx] = Some(series);
         }
+        let series = slots.into_iter().flatten().collect();
         Ok(Scan {
             grid,
             scenarios: net.scenarios.iter().map(|s| s.name.clone()).collect(),
             configurations,
             buses,
             series,
+            points,
+            z_base,
         })
     }
 }
 
-/// The point solution at order `h` interpolated through the four grid solutions around it.
-fn near(orders: &[f64], points: &[PointSolution], h: f64, engine: &Engine<'_>) -> PointSolution {
-    let n = orders.len();
-    if n < 4 {
-        let idx: Vec<&PointSolution> = points.iter().collect();
-        return PointSolution::interpolate(&idx, h, engine.y_steps(h));
+struct Ctx<'a, 'e> {
+    engine: &'a Engine<'e>,
+    grid: &'a ScanGrid,
+    configurations: &'a [Configuration],
+    points: &'a [Vec<PointSolution>],
+    z_base: &'a [f64],
+}
+
+impl Ctx<'_, '_> {
+    fn singular(&self, scenario: usize, order: f64) -> SolveError {
+        SolveError::Singular {
+            scenario: self.engine.network().scenarios[scenario].name.clone(),
+            order,
+            bus: String::new(),
+        }
     }
-    let i = orders.partition_point(|&o| o <= h).saturating_sub(1);
-    let start = i.saturating_sub(1).min(n - 4);
-    let idx: Vec<&PointSolution> = points[start..start + 4].iter().collect();
-    PointSolution::interpolate(&idx, h, engine.y_steps(h))
-}
 
-/// Index of network bus `bus` among the engine's buses of interest.
-fn engine_interest(engine: &Engine<'_>, bus: usize) -> usize {
-    engine
-        .interest()
-        .iter()
-        .position(|&b| b == bus)
-        .unwrap_or(0)
-}
+    /// Curves of the configurations `chunk` in scenario `s`, analysed.
+    fn block(&self, s: usize, chunk: &[usize]) -> Result<Vec<Series>, SolveError> {
+        let nb = self.z_base.len();
+        let np = self.grid.orders.len();
+        let combos: Vec<&[u32]> = chunk.iter().map(|&c| &self.configurations[c].steps[..]).collect();
+        let plan = ComboPlan::new(&combos);
+        let mut mags = vec![0.0f64; chunk.len() * nb * np];
+        let mut out = vec![Complex64::default(); chunk.len() * nb];
+        let mut scratch = Scratch::default();
+        for (i, p) in self.points[s].iter().enumerate() {
+            if !p.evaluate(&plan, &mut scratch, &mut out) {
+                return Err(self.singular(s, p.order));
+            }
+            for (j, z) in out.iter().enumerate() {
+                mags[j * np + i] = z.norm() * self.z_base[j % nb];
+            }
+        }
+        let mut series = Vec::with_capacity(chunk.len() * nb);
+        for (slot, &c) in chunk.iter().enumerate() {
+            for b in 0..nb {
+                let curve = &mags[(slot * nb + b) * np..(slot * nb + b + 1) * np];
+                let eval = |h: f64| self.exact(s, c, b, h);
+                series.push(Series {
+                    scenario: s,
+                    configuration: c,
+                    bus: b,
+                    peaks: extrema(&self.grid.orders, curve, true, &eval)?,
+                    dips: extrema(&self.grid.orders, curve, false, &eval)?,
+                });
+            }
+        }
+        Ok(series)
+    }
 
-fn singular(engine: &Engine<'_>, scenario: usize, order: f64) -> SolveError {
-    SolveError::Singular {
-        scenario: engine.network().scenarios[scenario].name.clone(),
-        order,
-        bus: String::new(),
+    /// (Z, Z without banks) in ohm at order h for configuration `c`, bus `b`, from Z₀
+    /// interpolated through the four grid points around h and the banks' exact admittances.
+    fn exact(&self, s: usize, c: usize, b: usize, h: f64) -> Result<(Complex64, Complex64), SolveError> {
+        let orders = &self.grid.orders;
+        let points = &self.points[s];
+        let n = orders.len();
+        let start = if n < 4 {
+            0
+        } else {
+            orders.partition_point(|&o| o <= h).saturating_sub(2).min(n - 4)
+        };
+        let near: Vec<PointSolution> = points[start..(start + 4).min(n)].iter().map(|p| p.for_bus(b)).collect();
+        let refs: Vec<&PointSolution> = near.iter().collect();
+        let p = PointSolution::interpolate(&refs, h, self.engine.y_steps(h));
+        let mut z = [Complex64::default()];
+        let mut scratch = Scratch::default();
+        if !p.driving_point_into(&self.configurations[c].steps, &mut scratch, &mut z) {
+            return Err(self.singular(s, h));
+        }
+        Ok((z[0] * self.z_base[b], p.z0_pu(0) * self.z_base[b]))
     }
 }
 
-fn checked(
-    p: &PointSolution,
-    steps: &[u32],
-    order: f64,
-    scenario: usize,
-    engine: &Engine<'_>,
-) -> Result<Vec<Complex64>, SolveError> {
-    p.driving_point_pu(steps)
-        .ok_or_else(|| singular(engine, scenario, order))
+type Eval<'a> = dyn Fn(f64) -> Result<(Complex64, Complex64), SolveError> + 'a;
+
+/// Tolerance of the refined order (the result is within it of the true extremum of the
+/// evaluated curve, well inside the promised 0.001).
+const REFINE_TOL: f64 = 5e-5;
+
+/// Brent's method: the minimum of `f` on [a, b] to within `tol` (parabolic steps with a
+/// golden-section fallback). Returns (x, f(x)).
+fn brent(
+    f: &mut dyn FnMut(f64) -> Result<f64, SolveError>,
+    mut a: f64,
+    mut b: f64,
+    x0: f64,
+    f0: f64,
+    tol: f64,
+) -> Result<(f64, f64), SolveError> {
+    const CGOLD: f64 = 0.381_966_011_250_105;
+    let (mut x, mut w, mut v) = (x0, x0, x0);
+    let (mut fx, mut fw, mut fv) = (f0, f0, f0);
+    let (mut d, mut e) = (0.0f64, 0.0f64);
+    for _ in 0..60 {
+        let xm = 0.5 * (a + b);
+        let tol1 = tol;
+        let tol2 = 2.0 * tol1;
+        if (x - xm).abs() <= tol2 - 0.5 * (b - a) {
+            break;
+        }
+        let mut golden = true;
+        if e.abs() > tol1 {
+            let r = (x - w) * (fx - fv);
+            let mut q = (x - v) * (fx - fw);
+            let mut p = (x - v) * q - (x - w) * r;
+            q = 2.0 * (q - r);
+            if q > 0.0 {
+                p = -p;
+            }
+            q = q.abs();
+            let etemp = e;
+            e = d;
+            if p.abs() < (0.5 * q * etemp).abs() && p > q * (a - x) && p < q * (b - x) {
+                d = p / q;
+                let u = x + d;
+                if u - a < tol2 || b - u < tol2 {
+                    d = tol1.copysign(xm - x);
+                }
+                golden = false;
+            }
+        }
+        if golden {
+            e = if x >= xm { a - x } else { b - x };
+            d = CGOLD * e;
+        }
+        let u = if d.abs() >= tol1 { x + d } else { x + tol1.copysign(d) };
+        let fu = f(u)?;
+        if fu <= fx {
+            if u >= x {
+                a = x;
+            } else {
+                b = x;
+            }
+            (v, w, x) = (w, x, u);
+            (fv, fw, fx) = (fw, fx, fu);
+        } else {
+            if u < x {
+                a = u;
+            } else {
+                b = u;
+            }
+            if fu <= fw || w == x {
+                (v, w) = (w, u);
+                (fv, fw) = (fw, fu);
+            } else if fu <= fv || v == x || v == w {
+                v = u;
+                fv = fu;
+            }
+        }
+    }
+    Ok((x, fx))
 }
 
-/// Width below which golden-section refinement stops, in harmonic order (the result is then
-/// within half of it, well inside the promised 0.001).
-const REFINE_WIDTH: f64 = 2e-4;
-
-/// Local maxima (`peaks`) or minima of `mags` on the grid, each refined by golden-section
-/// search on [h_{i−1}, h_{i+1}] with the exact evaluator `eval(h) = (Z, Z_none)` in ohm.
-fn extrema(
-    orders: &[f64],
-    mags: &[f64],
-    peaks: bool,
-    eval: &dyn Fn(f64) -> Result<(Complex64, Complex64), SolveError>,
-) -> Result<Vec<Extremum>, SolveError> {
+/// Local maxima (`peaks`) or minima of `mags` (|Z| in ohm on the grid), each refined by
+/// Brent's method on [h_{i−1}, h_{i+1}] with the evaluator `eval(h) = (Z, Z_none)`.
+fn extrema(orders: &[f64], mags: &[f64], peaks: bool, eval: &Eval<'_>) -> Result<Vec<Extremum>, SolveError> {
     let better = |a: f64, b: f64| if peaks { a > b } else { a < b };
+    let sign = if peaks { -1.0 } else { 1.0 };
     let mut out = Vec::new();
     for i in 1..mags.len().saturating_sub(1) {
         let (l, m, r) = (mags[i - 1], mags[i], mags[i + 1]);
         if !better(m, l) || better(r, m) {
             continue;
         }
-        let objective = |h: f64| -> Result<f64, SolveError> {
-            let m = eval(h)?.0.norm();
-            Ok(if peaks { m } else { -m })
-        };
-        let (mut a, mut b) = (orders[i - 1], orders[i + 1]);
-        let g = (5f64.sqrt() - 1.0) / 2.0;
-        let mut x1 = b - g * (b - a);
-        let mut x2 = a + g * (b - a);
-        let (mut f1, mut f2) = (objective(x1)?, objective(x2)?);
-        while b - a > REFINE_WIDTH {
-            if f1 >= f2 {
-                b = x2;
-                x2 = x1;
-                f2 = f1;
-                x1 = b - g * (b - a);
-                f1 = objective(x1)?;
-            } else {
-                a = x1;
-                x1 = x2;
-                f1 = f2;
-                x2 = a + g * (b - a);
-                f2 = objective(x2)?;
-            }
-        }
-        let (mut h, mut best) = if f1 >= f2 { (x1, f1) } else { (x2, f2) };
-        let grid_value = if peaks { m } else { -m };
-        if grid_value > best {
-            h = orders[i];
-            best = grid_value;
-        }
+        let mut objective = |h: f64| -> Result<f64, SolveError> { Ok(sign * eval(h)?.0.norm()) };
+        let (h, best) = brent(&mut objective, orders[i - 1], orders[i + 1], orders[i], sign * m, REFINE_TOL)?;
         let (z, z0) = eval(h)?;
-        let zabs = best.abs();
+        let zabs = (sign * best).abs();
         out.push(Extremum {
             order: h,
             z_ohm: zabs,
@@ -255,38 +366,43 @@ fn extrema(
     Ok(out)
 }
 
-/// Q = h / Δh at the half-power level (see [`Extremum::sharpness`]). The grid brackets each
-/// crossing (or the refined extremum does, for a peak narrower than the grid step) and
-/// bisection with the exact evaluator places it to 1e-5 order.
+/// Q = h / Δh at the half-power level (see [`Extremum::sharpness`]). A crossing three or
+/// more grid steps from the extremum is placed by linear interpolation on the grid; a
+/// nearer one (a peak the grid barely resolves) by bisection with the evaluator to 1e-5.
 fn sharpness(
     orders: &[f64],
     mags: &[f64],
     h: f64,
     z: f64,
     peaks: bool,
-    eval: &dyn Fn(f64) -> Result<(Complex64, Complex64), SolveError>,
+    eval: &Eval<'_>,
 ) -> Result<Option<f64>, SolveError> {
-    let level = if peaks {
-        z / 2f64.sqrt()
-    } else {
-        z * 2f64.sqrt()
-    };
+    let level = if peaks { z / 2f64.sqrt() } else { z * 2f64.sqrt() };
     let inside = |v: f64| if peaks { v >= level } else { v <= level };
-    let bisect = |mut a_out: f64, mut b_in: f64| -> Result<f64, SolveError> {
+    let near = |a: f64, b: f64| (a - b).abs() < 3.0 * (orders[1] - orders[0]).abs();
+    let cross = |j_out: usize, j_in: usize| -> Result<f64, SolveError> {
+        let (o_out, o_in) = (orders[j_out], orders[j_in]);
+        if !near(o_in, h) && inside(mags[j_in]) {
+            let t = (mags[j_in] - level) / (mags[j_in] - mags[j_out]);
+            return Ok(o_in + t * (o_out - o_in));
+        }
+        let (mut a_out, mut b_in) = (o_out, if inside(mags[j_in]) { o_in } else { h });
         while (b_in - a_out).abs() > 1e-5 {
-            let m = 0.5 * (a_out + b_in);
-            if inside(eval(m)?.0.norm()) {
-                b_in = m;
+            let mid = 0.5 * (a_out + b_in);
+            if inside(eval(mid)?.0.norm()) {
+                b_in = mid;
             } else {
-                a_out = m;
+                a_out = mid;
             }
         }
         Ok(0.5 * (a_out + b_in))
     };
-    // Left: the nearest grid point below h outside the level, going left.
-    let mut a = match orders.iter().rposition(|&o| o <= h) {
-        Some(a) => a,
-        None => return Ok(None),
+    if orders.len() < 2 {
+        return Ok(None);
+    }
+    // Left: the nearest grid point below h outside the level.
+    let Some(mut a) = orders.iter().rposition(|&o| o <= h) else {
+        return Ok(None);
     };
     while a > 0 && inside(mags[a]) {
         a -= 1;
@@ -294,15 +410,9 @@ fn sharpness(
     if inside(mags[a]) {
         return Ok(None);
     }
-    let inner = if a + 1 < orders.len() && orders[a + 1] <= h && inside(mags[a + 1]) {
-        orders[a + 1]
-    } else {
-        h
-    };
-    let left = bisect(orders[a], inner)?;
-    let mut b = match orders.iter().position(|&o| o >= h) {
-        Some(b) => b,
-        None => return Ok(None),
+    let left = cross(a, (a + 1).min(orders.len() - 1))?;
+    let Some(mut b) = orders.iter().position(|&o| o >= h) else {
+        return Ok(None);
     };
     while b + 1 < orders.len() && inside(mags[b]) {
         b += 1;
@@ -310,12 +420,7 @@ fn sharpness(
     if inside(mags[b]) {
         return Ok(None);
     }
-    let inner = if b > 0 && orders[b - 1] >= h && inside(mags[b - 1]) {
-        orders[b - 1]
-    } else {
-        h
-    };
-    let right = bisect(orders[b], inner)?;
+    let right = cross(b, b.saturating_sub(1))?;
     let width = right - left;
     Ok((width > 0.0).then(|| h / width))
 }

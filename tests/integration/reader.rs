@@ -41,6 +41,7 @@ fn contract_example(plant: &str, buses: &[&str], configurations: &[&str]) {
         &CheckOptions {
             buses: buses.clone(),
             configurations: configs.clone(),
+            ..Default::default()
         },
     )
     .expect("runs");
