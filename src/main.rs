@@ -135,8 +135,16 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
 
 /// Study options with a progress bar on stderr that appears once a study has run for a
 /// second (hidden with `quiet` or when stderr is not a terminal).
-fn options(select: &Select, configurations: Vec<String>, quiet: bool) -> (CheckOptions, ProgressBar) {
-    let bar = if quiet { ProgressBar::hidden() } else { ProgressBar::new(0) };
+fn options(
+    select: &Select,
+    configurations: Vec<String>,
+    quiet: bool,
+) -> (CheckOptions, ProgressBar) {
+    let bar = if quiet {
+        ProgressBar::hidden()
+    } else {
+        ProgressBar::new(0)
+    };
     bar.set_style(
         ProgressStyle::with_template("scanning {bar:40} {pos}/{len} blocks, {eta} left")
             .unwrap_or_else(|_| ProgressStyle::default_bar()),

@@ -161,7 +161,11 @@ impl ComboPlan {
             }
             let first = match prev {
                 None => 0,
-                Some(p) => p.iter().zip(steps).position(|(a, b)| a != b).unwrap_or(k - 1),
+                Some(p) => p
+                    .iter()
+                    .zip(steps)
+                    .position(|(a, b)| a != b)
+                    .unwrap_or(k - 1),
             };
             for (bank, &n) in steps.iter().enumerate().take(k - 1).skip(first) {
                 ops.push(Op::Apply { bank, n });
@@ -460,7 +464,11 @@ impl PointSolution {
                     }
                 }
                 Op::Leaf { bank, n, slot } => {
-                    let read = if bank == 0 { &first[0] } else { &rest[bank - 1] };
+                    let read = if bank == 0 {
+                        &first[0]
+                    } else {
+                        &rest[bank - 1]
+                    };
                     let dst = &mut out[slot * m..(slot + 1) * m];
                     if n == 0 {
                         dst.copy_from_slice(&read.zii);

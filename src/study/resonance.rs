@@ -124,7 +124,7 @@ impl ResonanceStudy {
         for (s, scenario) in net.scenarios.iter().enumerate() {
             // The scan grid starts at order 1: its first point is the fundamental.
             let fundamental = match scan.grid.orders.first() {
-                Some(&h) if h == 1.0 => scan.point(s, 0).clone(),
+                Some(1.0) => scan.point(s, 0).clone(),
                 _ => engine.point(1.0, s)?,
             };
             for (c, cfg) in scan.configurations.iter().enumerate() {

@@ -40,7 +40,10 @@ impl ScanGrid {
             orders.push(h);
             i += 1;
         }
-        if orders.last().is_none_or(|&last| (last - highest).abs() > 1e-9) {
+        if orders
+            .last()
+            .is_none_or(|&last| (last - highest).abs() > 1e-9)
+        {
             orders.push(highest);
         }
         ScanGrid { orders }
@@ -207,7 +210,10 @@ impl Ctx<'_, '_> {
     fn block(&self, s: usize, chunk: &[usize]) -> Result<Vec<Series>, SolveError> {
         let nb = self.z_base.len();
         let np = self.grid.orders.len();
-        let combos: Vec<&[u32]> = chunk.iter().map(|&c| &self.configurations[c].steps[..]).collect();
+        let combos: Vec<&[u32]> = chunk
+            .iter()
+            .map(|&c| &self.configurations[c].steps[..])
+            .collect();
         let plan = ComboPlan::new(&combos);
         let mut mags = vec![0.0f64; chunk.len() * nb * np];
         let mut out = vec![Complex64::default(); chunk.len() * nb];
@@ -239,16 +245,28 @@ impl Ctx<'_, '_> {
 
     /// (Z, Z without banks) in ohm at order h for configuration `c`, bus `b`, from Z₀
     /// interpolated through the four grid points around h and the banks' exact admittances.
-    fn exact(&self, s: usize, c: usize, b: usize, h: f64) -> Result<(Complex64, Complex64), SolveError> {
+    fn exact(
+        &self,
+        s: usize,
+        c: usize,
+        b: usize,
+        h: f64,
+    ) -> Result<(Complex64, Complex64), SolveError> {
         let orders = &self.grid.orders;
         let points = &self.points[s];
         let n = orders.len();
         let start = if n < 4 {
             0
         } else {
-            orders.partition_point(|&o| o <= h).saturating_sub(2).min(n - 4)
+            orders
+                .partition_point(|&o| o <= h)
+                .saturating_sub(2)
+                .min(n - 4)
         };
-        let near: Vec<PointSolution> = points[start..(start + 4).min(n)].iter().map(|p| p.for_bus(b)).collect();
+        let near: Vec<PointSolution> = points[start..(start + 4).min(n)]
+            .iter()
+            .map(|p| p.for_bus(b))
+            .collect();
         let refs: Vec<&PointSolution> = near.iter().collect();
         let p = PointSolution::interpolate(&refs, h, self.engine.y_steps(h));
         let mut z = [Complex64::default()];
@@ -312,7 +330,11 @@ fn brent(
             e = if x >= xm { a - x } else { b - x };
             d = CGOLD * e;
         }
-        let u = if d.abs() >= tol1 { x + d } else { x + tol1.copysign(d) };
+        let u = if d.abs() >= tol1 {
+            x + d
+        } else {
+            x + tol1.copysign(d)
+        };
         let fu = f(u)?;
         if fu <= fx {
             if u >= x {
@@ -342,7 +364,12 @@ fn brent(
 
 /// Local maxima (`peaks`) or minima of `mags` (|Z| in ohm on the grid), each refined by
 /// Brent's method on [h_{i−1}, h_{i+1}] with the evaluator `eval(h) = (Z, Z_none)`.
-fn extrema(orders: &[f64], mags: &[f64], peaks: bool, eval: &Eval<'_>) -> Result<Vec<Extremum>, SolveError> {
+fn extrema(
+    orders: &[f64],
+    mags: &[f64],
+    peaks: bool,
+    eval: &Eval<'_>,
+) -> Result<Vec<Extremum>, SolveError> {
     let better = |a: f64, b: f64| if peaks { a > b } else { a < b };
     let sign = if peaks { -1.0 } else { 1.0 };
     let mut out = Vec::new();
@@ -352,7 +379,14 @@ fn extrema(orders: &[f64], mags: &[f64], peaks: bool, eval: &Eval<'_>) -> Result
             continue;
         }
         let mut objective = |h: f64| -> Result<f64, SolveError> { Ok(sign * eval(h)?.0.norm()) };
-        let (h, best) = brent(&mut objective, orders[i - 1], orders[i + 1], orders[i], sign * m, REFINE_TOL)?;
+        let (h, best) = brent(
+            &mut objective,
+            orders[i - 1],
+            orders[i + 1],
+            orders[i],
+            sign * m,
+            REFINE_TOL,
+        )?;
         let (z, z0) = eval(h)?;
         let zabs = (sign * best).abs();
         out.push(Extremum {
@@ -377,7 +411,11 @@ fn sharpness(
     peaks: bool,
     eval: &Eval<'_>,
 ) -> Result<Option<f64>, SolveError> {
-    let level = if peaks { z / 2f64.sqrt() } else { z * 2f64.sqrt() };
+    let level = if peaks {
+        z / 2f64.sqrt()
+    } else {
+        z * 2f64.sqrt()
+    };
     let inside = |v: f64| if peaks { v >= level } else { v <= level };
     let near = |a: f64, b: f64| (a - b).abs() < 3.0 * (orders[1] - orders[0]).abs();
     let cross = |j_out: usize, j_in: usize| -> Result<f64, SolveError> {

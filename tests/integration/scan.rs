@@ -59,3 +59,56 @@ fn configurations_and_labels() {
         "configuration \"C1:1\": \"C1:1\" is not of the form BANK=STEPS"
     );
 }
+
+fn demo_results() -> overtone::check::CheckResults {
+    let plant = overtone::demo::demo_plant().expect("demo");
+    overtone::check::run_check(&plant, &Default::default()).expect("runs")
+}
+
+#[test]
+fn refined_peaks_agree_with_full_factorizations() {
+    // The refinement evaluates Z₀ interpolated between grid points; check each peak of the
+    // demo against exact solutions (a full factorization with the banks in place): |Z| to
+    // 1e-6 relative, and no larger |Z| 0.001 order to either side.
+    let res = demo_results();
+    let net = &res.network;
+    let engine = overtone::solve::Engine::new(net, &res.scan.buses);
+    let mut checked = 0;
+    for s in res.scan.series.iter().filter(|s| s.configuration % 5 == 0) {
+        let steps = &res.scan.configurations[s.configuration].steps;
+        let bus = res.scan.buses[s.bus];
+        let zb = net.buses[bus].z_base_ohm;
+        let exact = |h: f64| {
+            engine
+                .impedance_pu(h, s.scenario, steps, bus, bus)
+                .unwrap()
+                .norm()
+                * zb
+        };
+        for p in &s.peaks {
+            let z = exact(p.order);
+            assert!((z - p.z_ohm).abs() <= 1e-6 * z, "{} vs {}", p.z_ohm, z);
+            assert!(
+                exact(p.order - 1e-3) <= z && exact(p.order + 1e-3) <= z,
+                "peak at {}",
+                p.order
+            );
+            checked += 1;
+        }
+    }
+    assert!(checked > 20, "{checked}");
+}
+
+#[test]
+fn results_do_not_depend_on_thread_count() {
+    let run = |threads| {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap();
+        pool.install(demo_results)
+    };
+    let (one, two) = (run(1), run(2));
+    assert_eq!(one.scan.series, two.scan.series);
+    assert_eq!(one.resonance, two.resonance);
+}
