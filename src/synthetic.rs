@@ -147,3 +147,29 @@ fn cable(id: String, from: String, to: String, length_m: f64) -> Cable {
         runs: 1,
     }
 }
+
+/// Gives `plant` two supply scenarios at its first source's bus: `max` (the source as it is)
+/// and `min` (a third of its fault level, lower X/R).
+pub fn with_two_scenarios(mut plant: Plant) -> Plant {
+    if let Some(first) = plant.sources.first().cloned() {
+        let weaker = match first.short_circuit {
+            ShortCircuit::Mva(m) => ShortCircuit::Mva(m / 3.0),
+            ShortCircuit::Ka(k) => ShortCircuit::Ka(k / 3.0),
+        };
+        plant.sources = vec![
+            Source {
+                id: format!("{}-MAX", first.id),
+                scenario: Some("max".into()),
+                ..first.clone()
+            },
+            Source {
+                id: format!("{}-MIN", first.id),
+                scenario: Some("min".into()),
+                short_circuit: weaker,
+                x_over_r: first.x_over_r * 0.7,
+                ..first
+            },
+        ];
+    }
+    plant
+}
