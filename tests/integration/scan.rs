@@ -112,3 +112,16 @@ fn results_do_not_depend_on_thread_count() {
     assert_eq!(one.scan.series, two.scan.series);
     assert_eq!(one.resonance, two.resonance);
 }
+
+#[test]
+fn too_many_combinations_are_refused_with_a_sentence() {
+    let mut plant = overtone::synthetic::generated_plant(40, 0, 6, 10, 3);
+    assert_eq!(configuration_count(&plant.banks), 11u64.pow(6));
+    let err = overtone::check::run_check(&plant, &Default::default()).unwrap_err();
+    assert_eq!(
+        err.to_string(),
+        "1771561 step combinations exceed the limit of 100000: narrow \"Studied steps\" on the Capacitors sheet (for example 0,2,4 or 1-3)"
+    );
+    plant.banks.iter_mut().for_each(|b| b.studied_steps = vec![0, 5, 10]);
+    assert_eq!(configuration_count(&plant.banks), 729);
+}
