@@ -6,6 +6,8 @@ use crate::model::{ModelErrors, Plant};
 use crate::network::{Network, TopologyError};
 use crate::solve::{Engine, SolveError};
 use crate::study::config::{ConfigurationError, configuration_count};
+use crate::study::limits::{LimitContext, LimitRow, limit_row};
+use crate::study::penetration::{Injections, Penetration};
 use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid, all_configurations};
 
 /// Most step combinations studied in one run; above it the engineer is asked to narrow
@@ -50,17 +52,25 @@ pub struct CheckResults {
     pub network: Network,
     pub scan: Scan,
     pub resonance: ResonanceStudy,
+    pub penetration: Penetration,
+    pub limits: LimitContext,
+    /// One limits summary per scenario × configuration, in that nesting order.
+    pub limit_rows: Vec<LimitRow>,
+    /// Assumptions the study made that the report must state.
+    pub notes: Vec<String>,
     /// Network index of the PCC bus.
     pub pcc: usize,
 }
 
 impl CheckResults {
-    /// True when any bank's resonance is flagged (the `--strict` criterion).
+    /// True when any bank's resonance is flagged or any limit exceeded (the `--strict`
+    /// criterion).
     pub fn flagged(&self) -> bool {
         self.resonance
             .rows
             .iter()
             .any(|r| r.verdict == crate::study::Verdict::Resonant)
+            || self.limit_rows.iter().any(|r| r.exceeds)
     }
 
     /// The label of configuration `c`.
@@ -120,11 +130,63 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
     };
     let scan = Scan::run(&engine, grid, configurations, progress)?;
     let resonance = ResonanceStudy::run(plant, &network, &engine, &scan)?;
+
+    // Harmonic penetration and limits. Isc: the largest fault current at the PCC over the
+    // scenarios, from the fundamental Thevenin impedance without banks (the PCC is the
+    // first bus scanned).
+    let pcc_kv = network.buses[pcc].kv;
+    let mut s_sc_mva: f64 = 0.0;
+    for s in 0..network.scenarios.len() {
+        let z = if scan.grid.orders.first() == Some(&1.0) {
+            scan.point(s, 0).z0_pu(0)
+        } else {
+            engine.point(1.0, s)?.z0_pu(0)
+        };
+        s_sc_mva = s_sc_mva.max(crate::network::BASE_MVA / z.norm());
+    }
+    let isc_ka = s_sc_mva / (3f64.sqrt() * pcc_kv);
+    let injections = Injections::new(plant, &network);
+    let limits = LimitContext::new(plant, &network, &injections, pcc, isc_ka);
+    let penetration = Penetration::run(
+        plant,
+        &engine,
+        injections,
+        &scan.configurations,
+        &limits.individual,
+        pcc,
+    )?;
+    let mut notes = Vec::new();
+    if limits.i_l_estimated {
+        notes.push(format!(
+            "I_L estimated from the Loads sheet: {:.1} A at the PCC (sum of P/pf at the study point, no diversity); give \"Max demand current (A)\" on the Study sheet",
+            limits.i_l_a
+        ));
+    }
+    let nc = scan.configurations.len();
+    let limit_rows = penetration
+        .results
+        .iter()
+        .map(|d| {
+            limit_row(
+                d,
+                &limits,
+                &network,
+                &penetration.injections.orders,
+                &network.scenarios[d.scenario].name,
+                scan.configurations[d.configuration].label(&plant.banks),
+            )
+        })
+        .collect();
+    debug_assert_eq!(penetration.results.len(), network.scenarios.len() * nc);
     Ok(CheckResults {
         plant: plant.clone(),
         network: network.clone(),
         scan,
         resonance,
+        penetration,
+        limits,
+        limit_rows,
+        notes,
         pcc,
     })
 }

@@ -14,5 +14,6 @@ pub mod model;
 pub mod network;
 pub mod report;
 pub mod solve;
+pub mod standards;
 pub mod study;
 pub mod synthetic;

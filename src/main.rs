@@ -12,7 +12,7 @@ use std::time::Instant;
 
 use indicatif::{ProgressBar, ProgressStyle};
 use overtone::check::{CheckOptions, run_check};
-use overtone::io::csv::{selection, write_scan_file};
+use overtone::io::csv::{selection, write_scan_file, write_voltages_file};
 use overtone::io::workbook_in::read_workbook;
 use overtone::model::Plant;
 
@@ -42,6 +42,9 @@ struct Outputs {
     /// Also write the frequency scan as CSV (the input contract's columns) to this file.
     #[arg(long, value_name = "FILE")]
     scan_csv: Option<PathBuf>,
+    /// Also write the harmonic voltages at every bus as CSV (the input contract's columns).
+    #[arg(long, value_name = "FILE")]
+    voltages_csv: Option<PathBuf>,
     /// Print the JSON summary on stdout instead of the terminal table.
     #[arg(long)]
     json: bool,
@@ -173,6 +176,9 @@ fn study(plant: &Plant, out: &Outputs) -> Result<ExitCode, Failure> {
     let sel = selection(&res, &out.select.buses, &out.select.configurations)?;
     if let Some(path) = &out.scan_csv {
         write_scan_file(path, &res, &sel)?;
+    }
+    if let Some(path) = &out.voltages_csv {
+        write_voltages_file(path, &res, &sel)?;
     }
     let code = print(|w| {
         if out.json {

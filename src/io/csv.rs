@@ -157,3 +157,57 @@ pub fn write_scan_file(
         .and_then(|()| w.flush())
         .map_err(io_err)
 }
+
+/// Writes `scenario,configuration,bus,order,v_percent,v_volts`: one row per bus (every bus
+/// by default, in sheet order) and injected order; `v_volts` is line-to-neutral.
+pub fn write_voltages_csv(out: &mut dyn Write, res: &CheckResults, sel: &ScanSelection) -> io::Result<()> {
+    let buses: Vec<usize> = if sel.buses.is_empty() {
+        (0..res.network.buses.len()).collect()
+    } else {
+        sel.buses.clone()
+    };
+    let configs: Vec<usize> = if sel.configurations.is_empty() {
+        (0..res.scan.configurations.len()).collect()
+    } else {
+        sel.configurations.clone()
+    };
+    let orders = &res.penetration.injections.orders;
+    writeln!(out, "scenario,configuration,bus,order,v_percent,v_volts")?;
+    for (s, scenario) in res.scan.scenarios.iter().enumerate() {
+        for &c in &configs {
+            let label = res.label(c);
+            let Some(v) = res.penetration.voltages(s, &res.scan.configurations[c].steps) else {
+                continue;
+            };
+            for &b in &buses {
+                let bus = &res.network.buses[b];
+                let v_ln = bus.kv * 1000.0 / 3f64.sqrt();
+                for (o, h) in orders.iter().enumerate() {
+                    let pu = v[b][o];
+                    writeln!(
+                        out,
+                        "{},{},{},{:?},{:?},{:?}",
+                        field(scenario),
+                        field(&label),
+                        field(&bus.id),
+                        h,
+                        pu * 100.0,
+                        pu * v_ln
+                    )?;
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Writes the harmonic-voltage CSV of `sel` to `path`.
+pub fn write_voltages_file(path: &std::path::Path, res: &CheckResults, sel: &ScanSelection) -> Result<(), CsvError> {
+    let io_err = |source| CsvError::Io {
+        path: path.display().to_string(),
+        source,
+    };
+    let file = std::fs::File::create(path).map_err(io_err)?;
+    let mut w = std::io::BufWriter::new(file);
+    write_voltages_csv(&mut w, res, sel).and_then(|()| w.flush()).map_err(io_err)
+}

@@ -125,7 +125,7 @@ pub struct Scratch {
 
 /// One step of a [`ComboPlan`].
 #[derive(Debug, Clone, Copy)]
-enum Op {
+pub(super) enum Op {
     /// levels[bank + 1] = levels[bank] with `n` steps of `bank` added.
     Apply { bank: usize, n: u32 },
     /// Output `slot` = driving points of levels[bank] with `n` steps of `bank` added.
@@ -181,6 +181,10 @@ impl ComboPlan {
             ops,
             slots: combos.len(),
         }
+    }
+
+    pub(super) fn ops(&self) -> &[Op] {
+        &self.ops
     }
 
     /// Number of combinations (output slots).

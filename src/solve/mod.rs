@@ -11,6 +11,8 @@
 
 mod engine;
 mod sparse;
+mod transfer;
 
 pub use engine::{ComboPlan, Engine, PointSolution, Scratch, SolveError};
 pub use sparse::{Factor, SingularPivot, Symbolic};
+pub use transfer::{HarmonicPoint, TransferScratch};

@@ -4,7 +4,10 @@
 
 pub mod config;
 pub mod resonance;
+pub mod limits;
+pub mod penetration;
 pub mod scan;
+pub mod spectra;
 
 pub use config::{Configuration, all_configurations, parse_configuration};
 pub use resonance::{ResonanceRow, ResonanceStudy, Verdict, characteristic_orders};

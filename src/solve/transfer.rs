@@ -1,0 +1,200 @@
+//! Transfer impedances for harmonic penetration: Z between every bus and a set of injection
+//! buses, for any step combination, by the same depth-first rank-1 updates as the driving
+//! points ([`super::ComboPlan`]). Per (order, scenario) Y₀(h) is factored once and the
+//! columns at the bank buses and the injection buses are solved.
+
+use num_complex::Complex64;
+
+use super::{ComboPlan, Engine, SolveError, engine::Op};
+
+/// Z₀ at one harmonic order and scenario: among bank buses (k×k), every bus to the bank
+/// buses (n×k), bank buses to the injection buses (k×l), every bus to the injection buses
+/// (n×l), per unit; and the bank step admittances.
+#[derive(Debug, Clone)]
+pub struct HarmonicPoint {
+    pub order: f64,
+    state: TState,
+    y_step: Vec<Complex64>,
+}
+
+#[derive(Debug, Clone, Default)]
+struct TState {
+    k: usize,
+    n: usize,
+    l: usize,
+    zss: Vec<Complex64>,
+    zrs: Vec<Complex64>,
+    zsj: Vec<Complex64>,
+    zrj: Vec<Complex64>,
+}
+
+fn admissible(denom: Complex64) -> bool {
+    denom.norm() > 1e-300 && denom.re.is_finite() && denom.im.is_finite()
+}
+
+impl TState {
+    /// Adds y at bank `a`'s bus (Sherman–Morrison, Z symmetric), keeping what later banks
+    /// and the outputs need. False when exactly singular.
+    fn add_into(&self, a: usize, y: Complex64, to: &mut TState) -> bool {
+        let (k, n, l) = (self.k, self.n, self.l);
+        let denom = 1.0 + y * self.zss[a * k + a];
+        if !admissible(denom) {
+            return false;
+        }
+        let f = y / denom;
+        to.k = k;
+        to.n = n;
+        to.l = l;
+        to.zss.resize(k * k, Complex64::default());
+        to.zrs.resize(n * k, Complex64::default());
+        to.zsj.resize(k * l, Complex64::default());
+        to.zrj.resize(n * l, Complex64::default());
+        for i in a + 1..k {
+            let g = self.zss[i * k + a] * f;
+            for j in a + 1..k {
+                to.zss[i * k + j] = self.zss[i * k + j] - g * self.zss[a * k + j];
+            }
+            for c in 0..l {
+                to.zsj[i * l + c] = self.zsj[i * l + c] - g * self.zsj[a * l + c];
+            }
+        }
+        for r in 0..n {
+            let g = self.zrs[r * k + a] * f;
+            for j in a + 1..k {
+                to.zrs[r * k + j] = self.zrs[r * k + j] - g * self.zss[a * k + j];
+            }
+            for c in 0..l {
+                to.zrj[r * l + c] = self.zrj[r * l + c] - g * self.zsj[a * l + c];
+            }
+        }
+        true
+    }
+
+    /// Every bus × injection bus after adding y at bank `a` (the last bank).
+    fn leaf(&self, a: usize, y: Complex64, out: &mut [Complex64]) -> bool {
+        let (k, n, l) = (self.k, self.n, self.l);
+        let denom = 1.0 + y * self.zss[a * k + a];
+        if !admissible(denom) {
+            return false;
+        }
+        let f = y / denom;
+        for r in 0..n {
+            let g = self.zrs[r * k + a] * f;
+            for c in 0..l {
+                out[r * l + c] = self.zrj[r * l + c] - g * self.zsj[a * l + c];
+            }
+        }
+        true
+    }
+}
+
+/// Reusable buffers for [`HarmonicPoint::evaluate`].
+#[derive(Debug, Clone, Default)]
+pub struct TransferScratch {
+    levels: Vec<TState>,
+}
+
+impl Engine<'_> {
+    /// Factors Y₀(h) in `scenario` and solves the columns at the bank buses and at the
+    /// injection buses `inject` (bus indices).
+    pub fn harmonic_point(
+        &self,
+        order: f64,
+        scenario: usize,
+        inject: &[usize],
+    ) -> Result<HarmonicPoint, SolveError> {
+        let net = self.network();
+        let f = self.factor(order, scenario, &[])?;
+        let n = net.buses.len();
+        let banks: Vec<usize> = net.banks.iter().map(|b| b.bus).collect();
+        let (k, l) = (banks.len(), inject.len());
+        let column = |bus: usize| {
+            let mut rhs = vec![Complex64::default(); n];
+            rhs[bus] = Complex64::new(1.0, 0.0);
+            self.solve(&f, &mut rhs);
+            rhs
+        };
+        let bank_cols: Vec<Vec<Complex64>> = banks.iter().map(|&b| column(b)).collect();
+        let inj_cols: Vec<Vec<Complex64>> = inject.iter().map(|&b| column(b)).collect();
+        let mut st = TState {
+            k,
+            n,
+            l,
+            zss: Vec::with_capacity(k * k),
+            zrs: Vec::with_capacity(n * k),
+            zsj: Vec::with_capacity(k * l),
+            zrj: Vec::with_capacity(n * l),
+        };
+        for &a in &banks {
+            for col in &bank_cols {
+                st.zss.push(col[a]);
+            }
+            for col in &inj_cols {
+                st.zsj.push(col[a]);
+            }
+        }
+        for r in 0..n {
+            for col in &bank_cols {
+                st.zrs.push(col[r]);
+            }
+            for col in &inj_cols {
+                st.zrj.push(col[r]);
+            }
+        }
+        Ok(HarmonicPoint {
+            order,
+            state: st,
+            y_step: self.y_steps(order),
+        })
+    }
+}
+
+impl HarmonicPoint {
+    /// Number of buses (rows) and injection buses (columns) of each output block.
+    pub fn shape(&self) -> (usize, usize) {
+        (self.state.n, self.state.l)
+    }
+
+    /// One step's admittance of bank `b`, per unit.
+    pub fn y_step(&self, b: usize) -> Complex64 {
+        self.y_step[b]
+    }
+
+    /// Z between every bus and every injection bus for each combination of `plan`: `out`
+    /// holds slot after slot an n×l row-major block. False if any is singular.
+    pub fn evaluate(&self, plan: &ComboPlan, scratch: &mut TransferScratch, out: &mut [Complex64]) -> bool {
+        let k = self.state.k;
+        let block = self.state.n * self.state.l;
+        scratch.levels.resize_with(k + 1, TState::default);
+        let (first, rest) = scratch.levels.split_at_mut(1);
+        first[0].clone_from(&self.state);
+        for op in plan.ops() {
+            match *op {
+                Op::Bare { slot } => out[slot * block..(slot + 1) * block].copy_from_slice(&first[0].zrj),
+                Op::Apply { bank, n } => {
+                    let (read, write) = if bank == 0 {
+                        (&first[0], &mut rest[0])
+                    } else {
+                        let (lo, hi) = rest.split_at_mut(bank);
+                        (&lo[bank - 1], &mut hi[0])
+                    };
+                    if n == 0 {
+                        write.clone_from(read);
+                    } else if !read.add_into(bank, self.y_step[bank] * f64::from(n), write) {
+                        return false;
+                    }
+                }
+                Op::Leaf { bank, n, slot } => {
+                    let read = if bank == 0 { &first[0] } else { &rest[bank - 1] };
+                    let dst = &mut out[slot * block..(slot + 1) * block];
+                    if n == 0 {
+                        dst.copy_from_slice(&read.zrj);
+                    } else if !read.leaf(bank, self.y_step[bank] * f64::from(n), dst) {
+                        return false;
+                    }
+                }
+            }
+        }
+        out.iter().all(|z| z.re.is_finite() && z.im.is_finite())
+    }
+}

@@ -1,0 +1,249 @@
+//! Limits: every bus's harmonic voltages and the PCC's harmonic currents held against the
+//! limit set of the Study sheet (IEEE 519-2014 Tables 1–4, or IEC 61000-2-4 class 1, 2 or 3
+//! compatibility levels, which set no current limits), with the margin of each value.
+
+use serde::Serialize;
+
+use super::penetration::{Distortion, IndividualLimits, Injections};
+use crate::model::{LimitSet, Plant};
+use crate::network::Network;
+use crate::standards::{Limit, iec61000_2_4, ieee519};
+
+/// Everything the limits depend on, fixed for the study.
+#[derive(Debug, Clone, Serialize)]
+pub struct LimitContext {
+    pub set: LimitSet,
+    /// Maximum demand current at the PCC, A.
+    pub i_l_a: f64,
+    /// True when I_L was estimated from the Loads sheet (no `Max demand current (A)`).
+    pub i_l_estimated: bool,
+    /// Maximum three-phase short-circuit current at the PCC over the scenarios, kA.
+    pub isc_ka: f64,
+    pub isc_over_il: f64,
+    /// Voltage THD limit at each bus.
+    pub thd_limit: Vec<Limit>,
+    /// Individual voltage limit at each bus and injected order, %.
+    #[serde(skip)]
+    pub individual: IndividualLimits,
+    /// Individual current limit at the PCC per injected order, % of I_L (IEEE 519 only).
+    pub pcc_limit: Vec<Option<f64>>,
+    /// TDD limit at the PCC, % (IEEE 519 only).
+    pub tdd_limit: Option<Limit>,
+}
+
+fn iec_class(set: LimitSet) -> Option<u8> {
+    match set {
+        LimitSet::Ieee519_2014 => None,
+        LimitSet::Iec61000_2_4Class1 => Some(1),
+        LimitSet::Iec61000_2_4Class2 => Some(2),
+        LimitSet::Iec61000_2_4Class3 => Some(3),
+    }
+}
+
+/// The individual voltage limit of `set` at a bus of `kv` kV and harmonic `order`, %:
+/// IEEE 519-2014 Table 1 applies to integer orders; IEC 61000-2-4 as stored.
+pub fn voltage_limit(set: LimitSet, kv: f64, order: f64) -> Option<Limit> {
+    match iec_class(set) {
+        None => (order.fract() == 0.0).then(|| ieee519::voltage_limits(kv).0),
+        Some(c) => iec61000_2_4::voltage_limit(c, order),
+    }
+}
+
+/// The voltage THD limit of `set` at a bus of `kv` kV, %.
+pub fn thd_limit(set: LimitSet, kv: f64) -> Limit {
+    match iec_class(set) {
+        None => ieee519::voltage_limits(kv).1,
+        Some(c) => iec61000_2_4::thd_limit(c),
+    }
+}
+
+/// Estimated maximum demand current at the PCC, A: the apparent power of every load at the
+/// study point, Σ P/pf, over √3·kV of the PCC (an upper estimate: diversity ignored).
+pub fn estimated_demand_a(plant: &Plant, pcc_kv: f64) -> f64 {
+    let kva: f64 = plant.loads.iter().map(|l| l.p_kw() / l.power_factor).sum();
+    kva / (3f64.sqrt() * pcc_kv)
+}
+
+impl LimitContext {
+    /// The limits of `plant` at the network's buses for the injected orders; `isc_ka` is
+    /// the maximum short-circuit current at the PCC over the scenarios.
+    pub fn new(plant: &Plant, net: &Network, inj: &Injections, pcc: usize, isc_ka: f64) -> Self {
+        let set = plant.study.limits;
+        let pcc_kv = net.buses[pcc].kv;
+        let (i_l_a, i_l_estimated) = match plant.study.max_demand_current_a {
+            Some(i) => (i, false),
+            None => (estimated_demand_a(plant, pcc_kv), true),
+        };
+        let isc_over_il = if i_l_a > 0.0 { isc_ka * 1000.0 / i_l_a } else { f64::INFINITY };
+        let ieee = iec_class(set).is_none();
+        LimitContext {
+            set,
+            i_l_a,
+            i_l_estimated,
+            isc_ka,
+            isc_over_il,
+            thd_limit: net.buses.iter().map(|b| thd_limit(set, b.kv)).collect(),
+            individual: net
+                .buses
+                .iter()
+                .map(|b| {
+                    inj.orders
+                        .iter()
+                        .map(|&h| voltage_limit(set, b.kv, h).map(|l| l.value))
+                        .collect()
+                })
+                .collect(),
+            pcc_limit: inj
+                .orders
+                .iter()
+                .map(|&h| {
+                    if ieee {
+                        ieee519::current_limit(pcc_kv, isc_over_il, h).map(|l| l.value)
+                    } else {
+                        None
+                    }
+                })
+                .collect(),
+            tdd_limit: ieee.then(|| ieee519::tdd_limit(pcc_kv, isc_over_il)),
+        }
+    }
+}
+
+/// A value against its limit.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Checked {
+    pub value: f64,
+    pub limit: Option<f64>,
+    /// limit − value (positive = within the limit).
+    pub margin: Option<f64>,
+}
+
+impl Checked {
+    fn new(value: f64, limit: Option<f64>) -> Self {
+        Checked {
+            value,
+            limit,
+            margin: limit.map(|l| l - value),
+        }
+    }
+
+    /// True when the value is above its limit.
+    pub fn exceeds(&self) -> bool {
+        self.margin.is_some_and(|m| m < 0.0)
+    }
+
+    fn ratio(&self) -> f64 {
+        match self.limit {
+            Some(l) if l > 0.0 => self.value / l,
+            _ => 0.0,
+        }
+    }
+}
+
+/// One bus's voltage distortion against its limits.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BusCheck {
+    pub bus: String,
+    pub thd_percent: Checked,
+    /// Order of the worst individual harmonic.
+    pub worst_order: Option<f64>,
+    pub worst_percent: Option<Checked>,
+}
+
+/// The limits summary of one scenario × configuration.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LimitRow {
+    pub scenario: String,
+    pub configuration: String,
+    pub worst_thd_bus: String,
+    pub worst_thd: Checked,
+    pub worst_individual_bus: String,
+    pub worst_individual_order: Option<f64>,
+    pub worst_individual: Option<Checked>,
+    /// TDD at the PCC, % of I_L.
+    pub tdd: Checked,
+    pub worst_pcc_order: Option<f64>,
+    /// The PCC harmonic current with the highest ratio to its limit, % of I_L.
+    pub worst_pcc_current: Option<Checked>,
+    /// Any value above its limit.
+    pub exceeds: bool,
+}
+
+/// Every bus of one result against its limits.
+pub fn bus_checks(d: &Distortion, ctx: &LimitContext, net: &Network) -> Vec<BusCheck> {
+    net.buses
+        .iter()
+        .enumerate()
+        .map(|(b, bus)| BusCheck {
+            bus: bus.id.clone(),
+            thd_percent: Checked::new(d.thd_percent[b], Some(ctx.thd_limit[b].value)),
+            worst_order: d.worst[b].map(|w| w.order),
+            worst_percent: d.worst[b].map(|w| Checked::new(w.v_percent, w.limit_percent)),
+        })
+        .collect()
+}
+
+/// TDD = √(Σ I_h²) / I_L × 100 over the injected orders up to the 50th (IEEE 519-2014).
+pub fn tdd_percent(pcc_current_a: &[f64], orders: &[f64], i_l_a: f64) -> f64 {
+    let sum: f64 = pcc_current_a
+        .iter()
+        .zip(orders)
+        .filter(|(_, h)| **h <= 50.0)
+        .map(|(i, _)| i * i)
+        .sum();
+    sum.sqrt() / i_l_a * 100.0
+}
+
+/// The summary row of one result.
+pub fn limit_row(
+    d: &Distortion,
+    ctx: &LimitContext,
+    net: &Network,
+    orders: &[f64],
+    scenario: &str,
+    configuration: String,
+) -> LimitRow {
+    let checks = bus_checks(d, ctx, net);
+    let by = |f: &dyn Fn(&BusCheck) -> f64| {
+        checks
+            .iter()
+            .max_by(|a, b| f(a).total_cmp(&f(b)))
+            .cloned()
+    };
+    let thd = by(&|c: &BusCheck| c.thd_percent.ratio()).expect("a plant has buses");
+    let ind = by(&|c: &BusCheck| c.worst_percent.as_ref().map_or(0.0, |w| w.ratio().max(w.value * 1e-12)))
+        .expect("a plant has buses");
+    let tdd = Checked::new(
+        tdd_percent(&d.pcc_current_a, orders, ctx.i_l_a),
+        ctx.tdd_limit.map(|l| l.value),
+    );
+    let pcc: Vec<(f64, Checked)> = d
+        .pcc_current_a
+        .iter()
+        .zip(orders)
+        .zip(&ctx.pcc_limit)
+        .map(|((i, &h), lim)| (h, Checked::new(i / ctx.i_l_a * 100.0, *lim)))
+        .collect();
+    let worst_pcc = pcc
+        .iter()
+        .max_by(|a, b| a.1.ratio().total_cmp(&b.1.ratio()).then(a.1.value.total_cmp(&b.1.value)))
+        .cloned();
+    let exceeds = checks
+        .iter()
+        .any(|c| c.thd_percent.exceeds() || c.worst_percent.as_ref().is_some_and(Checked::exceeds))
+        || tdd.exceeds()
+        || pcc.iter().any(|(_, c)| c.exceeds());
+    LimitRow {
+        scenario: scenario.to_string(),
+        configuration,
+        worst_thd_bus: thd.bus.clone(),
+        worst_thd: thd.thd_percent,
+        worst_individual_bus: ind.bus.clone(),
+        worst_individual_order: ind.worst_order,
+        worst_individual: ind.worst_percent,
+        tdd,
+        worst_pcc_order: worst_pcc.as_ref().map(|p| p.0),
+        worst_pcc_current: worst_pcc.map(|p| p.1),
+        exceeds,
+    }
+}
