@@ -160,7 +160,11 @@ pub fn write_scan_file(
 
 /// Writes `scenario,configuration,bus,order,v_percent,v_volts`: one row per bus (every bus
 /// by default, in sheet order) and injected order; `v_volts` is line-to-neutral.
-pub fn write_voltages_csv(out: &mut dyn Write, res: &CheckResults, sel: &ScanSelection) -> io::Result<()> {
+pub fn write_voltages_csv(
+    out: &mut dyn Write,
+    res: &CheckResults,
+    sel: &ScanSelection,
+) -> io::Result<()> {
     let buses: Vec<usize> = if sel.buses.is_empty() {
         (0..res.network.buses.len()).collect()
     } else {
@@ -176,7 +180,10 @@ pub fn write_voltages_csv(out: &mut dyn Write, res: &CheckResults, sel: &ScanSel
     for (s, scenario) in res.scan.scenarios.iter().enumerate() {
         for &c in &configs {
             let label = res.label(c);
-            let Some(v) = res.penetration.voltages(s, &res.scan.configurations[c].steps) else {
+            let Some(v) = res
+                .penetration
+                .voltages(s, &res.scan.configurations[c].steps)
+            else {
                 continue;
             };
             for &b in &buses {
@@ -202,12 +209,18 @@ pub fn write_voltages_csv(out: &mut dyn Write, res: &CheckResults, sel: &ScanSel
 }
 
 /// Writes the harmonic-voltage CSV of `sel` to `path`.
-pub fn write_voltages_file(path: &std::path::Path, res: &CheckResults, sel: &ScanSelection) -> Result<(), CsvError> {
+pub fn write_voltages_file(
+    path: &std::path::Path,
+    res: &CheckResults,
+    sel: &ScanSelection,
+) -> Result<(), CsvError> {
     let io_err = |source| CsvError::Io {
         path: path.display().to_string(),
         source,
     };
     let file = std::fs::File::create(path).map_err(io_err)?;
     let mut w = std::io::BufWriter::new(file);
-    write_voltages_csv(&mut w, res, sel).and_then(|()| w.flush()).map_err(io_err)
+    write_voltages_csv(&mut w, res, sel)
+        .and_then(|()| w.flush())
+        .map_err(io_err)
 }

@@ -1,9 +1,13 @@
-//! The JSON summary of a check: settings, characteristic orders, every resonance row and
-//! every peak and dip of every scanned series.
+//! The JSON summary of a check: settings, characteristic orders, every resonance row, every
+//! peak and dip of every scanned series, the spectra used, and the harmonic distortion of
+//! every configuration against its limits.
 
 use serde::Serialize;
 
 use crate::check::CheckResults;
+use crate::study::limits::{BusCheck, LimitContext, LimitRow, bus_checks};
+use crate::study::penetration::{BankAmplification, bank_amplification};
+use crate::study::spectra::SpectrumChoice;
 use crate::study::{Extremum, ResonanceStudy};
 
 #[derive(Serialize)]
@@ -14,6 +18,21 @@ struct SeriesPeaks<'a> {
     peaks: &'a [Extremum],
     dips: &'a [Extremum],
 }
+
+#[derive(Serialize)]
+struct DistortionJson<'a> {
+    limits: &'a LimitRow,
+    bank_amplification: Vec<BankAmplification>,
+    /// Every bus against its limits; omitted (null) for large studies.
+    buses: Option<Vec<BusCheck>>,
+    pcc_current_a: &'a [f64],
+    bank_current_a: &'a [Vec<f64>],
+    bank_voltage_percent: &'a [Vec<f64>],
+}
+
+/// Scenario × configuration × bus entries above which per-bus checks are left out of the
+/// JSON (the limit rows, with each configuration's worst bus, stay).
+pub const MAX_BUS_ENTRIES: usize = 200_000;
 
 #[derive(Serialize)]
 struct Summary<'a> {
@@ -27,6 +46,11 @@ struct Summary<'a> {
     configurations: Vec<String>,
     resonance: &'a ResonanceStudy,
     scan: Vec<SeriesPeaks<'a>>,
+    limits: &'a LimitContext,
+    injected_orders: &'a [f64],
+    spectra: &'a [SpectrumChoice],
+    distortion: Vec<DistortionJson<'a>>,
+    assumptions: &'a [String],
     cautions: &'static [&'static str],
 }
 
@@ -44,6 +68,26 @@ pub fn to_json(res: &CheckResults) -> String {
             dips: &s.dips,
         })
         .collect();
+    let nc = res.scan.configurations.len();
+    let none = res.scan.configurations.iter().position(|c| c.is_none());
+    let orders = &res.penetration.injections.orders;
+    let per_bus = res.penetration.results.len() * res.network.buses.len() <= MAX_BUS_ENTRIES;
+    let distortion = res
+        .penetration
+        .results
+        .iter()
+        .zip(&res.limit_rows)
+        .map(|(d, row)| DistortionJson {
+            limits: row,
+            bank_amplification: none.map_or_else(Vec::new, |n0| {
+                bank_amplification(d, res.penetration.result(d.scenario, n0, nc), orders)
+            }),
+            buses: per_bus.then(|| bus_checks(d, &res.limits, &res.network)),
+            pcc_current_a: &d.pcc_current_a,
+            bank_current_a: &d.bank_current_a,
+            bank_voltage_percent: &d.bank_voltage_percent,
+        })
+        .collect();
     let summary = Summary {
         tool: "overtone",
         version: env!("CARGO_PKG_VERSION"),
@@ -57,6 +101,11 @@ pub fn to_json(res: &CheckResults) -> String {
             .collect(),
         resonance: &res.resonance,
         scan,
+        limits: &res.limits,
+        injected_orders: orders,
+        spectra: &res.penetration.injections.spectra,
+        distortion,
+        assumptions: &res.notes,
         cautions: crate::report::cautions::CAUTIONS,
     };
     serde_json::to_string_pretty(&summary).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))

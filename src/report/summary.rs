@@ -6,6 +6,9 @@ use std::io::{self, Write};
 
 use super::cautions::CAUTIONS;
 use crate::check::CheckResults;
+use crate::model::LimitSet;
+use crate::study::limits::{Checked, LimitRow};
+use crate::study::penetration::bank_amplification;
 use crate::study::{ResonanceRow, Verdict};
 
 /// Rows shown per scenario before the summary keeps only flagged rows.
@@ -52,9 +55,14 @@ const HEADERS: [&str; 14] = [
     "verdict",
 ];
 
-/// Writes a table with right-aligned numeric columns (all but the first three and last).
-fn write_table(out: &mut dyn Write, rows: &[Vec<String>]) -> io::Result<()> {
-    let mut widths: Vec<usize> = HEADERS.iter().map(|h| h.len()).collect();
+/// Writes a table; columns in `left` are left-aligned, the rest right-aligned.
+fn write_table(
+    out: &mut dyn Write,
+    headers: &[&str],
+    left: &[usize],
+    rows: &[Vec<String>],
+) -> io::Result<()> {
+    let mut widths: Vec<usize> = headers.iter().map(|h| h.len()).collect();
     for r in rows {
         for (w, c) in widths.iter_mut().zip(r) {
             *w = (*w).max(c.chars().count());
@@ -66,7 +74,7 @@ fn write_table(out: &mut dyn Write, rows: &[Vec<String>]) -> io::Result<()> {
             .enumerate()
             .map(|(i, c)| {
                 let w = widths[i];
-                if i < 3 || i == cells.len() - 1 {
+                if left.contains(&i) {
                     format!("{c:<w$}")
                 } else {
                     format!("{c:>w$}")
@@ -75,7 +83,7 @@ fn write_table(out: &mut dyn Write, rows: &[Vec<String>]) -> io::Result<()> {
             .collect::<Vec<_>>()
             .join("  ")
     };
-    let head: Vec<String> = HEADERS.iter().map(|h| h.to_string()).collect();
+    let head: Vec<String> = headers.iter().map(|h| h.to_string()).collect();
     writeln!(out, "  {}", line(&head).trim_end())?;
     for r in rows {
         writeln!(out, "  {}", line(r).trim_end())?;
@@ -172,7 +180,7 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         };
         let table: Vec<Vec<String>> = shown.iter().map(|r| cells(r)).collect();
         if !table.is_empty() {
-            write_table(out, &table)?;
+            write_table(out, &HEADERS, &[0, 1, 2, 13], &table)?;
         }
     }
     writeln!(out)?;
@@ -183,11 +191,177 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
          banks at that order; Q: peak sharpness h/bandwidth; margin: (scan h - near h)/near h."
     )?;
     writeln!(out)?;
+    write_limits(out, res)?;
+    if !res.notes.is_empty() {
+        writeln!(out)?;
+        writeln!(out, "Assumptions:")?;
+        for n in &res.notes {
+            writeln!(out, "- {n}")?;
+        }
+    }
+    writeln!(out)?;
     writeln!(out, "Cautions:")?;
     for c in CAUTIONS {
         writeln!(out, "- {c}")?;
     }
     Ok(())
+}
+
+fn pct(c: &Checked) -> String {
+    format!("{:.2}", c.value)
+}
+
+fn lim(c: &Checked) -> String {
+    c.limit
+        .map_or_else(|| "-".to_string(), |l| format!("{l:.2}"))
+}
+
+const LIMIT_HEADERS: [&str; 14] = [
+    "configuration",
+    "THD bus",
+    "THD %",
+    "limit",
+    "worst h (bus)",
+    "Vh %",
+    "limit",
+    "TDD %",
+    "limit",
+    "PCC h",
+    "Ih % IL",
+    "limit",
+    "bank V ampl",
+    "verdict",
+];
+
+/// The harmonic-limits table: per scenario and configuration, the worst THD bus, the worst
+/// individual harmonic, the PCC TDD and worst harmonic current, each with its limit.
+pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    let ctx = &res.limits;
+    let set = match ctx.set {
+        LimitSet::Ieee519_2014 => "IEEE 519-2014",
+        LimitSet::Iec61000_2_4Class1 => "IEC 61000-2-4 class 1",
+        LimitSet::Iec61000_2_4Class2 => "IEC 61000-2-4 class 2",
+        LimitSet::Iec61000_2_4Class3 => "IEC 61000-2-4 class 3",
+    };
+    writeln!(
+        out,
+        "Harmonic limits ({set}): I_L {:.1} A{}, Isc {:.2} kA, Isc/IL {:.1}; {} harmonic load(s), {} injected order(s)",
+        ctx.i_l_a,
+        if ctx.i_l_estimated {
+            " (estimated)"
+        } else {
+            ""
+        },
+        ctx.isc_ka,
+        ctx.isc_over_il,
+        res.penetration.injections.spectra.len(),
+        res.penetration.injections.orders.len(),
+    )?;
+    let mut used: Vec<(String, usize, f64)> = Vec::new();
+    for s in &res.penetration.injections.spectra {
+        match used.iter_mut().find(|u| u.0 == s.name) {
+            Some(u) => u.1 += 1,
+            None => used.push((
+                s.name.clone(),
+                1,
+                crate::study::spectra::thd_percent(&s.lines),
+            )),
+        }
+    }
+    for (name, count, thd) in &used {
+        writeln!(
+            out,
+            "  spectrum {name}: {count} load(s), current THD {thd:.1} %"
+        )?;
+    }
+    let nc = res.scan.configurations.len();
+    let none = res.scan.configurations.iter().position(|c| c.is_none());
+    let orders = &res.penetration.injections.orders;
+    for (s, scenario) in res.scan.scenarios.iter().enumerate() {
+        let rows: Vec<(usize, &LimitRow)> =
+            (0..nc).map(|c| (c, &res.limit_rows[s * nc + c])).collect();
+        let exceeding = rows.iter().filter(|(_, r)| r.exceeds).count();
+        writeln!(out)?;
+        writeln!(
+            out,
+            "Scenario {scenario}: {exceeding} of {nc} configuration(s) exceed a limit"
+        )?;
+        let shown: Vec<(usize, &LimitRow)> = if rows.len() > MAX_ROWS_PER_SCENARIO {
+            let mut r: Vec<(usize, &LimitRow)> =
+                rows.iter().copied().filter(|(_, r)| r.exceeds).collect();
+            r.sort_by(|a, b| {
+                a.1.worst_thd
+                    .margin
+                    .unwrap_or(0.0)
+                    .total_cmp(&b.1.worst_thd.margin.unwrap_or(0.0))
+            });
+            r.truncate(MAX_ROWS_PER_SCENARIO);
+            writeln!(
+                out,
+                "  (showing the {} configurations exceeding most; --json has all)",
+                r.len()
+            )?;
+            r
+        } else {
+            rows
+        };
+        let table: Vec<Vec<String>> = shown
+            .iter()
+            .map(|&(c, r)| {
+                let ampl = none.map_or_else(
+                    || "-".to_string(),
+                    |n0| {
+                        let a = bank_amplification(
+                            res.penetration.result(s, c, nc),
+                            res.penetration.result(s, n0, nc),
+                            orders,
+                        );
+                        a.iter()
+                            .map(|x| x.thd_ratio)
+                            .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+                            .map_or_else(|| "-".to_string(), |v| format!("{v:.2}"))
+                    },
+                );
+                vec![
+                    r.configuration.clone(),
+                    r.worst_thd_bus.clone(),
+                    pct(&r.worst_thd),
+                    lim(&r.worst_thd),
+                    match r.worst_individual_order {
+                        Some(h) => format!("{h} ({})", r.worst_individual_bus),
+                        None => "-".to_string(),
+                    },
+                    r.worst_individual
+                        .as_ref()
+                        .map_or_else(|| "-".to_string(), pct),
+                    r.worst_individual
+                        .as_ref()
+                        .map_or_else(|| "-".to_string(), lim),
+                    pct(&r.tdd),
+                    lim(&r.tdd),
+                    r.worst_pcc_order
+                        .map_or_else(|| "-".to_string(), |h| format!("{h}")),
+                    r.worst_pcc_current
+                        .as_ref()
+                        .map_or_else(|| "-".to_string(), pct),
+                    r.worst_pcc_current
+                        .as_ref()
+                        .map_or_else(|| "-".to_string(), lim),
+                    ampl,
+                    if r.exceeds { "EXCEEDS" } else { "meets" }.to_string(),
+                ]
+            })
+            .collect();
+        if !table.is_empty() {
+            write_table(out, &LIMIT_HEADERS, &[0, 1, 4, 13], &table)?;
+        }
+    }
+    writeln!(out)?;
+    writeln!(
+        out,
+        "THD and Vh in % of nominal voltage at the bus; TDD and Ih in % of I_L at the PCC (current into the supply); \
+         bank V ampl: the largest ratio over the banks of the voltage THD at the bank's bus to that without banks."
+    )
 }
 
 /// Writes the peaks of every scanned series: the `scan` command's terminal output.

@@ -162,7 +162,12 @@ impl HarmonicPoint {
 
     /// Z between every bus and every injection bus for each combination of `plan`: `out`
     /// holds slot after slot an n×l row-major block. False if any is singular.
-    pub fn evaluate(&self, plan: &ComboPlan, scratch: &mut TransferScratch, out: &mut [Complex64]) -> bool {
+    pub fn evaluate(
+        &self,
+        plan: &ComboPlan,
+        scratch: &mut TransferScratch,
+        out: &mut [Complex64],
+    ) -> bool {
         let k = self.state.k;
         let block = self.state.n * self.state.l;
         scratch.levels.resize_with(k + 1, TState::default);
@@ -170,7 +175,9 @@ impl HarmonicPoint {
         first[0].clone_from(&self.state);
         for op in plan.ops() {
             match *op {
-                Op::Bare { slot } => out[slot * block..(slot + 1) * block].copy_from_slice(&first[0].zrj),
+                Op::Bare { slot } => {
+                    out[slot * block..(slot + 1) * block].copy_from_slice(&first[0].zrj)
+                }
                 Op::Apply { bank, n } => {
                     let (read, write) = if bank == 0 {
                         (&first[0], &mut rest[0])
@@ -185,7 +192,11 @@ impl HarmonicPoint {
                     }
                 }
                 Op::Leaf { bank, n, slot } => {
-                    let read = if bank == 0 { &first[0] } else { &rest[bank - 1] };
+                    let read = if bank == 0 {
+                        &first[0]
+                    } else {
+                        &rest[bank - 1]
+                    };
                     let dst = &mut out[slot * block..(slot + 1) * block];
                     if n == 0 {
                         dst.copy_from_slice(&read.zrj);

@@ -25,10 +25,14 @@ pub const TABLE_1: [(f64, f64, f64); 4] = [
     (f64::INFINITY, 1.0, 1.5),
 ];
 
+/// A row of Tables 2–4: (lowest Isc/IL of the row, odd-harmonic limits by band in % of
+/// I_L, TDD limit in %).
+pub type CurrentRow = (f64, [f64; 5], f64);
+
 /// IEEE 519-2014 Table 2 (120 V to 69 kV): rows by Isc/IL (lower bound of the row), odd
 /// harmonic limits in % of I_L for 3 ≤ h < 11, 11 ≤ h < 17, 17 ≤ h < 23, 23 ≤ h < 35,
 /// 35 ≤ h ≤ 50, then TDD.
-pub const TABLE_2: [(f64, [f64; 5], f64); 5] = [
+pub const TABLE_2: [CurrentRow; 5] = [
     (0.0, [4.0, 2.0, 1.5, 0.6, 0.3], 5.0),
     (20.0, [7.0, 3.5, 2.5, 1.0, 0.5], 8.0),
     (50.0, [10.0, 4.5, 4.0, 1.5, 0.7], 12.0),
@@ -37,7 +41,7 @@ pub const TABLE_2: [(f64, [f64; 5], f64); 5] = [
 ];
 
 /// IEEE 519-2014 Table 3 (above 69 kV through 161 kV): half of Table 2 (from memory).
-pub const TABLE_3: [(f64, [f64; 5], f64); 5] = [
+pub const TABLE_3: [CurrentRow; 5] = [
     (0.0, [2.0, 1.0, 0.75, 0.3, 0.15], 2.5),
     (20.0, [3.5, 1.75, 1.25, 0.5, 0.25], 4.0),
     (50.0, [5.0, 2.25, 2.0, 0.75, 0.35], 6.0),
@@ -46,7 +50,7 @@ pub const TABLE_3: [(f64, [f64; 5], f64); 5] = [
 ];
 
 /// IEEE 519-2014 Table 4 (above 161 kV): rows Isc/IL < 25, 25 < 50, ≥ 50 (from memory).
-pub const TABLE_4: [(f64, [f64; 5], f64); 3] = [
+pub const TABLE_4: [CurrentRow; 3] = [
     (0.0, [1.0, 0.5, 0.38, 0.15, 0.1], 1.5),
     (25.0, [2.0, 1.0, 0.75, 0.3, 0.15], 2.5),
     (50.0, [3.0, 1.5, 1.15, 0.45, 0.22], 3.75),
@@ -75,7 +79,7 @@ pub fn voltage_limits(kv: f64) -> (Limit, Limit) {
 /// The row of Tables 2–4 that applies at a PCC of `kv` kV with short-circuit ratio
 /// `isc_over_il`: its odd-harmonic limits by band, its TDD limit and the table's name.
 pub fn current_row(kv: f64, isc_over_il: f64) -> ([f64; 5], f64, &'static str) {
-    let (rows, name): (&[(f64, [f64; 5], f64)], &str) = if kv <= 69.0 {
+    let (rows, name): (&[CurrentRow], &str) = if kv <= 69.0 {
         (&TABLE_2, T2)
     } else if kv <= 161.0 {
         (&TABLE_3, T3)
@@ -112,7 +116,11 @@ pub fn current_limit(kv: f64, isc_over_il: f64, order: f64) -> Option<Limit> {
     }
     let (bands, _, source) = current_row(kv, isc_over_il);
     let odd = bands[band(order)?];
-    let value = if order % 2.0 == 0.0 { odd * EVEN_FACTOR } else { odd };
+    let value = if order % 2.0 == 0.0 {
+        odd * EVEN_FACTOR
+    } else {
+        odd
+    };
     Some(Limit { value, source })
 }
 

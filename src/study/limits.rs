@@ -74,7 +74,11 @@ impl LimitContext {
             Some(i) => (i, false),
             None => (estimated_demand_a(plant, pcc_kv), true),
         };
-        let isc_over_il = if i_l_a > 0.0 { isc_ka * 1000.0 / i_l_a } else { f64::INFINITY };
+        let isc_over_il = if i_l_a > 0.0 {
+            isc_ka * 1000.0 / i_l_a
+        } else {
+            f64::INFINITY
+        };
         let ieee = iec_class(set).is_none();
         LimitContext {
             set,
@@ -204,15 +208,15 @@ pub fn limit_row(
     configuration: String,
 ) -> LimitRow {
     let checks = bus_checks(d, ctx, net);
-    let by = |f: &dyn Fn(&BusCheck) -> f64| {
-        checks
-            .iter()
-            .max_by(|a, b| f(a).total_cmp(&f(b)))
-            .cloned()
-    };
+    let by =
+        |f: &dyn Fn(&BusCheck) -> f64| checks.iter().max_by(|a, b| f(a).total_cmp(&f(b))).cloned();
     let thd = by(&|c: &BusCheck| c.thd_percent.ratio()).expect("a plant has buses");
-    let ind = by(&|c: &BusCheck| c.worst_percent.as_ref().map_or(0.0, |w| w.ratio().max(w.value * 1e-12)))
-        .expect("a plant has buses");
+    let ind = by(&|c: &BusCheck| {
+        c.worst_percent
+            .as_ref()
+            .map_or(0.0, |w| w.ratio().max(w.value * 1e-12))
+    })
+    .expect("a plant has buses");
     let tdd = Checked::new(
         tdd_percent(&d.pcc_current_a, orders, ctx.i_l_a),
         ctx.tdd_limit.map(|l| l.value),
@@ -226,7 +230,11 @@ pub fn limit_row(
         .collect();
     let worst_pcc = pcc
         .iter()
-        .max_by(|a, b| a.1.ratio().total_cmp(&b.1.ratio()).then(a.1.value.total_cmp(&b.1.value)))
+        .max_by(|a, b| {
+            a.1.ratio()
+                .total_cmp(&b.1.ratio())
+                .then(a.1.value.total_cmp(&b.1.value))
+        })
         .cloned();
     let exceeds = checks
         .iter()

@@ -3,9 +3,9 @@
 //! structs; none of them formats output.
 
 pub mod config;
-pub mod resonance;
 pub mod limits;
 pub mod penetration;
+pub mod resonance;
 pub mod scan;
 pub mod spectra;
 

@@ -223,7 +223,7 @@ impl Ctx<'_, '_> {
                 return Err(self.singular(s, p.order));
             }
             for (j, z) in out.iter().enumerate() {
-                mags[j * np + i] = z.norm() * self.z_base[j % nb];
+                mags[j * np + i] = (z.re * z.re + z.im * z.im).sqrt() * self.z_base[j % nb];
             }
         }
         let mut series = Vec::with_capacity(chunk.len() * nb);

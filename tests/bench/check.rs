@@ -1,6 +1,7 @@
 //! The whole `overtone check` study (no CSV) of a generated 300-bus plant with 4 banks of 6
 //! steps (2,401 configurations) × 2 supply scenarios × 4,901 scan points, peaks and dips at
-//! every bank bus and the PCC. Prints the process's peak resident memory afterwards.
+//! every bank bus and the PCC, and harmonic penetration (16 orders, drives on 10 buses) with
+//! the limit checks at every bus. Prints the process's peak resident memory afterwards.
 //! Run: `cargo bench --bench check`.
 
 use overtone::check::run_check;
@@ -18,9 +19,33 @@ fn main() {
     }
 }
 
+/// The generated plant with 6-pulse drives (built-in spectrum) on ten 480 V buses.
+pub fn bench_plant() -> overtone::model::Plant {
+    let mut plant = with_two_scenarios(generated_plant(300, 0, 4, 6, 17));
+    let lv: Vec<String> = plant
+        .buses
+        .iter()
+        .filter(|b| b.nominal_kv < 1.0)
+        .map(|b| b.id.clone())
+        .collect();
+    for (i, bus) in lv.iter().step_by(lv.len().div_ceil(10)).enumerate() {
+        plant.loads.push(overtone::model::Load {
+            id: format!("VFD{i}"),
+            bus: bus.clone(),
+            kind: overtone::model::LoadType::SixPulseDrive,
+            kw: 75.0,
+            power_factor: 0.95,
+            quantity: 2.0,
+            load_factor: 0.8,
+            spectrum: None,
+        });
+    }
+    plant
+}
+
 #[divan::bench(sample_count = 3, sample_size = 1)]
 fn exhaustive_300_buses_2401_configurations(bencher: divan::Bencher) {
-    let plant = with_two_scenarios(generated_plant(300, 0, 4, 6, 17));
+    let plant = bench_plant();
     assert_eq!(
         overtone::study::all_configurations(&plant.banks).len(),
         2401
@@ -29,6 +54,8 @@ fn exhaustive_300_buses_2401_configurations(bencher: divan::Bencher) {
         let res = run_check(&plant, &Default::default()).expect("runs");
         assert_eq!(res.scan.grid.orders.len(), 4901);
         assert_eq!(res.scan.series.len(), 2 * 2401 * 5);
+        assert_eq!(res.penetration.injections.buses.len(), 10);
+        assert_eq!(res.limit_rows.len(), 2 * 2401);
         res.resonance.rows.len()
     });
 }

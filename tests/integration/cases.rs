@@ -219,13 +219,15 @@ pub fn bottling_plant() -> Plant {
 }
 
 /// A small food plant: one 480 V bus behind a 1500 kVA transformer, 6-pulse drives, and a
-/// proposed 4 × 225 kvar plain bank whose fourth step resonates near the 5th.
+/// proposed 4 × 225 kvar plain bank whose fourth step resonates near the 5th and, alone of
+/// the four steps, takes the 5th harmonic above its limits.
 pub fn food_plant() -> Plant {
     let mut p = Plant::new(60.0);
     p.study.title = "Food plant: proposed 4-step bank on MCC-1".into();
     p.study.plant = "Invented snack-food plant (example case)".into();
     p.study.prepared_by = "overtone example".into();
     p.study.pcc_bus = Some("SVC".into());
+    p.study.max_demand_current_a = Some(60.0);
     p.buses = vec![
         bus("SVC", 12.47, "12.47 kV utility service (PCC)"),
         bus("MCC-1", 0.48, "480 V main switchboard and MCC"),
@@ -234,9 +236,24 @@ pub fn food_plant() -> Plant {
     p.transformers = vec![tx("T1", "SVC", "MCC-1", 1500.0, 5.75, 6.5)];
     use LoadType::*;
     p.loads = vec![
-        load("CONVEYOR-VFD", "MCC-1", SixPulseDrive, 30.0, 0.95, 8.0, 0.8),
-        load("MIXER-VFD", "MCC-1", SixPulseDrive, 55.0, 0.95, 4.0, 0.85),
-        load("FRYER-VFD", "MCC-1", SixPulseDrive, 75.0, 0.95, 2.0, 0.8),
+        load(
+            "CONVEYOR-VFD",
+            "MCC-1",
+            SixPulseDriveWithReactor,
+            15.0,
+            0.95,
+            8.0,
+            0.8,
+        ),
+        load(
+            "MIXER-VFD",
+            "MCC-1",
+            SixPulseDriveWithReactor,
+            22.0,
+            0.95,
+            2.0,
+            0.85,
+        ),
         load("COMPRESSORS", "MCC-1", Motor, 300.0, 0.85, 1.0, 0.75),
         load("OVENS", "MCC-1", Linear, 250.0, 0.98, 1.0, 0.9),
         load("LIGHTING", "MCC-1", Linear, 60.0, 0.9, 1.0, 1.0),
@@ -577,4 +594,33 @@ fn large_site_has_34_buses_and_four_banks() {
     let p = large_site();
     assert_eq!(p.buses.len(), 34);
     assert_eq!(p.banks.len(), 4);
+}
+
+#[test]
+fn food_plant_resonant_step_alone_exceeds_a_limit() {
+    let res = run_check(&food_plant(), &CheckOptions::default()).expect("runs");
+    let verdicts: Vec<(String, bool)> = res
+        .limit_rows
+        .iter()
+        .map(|r| (r.configuration.clone(), r.exceeds))
+        .collect();
+    assert_eq!(
+        verdicts,
+        [
+            ("none", false),
+            ("C1=1", false),
+            ("C1=2", false),
+            ("C1=3", false),
+            ("C1=4", true)
+        ]
+        .map(|(c, e)| (c.to_string(), e))
+    );
+    let four = res
+        .limit_rows
+        .iter()
+        .find(|r| r.configuration == "C1=4")
+        .unwrap();
+    // The 5th at the 480 V bus is over IEEE 519-2014 Table 1's 5 %.
+    assert_eq!(four.worst_individual_order, Some(5.0));
+    assert!(four.worst_individual.as_ref().unwrap().value > 5.0);
 }

@@ -689,3 +689,38 @@ fn files_that_are_not_workbooks() {
         .to_string();
     assert_eq!(missing, "/nonexistent/plant.xlsx: the file does not exist");
 }
+
+fn voltages_example(plant: &str, configurations: &[&str]) {
+    let read = read_workbook(&data(&format!("{plant}.xlsx"))).expect("contract example reads");
+    let configs: Vec<String> = configurations.iter().map(|s| s.to_string()).collect();
+    let res = run_check(
+        &read.plant,
+        &CheckOptions {
+            configurations: configs.clone(),
+            ..Default::default()
+        },
+    )
+    .expect("runs");
+    let sel = selection(&res, &[], &configs).expect("selection");
+    let mut out = Vec::new();
+    overtone::io::csv::write_voltages_csv(&mut out, &res, &sel).unwrap();
+    let got = String::from_utf8(out).unwrap();
+    let expected = std::fs::read_to_string(data(&format!("{plant}.voltages.csv"))).unwrap();
+    assert_eq!(got.lines().count(), expected.lines().count());
+    for (g, e) in got.lines().zip(expected.lines()).skip(1) {
+        let (g, e): (Vec<&str>, Vec<&str>) = (g.split(',').collect(), e.split(',').collect());
+        assert_eq!(g[..4], e[..4]);
+        for k in [4, 5] {
+            let (a, b): (f64, f64) = (g[k].parse().unwrap(), e[k].parse().unwrap());
+            // reference values: ngspice 39 AC analysis of the equivalent circuit, arithmetic
+            // summation (../shared/contract-examples), to 1e-9 relative.
+            assert!((a - b).abs() <= 1e-9 * b.abs(), "{g:?} vs {e:?}");
+        }
+    }
+}
+
+#[test]
+fn contract_example_voltages_match_circuit_simulator() {
+    voltages_example("plant-12", &["C1=3 C2=1 C3=1", "C1=1 C2=0 C3=1", "none"]);
+    voltages_example("plant-13", &["C1=3 C2=1", "C1=1 C2=0", "none"]);
+}

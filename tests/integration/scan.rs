@@ -122,6 +122,9 @@ fn too_many_combinations_are_refused_with_a_sentence() {
         err.to_string(),
         "1771561 step combinations exceed the limit of 100000: narrow \"Studied steps\" on the Capacitors sheet (for example 0,2,4 or 1-3)"
     );
-    plant.banks.iter_mut().for_each(|b| b.studied_steps = vec![0, 5, 10]);
+    plant
+        .banks
+        .iter_mut()
+        .for_each(|b| b.studied_steps = vec![0, 5, 10]);
     assert_eq!(configuration_count(&plant.banks), 729);
 }

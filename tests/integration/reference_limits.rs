@@ -1,0 +1,247 @@
+//! Limit tables against the values of references.md, and penetration against hand-worked
+//! and published rules, each with its source beside it.
+
+use overtone::check::run_check;
+use overtone::model::*;
+use overtone::standards::{iec61000_2_4, ieee519};
+use overtone::study::penetration::{combine, summation_exponent};
+
+use crate::common::*;
+
+#[test]
+fn ieee_519_2014_table_1_every_cell_and_edge() {
+    // IEEE 519-2014, Table 1 (references.md, verified): (kV, individual %, THD %).
+    let expected = [
+        (0.12, 5.0, 8.0),
+        (0.48, 5.0, 8.0),
+        (1.0, 5.0, 8.0), // V ≤ 1.0 kV
+        (1.0001, 3.0, 5.0),
+        (13.8, 3.0, 5.0),
+        (69.0, 3.0, 5.0), // 1 kV < V ≤ 69 kV
+        (69.1, 1.5, 2.5),
+        (161.0, 1.5, 2.5), // 69 kV < V ≤ 161 kV
+        (230.0, 1.0, 1.5), // V > 161 kV
+    ];
+    for (kv, ind, thd) in expected {
+        let (i, t) = ieee519::voltage_limits(kv);
+        assert_eq!((i.value, t.value), (ind, thd), "{kv} kV");
+        assert_eq!(i.source, "IEEE 519-2014, Table 1");
+    }
+}
+
+#[test]
+fn ieee_519_2014_table_2_every_cell_and_edge() {
+    // IEEE 519-2014, Table 2, 120 V to 69 kV (references.md, verified): rows by Isc/IL,
+    // odd harmonics 3≤h<11, 11≤h<17, 17≤h<23, 23≤h<35, 35≤h≤50, then TDD.
+    let rows = [
+        (10.0, [4.0, 2.0, 1.5, 0.6, 0.3], 5.0),
+        (20.0, [7.0, 3.5, 2.5, 1.0, 0.5], 8.0), // exactly 20: row 20 < 50
+        (49.9, [7.0, 3.5, 2.5, 1.0, 0.5], 8.0),
+        (50.0, [10.0, 4.5, 4.0, 1.5, 0.7], 12.0),
+        (100.0, [12.0, 5.5, 5.0, 2.0, 1.0], 15.0),
+        (999.0, [12.0, 5.5, 5.0, 2.0, 1.0], 15.0),
+        (1000.0, [15.0, 7.0, 6.0, 2.5, 1.4], 20.0),
+        (5000.0, [15.0, 7.0, 6.0, 2.5, 1.4], 20.0),
+    ];
+    // Orders: each band's first order (the band edges 11, 17, 23, 35) and one inside.
+    let orders = [
+        (5.0, 0),
+        (7.0, 0),
+        (11.0, 1),
+        (13.0, 1),
+        (17.0, 2),
+        (19.0, 2),
+        (23.0, 3),
+        (25.0, 3),
+        (35.0, 4),
+        (49.0, 4),
+    ];
+    for (ratio, bands, tdd) in rows {
+        for (h, band) in orders {
+            let got = ieee519::current_limit(13.8, ratio, h).expect("limit").value;
+            assert_eq!(got, bands[band], "Isc/IL {ratio}, h {h}");
+        }
+        assert_eq!(ieee519::tdd_limit(13.8, ratio).value, tdd, "Isc/IL {ratio}");
+        // Even harmonics at 25 % of the odd limits (IEEE 519-2014, Table 2 note).
+        assert_close(
+            ieee519::current_limit(13.8, ratio, 4.0).unwrap().value,
+            0.25 * bands[0],
+            1e-12,
+        );
+        assert_close(
+            ieee519::current_limit(13.8, ratio, 12.0).unwrap().value,
+            0.25 * bands[1],
+            1e-12,
+        );
+    }
+    // Interharmonics and orders above 50 have no limit in the table.
+    assert!(ieee519::current_limit(13.8, 60.0, 4.5).is_none());
+    assert!(ieee519::current_limit(13.8, 60.0, 51.0).is_none());
+}
+
+#[test]
+fn ieee_519_2014_tables_3_and_4_from_memory() {
+    // IEEE 519-2014 Table 3 is half of Table 2; Table 4 rows < 25, 25 < 50, ≥ 50
+    // (references.md: from memory).
+    assert_eq!(ieee519::current_limit(115.0, 30.0, 5.0).unwrap().value, 3.5);
+    assert_eq!(ieee519::tdd_limit(115.0, 30.0).value, 4.0);
+    assert_eq!(ieee519::current_limit(230.0, 10.0, 5.0).unwrap().value, 1.0);
+    assert_eq!(
+        ieee519::current_limit(230.0, 25.0, 11.0).unwrap().value,
+        1.0
+    );
+    assert_eq!(ieee519::tdd_limit(230.0, 60.0).value, 3.75);
+}
+
+#[test]
+fn iec_61000_2_4_class_2_every_stored_cell() {
+    // IEC 61000-2-4 class 2 (references.md: from memory).
+    let expected = [
+        (2.0, 2.0),
+        (3.0, 5.0),
+        (4.0, 1.0),
+        (5.0, 6.0),
+        (6.0, 0.5),
+        (7.0, 5.0),
+        (9.0, 1.5),
+        (11.0, 3.5),
+        (13.0, 3.0),
+        (15.0, 0.4),
+        (21.0, 0.3),
+    ];
+    for (h, v) in expected {
+        assert_eq!(iec61000_2_4::voltage_limit(2, h).unwrap().value, v, "h {h}");
+    }
+    // 17 ≤ h ≤ 49, non-triplen odd: 2.27·(17/h) − 0.27 (classes 1 and 2), from memory.
+    for h in [17.0, 19.0, 23.0, 25.0, 35.0, 49.0] {
+        assert_close(
+            iec61000_2_4::voltage_limit(2, h).unwrap().value,
+            2.27 * 17.0 / h - 0.27,
+            1e-12,
+        );
+        assert_close(
+            iec61000_2_4::voltage_limit(3, h).unwrap().value,
+            4.5 * 17.0 / h - 0.5,
+            1e-12,
+        );
+    }
+    assert_close(
+        iec61000_2_4::voltage_limit(2, 17.0).unwrap().value,
+        2.0,
+        1e-12,
+    );
+    assert_eq!(iec61000_2_4::thd_limit(1).value, 5.0);
+    assert_eq!(iec61000_2_4::thd_limit(2).value, 8.0);
+    assert_eq!(iec61000_2_4::thd_limit(3).value, 10.0);
+    assert_eq!(iec61000_2_4::voltage_limit(1, 5.0).unwrap().value, 3.0);
+    assert_eq!(iec61000_2_4::voltage_limit(3, 5.0).unwrap().value, 8.0);
+    assert!(iec61000_2_4::voltage_limit(2, 27.0).is_none(), "not stored");
+}
+
+/// One bus: a source, a drive with a two-line spectrum and a plain bank.
+fn single_bus(law: Summation, drives: usize) -> Plant {
+    let mut p = Plant::new(60.0);
+    p.study.summation = law;
+    p.study.max_demand_current_a = Some(400.0);
+    p.buses.push(bus("B", 0.48));
+    p.sources.push(source("U", "B", 20.0, 10.0));
+    p.banks.push(bank("C", "B", 0.48, 300.0, 1, Reactor::None));
+    p.spectra.push(Spectrum {
+        name: "S".into(),
+        lines: [(3.0, 10.0), (5.0, 20.0), (7.0, 14.29), (11.0, 9.09)]
+            .iter()
+            .map(|&(order, m)| SpectrumLine {
+                order,
+                magnitude_percent: m,
+                angle_deg: 0.0,
+            })
+            .collect(),
+    });
+    for i in 0..drives {
+        let mut d = load(&format!("D{i}"), "B", LoadType::SixPulseDrive, 200.0, 1.0);
+        d.spectrum = Some("S".into());
+        p.loads.push(d);
+    }
+    p
+}
+
+#[test]
+fn hand_worked_single_bus_penetration() {
+    // By hand, in ohm and ampere at 480 V:
+    //   Z1 = 0.48² / 20 = 0.01152 ohm, R = Z1/√(1+10²), X = 10·R (input contract, Sources);
+    //   X_C = 0.48² / 0.300 = 0.768 ohm (input contract, Capacitors);
+    //   Z(h) = 1 / (1/(R + j·h·X) + j·h/X_C);
+    //   I1 = 200 kW / (√3 · 0.48 kV · 1.0) = 240.563 A; I_h = I1 · m_h / 100;
+    //   V_h = |Z(h)| · I_h (line to neutral), v_h = V_h / (480/√3) · 100 %;
+    //   THD = √(Σ v_h²); supply current I_s,h = V_h / |R + j·h·X|; TDD = √(Σ I_s,h²)/400·100.
+    let res = run_check(&single_bus(Summation::Arithmetic, 1), &Default::default()).unwrap();
+    let z1 = 0.48f64 * 0.48 / 20.0;
+    let r = z1 / (1.0f64 + 100.0).sqrt();
+    let x = 10.0 * r;
+    let xc = 0.48 * 0.48 / 0.3;
+    let i1 = 200.0 / (3f64.sqrt() * 0.48);
+    let v_ln = 480.0 / 3f64.sqrt();
+    let mut thd2 = 0.0;
+    let mut tdd2 = 0.0;
+    let mut v_expected = Vec::new();
+    for (h, m) in [(3.0, 10.0), (5.0, 20.0), (7.0, 14.29), (11.0, 9.09)] {
+        let zs = num_complex::Complex64::new(r, h * x);
+        let z = (zs.inv() + num_complex::Complex64::new(0.0, h / xc)).inv();
+        let ih = i1 * m / 100.0;
+        let vh = z.norm() * ih;
+        v_expected.push(vh / v_ln * 100.0);
+        thd2 += (vh / v_ln * 100.0).powi(2);
+        tdd2 += (vh / zs.norm()).powi(2);
+    }
+    let c = res
+        .scan
+        .configurations
+        .iter()
+        .position(|c| c.steps == [1])
+        .unwrap();
+    let v = res.penetration.voltages(0, &[1]).unwrap();
+    for (o, e) in v_expected.iter().enumerate() {
+        assert_close(v[0][o] * 100.0, *e, 1e-9);
+    }
+    let d = res.penetration.result(0, c, res.scan.configurations.len());
+    assert_close(d.thd_percent[0], thd2.sqrt(), 1e-9);
+    let row = &res.limit_rows[c];
+    assert_close(row.tdd.value, tdd2.sqrt() / 400.0 * 100.0, 1e-9);
+    // IEEE 519-2014 Table 1 at 480 V: THD limit 8 %.
+    assert_eq!(row.worst_thd.limit, Some(8.0));
+}
+
+#[test]
+fn summation_law_iec_61000_3_6() {
+    // IEC 61000-3-6 summation exponents (references.md): α = 1 for h < 5, 1.4 for
+    // 5 ≤ h ≤ 10, 2 for h > 10. Two equal loads give 2× at h < 5, 2^(1/1.4)× at 5 ≤ h ≤ 10
+    // and √2× above; arithmetic gives 2× everywhere.
+    assert_eq!(summation_exponent(4.9), 1.0);
+    assert_eq!(summation_exponent(5.0), 1.4);
+    assert_eq!(summation_exponent(10.0), 1.4);
+    assert_eq!(summation_exponent(10.1), 2.0);
+    assert_close(
+        combine(Summation::Iec61000_3_6, 7.0, [1.0, 1.0].into_iter()),
+        2f64.powf(1.0 / 1.4),
+        1e-12,
+    );
+    let ratio = |law| {
+        let v = |n| {
+            let res = run_check(&single_bus(law, n), &Default::default()).unwrap();
+            res.penetration.voltages(0, &[0]).unwrap()[0].clone()
+        };
+        let (one, two) = (v(1), v(2));
+        one.iter()
+            .zip(&two)
+            .map(|(a, b)| b / a)
+            .collect::<Vec<f64>>()
+    };
+    let iec = ratio(Summation::Iec61000_3_6);
+    let expected = [2.0, 2f64.powf(1.0 / 1.4), 2f64.powf(1.0 / 1.4), 2f64.sqrt()];
+    for (g, e) in iec.iter().zip(expected) {
+        assert_close(*g, e, 1e-12);
+    }
+    for g in ratio(Summation::Arithmetic) {
+        assert_close(g, 2.0, 1e-12);
+    }
+}
