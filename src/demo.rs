@@ -4,9 +4,10 @@
 //!
 //! A bottling plant fed at 13.8 kV with two supply scenarios (`max` and `min` utility fault
 //! level), main switchgear feeding two 480 V unit substations over short cables. Substation 1
-//! carries filler and conveyor drives and a proposed 5 × 200 kvar plain bank whose steps land
-//! near the 13th, 11th, 7th and 5th harmonics depending on the step and scenario;
-//! substation 2 has an existing 7 % detuned bank.
+//! carries filler and conveyor drives (6-pulse, with line reactors) and a proposed 5 × 200 kvar
+//! plain bank whose steps land near the 13th, 11th, 7th and 5th harmonics depending on the
+//! step and scenario, and then exceed IEEE 519-2014; substation 2 has an existing 7 % detuned
+//! bank, which alone meets every limit.
 
 use crate::io::workbook_in::{ReadError, ReadOutcome, read_workbook_bytes};
 use crate::model::Plant;

@@ -99,6 +99,7 @@ pub fn bottling_plant() -> Plant {
     p.study.plant = "Invented bottling plant (demo data)".into();
     p.study.prepared_by = "overtone demo".into();
     p.study.pcc_bus = Some("MAIN".into());
+    p.study.max_demand_current_a = Some(110.0);
     p.study.scan_step_order = 0.01;
     p.buses = vec![
         bus("MAIN", 13.8, "13.8 kV main switchgear (PCC)"),
@@ -199,8 +200,24 @@ pub fn bottling_plant() -> Plant {
     ];
     use LoadType::*;
     p.loads = vec![
-        load("FILLER-VFD", "LV1", SixPulseDrive, 75.0, 0.95, 4.0, 0.8),
-        load("CONV-VFD", "LV1", SixPulseDrive, 22.0, 0.95, 6.0, 0.7),
+        load(
+            "FILLER-VFD",
+            "LV1",
+            SixPulseDriveWithReactor,
+            75.0,
+            0.95,
+            4.0,
+            0.8,
+        ),
+        load(
+            "CONV-VFD",
+            "LV1",
+            SixPulseDriveWithReactor,
+            22.0,
+            0.95,
+            6.0,
+            0.7,
+        ),
         load("LV1-MOTORS", "LV1", Motor, 400.0, 0.85, 1.0, 0.8),
         load("LV1-HEAT", "LV1", Linear, 300.0, 0.95, 1.0, 0.9),
         load(
