@@ -125,7 +125,7 @@ pub struct Scratch {
 
 /// One step of a [`ComboPlan`].
 #[derive(Debug, Clone, Copy)]
-pub(super) enum Op {
+enum Op {
     /// levels[bank + 1] = levels[bank] with `n` steps of `bank` added.
     Apply { bank: usize, n: u32 },
     /// Output `slot` = driving points of levels[bank] with `n` steps of `bank` added.
@@ -181,10 +181,6 @@ impl ComboPlan {
             ops,
             slots: combos.len(),
         }
-    }
-
-    pub(super) fn ops(&self) -> &[Op] {
-        &self.ops
     }
 
     /// Number of combinations (output slots).
@@ -446,42 +442,85 @@ impl PointSolution {
     /// Evaluates every combination of `plan`: `out` holds, slot after slot, the driving
     /// points at the buses of interest (slots × m values). False if any is singular.
     pub fn evaluate(&self, plan: &ComboPlan, scratch: &mut Scratch, out: &mut [Complex64]) -> bool {
-        let (k, m) = (self.state.k, self.state.m);
-        scratch.levels.resize_with(k + 1, State::default);
-        let (first, rest) = scratch.levels.split_at_mut(1);
-        first[0].clone_from(&self.state);
-        for op in &plan.ops {
-            match *op {
-                Op::Bare { slot } => out[slot * m..(slot + 1) * m].copy_from_slice(&first[0].zii),
-                Op::Apply { bank, n } => {
-                    // Read level `bank`, write level `bank + 1`.
-                    let (read, write) = if bank == 0 {
-                        (&first[0], &mut rest[0])
-                    } else {
-                        let (lo, hi) = rest.split_at_mut(bank);
-                        (&lo[bank - 1], &mut hi[0])
-                    };
-                    if n == 0 {
-                        write.clone_from(read);
-                    } else if !read.add_into(bank, self.y_step[bank] * f64::from(n), write) {
-                        return false;
-                    }
+        run_plan(
+            plan,
+            &self.state,
+            &self.y_step,
+            &mut scratch.levels,
+            self.state.m,
+            out,
+        )
+    }
+}
+
+/// A state that the step-combination plan updates bank by bank.
+pub(super) trait PlanState: Clone + Default {
+    /// `to` = this state with admittance y added at bank `a`; false if singular.
+    fn add_into(&self, a: usize, y: Complex64, to: &mut Self) -> bool;
+    /// The outputs of this state with y added at bank `a`; false if singular.
+    fn leaf(&self, a: usize, y: Complex64, out: &mut [Complex64]) -> bool;
+    /// The outputs of this state as it is.
+    fn outputs(&self) -> &[Complex64];
+}
+
+impl PlanState for State {
+    fn add_into(&self, a: usize, y: Complex64, to: &mut Self) -> bool {
+        State::add_into(self, a, y, to)
+    }
+    fn leaf(&self, a: usize, y: Complex64, out: &mut [Complex64]) -> bool {
+        State::leaf(self, a, y, out)
+    }
+    fn outputs(&self) -> &[Complex64] {
+        &self.zii
+    }
+}
+
+/// Runs `plan` from `start` (no banks), one state per bank level in `levels`, writing
+/// `block` outputs per combination slot into `out`. False if any combination is singular.
+pub(super) fn run_plan<S: PlanState>(
+    plan: &ComboPlan,
+    start: &S,
+    y_step: &[Complex64],
+    levels: &mut Vec<S>,
+    block: usize,
+    out: &mut [Complex64],
+) -> bool {
+    levels.resize_with(y_step.len() + 1, S::default);
+    let (first, rest) = levels.split_at_mut(1);
+    first[0].clone_from(start);
+    for op in &plan.ops {
+        match *op {
+            Op::Bare { slot } => {
+                out[slot * block..(slot + 1) * block].copy_from_slice(first[0].outputs())
+            }
+            Op::Apply { bank, n } => {
+                // Read level `bank`, write level `bank + 1`.
+                let (read, write) = if bank == 0 {
+                    (&first[0], &mut rest[0])
+                } else {
+                    let (lo, hi) = rest.split_at_mut(bank);
+                    (&lo[bank - 1], &mut hi[0])
+                };
+                if n == 0 {
+                    write.clone_from(read);
+                } else if !read.add_into(bank, y_step[bank] * f64::from(n), write) {
+                    return false;
                 }
-                Op::Leaf { bank, n, slot } => {
-                    let read = if bank == 0 {
-                        &first[0]
-                    } else {
-                        &rest[bank - 1]
-                    };
-                    let dst = &mut out[slot * m..(slot + 1) * m];
-                    if n == 0 {
-                        dst.copy_from_slice(&read.zii);
-                    } else if !read.leaf(bank, self.y_step[bank] * f64::from(n), dst) {
-                        return false;
-                    }
+            }
+            Op::Leaf { bank, n, slot } => {
+                let read = if bank == 0 {
+                    &first[0]
+                } else {
+                    &rest[bank - 1]
+                };
+                let dst = &mut out[slot * block..(slot + 1) * block];
+                if n == 0 {
+                    dst.copy_from_slice(read.outputs());
+                } else if !read.leaf(bank, y_step[bank] * f64::from(n), dst) {
+                    return false;
                 }
             }
         }
-        out.iter().all(|z| z.re.is_finite() && z.im.is_finite())
     }
+    out.iter().all(|z| z.re.is_finite() && z.im.is_finite())
 }

@@ -5,7 +5,8 @@
 
 use num_complex::Complex64;
 
-use super::{ComboPlan, Engine, SolveError, engine::Op};
+use super::engine::{PlanState, run_plan};
+use super::{ComboPlan, Engine, SolveError};
 
 /// Z₀ at one harmonic order and scenario: among bank buses (k×k), every bus to the bank
 /// buses (n×k), bank buses to the injection buses (k×l), every bus to the injection buses
@@ -168,44 +169,26 @@ impl HarmonicPoint {
         scratch: &mut TransferScratch,
         out: &mut [Complex64],
     ) -> bool {
-        let k = self.state.k;
         let block = self.state.n * self.state.l;
-        scratch.levels.resize_with(k + 1, TState::default);
-        let (first, rest) = scratch.levels.split_at_mut(1);
-        first[0].clone_from(&self.state);
-        for op in plan.ops() {
-            match *op {
-                Op::Bare { slot } => {
-                    out[slot * block..(slot + 1) * block].copy_from_slice(&first[0].zrj)
-                }
-                Op::Apply { bank, n } => {
-                    let (read, write) = if bank == 0 {
-                        (&first[0], &mut rest[0])
-                    } else {
-                        let (lo, hi) = rest.split_at_mut(bank);
-                        (&lo[bank - 1], &mut hi[0])
-                    };
-                    if n == 0 {
-                        write.clone_from(read);
-                    } else if !read.add_into(bank, self.y_step[bank] * f64::from(n), write) {
-                        return false;
-                    }
-                }
-                Op::Leaf { bank, n, slot } => {
-                    let read = if bank == 0 {
-                        &first[0]
-                    } else {
-                        &rest[bank - 1]
-                    };
-                    let dst = &mut out[slot * block..(slot + 1) * block];
-                    if n == 0 {
-                        dst.copy_from_slice(&read.zrj);
-                    } else if !read.leaf(bank, self.y_step[bank] * f64::from(n), dst) {
-                        return false;
-                    }
-                }
-            }
-        }
-        out.iter().all(|z| z.re.is_finite() && z.im.is_finite())
+        run_plan(
+            plan,
+            &self.state,
+            &self.y_step,
+            &mut scratch.levels,
+            block,
+            out,
+        )
+    }
+}
+
+impl PlanState for TState {
+    fn add_into(&self, a: usize, y: Complex64, to: &mut Self) -> bool {
+        TState::add_into(self, a, y, to)
+    }
+    fn leaf(&self, a: usize, y: Complex64, out: &mut [Complex64]) -> bool {
+        TState::leaf(self, a, y, out)
+    }
+    fn outputs(&self) -> &[Complex64] {
+        &self.zrj
     }
 }
