@@ -124,3 +124,20 @@ fn radial_factor_has_no_fill() {
     assert_eq!(engine.symbolic().nnz_l(), net.branches.len());
     assert_eq!(net.branches.len(), 299);
 }
+
+#[test]
+fn skin_resistance_model_scales_r_by_root_h() {
+    // Input contract, Sources: Z(h) = R·k(h) + j·h·X with k(h) = √h for `skin` (IEEE task
+    // force on harmonic modelling, 1996, from memory) and 1 for `constant`.
+    use overtone::model::ResistanceModel;
+    use overtone::network::SeriesImpedance;
+    let z = SeriesImpedance::from_magnitude(0.05, 8.0);
+    crate::common::assert_close(z.r_pu, 0.05 / 65f64.sqrt(), 1e-12);
+    for h in [1.0, 5.0, 13.7] {
+        let skin = z.at(h, ResistanceModel::Skin);
+        let constant = z.at(h, ResistanceModel::Constant);
+        crate::common::assert_close(skin.re, z.r_pu * h.sqrt(), 1e-12);
+        crate::common::assert_close(constant.re, z.r_pu, 1e-12);
+        crate::common::assert_close(skin.im, h * z.x_pu, 1e-12);
+    }
+}
