@@ -6,8 +6,11 @@ use crate::model::{ModelErrors, Plant};
 use crate::network::{Network, TopologyError};
 use crate::solve::{Engine, SolveError};
 use crate::study::config::{ConfigurationError, configuration_count};
+use crate::study::duty::{DutyRow, duty_rows};
 use crate::study::limits::{LimitContext, LimitRow, limit_row};
 use crate::study::penetration::{Injections, Penetration};
+use crate::study::tolerance::{ToleranceBand, bands};
+use crate::study::transient::{Inrush, energize};
 use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid, all_configurations};
 
 /// Most step combinations studied in one run; above it the engineer is asked to narrow
@@ -33,6 +36,16 @@ pub enum CheckError {
     TooManyConfigurations { count: u64 },
 }
 
+/// Energizing one step of one bank in one scenario.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct TransientRow {
+    pub scenario: String,
+    pub bank: String,
+    /// The step energized (1-based); step 1 is isolated, later steps back-to-back.
+    pub step: u32,
+    pub inrush: Inrush,
+}
+
 /// What the engineer asked for beyond the defaults.
 #[derive(Clone, Default)]
 pub struct CheckOptions {
@@ -56,6 +69,12 @@ pub struct CheckResults {
     pub limits: LimitContext,
     /// One limits summary per scenario × configuration, in that nesting order.
     pub limit_rows: Vec<LimitRow>,
+    /// Capacitor duty of every energized bank in every scenario × configuration.
+    pub duty: Vec<DutyRow>,
+    /// Resonance bands across capacitance tolerance and scenarios.
+    pub tolerance: Vec<ToleranceBand>,
+    /// Energizing every step of every bank, per scenario.
+    pub transients: Vec<TransientRow>,
     /// Assumptions the study made that the report must state.
     pub notes: Vec<String>,
     /// Network index of the PCC bus.
@@ -71,6 +90,8 @@ impl CheckResults {
             .iter()
             .any(|r| r.verdict == crate::study::Verdict::Resonant)
             || self.limit_rows.iter().any(|r| r.exceeds)
+            || self.duty.iter().any(|r| r.exceeds)
+            || self.tolerance.iter().any(|t| t.flagged)
     }
 
     /// The label of configuration `c`.
@@ -178,6 +199,67 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         })
         .collect();
     debug_assert_eq!(penetration.results.len(), network.scenarios.len() * nc);
+    let orders = &penetration.injections.orders;
+    let duty = penetration
+        .results
+        .iter()
+        .flat_map(|d| {
+            let cfg = &scan.configurations[d.configuration];
+            duty_rows(
+                d,
+                &plant.banks,
+                &cfg.steps,
+                &network,
+                orders,
+                plant.study.limits,
+                &network.scenarios[d.scenario].name,
+                &cfg.label(&plant.banks),
+            )
+        })
+        .collect();
+    let tol = plant.study.capacitance_tolerance;
+    let p_of = |id: &str| {
+        network
+            .banks
+            .iter()
+            .find(|b| b.id == id)
+            .map_or(0.0, |b| b.p)
+    };
+    let tolerance = bands(
+        &resonance.rows,
+        &p_of,
+        tol.minus_percent,
+        tol.plus_percent,
+        &resonance.characteristic_orders,
+        resonance.margin_percent,
+    );
+    let mut transients = Vec::new();
+    for (s, scenario) in network.scenarios.iter().enumerate() {
+        let fundamental = if scan.grid.orders.first() == Some(&1.0) {
+            scan.point(s, 0).clone()
+        } else {
+            engine.point(1.0, s)?
+        };
+        for (b, model) in network.banks.iter().enumerate() {
+            let bus = &network.buses[model.bus];
+            let z = fundamental.bank_bus_z0_pu(b) * bus.z_base_ohm;
+            for k in 1..=model.steps {
+                transients.push(TransientRow {
+                    scenario: scenario.name.clone(),
+                    bank: model.id.clone(),
+                    step: k,
+                    inrush: energize(
+                        &plant.banks[b],
+                        model.p,
+                        k,
+                        bus.kv,
+                        network.frequency_hz,
+                        (z.re, z.im),
+                    ),
+                });
+            }
+        }
+    }
     Ok(CheckResults {
         plant: plant.clone(),
         network: network.clone(),
@@ -186,6 +268,9 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         penetration,
         limits,
         limit_rows,
+        duty,
+        tolerance,
+        transients,
         notes,
         pcc,
     })

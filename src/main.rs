@@ -80,6 +80,37 @@ enum Command {
     },
     /// Write a blank input workbook with every sheet, header, note and dropdown.
     Template { file: PathBuf },
+    /// Size one detuned step or tuned filter from a few numbers, no workbook.
+    Size(SizeArgs),
+}
+
+#[derive(clap::Args)]
+#[command(group(clap::ArgGroup::new("tuning").required(true).args(["detuning", "order"])))]
+struct SizeArgs {
+    /// Bus voltage, kV line-to-line.
+    #[arg(long)]
+    kv: f64,
+    /// Effective output wanted at bus voltage, kvar.
+    #[arg(long)]
+    kvar: f64,
+    /// System frequency, Hz.
+    #[arg(long, default_value_t = 60.0)]
+    hz: f64,
+    /// Detuning factor in % of X_C (e.g. 7).
+    #[arg(long)]
+    detuning: Option<f64>,
+    /// Tuned order of a filter (e.g. 4.7).
+    #[arg(long)]
+    order: Option<f64>,
+    /// Reactor quality factor X/R at fundamental.
+    #[arg(long, default_value_t = 50.0)]
+    q: f64,
+    /// Capacitor rated voltage, kV (default: the next standard rating above U/(1-p)).
+    #[arg(long)]
+    rated_kv: Option<f64>,
+    /// Supply short-circuit power at the bus, MVA, for the parallel resonance below tuning.
+    #[arg(long)]
+    ssc_mva: Option<f64>,
 }
 
 /// A failure: the message for stderr.
@@ -129,6 +160,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
                 None => print(|w| overtone::report::summary::write_peaks(w, &res)),
             }
         }
+        Command::Size(a) => size(&a),
         Command::Template { file } => {
             overtone::io::template::write_template(&file)?;
             Ok(ExitCode::SUCCESS)
@@ -166,6 +198,42 @@ fn options(
         progress: Some(Arc::new(progress)),
     };
     (options, bar)
+}
+
+fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
+    let positive = |v: f64, what: &str| {
+        if v.is_finite() && v > 0.0 {
+            Ok(())
+        } else {
+            Err(Failure(format!(
+                "--{what} must be a positive number, found {v}"
+            )))
+        }
+    };
+    positive(a.kv, "kv")?;
+    positive(a.kvar, "kvar")?;
+    positive(a.hz, "hz")?;
+    positive(a.q, "q")?;
+    let p = match (a.detuning, a.order) {
+        (Some(d), _) if d > 0.0 && d < 100.0 => d / 100.0,
+        (Some(d), _) => {
+            return Err(Failure(format!(
+                "--detuning must be between 0 and 100 %, found {d}"
+            )));
+        }
+        (None, Some(h)) if h > 1.0 && h.is_finite() => overtone::study::detune::p_for_order(h),
+        (None, Some(h)) => return Err(Failure(format!("--order must be above 1, found {h}"))),
+        (None, None) => return Err(Failure("give --detuning or --order".into())),
+    };
+    let x_sys = a.ssc_mva.map(|s| a.kv * a.kv / s);
+    let s = overtone::study::detune::size_for_output(a.hz, a.kv, a.kvar, p, a.q, a.rated_kv, x_sys)
+        .ok_or_else(|| {
+            Failure(format!(
+                "no standard capacitor rating at or above {:.0} V: give --rated-kv",
+                a.kv / (1.0 - p) * 1000.0
+            ))
+        })?;
+    print(|w| overtone::report::summary::write_sizing(w, &s))
 }
 
 fn study(plant: &Plant, out: &Outputs) -> Result<ExitCode, Failure> {

@@ -130,6 +130,7 @@ pub fn generated_plant(n: usize, extra_links: usize, banks: usize, steps: u32, s
             reactor_q: 50.0,
             status: BankStatus::Proposed,
             studied_steps: (0..=steps).collect(),
+            inrush_uh: None,
         });
     }
     p

@@ -50,6 +50,9 @@ struct Summary<'a> {
     injected_orders: &'a [f64],
     spectra: &'a [SpectrumChoice],
     distortion: Vec<DistortionJson<'a>>,
+    duty: &'a [crate::study::duty::DutyRow],
+    tolerance: &'a [crate::study::tolerance::ToleranceBand],
+    transients: &'a [crate::check::TransientRow],
     assumptions: &'a [String],
     cautions: &'static [&'static str],
 }
@@ -105,6 +108,9 @@ pub fn to_json(res: &CheckResults) -> String {
         injected_orders: orders,
         spectra: &res.penetration.injections.spectra,
         distortion,
+        duty: &res.duty,
+        tolerance: &res.tolerance,
+        transients: &res.transients,
         assumptions: &res.notes,
         cautions: crate::report::cautions::CAUTIONS,
     };

@@ -537,6 +537,7 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                         BankStatus::Proposed => "proposed",
                     }),
                     T(studied),
+                    b.inrush_uh.map_or(Blank, N),
                 ]
             })
             .collect(),

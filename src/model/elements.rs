@@ -214,7 +214,15 @@ pub struct CapacitorBank {
     pub status: BankStatus,
     /// Energized step counts to study, ascending, each ≤ `steps`.
     pub studied_steps: Vec<u32>,
+    /// Inductance between this bank's steps for back-to-back switching, µH per step;
+    /// `None` = [`DEFAULT_INRUSH_UH`]. Not used for a detuned or tuned bank, whose reactors
+    /// limit the inrush.
+    pub inrush_uh: Option<f64>,
 }
+
+/// Default inductance between the steps of a plain bank, µH per step (common practice: the
+/// few metres of bus and cable inside a switched bank give about 5 to 20 µH; from memory).
+pub const DEFAULT_INRUSH_UH: f64 = 10.0;
 
 impl CapacitorBank {
     /// Capacitive reactance of one step at fundamental, ohm per phase:

@@ -334,6 +334,9 @@ impl Plant {
             c.positive(SHEET, &b.id, "Rated kV", b.rated_kv);
             c.positive(SHEET, &b.id, "Step kvar", b.step_kvar);
             c.positive(SHEET, &b.id, "Reactor Q", b.reactor_q);
+            if let Some(l) = b.inrush_uh {
+                c.positive(SHEET, &b.id, "Inrush inductance", l);
+            }
             if b.steps == 0 {
                 c.push(SHEET, &b.id, "Steps", "must be at least 1".to_string());
             }

@@ -1,4 +1,5 @@
 //! Human-readable output: the terminal summary and the safety cautions every report carries.
 
+pub mod capacitors;
 pub mod cautions;
 pub mod summary;

@@ -56,7 +56,7 @@ const HEADERS: [&str; 14] = [
 ];
 
 /// Writes a table; columns in `left` are left-aligned, the rest right-aligned.
-fn write_table(
+pub(super) fn write_table(
     out: &mut dyn Write,
     headers: &[&str],
     left: &[usize],
@@ -192,6 +192,12 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     )?;
     writeln!(out)?;
     write_limits(out, res)?;
+    writeln!(out)?;
+    super::capacitors::write_duty(out, res)?;
+    writeln!(out)?;
+    super::capacitors::write_tolerance(out, res)?;
+    writeln!(out)?;
+    super::capacitors::write_transients(out, res)?;
     if !res.notes.is_empty() {
         writeln!(out)?;
         writeln!(out, "Assumptions:")?;
@@ -392,6 +398,79 @@ pub fn write_peaks(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
             } else {
                 peaks.join(", ")
             }
+        )?;
+    }
+    writeln!(out)?;
+    for c in CAUTIONS {
+        writeln!(out, "- {c}")?;
+    }
+    Ok(())
+}
+
+/// Writes the `size` command's result.
+pub fn write_sizing(out: &mut dyn Write, s: &crate::study::detune::Sizing) -> io::Result<()> {
+    let kind = if s.p > 0.0 && s.tuning_order < 4.5 {
+        "detuned step"
+    } else {
+        "tuned filter"
+    };
+    writeln!(
+        out,
+        "Sizing of a {kind} at {} kV, {} Hz",
+        s.bus_kv, s.frequency_hz
+    )?;
+    let rows: Vec<(&str, String)> = vec![
+        (
+            "detuning factor p",
+            format!("{:.4} ({:.2} %)", s.p, s.p * 100.0),
+        ),
+        (
+            "tuning order 1/sqrt(p)",
+            format!(
+                "{:.3} ({:.1} Hz)",
+                s.tuning_order,
+                s.tuning_order * s.frequency_hz
+            ),
+        ),
+        (
+            "capacitor voltage U/(1-p)",
+            format!("{:.1} V", s.capacitor_kv_needed * 1000.0),
+        ),
+        (
+            "capacitor rating",
+            format!(
+                "{:.0} V, {:.1} kvar",
+                s.capacitor_rated_kv * 1000.0,
+                s.capacitor_kvar
+            ),
+        ),
+        ("X_C", format!("{:.4} ohm", s.xc_ohm)),
+        ("C per phase", format!("{:.1} uF", s.c_uf)),
+        ("X_L = p X_C", format!("{:.4} ohm", s.xl_ohm)),
+        ("L per phase", format!("{:.4} mH", s.l_mh)),
+        ("reactor R = X_L/Q", format!("{:.5} ohm", s.r_ohm)),
+        (
+            "effective output at bus voltage",
+            format!("{:.1} kvar", s.effective_kvar),
+        ),
+        (
+            "output at the capacitor's rated voltage",
+            format!("{:.1} kvar", s.effective_kvar_at_rated),
+        ),
+        ("fundamental current", format!("{:.1} A", s.i1_a)),
+        (
+            "reactor linearity current (1.8 x I1, common practice)",
+            format!("{:.1} A", s.linearity_a),
+        ),
+    ];
+    for (k, v) in rows {
+        writeln!(out, "  {k:<56} {v}")?;
+    }
+    if let Some(h) = s.parallel_order {
+        writeln!(
+            out,
+            "  {:<56} {h:.3}",
+            "parallel resonance with the supply below the tuning"
         )?;
     }
     writeln!(out)?;

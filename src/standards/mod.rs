@@ -3,6 +3,7 @@
 //! licensed copy differs from a value here, the copy wins (see `references.md` of the design
 //! notes for the confidence of each value).
 
+pub mod capacitors;
 pub mod iec61000_2_4;
 pub mod ieee519;
 

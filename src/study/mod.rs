@@ -3,11 +3,15 @@
 //! structs; none of them formats output.
 
 pub mod config;
+pub mod detune;
+pub mod duty;
 pub mod limits;
 pub mod penetration;
 pub mod resonance;
 pub mod scan;
 pub mod spectra;
+pub mod tolerance;
+pub mod transient;
 
 pub use config::{Configuration, all_configurations, parse_configuration};
 pub use resonance::{ResonanceRow, ResonanceStudy, Verdict, characteristic_orders};

@@ -67,6 +67,7 @@ fn bank(
         reactor_q: 50.0,
         status,
         studied_steps: (0..=steps).collect(),
+        inrush_uh: None,
     }
 }
 
@@ -185,6 +186,7 @@ pub fn bottling_plant() -> Plant {
             reactor_q: 50.0,
             status: BankStatus::Proposed,
             studied_steps: (0..=5).collect(),
+            inrush_uh: None,
         },
         CapacitorBank {
             id: "C2".into(),
@@ -196,6 +198,7 @@ pub fn bottling_plant() -> Plant {
             reactor_q: 50.0,
             status: BankStatus::Existing,
             studied_steps: (0..=3).collect(),
+            inrush_uh: None,
         },
     ];
     use LoadType::*;

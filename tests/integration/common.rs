@@ -80,6 +80,7 @@ pub fn bank(
         reactor_q: 50.0,
         status: BankStatus::Proposed,
         studied_steps: (0..=steps).collect(),
+        inrush_uh: None,
     }
 }
 

@@ -56,6 +56,7 @@ pub const CAPACITORS: &[Column] = &[
     opt("Reactor Q"),
     opt("Status"),
     opt("Studied steps"),
+    opt("Inrush inductance (uH)"),
 ];
 pub const LOADS: &[Column] = &[
     req("Load"),
@@ -328,6 +329,12 @@ pub fn banks(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Cap
                     }),
                 status,
                 studied_steps,
+                inrush_uh: t.number(
+                    r,
+                    "Inrush inductance (uH)",
+                    "a positive inductance in uH",
+                    d,
+                ),
             }
         })
         .collect()

@@ -1,0 +1,151 @@
+//! Terminal sections for the capacitors themselves: duty against IEEE 18 (or IEC), the
+//! resonance band across capacitance tolerance, and switching transients.
+
+use std::io::{self, Write};
+
+use super::summary::{MAX_ROWS_PER_SCENARIO, write_table};
+use crate::check::CheckResults;
+use crate::study::duty::DutyRow;
+
+fn ratio(v: f64, limit: Option<f64>) -> String {
+    match limit {
+        Some(l) => format!("{:.0}/{:.0}", v * 100.0, l * 100.0),
+        None => format!("{:.0}/-", v * 100.0),
+    }
+}
+
+/// The duty table: energized banks whose duty exceeds a limit (every row when few).
+pub fn write_duty(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    let source = res.duty.first().map_or("IEEE 18-2012", |r| r.limits.source);
+    let exceeding: Vec<&DutyRow> = res.duty.iter().filter(|r| r.exceeds).collect();
+    writeln!(
+        out,
+        "Capacitor duty at the capacitor terminals ({source}), % of rated / limit: {} of {} bank rows exceed",
+        exceeding.len(),
+        res.duty.len()
+    )?;
+    let shown: Vec<&DutyRow> = if res.duty.len() <= MAX_ROWS_PER_SCENARIO {
+        res.duty.iter().collect()
+    } else {
+        let mut e = exceeding.clone();
+        e.sort_by(|a, b| b.ratios.rms_current.total_cmp(&a.ratios.rms_current));
+        e.truncate(MAX_ROWS_PER_SCENARIO);
+        if !e.is_empty() {
+            writeln!(
+                out,
+                "  (showing the {} exceeding rows with the highest current; --json has all)",
+                e.len()
+            )?;
+        }
+        e
+    };
+    let rows: Vec<Vec<String>> = shown
+        .iter()
+        .map(|r| {
+            vec![
+                r.scenario.clone(),
+                r.configuration.clone(),
+                r.bank.clone(),
+                r.steps.to_string(),
+                ratio(r.ratios.rms_voltage, Some(r.limits.rms_voltage)),
+                ratio(r.ratios.peak_voltage, r.limits.peak_voltage),
+                ratio(r.ratios.rms_current, Some(r.limits.rms_current)),
+                ratio(r.ratios.kvar, r.limits.kvar),
+                if r.exceeds { "EXCEEDS" } else { "meets" }.to_string(),
+            ]
+        })
+        .collect();
+    if !rows.is_empty() {
+        write_table(
+            out,
+            &[
+                "scenario",
+                "configuration",
+                "bank",
+                "steps",
+                "Vrms %",
+                "Vpeak %",
+                "Irms %",
+                "kvar %",
+                "verdict",
+            ],
+            &[0, 1, 2, 8],
+            &rows,
+        )?;
+    }
+    Ok(())
+}
+
+/// Tolerance bands that reach a characteristic order although the nominal value does not.
+pub fn write_tolerance(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    let t = res.plant.study.capacitance_tolerance;
+    let flagged: Vec<_> = res.tolerance.iter().filter(|b| b.flagged).collect();
+    writeln!(
+        out,
+        "Resonance across capacitance tolerance {}/+{} % and the scenarios: {} band(s) reach the margin of a characteristic order that the nominal value clears",
+        t.minus_percent,
+        t.plus_percent,
+        flagged.len()
+    )?;
+    for b in flagged.iter().take(MAX_ROWS_PER_SCENARIO) {
+        writeln!(
+            out,
+            "  {} {}: {:.3} to {:.3}, reaches {}",
+            b.configuration,
+            b.bank,
+            b.low_order,
+            b.high_order,
+            b.reaches.map_or_else(String::new, |h| format!("h {h}"))
+        )?;
+    }
+    Ok(())
+}
+
+/// Energizing each step: inrush peak, ringing frequency, damping.
+pub fn write_transients(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    writeln!(
+        out,
+        "Energizing each step (IEEE C37.012 formulas, undamped peaks): step 1 isolated against the supply, later steps back-to-back"
+    )?;
+    let rows: Vec<Vec<String>> = res
+        .transients
+        .iter()
+        .take(4 * MAX_ROWS_PER_SCENARIO)
+        .map(|t| {
+            vec![
+                t.scenario.clone(),
+                t.bank.clone(),
+                t.step.to_string(),
+                t.inrush.case.to_string(),
+                format!("{:.0}", t.inrush.peak_a),
+                format!("{:.0}", t.inrush.frequency_hz),
+                format!("{:.3}", t.inrush.zeta),
+                format!("{:?}", t.inrush.regime)
+                    .to_lowercase()
+                    .replace("damped", "-damped"),
+                t.inrush
+                    .overvoltage_pu
+                    .map_or_else(|| "-".to_string(), |v| format!("{v:.2}")),
+            ]
+        })
+        .collect();
+    if !rows.is_empty() {
+        write_table(
+            out,
+            &[
+                "scenario",
+                "bank",
+                "step",
+                "case",
+                "peak A",
+                "ring Hz",
+                "zeta",
+                "regime",
+                "bus Vpk pu",
+            ],
+            &[0, 1, 3, 7],
+            &rows,
+        )?;
+    }
+    Ok(())
+}

@@ -1,0 +1,92 @@
+//! Resonance as a band: each bank's scanned resonance order across the capacitance
+//! tolerance of the Study sheet and across the supply scenarios, and a flag where the band
+//! reaches into the margin of a characteristic order although the nominal value does not.
+//!
+//! A capacitance C·(1 + t) scales X_C by 1/(1 + t); the scanned order is scaled by the ratio
+//! of the hand-check orders √(X_C′/(|Z_th| + X_L)) / √(X_C/(|Z_th| + X_L)) (the reactor's X_L
+//! is fixed), which for a plain bank is the textbook shift df/f ≈ −½·dC/C, exact as
+//! 1/√(1 + t).
+
+use serde::Serialize;
+
+use super::resonance::{ResonanceRow, Verdict};
+
+/// One bank in one configuration across scenarios and tolerance.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ToleranceBand {
+    pub configuration: String,
+    pub bank: String,
+    /// Lowest and highest resonance order over the band.
+    pub low_order: f64,
+    pub high_order: f64,
+    /// True when the band reaches within the margin of a characteristic order while every
+    /// nominal (scenario) result is clear.
+    pub flagged: bool,
+    /// The characteristic order reached, if flagged.
+    pub reaches: Option<f64>,
+}
+
+/// Scales a scanned order for a capacitance change of `t` (fraction), given the hand-check
+/// inputs of the row: X_C/|Z_th| = h_hand² (1 + p·h_hand²)… expressed through the row's own
+/// hand order and p.
+fn shifted(order: f64, hand: f64, p: f64, t: f64) -> f64 {
+    // hand² = X_C / (Z + p·X_C)  ⇒  Z / X_C = 1/hand² − p.
+    let z_over_xc = 1.0 / (hand * hand) - p;
+    let xc_ratio = 1.0 / (1.0 + t);
+    let hand_new = (xc_ratio / (z_over_xc + p)).sqrt();
+    order * hand_new / hand
+}
+
+/// The bands of every bank and configuration from the resonance rows; `p_of(bank)` gives
+/// a bank's detuning factor, tolerance in percent (minus ≤ 0 ≤ plus), `chars` the
+/// characteristic orders and `margin` in percent.
+pub fn bands(
+    rows: &[ResonanceRow],
+    p_of: &dyn Fn(&str) -> f64,
+    minus_percent: f64,
+    plus_percent: f64,
+    chars: &[f64],
+    margin: f64,
+) -> Vec<ToleranceBand> {
+    let mut out: Vec<ToleranceBand> = Vec::new();
+    let mut keys: Vec<(String, String)> = Vec::new();
+    for r in rows {
+        let key = (r.configuration.clone(), r.bank.clone());
+        if !keys.contains(&key) {
+            keys.push(key);
+        }
+    }
+    for (configuration, bank) in keys {
+        let group: Vec<&ResonanceRow> = rows
+            .iter()
+            .filter(|r| r.configuration == configuration && r.bank == bank)
+            .collect();
+        let p = p_of(&bank);
+        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        for r in &group {
+            let Some(peak) = r.peak else { continue };
+            for t in [minus_percent / 100.0, 0.0, plus_percent / 100.0] {
+                let h = shifted(peak.order, r.hand_order, p, t);
+                lo = lo.min(h);
+                hi = hi.max(h);
+            }
+        }
+        if !lo.is_finite() {
+            continue;
+        }
+        let nominal_clear = group.iter().all(|r| r.verdict != Verdict::Resonant);
+        let reaches = chars
+            .iter()
+            .copied()
+            .find(|&c| lo <= c * (1.0 + margin / 100.0) && hi >= c * (1.0 - margin / 100.0));
+        out.push(ToleranceBand {
+            configuration,
+            bank,
+            low_order: lo,
+            high_order: hi,
+            flagged: nominal_clear && reaches.is_some(),
+            reaches: if nominal_clear { reaches } else { None },
+        });
+    }
+    out
+}
