@@ -259,6 +259,12 @@ fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                     Text,
                     14.0,
                 ),
+                col(
+                    "Inrush inductance (uH)",
+                    "Inductance between the steps of a plain bank for back-to-back switching, uH per step, > 0. Default 10 (common practice). Not used with a series reactor.",
+                    Positive,
+                    14.0,
+                ),
             ],
         ),
         (

@@ -10,6 +10,7 @@ mod cli;
 mod common;
 mod model;
 mod reader;
+mod reference_capacitors;
 mod reference_limits;
 mod reference_resonance;
 mod scan;

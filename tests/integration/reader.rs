@@ -158,7 +158,8 @@ fn template_has_every_sheet_header_note_and_dropdown() {
             "Tuned order",
             "Reactor Q",
             "Status",
-            "Studied steps"
+            "Studied steps",
+            "Inrush inductance (uH)"
         ]
     );
     // Loads: the Type dropdown lists every load type of the contract.

@@ -1,0 +1,218 @@
+//! Capacitor duty, detuning and filter sizing, switching transients: against IEEE 18 and
+//! the published and textbook values of references.md, each with its source beside it.
+
+use overtone::check::run_check;
+use overtone::model::*;
+use overtone::standards::capacitors::IEEE_18;
+use overtone::study::detune::{next_standard_rating, size_capacitor};
+use overtone::study::duty::{DutyRatios, duty_ratios};
+use overtone::study::transient::{Regime, energize, rlc};
+
+use crate::common::*;
+
+#[test]
+fn ieee_18_limits_at_below_and_above() {
+    // IEEE 18 continuous limits (references.md, verified for 2002, kept in 2012 from
+    // memory): 110 % rms voltage, 120 % peak voltage, 135 % rms current, 135 % kvar. A value
+    // at the limit is within it.
+    let base = DutyRatios {
+        rms_voltage: 1.0,
+        peak_voltage: 1.0,
+        rms_current: 1.0,
+        kvar: 1.0,
+    };
+    let limits = [1.10, 1.20, 1.35, 1.35];
+    for (i, &limit) in limits.iter().enumerate() {
+        for (value, exceeded) in [(limit - 1e-6, false), (limit, false), (limit + 1e-6, true)] {
+            let mut r = base;
+            match i {
+                0 => r.rms_voltage = value,
+                1 => r.peak_voltage = value,
+                2 => r.rms_current = value,
+                _ => r.kvar = value,
+            }
+            let e = r.exceeded(&IEEE_18);
+            assert_eq!(e[i], exceeded, "limit {i} at {value}");
+            assert_eq!(e.iter().filter(|&&x| x).count(), usize::from(exceeded));
+        }
+    }
+}
+
+#[test]
+fn duty_of_a_plain_bank_by_hand() {
+    // 480 V, 300 kvar plain bank rated 480 V, bus at nominal, one 5th-harmonic current of
+    // 60 A. By hand: X_C = 0.48²/0.3 = 0.768 ohm, V1 = 277.13 V, I1 = 360.84 A,
+    // V5 = 60·0.768/5 = 9.216 V; rms V = √(V1² + V5²) / 277.13; peak = (V1 + V5) / V1;
+    // rms I = √(I1² + 60²) / I_rated with I_rated = 300 kvar / (√3·0.48 kV) = 360.84 A;
+    // kvar = 3·(V1·I1 + V5·60) / 300 kvar.
+    let b = bank("C", "B", 0.48, 300.0, 1, Reactor::None);
+    let r = duty_ratios(&b, 1, 0.0, 0.48, &[5.0], &[60.0]);
+    let v1 = 480.0 / 3f64.sqrt();
+    let xc = 0.768;
+    let i1 = v1 / xc;
+    let v5 = 60.0 * xc / 5.0;
+    assert_close(r.rms_voltage, (v1 * v1 + v5 * v5).sqrt() / v1, 1e-12);
+    assert_close(r.peak_voltage, (v1 + v5) / v1, 1e-12);
+    assert_close(r.rms_current, (i1 * i1 + 3600.0).sqrt() / i1, 1e-12);
+    assert_close(r.kvar, 3.0 * (v1 * i1 + v5 * 60.0) / 300_000.0, 1e-12);
+    // A 7 % detuned step sees U/(1 − p) at its terminals (references.md).
+    let d = duty_ratios(&b, 1, 0.07, 0.48, &[], &[]);
+    assert_close(d.rms_voltage, 1.0 / 0.93, 1e-12);
+}
+
+#[test]
+fn worked_detuned_step_example() {
+    // references.md, published worked example (seen once): 80 kvar 525 V capacitor, p = 7 %,
+    // 50 Hz: X_C 3.445 ohm, C 923.9 uF, X_L 0.241 ohm, L 0.768 mH, 86.0 kvar at 525 V,
+    // 49.9 kvar at 400 V. Within 0.2 %.
+    let s = size_capacitor(50.0, 0.4, 0.525, 80.0, 0.07, 50.0, None);
+    assert_close(s.xc_ohm, 3.445, 0.002);
+    assert_close(s.c_uf, 923.9, 0.002);
+    assert_close(s.xl_ohm, 0.241, 0.002);
+    assert_close(s.l_mh, 0.768, 0.002);
+    assert_close(s.effective_kvar_at_rated, 86.0, 0.002);
+    assert_close(s.effective_kvar, 49.9, 0.002);
+    // The same through `overtone size`, asking for 49.9 kvar at 400 V on 525 V capacitors.
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_overtone"))
+        .args([
+            "size",
+            "--kv",
+            "0.4",
+            "--kvar",
+            "49.94",
+            "--hz",
+            "50",
+            "--detuning",
+            "7",
+            "--rated-kv",
+            "0.525",
+        ])
+        .output()
+        .unwrap();
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    let value = |label: &str| -> f64 {
+        let line = text
+            .lines()
+            .find(|l| l.trim_start().starts_with(label))
+            .unwrap_or_else(|| panic!("{label}: {text}"));
+        line.split_whitespace()
+            .rev()
+            .nth(1)
+            .unwrap()
+            .parse()
+            .unwrap()
+    };
+    assert_close(value("X_C "), 3.445, 0.002);
+    assert_close(value("C per phase"), 923.9, 0.002);
+    assert_close(value("L per phase"), 0.768, 0.002);
+    assert_close(
+        value("output at the capacitor's rated voltage"),
+        86.0,
+        0.002,
+    );
+    assert!(
+        text.contains("capacitor rating                                         525 V, 80.0 kvar"),
+        "{text}"
+    );
+}
+
+#[test]
+fn detuning_table_capacitor_voltages() {
+    // references.md detuning table (common practice): Uc = U/(1 − p) at 400 V and 480 V.
+    for (p, at400, at480) in [
+        (0.0567, 424.0, 508.9),
+        (0.07, 430.1, 516.1),
+        (0.14, 465.1, 558.1),
+    ] {
+        let v400 =
+            size_capacitor(50.0, 0.4, 0.525, 50.0, p, 50.0, None).capacitor_kv_needed * 1000.0;
+        let v480 =
+            size_capacitor(60.0, 0.48, 0.6, 50.0, p, 50.0, None).capacitor_kv_needed * 1000.0;
+        assert!((v400 - at400).abs() < 0.06, "{p}: {v400}");
+        assert!((v480 - at480).abs() < 0.06, "{p}: {v480}");
+    }
+    // The next standard rating above 516.1 V is 525 V (our documented list).
+    assert_eq!(next_standard_rating(0.5161), Some(0.525));
+}
+
+#[test]
+fn filter_at_4_7_dips_there_and_peaks_below_at_the_hand_order() {
+    // Single-tuned filter (references.md): X_L = X_C/h_t², the step's series resonance at
+    // h_t; the parallel resonance with the supply below it at h_p = √(X_C/(X_sys + X_L)).
+    let mut p = Plant::new(60.0);
+    p.buses.push(bus("B", 0.48));
+    p.sources.push(source("S", "B", 25.0, 100.0));
+    p.banks
+        .push(bank("F", "B", 0.6, 300.0, 1, Reactor::Tuned { order: 4.7 }));
+    let res = run_check(&p, &Default::default()).unwrap();
+    let c = res
+        .scan
+        .configurations
+        .iter()
+        .position(|c| c.steps == [1])
+        .unwrap();
+    let s = res.scan.series(0, c, 0);
+    let dip = s
+        .dips
+        .iter()
+        .min_by(|a, b| a.z_ohm.total_cmp(&b.z_ohm))
+        .unwrap();
+    assert!((dip.order - 4.70).abs() <= 0.01, "dip at {}", dip.order);
+    let xc = 0.6f64 * 0.6 / 0.3;
+    let xl = xc / (4.7 * 4.7);
+    let xs = 0.48 * 0.48 / 25.0;
+    let expected = (xc / (xs + xl)).sqrt();
+    let sized = size_capacitor(60.0, 0.48, 0.6, 300.0, 1.0 / (4.7 * 4.7), 50.0, Some(xs));
+    assert_close(sized.parallel_order.unwrap(), expected, 1e-12);
+    let peak = s
+        .peaks
+        .iter()
+        .find(|p| p.order < 4.7)
+        .expect("a peak below the tuning");
+    assert_close(peak.order, expected, 0.005);
+}
+
+#[test]
+fn inrush_isolated_and_back_to_back_by_hand() {
+    // Isolated, by hand: 480 V bus (U_LN = 277.13 V), supply X = 0.0092 ohm, R = 0.00092 ohm
+    // at 60 Hz → L = 0.0092/377 = 24.40 uH; a 200 kvar 480 V step: X_C = 1.152 ohm,
+    // C = 1/(377·1.152) = 2.3026 mF. I_pk = √2·277.13·√(C/L) = 3,807 A;
+    // f = 1/(2π√(LC)) = 671.6 Hz; ζ = (R/2)√(C/L) = 0.0045 (IEEE C37.012 formulas).
+    let w = 2.0 * std::f64::consts::PI * 60.0;
+    let b = bank("C", "B", 0.48, 200.0, 3, Reactor::None);
+    let iso = energize(&b, 0.0, 1, 0.48, 60.0, (0.00092, 0.0092));
+    let (l, c) = (0.0092 / w, 1.0 / (w * 1.152));
+    let u = 480.0 / 3f64.sqrt();
+    assert_close(iso.peak_a, 2f64.sqrt() * u * (c / l).sqrt(), 1e-12);
+    assert!((iso.peak_a - 3807.0).abs() < 2.0, "{}", iso.peak_a);
+    assert!(
+        (iso.frequency_hz - 671.6).abs() < 0.2,
+        "{}",
+        iso.frequency_hz
+    );
+    assert_close(iso.zeta, 0.00092 / 2.0 * (c / l).sqrt(), 1e-12);
+    assert_eq!(iso.regime, Regime::UnderDamped);
+    let ov = iso.overvoltage_pu.unwrap();
+    assert!(ov > 1.98 && ov < 2.0, "{ov}");
+    // Back-to-back, step 3 with 2 on, 10 uH per step (the default): L_eq = 10 + 10/2 = 15 uH,
+    // C_eq = C·2/3 = 1.5351 mF: I_pk = √2·277.13·√(1.5351e-3/15e-6) = 3,965 A, f = 1,048 Hz.
+    let b2b = energize(&b, 0.0, 3, 0.48, 60.0, (0.00092, 0.0092));
+    assert_eq!(b2b.case, "back-to-back");
+    assert!((b2b.peak_a - 3965.0).abs() < 2.0, "{}", b2b.peak_a);
+    assert!(
+        (b2b.frequency_hz - 1048.0).abs() < 1.0,
+        "{}",
+        b2b.frequency_hz
+    );
+    assert!(b2b.overvoltage_pu.is_none());
+    // Regimes: ζ = (R/2)√(C/L) below, at and above 1 (textbook).
+    let (l, c) = (1e-3, 1e-3);
+    assert_eq!(rlc("x", 1.0, 1.9, l, c, true).regime, Regime::UnderDamped);
+    assert_eq!(
+        rlc("x", 1.0, 2.0, l, c, true).regime,
+        Regime::CriticallyDamped
+    );
+    assert_eq!(rlc("x", 1.0, 2.1, l, c, true).regime, Regime::OverDamped);
+    assert_eq!(rlc("x", 1.0, 2.1, l, c, true).overvoltage_pu, Some(1.0));
+}
