@@ -9,6 +9,7 @@ use crate::study::config::{ConfigurationError, configuration_count};
 use crate::study::duty::{DutyRow, duty_rows};
 use crate::study::limits::{LimitContext, LimitRow, limit_row};
 use crate::study::penetration::{Injections, Penetration};
+use crate::study::remedy::{Outcome, RemedyResult};
 use crate::study::tolerance::{ToleranceBand, bands};
 use crate::study::transient::{Inrush, energize};
 use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid, all_configurations};
@@ -56,6 +57,28 @@ pub struct CheckOptions {
     pub configurations: Vec<String>,
     /// Called with (done, total) as the scan advances; `None` = silent.
     pub progress: Option<std::sync::Arc<dyn Fn(u64, u64) + Send + Sync>>,
+    /// Size and re-run remedies for flagged banks: `None` = only when the plant has at
+    /// most [`AUTO_REMEDY_CONFIGURATIONS`] step combinations (each option re-runs every
+    /// study).
+    pub remedies: Option<bool>,
+}
+
+/// Step combinations up to which remedies are studied without being asked.
+pub const AUTO_REMEDY_CONFIGURATIONS: usize = 200;
+
+/// Most configurations re-run per remedy option (the most severe first).
+pub const REMEDY_CONFIGURATIONS: usize = 50;
+
+/// The remedy options studied for one bank.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct BankRemedies {
+    pub bank: String,
+    /// Why the bank was flagged.
+    pub reason: String,
+    /// The configurations compared before and after (labels).
+    pub configurations: Vec<String>,
+    /// Options in rank order.
+    pub results: Vec<RemedyResult>,
 }
 
 /// Everything the studies found.
@@ -75,6 +98,8 @@ pub struct CheckResults {
     pub tolerance: Vec<ToleranceBand>,
     /// Energizing every step of every bank, per scenario.
     pub transients: Vec<TransientRow>,
+    /// Remedies for the flagged banks (empty when not studied; see `notes`).
+    pub remedies: Vec<BankRemedies>,
     /// Assumptions the study made that the report must state.
     pub notes: Vec<String>,
     /// Network index of the PCC bus.
@@ -92,6 +117,37 @@ impl CheckResults {
             || self.limit_rows.iter().any(|r| r.exceeds)
             || self.duty.iter().any(|r| r.exceeds)
             || self.tolerance.iter().any(|t| t.flagged)
+    }
+
+    /// The before/after outcome for `bank` over the configurations labelled `labels`.
+    fn outcome(&self, bank: &str, labels: &[String]) -> Outcome {
+        let has = |c: &str| labels.iter().any(|l| l == c);
+        let limits: Vec<&LimitRow> = self
+            .limit_rows
+            .iter()
+            .filter(|r| has(&r.configuration))
+            .collect();
+        Outcome {
+            configurations: labels.len(),
+            resonant: self
+                .resonance
+                .rows
+                .iter()
+                .filter(|r| {
+                    r.bank == bank
+                        && has(&r.configuration)
+                        && r.verdict == crate::study::Verdict::Resonant
+                })
+                .count(),
+            limits_exceeded: limits.iter().filter(|r| r.exceeds).count(),
+            duty_exceeded: self
+                .duty
+                .iter()
+                .filter(|r| r.bank == bank && has(&r.configuration) && r.exceeds)
+                .count(),
+            worst_thd_percent: limits.iter().map(|r| r.worst_thd.value).fold(0.0, f64::max),
+            worst_tdd_percent: limits.iter().map(|r| r.tdd.value).fold(0.0, f64::max),
+        }
     }
 
     /// The label of configuration `c`.
@@ -260,7 +316,7 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
             }
         }
     }
-    Ok(CheckResults {
+    let mut res = CheckResults {
         plant: plant.clone(),
         network: network.clone(),
         scan,
@@ -271,7 +327,139 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         duty,
         tolerance,
         transients,
+        remedies: Vec::new(),
         notes,
         pcc,
-    })
+    };
+    let auto = res.scan.configurations.len() <= AUTO_REMEDY_CONFIGURATIONS;
+    match options.remedies {
+        Some(true) => res.remedies = remedies(&res, options),
+        None if auto => res.remedies = remedies(&res, options),
+        None => res.notes.push(format!(
+            "remedies not studied: {} step combinations exceed {AUTO_REMEDY_CONFIGURATIONS} (each option re-runs every study); ask for them with --remedies",
+            res.scan.configurations.len()
+        )),
+        Some(false) => {}
+    }
+    Ok(res)
+}
+
+/// Sizes the remedy options of every flagged bank and re-runs the studies with each.
+fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
+    let plant = &res.plant;
+    let mut out = Vec::new();
+    for (b, bank) in plant.banks.iter().enumerate() {
+        let resonant = res
+            .resonance
+            .rows
+            .iter()
+            .any(|r| r.bank == bank.id && r.verdict == crate::study::Verdict::Resonant);
+        let duty = res.duty.iter().any(|r| r.bank == bank.id && r.exceeds);
+        if !resonant && !duty {
+            continue;
+        }
+        let reason = match (resonant, duty) {
+            (true, true) => "resonates near a characteristic order and exceeds its duty limits",
+            (true, false) => "resonates near a characteristic order",
+            _ => "exceeds its duty limits",
+        }
+        .to_string();
+        // The configurations where the bank is on and something is flagged, most severe
+        // first (by the worst THD's ratio to its limit).
+        let nc = res.scan.configurations.len();
+        let mut picked: Vec<(f64, String)> = Vec::new();
+        for (c, cfg) in res.scan.configurations.iter().enumerate() {
+            if cfg.steps[b] == 0 {
+                continue;
+            }
+            let label = cfg.label(&plant.banks);
+            let flagged = res.resonance.rows.iter().any(|r| {
+                r.bank == bank.id
+                    && r.configuration == label
+                    && r.verdict == crate::study::Verdict::Resonant
+            }) || res
+                .duty
+                .iter()
+                .any(|r| r.bank == bank.id && r.configuration == label && r.exceeds)
+                || (0..res.scan.scenarios.len()).any(|s| res.limit_rows[s * nc + c].exceeds);
+            if flagged {
+                let severity = (0..res.scan.scenarios.len())
+                    .map(|s| {
+                        let r = &res.limit_rows[s * nc + c];
+                        r.worst_thd.value / r.worst_thd.limit.unwrap_or(1.0)
+                    })
+                    .fold(0.0, f64::max);
+                picked.push((severity, label));
+            }
+        }
+        picked.sort_by(|a, b| b.0.total_cmp(&a.0));
+        picked.truncate(REMEDY_CONFIGURATIONS);
+        let labels: Vec<String> = picked.into_iter().map(|p| p.1).collect();
+        if labels.is_empty() {
+            continue;
+        }
+        let before = res.outcome(&bank.id, &labels);
+        let bus_kv = res.network.buses[res.network.banks[b].bus].kv;
+        let mut results = Vec::new();
+        for option in crate::study::remedy::options(
+            plant,
+            bank,
+            bus_kv,
+            &res.resonance.characteristic_orders,
+            res.resonance.margin_percent,
+        ) {
+            let mut changed = plant.clone();
+            changed.banks[b] = crate::study::remedy::apply(bank, &option);
+            let rerun = CheckOptions {
+                buses: options.buses.clone(),
+                configurations: labels.clone(),
+                progress: None,
+                remedies: Some(false),
+            };
+            let Ok(after_res) = run_check(&changed, &rerun) else {
+                continue;
+            };
+            let after = after_res.outcome(&bank.id, &labels);
+            let orders: Vec<f64> = after_res
+                .resonance
+                .rows
+                .iter()
+                .filter(|r| r.bank == bank.id)
+                .filter_map(|r| r.peak.map(|p| p.order))
+                .collect();
+            let resonance_after = (!orders.is_empty()).then(|| {
+                (
+                    orders.iter().copied().fold(f64::INFINITY, f64::min),
+                    orders.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+                )
+            });
+            let i_rated_step =
+                option.step.capacitor_kvar / (3f64.sqrt() * option.step.capacitor_rated_kv);
+            let step_rms_a = after_res
+                .duty
+                .iter()
+                .filter(|r| r.bank == bank.id)
+                .map(|r| r.ratios.rms_current * i_rated_step)
+                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))));
+            let passes =
+                after.resonant == 0 && after.limits_exceeded == 0 && after.duty_exceeded == 0;
+            results.push(RemedyResult {
+                option,
+                before: before.clone(),
+                after,
+                passes,
+                rank: 0,
+                resonance_after,
+                step_rms_a,
+            });
+        }
+        crate::study::remedy::rank(&mut results);
+        out.push(BankRemedies {
+            bank: bank.id.clone(),
+            reason,
+            configurations: labels,
+            results,
+        });
+    }
+    out
 }

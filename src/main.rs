@@ -54,6 +54,12 @@ struct Outputs {
     /// No progress bar.
     #[arg(long)]
     quiet: bool,
+    /// Study remedies for flagged banks even above 200 step combinations.
+    #[arg(long, conflicts_with = "no_remedies")]
+    remedies: bool,
+    /// Do not study remedies.
+    #[arg(long)]
+    no_remedies: bool,
     #[command(flatten)]
     select: Select,
 }
@@ -147,7 +153,8 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
         Command::Check { plant, out } => study(&load(&plant)?, &out),
         Command::Scan { plant, csv, select } => {
             let plant = load(&plant)?;
-            let (options, bar) = options(&select, select.configurations.clone(), false);
+            let (options, bar) =
+                options(&select, select.configurations.clone(), false, Some(false));
             let res = run_check(&plant, &options);
             bar.finish_and_clear();
             let res = res?;
@@ -174,6 +181,7 @@ fn options(
     select: &Select,
     configurations: Vec<String>,
     quiet: bool,
+    remedies: Option<bool>,
 ) -> (CheckOptions, ProgressBar) {
     let bar = if quiet {
         ProgressBar::hidden()
@@ -196,6 +204,7 @@ fn options(
         buses: select.buses.clone(),
         configurations,
         progress: Some(Arc::new(progress)),
+        remedies,
     };
     (options, bar)
 }
@@ -237,7 +246,12 @@ fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
 }
 
 fn study(plant: &Plant, out: &Outputs) -> Result<ExitCode, Failure> {
-    let (options, bar) = options(&out.select, Vec::new(), out.quiet);
+    let remedies = match (out.remedies, out.no_remedies) {
+        (true, _) => Some(true),
+        (_, true) => Some(false),
+        _ => None,
+    };
+    let (options, bar) = options(&out.select, Vec::new(), out.quiet, remedies);
     let res = run_check(plant, &options);
     bar.finish_and_clear();
     let res = res?;

@@ -53,6 +53,7 @@ struct Summary<'a> {
     duty: &'a [crate::study::duty::DutyRow],
     tolerance: &'a [crate::study::tolerance::ToleranceBand],
     transients: &'a [crate::check::TransientRow],
+    remedies: &'a [crate::check::BankRemedies],
     assumptions: &'a [String],
     cautions: &'static [&'static str],
 }
@@ -111,6 +112,7 @@ pub fn to_json(res: &CheckResults) -> String {
         duty: &res.duty,
         tolerance: &res.tolerance,
         transients: &res.transients,
+        remedies: &res.remedies,
         assumptions: &res.notes,
         cautions: crate::report::cautions::CAUTIONS,
     };

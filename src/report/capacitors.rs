@@ -149,3 +149,87 @@ pub fn write_transients(out: &mut dyn Write, res: &CheckResults) -> io::Result<(
     }
     Ok(())
 }
+
+/// Remedies for each flagged bank, ranked, with the studies before and after.
+pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    if res.remedies.is_empty() {
+        return Ok(());
+    }
+    writeln!(
+        out,
+        "Remedies (ranked: passes everything, then least kvar lost, then lowest capacitor voltage); studies re-run over the flagged configurations"
+    )?;
+    for br in &res.remedies {
+        writeln!(out)?;
+        writeln!(
+            out,
+            "Bank {}: {}; {} configuration(s) compared",
+            br.bank,
+            br.reason,
+            br.configurations.len()
+        )?;
+        if let Some(first) = br.results.first() {
+            let b = &first.before;
+            writeln!(
+                out,
+                "  before: {} resonant row(s), {} configuration(s) over a harmonic limit, {} duty row(s) over, worst THD {:.2} %, worst TDD {:.2} %",
+                b.resonant,
+                b.limits_exceeded,
+                b.duty_exceeded,
+                b.worst_thd_percent,
+                b.worst_tdd_percent
+            )?;
+        }
+        let rows: Vec<Vec<String>> = br
+            .results
+            .iter()
+            .map(|r| {
+                let s = &r.option.step;
+                vec![
+                    r.rank.to_string(),
+                    r.option.name.clone(),
+                    format!("{:.3}", s.l_mh),
+                    format!("{:.0}", s.capacitor_kv_needed * 1000.0),
+                    format!(
+                        "{:.0} V {:.1} kvar",
+                        s.capacitor_rated_kv * 1000.0,
+                        s.capacitor_kvar
+                    ),
+                    format!("{:.0}", r.option.effective_kvar),
+                    format!("{:.1}/{:.1}", s.i1_a, s.linearity_a),
+                    r.step_rms_a
+                        .map_or_else(|| "-".to_string(), |v| format!("{v:.1}")),
+                    r.resonance_after
+                        .map_or_else(|| "-".to_string(), |(lo, hi)| format!("{lo:.2}-{hi:.2}")),
+                    format!("{}", r.after.resonant),
+                    format!("{:.2}", r.after.worst_thd_percent),
+                    format!("{:.2}", r.after.worst_tdd_percent),
+                    format!("{}", r.after.duty_exceeded),
+                    if r.passes { "passes" } else { "fails" }.to_string(),
+                ]
+            })
+            .collect();
+        write_table(
+            out,
+            &[
+                "rank",
+                "option",
+                "L mH/step",
+                "Uc V",
+                "capacitor/step",
+                "kvar",
+                "I1/lin A",
+                "Irms A",
+                "resonance after",
+                "res",
+                "THD %",
+                "TDD %",
+                "duty",
+                "after",
+            ],
+            &[1, 4, 8, 13],
+            &rows,
+        )?;
+    }
+    Ok(())
+}

@@ -198,6 +198,10 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     super::capacitors::write_tolerance(out, res)?;
     writeln!(out)?;
     super::capacitors::write_transients(out, res)?;
+    if !res.remedies.is_empty() {
+        writeln!(out)?;
+        super::capacitors::write_remedies(out, res)?;
+    }
     if !res.notes.is_empty() {
         writeln!(out)?;
         writeln!(out, "Assumptions:")?;

@@ -7,6 +7,7 @@ pub mod detune;
 pub mod duty;
 pub mod limits;
 pub mod penetration;
+pub mod remedy;
 pub mod resonance;
 pub mod scan;
 pub mod spectra;

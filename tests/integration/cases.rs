@@ -644,3 +644,52 @@ fn food_plant_resonant_step_alone_exceeds_a_limit() {
     assert_eq!(four.worst_individual_order, Some(5.0));
     assert!(four.worst_individual.as_ref().unwrap().value > 5.0);
 }
+
+#[test]
+fn food_plant_top_remedy_fixes_the_resonant_step() {
+    let res = run_check(&food_plant(), &CheckOptions::default()).expect("runs");
+    assert_eq!(res.remedies.len(), 1);
+    let r = &res.remedies[0];
+    assert_eq!(r.bank, "C1");
+    assert!(r.configurations.contains(&"C1=4".to_string()));
+    let top = &r.results[0];
+    assert_eq!(top.rank, 1);
+    assert!(
+        top.before.limits_exceeded >= 1 && top.before.resonant >= 1,
+        "{:?}",
+        top.before
+    );
+    assert!(top.passes, "{top:?}");
+    assert_eq!(
+        (
+            top.after.limits_exceeded,
+            top.after.resonant,
+            top.after.duty_exceeded
+        ),
+        (0, 0, 0)
+    );
+    // The reactor moves the parallel resonance below the lowest characteristic order (5).
+    let (_, hi) = top.resonance_after.expect("resonance");
+    assert!(hi < 4.5, "{hi}");
+    // Sized to keep the planned 900 kvar at 480 V.
+    assert!((top.option.effective_kvar - 900.0).abs() < 0.5);
+    // The same, shown by `overtone check`.
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_overtone"))
+        .args([
+            "check",
+            case_path("food-plant.xlsx").to_str().unwrap(),
+            "--quiet",
+        ])
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        text.contains("Bank C1: resonates near a characteristic order"),
+        "{text}"
+    );
+    assert!(
+        text.lines()
+            .any(|l| l.trim_start().starts_with("1  ") && l.trim_end().ends_with("passes")),
+        "{text}"
+    );
+}

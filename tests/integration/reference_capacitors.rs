@@ -216,3 +216,37 @@ fn inrush_isolated_and_back_to_back_by_hand() {
     assert_eq!(rlc("x", 1.0, 2.1, l, c, true).regime, Regime::OverDamped);
     assert_eq!(rlc("x", 1.0, 2.1, l, c, true).overvoltage_pu, Some(1.0));
 }
+
+#[test]
+fn tolerance_band_reaches_the_5th_that_the_nominal_clears() {
+    // A plain bank whose nominal resonance (≈ 5.6) is 12 % above the 5th, outside the 10 %
+    // margin; with +10 % capacitance it moves to 5.6/√1.1 ≈ 5.34 (textbook: f ∝ 1/√C,
+    // df/f ≈ −½·dC/C), inside the margin: flagged by the band, not by the nominal check.
+    let mut p = Plant::new(60.0);
+    p.study.capacitance_tolerance = Tolerance {
+        minus_percent: 0.0,
+        plus_percent: 10.0,
+    };
+    p.buses.push(bus("HV", 13.8));
+    p.buses.push(bus("LV", 0.48));
+    p.sources.push(source("U", "HV", 48.0, 200.0));
+    p.transformers
+        .push(transformer("T", "HV", "LV", 1500.0, 5.5, 200.0));
+    p.banks.push(bank("C", "LV", 0.48, 554.6, 1, Reactor::None));
+    p.loads
+        .push(load("D", "LV", LoadType::SixPulseDrive, 20.0, 0.95));
+    let res = run_check(&p, &Default::default()).unwrap();
+    let row = res.resonance.rows.iter().find(|r| r.steps == 1).unwrap();
+    let nominal = row.peak.unwrap().order;
+    assert!(nominal > 5.5 && nominal < 5.7, "{nominal}");
+    assert_eq!(row.verdict, overtone::study::Verdict::Clear);
+    let band = res
+        .tolerance
+        .iter()
+        .find(|b| b.configuration == "C=1")
+        .unwrap();
+    assert_close(band.high_order, nominal, 1e-12);
+    assert_close(band.low_order, nominal / 1.1f64.sqrt(), 1e-9);
+    assert!(band.flagged);
+    assert_eq!(band.reaches, Some(5.0));
+}
