@@ -356,15 +356,20 @@ impl PointSolution {
     /// admittances `y_step` evaluated exactly at `order`. Z₀ has no capacitor banks in it,
     /// so it varies slowly with h and a cubic through grid points 0.01 apart reproduces it to
     /// far better than the 0.001-order refinement needs (checked against exact solutions in
-    /// the tests).
-    pub fn interpolate(near: &[&PointSolution], order: f64, y_step: Vec<Complex64>) -> Self {
-        let first = &near[0].state;
+    /// the tests). Only bus of interest `p` is kept (m = 1).
+    pub fn interpolate_bus(
+        near: &[PointSolution],
+        order: f64,
+        y_step: Vec<Complex64>,
+        p: usize,
+    ) -> Self {
+        let k = near[0].state.k;
         let mut state = State {
-            k: first.k,
-            m: first.m,
-            zss: vec![Complex64::default(); first.zss.len()],
-            zis: vec![Complex64::default(); first.zis.len()],
-            zii: vec![Complex64::default(); first.zii.len()],
+            k,
+            m: 1,
+            zss: vec![Complex64::default(); k * k],
+            zis: vec![Complex64::default(); k],
+            zii: vec![Complex64::default()],
         };
         for (a, pa) in near.iter().enumerate() {
             let mut w = 1.0;
@@ -373,14 +378,13 @@ impl PointSolution {
                     w *= (order - pb.order) / (pa.order - pb.order);
                 }
             }
-            let add = |acc: &mut [Complex64], v: &[Complex64]| {
-                for (x, y) in acc.iter_mut().zip(v) {
-                    *x += y * w;
-                }
-            };
-            add(&mut state.zss, &pa.state.zss);
-            add(&mut state.zis, &pa.state.zis);
-            add(&mut state.zii, &pa.state.zii);
+            for (x, y) in state.zss.iter_mut().zip(&pa.state.zss) {
+                *x += y * w;
+            }
+            for (x, y) in state.zis.iter_mut().zip(&pa.state.zis[p * k..(p + 1) * k]) {
+                *x += y * w;
+            }
+            state.zii[0] += pa.state.zii[p] * w;
         }
         PointSolution {
             order,

@@ -207,16 +207,30 @@ pub fn limit_row(
     scenario: &str,
     configuration: String,
 ) -> LimitRow {
-    let checks = bus_checks(d, ctx, net);
-    let by =
-        |f: &dyn Fn(&BusCheck) -> f64| checks.iter().max_by(|a, b| f(a).total_cmp(&f(b))).cloned();
-    let thd = by(&|c: &BusCheck| c.thd_percent.ratio()).expect("a plant has buses");
-    let ind = by(&|c: &BusCheck| {
-        c.worst_percent
-            .as_ref()
-            .map_or(0.0, |w| w.ratio().max(w.value * 1e-12))
-    })
-    .expect("a plant has buses");
+    let check = |b: usize| BusCheck {
+        bus: net.buses[b].id.clone(),
+        thd_percent: Checked::new(d.thd_percent[b], Some(ctx.thd_limit[b].value)),
+        worst_order: d.worst[b].map(|w| w.order),
+        worst_percent: d.worst[b].map(|w| Checked::new(w.v_percent, w.limit_percent)),
+    };
+    let thd_ratio = |b: usize| d.thd_percent[b] / ctx.thd_limit[b].value;
+    let ind_ratio = |b: usize| {
+        d.worst[b].map_or(0.0, |w| match w.limit_percent {
+            Some(l) if l > 0.0 => (w.v_percent / l).max(w.v_percent * 1e-12),
+            _ => w.v_percent * 1e-12,
+        })
+    };
+    let argmax = |f: &dyn Fn(usize) -> f64| {
+        (0..net.buses.len())
+            .max_by(|&a, &b| f(a).total_cmp(&f(b)))
+            .unwrap_or(0)
+    };
+    let thd = check(argmax(&thd_ratio));
+    let ind = check(argmax(&ind_ratio));
+    let any_bus_exceeds = (0..net.buses.len()).any(|b| {
+        thd_ratio(b) > 1.0
+            || d.worst[b].is_some_and(|w| w.limit_percent.is_some_and(|l| w.v_percent > l))
+    });
     let tdd = Checked::new(
         tdd_percent(&d.pcc_current_a, orders, ctx.i_l_a),
         ctx.tdd_limit.map(|l| l.value),
@@ -236,11 +250,7 @@ pub fn limit_row(
                 .then(a.1.value.total_cmp(&b.1.value))
         })
         .cloned();
-    let exceeds = checks
-        .iter()
-        .any(|c| c.thd_percent.exceeds() || c.worst_percent.as_ref().is_some_and(Checked::exceeds))
-        || tdd.exceeds()
-        || pcc.iter().any(|(_, c)| c.exceeds());
+    let exceeds = any_bus_exceeds || tdd.exceeds() || pcc.iter().any(|(_, c)| c.exceeds());
     LimitRow {
         scenario: scenario.to_string(),
         configuration,

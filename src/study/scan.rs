@@ -230,7 +230,9 @@ impl Ctx<'_, '_> {
         for (slot, &c) in chunk.iter().enumerate() {
             for b in 0..nb {
                 let curve = &mags[(slot * nb + b) * np..(slot * nb + b + 1) * np];
-                let eval = |h: f64| self.exact(s, c, b, h);
+                let one = ComboPlan::new(&[&self.configurations[c].steps[..]]);
+                let scratch = std::cell::RefCell::new(Scratch::default());
+                let eval = |h: f64| self.exact(s, b, h, &one, &mut scratch.borrow_mut());
                 series.push(Series {
                     scenario: s,
                     configuration: c,
@@ -243,17 +245,17 @@ impl Ctx<'_, '_> {
         Ok(series)
     }
 
-    /// (Z, Z without banks) in ohm at order h for configuration `c`, bus `b`, from Z₀
-    /// interpolated through the four grid points around h and the banks' exact admittances.
+    /// (Z, Z without banks) in ohm at order h for the configuration of `plan`, bus `b`, from
+    /// Z₀ interpolated through the four grid points around h and the banks' exact admittances.
     fn exact(
         &self,
         s: usize,
-        c: usize,
         b: usize,
         h: f64,
+        plan: &ComboPlan,
+        scratch: &mut Scratch,
     ) -> Result<(Complex64, Complex64), SolveError> {
         let orders = &self.grid.orders;
-        let points = &self.points[s];
         let n = orders.len();
         let start = if n < 4 {
             0
@@ -263,15 +265,10 @@ impl Ctx<'_, '_> {
                 .saturating_sub(2)
                 .min(n - 4)
         };
-        let near: Vec<PointSolution> = points[start..(start + 4).min(n)]
-            .iter()
-            .map(|p| p.for_bus(b))
-            .collect();
-        let refs: Vec<&PointSolution> = near.iter().collect();
-        let p = PointSolution::interpolate(&refs, h, self.engine.y_steps(h));
+        let near = &self.points[s][start..(start + 4).min(n)];
+        let p = PointSolution::interpolate_bus(near, h, self.engine.y_steps(h), b);
         let mut z = [Complex64::default()];
-        let mut scratch = Scratch::default();
-        if !p.driving_point_into(&self.configurations[c].steps, &mut scratch, &mut z) {
+        if !p.evaluate(plan, scratch, &mut z) {
             return Err(self.singular(s, h));
         }
         Ok((z[0] * self.z_base[b], p.z0_pu(0) * self.z_base[b]))

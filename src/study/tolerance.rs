@@ -49,18 +49,22 @@ pub fn bands(
     margin: f64,
 ) -> Vec<ToleranceBand> {
     let mut out: Vec<ToleranceBand> = Vec::new();
-    let mut keys: Vec<(String, String)> = Vec::new();
+    // Rows grouped by (configuration, bank), in order of first appearance.
+    let mut index: std::collections::HashMap<(&str, &str), usize> =
+        std::collections::HashMap::new();
+    let mut groups: Vec<Vec<&ResonanceRow>> = Vec::new();
     for r in rows {
-        let key = (r.configuration.clone(), r.bank.clone());
-        if !keys.contains(&key) {
-            keys.push(key);
-        }
+        let i = *index
+            .entry((r.configuration.as_str(), r.bank.as_str()))
+            .or_insert_with(|| {
+                groups.push(Vec::new());
+                groups.len() - 1
+            });
+        groups[i].push(r);
     }
-    for (configuration, bank) in keys {
-        let group: Vec<&ResonanceRow> = rows
-            .iter()
-            .filter(|r| r.configuration == configuration && r.bank == bank)
-            .collect();
+    for group in groups {
+        let configuration = group[0].configuration.clone();
+        let bank = group[0].bank.clone();
         let p = p_of(&bank);
         let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
         for r in &group {
