@@ -9,8 +9,8 @@ use crate::study::duty::DutyRow;
 
 fn ratio(v: f64, limit: Option<f64>) -> String {
     match limit {
-        Some(l) => format!("{:.0}/{:.0}", v * 100.0, l * 100.0),
-        None => format!("{:.0}/-", v * 100.0),
+        Some(l) => format!("{:.1}/{:.0}", v * 100.0, l * 100.0),
+        None => format!("{:.1}/-", v * 100.0),
     }
 }
 
@@ -157,7 +157,7 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
     }
     writeln!(
         out,
-        "Remedies (ranked: passes everything, then least kvar lost, then lowest capacitor voltage); studies re-run over the flagged configurations"
+        "Remedies (ranked: passes everything, then least kvar lost, then lowest capacitor voltage, then lowest THD after); studies re-run over the flagged configurations"
     )?;
     for br in &res.remedies {
         writeln!(out)?;
@@ -172,7 +172,7 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
             let b = &first.before;
             writeln!(
                 out,
-                "  before: {} resonant row(s), {} configuration(s) over a harmonic limit, {} duty row(s) over, worst THD {:.2} %, worst TDD {:.2} %",
+                "  before: {} resonant row(s), {} scenario-configuration row(s) over a harmonic limit, {} duty row(s) over, worst THD {:.2} %, worst TDD {:.2} %",
                 b.resonant,
                 b.limits_exceeded,
                 b.duty_exceeded,

@@ -7,7 +7,8 @@
 //!
 //! Ranking (stated rule): options that pass everything first (no resonance flag for the
 //! bank, no limit exceeded, no duty limit exceeded in the configurations re-run), then the
-//! least kvar lost against the planned kvar, then the lowest capacitor voltage rating.
+//! least kvar lost against the planned kvar (to 0.1 kvar), then the lowest capacitor voltage
+//! rating, then the lowest worst voltage THD after.
 
 use serde::Serialize;
 
@@ -145,6 +146,11 @@ pub fn rank(results: &mut [RemedyResult]) {
                     .step
                     .capacitor_rated_kv
                     .total_cmp(&b.option.step.capacitor_rated_kv),
+            )
+            .then(
+                a.after
+                    .worst_thd_percent
+                    .total_cmp(&b.after.worst_thd_percent),
             )
     });
     for (i, r) in results.iter_mut().enumerate() {
