@@ -378,6 +378,7 @@ pub fn large_site() -> Plant {
     p.study.plant = "Invented manufacturing campus (example case)".into();
     p.study.prepared_by = "overtone example".into();
     p.study.pcc_bus = Some("SVC-34".into());
+    p.study.max_demand_current_a = Some(300.0);
     p.study.scan_step_order = 0.02;
     p.buses = vec![
         bus("SVC-34", 34.5, "34.5 kV utility service (PCC)"),
@@ -435,7 +436,7 @@ pub fn large_site() -> Plant {
             let drive = if (u + m) % 3 == 0 {
                 TwelvePulseDrive
             } else {
-                SixPulseDrive
+                SixPulseDriveWithReactor
             };
             p.loads.push(load(
                 &format!("US{u}-M{m}-VFD"),
