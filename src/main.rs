@@ -13,6 +13,7 @@ use std::time::Instant;
 use indicatif::{ProgressBar, ProgressStyle};
 use overtone::check::{CheckOptions, run_check};
 use overtone::io::csv::{selection, write_scan_file, write_voltages_file};
+use overtone::io::review::{Provenance, check_output_path, file_date, sha256_hex, write_review};
 use overtone::io::workbook_in::read_workbook;
 use overtone::model::Plant;
 
@@ -39,6 +40,12 @@ struct Select {
 
 #[derive(clap::Args)]
 struct Outputs {
+    /// Write the review workbook (.xlsx) to this file.
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    output: Option<PathBuf>,
+    /// The report date, YYYY-MM-DD (default: the input file's modification date).
+    #[arg(long, value_name = "DATE")]
+    date: Option<String>,
     /// Also write the frequency scan as CSV (the input contract's columns) to this file.
     #[arg(long, value_name = "FILE")]
     scan_csv: Option<PathBuf>,
@@ -138,19 +145,69 @@ fn main() -> ExitCode {
     }
 }
 
-fn load(path: &std::path::Path) -> Result<Plant, Failure> {
-    let read = read_workbook(path)?;
+/// The report date of the built-in demo (fixed, so the demo's workbook is reproducible).
+const DEMO_DATE: (u16, u8, u8) = (2026, 1, 1);
+
+fn warn(warnings: &[overtone::io::workbook_in::Warning]) {
     let mut err = io::stderr().lock();
-    for w in &read.warnings {
+    for w in warnings {
         let _ = writeln!(err, "warning: {w}");
     }
+}
+
+fn load(path: &std::path::Path) -> Result<Plant, Failure> {
+    let read = read_workbook(path)?;
+    warn(&read.warnings);
     Ok(read.plant)
+}
+
+/// Parses YYYY-MM-DD.
+fn parse_date(s: &str) -> Result<(u16, u8, u8), Failure> {
+    let bad = || Failure(format!("--date must be YYYY-MM-DD, found \"{s}\""));
+    let mut it = s.split('-');
+    let y: u16 = it.next().and_then(|v| v.parse().ok()).ok_or_else(bad)?;
+    let m: u8 = it.next().and_then(|v| v.parse().ok()).ok_or_else(bad)?;
+    let d: u8 = it.next().and_then(|v| v.parse().ok()).ok_or_else(bad)?;
+    if it.next().is_some()
+        || !(1900..=9999).contains(&y)
+        || !(1..=12).contains(&m)
+        || !(1..=31).contains(&d)
+    {
+        return Err(bad());
+    }
+    Ok((y, m, d))
 }
 
 fn run(command: Command) -> Result<ExitCode, Failure> {
     match command {
-        Command::Demo(out) => study(&overtone::demo::demo_plant()?, &out),
-        Command::Check { plant, out } => study(&load(&plant)?, &out),
+        Command::Demo(out) => {
+            let read = overtone::demo::demo_workbook()?;
+            let prov = Provenance {
+                input: format!("built-in demo ({})", overtone::demo::DEMO_NAME),
+                sha256: sha256_hex(overtone::demo::DEMO_WORKBOOK),
+                date: DEMO_DATE,
+                warnings: read.warnings.clone(),
+            };
+            study(&read.plant, &out, None, prov)
+        }
+        Command::Check { plant: path, out } => {
+            if let Some(o) = &out.output {
+                check_output_path(o, Some(&path))?;
+            }
+            let read = read_workbook(&path)?;
+            warn(&read.warnings);
+            let bytes =
+                std::fs::read(&path).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
+            let prov = Provenance {
+                input: path
+                    .file_name()
+                    .map_or_else(String::new, |n| n.to_string_lossy().into_owned()),
+                sha256: sha256_hex(&bytes),
+                date: file_date(&path).unwrap_or(DEMO_DATE),
+                warnings: read.warnings.clone(),
+            };
+            study(&read.plant, &out, Some(&path), prov)
+        }
         Command::Scan { plant, csv, select } => {
             let plant = load(&plant)?;
             let (options, bar) =
@@ -245,7 +302,18 @@ fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
     print(|w| overtone::report::summary::write_sizing(w, &s))
 }
 
-fn study(plant: &Plant, out: &Outputs) -> Result<ExitCode, Failure> {
+fn study(
+    plant: &Plant,
+    out: &Outputs,
+    input: Option<&std::path::Path>,
+    mut prov: Provenance,
+) -> Result<ExitCode, Failure> {
+    if let Some(o) = &out.output {
+        check_output_path(o, input)?;
+    }
+    if let Some(d) = &out.date {
+        prov.date = parse_date(d)?;
+    }
     let remedies = match (out.remedies, out.no_remedies) {
         (true, _) => Some(true),
         (_, true) => Some(false),
@@ -261,6 +329,9 @@ fn study(plant: &Plant, out: &Outputs) -> Result<ExitCode, Failure> {
     }
     if let Some(path) = &out.voltages_csv {
         write_voltages_file(path, &res, &sel)?;
+    }
+    if let Some(path) = &out.output {
+        write_review(path, &res, &prov)?;
     }
     let code = print(|w| {
         if out.json {

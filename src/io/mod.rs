@@ -3,5 +3,6 @@
 
 pub mod csv;
 pub mod json;
+pub mod review;
 pub mod template;
 pub mod workbook_in;

@@ -13,5 +13,6 @@ mod reader;
 mod reference_capacitors;
 mod reference_limits;
 mod reference_resonance;
+mod review;
 mod scan;
 mod solver;

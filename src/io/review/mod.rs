@@ -1,0 +1,147 @@
+//! The review workbook for the licensed reviewer: every study's results as sheets that can
+//! be audited without the tool (hand checks as live formulas beside the computed values, a
+//! native scatter chart of the scans), with the input echoed, the assumptions and the
+//! cautions. Deterministic: the same input and date give byte-identical files.
+
+mod sheets;
+mod writer;
+
+use std::path::Path;
+
+use rust_xlsxwriter::{DocProperties, ExcelDateTime, Workbook, XlsxError};
+
+use crate::check::CheckResults;
+use crate::io::workbook_in::Warning;
+
+/// Where the studied plant came from, for the summary sheet.
+#[derive(Debug, Clone)]
+pub struct Provenance {
+    /// Input file name (or `built-in demo`).
+    pub input: String,
+    /// SHA-256 of the input bytes, lower-case hex.
+    pub sha256: String,
+    /// The report date (year, month, day): the input file's modification date unless given.
+    pub date: (u16, u8, u8),
+    /// The reader's warnings (defaults applied, unknown columns).
+    pub warnings: Vec<Warning>,
+}
+
+/// SHA-256 of `bytes` as lower-case hex.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::Digest;
+    sha2::Sha256::digest(bytes)
+        .iter()
+        .map(|b| format!("{b:02x}"))
+        .collect()
+}
+
+/// A review workbook that could not be written.
+#[derive(Debug, thiserror::Error)]
+pub enum ReviewError {
+    #[error("{path}: the review workbook cannot be written ({source})")]
+    Write { path: String, source: XlsxError },
+    #[error("{path}: {reason}")]
+    Path { path: String, reason: String },
+}
+
+/// Checks before the study runs that `out` can be written and is not the input `input`.
+pub fn check_output_path(out: &Path, input: Option<&Path>) -> Result<(), ReviewError> {
+    let fail = |reason: &str| ReviewError::Path {
+        path: out.display().to_string(),
+        reason: reason.to_string(),
+    };
+    if let Some(inp) = input {
+        let same = match (std::fs::canonicalize(inp), std::fs::canonicalize(out)) {
+            (Ok(a), Ok(b)) => a == b,
+            _ => inp == out,
+        };
+        if same {
+            return Err(fail(
+                "the output would overwrite the input workbook: choose another name",
+            ));
+        }
+    }
+    let dir = match out.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => std::path::PathBuf::from("."),
+    };
+    if !dir.is_dir() {
+        return Err(fail("the output folder does not exist"));
+    }
+    let probe = dir.join(format!(".overtone-write-test-{}", std::process::id()));
+    match std::fs::write(&probe, b"") {
+        Ok(()) => {
+            let _ = std::fs::remove_file(&probe);
+            Ok(())
+        }
+        Err(_) => Err(fail("the output folder is not writable")),
+    }
+}
+
+/// The review workbook's bytes.
+pub fn review_bytes(res: &CheckResults, prov: &Provenance) -> Result<Vec<u8>, XlsxError> {
+    let mut wb = Workbook::new();
+    let (y, m, d) = prov.date;
+    let title = if res.plant.study.title.is_empty() {
+        "overtone review".to_string()
+    } else {
+        res.plant.study.title.clone()
+    };
+    wb.set_properties(
+        &DocProperties::new()
+            .set_title(&title)
+            .set_author(&res.plant.study.prepared_by)
+            .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, d)?),
+    );
+    sheets::write_all(&mut wb, res, prov)?;
+    wb.save_to_buffer()
+}
+
+/// Writes the review workbook to `path` through a temporary file in the same folder, renamed
+/// into place, so that no partial workbook is ever left under `path`.
+pub fn write_review(path: &Path, res: &CheckResults, prov: &Provenance) -> Result<(), ReviewError> {
+    let err = |source: XlsxError| ReviewError::Write {
+        path: path.display().to_string(),
+        source,
+    };
+    let bytes = review_bytes(res, prov).map_err(err)?;
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => std::path::PathBuf::from("."),
+    };
+    let tmp = dir.join(format!(
+        ".{}.{}.tmp",
+        path.file_name()
+            .map_or_else(|| "review".into(), |n| n.to_string_lossy().into_owned()),
+        std::process::id()
+    ));
+    let io = |e: std::io::Error| err(XlsxError::IoError(e));
+    std::fs::write(&tmp, &bytes).map_err(io)?;
+    std::fs::rename(&tmp, path).map_err(|e| {
+        let _ = std::fs::remove_file(&tmp);
+        io(e)
+    })
+}
+
+/// The date (UTC) a file was last modified, as (year, month, day).
+pub fn file_date(path: &Path) -> Option<(u16, u8, u8)> {
+    let t = std::fs::metadata(path).ok()?.modified().ok()?;
+    let secs = t.duration_since(std::time::UNIX_EPOCH).ok()?.as_secs() as i64;
+    Some(civil_from_days(secs.div_euclid(86_400)))
+}
+
+/// Gregorian (year, month, day) of a count of days since 1970-01-01 (the usual
+/// days-to-civil conversion of the proleptic Gregorian calendar, common practice).
+pub fn civil_from_days(z: i64) -> (u16, u8, u8) {
+    let z = z + 719_468;
+    let era = z.div_euclid(146_097);
+    let doe = z.rem_euclid(146_097);
+    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
+    let y = yoe + era * 400;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let d = doy - (153 * mp + 2) / 5 + 1;
+    let m = if mp < 10 { mp + 3 } else { mp - 9 };
+    let y = if m <= 2 { y + 1 } else { y };
+    (y as u16, m as u8, d as u8)
+}

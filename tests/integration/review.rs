@@ -1,0 +1,293 @@
+//! The review workbook: read back with calamine, formulas, determinism, output-path checks,
+//! and (when LibreOffice is installed) its live formulas recalculated by a real spreadsheet
+//! program against the tool's values.
+
+use std::io::{Read, Write};
+use std::path::PathBuf;
+use std::process::Command;
+
+use calamine::{Data, Reader, open_workbook_auto_from_rs};
+use overtone::check::{CheckResults, run_check};
+use overtone::io::review::{Provenance, review_bytes};
+
+fn food() -> CheckResults {
+    let plant = overtone::io::workbook_in::read_workbook(
+        &PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("cases/food-plant.xlsx"),
+    )
+    .expect("case reads")
+    .plant;
+    run_check(&plant, &Default::default()).expect("runs")
+}
+
+fn prov() -> Provenance {
+    Provenance {
+        input: "food-plant.xlsx".into(),
+        sha256: "0".repeat(64),
+        date: (2026, 3, 1),
+        warnings: Vec::new(),
+    }
+}
+
+fn temp(tag: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("overtone-review-{tag}-{}", std::process::id()));
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+#[test]
+fn sheets_headers_numbers_and_formulas_read_back() {
+    let res = food();
+    let bytes = review_bytes(&res, &prov()).unwrap();
+    assert_eq!(
+        bytes,
+        review_bytes(&res, &prov()).unwrap(),
+        "two runs byte-identical"
+    );
+    let mut wb = open_workbook_auto_from_rs(std::io::Cursor::new(bytes)).unwrap();
+    let names = wb.sheet_names();
+    for s in [
+        "Summary",
+        "Input",
+        "Resonance",
+        "Scan",
+        "Distortion",
+        "Duty",
+        "Remedies",
+        "Switching",
+        "Assumptions",
+        "Cautions",
+    ] {
+        assert!(names.iter().any(|n| n == s), "{s} in {names:?}");
+    }
+    let r = wb.worksheet_range("Resonance").unwrap();
+    let head: Vec<String> = r
+        .rows()
+        .next()
+        .unwrap()
+        .iter()
+        .map(|c| c.to_string())
+        .collect();
+    assert_eq!(head[10], "Hand check h (formula)");
+    assert_eq!(head[11], "Scanned h");
+    for (i, row) in res.resonance.rows.iter().enumerate() {
+        let got = |c: usize| match r.get((i + 1, c)) {
+            Some(Data::Float(v)) => *v,
+            other => panic!("row {i} col {c}: {other:?}"),
+        };
+        assert_eq!(got(11), row.peak.unwrap().order);
+        assert_eq!(
+            got(10),
+            row.hand_order,
+            "cached result of the hand-check formula"
+        );
+        assert_eq!(got(5), row.s_sc_mva);
+    }
+    let f = wb.worksheet_formula("Resonance").unwrap();
+    assert_eq!(
+        f.get_value((1, 10)).map(String::as_str),
+        Some("SQRT(F2*1000/G2)")
+    );
+    assert_eq!(
+        f.get_value((1, 16)).map(String::as_str),
+        Some("(L2-P2)/P2*100")
+    );
+    let d = wb.worksheet_formula("Distortion").unwrap();
+    assert_eq!(d.get_value((1, 5)).map(String::as_str), Some("E2-D2"));
+    let summary = wb.worksheet_range("Summary").unwrap();
+    let text: Vec<String> = summary
+        .rows()
+        .flat_map(|r| r.iter().map(|c| c.to_string()))
+        .collect();
+    assert!(text.iter().any(|t| t == "EXCEEDS"));
+    assert!(text.iter().any(|t| t == "Reviewer sign-off"));
+    let cautions = wb.worksheet_range("Cautions").unwrap();
+    assert!(cautions.rows().any(|r| {
+        r.iter()
+            .any(|c| c.to_string().contains("licensed professional engineer"))
+    }));
+}
+
+#[test]
+fn output_path_is_checked_before_the_study() {
+    let dir = temp("paths");
+    let input = dir.join("plant.xlsx");
+    std::fs::copy(
+        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("cases/food-plant.xlsx"),
+        &input,
+    )
+    .unwrap();
+    let run = |args: &[&str]| {
+        Command::new(env!("CARGO_BIN_EXE_overtone"))
+            .args(args)
+            .output()
+            .unwrap()
+    };
+    let before = std::fs::read(&input).unwrap();
+    let same = run(&[
+        "check",
+        input.to_str().unwrap(),
+        "-o",
+        input.to_str().unwrap(),
+    ]);
+    assert_eq!(same.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&same.stderr).contains("would overwrite the input workbook"));
+    assert_eq!(
+        std::fs::read(&input).unwrap(),
+        before,
+        "the input is never modified"
+    );
+    let missing = run(&[
+        "check",
+        input.to_str().unwrap(),
+        "-o",
+        "/nonexistent-folder/review.xlsx",
+    ]);
+    assert_eq!(missing.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&missing.stderr).contains("the output folder does not exist"));
+    let out = dir.join("review.xlsx");
+    let ok = run(&[
+        "check",
+        input.to_str().unwrap(),
+        "-o",
+        out.to_str().unwrap(),
+        "--date",
+        "2026-03-01",
+        "--quiet",
+    ]);
+    assert!(
+        ok.status.success(),
+        "{}",
+        String::from_utf8_lossy(&ok.stderr)
+    );
+    let again = dir.join("again.xlsx");
+    run(&[
+        "check",
+        input.to_str().unwrap(),
+        "-o",
+        again.to_str().unwrap(),
+        "--date",
+        "2026-03-01",
+        "--quiet",
+    ]);
+    assert_eq!(std::fs::read(&out).unwrap(), std::fs::read(&again).unwrap());
+    let leftovers: Vec<_> = std::fs::read_dir(&dir)
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().ends_with(".tmp"))
+        .collect();
+    assert!(leftovers.is_empty(), "no temporary file left");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// `bytes` with every formula cell's cached value removed, so a spreadsheet program must
+/// recalculate it.
+fn strip_cached_values(bytes: &[u8]) -> Vec<u8> {
+    let mut zin = zip::ZipArchive::new(std::io::Cursor::new(bytes.to_vec())).unwrap();
+    let mut out = zip::ZipWriter::new(std::io::Cursor::new(Vec::new()));
+    let re_strip = |xml: &str| -> String {
+        let mut s = String::with_capacity(xml.len());
+        let mut rest = xml;
+        while let Some(i) = rest.find("</f><v>") {
+            s.push_str(&rest[..i + 4]);
+            let after = &rest[i + 4..];
+            let j = after.find("</v>").unwrap();
+            rest = &after[j + 4..];
+        }
+        s.push_str(rest);
+        s
+    };
+    for i in 0..zin.len() {
+        let mut f = zin.by_index(i).unwrap();
+        let name = f.name().unwrap().to_string();
+        let mut data = Vec::new();
+        f.read_to_end(&mut data).unwrap();
+        if name.starts_with("xl/worksheets/") && name.ends_with(".xml") {
+            data = re_strip(&String::from_utf8(data).unwrap()).into_bytes();
+        }
+        out.start_file(name, zip::write::SimpleFileOptions::default())
+            .unwrap();
+        out.write_all(&data).unwrap();
+    }
+    out.finish().unwrap().into_inner()
+}
+
+#[test]
+fn live_formulas_recalculated_by_libreoffice_match() {
+    if Command::new("soffice").arg("--version").output().is_err() {
+        eprintln!(
+            "soffice not on PATH: LibreOffice recalculation not checked here (.ci/run installs it)"
+        );
+        return;
+    }
+    let res = food();
+    let dir = temp("lo");
+    let path = dir.join("stripped.xlsx");
+    std::fs::write(
+        &path,
+        strip_cached_values(&review_bytes(&res, &prov()).unwrap()),
+    )
+    .unwrap();
+    // A fresh profile that recalculates xlsx formulas on load (OOXMLRecalcMode 0).
+    let profile = dir.join("profile");
+    std::fs::create_dir_all(profile.join("user")).unwrap();
+    std::fs::write(
+        profile.join("user/registrymodifications.xcu"),
+        r#"<?xml version="1.0" encoding="UTF-8"?>
+<oor:items xmlns:oor="http://openoffice.org/2001/registry" xmlns:xs="http://www.w3.org/2001/XMLSchema" xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">
+<item oor:path="/org.openoffice.Office.Calc/Formula/Load"><prop oor:name="OOXMLRecalcMode" oor:op="fuse"><value>0</value></prop></item>
+</oor:items>"#,
+    )
+    .unwrap();
+    let status = Command::new("soffice")
+        .arg("--headless")
+        .arg("--norestore")
+        .arg(format!(
+            "-env:UserInstallation=file://{}",
+            profile.display()
+        ))
+        .arg("--convert-to")
+        .arg("csv:Text - txt - csv (StarCalc):44,34,UTF8,1,,0,false,true,false,false,false,-1")
+        .arg("--outdir")
+        .arg(&dir)
+        .arg(&path)
+        .output()
+        .unwrap();
+    let csv = std::fs::read_to_string(dir.join("stripped-Resonance.csv"))
+        .unwrap_or_else(|_| panic!("no CSV: {}", String::from_utf8_lossy(&status.stderr)));
+    let rows: Vec<Vec<String>> = csv
+        .lines()
+        .skip(1)
+        .map(|l| {
+            l.split(',')
+                .map(|s| s.trim_matches('"').to_string())
+                .collect()
+        })
+        .collect();
+    assert_eq!(rows.len(), res.resonance.rows.len());
+    for (r, row) in rows.iter().zip(&res.resonance.rows) {
+        let hand: f64 = r[10].parse().unwrap();
+        let margin: f64 = r[16].parse().unwrap();
+        // The spreadsheet's own arithmetic on the visible cells equals the tool's, 1e-9.
+        assert!(
+            (hand - row.hand_order).abs() <= 1e-9 * row.hand_order,
+            "{hand} vs {}",
+            row.hand_order
+        );
+        let m = row.margin_percent.unwrap();
+        assert!(
+            (margin - m).abs() <= 1e-9 * m.abs().max(1.0),
+            "{margin} vs {m}"
+        );
+    }
+    let dist = std::fs::read_to_string(dir.join("stripped-Distortion.csv")).unwrap();
+    for (line, lr) in dist.lines().skip(1).zip(&res.limit_rows) {
+        let f: Vec<&str> = line.split(',').collect();
+        let margin: f64 = f[5].parse().unwrap();
+        let expected = lr.worst_thd.margin.unwrap();
+        assert!(
+            (margin - expected).abs() <= 1e-9 * expected.abs().max(1.0),
+            "{margin} vs {expected}"
+        );
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
