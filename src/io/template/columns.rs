@@ -1,21 +1,9 @@
-//! Writes input workbooks per the contract: the blank template (`overtone template`) and a
-//! plant's own workbook (for the example cases and round-trip tests). Every sheet and header
-//! of the contract with its unit, a note on every header saying what the column means, its
-//! default and allowed values, dropdowns for closed lists, number ranges, a frozen header
-//! row and set widths.
-
-use std::path::Path;
-
-use rust_xlsxwriter::{
-    DataValidation, DataValidationRule, DocProperties, ExcelDateTime, Format, Note, Workbook,
-    Worksheet, XlsxError,
-};
-
-use crate::model::*;
+//! The columns of every input sheet and the Study sheet's items: header with unit, the
+//! note shown on it, and what the cell accepts (for its data validation).
 
 /// What a column accepts, for its data validation.
 #[derive(Clone, Copy)]
-enum Check {
+pub(super) enum Check {
     Text,
     List(&'static [&'static str]),
     Positive,
@@ -24,14 +12,14 @@ enum Check {
     Whole(i32),
 }
 
-struct Col {
-    header: &'static str,
-    note: &'static str,
-    check: Check,
-    width: f64,
+pub(super) struct Col {
+    pub(super) header: &'static str,
+    pub(super) note: &'static str,
+    pub(super) check: Check,
+    pub(super) width: f64,
 }
 
-const fn col(header: &'static str, note: &'static str, check: Check, width: f64) -> Col {
+pub(super) const fn col(header: &'static str, note: &'static str, check: Check, width: f64) -> Col {
     Col {
         header,
         note,
@@ -40,7 +28,7 @@ const fn col(header: &'static str, note: &'static str, check: Check, width: f64)
     }
 }
 
-const YES_NO: &[&str] = &["yes", "no"];
+pub(super) const YES_NO: &[&str] = &["yes", "no"];
 /// Load types as the contract spells them (the dropdown of the Loads sheet).
 pub const LOAD_TYPES: &[&str] = &[
     "linear",
@@ -53,18 +41,18 @@ pub const LOAD_TYPES: &[&str] = &[
     "electronic",
     "custom",
 ];
-const LIMITS: &[&str] = &[
+pub(super) const LIMITS: &[&str] = &[
     "IEEE 519-2014",
     "IEC 61000-2-4 class 1",
     "IEC 61000-2-4 class 2",
     "IEC 61000-2-4 class 3",
 ];
-const SUMMATION: &[&str] = &["arithmetic", "IEC 61000-3-6"];
-const RESISTANCE: &[&str] = &["constant", "skin"];
+pub(super) const SUMMATION: &[&str] = &["arithmetic", "IEC 61000-3-6"];
+pub(super) const RESISTANCE: &[&str] = &["constant", "skin"];
 
-const DATA_ROWS: u32 = 1000;
+pub(super) const DATA_ROWS: u32 = 1000;
 
-fn sheets() -> Vec<(&'static str, Vec<Col>)> {
+pub(super) fn sheets() -> Vec<(&'static str, Vec<Col>)> {
     use Check::*;
     vec![
         (
@@ -343,7 +331,7 @@ fn sheets() -> Vec<(&'static str, Vec<Col>)> {
 }
 
 /// The Study sheet's items: (item, note, check).
-fn study_items() -> Vec<(&'static str, &'static str, Check)> {
+pub(super) fn study_items() -> Vec<(&'static str, &'static str, Check)> {
     use Check::*;
     vec![
         (
@@ -400,309 +388,4 @@ fn study_items() -> Vec<(&'static str, &'static str, Check)> {
             Text,
         ),
     ]
-}
-
-fn validation(check: Check) -> Result<Option<DataValidation>, XlsxError> {
-    let dv = match check {
-        Check::Text => return Ok(None),
-        Check::List(items) => DataValidation::new().allow_list_strings(items)?,
-        Check::Positive => DataValidation::new()
-            .allow_decimal_number(DataValidationRule::GreaterThan(0.0))
-            .set_error_message("A number greater than 0 is expected.")?,
-        Check::NonNegative => DataValidation::new()
-            .allow_decimal_number(DataValidationRule::GreaterThanOrEqualTo(0.0))
-            .set_error_message("A number of 0 or more is expected.")?,
-        Check::Between(a, b) => DataValidation::new()
-            .allow_decimal_number(DataValidationRule::Between(a, b))
-            .set_error_message(format!("A number from {a} to {b} is expected."))?,
-        Check::Whole(min) => DataValidation::new()
-            .allow_whole_number(DataValidationRule::GreaterThanOrEqualTo(min))
-            .set_error_message(format!("A whole number of at least {min} is expected."))?,
-    };
-    Ok(Some(dv.ignore_blank(true)))
-}
-
-/// A cell value of a plant's workbook.
-enum V {
-    N(f64),
-    T(String),
-    Blank,
-}
-
-fn t(s: &str) -> V {
-    if s.is_empty() {
-        V::Blank
-    } else {
-        V::T(s.to_string())
-    }
-}
-
-fn write_row(ws: &mut Worksheet, row: u32, values: &[V]) -> Result<(), XlsxError> {
-    for (c, v) in values.iter().enumerate() {
-        match v {
-            V::N(x) if x.is_finite() => {
-                ws.write_number(row, c as u16, *x)?;
-            }
-            V::T(s) => {
-                ws.write_string(row, c as u16, s)?;
-            }
-            _ => {}
-        }
-    }
-    Ok(())
-}
-
-/// The rows of each element sheet for `plant`, in the columns of [`sheets`].
-fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
-    use V::*;
-    match sheet {
-        "Buses" => plant
-            .buses
-            .iter()
-            .map(|b| vec![t(&b.id), N(b.nominal_kv), t(&b.description)])
-            .collect(),
-        "Sources" => plant
-            .sources
-            .iter()
-            .map(|s| {
-                let (mva, ka) = match s.short_circuit {
-                    ShortCircuit::Mva(m) => (N(m), Blank),
-                    ShortCircuit::Ka(k) => (Blank, N(k)),
-                };
-                vec![
-                    t(&s.id),
-                    t(&s.bus),
-                    t(s.scenario.as_deref().unwrap_or("")),
-                    mva,
-                    ka,
-                    N(s.x_over_r),
-                ]
-            })
-            .collect(),
-        "Transformers" => plant
-            .transformers
-            .iter()
-            .map(|x| {
-                vec![
-                    t(&x.id),
-                    t(&x.hv_bus),
-                    t(&x.lv_bus),
-                    N(x.kva),
-                    N(x.impedance_percent),
-                    N(x.x_over_r),
-                    t(if x.in_service { "yes" } else { "no" }),
-                ]
-            })
-            .collect(),
-        "Cables" => plant
-            .cables
-            .iter()
-            .map(|c| {
-                vec![
-                    t(&c.id),
-                    t(&c.from_bus),
-                    t(&c.to_bus),
-                    N(c.length_m),
-                    N(c.r_ohm_per_km),
-                    N(c.x_ohm_per_km),
-                    N(c.c_uf_per_km),
-                    N(f64::from(c.runs)),
-                ]
-            })
-            .collect(),
-        "Capacitors" => plant
-            .banks
-            .iter()
-            .map(|b| {
-                let (det, tuned) = match b.reactor {
-                    Reactor::None => (Blank, Blank),
-                    Reactor::Detuning { percent } => (N(percent), Blank),
-                    Reactor::Tuned { order } => (Blank, N(order)),
-                };
-                let all: Vec<u32> = (0..=b.steps).collect();
-                let studied = if b.studied_steps == all {
-                    "all".to_string()
-                } else {
-                    b.studied_steps
-                        .iter()
-                        .map(u32::to_string)
-                        .collect::<Vec<_>>()
-                        .join(",")
-                };
-                vec![
-                    t(&b.id),
-                    t(&b.bus),
-                    N(b.rated_kv),
-                    N(b.step_kvar),
-                    N(f64::from(b.steps)),
-                    det,
-                    tuned,
-                    N(b.reactor_q),
-                    t(match b.status {
-                        BankStatus::Existing => "existing",
-                        BankStatus::Proposed => "proposed",
-                    }),
-                    T(studied),
-                    b.inrush_uh.map_or(Blank, N),
-                ]
-            })
-            .collect(),
-        "Loads" => plant
-            .loads
-            .iter()
-            .map(|l| {
-                vec![
-                    t(&l.id),
-                    t(&l.bus),
-                    t(l.kind.label()),
-                    N(l.kw),
-                    N(l.power_factor),
-                    N(l.quantity),
-                    N(l.load_factor),
-                    t(l.spectrum.as_deref().unwrap_or("")),
-                ]
-            })
-            .collect(),
-        "Spectra" => plant
-            .spectra
-            .iter()
-            .flat_map(|s| {
-                s.lines.iter().map(|l| {
-                    vec![
-                        t(&s.name),
-                        N(l.order),
-                        N(l.magnitude_percent),
-                        N(l.angle_deg),
-                    ]
-                })
-            })
-            .collect(),
-        _ => Vec::new(),
-    }
-}
-
-fn study_values(plant: &Plant) -> Vec<V> {
-    use V::*;
-    let s = &plant.study;
-    let tol = s.capacitance_tolerance;
-    vec![
-        t(&s.title),
-        t(&s.plant),
-        t(&s.prepared_by),
-        N(s.frequency_hz),
-        t(s.pcc_bus.as_deref().unwrap_or("")),
-        s.max_demand_current_a.map_or(Blank, N),
-        N(s.highest_order),
-        N(s.scan_step_order),
-        t(match s.resistance_model {
-            ResistanceModel::Constant => "constant",
-            ResistanceModel::Skin => "skin",
-        }),
-        t(match s.limits {
-            LimitSet::Ieee519_2014 => LIMITS[0],
-            LimitSet::Iec61000_2_4Class1 => LIMITS[1],
-            LimitSet::Iec61000_2_4Class2 => LIMITS[2],
-            LimitSet::Iec61000_2_4Class3 => LIMITS[3],
-        }),
-        t(match s.summation {
-            Summation::Arithmetic => SUMMATION[0],
-            Summation::Iec61000_3_6 => SUMMATION[1],
-        }),
-        N(s.resonance_margin_percent),
-        T(format!("{}/+{}", tol.minus_percent, tol.plus_percent)),
-    ]
-}
-
-fn note(text: &str) -> Note {
-    Note::new(text)
-        .add_author_prefix(false)
-        .set_width(320)
-        .set_height(120)
-}
-
-/// Builds the workbook: blank (`None`, the template) or holding `plant`.
-fn build(plant: Option<&Plant>) -> Result<Workbook, XlsxError> {
-    let mut wb = Workbook::new();
-    wb.set_properties(
-        &DocProperties::new()
-            .set_title("overtone input workbook")
-            .set_creation_datetime(&ExcelDateTime::from_ymd(2026, 1, 1)?),
-    );
-    let bold = Format::new().set_bold().set_background_color("#DCE6F0");
-    let ws = wb.add_worksheet().set_name("Study")?;
-    ws.write_string_with_format(0, 0, "Item", &bold)?;
-    ws.write_string_with_format(0, 1, "Value", &bold)?;
-    ws.set_column_width(0, 28)?;
-    ws.set_column_width(1, 34)?;
-    ws.set_freeze_panes(1, 0)?;
-    let values = plant.map(study_values);
-    for (i, (item, text, check)) in study_items().into_iter().enumerate() {
-        let r = i as u32 + 1;
-        ws.write_string(r, 0, item)?;
-        ws.insert_note(r, 0, &note(text))?;
-        if let Some(dv) = validation(check)? {
-            ws.add_data_validation(r, 1, r, 1, &dv)?;
-        }
-        if let Some(v) = values.as_ref().and_then(|v| v.get(i)) {
-            write_row(
-                ws,
-                r,
-                &[
-                    V::Blank,
-                    match v {
-                        V::N(x) => V::N(*x),
-                        V::T(s) => V::T(s.clone()),
-                        V::Blank => V::Blank,
-                    },
-                ],
-            )?;
-        }
-    }
-    for (name, cols) in sheets() {
-        let ws = wb.add_worksheet().set_name(name)?;
-        ws.set_freeze_panes(1, 0)?;
-        for (c, column) in cols.iter().enumerate() {
-            let c16 = c as u16;
-            ws.write_string_with_format(0, c16, column.header, &bold)?;
-            ws.insert_note(0, c16, &note(column.note))?;
-            ws.set_column_width(c16, column.width)?;
-            if let Some(dv) = validation(column.check)? {
-                ws.add_data_validation(1, c16, DATA_ROWS, c16, &dv)?;
-            }
-        }
-        if let Some(p) = plant {
-            for (i, row) in rows(p, name).iter().enumerate() {
-                write_row(ws, i as u32 + 1, row)?;
-            }
-        }
-    }
-    Ok(wb)
-}
-
-/// An input workbook could not be written.
-#[derive(Debug, thiserror::Error)]
-#[error("{path}: the workbook cannot be written ({source})")]
-pub struct TemplateError {
-    pub path: String,
-    pub source: XlsxError,
-}
-
-/// The bytes of `plant`'s input workbook (deterministic: fixed document date).
-pub fn plant_workbook(plant: &Plant) -> Result<Vec<u8>, XlsxError> {
-    build(Some(plant))?.save_to_buffer()
-}
-
-/// The bytes of the blank template.
-pub fn template_bytes() -> Result<Vec<u8>, XlsxError> {
-    build(None)?.save_to_buffer()
-}
-
-/// Writes the blank template to `path`.
-pub fn write_template(path: &Path) -> Result<(), TemplateError> {
-    let err = |source| TemplateError {
-        path: path.display().to_string(),
-        source,
-    };
-    let bytes = template_bytes().map_err(err)?;
-    std::fs::write(path, bytes).map_err(|e| err(XlsxError::IoError(e)))
 }

@@ -1,0 +1,540 @@
+//! The front sheets: the summary with its verdict rows and sign-off, and the input echo.
+
+use rust_xlsxwriter::{Format, Worksheet, XlsxError};
+
+use super::super::Provenance;
+use super::super::writer::{Cell, header, n, on, row, t};
+use super::{limit_set_name, verdict_colours};
+use crate::check::CheckResults;
+use crate::model::{Reactor, ResistanceModel, Summation};
+use crate::study::Verdict;
+
+pub(super) fn summary(
+    ws: &mut Worksheet,
+    res: &CheckResults,
+    prov: &Provenance,
+) -> Result<(), XlsxError> {
+    let p = &res.plant.study;
+    let big = Format::new().set_bold().set_font_size(14);
+    ws.write_string_with_format(
+        0,
+        0,
+        if p.title.is_empty() {
+            "overtone review"
+        } else {
+            &p.title
+        },
+        &big,
+    )?;
+    let (y, m, d) = prov.date;
+    let items: Vec<(&str, String)> = vec![
+        ("Plant", p.plant.clone()),
+        ("Prepared by", p.prepared_by.clone()),
+        ("Date", format!("{y:04}-{m:02}-{d:02}")),
+        ("Input file", prov.input.clone()),
+        ("Input SHA-256", prov.sha256.clone()),
+        ("Tool", format!("overtone {}", env!("CARGO_PKG_VERSION"))),
+        ("Frequency (Hz)", format!("{}", p.frequency_hz)),
+        ("PCC bus", res.network.buses[res.pcc].id.clone()),
+        ("Limits", limit_set_name(p.limits).into()),
+        (
+            "Summation",
+            match p.summation {
+                Summation::Arithmetic => "arithmetic",
+                Summation::Iec61000_3_6 => "IEC 61000-3-6",
+            }
+            .into(),
+        ),
+        (
+            "Resistance model",
+            match p.resistance_model {
+                ResistanceModel::Constant => "constant",
+                ResistanceModel::Skin => "skin",
+            }
+            .into(),
+        ),
+        (
+            "Scan",
+            format!("orders 1 to {} at {}", p.highest_order, p.scan_step_order),
+        ),
+        (
+            "Resonance margin (%)",
+            format!("{}", p.resonance_margin_percent),
+        ),
+        (
+            "Capacitance tolerance (%)",
+            format!(
+                "{}/+{}",
+                p.capacitance_tolerance.minus_percent, p.capacitance_tolerance.plus_percent
+            ),
+        ),
+        (
+            "I_L at the PCC (A)",
+            format!(
+                "{:.1}{}",
+                res.limits.i_l_a,
+                if res.limits.i_l_estimated {
+                    " (estimated)"
+                } else {
+                    ""
+                }
+            ),
+        ),
+        (
+            "Isc at the PCC (kA), Isc/IL",
+            format!("{:.2}, {:.1}", res.limits.isc_ka, res.limits.isc_over_il),
+        ),
+        (
+            "Scenarios x configurations",
+            format!(
+                "{} x {}",
+                res.scan.scenarios.len(),
+                res.scan.configurations.len()
+            ),
+        ),
+    ];
+    let bold = Format::new().set_bold();
+    for (i, (k, v)) in items.iter().enumerate() {
+        ws.write_string_with_format(i as u32 + 2, 0, *k, &bold)?;
+        ws.write_string(i as u32 + 2, 1, v)?;
+    }
+    let top = items.len() as u32 + 3;
+    header(
+        ws,
+        top,
+        &[
+            ("Check", 22.0),
+            ("Element", 16.0),
+            ("Scenario", 10.0),
+            ("Configuration", 26.0),
+            ("Value", 12.0),
+            ("Limit", 12.0),
+            ("Unit", 18.0),
+            ("Verdict", 12.0),
+        ],
+    )?;
+    let mut rows = verdict_rows(res);
+    rows.sort_by(|a, b| b.0.total_cmp(&a.0));
+    for (i, (_, cells)) in rows.iter().enumerate() {
+        row(ws, top + 1 + i as u32, cells)?;
+    }
+    let last = top + rows.len() as u32;
+    verdict_colours(ws, top + 1, last, 7)?;
+    let sign = last + 3;
+    ws.write_string_with_format(sign, 0, "Reviewer sign-off", &big)?;
+    for (i, k) in [
+        "Reviewed by",
+        "Licence / registration no.",
+        "Date",
+        "Signature and seal",
+        "Comments",
+    ]
+    .iter()
+    .enumerate()
+    {
+        ws.write_string_with_format(sign + 1 + i as u32, 0, *k, &bold)?;
+    }
+    ws.set_column_width(0, 28)?;
+    ws.set_column_width(1, 40)?;
+    Ok(())
+}
+
+/// One verdict row per check and element, with a severity for ordering (flagged first).
+pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
+    let mut out = Vec::new();
+    let verdict = |bad: bool, good: &str, badw: &str| t(if bad { badw } else { good });
+    for bank in &res.plant.banks {
+        let rows: Vec<_> = res
+            .resonance
+            .rows
+            .iter()
+            .filter(|r| r.bank == bank.id)
+            .collect();
+        if let Some(w) = rows.iter().min_by(|a, b| {
+            let m =
+                |r: &&&crate::study::ResonanceRow| r.margin_percent.map_or(f64::INFINITY, f64::abs);
+            m(a).total_cmp(&m(b))
+        }) {
+            let bad = w.verdict == Verdict::Resonant;
+            out.push((
+                if bad { 3.0 } else { 0.0 } + 1.0 / (1.0 + w.margin_percent.map_or(99.0, f64::abs)),
+                vec![
+                    t("Resonance"),
+                    t(&bank.id),
+                    t(&w.scenario),
+                    t(&w.configuration),
+                    on(w.peak.map(|p| p.order), "0.000"),
+                    on(w.nearest_characteristic, "0"),
+                    t(format!(
+                        "order (margin {:.1} %)",
+                        w.margin_percent.unwrap_or(f64::NAN)
+                    )),
+                    verdict(bad, "clear", "RESONANT"),
+                ],
+            ));
+        }
+        if let Some(w) = res
+            .duty
+            .iter()
+            .filter(|r| r.bank == bank.id)
+            .max_by(|a, b| {
+                (a.ratios.rms_current / a.limits.rms_current)
+                    .total_cmp(&(b.ratios.rms_current / b.limits.rms_current))
+            })
+        {
+            out.push((
+                if w.exceeds { 3.0 } else { 0.0 } + w.ratios.rms_current / w.limits.rms_current,
+                vec![
+                    t("Capacitor duty (rms current)"),
+                    t(&bank.id),
+                    t(&w.scenario),
+                    t(&w.configuration),
+                    n(w.ratios.rms_current * 100.0, "0.0"),
+                    n(w.limits.rms_current * 100.0, "0"),
+                    t("% of rated"),
+                    verdict(w.exceeds, "meets", "EXCEEDS"),
+                ],
+            ));
+        }
+        if let Some(w) = res
+            .transients
+            .iter()
+            .filter(|r| r.bank == bank.id)
+            .max_by(|a, b| a.inrush.peak_a.total_cmp(&b.inrush.peak_a))
+        {
+            out.push((
+                0.0,
+                vec![
+                    t("Switching (peak inrush)"),
+                    t(&bank.id),
+                    t(&w.scenario),
+                    t(format!("step {} {}", w.step, w.inrush.case)),
+                    n(w.inrush.peak_a, "0"),
+                    Cell::Blank,
+                    t("A (no limit applied)"),
+                    t("info"),
+                ],
+            ));
+        }
+    }
+    for (b, bus) in res.network.buses.iter().enumerate() {
+        let lim = res.limits.thd_limit[b].value;
+        if let Some(d) = res
+            .penetration
+            .results
+            .iter()
+            .max_by(|x, y| x.thd_percent[b].total_cmp(&y.thd_percent[b]))
+        {
+            let v = d.thd_percent[b];
+            out.push((
+                if v > lim { 3.0 } else { 0.0 } + v / lim,
+                vec![
+                    t("Voltage THD"),
+                    t(&bus.id),
+                    t(&res.scan.scenarios[d.scenario]),
+                    t(res.label(d.configuration)),
+                    n(v, "0.00"),
+                    n(lim, "0.00"),
+                    t("% of nominal"),
+                    verdict(v > lim, "meets", "EXCEEDS"),
+                ],
+            ));
+        }
+    }
+    for (b, bus) in res.network.buses.iter().enumerate() {
+        let ratio = |d: &crate::study::penetration::Distortion| {
+            d.worst[b]
+                .and_then(|w| w.limit_percent.map(|l| w.v_percent / l))
+                .unwrap_or(0.0)
+        };
+        if let Some(d) = res
+            .penetration
+            .results
+            .iter()
+            .max_by(|x, y| ratio(x).total_cmp(&ratio(y)))
+            && let Some(w) = d.worst[b]
+            && let Some(l) = w.limit_percent
+        {
+            let bad = w.v_percent > l;
+            out.push((
+                if bad { 3.0 } else { 0.0 } + w.v_percent / l,
+                vec![
+                    t(format!("Harmonic voltage (h {})", w.order)),
+                    t(&bus.id),
+                    t(&res.scan.scenarios[d.scenario]),
+                    t(res.label(d.configuration)),
+                    n(w.v_percent, "0.00"),
+                    n(l, "0.00"),
+                    t("% of nominal"),
+                    verdict(bad, "meets", "EXCEEDS"),
+                ],
+            ));
+        }
+    }
+    if let Some(w) = res
+        .limit_rows
+        .iter()
+        .max_by(|a, b| a.tdd.value.total_cmp(&b.tdd.value))
+    {
+        let bad = w.tdd.exceeds();
+        out.push((
+            if bad { 3.0 } else { 0.0 } + w.tdd.value / w.tdd.limit.unwrap_or(f64::INFINITY),
+            vec![
+                t("PCC current TDD"),
+                t(&res.network.buses[res.pcc].id),
+                t(&w.scenario),
+                t(&w.configuration),
+                n(w.tdd.value, "0.00"),
+                on(w.tdd.limit, "0.00"),
+                t("% of I_L"),
+                verdict(bad, "meets", "EXCEEDS"),
+            ],
+        ));
+    }
+    out
+}
+
+pub(super) fn input(
+    ws: &mut Worksheet,
+    res: &CheckResults,
+    prov: &Provenance,
+) -> Result<(), XlsxError> {
+    let p = &res.plant;
+    let bold = Format::new().set_bold();
+    let mut r = 0u32;
+    let section = |ws: &mut Worksheet,
+                   r: &mut u32,
+                   title: &str,
+                   heads: &[&str],
+                   rows: Vec<Vec<Cell>>|
+     -> Result<(), XlsxError> {
+        ws.write_string_with_format(*r, 0, title, &Format::new().set_bold().set_font_size(12))?;
+        *r += 1;
+        let f = super::super::writer::header_format();
+        for (c, h) in heads.iter().enumerate() {
+            ws.write_string_with_format(*r, c as u16, *h, &f)?;
+        }
+        *r += 1;
+        for cells in rows {
+            row(ws, *r, &cells)?;
+            *r += 1;
+        }
+        *r += 1;
+        Ok(())
+    };
+    section(
+        ws,
+        &mut r,
+        "Buses",
+        &["Bus", "Nominal kV", "Description"],
+        p.buses
+            .iter()
+            .map(|b| vec![t(&b.id), n(b.nominal_kv, "0.###"), t(&b.description)])
+            .collect(),
+    )?;
+    section(
+        ws,
+        &mut r,
+        "Sources",
+        &[
+            "Source",
+            "Bus",
+            "Scenario",
+            "Short-circuit MVA (normalized)",
+            "X/R",
+        ],
+        p.sources
+            .iter()
+            .map(|s| {
+                let kv = p
+                    .buses
+                    .iter()
+                    .find(|b| b.id == s.bus)
+                    .map_or(f64::NAN, |b| b.nominal_kv);
+                vec![
+                    t(&s.id),
+                    t(&s.bus),
+                    t(s.scenario.as_deref().unwrap_or("(every scenario)")),
+                    n(s.short_circuit_mva(kv), "0.0"),
+                    n(s.x_over_r, "0.0"),
+                ]
+            })
+            .collect(),
+    )?;
+    section(
+        ws,
+        &mut r,
+        "Transformers",
+        &[
+            "Transformer",
+            "HV bus",
+            "LV bus",
+            "kVA",
+            "Impedance (%)",
+            "X/R",
+            "In service",
+        ],
+        p.transformers
+            .iter()
+            .map(|x| {
+                vec![
+                    t(&x.id),
+                    t(&x.hv_bus),
+                    t(&x.lv_bus),
+                    n(x.kva, "0"),
+                    n(x.impedance_percent, "0.00"),
+                    n(x.x_over_r, "0.0"),
+                    t(if x.in_service { "yes" } else { "no" }),
+                ]
+            })
+            .collect(),
+    )?;
+    section(
+        ws,
+        &mut r,
+        "Cables",
+        &[
+            "Cable",
+            "From bus",
+            "To bus",
+            "Length (m)",
+            "R (ohm/km)",
+            "X (ohm/km)",
+            "C (uF/km)",
+            "Runs",
+        ],
+        p.cables
+            .iter()
+            .map(|c| {
+                vec![
+                    t(&c.id),
+                    t(&c.from_bus),
+                    t(&c.to_bus),
+                    n(c.length_m, "0.0"),
+                    n(c.r_ohm_per_km, "0.0000"),
+                    n(c.x_ohm_per_km, "0.0000"),
+                    n(c.c_uf_per_km, "0.000"),
+                    n(f64::from(c.runs), "0"),
+                ]
+            })
+            .collect(),
+    )?;
+    section(
+        ws,
+        &mut r,
+        "Capacitors",
+        &[
+            "Bank",
+            "Bus",
+            "Rated kV",
+            "Step kvar",
+            "Steps",
+            "Reactor",
+            "Reactor Q",
+            "Status",
+            "Studied steps",
+            "Inrush inductance (uH)",
+        ],
+        p.banks
+            .iter()
+            .map(|b| {
+                vec![
+                    t(&b.id),
+                    t(&b.bus),
+                    n(b.rated_kv, "0.000"),
+                    n(b.step_kvar, "0.0"),
+                    n(f64::from(b.steps), "0"),
+                    t(match b.reactor {
+                        Reactor::None => "plain".to_string(),
+                        Reactor::Detuning { percent } => format!("detuned {percent} %"),
+                        Reactor::Tuned { order } => format!("tuned at {order}"),
+                    }),
+                    n(b.reactor_q, "0"),
+                    t(format!("{:?}", b.status).to_lowercase()),
+                    t(b.studied_steps
+                        .iter()
+                        .map(u32::to_string)
+                        .collect::<Vec<_>>()
+                        .join(",")),
+                    on(b.inrush_uh, "0.0"),
+                ]
+            })
+            .collect(),
+    )?;
+    section(
+        ws,
+        &mut r,
+        "Loads",
+        &[
+            "Load",
+            "Bus",
+            "Type",
+            "kW",
+            "Power factor",
+            "Quantity",
+            "Load factor",
+            "Spectrum used",
+        ],
+        p.loads
+            .iter()
+            .map(|l| {
+                let used = res
+                    .penetration
+                    .injections
+                    .spectra
+                    .iter()
+                    .find(|s| s.load == l.id)
+                    .map_or_else(|| "-".to_string(), |s| s.name.clone());
+                vec![
+                    t(&l.id),
+                    t(&l.bus),
+                    t(l.kind.label()),
+                    n(l.kw, "0.0"),
+                    n(l.power_factor, "0.00"),
+                    n(l.quantity, "0.##"),
+                    n(l.load_factor, "0.00"),
+                    t(used),
+                ]
+            })
+            .collect(),
+    )?;
+    section(
+        ws,
+        &mut r,
+        "Spectra (Spectra sheet)",
+        &["Spectrum", "Order", "Magnitude (%)", "Angle (deg)"],
+        p.spectra
+            .iter()
+            .flat_map(|s| {
+                s.lines.iter().map(move |l| {
+                    vec![
+                        t(&s.name),
+                        n(l.order, "0.##"),
+                        n(l.magnitude_percent, "0.00"),
+                        n(l.angle_deg, "0.0"),
+                    ]
+                })
+            })
+            .collect(),
+    )?;
+    ws.write_string_with_format(
+        r,
+        0,
+        "Reader warnings (defaults applied, unknown columns)",
+        &bold,
+    )?;
+    r += 1;
+    if prov.warnings.is_empty() {
+        ws.write_string(r, 0, "none")?;
+    }
+    for w in &prov.warnings {
+        ws.write_string(r, 0, w.to_string())?;
+        r += 1;
+    }
+    for c in 0..10 {
+        ws.set_column_width(c, 16)?;
+    }
+    ws.set_landscape();
+    ws.set_print_fit_to_pages(1, 0);
+    Ok(())
+}

@@ -1,0 +1,132 @@
+//! The sheets of the review workbook.
+
+mod front;
+mod results;
+
+use rust_xlsxwriter::{
+    ConditionalFormatText, ConditionalFormatTextRule, Format, Workbook, Worksheet, XlsxError,
+};
+
+use super::Provenance;
+use crate::check::CheckResults;
+use crate::model::{LimitSet, ResistanceModel, Summation};
+use crate::report::cautions::CAUTIONS;
+
+const BAD: [&str; 3] = ["RESONANT", "EXCEEDS", "fails"];
+const GOOD: [&str; 3] = ["clear", "meets", "passes"];
+
+/// Colours every verdict cell of `col` in rows `first..=last`: flagged red, within green
+/// (our palette).
+pub(super) fn verdict_colours(
+    ws: &mut Worksheet,
+    first: u32,
+    last: u32,
+    col: u16,
+) -> Result<(), XlsxError> {
+    if last < first {
+        return Ok(());
+    }
+    let red = Format::new()
+        .set_background_color("#F4C7C3")
+        .set_font_color("#9C0006");
+    let green = Format::new()
+        .set_background_color("#D5EAD8")
+        .set_font_color("#1E5631");
+    for (words, f) in [(&BAD, &red), (&GOOD, &green)] {
+        for w in words.iter() {
+            let cf = ConditionalFormatText::new()
+                .set_rule(ConditionalFormatTextRule::Contains((*w).to_string()))
+                .set_format(f);
+            ws.add_conditional_format(first, col, last, col, &cf)?;
+        }
+    }
+    Ok(())
+}
+
+pub(super) fn limit_set_name(l: LimitSet) -> &'static str {
+    match l {
+        LimitSet::Ieee519_2014 => "IEEE 519-2014",
+        LimitSet::Iec61000_2_4Class1 => "IEC 61000-2-4 class 1",
+        LimitSet::Iec61000_2_4Class2 => "IEC 61000-2-4 class 2",
+        LimitSet::Iec61000_2_4Class3 => "IEC 61000-2-4 class 3",
+    }
+}
+
+/// Writes every sheet.
+pub fn write_all(
+    wb: &mut Workbook,
+    res: &CheckResults,
+    prov: &Provenance,
+) -> Result<(), XlsxError> {
+    front::summary(wb.add_worksheet().set_name("Summary")?, res, prov)?;
+    front::input(wb.add_worksheet().set_name("Input")?, res, prov)?;
+    results::resonance(wb.add_worksheet().set_name("Resonance")?, res)?;
+    let charts = results::scan(wb.add_worksheet().set_name("Scan")?, res)?;
+    results::distortion(wb.add_worksheet().set_name("Distortion")?, res)?;
+    results::duty(wb.add_worksheet().set_name("Duty")?, res)?;
+    results::remedies(wb.add_worksheet().set_name("Remedies")?, res)?;
+    results::switching(wb.add_worksheet().set_name("Switching")?, res)?;
+    text_sheet(
+        wb.add_worksheet().set_name("Assumptions")?,
+        "Assumptions and scope",
+        &assumptions(res),
+    )?;
+    let cautions: Vec<String> = CAUTIONS
+        .iter()
+        .map(|c| c.to_string())
+        .chain(extra_cautions())
+        .collect();
+    text_sheet(
+        wb.add_worksheet().set_name("Cautions")?,
+        "Cautions",
+        &cautions,
+    )?;
+    for (name, chart) in charts {
+        let cs = wb.add_chartsheet().set_name(&name)?;
+        cs.insert_chart(0, 0, &chart)?;
+    }
+    Ok(())
+}
+
+fn extra_cautions() -> Vec<String> {
+    vec![
+        "These are screening-level calculations. The final design, ratings and settings must be reviewed and sealed by a licensed professional engineer under the local electrical code and the utility's interconnection and power-quality rules, which govern where they differ from this workbook.".into(),
+        "Verify harmonic levels by measurement before and after any change to the capacitor banks.".into(),
+    ]
+}
+
+fn assumptions(res: &CheckResults) -> Vec<String> {
+    let p = &res.plant.study;
+    let mut a = vec![
+        "Balanced, positive-sequence, per-phase model; triplen harmonics pass transformers as a series impedance (no zero-sequence blocking by delta windings, no winding phase shifts); interharmonics only where a spectrum gives them; transients only by the simple formulas stated.".to_string(),
+        format!("Per-unit base 100 MVA, bus nominal kV; resistance model {} (R·√h with skin).", match p.resistance_model { ResistanceModel::Constant => "constant", ResistanceModel::Skin => "skin" }),
+        "Sources and transformers: series R-L from the fault level or impedance and X/R; cables: pi model; linear loads: parallel R-L (R = V²/P, X = V²/Q); motors: R + jhX'' with X'' = 0.17 pu on kW·qty/pf and X''/R = 10 (defaults of the input contract).".into(),
+        "Capacitor steps: X_C = kV_rated²/Mvar per step; detuned: X_L = p·X_C, R = X_L/Q; tuned: p = 1/order².".into(),
+        format!("Harmonic loads inject I_h = I₁·m_h/100, I₁ = P/(√3·kV·pf); contributions combine by magnitude ({}); spectrum angles are not used.", match p.summation { Summation::Arithmetic => "arithmetic summation, an upper bound", Summation::Iec61000_3_6 => "IEC 61000-3-6 summation exponents" }),
+        format!("Limits: {}; interharmonics and orders outside the stored tables have no individual limit (they count in THD/TDD). The PCC current is the current into the scenario's supply equivalents.", limit_set_name(p.limits)),
+        format!("Capacitance tolerance {}/+{} % applied to the resonance band; capacitor duty at nominal capacitance and nominal bus voltage.", p.capacitance_tolerance.minus_percent, p.capacitance_tolerance.plus_percent),
+        "Hand check h = √(S_sc/Q_c) with S_sc from the fundamental Thevenin impedance at the bank's bus without banks (loads and motors included); with a series reactor √(X_C/(|Z_th| + X_L)).".into(),
+        "Switching: IEEE C37.012 formulas (from memory), undamped peaks, closing at the voltage peak, no trapped charge; plain banks use the Inrush inductance per step (default 10 µH, common practice).".into(),
+        "Remedies: each option sized to keep the planned kvar at bus voltage, the next standard capacitor rating at or above U/(1−p); studies re-run over at most 50 flagged configurations per bank; linearity current 1.8 × I₁ (common practice).".into(),
+    ];
+    for s in &res.penetration.injections.spectra {
+        a.push(format!(
+            "Load {}: spectrum {} ({}).",
+            s.load, s.name, s.source
+        ));
+    }
+    a.extend(res.notes.iter().cloned());
+    a
+}
+
+fn text_sheet(ws: &mut Worksheet, title: &str, lines: &[String]) -> Result<(), XlsxError> {
+    ws.write_string_with_format(0, 0, title, &Format::new().set_bold().set_font_size(14))?;
+    let wrap = Format::new().set_text_wrap();
+    for (i, l) in lines.iter().enumerate() {
+        ws.write_string_with_format(i as u32 + 2, 0, l, &wrap)?;
+    }
+    ws.set_column_width(0, 120)?;
+    ws.set_landscape();
+    ws.set_print_fit_to_pages(1, 0);
+    Ok(())
+}
