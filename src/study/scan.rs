@@ -279,7 +279,7 @@ type Eval<'a> = dyn Fn(f64) -> Result<(Complex64, Complex64), SolveError> + 'a;
 
 /// Tolerance of the refined order (the result is within it of the true extremum of the
 /// evaluated curve, well inside the promised 0.001).
-const REFINE_TOL: f64 = 5e-5;
+const REFINE_TOL: f64 = 1e-5;
 
 /// Brent's method: the minimum of `f` on [a, b] to within `tol` (parabolic steps with a
 /// golden-section fallback). Returns (x, f(x)).

@@ -9,6 +9,7 @@ mod cases;
 mod cli;
 mod common;
 mod model;
+mod properties;
 mod reader;
 mod reference_capacitors;
 mod reference_limits;
