@@ -8,6 +8,7 @@
 mod cases;
 mod cli;
 mod common;
+mod degenerate;
 mod model;
 mod properties;
 mod reader;

@@ -1,0 +1,114 @@
+//! Degenerate physics: each case gives a correct result or a clear error naming the
+//! element, never a panic, a NaN or an infinity in the results.
+
+use overtone::check::{CheckError, CheckOptions, run_check};
+use overtone::model::*;
+
+use crate::common::*;
+
+fn base() -> Plant {
+    let mut p = Plant::new(60.0);
+    p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
+    p.sources = vec![source("U", "HV", 200.0, 10.0)];
+    p.transformers = vec![transformer("T", "HV", "LV", 1500.0, 5.75, 6.0)];
+    p.banks = vec![bank("C", "LV", 0.48, 200.0, 3, Reactor::None)];
+    p.loads = vec![load("D", "LV", LoadType::SixPulseDrive, 300.0, 0.95)];
+    p
+}
+
+/// Every number of the results is finite (NaN and infinity never reach a report).
+fn all_finite(p: &Plant) -> Result<(), CheckError> {
+    let res = run_check(
+        p,
+        &CheckOptions {
+            remedies: Some(true),
+            ..Default::default()
+        },
+    )?;
+    let json = overtone::io::json::to_json(&res);
+    assert!(
+        !json.contains("NaN") && !json.contains("inf"),
+        "non-finite value in the JSON"
+    );
+    for d in &res.penetration.results {
+        assert!(d.thd_percent.iter().all(|v| v.is_finite()));
+    }
+    for r in &res.resonance.rows {
+        assert!(r.hand_order.is_finite() && r.s_sc_mva.is_finite());
+        if let Some(pk) = r.peak {
+            assert!(pk.order.is_finite() && pk.z_ohm.is_finite() && pk.amplification.is_finite());
+        }
+    }
+    Ok(())
+}
+
+#[test]
+fn huge_x_over_r_and_tiny_resistance() {
+    let mut p = base();
+    p.sources[0].x_over_r = 1e9;
+    p.transformers[0].x_over_r = 1e9;
+    p.banks[0].reactor_q = 1e9;
+    all_finite(&p).expect("runs");
+}
+
+#[test]
+fn tiny_and_huge_ratings() {
+    for kvar in [1e-6, 1e9] {
+        let mut p = base();
+        p.banks[0].step_kvar = kvar;
+        all_finite(&p).unwrap_or_else(|e| panic!("{kvar} kvar: {e}"));
+    }
+}
+
+#[test]
+fn bank_on_the_pcc_and_parallel_transformers() {
+    let mut p = base();
+    p.banks.push(bank(
+        "CP",
+        "HV",
+        13.8,
+        600.0,
+        2,
+        Reactor::Detuning { percent: 7.0 },
+    ));
+    p.transformers
+        .push(transformer("T2", "HV", "LV", 1500.0, 5.75, 6.0));
+    all_finite(&p).expect("runs");
+}
+
+#[test]
+fn a_thousand_steps() {
+    let mut p = base();
+    p.banks[0].steps = 1000;
+    p.banks[0].step_kvar = 1.0;
+    p.banks[0].studied_steps = vec![0, 1, 500, 1000];
+    all_finite(&p).expect("runs");
+}
+
+#[test]
+fn no_source_in_a_scenario_and_islands_are_errors_naming_buses() {
+    let mut p = base();
+    p.sources[0].scenario = Some("max".into());
+    p.transformers[0].in_service = false;
+    let err = run_check(&p, &Default::default()).unwrap_err().to_string();
+    assert!(
+        err.contains("scenario \"max\"") && err.contains("\"LV\""),
+        "{err}"
+    );
+}
+
+#[test]
+fn lossless_network_resonance_on_a_scan_point() {
+    // Source and transformer without resistance (X/R very large) and a plain bank whose
+    // resonance falls on a grid point: the result is finite or a clear singular error.
+    let mut p = base();
+    p.loads.clear();
+    p.loads
+        .push(load("D", "LV", LoadType::SixPulseDrive, 50.0, 0.95));
+    p.sources[0].x_over_r = 1e12;
+    p.transformers[0].x_over_r = 1e12;
+    match all_finite(&p) {
+        Ok(()) => {}
+        Err(e) => assert!(e.to_string().contains("singular"), "{e}"),
+    }
+}
