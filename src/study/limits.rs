@@ -60,7 +60,13 @@ pub fn thd_limit(set: LimitSet, kv: f64) -> Limit {
 /// Estimated maximum demand current at the PCC, A: the apparent power of every load at the
 /// study point, Σ P/pf, over √3·kV of the PCC (an upper estimate: diversity ignored).
 pub fn estimated_demand_a(plant: &Plant, pcc_kv: f64) -> f64 {
-    let kva: f64 = plant.loads.iter().map(|l| l.p_kw() / l.power_factor).sum();
+    // `+ 0.0` turns the −0.0 of an empty sum into 0.
+    let kva: f64 = plant
+        .loads
+        .iter()
+        .map(|l| l.p_kw() / l.power_factor)
+        .sum::<f64>()
+        + 0.0;
     kva / (3f64.sqrt() * pcc_kv)
 }
 
@@ -187,7 +193,8 @@ pub fn bus_checks(d: &Distortion, ctx: &LimitContext, net: &Network) -> Vec<BusC
         .collect()
 }
 
-/// TDD = √(Σ I_h²) / I_L × 100 over the injected orders up to the 50th (IEEE 519-2014).
+/// TDD = √(Σ I_h²) / I_L × 100 over the injected orders up to the 50th (IEEE 519-2014);
+/// 0 when no harmonic current flows.
 pub fn tdd_percent(pcc_current_a: &[f64], orders: &[f64], i_l_a: f64) -> f64 {
     let sum: f64 = pcc_current_a
         .iter()
@@ -195,6 +202,10 @@ pub fn tdd_percent(pcc_current_a: &[f64], orders: &[f64], i_l_a: f64) -> f64 {
         .filter(|(_, h)| **h <= 50.0)
         .map(|(i, _)| i * i)
         .sum();
+    if sum == 0.0 {
+        // No harmonic current (with no demand, I_L = 0, there is none either).
+        return 0.0;
+    }
     sum.sqrt() / i_l_a * 100.0
 }
 

@@ -112,3 +112,16 @@ fn lossless_network_resonance_on_a_scan_point() {
         Err(e) => assert!(e.to_string().contains("singular"), "{e}"),
     }
 }
+
+#[test]
+fn no_loads_at_all() {
+    // No harmonic source and no demand: I_L cannot be estimated; nothing may turn into NaN.
+    let mut p = base();
+    p.loads.clear();
+    all_finite(&p).expect("runs");
+    let res = run_check(&p, &Default::default()).unwrap();
+    let mut out = Vec::new();
+    overtone::report::summary::write_summary(&mut out, &res).unwrap();
+    let text = String::from_utf8(out).unwrap();
+    assert!(!text.contains("NaN") && !text.contains("inf "), "{text}");
+}

@@ -82,7 +82,11 @@ pub(super) fn summary(
         ),
         (
             "Isc at the PCC (kA), Isc/IL",
-            format!("{:.2}, {:.1}", res.limits.isc_ka, res.limits.isc_over_il),
+            if res.limits.isc_over_il.is_finite() {
+                format!("{:.2}, {:.1}", res.limits.isc_ka, res.limits.isc_over_il)
+            } else {
+                format!("{:.2}, not defined (no demand current)", res.limits.isc_ka)
+            },
         ),
         (
             "Scenarios x configurations",
