@@ -9,6 +9,7 @@ mod cases;
 mod cli;
 mod common;
 mod degenerate;
+mod hostile;
 mod model;
 mod properties;
 mod reader;
