@@ -214,11 +214,7 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
     let pcc_kv = network.buses[pcc].kv;
     let mut s_sc_mva: f64 = 0.0;
     for s in 0..network.scenarios.len() {
-        let z = if scan.grid.orders.first() == Some(&1.0) {
-            scan.point(s, 0).z0_pu(0)
-        } else {
-            engine.point(1.0, s)?.z0_pu(0)
-        };
+        let z = scan.fundamental(&engine, s)?.z0_pu(0);
         s_sc_mva = s_sc_mva.max(crate::network::BASE_MVA / z.norm());
     }
     let isc_ka = s_sc_mva / (3f64.sqrt() * pcc_kv);
@@ -291,11 +287,7 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
     );
     let mut transients = Vec::new();
     for (s, scenario) in network.scenarios.iter().enumerate() {
-        let fundamental = if scan.grid.orders.first() == Some(&1.0) {
-            scan.point(s, 0).clone()
-        } else {
-            engine.point(1.0, s)?
-        };
+        let fundamental = scan.fundamental(&engine, s)?;
         for (b, model) in network.banks.iter().enumerate() {
             let bus = &network.buses[model.bus];
             let z = fundamental.bank_bus_z0_pu(b) * bus.z_base_ohm;

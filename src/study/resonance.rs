@@ -122,11 +122,7 @@ impl ResonanceStudy {
         let margin = plant.study.resonance_margin_percent;
         let mut rows = Vec::new();
         for (s, scenario) in net.scenarios.iter().enumerate() {
-            // The scan grid starts at order 1: its first point is the fundamental.
-            let fundamental = match scan.grid.orders.first() {
-                Some(1.0) => scan.point(s, 0).clone(),
-                _ => engine.point(1.0, s)?,
-            };
+            let fundamental = scan.fundamental(engine, s)?;
             for (c, cfg) in scan.configurations.iter().enumerate() {
                 let label = cfg.label(&plant.banks);
                 for (b, bank) in net.banks.iter().enumerate() {

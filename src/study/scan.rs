@@ -105,6 +105,15 @@ impl Scan {
         &self.series[(s * self.configurations.len() + c) * nb + b]
     }
 
+    /// Z₀ (no banks) of scenario `s` at the fundamental: the grid's first point (the grid
+    /// starts at order 1), else solved afresh.
+    pub fn fundamental(&self, engine: &Engine<'_>, s: usize) -> Result<PointSolution, SolveError> {
+        match self.grid.orders.first() {
+            Some(1.0) => Ok(self.points[s][0].clone()),
+            _ => engine.point(1.0, s),
+        }
+    }
+
     /// Z₀ (no banks) of scenario `s` at grid point `i`.
     pub fn point(&self, s: usize, i: usize) -> &PointSolution {
         &self.points[s][i]

@@ -11,6 +11,8 @@ use overtone::io::workbook_in::{read_workbook, read_workbook_bytes};
 use overtone::model::*;
 use overtone::study::Verdict;
 
+use crate::common::spectrum;
+
 fn source(id: &str, bus: &str, scenario: Option<&str>, mva: f64, x_over_r: f64) -> Source {
     Source {
         id: id.into(),
@@ -471,24 +473,17 @@ pub fn large_site() -> Plant {
         spectrum: Some("WELDER".into()),
         ..load("WELD-SHOP", "US3-MCC2", Custom, 180.0, 0.8, 1.0, 0.6)
     });
-    p.spectra = vec![Spectrum {
-        name: "WELDER".into(),
-        lines: [
+    p.spectra = vec![spectrum(
+        "WELDER",
+        &[
             (3.0, 18.0),
             (5.0, 11.0),
             (7.0, 6.5),
             (9.0, 3.0),
             (11.0, 2.5),
             (13.0, 1.8),
-        ]
-        .iter()
-        .map(|&(order, m)| SpectrumLine {
-            order,
-            magnitude_percent: m,
-            angle_deg: 0.0,
-        })
-        .collect(),
-    }];
+        ],
+    )];
     p.banks = vec![
         bank(
             "C1",

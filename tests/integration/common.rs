@@ -96,3 +96,35 @@ pub fn load(id: &str, bus: &str, kind: LoadType, kw: f64, pf: f64) -> Load {
         spectrum: None,
     }
 }
+
+/// A spectrum of (order, % of fundamental) lines, angles 0.
+pub fn spectrum(name: &str, lines: &[(f64, f64)]) -> Spectrum {
+    Spectrum {
+        name: name.into(),
+        lines: lines
+            .iter()
+            .map(|&(order, m)| SpectrumLine {
+                order,
+                magnitude_percent: m,
+                angle_deg: 0.0,
+            })
+            .collect(),
+    }
+}
+
+/// Index of the configuration with exactly `steps` in a check's scan.
+pub fn config_index(res: &overtone::check::CheckResults, steps: &[u32]) -> usize {
+    res.scan
+        .configurations
+        .iter()
+        .position(|c| c.steps == steps)
+        .expect("configuration studied")
+}
+
+/// The lowest-|Z| dip of a scanned series.
+pub fn deepest_dip(s: &overtone::study::Series) -> overtone::study::Extremum {
+    *s.dips
+        .iter()
+        .min_by(|a, b| a.z_ohm.total_cmp(&b.z_ohm))
+        .expect("a dip")
+}

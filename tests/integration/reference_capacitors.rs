@@ -146,18 +146,9 @@ fn filter_at_4_7_dips_there_and_peaks_below_at_the_hand_order() {
     p.banks
         .push(bank("F", "B", 0.6, 300.0, 1, Reactor::Tuned { order: 4.7 }));
     let res = run_check(&p, &Default::default()).unwrap();
-    let c = res
-        .scan
-        .configurations
-        .iter()
-        .position(|c| c.steps == [1])
-        .unwrap();
+    let c = config_index(&res, &[1]);
     let s = res.scan.series(0, c, 0);
-    let dip = s
-        .dips
-        .iter()
-        .min_by(|a, b| a.z_ohm.total_cmp(&b.z_ohm))
-        .unwrap();
+    let dip = deepest_dip(s);
     assert!((dip.order - 4.70).abs() <= 0.01, "dip at {}", dip.order);
     let xc = 0.6f64 * 0.6 / 0.3;
     let xl = xc / (4.7 * 4.7);

@@ -146,17 +146,10 @@ fn single_bus(law: Summation, drives: usize) -> Plant {
     p.buses.push(bus("B", 0.48));
     p.sources.push(source("U", "B", 20.0, 10.0));
     p.banks.push(bank("C", "B", 0.48, 300.0, 1, Reactor::None));
-    p.spectra.push(Spectrum {
-        name: "S".into(),
-        lines: [(3.0, 10.0), (5.0, 20.0), (7.0, 14.29), (11.0, 9.09)]
-            .iter()
-            .map(|&(order, m)| SpectrumLine {
-                order,
-                magnitude_percent: m,
-                angle_deg: 0.0,
-            })
-            .collect(),
-    });
+    p.spectra.push(spectrum(
+        "S",
+        &[(3.0, 10.0), (5.0, 20.0), (7.0, 14.29), (11.0, 9.09)],
+    ));
     for i in 0..drives {
         let mut d = load(&format!("D{i}"), "B", LoadType::SixPulseDrive, 200.0, 1.0);
         d.spectrum = Some("S".into());
@@ -193,12 +186,7 @@ fn hand_worked_single_bus_penetration() {
         thd2 += (vh / v_ln * 100.0).powi(2);
         tdd2 += (vh / zs.norm()).powi(2);
     }
-    let c = res
-        .scan
-        .configurations
-        .iter()
-        .position(|c| c.steps == [1])
-        .unwrap();
+    let c = config_index(&res, &[1]);
     let v = res.penetration.voltages(0, &[1]).unwrap();
     for (o, e) in v_expected.iter().enumerate() {
         assert_close(v[0][o] * 100.0, *e, 1e-9);
