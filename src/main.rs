@@ -135,7 +135,20 @@ impl<E: std::fmt::Display> From<E> for Failure {
     }
 }
 
+/// Exit status after an interrupt: 128 + SIGINT, as shells report it (common practice).
+const INTERRUPTED: i32 = 130;
+
 fn main() -> ExitCode {
+    // Ctrl-C, SIGTERM or SIGHUP: remove the temporary files of writes in progress, so that
+    // no partial output is left, and stop. Finished outputs are already complete.
+    let _ = ctrlc::set_handler(|| {
+        overtone::io::output::remove_pending();
+        let _ = writeln!(
+            io::stderr(),
+            "\novertone: interrupted; no output file was left partly written"
+        );
+        std::process::exit(INTERRUPTED);
+    });
     match run(Cli::parse().command) {
         Ok(code) => code,
         Err(Failure(msg)) => {
@@ -191,9 +204,10 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             study(&read.plant, &out, None, prov)
         }
         Command::Check { plant: path, out } => {
-            if let Some(o) = &out.output {
-                check_output_path(o, Some(&path))?;
-            }
+            check_outputs(
+                &[&out.output, &out.scan_csv, &out.voltages_csv],
+                Some(&path),
+            )?;
             let read = read_workbook(&path)?;
             warn(&read.warnings);
             let bytes =
@@ -209,6 +223,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             study(&read.plant, &out, Some(&path), prov)
         }
         Command::Scan { plant, csv, select } => {
+            check_outputs(&[&csv], Some(&plant))?;
             let plant = load(&plant)?;
             let (options, bar) =
                 options(&select, select.configurations.clone(), false, Some(false));
@@ -230,6 +245,25 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             Ok(ExitCode::SUCCESS)
         }
     }
+}
+
+/// Checks before any study that every output can be written, none is the input and no
+/// two outputs share a path.
+fn check_outputs(
+    outputs: &[&Option<std::path::PathBuf>],
+    input: Option<&std::path::Path>,
+) -> Result<(), Failure> {
+    let given: Vec<&std::path::PathBuf> = outputs.iter().filter_map(|o| o.as_ref()).collect();
+    for (i, o) in given.iter().enumerate() {
+        check_output_path(o, input)?;
+        if given[..i].iter().any(|p| p == o) {
+            return Err(Failure(format!(
+                "{}: given for two outputs: choose a name for each",
+                o.display()
+            )));
+        }
+    }
+    Ok(())
 }
 
 /// Study options with a progress bar on stderr that appears once a study has run for a
@@ -308,9 +342,7 @@ fn study(
     input: Option<&std::path::Path>,
     mut prov: Provenance,
 ) -> Result<ExitCode, Failure> {
-    if let Some(o) = &out.output {
-        check_output_path(o, input)?;
-    }
+    check_outputs(&[&out.output, &out.scan_csv, &out.voltages_csv], input)?;
     if let Some(d) = &out.date {
         prov.date = parse_date(d)?;
     }

@@ -137,7 +137,8 @@ pub enum CsvError {
     },
 }
 
-/// Writes the scan CSV of `sel` to `path` (refusing more than [`MAX_SCAN_ROWS`] rows).
+/// Writes the scan CSV of `sel` to `path` (refusing more than [`MAX_SCAN_ROWS`] rows), whole
+/// or not at all ([`crate::io::output::write_file`]).
 pub fn write_scan_file(
     path: &std::path::Path,
     res: &CheckResults,
@@ -151,11 +152,7 @@ pub fn write_scan_file(
         path: path.display().to_string(),
         source,
     };
-    let file = std::fs::File::create(path).map_err(io_err)?;
-    let mut w = std::io::BufWriter::new(file);
-    write_scan_csv(&mut w, res, sel)
-        .and_then(|()| w.flush())
-        .map_err(io_err)
+    crate::io::output::write_file(path, |w| write_scan_csv(w, res, sel)).map_err(io_err)
 }
 
 /// Writes `scenario,configuration,bus,order,v_percent,v_volts`: one row per bus (every bus
@@ -208,7 +205,7 @@ pub fn write_voltages_csv(
     Ok(())
 }
 
-/// Writes the harmonic-voltage CSV of `sel` to `path`.
+/// Writes the harmonic-voltage CSV of `sel` to `path`, whole or not at all.
 pub fn write_voltages_file(
     path: &std::path::Path,
     res: &CheckResults,
@@ -218,9 +215,5 @@ pub fn write_voltages_file(
         path: path.display().to_string(),
         source,
     };
-    let file = std::fs::File::create(path).map_err(io_err)?;
-    let mut w = std::io::BufWriter::new(file);
-    write_voltages_csv(&mut w, res, sel)
-        .and_then(|()| w.flush())
-        .map_err(io_err)
+    crate::io::output::write_file(path, |w| write_voltages_csv(w, res, sel)).map_err(io_err)
 }

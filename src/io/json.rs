@@ -34,8 +34,10 @@ struct DistortionJson<'a> {
 /// JSON (the limit rows, with each configuration's worst bus, stay).
 pub const MAX_BUS_ENTRIES: usize = 200_000;
 
+/// Everything the JSON summary holds, borrowed from a [`CheckResults`]; serialize it with
+/// any serde format (the audit tests walk it for non-finite numbers).
 #[derive(Serialize)]
-struct Summary<'a> {
+pub struct Summary<'a> {
     tool: &'static str,
     version: &'static str,
     title: &'a str,
@@ -60,6 +62,12 @@ struct Summary<'a> {
 
 /// The JSON text of the summary (pretty-printed). Non-finite numbers become `null`.
 pub fn to_json(res: &CheckResults) -> String {
+    serde_json::to_string_pretty(&summary(res))
+        .unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+}
+
+/// The summary of `res` that [`to_json`] prints.
+pub fn summary(res: &CheckResults) -> Summary<'_> {
     let scan = res
         .scan
         .series
@@ -92,7 +100,7 @@ pub fn to_json(res: &CheckResults) -> String {
             bank_voltage_percent: &d.bank_voltage_percent,
         })
         .collect();
-    let summary = Summary {
+    Summary {
         tool: "overtone",
         version: env!("CARGO_PKG_VERSION"),
         title: &res.plant.study.title,
@@ -115,6 +123,5 @@ pub fn to_json(res: &CheckResults) -> String {
         remedies: &res.remedies,
         assumptions: &res.notes,
         cautions: crate::report::cautions::CAUTIONS,
-    };
-    serde_json::to_string_pretty(&summary).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+    }
 }

@@ -255,7 +255,7 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     };
     writeln!(
         out,
-        "Harmonic limits ({set}): I_L {:.1} A{}, Isc {:.2} kA, Isc/IL {:.1}; {} harmonic load(s), {} injected order(s)",
+        "Harmonic limits ({set}): I_L {:.1} A{}, Isc {:.2} kA, Isc/IL {}; {} harmonic load(s), {} injected order(s)",
         ctx.i_l_a,
         if ctx.i_l_estimated {
             " (estimated)"
@@ -263,7 +263,10 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
             ""
         },
         ctx.isc_ka,
-        ctx.isc_over_il,
+        ctx.isc_over_il.map_or_else(
+            || "not defined (no demand current)".to_string(),
+            |r| format!("{r:.1}")
+        ),
         res.penetration.injections.spectra.len(),
         res.penetration.injections.orders.len(),
     )?;

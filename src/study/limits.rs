@@ -19,7 +19,9 @@ pub struct LimitContext {
     pub i_l_estimated: bool,
     /// Maximum three-phase short-circuit current at the PCC over the scenarios, kA.
     pub isc_ka: f64,
-    pub isc_over_il: f64,
+    /// Isc/I_L at the PCC; `None` when there is no demand current (I_L = 0), where the ratio
+    /// is not defined and the current limits are taken from the table's last row.
+    pub isc_over_il: Option<f64>,
     /// Voltage THD limit at each bus.
     pub thd_limit: Vec<Limit>,
     /// Individual voltage limit at each bus and injected order, %.
@@ -80,11 +82,8 @@ impl LimitContext {
             Some(i) => (i, false),
             None => (estimated_demand_a(plant, pcc_kv), true),
         };
-        let isc_over_il = if i_l_a > 0.0 {
-            isc_ka * 1000.0 / i_l_a
-        } else {
-            f64::INFINITY
-        };
+        let isc_over_il = (i_l_a > 0.0).then(|| isc_ka * 1000.0 / i_l_a);
+        let ratio_for_row = isc_over_il.unwrap_or(f64::INFINITY);
         let ieee = iec_class(set).is_none();
         LimitContext {
             set,
@@ -108,13 +107,13 @@ impl LimitContext {
                 .iter()
                 .map(|&h| {
                     if ieee {
-                        ieee519::current_limit(pcc_kv, isc_over_il, h).map(|l| l.value)
+                        ieee519::current_limit(pcc_kv, ratio_for_row, h).map(|l| l.value)
                     } else {
                         None
                     }
                 })
                 .collect(),
-            tdd_limit: ieee.then(|| ieee519::tdd_limit(pcc_kv, isc_over_il)),
+            tdd_limit: ieee.then(|| ieee519::tdd_limit(pcc_kv, ratio_for_row)),
         }
     }
 }

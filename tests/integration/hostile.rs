@@ -1,8 +1,11 @@
-//! Hostile input on the stable toolchain (a proptest harness standing in for libFuzzer,
-//! which needs nightly): mutated workbook bytes and arbitrary plants never panic; a plant
-//! either fails validation with messages or runs to finite results.
+//! Hostile input on the stable toolchain: the libFuzzer targets' bodies
+//! (`tests/fuzz/bodies.rs`) over the kept corpus, and proptest mutations of workbook bytes
+//! and arbitrary plants; nothing panics, a plant either fails validation with messages or
+//! runs to results whose every report is free of non-finite numbers.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
+
+use crate::fuzz_bodies;
 
 use overtone::check::{CheckOptions, run_check};
 use overtone::io::workbook_in::read_workbook_bytes;
@@ -13,8 +16,64 @@ fn case_bytes() -> Vec<u8> {
     std::fs::read(PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("cases/food-plant.xlsx")).unwrap()
 }
 
+/// The files of the kept corpus of fuzz target `target`, sorted by name.
+fn corpus(target: &str) -> Vec<PathBuf> {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/fuzz/corpus")
+        .join(target);
+    let mut files: Vec<PathBuf> = std::fs::read_dir(&dir)
+        .unwrap_or_else(|e| panic!("{}: {e}", dir.display()))
+        .map(|e| e.expect("corpus entry").path())
+        .filter(|p| p.is_file())
+        .collect();
+    files.sort();
+    files
+}
+
+/// Runs `body` on every corpus file of `target`; a panic names the file.
+fn replay(target: &str, body: fn(&[u8]), at_least: usize) {
+    let files = corpus(target);
+    assert!(
+        files.len() >= at_least,
+        "{target}: {} corpus files, expected at least {at_least}",
+        files.len()
+    );
+    for f in files {
+        let bytes = std::fs::read(&f).expect("corpus file");
+        if std::panic::catch_unwind(|| body(&bytes)).is_err() {
+            panic!("fuzz target {target} fails on {}", f.display());
+        }
+    }
+}
+
+#[test]
+fn reader_corpus_replays_clean() {
+    // The seeds: every workbook of cases/ and tests/data/, the malformed workbooks of the
+    // reader tests, and what the libFuzzer runs kept.
+    replay("read_workbook", fuzz_bodies::read_workbook, 45);
+}
+
+#[test]
+fn plant_corpus_replays_clean() {
+    replay("plant_study", fuzz_bodies::plant_study, 1);
+}
+
+#[test]
+fn every_case_reaches_every_report_without_a_non_finite_number() {
+    for case in ["bottling-plant", "food-plant", "water-plant", "large-site"] {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join(format!("cases/{case}.xlsx"));
+        let read = overtone::io::workbook_in::read_workbook(&path).expect("case reads");
+        fuzz_bodies::study_and_report(&read.plant);
+    }
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 64, ..ProptestConfig::default() })]
+
+    #[test]
+    fn arbitrary_plant_bytes_never_panic(data in proptest::collection::vec(any::<u8>(), 0..600)) {
+        fuzz_bodies::plant_study(&data);
+    }
 
     #[test]
     fn mutated_workbooks_never_panic(edits in proptest::collection::vec((any::<usize>(), any::<u8>()), 1..8), cut in any::<usize>()) {

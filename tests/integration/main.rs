@@ -9,6 +9,8 @@ mod cases;
 mod cli;
 mod common;
 mod degenerate;
+#[path = "../fuzz/bodies.rs"]
+mod fuzz_bodies;
 mod hostile;
 mod model;
 mod properties;

@@ -432,14 +432,40 @@ fn base_workbook_is_valid() {
     assert!(read.warnings.iter().any(|w| w.to_string() == "Loads: \"Power factor\" blank in 1 row(s): default 0.85 (linear, motor) or 0.95 (converters) applied"));
 }
 
+/// With `OVERTONE_WRITE_CORPUS=1`, keeps `bytes` as a seed of the reader's fuzz corpus
+/// (`tests/fuzz/corpus/read_workbook/NAME`).
+fn keep_in_corpus(name: &str, bytes: &[u8]) {
+    if std::env::var_os("OVERTONE_WRITE_CORPUS").is_some() {
+        let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/fuzz/corpus/read_workbook");
+        std::fs::write(dir.join(name), bytes).expect("corpus folder");
+    }
+}
+
 /// One malformed workbook: the mutation and the one error it must give, exactly.
 fn expect_one(book: Book, expected: &str) {
+    let bytes = book.bytes();
+    let tag: String = expected
+        .chars()
+        .take_while(|c| *c != ':')
+        .map(|c| if c.is_ascii_alphanumeric() { c } else { '-' })
+        .collect();
+    keep_in_corpus(
+        &format!("malformed-{tag}-{:08x}.xlsx", fnv(expected)),
+        &bytes,
+    );
     let got = book.errors();
     assert_eq!(
         got,
         vec![expected.to_string()],
         "expected exactly: {expected}"
     );
+}
+
+/// FNV-1a hash of `s` (32 bits), to name corpus files.
+fn fnv(s: &str) -> u32 {
+    s.bytes().fold(0x811c_9dc5, |h, b| {
+        (h ^ u32::from(b)).wrapping_mul(0x0100_0193)
+    })
 }
 
 #[test]
@@ -643,6 +669,7 @@ fn every_error_at_once_up_to_100() {
             .set("Spectra", &format!("B{}", r + 4), s("x"))
             .set("Spectra", &format!("C{}", r + 4), N(1.0));
     }
+    keep_in_corpus("many-errors.xlsx", &book.bytes());
     match read_workbook_bytes("many.xlsx", "many", &book.bytes()) {
         Err(ReadError::Cells { errors, more, .. }) => {
             assert_eq!(errors.len(), 100);
@@ -668,6 +695,8 @@ fn files_that_are_not_workbooks() {
         "this is not a spreadsheet workbook (.xlsx, .xlsm, .xls or .ods)"
     );
     let good = Book::base().bytes();
+    keep_in_corpus("base.xlsx", &good);
+    keep_in_corpus("truncated.xlsx", &good[..good.len() / 2]);
     let truncated = file_error("cut.xlsx", &good[..good.len() / 2]);
     assert!(
         truncated.starts_with("the workbook cannot be read; it may be truncated or damaged"),
@@ -675,6 +704,7 @@ fn files_that_are_not_workbooks() {
     );
     let mut ole = vec![0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
     ole.extend(std::iter::repeat_n(0u8, 1024));
+    keep_in_corpus("ole-header.xls", &ole);
     let locked = file_error("locked.xlsx", &ole);
     assert!(
         locked.starts_with("the workbook is password-protected or encrypted"),

@@ -61,10 +61,7 @@ pub fn check_output_path(out: &Path, input: Option<&Path>) -> Result<(), ReviewE
             ));
         }
     }
-    let dir = match out.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => std::path::PathBuf::from("."),
-    };
+    let dir = crate::io::output::folder_of(out);
     if !dir.is_dir() {
         return Err(fail("the output folder does not exist"));
     }
@@ -98,29 +95,15 @@ pub fn review_bytes(res: &CheckResults, prov: &Provenance) -> Result<Vec<u8>, Xl
 }
 
 /// Writes the review workbook to `path` through a temporary file in the same folder, renamed
-/// into place, so that no partial workbook is ever left under `path`.
+/// into place, so that no partial workbook is ever left under `path`
+/// ([`crate::io::output::write_file`]).
 pub fn write_review(path: &Path, res: &CheckResults, prov: &Provenance) -> Result<(), ReviewError> {
     let err = |source: XlsxError| ReviewError::Write {
         path: path.display().to_string(),
         source,
     };
     let bytes = review_bytes(res, prov).map_err(err)?;
-    let dir = match path.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => std::path::PathBuf::from("."),
-    };
-    let tmp = dir.join(format!(
-        ".{}.{}.tmp",
-        path.file_name()
-            .map_or_else(|| "review".into(), |n| n.to_string_lossy().into_owned()),
-        std::process::id()
-    ));
-    let io = |e: std::io::Error| err(XlsxError::IoError(e));
-    std::fs::write(&tmp, &bytes).map_err(io)?;
-    std::fs::rename(&tmp, path).map_err(|e| {
-        let _ = std::fs::remove_file(&tmp);
-        io(e)
-    })
+    crate::io::output::write_bytes(path, &bytes).map_err(|e| err(XlsxError::IoError(e)))
 }
 
 /// The date (UTC) a file was last modified, as (year, month, day).

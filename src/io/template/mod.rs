@@ -313,12 +313,12 @@ pub fn template_bytes() -> Result<Vec<u8>, XlsxError> {
     build(None)?.save_to_buffer()
 }
 
-/// Writes the blank template to `path`.
+/// Writes the blank template to `path`, whole or not at all.
 pub fn write_template(path: &Path) -> Result<(), TemplateError> {
     let err = |source| TemplateError {
         path: path.display().to_string(),
         source,
     };
     let bytes = template_bytes().map_err(err)?;
-    std::fs::write(path, bytes).map_err(|e| err(XlsxError::IoError(e)))
+    crate::io::output::write_bytes(path, &bytes).map_err(|e| err(XlsxError::IoError(e)))
 }

@@ -82,10 +82,9 @@ pub(super) fn summary(
         ),
         (
             "Isc at the PCC (kA), Isc/IL",
-            if res.limits.isc_over_il.is_finite() {
-                format!("{:.2}, {:.1}", res.limits.isc_ka, res.limits.isc_over_il)
-            } else {
-                format!("{:.2}, not defined (no demand current)", res.limits.isc_ka)
+            match res.limits.isc_over_il {
+                Some(r) => format!("{:.2}, {r:.1}", res.limits.isc_ka),
+                None => format!("{:.2}, not defined (no demand current)", res.limits.isc_ka),
             },
         ),
         (
