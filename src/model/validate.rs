@@ -5,6 +5,12 @@ use std::fmt;
 
 use super::{LoadType, Plant, Reactor, ShortCircuit};
 
+/// The smallest non-zero magnitude a rating, impedance or length may have: below it (down to
+/// subnormal numbers) quotients of ratings overflow to infinity.
+pub const MIN_MAGNITUDE: f64 = 1e-9;
+/// The largest magnitude a rating, impedance or length may have.
+pub const MAX_MAGNITUDE: f64 = 1e12;
+
 /// One problem with the plant: the element (sheet and id), the field and what is wrong.
 #[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
 pub struct ModelError {
@@ -59,7 +65,7 @@ impl<'a> Collector<'a> {
         });
     }
 
-    /// A finite number > 0.
+    /// A finite number > 0 within [`MIN_MAGNITUDE`, `MAX_MAGNITUDE`].
     fn positive(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
         if !(v.is_finite() && v > 0.0) {
             self.push(
@@ -68,10 +74,12 @@ impl<'a> Collector<'a> {
                 field,
                 format!("must be a positive number, found {v}"),
             );
+        } else {
+            self.magnitude(sheet, id, field, v);
         }
     }
 
-    /// A finite number ≥ 0.
+    /// A finite number ≥ 0, and 0 or within [`MIN_MAGNITUDE`, `MAX_MAGNITUDE`].
     fn non_negative(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
         if !(v.is_finite() && v >= 0.0) {
             self.push(
@@ -79,6 +87,22 @@ impl<'a> Collector<'a> {
                 id,
                 field,
                 format!("must be zero or positive, found {v}"),
+            );
+        } else if v > 0.0 {
+            self.magnitude(sheet, id, field, v);
+        }
+    }
+
+    /// A magnitude inside the range the studies compute in.
+    fn magnitude(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
+        if !(MIN_MAGNITUDE..=MAX_MAGNITUDE).contains(&v) {
+            self.push(
+                sheet,
+                id,
+                field,
+                format!(
+                    "must be between {MIN_MAGNITUDE:e} and {MAX_MAGNITUDE:e} (the range the studies compute in), found {v:e}"
+                ),
             );
         }
     }

@@ -451,3 +451,9 @@ impl PlantSpec {
         plant
     }
 }
+
+/// The plant `data` builds for [`plant_study`], for a failure message.
+pub fn describe_plant(data: &[u8]) -> String {
+    let mut u = Unstructured::new(data);
+    PlantSpec::arbitrary(&mut u).map_or_else(|e| format!("no plant ({e})"), |s| format!("{:#?}", s.build()))
+}

@@ -30,7 +30,8 @@ fn corpus(target: &str) -> Vec<PathBuf> {
     files
 }
 
-/// Runs `body` on every corpus file of `target`; a panic names the file.
+/// Runs `body` on every corpus file of `target`; a panic names the file (and for the
+/// plant target, the plant).
 fn replay(target: &str, body: fn(&[u8]), at_least: usize) {
     let files = corpus(target);
     assert!(
@@ -41,7 +42,12 @@ fn replay(target: &str, body: fn(&[u8]), at_least: usize) {
     for f in files {
         let bytes = std::fs::read(&f).expect("corpus file");
         if std::panic::catch_unwind(|| body(&bytes)).is_err() {
-            panic!("fuzz target {target} fails on {}", f.display());
+            let plant = if target == "plant_study" {
+                fuzz_bodies::describe_plant(&bytes)
+            } else {
+                String::new()
+            };
+            panic!("fuzz target {target} fails on {}\n{plant}", f.display());
         }
     }
 }

@@ -151,3 +151,27 @@ fn scenarios_and_blank_rows() {
     // input contract: S = √3 × kV × kA.
     assert!((p.sources[2].short_circuit_mva(13.8) - 3f64.sqrt() * 13.8 * 5.0).abs() < 1e-12);
 }
+
+/// Fuzz finding (tests/fuzz/corpus/plant_study/regression-isc-inf): a subnormal bus voltage
+/// passed as "positive" and the fault current at the bus overflowed to infinity. Magnitudes
+/// outside 1e-9 .. 1e12 are refused, each naming the element and field.
+#[test]
+fn magnitudes_outside_the_computable_range_are_refused() {
+    let mut p = small();
+    p.buses[1].nominal_kv = 2.482817965885e-312;
+    p.banks[0].step_kvar = 1e13;
+    p.cables[0].c_uf_per_km = 5e-324;
+    let m = messages(&p);
+    for expected in [
+        "Buses \"LV\", \"Nominal kV\": must be between 1e-9 and 1e12 (the range the studies compute in), found 2.482817965885e-312",
+        "Capacitors \"C1\", \"Step kvar\": must be between 1e-9 and 1e12 (the range the studies compute in), found 1e13",
+        "Cables \"K1\", \"C\": must be between 1e-9 and 1e12 (the range the studies compute in), found 5e-324",
+    ] {
+        assert!(m.iter().any(|x| x == expected), "missing {expected}: {m:?}");
+    }
+    // The edges themselves are accepted (degenerate::* studies 1e-6 and 1e9 kvar steps).
+    let mut p = small();
+    p.banks[0].step_kvar = 1e12;
+    p.cables[0].c_uf_per_km = 1e-9;
+    assert_eq!(messages(&p), Vec::<String>::new());
+}
