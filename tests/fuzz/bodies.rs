@@ -97,8 +97,15 @@ pub fn audit_reports(res: &CheckResults) {
 }
 
 /// Panics when `text` holds a word `NaN`, `inf` or `infinity` (any case), as Rust, C and
-/// spreadsheet programs print non-finite numbers.
+/// spreadsheet programs print non-finite numbers, or the review writer's last-resort
+/// `not computed` (a value that cannot be computed must say why).
 pub fn assert_no_nonfinite_text(what: &str, text: &str) {
+    if let Some(at) = text.find(crate_fallback()) {
+        let context = text
+            .get(at.saturating_sub(120)..(at + 40).min(text.len()))
+            .unwrap_or("");
+        panic!("{what}: a value without its reason near: {context}");
+    }
     for (i, word) in text.split(|c: char| !c.is_ascii_alphanumeric()).enumerate() {
         let w = word.to_ascii_lowercase();
         if w == "nan" || w == "inf" || w == "infinity" {
@@ -111,6 +118,11 @@ pub fn assert_no_nonfinite_text(what: &str, text: &str) {
             panic!("{what}: word {i} is \"{word}\" near: {context}");
         }
     }
+}
+
+/// The review writer's text for a number that is not finite (see `io::review`).
+fn crate_fallback() -> &'static str {
+    overtone::io::review::NOT_COMPUTED
 }
 
 /// The path of the first non-finite float in `v`, if any.
@@ -455,5 +467,8 @@ impl PlantSpec {
 /// The plant `data` builds for [`plant_study`], for a failure message.
 pub fn describe_plant(data: &[u8]) -> String {
     let mut u = Unstructured::new(data);
-    PlantSpec::arbitrary(&mut u).map_or_else(|e| format!("no plant ({e})"), |s| format!("{:#?}", s.build()))
+    PlantSpec::arbitrary(&mut u).map_or_else(
+        |e| format!("no plant ({e})"),
+        |s| format!("{:#?}", s.build()),
+    )
 }

@@ -6,6 +6,8 @@
 mod sheets;
 mod writer;
 
+pub use writer::NOT_COMPUTED;
+
 use std::path::Path;
 
 use rust_xlsxwriter::{DocProperties, ExcelDateTime, Workbook, XlsxError};

@@ -19,12 +19,16 @@ pub fn t(s: impl Into<String>) -> Cell {
     Cell::Text(s.into())
 }
 
-/// Number cell, or a reason when it is not finite.
+/// The text a cell holds in place of a number that is not finite: a last resort that the
+/// fuzz targets treat as a finding (each value that can be missing says why instead).
+pub const NOT_COMPUTED: &str = "not computed (no finite value)";
+
+/// Number cell, or [`NOT_COMPUTED`] when it is not finite.
 pub fn n(v: f64, fmt: &'static str) -> Cell {
     if v.is_finite() {
         Cell::Num(v, fmt)
     } else {
-        Cell::Text("not computed".into())
+        Cell::Text(NOT_COMPUTED.into())
     }
 }
 

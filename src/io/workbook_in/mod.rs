@@ -6,6 +6,7 @@
 //! workbook), the cells (types, blanks, enumerations, at their cells), then the plant's own
 //! validation ([`Plant::validate`]), whose element-and-field errors are mapped back to cells.
 
+mod cells;
 mod sheets;
 mod study;
 mod table;
@@ -14,14 +15,15 @@ use std::fmt;
 use std::io::Cursor;
 use std::path::Path;
 
-use calamine::{Data, HeaderRow, Range, Reader, Sheets, open_workbook_auto_from_rs};
+use calamine::{HeaderRow, Reader, Sheets, open_workbook_auto_from_rs};
 
+pub use cells::{MAX_CELLS, MAX_ROWS};
 pub use sheets::{load_type, studied_steps};
 pub use study::{ITEMS as STUDY_ITEMS, limit_set, tolerance};
 pub use table::{a1, normalize};
 
 use crate::model::Plant;
-use table::{Diagnostics, Table};
+use table::{Diagnostics, Row, Table};
 
 /// Most cell errors reported for one workbook.
 pub const MAX_ERRORS: usize = 100;
@@ -105,7 +107,7 @@ pub fn read_workbook(path: &Path) -> Result<ReadOutcome, ReadError> {
 const ZIP_MAGIC: &[u8] = b"PK\x03\x04";
 const OLE_MAGIC: &[u8] = &[0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
 
-fn open(file: &str, bytes: &[u8]) -> Result<Sheets<Cursor<Vec<u8>>>, ReadError> {
+fn open<'b>(file: &str, bytes: &'b [u8]) -> Result<Sheets<Cursor<&'b [u8]>>, ReadError> {
     let fail = |reason: String| ReadError::File {
         file: file.to_string(),
         reason,
@@ -120,8 +122,7 @@ fn open(file: &str, bytes: &[u8]) -> Result<Sheets<Cursor<Vec<u8>>>, ReadError> 
             "this is not a spreadsheet workbook (.xlsx, .xlsm, .xls or .ods)".into(),
         ));
     }
-    let data = bytes.to_vec();
-    let opened = std::panic::catch_unwind(move || open_workbook_auto_from_rs(Cursor::new(data)));
+    let opened = std::panic::catch_unwind(|| open_workbook_auto_from_rs(Cursor::new(bytes)));
     match opened {
         Ok(Ok(mut wb)) => {
             wb.with_header_row(HeaderRow::Row(0));
@@ -137,6 +138,40 @@ fn open(file: &str, bytes: &[u8]) -> Result<Sheets<Cursor<Vec<u8>>>, ReadError> 
             "the workbook is malformed in a way the reader cannot handle: open it in a spreadsheet program and save it again".into(),
         )),
     }
+}
+
+/// A sheet that could not be gathered.
+enum SheetError {
+    TooLarge(cells::TooLarge),
+    Reader(String),
+}
+
+/// The non-blank cells of sheet `name`, streamed for .xlsx (no dense range is built) and
+/// taken from the reader's range for the other formats, spending from `budget`.
+fn sheet_rows<RS: std::io::Read + std::io::Seek>(
+    wb: &mut Sheets<RS>,
+    name: &str,
+    budget: &mut usize,
+) -> Result<Vec<Row>, SheetError> {
+    if let Sheets::Xlsx(x) = wb {
+        let mut reader = x
+            .worksheet_cells_reader(name)
+            .map_err(|e| SheetError::Reader(e.to_string()))?;
+        let mut out = cells::Collector::new(budget);
+        while let Some(cell) = reader
+            .next_cell()
+            .map_err(|e| SheetError::Reader(e.to_string()))?
+        {
+            let (r, c) = cell.get_position();
+            out.push(r, c, cells::owned(cell.get_value()))
+                .map_err(SheetError::TooLarge)?;
+        }
+        return Ok(out.finish());
+    }
+    let range = wb
+        .worksheet_range(name)
+        .map_err(|e| SheetError::Reader(e.to_string()))?;
+    cells::from_range(&range, budget).map_err(SheetError::TooLarge)
 }
 
 /// The sheets of the contract: (name, required).
@@ -157,8 +192,9 @@ pub fn read_workbook_bytes(file: &str, stem: &str, bytes: &[u8]) -> Result<ReadO
     let mut wb = open(file, bytes)?;
     let names = wb.sheet_names();
     let mut diag = Diagnostics::default();
-    let mut ranges: Vec<Option<(String, Range<Data>)>> = Vec::new();
+    let mut sheets: Vec<Option<(String, Vec<Row>)>> = Vec::new();
     let mut missing = Vec::new();
+    let mut budget = MAX_CELLS;
     for &(sheet, required) in SHEETS {
         let found = names
             .iter()
@@ -166,26 +202,27 @@ pub fn read_workbook_bytes(file: &str, stem: &str, bytes: &[u8]) -> Result<ReadO
             .cloned();
         match found {
             None if required => missing.push(sheet),
-            None => ranges.push(None),
+            None => sheets.push(None),
             Some(name) => {
-                let range = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-                    wb.worksheet_range(&name)
+                let rows = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+                    sheet_rows(&mut wb, &name, &mut budget)
                 }));
-                match range {
-                    Ok(Ok(r)) => ranges.push(Some((name, r))),
-                    Ok(Err(e)) => {
-                        return Err(ReadError::File {
-                            file: file.to_string(),
-                            reason: format!(
-                                "sheet \"{name}\" cannot be read; the workbook may be damaged (reader: {e})"
-                            ),
-                        });
+                let fail = |reason: String| ReadError::File {
+                    file: file.to_string(),
+                    reason,
+                };
+                match rows {
+                    Ok(Ok(r)) => sheets.push(Some((name, r))),
+                    Ok(Err(SheetError::TooLarge(t))) => return Err(fail(t.sentence(&name))),
+                    Ok(Err(SheetError::Reader(e))) => {
+                        return Err(fail(format!(
+                            "sheet \"{name}\" cannot be read; the workbook may be damaged (reader: {e})"
+                        )));
                     }
                     Err(_) => {
-                        return Err(ReadError::File {
-                            file: file.to_string(),
-                            reason: format!("sheet \"{name}\" is malformed and cannot be read"),
-                        });
+                        return Err(fail(format!(
+                            "sheet \"{name}\" is malformed and cannot be read"
+                        )));
                     }
                 }
             }
@@ -214,48 +251,58 @@ pub fn read_workbook_bytes(file: &str, stem: &str, bytes: &[u8]) -> Result<ReadO
             diag.warn(n, None, "unknown sheet ignored".into());
         }
     }
-    let table = |i: usize, spec: &[table::Column], diag: &mut Diagnostics| {
-        ranges[i]
-            .as_ref()
-            .map(|(name, r)| Table::new(name, r, spec, diag))
+    let mut table = |i: usize, spec: &[table::Column], diag: &mut Diagnostics| {
+        sheets[i]
+            .take()
+            .map(|(name, rows)| Table::new(&name, rows, spec, diag))
     };
-    let t_study = table(0, study::COLUMNS, &mut diag);
-    let t_buses = table(1, sheets::BUSES, &mut diag);
-    let t_sources = table(2, sheets::SOURCES, &mut diag);
-    let t_tx = table(3, sheets::TRANSFORMERS, &mut diag);
-    let t_cables = table(4, sheets::CABLES, &mut diag);
-    let t_caps = table(5, sheets::CAPACITORS, &mut diag);
-    let t_loads = table(6, sheets::LOADS, &mut diag);
-    let t_spectra = table(7, sheets::SPECTRA, &mut diag);
-
     let mut plant = Plant::new(f64::NAN);
     let mut defaults = sheets::Defaults::default();
     let mut item_cells = study::ItemCells::new();
-    if let Some(t) = &t_study {
+    // Each sheet becomes a table just before it is converted, and gives its cells back
+    // after (the tables keep their row numbers for mapping validation errors to cells), so
+    // that at most one sheet's cells are held beside the plant.
+    let mut t_study = table(0, study::COLUMNS, &mut diag);
+    if let Some(t) = &mut t_study {
         let (s, cells) = study::read(t, stem, &mut diag);
         plant.study = s;
         item_cells = cells;
+        t.release_cells();
     }
-    if let Some(t) = &t_buses {
+    let mut t_buses = table(1, sheets::BUSES, &mut diag);
+    if let Some(t) = &mut t_buses {
         plant.buses = sheets::buses(t, &mut diag);
+        t.release_cells();
     }
-    if let Some(t) = &t_sources {
+    let mut t_sources = table(2, sheets::SOURCES, &mut diag);
+    if let Some(t) = &mut t_sources {
         plant.sources = sheets::sources(t, &mut diag);
+        t.release_cells();
     }
-    if let Some(t) = &t_tx {
+    let mut t_tx = table(3, sheets::TRANSFORMERS, &mut diag);
+    if let Some(t) = &mut t_tx {
         plant.transformers = sheets::transformers(t, &mut diag, &mut defaults);
+        t.release_cells();
     }
-    if let Some(t) = &t_cables {
+    let mut t_cables = table(4, sheets::CABLES, &mut diag);
+    if let Some(t) = &mut t_cables {
         plant.cables = sheets::cables(t, &mut diag, &mut defaults);
+        t.release_cells();
     }
-    if let Some(t) = &t_caps {
+    let mut t_caps = table(5, sheets::CAPACITORS, &mut diag);
+    if let Some(t) = &mut t_caps {
         plant.banks = sheets::banks(t, &mut diag, &mut defaults);
+        t.release_cells();
     }
-    if let Some(t) = &t_loads {
+    let mut t_loads = table(6, sheets::LOADS, &mut diag);
+    if let Some(t) = &mut t_loads {
         plant.loads = sheets::loads(t, &mut diag, &mut defaults);
+        t.release_cells();
     }
-    if let Some(t) = &t_spectra {
+    let mut t_spectra = table(7, sheets::SPECTRA, &mut diag);
+    if let Some(t) = &mut t_spectra {
         plant.spectra = sheets::spectra(t, &mut diag);
+        t.release_cells();
         for s in &plant.spectra {
             for l in s
                 .lines

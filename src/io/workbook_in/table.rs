@@ -4,7 +4,7 @@
 
 use std::collections::{HashMap, HashSet};
 
-use calamine::{Data, Range};
+use calamine::Data;
 
 use super::{InputError, Warning};
 
@@ -86,19 +86,19 @@ pub struct Column {
     pub required: bool,
 }
 
-/// A data row: its absolute row and the cells by absolute column.
+/// A row of a sheet: its zero-based row and its non-blank cells by zero-based column, in
+/// column order.
 pub struct Row {
     pub row: u32,
-    cells: Vec<Data>,
-    col0: u32,
+    pub(super) cells: Vec<(u32, Data)>,
 }
 
 impl Row {
     fn get(&self, col: u32) -> &Data {
         static EMPTY: Data = Data::Empty;
-        col.checked_sub(self.col0)
-            .and_then(|i| self.cells.get(i as usize))
-            .unwrap_or(&EMPTY)
+        self.cells
+            .binary_search_by_key(&col, |(c, _)| *c)
+            .map_or(&EMPTY, |i| &self.cells[i].1)
     }
 }
 
@@ -114,7 +114,8 @@ pub struct Table {
     pub rows: Vec<Row>,
 }
 
-fn is_blank(d: &Data) -> bool {
+/// A cell that holds nothing: empty, or text of spaces only.
+pub fn is_blank(d: &Data) -> bool {
     match d {
         Data::Empty => true,
         Data::String(s) => s.trim().is_empty(),
@@ -123,16 +124,16 @@ fn is_blank(d: &Data) -> bool {
 }
 
 impl Table {
-    /// Reads `range` with its header in row 1, checking for the required `columns`;
-    /// unknown headers are warned about, blank rows skipped.
-    pub fn new(sheet: &str, range: &Range<Data>, spec: &[Column], diag: &mut Diagnostics) -> Table {
+    /// Reads the sheet's `rows` with its header in row 1, checking for the required
+    /// `columns`; unknown headers are warned about. Blank rows are not among `rows`.
+    pub fn new(sheet: &str, rows: Vec<Row>, spec: &[Column], diag: &mut Diagnostics) -> Table {
         let mut t = Table {
             sheet: sheet.to_string(),
             columns: HashMap::new(),
             missing: HashSet::new(),
             rows: Vec::new(),
         };
-        let Some((r0, c0)) = range.start() else {
+        if rows.is_empty() {
             for c in spec.iter().filter(|c| c.required) {
                 diag.error(
                     sheet,
@@ -144,19 +145,14 @@ impl Table {
                 );
             }
             return t;
-        };
+        }
         let known: HashMap<String, &Column> =
             spec.iter().map(|c| (normalize(c.header), c)).collect();
-        let mut rows = range.rows();
-        let mut next_free_col = c0;
-        if r0 == 0
-            && let Some(header) = rows.next()
-        {
-            for (i, cell) in header.iter().enumerate() {
-                let col = c0 + i as u32;
-                if is_blank(cell) {
-                    continue;
-                }
+        let mut rows = rows.into_iter().peekable();
+        let mut next_free_col = 0;
+        if let Some(header) = rows.next_if(|r| r.row == 0) {
+            for (col, cell) in &header.cells {
+                let col = *col;
                 next_free_col = col + 1;
                 let name = match cell {
                     Data::String(s) => s.trim().to_string(),
@@ -181,16 +177,16 @@ impl Table {
                 t.columns.insert(key, col);
             }
         }
-        let start_data = if r0 == 0 { 1 } else { r0 };
-        for (i, cells) in rows.enumerate() {
-            if cells.iter().all(is_blank) {
-                continue;
-            }
-            t.rows.push(Row {
-                row: start_data + i as u32,
-                cells: cells.to_vec(),
-                col0: c0,
-            });
+        // Keep only the cells of the contract's columns (unknown columns were warned about).
+        let kept: Vec<u32> = t
+            .columns
+            .iter()
+            .filter(|(k, _)| known.contains_key(*k))
+            .map(|(_, &c)| c)
+            .collect();
+        for mut r in rows {
+            r.cells.retain(|(c, _)| kept.contains(c));
+            t.rows.push(r);
         }
         for c in spec.iter().filter(|c| c.required) {
             if !t.columns.contains_key(&normalize(c.header)) {
@@ -216,6 +212,14 @@ impl Table {
             }
         }
         t
+    }
+
+    /// Frees the cells once the sheet is converted; the rows keep their numbers, for
+    /// locating later errors.
+    pub fn release_cells(&mut self) {
+        for r in &mut self.rows {
+            r.cells = Vec::new();
+        }
     }
 
     /// Whether `header` is a required column absent from the sheet (already reported).

@@ -168,10 +168,11 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
                     t(&w.configuration),
                     on(w.peak.map(|p| p.order), "0.000"),
                     on(w.nearest_characteristic, "0"),
-                    t(format!(
-                        "order (margin {:.1} %)",
-                        w.margin_percent.unwrap_or(f64::NAN)
-                    )),
+                    t(match (w.peak, w.margin_percent) {
+                        (_, Some(m)) => format!("order (margin {m:.1} %)"),
+                        (None, _) => "no parallel resonance peak in the scanned range".into(),
+                        (Some(_), None) => "order (no characteristic order to compare)".into(),
+                    }),
                     verdict(bad, "clear", "RESONANT"),
                 ],
             ));
