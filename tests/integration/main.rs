@@ -5,6 +5,7 @@
 //! - `scan`: grid, configurations, peak finding;
 //! - `cli`: the `overtone` binary as a user runs it.
 
+mod bounds;
 mod cases;
 mod cli;
 mod common;

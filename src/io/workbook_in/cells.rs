@@ -20,20 +20,20 @@ pub const MAX_CELLS: usize = 10_000_000;
 pub enum TooLarge {
     /// A cell beyond [`MAX_ROWS`] (zero-based row of the cell).
     Rows(u32),
-    /// More than [`MAX_CELLS`] non-blank cells in the workbook.
+    /// More non-blank cells in the workbook than its bound (default [`MAX_CELLS`]).
     Cells,
 }
 
 impl TooLarge {
-    /// The sentence for the user about sheet `sheet`.
-    pub fn sentence(self, sheet: &str) -> String {
+    /// The sentence for the user about sheet `sheet`, with the cell bound `max_cells`.
+    pub fn sentence(self, sheet: &str, max_cells: usize) -> String {
         match self {
             TooLarge::Rows(r) => format!(
                 "sheet \"{sheet}\" has a cell in row {}, beyond the {MAX_ROWS} rows a sheet may have: remove the stray cells",
                 u64::from(r) + 1
             ),
             TooLarge::Cells => format!(
-                "the workbook has more than {MAX_CELLS} non-blank cells (reached in sheet \"{sheet}\"), more than the reader accepts: remove unused rows and columns or split the plant into several studies"
+                "the workbook has more than {max_cells} non-blank cells (reached in sheet \"{sheet}\"), more than the reader accepts: remove unused rows and columns or split the plant into several studies"
             ),
         }
     }

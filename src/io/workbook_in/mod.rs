@@ -18,6 +18,7 @@ use std::path::Path;
 use calamine::{HeaderRow, Reader, Sheets, open_workbook_auto_from_rs};
 
 pub use cells::{MAX_CELLS, MAX_ROWS};
+
 pub use sheets::{load_type, studied_steps};
 pub use study::{ITEMS as STUDY_ITEMS, limit_set, tolerance};
 pub use table::{a1, normalize};
@@ -104,10 +105,65 @@ pub fn read_workbook(path: &Path) -> Result<ReadOutcome, ReadError> {
     read_workbook_bytes(&file, &stem, &bytes)
 }
 
+/// Bounds on what the reader accepts, so that a runaway or hostile file is refused with a
+/// sentence instead of exhausting memory.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct ReadLimits {
+    /// Non-blank cells in the contract's sheets ([`MAX_CELLS`]).
+    pub max_cells: usize,
+    /// Bytes the parts of an .xlsx or .xlsm may expand to, as the zip directory declares
+    /// them; its sheets are streamed ([`MAX_EXPANDED_BYTES`]).
+    pub max_expanded_bytes: u64,
+    /// The same for an .ods, whose reader holds every sheet at once
+    /// ([`MAX_ODS_EXPANDED_BYTES`]).
+    pub max_ods_expanded_bytes: u64,
+    /// Bytes of an .xls file, whose reader holds every sheet at once ([`MAX_XLS_BYTES`]).
+    pub max_xls_bytes: u64,
+}
+
+/// The .xlsx expansion bound: 1 GiB. A workbook of 1,000,000 loads expands to 275 MB and
+/// reads in 719 MB.
+pub const MAX_EXPANDED_BYTES: u64 = 1 << 30;
+/// The .ods expansion bound: 512 MiB. An .ods of 100,000 loads expands to 98 MB and reads
+/// in 120 MB, so the bound keeps a read near 650 MB.
+pub const MAX_ODS_EXPANDED_BYTES: u64 = 512 << 20;
+/// The .xls size bound: 64 MiB (the format holds at most 65,536 rows a sheet).
+pub const MAX_XLS_BYTES: u64 = 64 << 20;
+
+impl Default for ReadLimits {
+    fn default() -> Self {
+        ReadLimits {
+            max_cells: MAX_CELLS,
+            max_expanded_bytes: MAX_EXPANDED_BYTES,
+            max_ods_expanded_bytes: MAX_ODS_EXPANDED_BYTES,
+            max_xls_bytes: MAX_XLS_BYTES,
+        }
+    }
+}
+
+/// The uncompressed size the zip directory of `bytes` declares for all its parts, and
+/// whether it is an OpenDocument file (`None` when the directory cannot be read: the
+/// workbook reader then says why).
+fn declared_expansion(bytes: &[u8]) -> Option<(u64, bool)> {
+    let mut zip = zip::ZipArchive::new(Cursor::new(bytes)).ok()?;
+    let mut total = 0u64;
+    let mut ods = false;
+    for i in 0..zip.len() {
+        let part = zip.by_index_raw(i).ok()?;
+        ods |= part.name_raw() == b"content.xml";
+        total = total.saturating_add(part.size());
+    }
+    Some((total, ods))
+}
+
 const ZIP_MAGIC: &[u8] = b"PK\x03\x04";
 const OLE_MAGIC: &[u8] = &[0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
 
-fn open<'b>(file: &str, bytes: &'b [u8]) -> Result<Sheets<Cursor<&'b [u8]>>, ReadError> {
+fn open<'b>(
+    file: &str,
+    bytes: &'b [u8],
+    limits: &ReadLimits,
+) -> Result<Sheets<Cursor<&'b [u8]>>, ReadError> {
     let fail = |reason: String| ReadError::File {
         file: file.to_string(),
         reason,
@@ -121,6 +177,26 @@ fn open<'b>(file: &str, bytes: &'b [u8]) -> Result<Sheets<Cursor<&'b [u8]>>, Rea
         return Err(fail(
             "this is not a spreadsheet workbook (.xlsx, .xlsm, .xls or .ods)".into(),
         ));
+    }
+    let too_large = |size: u64, bound: u64, what: &str| {
+        fail(format!(
+            "the workbook {what} {} MB, more than the {} MB the reader accepts: remove unused sheets, rows and columns or split the plant into several studies",
+            size / 1_000_000,
+            bound / 1_000_000
+        ))
+    };
+    if is_zip && let Some((expanded, ods)) = declared_expansion(bytes) {
+        let bound = if ods {
+            limits.max_ods_expanded_bytes
+        } else {
+            limits.max_expanded_bytes
+        };
+        if expanded > bound {
+            return Err(too_large(expanded, bound, "expands to"));
+        }
+    }
+    if is_ole && bytes.len() as u64 > limits.max_xls_bytes {
+        return Err(too_large(bytes.len() as u64, limits.max_xls_bytes, "is"));
     }
     let opened = std::panic::catch_unwind(|| open_workbook_auto_from_rs(Cursor::new(bytes)));
     match opened {
@@ -189,12 +265,22 @@ pub const SHEETS: &[(&str, bool)] = &[
 /// Reads and validates a workbook held in memory; `file` names it in messages and `stem`
 /// is the default study title.
 pub fn read_workbook_bytes(file: &str, stem: &str, bytes: &[u8]) -> Result<ReadOutcome, ReadError> {
-    let mut wb = open(file, bytes)?;
+    read_workbook_bytes_within(file, stem, bytes, &ReadLimits::default())
+}
+
+/// [`read_workbook_bytes`] within `limits`.
+pub fn read_workbook_bytes_within(
+    file: &str,
+    stem: &str,
+    bytes: &[u8],
+    limits: &ReadLimits,
+) -> Result<ReadOutcome, ReadError> {
+    let mut wb = open(file, bytes, limits)?;
     let names = wb.sheet_names();
     let mut diag = Diagnostics::default();
     let mut sheets: Vec<Option<(String, Vec<Row>)>> = Vec::new();
     let mut missing = Vec::new();
-    let mut budget = MAX_CELLS;
+    let mut budget = limits.max_cells;
     for &(sheet, required) in SHEETS {
         let found = names
             .iter()
@@ -213,7 +299,9 @@ pub fn read_workbook_bytes(file: &str, stem: &str, bytes: &[u8]) -> Result<ReadO
                 };
                 match rows {
                     Ok(Ok(r)) => sheets.push(Some((name, r))),
-                    Ok(Err(SheetError::TooLarge(t))) => return Err(fail(t.sentence(&name))),
+                    Ok(Err(SheetError::TooLarge(t))) => {
+                        return Err(fail(t.sentence(&name, limits.max_cells)));
+                    }
                     Ok(Err(SheetError::Reader(e))) => {
                         return Err(fail(format!(
                             "sheet \"{name}\" cannot be read; the workbook may be damaged (reader: {e})"
