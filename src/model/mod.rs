@@ -9,7 +9,7 @@ mod elements;
 mod validate;
 
 pub use elements::*;
-pub use validate::{ModelError, ModelErrors};
+pub use validate::{MAX_MAGNITUDE, MIN_MAGNITUDE, ModelError, ModelErrors};
 
 /// Name of the single scenario studied when no source row names one (input contract,
 /// sheet `Sources`).

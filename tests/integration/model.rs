@@ -152,7 +152,7 @@ fn scenarios_and_blank_rows() {
     assert!((p.sources[2].short_circuit_mva(13.8) - 3f64.sqrt() * 13.8 * 5.0).abs() < 1e-12);
 }
 
-/// Fuzz finding (tests/fuzz/corpus/plant_study/regression-isc-inf): a subnormal bus voltage
+/// Fuzz finding (tests/fuzz/corpus/plant_study/regression-subnormal-kv-isc-inf): a subnormal bus voltage
 /// passed as "positive" and the fault current at the bus overflowed to infinity. Magnitudes
 /// outside 1e-9 .. 1e12 are refused, each naming the element and field.
 #[test]
