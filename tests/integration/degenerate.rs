@@ -16,7 +16,8 @@ fn base() -> Plant {
     p
 }
 
-/// Every number of the results is finite (NaN and infinity never reach a report).
+/// Every number of the results is finite and every report (summary, JSON, CSVs, review
+/// workbook) is free of non-finite numbers and of values without their reason.
 fn all_finite(p: &Plant) -> Result<(), CheckError> {
     let res = run_check(
         p,
@@ -25,6 +26,7 @@ fn all_finite(p: &Plant) -> Result<(), CheckError> {
             ..Default::default()
         },
     )?;
+    crate::fuzz_bodies::audit_reports(&res);
     let json = overtone::io::json::to_json(&res);
     assert!(
         !json.contains("NaN") && !json.contains("inf"),
@@ -124,4 +126,43 @@ fn no_loads_at_all() {
     overtone::report::summary::write_summary(&mut out, &res).unwrap();
     let text = String::from_utf8(out).unwrap();
     assert!(!text.contains("NaN") && !text.contains("inf "), "{text}");
+}
+
+#[test]
+fn zero_x_over_r_is_an_error_naming_the_element() {
+    // X/R = 0 (a purely resistive source or transformer) is outside the contract (X/R > 0):
+    // refused with the element and field named, not studied with a zero reactance.
+    let mut p = base();
+    p.sources[0].x_over_r = 0.0;
+    p.transformers[0].x_over_r = 0.0;
+    let err = run_check(&p, &CheckOptions::default())
+        .expect_err("refused")
+        .to_string();
+    assert!(
+        err.contains("Sources \"U\", \"X/R\": must be a positive number, found 0")
+            && err.contains("Transformers \"T\", \"X/R\": must be a positive number, found 0"),
+        "{err}"
+    );
+}
+
+#[test]
+fn meshed_cables_and_no_energized_steps() {
+    // Three LV buses in a ring of cables (a mesh), the bank studied only at 0 steps: the
+    // study runs, every report is clean, and no bank row is energized.
+    let mut p = base();
+    p.buses.push(bus("LV2", 0.48));
+    p.buses.push(bus("LV3", 0.48));
+    p.cables = vec![
+        cable("K1", "LV", "LV2", 40.0),
+        cable("K2", "LV2", "LV3", 60.0),
+        cable("K3", "LV3", "LV", 80.0),
+    ];
+    p.loads
+        .push(load("D2", "LV3", LoadType::SixPulseDrive, 150.0, 0.95));
+    all_finite(&p).expect("meshed plant runs");
+    p.banks[0].studied_steps = vec![0];
+    all_finite(&p).expect("0 steps runs");
+    let res = run_check(&p, &CheckOptions::default()).unwrap();
+    assert_eq!(res.scan.configurations.len(), 1);
+    assert!(res.resonance.rows.is_empty(), "{:?}", res.resonance.rows);
 }
