@@ -374,6 +374,8 @@ impl Plant {
                             "Detuning",
                             format!("must be between 0 and 100 %, found {percent}"),
                         );
+                    } else {
+                        c.magnitude(SHEET, &b.id, "Detuning", percent);
                     }
                 }
                 Reactor::Tuned { order } => {
@@ -384,6 +386,8 @@ impl Plant {
                             "Tuned order",
                             format!("must be above 1, found {order}"),
                         );
+                    } else {
+                        c.magnitude(SHEET, &b.id, "Tuned order", order);
                     }
                 }
             }
@@ -429,6 +433,8 @@ impl Plant {
                     "Power factor",
                     format!("must be above 0 and at most 1, found {}", l.power_factor),
                 );
+            } else {
+                c.magnitude(SHEET, &l.id, "Power factor", l.power_factor);
             }
             if !(l.load_factor.is_finite() && (0.0..=1.0).contains(&l.load_factor)) {
                 c.push(
@@ -437,6 +443,8 @@ impl Plant {
                     "Load factor",
                     format!("must be between 0 and 1, found {}", l.load_factor),
                 );
+            } else if l.load_factor > 0.0 {
+                c.magnitude(SHEET, &l.id, "Load factor", l.load_factor);
             }
             match (&l.spectrum, l.kind) {
                 (Some(_), LoadType::Linear | LoadType::Motor) => c.push(
@@ -475,7 +483,8 @@ impl Plant {
                     "the spectrum has no harmonic".to_string(),
                 );
             }
-            for (i, line) in s.lines.iter().enumerate() {
+            let mut seen = HashSet::new();
+            for line in &s.lines {
                 if !(line.order.is_finite() && line.order > 1.0) {
                     c.push(
                         SP,
@@ -483,8 +492,11 @@ impl Plant {
                         "Order",
                         format!("must be above 1, found {}", line.order),
                     );
+                } else {
+                    c.magnitude(SP, &s.name, "Order", line.order);
                 }
-                if s.lines[..i].iter().any(|o| o.order == line.order) {
+                // Orders compared by value (a hash of the bits; -0.0 cannot occur above 1).
+                if !seen.insert(line.order.to_bits()) {
                     c.push(
                         SP,
                         &s.name,
