@@ -276,3 +276,45 @@ fn an_interrupted_run_leaves_no_partial_output() {
     );
     let _ = std::fs::remove_dir_all(&root);
 }
+
+/// Outputs are checked before the study: a folder that refuses new files (Linux's /proc
+/// does, even for root, so the test holds whoever runs it), CSV paths as well as the review
+/// workbook, and two outputs sharing one name. Nothing is studied or written (stdout stays
+/// empty) and the exit status is 2.
+#[cfg(target_os = "linux")]
+#[test]
+fn unwritable_folders_and_shared_names_are_refused_before_the_study() {
+    for args in [
+        vec!["demo", "-o", "/proc/overtone-review.xlsx"],
+        vec!["demo", "--scan-csv", "/proc/overtone-scan.csv"],
+        vec!["demo", "--voltages-csv", "/proc/overtone-voltages.csv"],
+    ] {
+        let out = overtone(&args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(
+            err.contains(&format!("{}: the output folder is not writable", args[2])),
+            "{err}"
+        );
+        assert!(out.stdout.is_empty(), "the study ran: {args:?}");
+    }
+    let dir = std::env::temp_dir().join(format!("overtone-shared-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let p = dir.join("out.xlsx");
+    let out = overtone(&[
+        "demo",
+        "-o",
+        p.to_str().unwrap(),
+        "--voltages-csv",
+        p.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        String::from_utf8_lossy(&out.stderr)
+            .contains("given for two outputs: choose a name for each"),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(out.stdout.is_empty() && !p.exists());
+    let _ = std::fs::remove_dir_all(&dir);
+}
