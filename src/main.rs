@@ -301,21 +301,35 @@ fn options(
 }
 
 fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
+    use overtone::model::{MAX_MAGNITUDE, MIN_MAGNITUDE};
     let positive = |v: f64, what: &str| {
-        if v.is_finite() && v > 0.0 {
-            Ok(())
-        } else {
+        if !(v.is_finite() && v > 0.0) {
             Err(Failure(format!(
                 "--{what} must be a positive number, found {v}"
             )))
+        } else if !(MIN_MAGNITUDE..=MAX_MAGNITUDE).contains(&v) {
+            Err(Failure(format!(
+                "--{what} must be between {MIN_MAGNITUDE:e} and {MAX_MAGNITUDE:e}, found {v:e}"
+            )))
+        } else {
+            Ok(())
         }
     };
     positive(a.kv, "kv")?;
     positive(a.kvar, "kvar")?;
     positive(a.hz, "hz")?;
     positive(a.q, "q")?;
+    for (v, what) in [
+        (a.rated_kv, "rated-kv"),
+        (a.ssc_mva, "ssc-mva"),
+        (a.order, "order"),
+    ] {
+        if let Some(v) = v {
+            positive(v, what)?;
+        }
+    }
     let p = match (a.detuning, a.order) {
-        (Some(d), _) if d > 0.0 && d < 100.0 => d / 100.0,
+        (Some(d), _) if d >= MIN_MAGNITUDE && d < 100.0 => d / 100.0,
         (Some(d), _) => {
             return Err(Failure(format!(
                 "--detuning must be between 0 and 100 %, found {d}"

@@ -3,8 +3,8 @@
 //! them over the kept corpus `tests/fuzz/corpus/` on every `cargo test`).
 //!
 //! Both bodies panic (a finding) when the tool panics, when an error has no message, or when
-//! a value that is not a finite number reaches a report: the terminal summary, the JSON
-//! summary, the scan and voltage CSVs or the review workbook.
+//! a value that is not a finite number reaches a report: the terminal summary, the scan
+//! command's peaks, the JSON summary, the scan and voltage CSVs or the review workbook.
 
 #![allow(dead_code)]
 
@@ -61,6 +61,9 @@ pub fn audit_reports(res: &CheckResults) {
     let mut text = Vec::new();
     overtone::report::summary::write_summary(&mut text, res).expect("summary to memory");
     assert_no_nonfinite_text("terminal summary", &String::from_utf8_lossy(&text));
+    let mut peaks = Vec::new();
+    overtone::report::summary::write_peaks(&mut peaks, res).expect("peaks to memory");
+    assert_no_nonfinite_text("scan peaks", &String::from_utf8_lossy(&peaks));
 
     let value = serde_value::to_value(overtone::io::json::summary(res)).expect("summary value");
     let mut path = Vec::new();

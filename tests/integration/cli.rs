@@ -318,3 +318,79 @@ fn unwritable_folders_and_shared_names_are_refused_before_the_study() {
     assert!(out.stdout.is_empty() && !p.exists());
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// `overtone size` at the edges of its ranges prints finite numbers only, and refuses
+/// values outside them with the option named.
+#[test]
+fn size_at_the_edges_prints_no_non_finite_number() {
+    let ok = [
+        vec!["--kv", "1e-9", "--kvar", "1e12", "--detuning", "7"],
+        vec!["--kv", "1e12", "--kvar", "1e-9", "--detuning", "1e-9"],
+        vec![
+            "--kv",
+            "0.48",
+            "--kvar",
+            "100",
+            "--order",
+            "1e12",
+            "--rated-kv",
+            "1e12",
+        ],
+        vec![
+            "--kv",
+            "0.48",
+            "--kvar",
+            "100",
+            "--order",
+            "1.0000001",
+            "--rated-kv",
+            "1e12",
+        ],
+        vec![
+            "--kv",
+            "0.48",
+            "--kvar",
+            "100",
+            "--detuning",
+            "99.9999",
+            "--ssc-mva",
+            "1e-9",
+            "--rated-kv",
+            "1e12",
+        ],
+    ];
+    for args in ok {
+        let mut full = vec!["size"];
+        full.extend(&args);
+        let out = overtone(&full);
+        let text = String::from_utf8_lossy(&out.stdout);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(
+            out.status.code() == Some(0) || out.status.code() == Some(2),
+            "{args:?}: {err}"
+        );
+        crate::fuzz_bodies::assert_no_nonfinite_text(&format!("size {args:?}"), &text);
+        crate::fuzz_bodies::assert_no_nonfinite_text(&format!("size {args:?}"), &err);
+    }
+    for (args, expected) in [
+        (
+            vec!["--kv", "1e-300", "--kvar", "100", "--detuning", "7"],
+            "--kv must be between 1e-9 and 1e12, found 1e-300",
+        ),
+        (
+            vec!["--kv", "0.48", "--kvar", "100", "--order", "1e300"],
+            "--order must be between 1e-9 and 1e12, found 1e300",
+        ),
+        (
+            vec!["--kv", "0.48", "--kvar", "100", "--detuning", "1e-12"],
+            "--detuning must be between 0 and 100 %, found 0.000000000001",
+        ),
+    ] {
+        let mut full = vec!["size"];
+        full.extend(&args);
+        let out = overtone(&full);
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains(expected), "{err}");
+    }
+}
