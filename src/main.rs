@@ -329,7 +329,7 @@ fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
         }
     }
     let p = match (a.detuning, a.order) {
-        (Some(d), _) if d >= MIN_MAGNITUDE && d < 100.0 => d / 100.0,
+        (Some(d), _) if (MIN_MAGNITUDE..100.0).contains(&d) => d / 100.0,
         (Some(d), _) => {
             return Err(Failure(format!(
                 "--detuning must be between 0 and 100 %, found {d}"
