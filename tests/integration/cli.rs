@@ -27,8 +27,7 @@ fn demo_prints_the_resonance_table_and_cautions() {
 
 #[test]
 fn demo_writes_the_contract_csv() {
-    let dir = std::env::temp_dir().join(format!("overtone-cli-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = temp_dir("cli");
     let path = dir.join("scan.csv");
     let out = overtone(&[
         "demo",
@@ -212,8 +211,7 @@ fn listing(dir: &std::path::Path) -> Vec<String> {
 fn an_interrupted_run_leaves_no_partial_output() {
     use std::time::Instant;
     let case = concat!(env!("CARGO_MANIFEST_DIR"), "/cases/large-site.xlsx");
-    let root = std::env::temp_dir().join(format!("overtone-sigint-{}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&root);
+    let root = temp_dir("sigint");
     let run = |dir: &std::path::Path| {
         std::fs::create_dir_all(dir).unwrap();
         Command::new(env!("CARGO_BIN_EXE_overtone"))
@@ -298,8 +296,7 @@ fn unwritable_folders_and_shared_names_are_refused_before_the_study() {
         );
         assert!(out.stdout.is_empty(), "the study ran: {args:?}");
     }
-    let dir = std::env::temp_dir().join(format!("overtone-shared-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = temp_dir("shared");
     let p = dir.join("out.xlsx");
     let out = overtone(&[
         "demo",
@@ -323,73 +320,41 @@ fn unwritable_folders_and_shared_names_are_refused_before_the_study() {
 /// values outside them with the option named.
 #[test]
 fn size_at_the_edges_prints_no_non_finite_number() {
-    let ok = [
-        vec!["--kv", "1e-9", "--kvar", "1e12", "--detuning", "7"],
-        vec!["--kv", "1e12", "--kvar", "1e-9", "--detuning", "1e-9"],
-        vec![
-            "--kv",
-            "0.48",
-            "--kvar",
-            "100",
-            "--order",
-            "1e12",
-            "--rated-kv",
-            "1e12",
-        ],
-        vec![
-            "--kv",
-            "0.48",
-            "--kvar",
-            "100",
-            "--order",
-            "1.0000001",
-            "--rated-kv",
-            "1e12",
-        ],
-        vec![
-            "--kv",
-            "0.48",
-            "--kvar",
-            "100",
-            "--detuning",
-            "99.9999",
-            "--ssc-mva",
-            "1e-9",
-            "--rated-kv",
-            "1e12",
-        ],
-    ];
-    for args in ok {
+    let size = |args: &str| {
         let mut full = vec!["size"];
-        full.extend(&args);
-        let out = overtone(&full);
-        let text = String::from_utf8_lossy(&out.stdout);
+        full.extend(args.split_whitespace());
+        overtone(&full)
+    };
+    for args in [
+        "--kv 1e-9 --kvar 1e12 --detuning 7",
+        "--kv 1e12 --kvar 1e-9 --detuning 1e-9",
+        "--kv 0.48 --kvar 100 --order 1e12 --rated-kv 1e12",
+        "--kv 0.48 --kvar 100 --order 1.0000001 --rated-kv 1e12",
+        "--kv 0.48 --kvar 100 --detuning 99.9999 --ssc-mva 1e-9 --rated-kv 1e12",
+    ] {
+        let out = size(args);
         let err = String::from_utf8_lossy(&out.stderr);
-        assert!(
-            out.status.code() == Some(0) || out.status.code() == Some(2),
-            "{args:?}: {err}"
-        );
-        crate::fuzz_bodies::assert_no_nonfinite_text(&format!("size {args:?}"), &text);
-        crate::fuzz_bodies::assert_no_nonfinite_text(&format!("size {args:?}"), &err);
+        assert!(matches!(out.status.code(), Some(0 | 2)), "{args}: {err}");
+        let text = String::from_utf8_lossy(&out.stdout);
+        crate::fuzz_bodies::assert_no_nonfinite_text(&format!("size {args}"), &text);
+        crate::fuzz_bodies::assert_no_nonfinite_text(&format!("size {args}"), &err);
     }
     for (args, expected) in [
         (
-            vec!["--kv", "1e-300", "--kvar", "100", "--detuning", "7"],
+            "--kv 1e-300 --kvar 100 --detuning 7",
             "--kv must be between 1e-9 and 1e12, found 1e-300",
         ),
         (
-            vec!["--kv", "0.48", "--kvar", "100", "--order", "1e300"],
+            "--kv 0.48 --kvar 100 --order 1e300",
             "--order must be between 1e-9 and 1e12, found 1e300",
         ),
         (
-            vec!["--kv", "0.48", "--kvar", "100", "--detuning", "1e-12"],
+            "--kv 0.48 --kvar 100 --detuning 1e-12",
             "--detuning must be between 0 and 100 %, found 0.000000000001",
         ),
     ] {
-        let mut full = vec!["size"];
-        full.extend(&args);
-        let out = overtone(&full);
-        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        let out = size(args);
+        assert_eq!(out.status.code(), Some(2), "{args}");
         let err = String::from_utf8_lossy(&out.stderr);
         assert!(err.contains(expected), "{err}");
     }

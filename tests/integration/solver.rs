@@ -32,6 +32,22 @@ fn max_rel_err(a: &[Complex64], b: &[Complex64]) -> f64 {
         .fold(0.0, f64::max)
 }
 
+/// The sparse solve of unit column `col` and its relative error against the dense LU `lu`.
+fn error_against_dense(
+    engine: &Engine,
+    f: &overtone::solve::Factor,
+    lu: &nalgebra::LU<Complex64, nalgebra::Dyn, nalgebra::Dyn>,
+    n: usize,
+    col: usize,
+) -> (f64, Vec<Complex64>) {
+    let mut b = vec![Complex64::new(0.0, 0.0); n];
+    b[col] = Complex64::new(1.0, 0.0);
+    let mut x = b.clone();
+    engine.solve(f, &mut x);
+    let expected = lu.solve(&DVector::from_vec(b)).expect("dense solve");
+    (max_rel_err(&x, expected.as_slice()), x)
+}
+
 fn check_network(n: usize, extra: usize, seed: u64) {
     let plant = generated_plant(n, extra, 3, 3, seed);
     plant.validate().expect("generated plant is valid");
@@ -43,12 +59,7 @@ fn check_network(n: usize, extra: usize, seed: u64) {
         let y = dense_y(&net, order, 0, &steps);
         let lu = y.clone().lu();
         for col in [0, n / 2, n - 1] {
-            let mut b = vec![Complex64::new(0.0, 0.0); n];
-            b[col] = Complex64::new(1.0, 0.0);
-            let mut x = b.clone();
-            engine.solve(&f, &mut x);
-            let expected = lu.solve(&DVector::from_vec(b)).expect("dense solve");
-            let err = max_rel_err(&x, expected.as_slice());
+            let (err, x) = error_against_dense(&engine, &f, &lu, n, col);
             // Relative error below 1e-9 against the dense LU.
             assert!(
                 err < 1e-9,
@@ -162,12 +173,7 @@ proptest::proptest! {
         let f = engine.factor(order, 0, &steps).expect("nonsingular");
         let lu = dense_y(&net, order, 0, &steps).lu();
         let col = (seed as usize) % n;
-        let mut b = vec![Complex64::new(0.0, 0.0); n];
-        b[col] = Complex64::new(1.0, 0.0);
-        let mut x = b.clone();
-        engine.solve(&f, &mut x);
-        let expected = lu.solve(&DVector::from_vec(b)).expect("dense solve");
-        let err = max_rel_err(&x, expected.as_slice());
+        let (err, _) = error_against_dense(&engine, &f, &lu, n, col);
         proptest::prop_assert!(err < 1e-9, "n={} extra={} h={} col={}: {:e}", n, extra, order, col, err);
     }
 }
