@@ -3,7 +3,11 @@
 //! - `solver`: sparse factorization and step-combination engine against independent dense algebra;
 //! - `model`: validation of plants and topology errors;
 //! - `scan`: grid, configurations, peak finding;
-//! - `cli`: the `overtone` binary as a user runs it.
+//! - `cli`: the `overtone` binary as a user runs it (exit codes, output paths, interrupts);
+//! - `reader`, `bounds`: the workbook reader, its messages and its resource bounds;
+//! - `degenerate`: degenerate physics, each through the full report audit;
+//! - `hostile`, `properties`: the fuzz bodies over the kept corpus (`fuzz_bodies` is
+//!   `tests/fuzz/bodies.rs`) and proptest properties.
 
 mod bounds;
 mod cases;
