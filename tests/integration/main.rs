@@ -4,7 +4,7 @@
 //! - `model`: validation of plants and topology errors;
 //! - `scan`: grid, configurations, peak finding;
 //! - `cli`: the `overtone` binary as a user runs it (exit codes, output paths, interrupts);
-//! - `reader`, `bounds`: the workbook reader, its messages and its resource bounds;
+//! - `reader`, `malformed`, `bounds`: the workbook reader, its messages and its resource bounds;
 //! - `degenerate`: degenerate physics, each through the full report audit;
 //! - `hostile`, `properties`: the fuzz bodies over the kept corpus (`fuzz_bodies` is
 //!   `tests/fuzz/bodies.rs`) and proptest properties.
@@ -17,6 +17,7 @@ mod degenerate;
 #[path = "../fuzz/bodies.rs"]
 mod fuzz_bodies;
 mod hostile;
+mod malformed;
 mod model;
 mod properties;
 mod reader;

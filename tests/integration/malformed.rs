@@ -1,0 +1,532 @@
+//! Malformed workbooks, generated here cell by cell: each gives its exact message and
+//! `Sheet!Cell`; accepted loose forms; files that are not workbooks. With
+//! `OVERTONE_WRITE_CORPUS=1` they are also written as seeds of the reader's fuzz corpus.
+
+use std::path::{Path, PathBuf};
+
+use overtone::io::workbook_in::{ReadError, read_workbook, read_workbook_bytes};
+use rust_xlsxwriter::{ExcelDateTime, Formula, Workbook};
+
+#[derive(Clone)]
+enum C {
+    N(f64),
+    S(String),
+    B(bool),
+    /// A formula with an error result, e.g. "#DIV/0!".
+    E(&'static str),
+    /// A formula with a cached numeric result.
+    F(&'static str, f64),
+    /// A date cell.
+    D,
+    Blank,
+}
+
+fn s(x: &str) -> C {
+    C::S(x.to_string())
+}
+
+#[derive(Clone)]
+struct Book(Vec<(String, Vec<Vec<C>>)>);
+
+impl Book {
+    /// A small valid plant: 13.8 kV service, one transformer, a 480 V bus with a detuned bank,
+    /// a drive with a custom spectrum and a motor.
+    fn base() -> Book {
+        use C::*;
+        Book(vec![
+            (
+                "Study".into(),
+                vec![
+                    vec![s("Item"), s("Value")],
+                    vec![s("Frequency (Hz)"), N(60.0)],
+                    vec![s("PCC bus"), s("HV")],
+                    vec![s("Resistance model"), s("constant")],
+                    vec![s("Limits"), s("IEEE 519-2014")],
+                    vec![s("Capacitance tolerance (%)"), s("-5/+10")],
+                ],
+            ),
+            (
+                "Buses".into(),
+                vec![
+                    vec![s("Bus"), s("Nominal kV")],
+                    vec![s("HV"), N(13.8)],
+                    vec![s("LV"), N(0.48)],
+                    vec![s("LV2"), N(0.48)],
+                ],
+            ),
+            (
+                "Sources".into(),
+                vec![
+                    vec![
+                        s("Source"),
+                        s("Bus"),
+                        s("Scenario"),
+                        s("Short-circuit MVA"),
+                        s("Short-circuit kA"),
+                        s("X/R"),
+                    ],
+                    vec![s("U"), s("HV"), Blank, N(250.0), Blank, N(12.0)],
+                ],
+            ),
+            (
+                "Transformers".into(),
+                vec![
+                    vec![
+                        s("Transformer"),
+                        s("HV bus"),
+                        s("LV bus"),
+                        s("kVA"),
+                        s("Impedance (%)"),
+                        s("X/R"),
+                        s("In service"),
+                    ],
+                    vec![
+                        s("T1"),
+                        s("HV"),
+                        s("LV"),
+                        N(1500.0),
+                        N(5.75),
+                        N(6.0),
+                        s("yes"),
+                    ],
+                ],
+            ),
+            (
+                "Cables".into(),
+                vec![
+                    vec![
+                        s("Cable"),
+                        s("From bus"),
+                        s("To bus"),
+                        s("Length (m)"),
+                        s("R (ohm/km)"),
+                        s("X (ohm/km)"),
+                    ],
+                    vec![s("K1"), s("LV"), s("LV2"), N(40.0), N(0.1), N(0.08)],
+                ],
+            ),
+            (
+                "Capacitors".into(),
+                vec![
+                    vec![
+                        s("Bank"),
+                        s("Bus"),
+                        s("Rated kV"),
+                        s("Step kvar"),
+                        s("Steps"),
+                        s("Detuning (%)"),
+                        s("Tuned order"),
+                        s("Studied steps"),
+                    ],
+                    vec![
+                        s("C1"),
+                        s("LV"),
+                        N(0.525),
+                        N(100.0),
+                        N(4.0),
+                        N(7.0),
+                        Blank,
+                        s("all"),
+                    ],
+                ],
+            ),
+            (
+                "Loads".into(),
+                vec![
+                    vec![
+                        s("Load"),
+                        s("Bus"),
+                        s("Type"),
+                        s("kW"),
+                        s("Power factor"),
+                        s("Load factor"),
+                        s("Spectrum"),
+                    ],
+                    vec![
+                        s("D1"),
+                        s("LV"),
+                        s("6-pulse drive"),
+                        N(200.0),
+                        N(0.95),
+                        N(0.8),
+                        s("SP"),
+                    ],
+                    vec![s("M1"), s("LV2"), s("motor"), N(150.0), Blank, Blank, Blank],
+                ],
+            ),
+            (
+                "Spectra".into(),
+                vec![
+                    vec![s("Spectrum"), s("Order"), s("Magnitude (%)")],
+                    vec![s("SP"), N(5.0), N(30.0)],
+                    vec![s("SP"), N(7.0), N(12.0)],
+                ],
+            ),
+        ])
+    }
+
+    fn set(mut self, sheet: &str, cell: &str, v: C) -> Book {
+        let col = (cell.as_bytes()[0] - b'A') as usize;
+        let row: usize = cell[1..].parse::<usize>().unwrap() - 1;
+        let grid = &mut self.0.iter_mut().find(|(n, _)| n == sheet).unwrap().1;
+        while grid.len() <= row {
+            grid.push(Vec::new());
+        }
+        while grid[row].len() <= col {
+            grid[row].push(C::Blank);
+        }
+        grid[row][col] = v;
+        self
+    }
+
+    fn without_sheet(mut self, sheet: &str) -> Book {
+        self.0.retain(|(n, _)| n != sheet);
+        self
+    }
+
+    fn bytes(&self) -> Vec<u8> {
+        let mut wb = Workbook::new();
+        for (name, grid) in &self.0 {
+            let ws = wb.add_worksheet().set_name(name).unwrap();
+            for (r, row) in grid.iter().enumerate() {
+                for (c, v) in row.iter().enumerate() {
+                    let (r, c) = (r as u32, c as u16);
+                    match v {
+                        C::N(x) => {
+                            ws.write_number(r, c, *x).unwrap();
+                        }
+                        C::S(t) => {
+                            ws.write_string(r, c, t).unwrap();
+                        }
+                        C::B(b) => {
+                            ws.write_boolean(r, c, *b).unwrap();
+                        }
+                        C::E(e) => {
+                            ws.write_formula(r, c, Formula::new("=1/0").set_result(*e))
+                                .unwrap();
+                        }
+                        C::F(f, v) => {
+                            ws.write_formula(r, c, Formula::new(*f).set_result(v.to_string()))
+                                .unwrap();
+                        }
+                        C::D => {
+                            let d = ExcelDateTime::from_ymd(2026, 3, 1).unwrap();
+                            let fmt = rust_xlsxwriter::Format::new().set_num_format("yyyy-mm-dd");
+                            ws.write_datetime_with_format(r, c, &d, &fmt).unwrap();
+                        }
+                        C::Blank => {}
+                    }
+                }
+            }
+        }
+        wb.save_to_buffer().unwrap()
+    }
+
+    fn errors(&self) -> Vec<String> {
+        match read_workbook_bytes("case.xlsx", "case", &self.bytes()) {
+            Ok(_) => Vec::new(),
+            Err(ReadError::Cells { errors, .. }) => errors.iter().map(|e| e.to_string()).collect(),
+            Err(e) => vec![e.to_string()],
+        }
+    }
+}
+
+#[test]
+fn base_workbook_is_valid() {
+    let read = read_workbook_bytes("b.xlsx", "b", &Book::base().bytes()).expect("valid");
+    assert_eq!(read.plant.banks[0].studied_steps, vec![0, 1, 2, 3, 4]);
+    assert_eq!(
+        read.plant.loads[1].power_factor, 0.85,
+        "contract default for a motor"
+    );
+    assert!(read.warnings.iter().any(|w| w.to_string() == "Loads: \"Power factor\" blank in 1 row(s): default 0.85 (linear, motor) or 0.95 (converters) applied"));
+}
+
+/// With `OVERTONE_WRITE_CORPUS=1`, keeps `bytes` as a seed of the reader's fuzz corpus
+/// (`tests/fuzz/corpus/read_workbook/NAME`).
+fn keep_in_corpus(name: &str, bytes: &[u8]) {
+    if std::env::var_os("OVERTONE_WRITE_CORPUS").is_some() {
+        let dir = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/fuzz/corpus/read_workbook");
+        std::fs::write(dir.join(name), bytes).expect("corpus folder");
+    }
+}
+
+/// One malformed workbook: the mutation and the one error it must give, exactly.
+fn expect_one(book: Book, expected: &str) {
+    let bytes = book.bytes();
+    let tag: String = expected
+        .chars()
+        .take_while(|c| *c != ':')
+        .map(|c| if c.is_ascii_alphanumeric() { c } else { '-' })
+        .collect();
+    keep_in_corpus(
+        &format!("malformed-{tag}-{:08x}.xlsx", fnv(expected)),
+        &bytes,
+    );
+    let got = book.errors();
+    assert_eq!(
+        got,
+        vec![expected.to_string()],
+        "expected exactly: {expected}"
+    );
+}
+
+/// FNV-1a hash of `s` (32 bits), to name corpus files.
+fn fnv(s: &str) -> u32 {
+    s.bytes().fold(0x811c_9dc5, |h, b| {
+        (h ^ u32::from(b)).wrapping_mul(0x0100_0193)
+    })
+}
+
+#[test]
+fn malformed_cells_each_give_their_message_and_cell() {
+    use C::*;
+    let cases: Vec<(Book, &str)> = vec![
+        (
+            Book::base().set("Buses", "B3", s("0.48 kV")),
+            "Buses!B3: \"Nominal kV\" must be a positive number, found \"0.48 kV\"",
+        ),
+        (
+            Book::base().set("Transformers", "D2", N(-1500.0)),
+            "Transformers!D2: \"kVA\" must be a positive number, found -1500",
+        ),
+        (
+            Book::base().set("Capacitors", "D2", N(0.0)),
+            "Capacitors!D2: \"Step kvar\" must be a positive number, found 0",
+        ),
+        (
+            Book::base().set("Loads", "E2", N(1.2)),
+            "Loads!E2: \"Power factor\" must be above 0 and at most 1, found 1.2",
+        ),
+        (
+            Book::base().set("Loads", "F2", N(1.5)),
+            "Loads!F2: \"Load factor\" must be between 0 and 1, found 1.5",
+        ),
+        (
+            Book::base().set("Capacitors", "B2", s("LV9")),
+            "Capacitors!B2: \"Bus\": bus \"LV9\" does not exist",
+        ),
+        (
+            Book::base()
+                .set("Buses", "A5", s("HV"))
+                .set("Buses", "B5", N(13.8)),
+            "Buses!A5: \"Bus\": duplicate id \"HV\"",
+        ),
+        (
+            Book::base().set("Sources", "E2", N(10.0)),
+            "Sources!E2: give either \"Short-circuit MVA\" or \"Short-circuit kA\", not both",
+        ),
+        (
+            Book::base().set("Sources", "D2", Blank),
+            "Sources!D2: \"Short-circuit MVA\" or \"Short-circuit kA\" is required, found both blank",
+        ),
+        (
+            Book::base().set("Capacitors", "G2", N(4.7)),
+            "Capacitors!G2: give either \"Detuning (%)\" or \"Tuned order\", not both",
+        ),
+        (
+            Book::base().set("Capacitors", "H2", s("0,2,x")),
+            "Capacitors!H2: \"Studied steps\" must be all, a list like 0,2,4 or a range like 1-3, found \"0,2,x\"",
+        ),
+        (
+            Book::base().set("Capacitors", "H2", s("0-7")),
+            "Capacitors!H2: \"Studied steps\" names 5 steps but the bank has 4, found \"0-7\"",
+        ),
+        (
+            Book::base().set("Transformers", "E2", E("#DIV/0!")),
+            "Transformers!E2: \"Impedance (%)\" must be a positive number, found the error #DIV/0!",
+        ),
+        (
+            Book::base().set("Study", "B2", N(55.0)),
+            "Study!B2: \"Frequency\" must be 50 or 60, found 55",
+        ),
+        (
+            Book::base()
+                .set("Study", "A2", s("Frequency"))
+                .set("Study", "B2", Blank),
+            "Study!B2: \"Frequency (Hz)\" must be 50 or 60, found a blank cell",
+        ),
+        (
+            Book::base().set("Study", "B4", s("linear")),
+            "Study!B4: \"Resistance model\" must be constant or skin, found \"linear\"",
+        ),
+        (
+            Book::base().set("Study", "B5", s("IEEE 519-1992")),
+            "Study!B5: \"Limits\" must be IEEE 519-2014, IEC 61000-2-4 class 1, class 2 or class 3, found \"IEEE 519-1992\"",
+        ),
+        (
+            Book::base().set("Study", "B6", s("10")),
+            "Study!B6: \"Capacitance tolerance (%)\" must be a band like -5/+10, found \"10\"",
+        ),
+        (
+            Book::base().set("Study", "B3", s("NOWHERE")),
+            "Study!B3: \"PCC bus\": bus \"NOWHERE\" does not exist",
+        ),
+        (
+            Book::base().set("Loads", "C2", s("VFD")),
+            "Loads!C2: \"Type\" must be one of linear, motor, 6-pulse drive, 6-pulse drive with reactor, 12-pulse drive, 18-pulse drive, active front end, electronic, custom, found \"VFD\"",
+        ),
+        (
+            Book::base()
+                .set("Loads", "C2", s("custom"))
+                .set("Loads", "G2", Blank),
+            "Loads!G2: \"Spectrum\": a custom load needs a spectrum from the Spectra sheet",
+        ),
+        (
+            Book::base().set("Loads", "G3", s("SP")),
+            "Loads!G3: \"Spectrum\": a motor load injects no harmonics and takes no spectrum",
+        ),
+        (
+            Book::base().set("Loads", "G2", s("SP9")),
+            "Loads!G2: \"Spectrum\": spectrum \"SP9\" is not on the Spectra sheet",
+        ),
+        (
+            Book::base().set("Spectra", "B3", N(1.0)),
+            "Spectra!B3: \"Order\" must be a harmonic order above 1, found 1",
+        ),
+        (
+            Book::base().set("Spectra", "B3", N(5.0)),
+            "Spectra!B3: order 5 appears twice in spectrum \"SP\"",
+        ),
+        (
+            Book::base().set("Cables", "C2", s("HV")),
+            "Cables!C2: \"To bus\": connects buses of different nominal kV (0.48 and 13.8 kV): use a transformer",
+        ),
+        (
+            Book::base()
+                .set("Transformers", "C2", s("LV2"))
+                .set("Transformers", "B2", s("LV")),
+            "Transformers!C2: \"LV bus\": connects two buses of the same nominal kV (0.48 kV): use a cable",
+        ),
+        (
+            Book::base().set("Capacitors", "E2", N(2.5)),
+            "Capacitors!E2: \"Steps\" must be a whole number of at least 1, found 2.5",
+        ),
+        (
+            Book::base().set("Transformers", "G2", s("maybe")),
+            "Transformers!G2: \"In service\" must be yes or no, found \"maybe\"",
+        ),
+        (
+            Book::base().set("Capacitors", "A2", s("C 1")),
+            "Capacitors!A2: \"Bank\": a bank id may not contain spaces or '='",
+        ),
+        (
+            Book::base()
+                .set("Capacitors", "I1", s("Status"))
+                .set("Capacitors", "I2", s("planned")),
+            "Capacitors!I2: \"Status\" must be existing or proposed, found \"planned\"",
+        ),
+        (
+            Book::base().set("Cables", "D2", D),
+            "Cables!D2: \"Length (m)\" must be a positive number, found a date (46082)",
+        ),
+        (
+            Book::base().set("Buses", "C1", s("nominal_kv")),
+            "Buses!C1: column \"nominal_kv\" appears twice in the header row",
+        ),
+        (
+            Book::base().set("Buses", "B1", s("Voltage")),
+            "Buses!C1: required column \"Nominal kV\" is missing from the header row (row 1); found Bus",
+        ),
+        (
+            Book::base().set("Buses", "B5", N(0.48)),
+            "Buses!A5: \"Bus\" is required, found a blank cell",
+        ),
+        (
+            Book::base().set("Cables", "F2", N(-0.08)),
+            "Cables!F2: \"X\" must be zero or positive, found -0.08",
+        ),
+        (
+            Book::base().set("Sources", "F2", s("twelve")),
+            "Sources!F2: \"X/R\" must be a positive number, found \"twelve\"",
+        ),
+    ];
+    assert!(cases.len() >= 30);
+    for (book, expected) in cases {
+        expect_one(book, expected);
+    }
+}
+
+#[test]
+fn accepted_forms() {
+    use C::*;
+    // Text holding numbers, formula cells by cached value, Excel booleans, in/out, loose
+    // header spelling (input contract, general rules).
+    let book = Book::base()
+        .set("Buses", "B2", s(" 13.8 "))
+        .set("Transformers", "D2", F("=1000+500", 1500.0))
+        .set("Transformers", "G2", B(true))
+        .set("Sources", "D1", s("short circuit mva"))
+        .set("Capacitors", "H2", s("0,2-4"));
+    let read = read_workbook_bytes("ok.xlsx", "ok", &book.bytes()).expect("valid");
+    assert_eq!(read.plant.buses[0].nominal_kv, 13.8);
+    assert_eq!(read.plant.transformers[0].kva, 1500.0);
+    assert_eq!(read.plant.banks[0].studied_steps, vec![0, 2, 3, 4]);
+    let out = Book::base().set("Transformers", "G2", s("out"));
+    let read = read_workbook_bytes("ok.xlsx", "ok", &out.bytes());
+    // With T1 out of service the LV buses are isolated: the reader accepts the cell and the
+    // topology check (not the reader) will refuse the plant.
+    assert!(!read.expect("cells valid").plant.transformers[0].in_service);
+}
+
+#[test]
+fn every_error_at_once_up_to_100() {
+    use C::*;
+    let mut book = Book::base();
+    for r in 0..150 {
+        book = book
+            .set("Spectra", &format!("A{}", r + 4), s("SP2"))
+            .set("Spectra", &format!("B{}", r + 4), s("x"))
+            .set("Spectra", &format!("C{}", r + 4), N(1.0));
+    }
+    keep_in_corpus("many-errors.xlsx", &book.bytes());
+    match read_workbook_bytes("many.xlsx", "many", &book.bytes()) {
+        Err(ReadError::Cells { errors, more, .. }) => {
+            assert_eq!(errors.len(), 100);
+            assert_eq!(more, 50);
+            assert_eq!(
+                errors[0].to_string(),
+                "Spectra!B4: \"Order\" must be a harmonic order above 1, found \"x\""
+            );
+        }
+        other => panic!("{other:?}"),
+    }
+}
+
+#[test]
+fn files_that_are_not_workbooks() {
+    let file_error = |name: &str, bytes: &[u8]| match read_workbook_bytes(name, "x", bytes) {
+        Err(ReadError::File { reason, .. }) => reason,
+        other => panic!("{other:?}"),
+    };
+    assert_eq!(file_error("e.xlsx", b""), "the file is empty");
+    assert_eq!(
+        file_error("t.xlsx", b"Bus,Nominal kV\nB1,13.8\n"),
+        "this is not a spreadsheet workbook (.xlsx, .xlsm, .xls or .ods)"
+    );
+    let good = Book::base().bytes();
+    keep_in_corpus("base.xlsx", &good);
+    keep_in_corpus("truncated.xlsx", &good[..good.len() / 2]);
+    let truncated = file_error("cut.xlsx", &good[..good.len() / 2]);
+    assert!(
+        truncated.starts_with("the workbook cannot be read; it may be truncated or damaged"),
+        "{truncated}"
+    );
+    let mut ole = vec![0xD0, 0xCF, 0x11, 0xE0, 0xA1, 0xB1, 0x1A, 0xE1];
+    ole.extend(std::iter::repeat_n(0u8, 1024));
+    keep_in_corpus("ole-header.xls", &ole);
+    let locked = file_error("locked.xlsx", &ole);
+    assert!(
+        locked.starts_with("the workbook is password-protected or encrypted"),
+        "{locked}"
+    );
+    let no_sources = file_error("ns.xlsx", &Book::base().without_sheet("Sources").bytes());
+    assert_eq!(
+        no_sources,
+        "the workbook has no sheet \"Sources\" (sheets found: Study, Buses, Transformers, Cables, Capacitors, Loads, Spectra); `overtone template FILE.xlsx` writes a blank workbook with every sheet"
+    );
+    let missing = read_workbook(Path::new("/nonexistent/plant.xlsx"))
+        .unwrap_err()
+        .to_string();
+    assert_eq!(missing, "/nonexistent/plant.xlsx: the file does not exist");
+}
