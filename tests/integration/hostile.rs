@@ -56,12 +56,12 @@ fn replay(target: &str, body: fn(&[u8]), at_least: usize) {
 fn reader_corpus_replays_clean() {
     // The seeds: every workbook of cases/ and tests/data/, the malformed workbooks of the
     // reader tests, and what the libFuzzer runs kept.
-    replay("read_workbook", fuzz_bodies::read_workbook, 300);
+    replay("read_workbook", fuzz_bodies::read_workbook, 400);
 }
 
 #[test]
 fn plant_corpus_replays_clean() {
-    replay("plant_study", fuzz_bodies::plant_study, 1000);
+    replay("plant_study", fuzz_bodies::plant_study, 1200);
 }
 
 #[test]
