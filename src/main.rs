@@ -13,7 +13,8 @@ use std::time::Instant;
 use indicatif::{ProgressBar, ProgressStyle};
 use overtone::check::{CheckOptions, run_check};
 use overtone::io::csv::{selection, write_scan_file, write_voltages_file};
-use overtone::io::review::{Provenance, check_output_path, file_date, sha256_hex, write_review};
+use overtone::io::output::check_output_path;
+use overtone::io::review::{Provenance, file_date, sha256_hex, write_review};
 use overtone::io::workbook_in::read_workbook;
 use overtone::model::Plant;
 

@@ -25,6 +25,46 @@ pub fn folder_of(path: &Path) -> PathBuf {
     }
 }
 
+/// An output path refused before the study runs.
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("{path}: {reason}")]
+pub struct OutputPathError {
+    pub path: String,
+    pub reason: String,
+}
+
+/// Checks before the study runs that `out` can be written (its folder exists and accepts a
+/// new file) and is not the input `input`.
+pub fn check_output_path(out: &Path, input: Option<&Path>) -> Result<(), OutputPathError> {
+    let fail = |reason: &str| OutputPathError {
+        path: out.display().to_string(),
+        reason: reason.to_string(),
+    };
+    if let Some(inp) = input {
+        let same = match (std::fs::canonicalize(inp), std::fs::canonicalize(out)) {
+            (Ok(a), Ok(b)) => a == b,
+            _ => inp == out,
+        };
+        if same {
+            return Err(fail(
+                "the output would overwrite the input workbook: choose another name",
+            ));
+        }
+    }
+    let dir = folder_of(out);
+    if !dir.is_dir() {
+        return Err(fail("the output folder does not exist"));
+    }
+    let probe = dir.join(format!(".overtone-write-test-{}", std::process::id()));
+    match std::fs::write(&probe, b"") {
+        Ok(()) => {
+            let _ = std::fs::remove_file(&probe);
+            Ok(())
+        }
+        Err(_) => Err(fail("the output folder is not writable")),
+    }
+}
+
 /// The temporary name a write of `path` uses: hidden, beside it, unique to this process.
 pub fn temporary_name(path: &Path) -> PathBuf {
     let name = path

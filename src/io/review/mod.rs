@@ -42,39 +42,6 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
 pub enum ReviewError {
     #[error("{path}: the review workbook cannot be written ({source})")]
     Write { path: String, source: XlsxError },
-    #[error("{path}: {reason}")]
-    Path { path: String, reason: String },
-}
-
-/// Checks before the study runs that `out` can be written and is not the input `input`.
-pub fn check_output_path(out: &Path, input: Option<&Path>) -> Result<(), ReviewError> {
-    let fail = |reason: &str| ReviewError::Path {
-        path: out.display().to_string(),
-        reason: reason.to_string(),
-    };
-    if let Some(inp) = input {
-        let same = match (std::fs::canonicalize(inp), std::fs::canonicalize(out)) {
-            (Ok(a), Ok(b)) => a == b,
-            _ => inp == out,
-        };
-        if same {
-            return Err(fail(
-                "the output would overwrite the input workbook: choose another name",
-            ));
-        }
-    }
-    let dir = crate::io::output::folder_of(out);
-    if !dir.is_dir() {
-        return Err(fail("the output folder does not exist"));
-    }
-    let probe = dir.join(format!(".overtone-write-test-{}", std::process::id()));
-    match std::fs::write(&probe, b"") {
-        Ok(()) => {
-            let _ = std::fs::remove_file(&probe);
-            Ok(())
-        }
-        Err(_) => Err(fail("the output folder is not writable")),
-    }
 }
 
 /// The review workbook's bytes.
