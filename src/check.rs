@@ -8,6 +8,7 @@ use crate::solve::{Engine, SolveError};
 use crate::study::config::{ConfigurationError, configuration_count};
 use crate::study::duty::{DutyRow, duty_rows};
 use crate::study::limits::{LimitContext, LimitRow, limit_row};
+use crate::study::operating::OperatingStudy;
 use crate::study::penetration::{Injections, Penetration};
 use crate::study::remedy::{Outcome, RemedyResult};
 use crate::study::tolerance::{ToleranceBand, bands};
@@ -88,6 +89,8 @@ pub struct CheckResults {
     pub network: Network,
     pub scan: Scan,
     pub resonance: ResonanceStudy,
+    /// The fundamental load flow of every scenario × configuration.
+    pub operating: OperatingStudy,
     pub penetration: Penetration,
     pub limits: LimitContext,
     /// One limits summary per scenario × configuration, in that nesting order.
@@ -117,6 +120,9 @@ impl CheckResults {
             || self.limit_rows.iter().any(|r| r.exceeds)
             || self.duty.iter().any(|r| r.exceeds)
             || self.tolerance.iter().any(|t| t.flagged)
+            || self.operating.points.iter().any(|p| p.flagged())
+            || !self.operating.collapsed.is_empty()
+            || self.operating.step_changes.iter().any(|s| s.exceeds)
     }
 
     /// The before/after outcome for `bank` over the configurations labelled `labels`.
@@ -207,6 +213,7 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
     };
     let scan = Scan::run(&engine, grid, configurations, progress)?;
     let resonance = ResonanceStudy::run(plant, &network, &engine, &scan)?;
+    let operating = OperatingStudy::run(plant, &network, &scan.configurations);
 
     // Harmonic penetration and limits. Isc: the largest fault current at the PCC over the
     // scenarios, from the fundamental Thevenin impedance without banks (the PCC is the
@@ -235,6 +242,12 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
             limits.i_l_a
         ));
     }
+    if let Some(first) = operating.collapsed.first() {
+        notes.push(format!(
+            "load flow: {} scenario-configuration(s) have no solution (voltage collapse), the first: {first}; their capacitor duty uses the nominal bus voltage",
+            operating.collapsed.len()
+        ));
+    }
     let nc = scan.configurations.len();
     let limit_rows = penetration
         .results
@@ -257,10 +270,14 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         .iter()
         .flat_map(|d| {
             let cfg = &scan.configurations[d.configuration];
+            let bank_v = operating
+                .point_at(d.scenario, d.configuration, nc)
+                .map_or(&[][..], |p| &p.bank_bus_v_pu[..]);
             duty_rows(
                 d,
                 &plant.banks,
                 &cfg.steps,
+                bank_v,
                 &network,
                 orders,
                 plant.study.limits,
@@ -313,6 +330,7 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         network: network.clone(),
         scan,
         resonance,
+        operating,
         penetration,
         limits,
         limit_rows,

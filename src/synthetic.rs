@@ -54,6 +54,7 @@ pub fn generated_plant(n: usize, extra_links: usize, banks: usize, steps: u32, s
         scenario: None,
         short_circuit: ShortCircuit::Mva(300.0),
         x_over_r: 12.0,
+        voltage_pu: DEFAULT_SOURCE_VOLTAGE_PU,
     });
     let mut mv = vec![0usize];
     let mut lv = Vec::new();

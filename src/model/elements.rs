@@ -70,7 +70,32 @@ pub struct StudySettings {
     /// A peak within this many percent of a characteristic order is flagged.
     pub resonance_margin_percent: f64,
     pub capacitance_tolerance: Tolerance,
+    /// Power factor wanted at the PCC, lagging (0.5..1).
+    pub target_power_factor: f64,
+    /// Largest acceptable steady-state voltage change at a bank's bus when one step
+    /// switches, % of the voltage before the switching.
+    pub step_voltage_change_percent: f64,
+    /// Acceptable steady-state bus voltage band, pu of nominal.
+    pub voltage_range: VoltageRange,
 }
+
+/// An acceptable steady-state voltage band in per unit of nominal, e.g. 0.95/1.05.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct VoltageRange {
+    pub low_pu: f64,
+    pub high_pu: f64,
+}
+
+/// Default `Target power factor` (input contract, version 2): 0.95 lagging.
+pub const DEFAULT_TARGET_POWER_FACTOR: f64 = 0.95;
+/// Default `Step voltage change (%)` (input contract, version 2; common practice, from
+/// memory).
+pub const DEFAULT_STEP_VOLTAGE_CHANGE_PERCENT: f64 = 3.0;
+/// Default `Voltage range (pu)` (input contract, version 2).
+pub const DEFAULT_VOLTAGE_RANGE: VoltageRange = VoltageRange {
+    low_pu: 0.95,
+    high_pu: 1.05,
+};
 
 impl StudySettings {
     /// The contract's defaults at `frequency_hz`.
@@ -92,6 +117,9 @@ impl StudySettings {
                 minus_percent: 0.0,
                 plus_percent: 10.0,
             },
+            target_power_factor: DEFAULT_TARGET_POWER_FACTOR,
+            step_voltage_change_percent: DEFAULT_STEP_VOLTAGE_CHANGE_PERCENT,
+            voltage_range: DEFAULT_VOLTAGE_RANGE,
         }
     }
 }
@@ -124,7 +152,13 @@ pub struct Source {
     pub short_circuit: ShortCircuit,
     /// X/R ratio at fundamental, > 0.
     pub x_over_r: f64,
+    /// EMF behind the source impedance for the operating point, pu of the bus's nominal
+    /// kV, angle 0 (input contract, version 2: `Voltage (pu)`, default 1.0).
+    pub voltage_pu: f64,
 }
+
+/// Default source EMF `Voltage (pu)` (input contract, version 2).
+pub const DEFAULT_SOURCE_VOLTAGE_PU: f64 = 1.0;
 
 impl Source {
     /// Three-phase short-circuit power in MVA at a bus of `kv` kV: S = √3·kV·kA when given

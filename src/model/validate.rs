@@ -228,6 +228,41 @@ impl Plant {
                 ),
             );
         }
+        let pf = s.target_power_factor;
+        if !(pf.is_finite() && (0.5..=1.0).contains(&pf)) {
+            c.push(
+                SHEET,
+                "",
+                "Target power factor",
+                format!("must be a power factor between 0.5 and 1 (lagging), found {pf}"),
+            );
+        }
+        let dv = s.step_voltage_change_percent;
+        if !(dv.is_finite() && dv > 0.0 && dv <= 100.0) {
+            c.push(
+                SHEET,
+                "",
+                "Step voltage change",
+                format!("must be a percentage above 0 and at most 100, found {dv}"),
+            );
+        }
+        let r = s.voltage_range;
+        if !(r.low_pu.is_finite()
+            && r.high_pu.is_finite()
+            && r.low_pu > 0.0
+            && r.low_pu < r.high_pu
+            && r.high_pu <= 2.0)
+        {
+            c.push(
+                SHEET,
+                "",
+                "Voltage range",
+                format!(
+                    "must be a band low/high in pu like 0.95/1.05 with 0 < low < high <= 2, found {}/{}",
+                    r.low_pu, r.high_pu
+                ),
+            );
+        }
         if let Some(i_l) = s.max_demand_current_a {
             c.positive(SHEET, "", "Max demand current", i_l);
         }
@@ -263,6 +298,14 @@ impl Plant {
                 ShortCircuit::Ka(v) => c.positive(SHEET, &s.id, "Short-circuit kA", v),
             }
             c.positive(SHEET, &s.id, "X/R", s.x_over_r);
+            if !(s.voltage_pu.is_finite() && (0.5..=1.5).contains(&s.voltage_pu)) {
+                c.push(
+                    SHEET,
+                    &s.id,
+                    "Voltage (pu)",
+                    format!("must be between 0.5 and 1.5 pu, found {}", s.voltage_pu),
+                );
+            }
         }
     }
 

@@ -70,6 +70,19 @@ pub struct Network {
     pub scenarios: Vec<Scenario>,
     /// Capacitor banks in the order of the Capacitors sheet.
     pub banks: Vec<BankModel>,
+    /// Constant-power loads of the operating point (every load with P > 0).
+    pub power_loads: Vec<PowerLoad>,
+    /// EMF of each source (same order as `sources`), pu of its bus's nominal kV, angle 0.
+    pub source_emf_pu: Vec<f64>,
+}
+
+/// A load of the operating point: constant power drawn at its bus (input contract,
+/// version 2): P = kW × Quantity × Load factor, Q = P·tan(acos pf), lagging, per unit of
+/// [`BASE_MVA`].
+#[derive(Debug, Clone)]
+pub struct PowerLoad {
+    pub bus: usize,
+    pub s_pu: Complex64,
 }
 
 impl Network {
@@ -143,6 +156,18 @@ impl Network {
                 });
             }
         }
+        let mut power_loads = Vec::new();
+        for l in &plant.loads {
+            let bus = find(&l.bus, &l.id)?;
+            let p_pu = l.p_kw() / 1000.0 / BASE_MVA;
+            if p_pu > 0.0 {
+                let q_pu = p_pu * l.power_factor.acos().tan();
+                power_loads.push(PowerLoad {
+                    bus,
+                    s_pu: Complex64::new(p_pu, q_pu),
+                });
+            }
+        }
         let mut sources = Vec::new();
         for s in &plant.sources {
             let bus = find(&s.bus, &s.id)?;
@@ -183,6 +208,8 @@ impl Network {
             sources,
             scenarios,
             banks,
+            power_loads,
+            source_emf_pu: plant.sources.iter().map(|s| s.voltage_pu).collect(),
         };
         net.check_topology()?;
         Ok(net)
@@ -197,6 +224,44 @@ impl Network {
     /// Y(h) beyond its diagonal.
     pub fn edges(&self) -> Vec<(usize, usize)> {
         self.branches.iter().map(|b| (b.from, b.to)).collect()
+    }
+
+    /// Calls `add(i, j, y)` for every per-unit entry of the fundamental admittance matrix of
+    /// the operating point in `scenario`, without capacitor banks: branches, cable charging
+    /// and the source impedances at h = 1. Loads and motors are not in it: they draw
+    /// constant power ([`Network::power_loads`]).
+    pub fn stamp_load_flow(&self, scenario: usize, add: &mut dyn FnMut(usize, usize, Complex64)) {
+        let rm = self.resistance;
+        for br in &self.branches {
+            let y = br.z.at(1.0, rm).inv();
+            add(br.from, br.from, y);
+            add(br.to, br.to, y);
+            add(br.from, br.to, -y);
+        }
+        for sh in &self.shunts {
+            if matches!(sh.model, ShuntModel::Capacitance { .. }) {
+                add(sh.bus, sh.bus, sh.model.y_pu(1.0, rm));
+            }
+        }
+        if let Some(sc) = self.scenarios.get(scenario) {
+            for &i in &sc.sources {
+                let s = &self.sources[i];
+                add(s.bus, s.bus, s.model.y_pu(1.0, rm));
+            }
+        }
+    }
+
+    /// Norton current of every in-service source of `scenario` at its bus, per unit:
+    /// I_N = E·y_s(1) with E the source's `Voltage (pu)` at angle 0.
+    pub fn norton_currents(&self, scenario: usize) -> Vec<Complex64> {
+        let mut i = vec![Complex64::default(); self.buses.len()];
+        if let Some(sc) = self.scenarios.get(scenario) {
+            for &k in &sc.sources {
+                let s = &self.sources[k];
+                i[s.bus] += s.model.y_pu(1.0, self.resistance) * self.source_emf_pu[k];
+            }
+        }
+        i
     }
 
     /// Calls `add(i, j, y)` for every per-unit admittance entry of Y(h) without capacitor

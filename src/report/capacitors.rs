@@ -3,7 +3,7 @@
 
 use std::io::{self, Write};
 
-use super::summary::{MAX_ROWS_PER_SCENARIO, write_table};
+use super::table::{MAX_ROWS_PER_SCENARIO, write_table};
 use crate::check::CheckResults;
 use crate::study::duty::DutyRow;
 

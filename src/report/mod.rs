@@ -2,4 +2,6 @@
 
 pub mod capacitors;
 pub mod cautions;
+pub mod operating;
 pub mod summary;
+pub mod table;

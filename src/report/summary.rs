@@ -11,8 +11,7 @@ use crate::study::limits::{Checked, LimitRow};
 use crate::study::penetration::bank_amplification;
 use crate::study::{ResonanceRow, Verdict};
 
-/// Rows shown per scenario before the summary keeps only flagged rows.
-pub const MAX_ROWS_PER_SCENARIO: usize = 60;
+pub use super::table::{MAX_ROWS_PER_SCENARIO, write_table};
 
 fn fmt_opt(v: Option<f64>, digits: usize) -> String {
     v.filter(|x| x.is_finite())
@@ -54,42 +53,6 @@ const HEADERS: [&str; 14] = [
     "margin %",
     "verdict",
 ];
-
-/// Writes a table; columns in `left` are left-aligned, the rest right-aligned.
-pub(super) fn write_table(
-    out: &mut dyn Write,
-    headers: &[&str],
-    left: &[usize],
-    rows: &[Vec<String>],
-) -> io::Result<()> {
-    let mut widths: Vec<usize> = headers.iter().map(|h| h.len()).collect();
-    for r in rows {
-        for (w, c) in widths.iter_mut().zip(r) {
-            *w = (*w).max(c.chars().count());
-        }
-    }
-    let line = |cells: &[String]| {
-        cells
-            .iter()
-            .enumerate()
-            .map(|(i, c)| {
-                let w = widths[i];
-                if left.contains(&i) {
-                    format!("{c:<w$}")
-                } else {
-                    format!("{c:>w$}")
-                }
-            })
-            .collect::<Vec<_>>()
-            .join("  ")
-    };
-    let head: Vec<String> = headers.iter().map(|h| h.to_string()).collect();
-    writeln!(out, "  {}", line(&head).trim_end())?;
-    for r in rows {
-        writeln!(out, "  {}", line(r).trim_end())?;
-    }
-    Ok(())
-}
 
 /// Writes the whole summary.
 pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
@@ -190,6 +153,8 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
          parallel-resonance peak at the bank's bus nearest the hand check; ampl: |Z| / |Z| without \
          banks at that order; Q: peak sharpness h/bandwidth; margin: (scan h - near h)/near h."
     )?;
+    writeln!(out)?;
+    super::operating::write_operating(out, res)?;
     writeln!(out)?;
     write_limits(out, res)?;
     writeln!(out)?;

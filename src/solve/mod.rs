@@ -10,9 +10,13 @@
 //! networks with no fill and no run-time pattern work; see DEVELOPERS.md for the figures.
 
 mod engine;
+mod load_flow;
 mod sparse;
 mod transfer;
 
 pub use engine::{ComboPlan, Engine, PointSolution, Scratch, SolveError};
+pub use load_flow::{
+    LoadFlowFailure, LoadFlowScratch, LoadFlowSystem, MAX_ITERATIONS, MISMATCH_PU,
+};
 pub use sparse::{Factor, SingularPivot, Symbolic};
 pub use transfer::{HarmonicPoint, TransferScratch};

@@ -17,17 +17,17 @@ use num_complex::Complex64;
 /// The pattern analysis of a symmetric matrix, reusable for any values on that pattern.
 #[derive(Debug, Clone)]
 pub struct Symbolic {
-    n: usize,
+    pub(super) n: usize,
     /// `perm[k]` = original index eliminated at position k.
-    perm: Vec<usize>,
+    pub(super) perm: Vec<usize>,
     /// `pos[i]` = elimination position of original index i.
-    pos: Vec<usize>,
+    pub(super) pos: Vec<usize>,
     /// Column k of L holds rows `rows[col_ptr[k]..col_ptr[k+1]]` (positions, ascending).
-    col_ptr: Vec<usize>,
-    rows: Vec<usize>,
+    pub(super) col_ptr: Vec<usize>,
+    pub(super) rows: Vec<usize>,
     /// Update plan: for column k, one target slot per pair (p ≤ q) of its entries.
-    upd_ptr: Vec<usize>,
-    upd_target: Vec<usize>,
+    pub(super) upd_ptr: Vec<usize>,
+    pub(super) upd_target: Vec<usize>,
 }
 
 /// A pivot that vanished: the matrix is singular (or numerically so) at that index.

@@ -6,7 +6,9 @@
 //! At the capacitor, per phase: fundamental V_c1 = U_bus / (1 − p) (the rise a series
 //! reactor causes; p = 0 for a plain bank), I₁ = V_c1 / X_C; harmonic V_ch = I_h·X_C / h with
 //! I_h the bank's harmonic current. rms V = √(Σ V²), peak = √2·Σ V (the arithmetic sum of the
-//! harmonic peaks), rms I = √(Σ I²), kvar = 3·Σ V_h·I_h. The bus is taken at nominal voltage.
+//! harmonic peaks), rms I = √(Σ I²), kvar = 3·Σ V_h·I_h. U_bus is the bus voltage the
+//! operating point solved for that scenario and configuration (input contract, version 2),
+//! not the nominal one.
 
 use serde::Serialize;
 
@@ -53,12 +55,15 @@ pub struct DutyRow {
     pub configuration: String,
     pub bank: String,
     pub steps: u32,
+    /// The solved fundamental voltage at the bank's bus, pu of nominal.
+    pub bus_v_pu: f64,
     pub ratios: DutyRatios,
     pub limits: DutyLimits,
     pub exceeds: bool,
 }
 
-/// Per-phase duty of `n` energized steps of `bank` at a bus of `bus_kv`, with harmonic bank
+/// Per-phase duty of `n` energized steps of `bank` at a fundamental bus voltage of `bus_kv`
+/// (kV line-to-line: the solved voltage, or nominal for a hand check), with harmonic bank
 /// currents `harmonic_a` at `orders` and the detuning factor `p`.
 pub fn duty_ratios(
     bank: &CapacitorBank,
@@ -90,12 +95,14 @@ pub fn duty_ratios(
     }
 }
 
-/// The duty of every energized bank in `result`.
+/// The duty of every energized bank in `result`, with `bank_v_pu[b]` the solved voltage at
+/// bank b's bus (pu of nominal).
 #[allow(clippy::too_many_arguments)]
 pub fn duty_rows(
     result: &Distortion,
     banks: &[CapacitorBank],
     steps: &[u32],
+    bank_v_pu: &[f64],
     net: &Network,
     orders: &[f64],
     set: LimitSet,
@@ -109,11 +116,12 @@ pub fn duty_rows(
         .map(|(b, bank)| {
             let n = steps[b];
             let model = &net.banks[b];
+            let v_pu = bank_v_pu.get(b).copied().unwrap_or(1.0);
             let ratios = duty_ratios(
                 bank,
                 n,
                 model.p,
-                net.buses[model.bus].kv,
+                net.buses[model.bus].kv * v_pu,
                 orders,
                 &result.bank_current_a[b],
             );
@@ -123,6 +131,7 @@ pub fn duty_rows(
                 configuration: configuration.to_string(),
                 bank: bank.id.clone(),
                 steps: n,
+                bus_v_pu: v_pu,
                 ratios,
                 limits,
                 exceeds: ratios.exceeded(&limits).iter().any(|&e| e),

@@ -6,6 +6,7 @@ pub mod config;
 pub mod detune;
 pub mod duty;
 pub mod limits;
+pub mod operating;
 pub mod penetration;
 pub mod remedy;
 pub mod resonance;

@@ -353,6 +353,7 @@ impl PlantSpec {
                         ShortCircuit::Mva(v)
                     },
                     x_over_r: x.x_over_r.get(X_OVER_R),
+                    voltage_pu: 1.0,
                 }
             })
             .collect();

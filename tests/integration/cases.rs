@@ -20,6 +20,7 @@ fn source(id: &str, bus: &str, scenario: Option<&str>, mva: f64, x_over_r: f64) 
         scenario: scenario.map(Into::into),
         short_circuit: ShortCircuit::Mva(mva),
         x_over_r,
+        voltage_pu: 1.0,
     }
 }
 
@@ -126,6 +127,7 @@ pub fn bottling_plant() -> Plant {
             scenario: Some("max".into()),
             short_circuit: ShortCircuit::Mva(250.0),
             x_over_r: 15.0,
+            voltage_pu: 1.0,
         },
         Source {
             id: "UTIL-MIN".into(),
@@ -133,6 +135,7 @@ pub fn bottling_plant() -> Plant {
             scenario: Some("min".into()),
             short_circuit: ShortCircuit::Mva(90.0),
             x_over_r: 10.0,
+            voltage_pu: 1.0,
         },
     ];
     p.transformers = vec![

@@ -27,6 +27,7 @@ pub fn source(id: &str, bus: &str, mva: f64, x_over_r: f64) -> Source {
         scenario: None,
         short_circuit: ShortCircuit::Mva(mva),
         x_over_r,
+        voltage_pu: 1.0,
     }
 }
 

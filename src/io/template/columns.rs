@@ -112,6 +112,12 @@ pub(super) fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                     Positive,
                     8.0,
                 ),
+                col(
+                    "Voltage (pu)",
+                    "EMF behind the source impedance for the operating point (load flow), pu of the bus's nominal kV, angle 0; 0.5 to 1.5. Default 1.0.",
+                    Between(0.5, 1.5),
+                    12.0,
+                ),
             ],
         ),
         (
@@ -385,6 +391,21 @@ pub(super) fn study_items() -> Vec<(&'static str, &'static str, Check)> {
         (
             "Capacitance tolerance (%)",
             "Band such as -5/+10; the resonance band is reported across it. Default 0/+10.",
+            Text,
+        ),
+        (
+            "Target power factor",
+            "Power factor wanted at the PCC, lagging, 0.5 to 1. Default 0.95.",
+            Between(0.5, 1.0),
+        ),
+        (
+            "Step voltage change (%)",
+            "Largest acceptable bus voltage change when one capacitor step switches, %. Default 3 (common practice).",
+            Between(0.01, 100.0),
+        ),
+        (
+            "Voltage range (pu)",
+            "Acceptable steady-state bus voltage band low/high in pu, e.g. 0.95/1.05. Default 0.95/1.05.",
             Text,
         ),
     ]

@@ -92,6 +92,7 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                     mva,
                     ka,
                     N(s.x_over_r),
+                    N(s.voltage_pu),
                 ]
             })
             .collect(),
@@ -226,6 +227,12 @@ fn study_values(plant: &Plant) -> Vec<V> {
         }),
         N(s.resonance_margin_percent),
         T(format!("{}/+{}", tol.minus_percent, tol.plus_percent)),
+        N(s.target_power_factor),
+        N(s.step_voltage_change_percent),
+        T(format!(
+            "{}/{}",
+            s.voltage_range.low_pu, s.voltage_range.high_pu
+        )),
     ]
 }
 

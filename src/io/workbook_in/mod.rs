@@ -364,7 +364,7 @@ pub fn read_workbook_bytes_within(
     }
     let mut t_sources = table(2, sheets::SOURCES, &mut diag);
     if let Some(t) = &mut t_sources {
-        plant.sources = sheets::sources(t, &mut diag);
+        plant.sources = sheets::sources(t, &mut diag, &mut defaults);
         t.release_cells();
     }
     let mut t_tx = table(3, sheets::TRANSFORMERS, &mut diag);

@@ -25,6 +25,7 @@ pub const SOURCES: &[Column] = &[
     opt("Short-circuit MVA"),
     opt("Short-circuit kA"),
     req("X/R"),
+    opt("Voltage (pu)"),
 ];
 pub const TRANSFORMERS: &[Column] = &[
     req("Transformer"),
@@ -117,7 +118,7 @@ pub fn buses(t: &Table, d: &mut Diagnostics) -> Vec<Bus> {
         .collect()
 }
 
-pub fn sources(t: &Table, d: &mut Diagnostics) -> Vec<Source> {
+pub fn sources(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Source> {
     if !t.has("Short-circuit MVA") && !t.has("Short-circuit kA") {
         d.error(
             &t.sheet,
@@ -156,6 +157,12 @@ pub fn sources(t: &Table, d: &mut Diagnostics) -> Vec<Source> {
                 scenario: t.text(r, "Scenario", d),
                 short_circuit,
                 x_over_r: t.required_number(r, "X/R", "a positive number", d),
+                voltage_pu: t
+                    .number(r, "Voltage (pu)", "a voltage in pu between 0.5 and 1.5", d)
+                    .unwrap_or_else(|| {
+                        defaults.note("Sources", "Voltage (pu)", "1.0");
+                        DEFAULT_SOURCE_VOLTAGE_PU
+                    }),
             }
         })
         .collect()

@@ -5,7 +5,7 @@ use std::collections::HashMap;
 use calamine::Data;
 
 use super::table::{Column, Diagnostics, Table, a1, normalize, shown};
-use crate::model::{LimitSet, ResistanceModel, StudySettings, Summation, Tolerance};
+use crate::model::{LimitSet, ResistanceModel, StudySettings, Summation, Tolerance, VoltageRange};
 
 pub const COLUMNS: &[Column] = &[
     Column {
@@ -33,6 +33,9 @@ pub const ITEMS: &[&str] = &[
     "Summation",
     "Resonance margin (%)",
     "Capacitance tolerance (%)",
+    "Target power factor",
+    "Step voltage change (%)",
+    "Voltage range (pu)",
 ];
 
 /// Where each item's value was found: normalized item → cell.
@@ -46,6 +49,18 @@ pub fn tolerance(text: &str) -> Option<Tolerance> {
     (minus.is_finite() && plus.is_finite()).then_some(Tolerance {
         minus_percent: minus,
         plus_percent: plus,
+    })
+}
+
+/// Parses a voltage band such as `0.95/1.05` (per unit); the order is checked by
+/// validation.
+pub fn voltage_range(text: &str) -> Option<VoltageRange> {
+    let (a, b) = text.trim().split_once('/')?;
+    let low: f64 = a.trim().parse().ok()?;
+    let high: f64 = b.trim().parse().ok()?;
+    (low.is_finite() && high.is_finite()).then_some(VoltageRange {
+        low_pu: low,
+        high_pu: high,
     })
 }
 
@@ -143,6 +158,23 @@ pub fn read(t: &Table, file_stem: &str, d: &mut Diagnostics) -> (StudySettings, 
                 Some("arithmetic") => s.summation = Summation::Arithmetic,
                 Some("iec6100036") => s.summation = Summation::Iec61000_3_6,
                 Some(_) => bad(d, "arithmetic or IEC 61000-3-6"),
+            },
+            "targetpowerfactor" => {
+                if let Some(v) = number("a power factor between 0.5 and 1 (lagging)", d) {
+                    s.target_power_factor = v;
+                }
+            }
+            "stepvoltagechange" => {
+                if let Some(v) = number("a percentage", d) {
+                    s.step_voltage_change_percent = v;
+                }
+            }
+            "voltagerange" => match &value {
+                Data::Empty => {}
+                _ => match text().as_deref().and_then(voltage_range) {
+                    Some(r) => s.voltage_range = r,
+                    None => bad(d, "a band low/high in pu like 0.95/1.05"),
+                },
             },
             "capacitancetolerance" => match &value {
                 Data::Empty => {}
