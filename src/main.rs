@@ -12,7 +12,7 @@ use std::time::Instant;
 
 use indicatif::{ProgressBar, ProgressStyle};
 use overtone::check::{CheckOptions, run_check};
-use overtone::io::csv::{selection, write_scan_file, write_voltages_file};
+use overtone::io::csv::{selection, write_operating_file, write_scan_file, write_voltages_file};
 use overtone::io::output::check_output_path;
 use overtone::io::review::{Provenance, file_date, sha256_hex, write_review};
 use overtone::io::workbook_in::read_workbook;
@@ -53,6 +53,10 @@ struct Outputs {
     /// Also write the harmonic voltages at every bus as CSV (the input contract's columns).
     #[arg(long, value_name = "FILE")]
     voltages_csv: Option<PathBuf>,
+    /// Also write the operating point (bus voltage and angle of every scenario and
+    /// configuration) as CSV (the input contract's columns).
+    #[arg(long, value_name = "FILE")]
+    operating_csv: Option<PathBuf>,
     /// Print the JSON summary on stdout instead of the terminal table.
     #[arg(long)]
     json: bool,
@@ -206,7 +210,12 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
         }
         Command::Check { plant: path, out } => {
             check_outputs(
-                &[&out.output, &out.scan_csv, &out.voltages_csv],
+                &[
+                    &out.output,
+                    &out.scan_csv,
+                    &out.voltages_csv,
+                    &out.operating_csv,
+                ],
                 Some(&path),
             )?;
             let read = read_workbook(&path)?;
@@ -357,7 +366,15 @@ fn study(
     input: Option<&std::path::Path>,
     mut prov: Provenance,
 ) -> Result<ExitCode, Failure> {
-    check_outputs(&[&out.output, &out.scan_csv, &out.voltages_csv], input)?;
+    check_outputs(
+        &[
+            &out.output,
+            &out.scan_csv,
+            &out.voltages_csv,
+            &out.operating_csv,
+        ],
+        input,
+    )?;
     if let Some(d) = &out.date {
         prov.date = parse_date(d)?;
     }
@@ -376,6 +393,9 @@ fn study(
     }
     if let Some(path) = &out.voltages_csv {
         write_voltages_file(path, &res, &sel)?;
+    }
+    if let Some(path) = &out.operating_csv {
+        write_operating_file(path, &res, &sel)?;
     }
     if let Some(path) = &out.output {
         write_review(path, &res, &prov)?;

@@ -127,7 +127,7 @@ pub fn selection(
 #[derive(Debug, thiserror::Error)]
 pub enum CsvError {
     #[error(
-        "the scan CSV would have {0} rows, more than {MAX_SCAN_ROWS}: narrow it with --bus and --configuration"
+        "the CSV would have {0} rows, more than {MAX_SCAN_ROWS}: narrow it with --bus and --configuration"
     )]
     TooLarge(u64),
     #[error("{path}: {source}")]
@@ -216,4 +216,74 @@ pub fn write_voltages_file(
         source,
     };
     crate::io::output::write_file(path, |w| write_voltages_csv(w, res, sel)).map_err(io_err)
+}
+
+/// Writes `scenario,configuration,bus,v_pu,angle_deg` (input contract, version 2): the
+/// operating point's voltage at every bus (in sheet order; `--bus` narrows) of every
+/// scenario and configuration (`--configuration` narrows); a configuration without
+/// load-flow solution has no rows.
+pub fn write_operating_csv(
+    out: &mut dyn Write,
+    res: &CheckResults,
+    sel: &ScanSelection,
+) -> io::Result<()> {
+    let buses: Vec<usize> = if sel.buses.is_empty() {
+        (0..res.network.buses.len()).collect()
+    } else {
+        sel.buses.clone()
+    };
+    let configs: Vec<usize> = if sel.configurations.is_empty() {
+        (0..res.scan.configurations.len()).collect()
+    } else {
+        sel.configurations.clone()
+    };
+    writeln!(out, "scenario,configuration,bus,v_pu,angle_deg")?;
+    for (s, scenario) in res.scan.scenarios.iter().enumerate() {
+        for &c in &configs {
+            let label = res.label(c);
+            let Ok(v) = res.operating.voltages(s, &res.scan.configurations[c].steps) else {
+                continue;
+            };
+            for &b in &buses {
+                writeln!(
+                    out,
+                    "{},{},{},{:?},{:?}",
+                    field(scenario),
+                    field(&label),
+                    field(&res.network.buses[b].id),
+                    v[b].norm(),
+                    v[b].arg().to_degrees()
+                )?;
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Writes the operating-point CSV of `sel` to `path`, whole or not at all (refusing more
+/// than [`MAX_SCAN_ROWS`] rows).
+pub fn write_operating_file(
+    path: &std::path::Path,
+    res: &CheckResults,
+    sel: &ScanSelection,
+) -> Result<(), CsvError> {
+    let buses = if sel.buses.is_empty() {
+        res.network.buses.len()
+    } else {
+        sel.buses.len()
+    };
+    let configs = if sel.configurations.is_empty() {
+        res.scan.configurations.len()
+    } else {
+        sel.configurations.len()
+    };
+    let rows = (res.scan.scenarios.len() * configs * buses) as u64;
+    if rows > MAX_SCAN_ROWS {
+        return Err(CsvError::TooLarge(rows));
+    }
+    let io_err = |source| CsvError::Io {
+        path: path.display().to_string(),
+        source,
+    };
+    crate::io::output::write_file(path, |w| write_operating_csv(w, res, sel)).map_err(io_err)
 }

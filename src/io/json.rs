@@ -30,6 +30,20 @@ struct DistortionJson<'a> {
     bank_voltage_percent: &'a [Vec<f64>],
 }
 
+/// The operating point: per scenario and configuration `pcc_p_kw`, `pcc_q_kvar` (positive =
+/// drawn lagging) and `pcc_power_factor` (input contract, version 2), bus voltage extremes
+/// and verdicts; the worst voltage change per step; the kvar needed per bank.
+#[derive(Serialize)]
+struct OperatingJson<'a> {
+    target_power_factor: f64,
+    voltage_range_pu: [f64; 2],
+    step_voltage_change_limit_percent: f64,
+    points: &'a [crate::study::operating::OperatingPoint],
+    no_solution: Vec<String>,
+    step_changes: &'a [crate::study::operating::StepChange],
+    kvar_needed: &'a [crate::study::operating::KvarNeed],
+}
+
 /// Scenario × configuration × bus entries above which per-bus checks are left out of the
 /// JSON (the limit rows, with each configuration's worst bus, stay).
 pub const MAX_BUS_ENTRIES: usize = 200_000;
@@ -51,6 +65,7 @@ pub struct Summary<'a> {
     limits: &'a LimitContext,
     injected_orders: &'a [f64],
     spectra: &'a [SpectrumChoice],
+    operating: OperatingJson<'a>,
     distortion: Vec<DistortionJson<'a>>,
     duty: &'a [crate::study::duty::DutyRow],
     tolerance: &'a [crate::study::tolerance::ToleranceBand],
@@ -116,6 +131,20 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         limits: &res.limits,
         injected_orders: orders,
         spectra: &res.penetration.injections.spectra,
+        operating: OperatingJson {
+            target_power_factor: res.operating.target_power_factor,
+            voltage_range_pu: [res.operating.low_pu, res.operating.high_pu],
+            step_voltage_change_limit_percent: res.operating.step_limit_percent,
+            points: &res.operating.points,
+            no_solution: res
+                .operating
+                .collapsed
+                .iter()
+                .map(ToString::to_string)
+                .collect(),
+            step_changes: &res.operating.step_changes,
+            kvar_needed: &res.operating.needs,
+        },
         distortion,
         duty: &res.duty,
         tolerance: &res.tolerance,

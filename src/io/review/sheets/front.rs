@@ -295,6 +295,7 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             ],
         ));
     }
+    operating_rows(res, &mut out);
     out
 }
 
@@ -541,4 +542,96 @@ pub(super) fn input(
     ws.set_landscape();
     ws.set_print_fit_to_pages(1, 0);
     Ok(())
+}
+
+/// The operating point's verdict rows: the most leading (or lowest) PF at the PCC, the bus
+/// voltage farthest outside (or nearest) its range, the largest step voltage change per
+/// bank, and configurations without a load-flow solution.
+fn operating_rows(res: &CheckResults, out: &mut Vec<(f64, Vec<Cell>)>) {
+    let op = &res.operating;
+    if let Some(p) = op
+        .points
+        .iter()
+        .min_by(|a, b| a.pcc_q_kvar.total_cmp(&b.pcc_q_kvar))
+    {
+        let leading = p.pcc_q_kvar < 0.0;
+        out.push((
+            if leading { 3.0 } else { 0.0 },
+            vec![
+                t("Power factor at the PCC (most compensated)"),
+                t("PCC"),
+                t(&p.scenario),
+                t(&p.configuration),
+                on(p.pcc_power_factor, "0.000"),
+                n(op.target_power_factor, "0.00"),
+                t(if leading {
+                    "PF, leading"
+                } else {
+                    "PF, lagging"
+                }),
+                t(if leading { "LEADING" } else { "meets" }),
+            ],
+        ));
+    }
+    let excess = |p: &crate::study::operating::OperatingPoint| {
+        (p.max_v_pu - op.high_pu).max(op.low_pu - p.min_v_pu)
+    };
+    if let Some(p) = op
+        .points
+        .iter()
+        .max_by(|a, b| excess(a).total_cmp(&excess(b)))
+    {
+        let high = p.max_v_pu - op.high_pu >= op.low_pu - p.min_v_pu;
+        let bad = p.buses_out_of_range > 0;
+        out.push((
+            if bad { 3.0 } else { 0.0 } + excess(p).max(-1.0),
+            vec![
+                t("Bus voltage (farthest toward a limit)"),
+                t(if high { &p.max_v_bus } else { &p.min_v_bus }),
+                t(&p.scenario),
+                t(&p.configuration),
+                n(if high { p.max_v_pu } else { p.min_v_pu }, "0.0000"),
+                n(if high { op.high_pu } else { op.low_pu }, "0.00"),
+                t("pu"),
+                t(if bad { "OUT OF RANGE" } else { "meets" }),
+            ],
+        ));
+    }
+    for bank in &res.plant.banks {
+        if let Some(s) = op
+            .step_changes
+            .iter()
+            .filter(|s| s.bank == bank.id)
+            .max_by(|a, b| a.change_percent.abs().total_cmp(&b.change_percent.abs()))
+        {
+            out.push((
+                if s.exceeds { 3.0 } else { 0.0 } + s.change_percent.abs() / s.limit_percent,
+                vec![
+                    t("Step voltage change"),
+                    t(&bank.id),
+                    t(&s.scenario),
+                    t(&s.configuration),
+                    n(s.change_percent, "0.00"),
+                    n(s.limit_percent, "0.0"),
+                    t(format!("% at {} (step {})", s.bus, s.step)),
+                    t(if s.exceeds { "EXCEEDS" } else { "meets" }),
+                ],
+            ));
+        }
+    }
+    if let Some(e) = op.collapsed.first() {
+        out.push((
+            4.0,
+            vec![
+                t("Load flow"),
+                t("network"),
+                t(&e.scenario),
+                t(&e.configuration),
+                n(op.collapsed.len() as f64, "0"),
+                Cell::Blank,
+                t("configurations without solution (voltage collapse)"),
+                t("NO SOLUTION"),
+            ],
+        ));
+    }
 }

@@ -1,6 +1,7 @@
 //! The sheets of the review workbook.
 
 mod front;
+mod operating;
 mod results;
 
 use rust_xlsxwriter::{
@@ -12,8 +13,15 @@ use crate::check::CheckResults;
 use crate::model::{LimitSet, ResistanceModel, Summation};
 use crate::report::cautions::CAUTIONS;
 
-const BAD: [&str; 3] = ["RESONANT", "EXCEEDS", "fails"];
-const GOOD: [&str; 3] = ["clear", "meets", "passes"];
+const BAD: [&str; 6] = [
+    "RESONANT",
+    "EXCEEDS",
+    "fails",
+    "LEADING",
+    "OUT OF RANGE",
+    "NO SOLUTION",
+];
+const GOOD: [&str; 4] = ["clear", "meets", "passes", "reaches"];
 
 /// Colours every verdict cell of `col` in rows `first..=last`: flagged red, within green
 /// (our palette).
@@ -32,7 +40,7 @@ pub(super) fn verdict_colours(
     let green = Format::new()
         .set_background_color("#D5EAD8")
         .set_font_color("#1E5631");
-    for (words, f) in [(&BAD, &red), (&GOOD, &green)] {
+    for (words, f) in [(&BAD[..], &red), (&GOOD[..], &green)] {
         for w in words.iter() {
             let cf = ConditionalFormatText::new()
                 .set_rule(ConditionalFormatTextRule::Contains((*w).to_string()))
@@ -60,6 +68,7 @@ pub fn write_all(
 ) -> Result<(), XlsxError> {
     front::summary(wb.add_worksheet().set_name("Summary")?, res, prov)?;
     front::input(wb.add_worksheet().set_name("Input")?, res, prov)?;
+    operating::operating(wb.add_worksheet().set_name("Operating point")?, res)?;
     results::resonance(wb.add_worksheet().set_name("Resonance")?, res)?;
     let charts = results::scan(wb.add_worksheet().set_name("Scan")?, res)?;
     results::distortion(wb.add_worksheet().set_name("Distortion")?, res)?;
@@ -104,7 +113,8 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
         "Capacitor steps: X_C = kV_rated²/Mvar per step; detuned: X_L = p·X_C, R = X_L/Q; tuned: p = 1/order².".into(),
         format!("Harmonic loads inject I_h = I₁·m_h/100, I₁ = P/(√3·kV·pf); contributions combine by magnitude ({}); spectrum angles are not used.", match p.summation { Summation::Arithmetic => "arithmetic summation, an upper bound", Summation::Iec61000_3_6 => "IEC 61000-3-6 summation exponents" }),
         format!("Limits: {}; interharmonics and orders outside the stored tables have no individual limit (they count in THD/TDD). The PCC current is the current into the scenario's supply equivalents.", limit_set_name(p.limits)),
-        format!("Capacitance tolerance {}/+{} % applied to the resonance band; capacitor duty at nominal capacitance and nominal bus voltage.", p.capacitance_tolerance.minus_percent, p.capacitance_tolerance.plus_percent),
+        format!("Capacitance tolerance {}/+{} % applied to the resonance band; capacitor duty at nominal capacitance and at the bus voltage the load flow solved for each scenario and configuration (nominal where it has no solution).", p.capacitance_tolerance.minus_percent, p.capacitance_tolerance.plus_percent),
+        format!("Operating point: fundamental load flow by Newton's method to 1e-9 pu mismatch; sources as EMFs of Voltage (pu) at angle 0 behind their impedance; loads (linear, motor, converter) at constant power P = kW·Quantity·Load factor, Q = P·tan(acos pf) lagging; capacitor steps, reactors and cable charging as admittances at h = 1; transformers at the ratio of their buses' kV (no taps); target PF {} lagging, voltage range {}/{} pu, step voltage change {} %.", p.target_power_factor, p.voltage_range.low_pu, p.voltage_range.high_pu, p.step_voltage_change_percent),
         "Hand check h = √(S_sc/Q_c) with S_sc from the fundamental Thevenin impedance at the bank's bus without banks (loads and motors included); with a series reactor √(X_C/(|Z_th| + X_L)).".into(),
         "Switching: IEEE C37.012 formulas (from memory), undamped peaks, closing at the voltage peak, no trapped charge; plain banks use the Inrush inductance per step (default 10 µH, common practice).".into(),
         "Remedies: each option sized to keep the planned kvar at bus voltage, the next standard capacitor rating at or above U/(1−p); studies re-run over at most 50 flagged configurations per bank; linearity current 1.8 × I₁ (common practice).".into(),
