@@ -1,5 +1,6 @@
 //! The integration tests, one binary. Where new tests go:
-//! - `reference_resonance`: checks against published or textbook values (source named beside each);
+//! - `reference_resonance`, `reference_operating` (load flow), `reference_capacitors`,
+//!   `reference_limits`: checks against published or textbook values (source named beside each);
 //! - `solver`: sparse factorization and step-combination engine against independent dense algebra;
 //! - `model`: validation of plants and topology errors;
 //! - `scan`: grid, configurations, peak finding;
@@ -23,6 +24,7 @@ mod properties;
 mod reader;
 mod reference_capacitors;
 mod reference_limits;
+mod reference_operating;
 mod reference_resonance;
 mod review;
 mod scan;

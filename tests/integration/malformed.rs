@@ -530,3 +530,37 @@ fn files_that_are_not_workbooks() {
         .to_string();
     assert_eq!(missing, "/nonexistent/plant.xlsx: the file does not exist");
 }
+
+#[test]
+fn operating_point_settings_out_of_range() {
+    // Input contract, version 2: Voltage (pu) 0.5..1.5, target PF 0.5..1, a voltage range
+    // low/high with low < high; each located at its cell.
+    for (book, expected) in [
+        (
+            Book::base()
+                .set("Sources", "G1", s("Voltage (pu)"))
+                .set("Sources", "G2", C::N(1.7)),
+            "Sources!G2: \"Voltage (pu)\" must be between 0.5 and 1.5 pu, found 1.7",
+        ),
+        (
+            Book::base()
+                .set("Study", "A7", s("Target power factor"))
+                .set("Study", "B7", C::N(0.4)),
+            "Study!B7: \"Target power factor\" must be a power factor between 0.5 and 1 (lagging), found 0.4",
+        ),
+        (
+            Book::base()
+                .set("Study", "A7", s("Voltage range (pu)"))
+                .set("Study", "B7", s("1.05/0.95")),
+            "Study!B7: \"Voltage range\" must be a band low/high in pu like 0.95/1.05 with 0 < low < high <= 2, found 1.05/0.95",
+        ),
+        (
+            Book::base()
+                .set("Study", "A7", s("Voltage range (pu)"))
+                .set("Study", "B7", s("low")),
+            "Study!B7: \"Voltage range (pu)\" must be a band low/high in pu like 0.95/1.05, found \"low\"",
+        ),
+    ] {
+        expect_one(book, expected);
+    }
+}
