@@ -59,6 +59,9 @@ pub fn generated_plant(n: usize, extra_links: usize, banks: usize, steps: u32, s
     let mut mv = vec![0usize];
     let mut lv = Vec::new();
     let mut i = 1;
+    // Loads sized so that the whole plant draws about 15 MW whatever its size (a
+    // realistic load for the 300 MVA service, so the operating point has a solution).
+    let scale = (300.0 / n.max(1) as f64).min(1.0);
     while p.buses.len() < n {
         let id = format!("B{i}");
         if i % 4 == 0 {
@@ -89,14 +92,14 @@ pub fn generated_plant(n: usize, extra_links: usize, banks: usize, steps: u32, s
             &format!("L{i}"),
             &id,
             LoadType::Linear,
-            50.0 + 200.0 * rng.next_f64(),
+            (10.0 + 40.0 * rng.next_f64()) * scale,
         ));
         if i % 3 == 0 {
             p.loads.push(load(
                 &format!("M{i}"),
                 &id,
                 LoadType::Motor,
-                100.0 + 300.0 * rng.next_f64(),
+                (20.0 + 60.0 * rng.next_f64()) * scale,
             ));
         }
         i += 1;

@@ -1,7 +1,7 @@
 //! The whole `overtone check` study (no CSV) of a generated 300-bus plant with 4 banks of 6
 //! steps (2,401 configurations) × 2 supply scenarios × 4,901 scan points, peaks and dips at
 //! every bank bus and the PCC, and harmonic penetration (16 orders, drives on 10 buses) with
-//! the limit checks at every bus. Prints the process's peak resident memory afterwards.
+//! the limit checks at every bus, and the operating point alone. Prints the process's peak resident memory afterwards.
 //! Run: `cargo bench --bench check`.
 
 use overtone::check::run_check;
@@ -57,5 +57,19 @@ fn exhaustive_300_buses_2401_configurations(bencher: divan::Bencher) {
         assert_eq!(res.penetration.injections.buses.len(), 10);
         assert_eq!(res.limit_rows.len(), 2 * 2401);
         res.resonance.rows.len()
+    });
+}
+
+/// The operating point alone on the same plant: 2 scenarios × 2,401 configurations of
+/// Newton load flows (warm-started), the step changes and the kvar needed per bank.
+#[divan::bench(sample_count = 5, sample_size = 1)]
+fn operating_point_300_buses_2401_configurations(bencher: divan::Bencher) {
+    let plant = bench_plant();
+    let net = overtone::network::Network::build(&plant).expect("network");
+    let configs = overtone::study::all_configurations(&plant.banks);
+    bencher.bench_local(|| {
+        let op = overtone::study::operating::OperatingStudy::run(&plant, &net, &configs);
+        assert_eq!(op.points.len(), 2 * 2401);
+        op.points.len()
     });
 }

@@ -105,6 +105,9 @@ pub fn bottling_plant() -> Plant {
     p.study.pcc_bus = Some("MAIN".into());
     p.study.max_demand_current_a = Some(110.0);
     p.study.scan_step_order = 0.01;
+    // The utility's contract asks for 0.95 lagging; its voltage sits slightly high at
+    // maximum fault level and slightly low at minimum.
+    p.study.target_power_factor = 0.95;
     p.buses = vec![
         bus("MAIN", 13.8, "13.8 kV main switchgear (PCC)"),
         bus("T1-HV", 13.8, "unit substation 1, primary"),
@@ -127,7 +130,7 @@ pub fn bottling_plant() -> Plant {
             scenario: Some("max".into()),
             short_circuit: ShortCircuit::Mva(250.0),
             x_over_r: 15.0,
-            voltage_pu: 1.0,
+            voltage_pu: 1.02,
         },
         Source {
             id: "UTIL-MIN".into(),
@@ -135,7 +138,7 @@ pub fn bottling_plant() -> Plant {
             scenario: Some("min".into()),
             short_circuit: ShortCircuit::Mva(90.0),
             x_over_r: 10.0,
-            voltage_pu: 1.0,
+            voltage_pu: 0.99,
         },
     ];
     p.transformers = vec![
@@ -253,6 +256,7 @@ pub fn food_plant() -> Plant {
     p.study.prepared_by = "overtone example".into();
     p.study.pcc_bus = Some("SVC".into());
     p.study.max_demand_current_a = Some(60.0);
+    p.study.target_power_factor = 0.95;
     p.buses = vec![
         bus("SVC", 12.47, "12.47 kV utility service (PCC)"),
         bus("MCC-1", 0.48, "480 V main switchboard and MCC"),
@@ -304,6 +308,8 @@ pub fn water_plant() -> Plant {
     p.study.plant = "Invented water-treatment plant (example case)".into();
     p.study.prepared_by = "overtone example".into();
     p.study.pcc_bus = Some("MAIN".into());
+    // A water utility's tariff asks for 0.97.
+    p.study.target_power_factor = 0.97;
     p.study.capacitance_tolerance = Tolerance {
         minus_percent: -5.0,
         plus_percent: 10.0,
@@ -316,8 +322,14 @@ pub fn water_plant() -> Plant {
         bus("BLOWERS", 0.48, "480 V aeration blower MCC"),
     ];
     p.sources = vec![
-        source("UTIL-MAX", "MAIN", Some("max"), 350.0, 14.0),
-        source("UTIL-MIN", "MAIN", Some("min"), 120.0, 9.0),
+        Source {
+            voltage_pu: 1.03,
+            ..source("UTIL-MAX", "MAIN", Some("max"), 350.0, 14.0)
+        },
+        Source {
+            voltage_pu: 0.98,
+            ..source("UTIL-MIN", "MAIN", Some("min"), 120.0, 9.0)
+        },
     ];
     p.transformers = vec![
         tx("T1", "MAIN", "MV", 5000.0, 6.0, 12.0),
@@ -385,6 +397,11 @@ pub fn large_site() -> Plant {
     p.study.pcc_bus = Some("SVC-34".into());
     p.study.max_demand_current_a = Some(300.0);
     p.study.scan_step_order = 0.02;
+    p.study.target_power_factor = 0.95;
+    p.study.voltage_range = VoltageRange {
+        low_pu: 0.95,
+        high_pu: 1.05,
+    };
     p.buses = vec![
         bus("SVC-34", 34.5, "34.5 kV utility service (PCC)"),
         bus("DIST-13", 13.8, "13.8 kV distribution switchgear"),

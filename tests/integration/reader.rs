@@ -92,11 +92,26 @@ fn contract_example_plant_13_matches_circuit_simulator() {
 
 #[test]
 fn ods_copy_reads_the_same_as_xlsx() {
-    // tests/data/water-plant.ods: cases/water-plant.xlsx saved as .ods by a spreadsheet program.
+    // tests/data/water-plant.ods: cases/water-plant.xlsx of contract version 1 saved as .ods
+    // by a spreadsheet program. It reads as the current case with the version 2 items at
+    // their defaults (input contract: a version 1 workbook reads unchanged).
     let xlsx = read_workbook(&Path::new(env!("CARGO_MANIFEST_DIR")).join("cases/water-plant.xlsx"))
         .unwrap();
     let ods = read_workbook(&data("water-plant.ods")).unwrap();
-    assert_eq!(ods.plant, xlsx.plant);
+    let mut expected = xlsx.plant.clone();
+    for s in &mut expected.sources {
+        s.voltage_pu = overtone::model::DEFAULT_SOURCE_VOLTAGE_PU;
+    }
+    expected.study.target_power_factor = overtone::model::DEFAULT_TARGET_POWER_FACTOR;
+    assert_eq!(ods.plant, expected);
+    assert!(
+        ods.warnings
+            .iter()
+            .any(|w| w.to_string()
+                == "Sources: \"Voltage (pu)\" blank in 2 row(s): default 1.0 applied"),
+        "{:?}",
+        ods.warnings
+    );
 }
 
 fn headers(bytes: &[u8]) -> Vec<(String, Vec<String>)> {
