@@ -54,6 +54,7 @@ fn sheets_headers_numbers_and_formulas_read_back() {
         "Duty",
         "Remedies",
         "Switching",
+        "Operating point",
         "Assumptions",
         "Cautions",
     ] {
@@ -288,6 +289,14 @@ fn live_formulas_recalculated_by_libreoffice_match() {
             (margin - expected).abs() <= 1e-9 * expected.abs().max(1.0),
             "{margin} vs {expected}"
         );
+    }
+    // Operating point: PF = P/√(P² + Q²) of the visible cells (textbook definition).
+    let op = std::fs::read_to_string(dir.join("stripped-Operating point.csv")).unwrap();
+    for (line, p) in op.lines().skip(1).zip(&res.operating.points) {
+        let f: Vec<&str> = line.split(',').collect();
+        let pf: f64 = f[4].parse().unwrap();
+        let expected = p.pcc_power_factor.unwrap();
+        assert!((pf - expected).abs() <= 1e-9, "{pf} vs {expected}");
     }
     std::fs::remove_dir_all(&dir).ok();
 }
