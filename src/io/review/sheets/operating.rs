@@ -12,6 +12,10 @@ use crate::check::CheckResults;
 pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
     let op = &res.operating;
     let bold = Format::new().set_bold();
+    let head = Format::new()
+        .set_bold()
+        .set_text_wrap()
+        .set_background_color("#DCE6F0");
     header(
         ws,
         0,
@@ -103,8 +107,9 @@ pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
         "Rated kvar needed",
         "Installed kvar",
     ];
+    ws.set_row_height(r, 48)?;
     for (c, h) in heads.iter().enumerate() {
-        ws.write_string_with_format(r, c as u16, *h, &bold)?;
+        ws.write_string_with_format(r, c as u16, *h, &head)?;
     }
     for need in &op.needs {
         r += 1;
@@ -158,8 +163,9 @@ pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
         "Limit (%)",
         "Verdict",
     ];
+    ws.set_row_height(r, 48)?;
     for (c, h) in heads.iter().enumerate() {
-        ws.write_string_with_format(r, c as u16, *h, &bold)?;
+        ws.write_string_with_format(r, c as u16, *h, &head)?;
     }
     let first = r + 1;
     for s in &op.step_changes {
