@@ -155,6 +155,22 @@ pub fn write_scan_file(
     crate::io::output::write_file(path, |w| write_scan_csv(w, res, sel)).map_err(io_err)
 }
 
+/// The selection of the per-bus CSVs: every bus (sheet order) and every configuration
+/// unless `--bus` / `--configuration` narrow them.
+fn every_bus(res: &CheckResults, sel: &ScanSelection) -> (Vec<usize>, Vec<usize>) {
+    let or_all = |v: &[usize], n: usize| {
+        if v.is_empty() {
+            (0..n).collect()
+        } else {
+            v.to_vec()
+        }
+    };
+    (
+        or_all(&sel.buses, res.network.buses.len()),
+        or_all(&sel.configurations, res.scan.configurations.len()),
+    )
+}
+
 /// Writes `scenario,configuration,bus,order,v_percent,v_volts`: one row per bus (every bus
 /// by default, in sheet order) and injected order; `v_volts` is line-to-neutral.
 pub fn write_voltages_csv(
@@ -162,16 +178,7 @@ pub fn write_voltages_csv(
     res: &CheckResults,
     sel: &ScanSelection,
 ) -> io::Result<()> {
-    let buses: Vec<usize> = if sel.buses.is_empty() {
-        (0..res.network.buses.len()).collect()
-    } else {
-        sel.buses.clone()
-    };
-    let configs: Vec<usize> = if sel.configurations.is_empty() {
-        (0..res.scan.configurations.len()).collect()
-    } else {
-        sel.configurations.clone()
-    };
+    let (buses, configs) = every_bus(res, sel);
     let orders = &res.penetration.injections.orders;
     writeln!(out, "scenario,configuration,bus,order,v_percent,v_volts")?;
     for (s, scenario) in res.scan.scenarios.iter().enumerate() {
@@ -227,16 +234,7 @@ pub fn write_operating_csv(
     res: &CheckResults,
     sel: &ScanSelection,
 ) -> io::Result<()> {
-    let buses: Vec<usize> = if sel.buses.is_empty() {
-        (0..res.network.buses.len()).collect()
-    } else {
-        sel.buses.clone()
-    };
-    let configs: Vec<usize> = if sel.configurations.is_empty() {
-        (0..res.scan.configurations.len()).collect()
-    } else {
-        sel.configurations.clone()
-    };
+    let (buses, configs) = every_bus(res, sel);
     writeln!(out, "scenario,configuration,bus,v_pu,angle_deg")?;
     for (s, scenario) in res.scan.scenarios.iter().enumerate() {
         for &c in &configs {
@@ -267,17 +265,8 @@ pub fn write_operating_file(
     res: &CheckResults,
     sel: &ScanSelection,
 ) -> Result<(), CsvError> {
-    let buses = if sel.buses.is_empty() {
-        res.network.buses.len()
-    } else {
-        sel.buses.len()
-    };
-    let configs = if sel.configurations.is_empty() {
-        res.scan.configurations.len()
-    } else {
-        sel.configurations.len()
-    };
-    let rows = (res.scan.scenarios.len() * configs * buses) as u64;
+    let (buses, configs) = every_bus(res, sel);
+    let rows = (res.scan.scenarios.len() * configs.len() * buses.len()) as u64;
     if rows > MAX_SCAN_ROWS {
         return Err(CsvError::TooLarge(rows));
     }
