@@ -360,3 +360,54 @@ fn size_at_the_edges_prints_no_non_finite_number() {
         assert!(err.contains(expected), "{err}");
     }
 }
+
+#[test]
+fn a_plant_built_from_the_template_gives_its_operating_point() {
+    // As a new user would: the template's columns filled with a 13.8 kV service, a 2,000 kVA
+    // transformer, 4 × 200 kW 6-pulse drives and a 6 × 100 kvar bank (invented), written
+    // by the project's own writer, then `check` with the operating CSV.
+    use crate::common::{bank, bus, load, source, transformer};
+    use overtone::model::*;
+    let mut p = Plant::new(60.0);
+    p.study.pcc_bus = Some("HV".into());
+    p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
+    p.sources = vec![source("U", "HV", 250.0, 10.0)];
+    p.transformers = vec![transformer("T", "HV", "LV", 2000.0, 5.75, 8.0)];
+    let mut drives = load("VFD", "LV", LoadType::SixPulseDrive, 200.0, 0.95);
+    drives.quantity = 4.0;
+    p.loads = vec![drives, load("M", "LV", LoadType::Motor, 400.0, 0.85)];
+    p.banks = vec![bank("C1", "LV", 0.48, 100.0, 6, Reactor::None)];
+    let dir = temp_dir("template-plant");
+    let input = dir.join("plant.xlsx");
+    std::fs::write(&input, overtone::io::template::plant_workbook(&p).unwrap()).unwrap();
+    let csv = dir.join("op.csv");
+    let out = overtone(&[
+        "check",
+        input.to_str().unwrap(),
+        "--operating-csv",
+        csv.to_str().unwrap(),
+        "--configuration",
+        "C1=3",
+        "--strict",
+        "--quiet",
+    ]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        text.contains("Operating point (fundamental load flow"),
+        "{text}"
+    );
+    assert!(text.contains("Reactive power the load needs"), "{text}");
+    // 600 kvar on 1.2 MW at pf ≈ 0.92 is more than the load needs: some steps lead.
+    assert!(text.contains("LEADING"), "{text}");
+    assert_eq!(
+        out.status.code(),
+        Some(1),
+        "--strict with a LEADING configuration"
+    );
+    let rows = std::fs::read_to_string(&csv).unwrap();
+    let lines: Vec<&str> = rows.lines().collect();
+    assert_eq!(lines[0], "scenario,configuration,bus,v_pu,angle_deg");
+    assert_eq!(lines.len(), 1 + 2, "two buses of configuration C1=3");
+    assert!(lines[1].starts_with("base,C1=3,HV,"), "{}", lines[1]);
+    std::fs::remove_dir_all(&dir).ok();
+}
