@@ -7,17 +7,13 @@ use super::table::{MAX_ROWS_PER_SCENARIO, write_table};
 use crate::check::CheckResults;
 use crate::study::operating::{OperatingPoint, PfVerdict};
 
-/// `0.948 leading`, `0.999 lagging` or `-` without load.
+/// `0.948 lead`, `0.999 lag` or `-` without load.
 pub fn pf_text(p: &OperatingPoint) -> String {
     match p.pcc_power_factor {
         None => "-".to_string(),
         Some(pf) => format!(
             "{pf:.3} {}",
-            if p.pcc_q_kvar < 0.0 {
-                "leading"
-            } else {
-                "lagging"
-            }
+            if p.pcc_q_kvar < 0.0 { "lead" } else { "lag" }
         ),
     }
 }
@@ -28,8 +24,8 @@ const HEADERS: [&str; 8] = [
     "Q kvar",
     "PF",
     "PCC V pu",
-    "min V pu (bus)",
-    "max V pu (bus)",
+    "min V pu, bus",
+    "max V pu, bus",
     "verdict",
 ];
 
@@ -40,10 +36,36 @@ fn cells(p: &OperatingPoint) -> Vec<String> {
         format!("{:.0}", p.pcc_q_kvar),
         pf_text(p),
         format!("{:.4}", p.pcc_v_pu),
-        format!("{:.4} ({})", p.min_v_pu, p.min_v_bus),
-        format!("{:.4} ({})", p.max_v_pu, p.max_v_bus),
+        format!("{:.4} {}", p.min_v_pu, p.min_v_bus),
+        format!("{:.4} {}", p.max_v_pu, p.max_v_bus),
         p.verdict(),
     ]
+}
+
+/// Names shown in a list line before "...".
+const LIST_NAMES: usize = 8;
+
+/// Writes `head` and up to [`LIST_NAMES`] names, wrapped to 100 columns.
+fn write_list(out: &mut dyn Write, head: &str, names: &[&str]) -> io::Result<()> {
+    let mut line = format!("  {head}");
+    let shown = names.len().min(LIST_NAMES);
+    for (i, name) in names[..shown].iter().enumerate() {
+        let more = i + 1 < shown || names.len() > shown;
+        let item = format!(" {name}{}", if more { "," } else { "" });
+        if line.len() + item.len() > 100 {
+            writeln!(out, "{line}")?;
+            line = "   ".to_string();
+        }
+        line.push_str(&item);
+    }
+    if names.len() > shown {
+        line.push_str(if line.len() + 4 > 100 {
+            "\n    ..."
+        } else {
+            " ..."
+        });
+    }
+    writeln!(out, "{line}")
 }
 
 /// Writes the operating-point section.
@@ -51,7 +73,7 @@ pub fn write_operating(out: &mut dyn Write, res: &CheckResults) -> io::Result<()
     let op = &res.operating;
     writeln!(
         out,
-        "Operating point (fundamental load flow, loads at constant power): target PF {} lagging at the PCC, bus voltage {}-{} pu",
+        "Operating point (fundamental load flow, loads at constant power)\n  target PF {} lagging at the PCC; bus voltage {}-{} pu",
         op.target_power_factor, op.low_pu, op.high_pu
     )?;
     for scenario in &res.scan.scenarios {
@@ -78,7 +100,7 @@ pub fn write_operating(out: &mut dyn Write, res: &CheckResults) -> io::Result<()
         writeln!(out)?;
         writeln!(
             out,
-            "Scenario {scenario}: {} of {} configuration(s) reach the target without leading, {leading} LEADING, {out_of_range} with a bus OUT OF RANGE",
+            "Scenario {scenario}: {} of {} configurations reach the target, not leading; {leading} LEADING; {out_of_range} OUT OF RANGE",
             reach.len(),
             studied
         )?;
@@ -93,7 +115,7 @@ pub fn write_operating(out: &mut dyn Write, res: &CheckResults) -> io::Result<()
             f.truncate(MAX_ROWS_PER_SCENARIO);
             writeln!(
                 out,
-                "  (showing the {} flagged configurations, most leading first; --json and --operating-csv have all)",
+                "  (showing the {} flagged configurations, most leading first; --json has all)",
                 f.len()
             )?;
             f
@@ -111,33 +133,22 @@ pub fn write_operating(out: &mut dyn Write, res: &CheckResults) -> io::Result<()
             .map(|e| e.configuration.as_str())
             .collect();
         if !collapsed.is_empty() {
-            writeln!(
-                out,
-                "  NO SOLUTION (voltage collapse: the load flow does not converge) in {} configuration(s): {}{}",
-                collapsed.len(),
-                collapsed[..collapsed.len().min(8)].join(", "),
-                if collapsed.len() > 8 { ", ..." } else { "" }
-            )?;
+            let head = format!(
+                "NO SOLUTION (voltage collapse: the load flow does not converge) in {} configuration(s):",
+                collapsed.len()
+            );
+            write_list(out, &head, &collapsed)?;
         }
         if !reach.is_empty() {
-            let names: Vec<&str> = reach
-                .iter()
-                .take(8)
-                .map(|p| p.configuration.as_str())
-                .collect();
-            writeln!(
-                out,
-                "  reach the target without leading: {}{}",
-                names.join(", "),
-                if reach.len() > 8 { ", ..." } else { "" }
-            )?;
+            let names: Vec<&str> = reach.iter().map(|p| p.configuration.as_str()).collect();
+            write_list(out, "reach the target without leading:", &names)?;
         }
     }
     if !op.needs.is_empty() {
         writeln!(out)?;
         writeln!(
             out,
-            "Reactive power the load needs at the study point to reach PF {} lagging at the PCC (each bank alone, others off)",
+            "kvar the load needs to reach PF {} lagging at the PCC (each bank alone, others off)",
             op.target_power_factor
         )?;
         let table: Vec<Vec<String>> = op
@@ -172,23 +183,23 @@ pub fn write_operating(out: &mut dyn Write, res: &CheckResults) -> io::Result<()
                 "PF no banks",
                 "hand kvar",
                 "steps needed",
-                "rated kvar needed",
+                "kvar needed",
                 "installed",
-                "installed/needed",
+                "ratio",
             ],
             &[0, 1],
             &table,
         )?;
         writeln!(
             out,
-            "hand kvar: P(tan phi0 - tan phi_target) at the PCC without banks; steps and kvar needed: the load flow with that bank's steps varied continuously."
+            "hand kvar: P(tan phi0 - tan phi_target) at the PCC without banks; steps and kvar needed (rated):\nthe load flow with that bank's steps varied continuously; ratio: installed / needed."
         )?;
     }
     if !op.step_changes.is_empty() {
         writeln!(out)?;
         writeln!(
             out,
-            "Voltage change at the bank's bus when one step switches in (worst over scenarios and configurations), limit {} %",
+            "Voltage change at the bank's bus when one step switches in (worst case), limit {} %",
             op.step_limit_percent
         )?;
         let table: Vec<Vec<String>> = op
