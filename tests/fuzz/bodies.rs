@@ -78,6 +78,9 @@ pub fn audit_reports(res: &CheckResults) {
     let mut csv = Vec::new();
     write_voltages_csv(&mut csv, res, &sel).expect("voltage CSV to memory");
     assert_no_nonfinite_text("voltage CSV", &String::from_utf8_lossy(&csv));
+    let mut csv = Vec::new();
+    overtone::io::csv::write_operating_csv(&mut csv, res, &sel).expect("operating CSV to memory");
+    assert_no_nonfinite_text("operating CSV", &String::from_utf8_lossy(&csv));
 
     let prov = Provenance {
         input: "fuzz".into(),
