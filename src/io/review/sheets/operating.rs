@@ -9,13 +9,23 @@ use super::super::writer::{Cell, header, n, on, row, t};
 use super::verdict_colours;
 use crate::check::CheckResults;
 
-pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
-    let op = &res.operating;
-    let bold = Format::new().set_bold();
+/// The header row of a table below the first one: wrapped, shaded, a taller row (the
+/// sheet's first header row is the one frozen and repeated on print).
+fn sub_header(ws: &mut Worksheet, r: u32, heads: &[&str]) -> Result<(), XlsxError> {
     let head = Format::new()
         .set_bold()
         .set_text_wrap()
         .set_background_color("#DCE6F0");
+    ws.set_row_height(r, 48)?;
+    for (c, h) in heads.iter().enumerate() {
+        ws.write_string_with_format(r, c as u16, *h, &head)?;
+    }
+    Ok(())
+}
+
+pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
+    let op = &res.operating;
+    let bold = Format::new().set_bold();
     header(
         ws,
         0,
@@ -107,10 +117,7 @@ pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
         "Rated kvar needed",
         "Installed kvar",
     ];
-    ws.set_row_height(r, 48)?;
-    for (c, h) in heads.iter().enumerate() {
-        ws.write_string_with_format(r, c as u16, *h, &head)?;
-    }
+    sub_header(ws, r, &heads)?;
     for need in &op.needs {
         r += 1;
         let cell = |c: u16| row_col_to_cell(r, c);
@@ -163,10 +170,7 @@ pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
         "Limit (%)",
         "Verdict",
     ];
-    ws.set_row_height(r, 48)?;
-    for (c, h) in heads.iter().enumerate() {
-        ws.write_string_with_format(r, c as u16, *h, &head)?;
-    }
+    sub_header(ws, r, &heads)?;
     let first = r + 1;
     for s in &op.step_changes {
         r += 1;
