@@ -111,7 +111,13 @@ pub struct LoadFlowScratch {
     upper: Vec<Wide>,
     x: Vec<Complex64>,
     v_try: Vec<Complex64>,
+    /// The largest |ΔS_i| of the last mismatch evaluated, per unit.
+    max_ds: f64,
 }
+
+/// A mismatch below which the voltages are at rounding level already and the polishing
+/// step is skipped, per unit.
+const ROUNDING_PU: f64 = 1e-13;
 
 impl LoadFlowSystem {
     /// The system with Y given by `stamp` (called with an `add(i, j, y)` for every entry,
@@ -145,8 +151,9 @@ impl LoadFlowSystem {
     /// Solves for the bus voltages with the extra shunt admittances `shunts` (bus index,
     /// per-unit admittance: the energized capacitor steps) added to Y, starting from and
     /// returning in `v` (per unit, by bus). Returns the Newton iterations used; after the
-    /// mismatch falls below [`MISMATCH_PU`] one more step brings V to rounding level, so
-    /// that any start gives the same voltages to about 1e-14.
+    /// mismatch falls below [`MISMATCH_PU`] one more step brings V to rounding level (unless
+    /// the mismatch is below 1e-13 pu already), so that any start gives the same voltages
+    /// to about 1e-13.
     pub fn solve(
         &self,
         sym: &Symbolic,
@@ -167,6 +174,10 @@ impl LoadFlowSystem {
         for it in 1..=MAX_ITERATIONS {
             if !worst.is_finite() {
                 return Err(LoadFlowFailure::NoConvergence);
+            }
+            if worst <= 0.0 && w.max_ds <= ROUNDING_PU {
+                converged_at = Some(it);
+                break;
             }
             let done = worst <= 0.0;
             self.jacobian(sym, &y, &vp, w)?;
@@ -243,6 +254,7 @@ impl LoadFlowSystem {
             }
         }
         let mut worst = f64::NEG_INFINITY;
+        w.max_ds = 0.0;
         for (k, &v) in vp.iter().enumerate().take(n) {
             if self.s[k] != Complex64::default() {
                 w.f[k] += (self.s[k] / v).conj();
@@ -253,6 +265,7 @@ impl LoadFlowSystem {
                 return f64::INFINITY;
             }
             worst = worst.max(ds - allowed);
+            w.max_ds = w.max_ds.max(ds);
         }
         if n == 0 { 0.0 } else { worst }
     }
