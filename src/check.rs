@@ -9,7 +9,7 @@ use crate::study::config::{ConfigurationError, configuration_count};
 use crate::study::duty::{DutyRow, duty_rows};
 use crate::study::limits::{LimitContext, LimitRow, limit_row};
 use crate::study::operating::OperatingStudy;
-use crate::study::penetration::{Injections, Penetration};
+use crate::study::penetration::{Injections, Penetration, SequenceEngines};
 use crate::study::remedy::{Outcome, RemedyResult};
 use crate::study::tolerance::{ToleranceBand, bands};
 use crate::study::transient::{Inrush, energize};
@@ -205,6 +205,8 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         configurations.push(none);
     }
     let engine = Engine::new(&network, &buses);
+    let zero = network.build_zero(plant)?;
+    let zero_engine = Engine::new(&zero, &buses);
     let grid = ScanGrid::new(plant.study.highest_order, plant.study.scan_step_order);
     let quiet = |_: u64, _: u64| {};
     let progress: &(dyn Fn(u64, u64) + Sync) = match &options.progress {
@@ -225,17 +227,29 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         s_sc_mva = s_sc_mva.max(crate::network::BASE_MVA / z.norm());
     }
     let isc_ka = s_sc_mva / (3f64.sqrt() * pcc_kv);
-    let injections = Injections::new(plant, &network);
+    let injections = Injections::new(plant, &network, &zero);
     let limits = LimitContext::new(plant, &network, &injections, pcc, isc_ka);
+    let engines = SequenceEngines {
+        positive: &engine,
+        zero: &zero_engine,
+    };
     let penetration = Penetration::run(
         plant,
-        &engine,
+        &engines,
         injections,
         &scan.configurations,
+        &operating,
         &limits.individual,
         pcc,
     )?;
     let mut notes = Vec::new();
+    notes.extend(penetration.injections.blocked.iter().cloned());
+    if penetration.angle_fallbacks > 0 {
+        notes.push(format!(
+            "phasor summation: {} scenario-configuration(s) have no load-flow solution; their harmonic current angles use the configuration without banks (or 0° where that has none either)",
+            penetration.angle_fallbacks
+        ));
+    }
     if limits.i_l_estimated {
         notes.push(format!(
             "I_L estimated from the Loads sheet: {:.1} A at the PCC (sum of P/pf at the study point, no diversity); give \"Max demand current (A)\" on the Study sheet",

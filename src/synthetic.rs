@@ -55,6 +55,8 @@ pub fn generated_plant(n: usize, extra_links: usize, banks: usize, steps: u32, s
         short_circuit: ShortCircuit::Mva(300.0),
         x_over_r: 12.0,
         voltage_pu: DEFAULT_SOURCE_VOLTAGE_PU,
+        zero_short_circuit_mva: None,
+        zero_x_over_r: None,
     });
     let mut mv = vec![0usize];
     let mut lv = Vec::new();
@@ -75,6 +77,8 @@ pub fn generated_plant(n: usize, extra_links: usize, banks: usize, steps: u32, s
                 impedance_percent: 4.0 + 3.0 * rng.next_f64(),
                 x_over_r: 5.0 + 5.0 * rng.next_f64(),
                 in_service: true,
+                connection: None,
+                zero_impedance_percent: None,
             });
             lv.push(i);
         } else {
@@ -135,6 +139,7 @@ pub fn generated_plant(n: usize, extra_links: usize, banks: usize, steps: u32, s
             status: BankStatus::Proposed,
             studied_steps: (0..=steps).collect(),
             inrush_uh: None,
+            connection: None,
         });
     }
     p

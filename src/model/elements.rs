@@ -2,6 +2,8 @@
 
 use serde::Serialize;
 
+use super::{BankConnection, VectorGroup};
+
 /// How series resistance varies with harmonic order h (Study sheet, `Resistance model`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "lowercase")]
@@ -38,6 +40,9 @@ pub enum Summation {
     Arithmetic,
     /// The summation exponents of IEC 61000-3-6 by order.
     Iec61000_3_6,
+    /// Complex superposition of phasors (input contract, version 2): spectrum angles
+    /// referred to each load's fundamental current at the operating point.
+    Phasor,
 }
 
 /// Capacitance tolerance band in percent, e.g. −5 / +10 (Study sheet).
@@ -155,6 +160,11 @@ pub struct Source {
     /// EMF behind the source impedance for the operating point, pu of the bus's nominal
     /// kV, angle 0 (input contract, version 2: `Voltage (pu)`, default 1.0).
     pub voltage_pu: f64,
+    /// Zero-sequence short-circuit power, MVA (Z₀ = kV² / S₀); `None` = the positive
+    /// sequence's (input contract, version 2).
+    pub zero_short_circuit_mva: Option<f64>,
+    /// Zero-sequence X/R; `None` = the positive sequence's.
+    pub zero_x_over_r: Option<f64>,
 }
 
 /// Default source EMF `Voltage (pu)` (input contract, version 2).
@@ -183,6 +193,18 @@ pub struct Transformer {
     pub impedance_percent: f64,
     pub x_over_r: f64,
     pub in_service: bool,
+    /// IEC 60076-1 vector group; `None` = [`VectorGroup::default_for`] the frequency.
+    pub connection: Option<VectorGroup>,
+    /// Zero-sequence impedance on its own rating, %; `None` = `impedance_percent`.
+    pub zero_impedance_percent: Option<f64>,
+}
+
+impl Transformer {
+    /// The vector group studied: the given one or the contract's default at `frequency_hz`.
+    pub fn vector_group(&self, frequency_hz: f64) -> VectorGroup {
+        self.connection
+            .unwrap_or_else(|| VectorGroup::default_for(frequency_hz))
+    }
 }
 
 /// A cable (or line) between two buses of the same nominal kV.
@@ -252,6 +274,8 @@ pub struct CapacitorBank {
     /// `None` = [`DEFAULT_INRUSH_UH`]. Not used for a detuned or tuned bank, whose reactors
     /// limit the inrush.
     pub inrush_uh: Option<f64>,
+    /// Phase connection; `None` = [`BankConnection::default_for`] its bus's kV.
+    pub connection: Option<BankConnection>,
 }
 
 /// Default inductance between the steps of a plain bank, µH per step (common practice: the
@@ -362,8 +386,9 @@ pub struct SpectrumLine {
     pub order: f64,
     /// Magnitude in % of the fundamental current.
     pub magnitude_percent: f64,
-    /// Phase angle, degrees.
-    pub angle_deg: f64,
+    /// Phase angle, degrees, referred to h × the fundamental current's angle; `None` when
+    /// the cell is blank (refused under `phasor` summation).
+    pub angle_deg: Option<f64>,
 }
 
 /// A named harmonic current spectrum.

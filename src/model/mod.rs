@@ -6,9 +6,12 @@
 //! [`Plant::validate`], which returns every problem at once; nothing downstream re-checks.
 
 mod elements;
+mod sequence;
 mod validate;
+mod validate_sequence;
 
 pub use elements::*;
+pub use sequence::*;
 pub use validate::{MAX_MAGNITUDE, MIN_MAGNITUDE, ModelError, ModelErrors};
 
 /// Name of the single scenario studied when no source row names one (input contract,
@@ -26,6 +29,8 @@ pub struct Plant {
     pub banks: Vec<CapacitorBank>,
     pub loads: Vec<Load>,
     pub spectra: Vec<Spectrum>,
+    /// The `Background` sheet: harmonic EMFs behind the sources (input contract, version 2).
+    pub background: Vec<BackgroundLine>,
 }
 
 impl Plant {
@@ -40,6 +45,7 @@ impl Plant {
             banks: Vec::new(),
             loads: Vec::new(),
             spectra: Vec::new(),
+            background: Vec::new(),
         }
     }
 

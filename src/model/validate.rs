@@ -45,17 +45,23 @@ impl fmt::Display for ModelError {
 #[error("{} problem(s) in the plant:\n{}", .0.len(), .0.iter().map(|e| format!("  {e}")).collect::<Vec<_>>().join("\n"))]
 pub struct ModelErrors(pub Vec<ModelError>);
 
-struct Collector<'a> {
+pub(super) struct Collector<'a> {
     /// Nominal kV of each valid bus, by id.
     bus_kv: HashMap<&'a str, f64>,
     errors: Vec<ModelError>,
     /// Index of the element being checked.
-    index: Option<usize>,
+    pub(super) index: Option<usize>,
     bus_ids: HashSet<&'a str>,
 }
 
 impl<'a> Collector<'a> {
-    fn push(&mut self, sheet: &'static str, id: &str, field: &'static str, message: String) {
+    pub(super) fn push(
+        &mut self,
+        sheet: &'static str,
+        id: &str,
+        field: &'static str,
+        message: String,
+    ) {
         self.errors.push(ModelError {
             sheet,
             id: id.to_string(),
@@ -66,7 +72,7 @@ impl<'a> Collector<'a> {
     }
 
     /// A finite number > 0 within [`MIN_MAGNITUDE`, `MAX_MAGNITUDE`].
-    fn positive(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
+    pub(super) fn positive(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
         if !(v.is_finite() && v > 0.0) {
             self.push(
                 sheet,
@@ -80,7 +86,13 @@ impl<'a> Collector<'a> {
     }
 
     /// A finite number ≥ 0, and 0 or within [`MIN_MAGNITUDE`, `MAX_MAGNITUDE`].
-    fn non_negative(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
+    pub(super) fn non_negative(
+        &mut self,
+        sheet: &'static str,
+        id: &str,
+        field: &'static str,
+        v: f64,
+    ) {
         if !(v.is_finite() && v >= 0.0) {
             self.push(
                 sheet,
@@ -94,7 +106,7 @@ impl<'a> Collector<'a> {
     }
 
     /// A magnitude inside the range the studies compute in.
-    fn magnitude(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
+    pub(super) fn magnitude(&mut self, sheet: &'static str, id: &str, field: &'static str, v: f64) {
         if !(MIN_MAGNITUDE..=MAX_MAGNITUDE).contains(&v) {
             self.push(
                 sheet,
@@ -157,6 +169,7 @@ impl Plant {
         self.validate_branches(&mut c);
         self.validate_banks(&mut c);
         self.validate_loads(&mut c);
+        self.validate_sequences(&mut c);
         if c.errors.is_empty() {
             Ok(())
         } else {
@@ -548,13 +561,10 @@ impl Plant {
                     );
                 }
                 c.non_negative(SP, &s.name, "Magnitude", line.magnitude_percent);
-                if !line.angle_deg.is_finite() {
-                    c.push(
-                        SP,
-                        &s.name,
-                        "Angle",
-                        format!("must be a number, found {}", line.angle_deg),
-                    );
+                if let Some(a) = line.angle_deg
+                    && !a.is_finite()
+                {
+                    c.push(SP, &s.name, "Angle", format!("must be a number, found {a}"));
                 }
             }
         }

@@ -7,7 +7,9 @@
 use num_complex::Complex64;
 
 use super::BASE_MVA;
-use crate::model::{Cable, CapacitorBank, Load, LoadType, ResistanceModel, Source, Transformer};
+use crate::model::{
+    BankConnection, Cable, CapacitorBank, Load, LoadType, ResistanceModel, Source, Transformer,
+};
 
 /// Motor subtransient reactance X'' on the motor's rated kVA, per unit (input contract,
 /// sheet `Loads`; a typical value, common practice).
@@ -142,12 +144,21 @@ pub struct BankModel {
     pub p: f64,
     /// Reactor X/R at fundamental.
     pub reactor_q: f64,
+    /// The bank's phase connection (its default resolved).
+    pub connection: BankConnection,
+    /// False in the zero-sequence network for a bank without a zero-sequence path: its
+    /// step admittance is then 0.
+    pub conducts: bool,
 }
 
 impl BankModel {
     /// The bank `b` at bus index `bus` whose impedance base is `z_base_ohm`.
-    pub fn new(b: &CapacitorBank, bus: usize, z_base_ohm: f64) -> Self {
+    pub fn new(b: &CapacitorBank, bus: usize, bus_kv: f64, z_base_ohm: f64) -> Self {
         BankModel {
+            connection: b
+                .connection
+                .unwrap_or_else(|| BankConnection::default_for(bus_kv)),
+            conducts: true,
             id: b.id.clone(),
             bus,
             steps: b.steps,
@@ -161,6 +172,9 @@ impl BankModel {
     /// X_L = p·X_C and R_L = X_L / Q; a plain step is y = j·h / X_C (input contract, sheet
     /// `Capacitors`).
     pub fn y_step_pu(&self, order: f64, rm: ResistanceModel) -> Complex64 {
+        if !self.conducts {
+            return Complex64::default();
+        }
         if self.p == 0.0 {
             return Complex64::new(0.0, order / self.xc_step_pu);
         }

@@ -5,10 +5,14 @@
 //! **Per-unit system.** System base S_base = [`BASE_MVA`] = 100 MVA three-phase; the voltage
 //! base of each bus is its nominal line-to-line kV, so Z_base = kV² / S_base ohm. Because a
 //! transformer's ratio is by contract the ratio of its buses' nominal kV, it becomes a plain
-//! series impedance in per unit and no ideal transformer is needed. All quantities are
-//! positive-sequence, per phase.
+//! series impedance in per unit and no ideal transformer is needed. All quantities are per
+//! phase, in one sequence network: [`Network::build`] gives the positive-sequence network
+//! (which also serves the negative sequence), [`Network::build_zero`] the zero-sequence one.
+//! Transformer phase shifts are not in Y: each bus carries the shift of its zone
+//! (`zone_deg`), applied to injections and voltages (see `sequence.rs`).
 
 mod elements;
+mod sequence;
 mod topology;
 
 pub use elements::{BankModel, SeriesImpedance, ShuntModel};
@@ -16,7 +20,7 @@ pub use topology::TopologyError;
 
 use num_complex::Complex64;
 
-use crate::model::{Plant, ResistanceModel};
+use crate::model::{Plant, ResistanceModel, Sequence};
 
 /// System base power, MVA three-phase.
 pub const BASE_MVA: f64 = 100.0;
@@ -38,6 +42,12 @@ pub struct Branch {
     pub from: usize,
     pub to: usize,
     pub z: SeriesImpedance,
+    /// Index of this branch in the positive-sequence network's `branches` (its own index
+    /// there; the zero-sequence network holds only the branches with a series path).
+    pub index: usize,
+    /// Phase shift of the `to` side against the `from` side in this network's sequence,
+    /// degrees (transformers: −clock × 30° positive; cables 0).
+    pub shift_deg: f64,
 }
 
 /// A shunt element from a bus to the reference.
@@ -74,6 +84,16 @@ pub struct Network {
     pub power_loads: Vec<PowerLoad>,
     /// EMF of each source (same order as `sources`), pu of its bus's nominal kV, angle 0.
     pub source_emf_pu: Vec<f64>,
+    /// The sequence this network models (`Positive` also serves negative-sequence orders).
+    pub sequence: Sequence,
+    /// Phase shift of each bus's zone against the PCC's, degrees, in this network's
+    /// sequence (positive-sequence shifts in the positive network; negative sequence takes
+    /// the opposite sign).
+    pub zone_deg: Vec<f64>,
+    /// Zero sequence only, per scenario and bus: true where the bus has no grounded
+    /// neutral in the fixed network (no source, no grounded transformer winding): a unit
+    /// conductance keeps Y regular there and no injection is studied at such a bus.
+    pub floating: Vec<Vec<bool>>,
 }
 
 /// A load of the operating point: constant power drawn at its bus (input contract,
@@ -123,6 +143,10 @@ impl Network {
                 from: find(&t.hv_bus, &t.id)?,
                 to: find(&t.lv_bus, &t.id)?,
                 z: SeriesImpedance::transformer(t),
+                index: branches.len(),
+                shift_deg: t
+                    .vector_group(plant.study.frequency_hz)
+                    .positive_shift_deg(),
             });
         }
         let mut shunts = Vec::new();
@@ -135,6 +159,8 @@ impl Network {
                 from,
                 to,
                 z: SeriesImpedance::cable(c, zb),
+                index: branches.len(),
+                shift_deg: 0.0,
             });
             if let Some(half) = ShuntModel::cable_half_charging(c, plant.study.frequency_hz, zb) {
                 for bus in [from, to] {
@@ -197,9 +223,9 @@ impl Network {
         let mut banks = Vec::new();
         for b in &plant.banks {
             let bus = find(&b.bus, &b.id)?;
-            banks.push(BankModel::new(b, bus, buses[bus].z_base_ohm));
+            banks.push(BankModel::new(b, bus, buses[bus].kv, buses[bus].z_base_ohm));
         }
-        let net = Network {
+        let mut net = Network {
             frequency_hz: plant.study.frequency_hz,
             resistance: plant.study.resistance_model,
             buses,
@@ -210,8 +236,12 @@ impl Network {
             banks,
             power_loads,
             source_emf_pu: plant.sources.iter().map(|s| s.voltage_pu).collect(),
+            sequence: Sequence::Positive,
+            zone_deg: Vec::new(),
+            floating: Vec::new(),
         };
         net.check_topology()?;
+        net.zone_deg = net.zones(plant)?;
         Ok(net)
     }
 
@@ -283,6 +313,28 @@ impl Network {
                 let s = &self.sources[i];
                 add(s.bus, s.bus, s.model.y_pu(order, rm));
             }
+        }
+        if let Some(f) = self.floating.get(scenario) {
+            for (bus, _) in f.iter().enumerate().filter(|(_, f)| **f) {
+                add(bus, bus, Complex64::new(1.0, 0.0));
+            }
+        }
+    }
+
+    /// True when an injection at `bus` can flow in scenario `s` (always, except at a
+    /// zero-sequence bus without a grounded neutral).
+    pub fn conducts_at(&self, s: usize, bus: usize) -> bool {
+        !self.floating.get(s).is_some_and(|f| f[bus])
+    }
+
+    /// The shift, radians, that carries a quantity of order h from the shift-free network
+    /// to the actual phase at `bus`: σ·zone (σ = ±1 for positive / negative sequence; the
+    /// zero network's own zone for zero sequence).
+    pub fn rotation_rad(&self, bus: usize, sequence: Sequence) -> f64 {
+        let z = self.zone_deg.get(bus).copied().unwrap_or(0.0).to_radians();
+        match sequence {
+            Sequence::Zero => z,
+            s => s.sign() * z,
         }
     }
 }

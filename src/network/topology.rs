@@ -15,6 +15,10 @@ pub enum TopologyError {
         scenario: String,
         buses: Vec<String>,
     },
+    #[error(
+        "Transformers: {element} closes a loop whose phase shifts do not agree ({shift_deg}° around it): transformers of different vector groups cannot run in parallel; check the \"Connection\" column"
+    )]
+    ShiftLoop { element: String, shift_deg: String },
 }
 
 fn find(parent: &mut [usize], mut i: usize) -> usize {

@@ -2,6 +2,9 @@
 
 pub mod capacitors;
 pub mod cautions;
+pub mod model;
 pub mod operating;
 pub mod summary;
 pub mod table;
+
+pub use model::{model_scope, summation_meaning};

@@ -241,15 +241,22 @@ pub fn limit_row(
         thd_ratio(b) > 1.0
             || d.worst[b].is_some_and(|w| w.limit_percent.is_some_and(|l| w.v_percent > l))
     });
+    // Without demand (I_L = 0: no load, only background) TDD has no base: not evaluated.
+    let demand = ctx.i_l_a > 0.0;
     let tdd = Checked::new(
-        tdd_percent(&d.pcc_current_a, orders, ctx.i_l_a),
-        ctx.tdd_limit.map(|l| l.value),
+        if demand {
+            tdd_percent(&d.pcc_current_a, orders, ctx.i_l_a)
+        } else {
+            0.0
+        },
+        ctx.tdd_limit.filter(|_| demand).map(|l| l.value),
     );
     let pcc: Vec<(f64, Checked)> = d
         .pcc_current_a
         .iter()
         .zip(orders)
         .zip(&ctx.pcc_limit)
+        .filter(|_| demand)
         .map(|((i, &h), lim)| (h, Checked::new(i / ctx.i_l_a * 100.0, *lim)))
         .collect();
     let worst_pcc = pcc

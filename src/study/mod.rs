@@ -5,6 +5,7 @@
 pub mod config;
 pub mod detune;
 pub mod duty;
+pub mod injections;
 pub mod limits;
 pub mod operating;
 pub mod penetration;

@@ -83,6 +83,10 @@ pub struct OperatingPoint {
     pub bank_bus_v_pu: Vec<f64>,
     /// Newton iterations used.
     pub iterations: u32,
+    /// Angle of every bus voltage in the shift-free network, radians (kept for `phasor`
+    /// summation only, else empty): add the bus's zone shift for the actual angle.
+    #[serde(skip)]
+    pub angle_rad: Vec<f64>,
 }
 
 impl OperatingPoint {
@@ -170,6 +174,8 @@ pub struct OperatingStudy {
     pub collapsed: Vec<CollapseError>,
     /// One step's fundamental admittance of each bank and its bus.
     bank_y: Vec<(usize, Complex64)>,
+    /// e^{jθ} of each bus's transformer phase-shift zone (positive sequence).
+    zone: Vec<Complex64>,
 }
 
 /// Configurations solved one after the other from a warm start, per parallel task.
@@ -180,6 +186,8 @@ struct Solved {
     p_kw: f64,
     q_kvar: f64,
     v_abs: Vec<f64>,
+    /// Bus voltage angles, radians (only when kept).
+    v_arg: Vec<f64>,
     iterations: u32,
 }
 
@@ -187,6 +195,7 @@ impl OperatingStudy {
     /// Solves every scenario for `configurations` (plus, for the step changes, each
     /// configuration with one step fewer of each energized bank).
     pub fn run(plant: &Plant, net: &Network, configurations: &[Configuration]) -> OperatingStudy {
+        let keep_angles = plant.study.summation == crate::model::Summation::Phasor;
         let n = net.buses.len();
         let sym = Symbolic::new(n, &net.edges());
         let mut s_load = vec![Complex64::default(); n];
@@ -259,6 +268,11 @@ impl OperatingStudy {
             slots: Vec::new(),
             collapsed: Vec::new(),
             bank_y,
+            zone: net
+                .zone_deg
+                .iter()
+                .map(|d| Complex64::from_polar(1.0, d.to_radians()))
+                .collect(),
         };
         // Every configuration to solve: the studied ones and one step below each bank.
         let mut wanted: Vec<Vec<u32>> = Vec::new();
@@ -301,6 +315,11 @@ impl OperatingStudy {
                                     p_kw,
                                     q_kvar,
                                     v_abs: v.iter().map(|z| z.norm()).collect(),
+                                    v_arg: if keep_angles {
+                                        v.iter().map(|z| z.arg()).collect()
+                                    } else {
+                                        Vec::new()
+                                    },
                                     iterations,
                                 })
                             }
@@ -364,6 +383,7 @@ impl OperatingStudy {
 
     /// Every bus voltage (per unit, complex, by bus) of scenario `s` with `steps`, solved
     /// from the solution without banks; the same values as the study's to about 1e-14.
+    /// Angles include each bus's transformer phase shift (its zone against the PCC).
     pub fn voltages(&self, s: usize, steps: &[u32]) -> Result<Vec<Complex64>, LoadFlowFailure> {
         if self.base.get(s).is_none() {
             return Err(LoadFlowFailure::NoConvergence);
@@ -371,6 +391,9 @@ impl OperatingStudy {
         let mut v = self.base[s].clone();
         let x: Vec<f64> = steps.iter().map(|&k| f64::from(k)).collect();
         self.solve_into(s, &x, &mut v, &mut LoadFlowScratch::default())?;
+        for (x, z) in v.iter_mut().zip(&self.zone) {
+            *x *= z;
+        }
         Ok(v)
     }
 
@@ -392,6 +415,7 @@ impl OperatingStudy {
         sol: &Solved,
     ) -> OperatingPoint {
         let (mut min, mut max) = (0usize, 0usize);
+        let angle_rad = sol.v_arg.clone();
         let mut out = 0;
         for (i, &v) in sol.v_abs.iter().enumerate() {
             if v < sol.v_abs[min] {
@@ -431,6 +455,7 @@ impl OperatingStudy {
             buses_out_of_range: out,
             bank_bus_v_pu: net.banks.iter().map(|b| at(b.bus)).collect(),
             iterations: sol.iterations,
+            angle_rad,
         }
     }
 

@@ -1,21 +1,25 @@
-//! Harmonic penetration: the harmonic currents the plant's converters inject, the harmonic
-//! voltage they cause at every bus, the harmonic currents in every branch, bank and drawn
-//! from the supply, for every scenario × configuration.
+//! Harmonic penetration: the harmonic currents the plant's converters inject and the
+//! background the supply carries, the harmonic voltage they cause at every bus, the
+//! harmonic currents in every branch, bank and drawn from the supply, for every scenario ×
+//! configuration.
 //!
-//! Each load injects I_h = I₁·m_h/100 with I₁ = P / (√3·kV·pf) (input contract). Loads are
-//! solved one bus at a time and their contributions combined by magnitude with the Study
-//! sheet's summation law: `arithmetic` (magnitudes add, an upper bound) or IEC 61000-3-6
-//! (V = (Σ V_i^α)^(1/α) with α = 1 for h < 5, 1.4 for 5 ≤ h ≤ 10, 2 above).
-
-use std::collections::HashMap;
+//! Each load injects I_h = I₁·m_h/100 with I₁ = P / (√3·kV·pf) (input contract); each
+//! background line is an EMF E_h behind its source's impedance, i.e. a Norton current
+//! E_h·y_s(h) at the source's bus. Every order is solved in its sequence network
+//! (positive for h = 3k+1 and interharmonics, negative for 3k−1 with the same impedances,
+//! zero for 3k). Contributions combine by the Study sheet's summation law: `arithmetic`
+//! (magnitudes add, an upper bound), IEC 61000-3-6 (V = (Σ V_i^α)^(1/α)), or `phasor`
+//! (complex superposition, with each load's angle from the configuration's operating
+//! point).
 
 use num_complex::Complex64;
 use rayon::prelude::*;
 use serde::Serialize;
 
 use super::Configuration;
-use super::spectra::{self, SpectrumChoice};
-use crate::model::{Plant, Summation};
+pub use super::injections::{Injections, combine, summation_exponent};
+use super::operating::OperatingStudy;
+use crate::model::{Plant, Sequence, Summation};
 use crate::network::{BASE_MVA, Network};
 use crate::solve::{ComboPlan, Engine, HarmonicPoint, SolveError, TransferScratch};
 
@@ -24,104 +28,6 @@ use crate::solve::{ComboPlan, Engine, HarmonicPoint, SolveError, TransferScratch
 #[inline]
 fn abs(z: Complex64) -> f64 {
     (z.re * z.re + z.im * z.im).sqrt()
-}
-
-/// IEC 61000-3-6 summation exponent α at order h: 1 for h < 5, 1.4 for 5 ≤ h ≤ 10, 2 for
-/// h > 10.
-pub fn summation_exponent(order: f64) -> f64 {
-    if order < 5.0 {
-        1.0
-    } else if order <= 10.0 {
-        1.4
-    } else {
-        2.0
-    }
-}
-
-/// Combines contributions by the summation law at `order`.
-pub fn combine(law: Summation, order: f64, values: impl Iterator<Item = f64>) -> f64 {
-    match law {
-        Summation::Arithmetic => values.sum(),
-        Summation::Iec61000_3_6 => {
-            let a = summation_exponent(order);
-            values.map(|v| v.powf(a)).sum::<f64>().powf(1.0 / a)
-        }
-    }
-}
-
-/// The harmonic injections of the plant, grouped by bus.
-#[derive(Debug, Clone, Serialize)]
-pub struct Injections {
-    /// Orders with a non-zero injection, ascending (orders within 1e-9 are one).
-    pub orders: Vec<f64>,
-    /// Network bus index of each injection bus.
-    pub buses: Vec<usize>,
-    /// Per order, per injection bus: the bus's combined current, per unit of S_base at the
-    /// bus's voltage base.
-    pub current_pu: Vec<Vec<f64>>,
-    /// Which spectrum each harmonic-producing load used.
-    pub spectra: Vec<SpectrumChoice>,
-}
-
-impl Injections {
-    /// Collects every harmonic-producing load's spectrum and current. I₁ in per unit is
-    /// (P / pf) / S_base, the same at any voltage level.
-    pub fn new(plant: &Plant, net: &Network) -> Injections {
-        let law = plant.study.summation;
-        let mut chosen = Vec::new();
-        // (bus, order) → currents of the loads at that bus, per unit.
-        let mut per: HashMap<(usize, u64), Vec<f64>> = HashMap::new();
-        let mut orders: Vec<f64> = Vec::new();
-        let mut buses: Vec<usize> = Vec::new();
-        for load in &plant.loads {
-            let Some(choice) = spectra::choose(plant, load) else {
-                continue;
-            };
-            let Some(bus) = net.bus_index(&load.bus) else {
-                continue;
-            };
-            let i1 = load.p_kw() / 1000.0 / load.power_factor / BASE_MVA;
-            for &(h, m) in &choice.lines {
-                if m <= 0.0 || i1 <= 0.0 {
-                    continue;
-                }
-                let h = orders
-                    .iter()
-                    .copied()
-                    .find(|o| (o - h).abs() < 1e-9)
-                    .unwrap_or_else(|| {
-                        orders.push(h);
-                        h
-                    });
-                if !buses.contains(&bus) {
-                    buses.push(bus);
-                }
-                per.entry((bus, h.to_bits()))
-                    .or_default()
-                    .push(i1 * m / 100.0);
-            }
-            chosen.push(choice);
-        }
-        orders.sort_by(f64::total_cmp);
-        let current_pu = orders
-            .iter()
-            .map(|&h| {
-                buses
-                    .iter()
-                    .map(|&b| {
-                        per.get(&(b, h.to_bits()))
-                            .map_or(0.0, |v| combine(law, h, v.iter().copied()))
-                    })
-                    .collect()
-            })
-            .collect();
-        Injections {
-            orders,
-            buses,
-            current_pu,
-            spectra: chosen,
-        }
-    }
 }
 
 /// The harmonic with the highest ratio to its limit at one bus (or the highest value where
@@ -150,6 +56,9 @@ pub struct Distortion {
     pub bank_voltage_percent: Vec<Vec<f64>>,
     /// Harmonic current in each bank, A per phase, per injected order.
     pub bank_current_a: Vec<Vec<f64>>,
+    /// rms over the orders of each bank's harmonic current caused by the background alone,
+    /// A per phase (0 without a Background sheet).
+    pub bank_background_rms_a: Vec<f64>,
     /// rms of the harmonic currents in each branch, A at the branch's from-bus kV.
     pub branch_rms_a: Vec<f64>,
 }
@@ -158,14 +67,35 @@ pub struct Distortion {
 /// configuration are at hand.
 pub type IndividualLimits = Vec<Vec<Option<f64>>>;
 
+/// What one order of one scenario injects, ready for the per-configuration sums.
+#[derive(Debug, Clone, Default)]
+struct OrderInputs {
+    /// Conducting load columns: (column, |I| per unit combined at the bus, fixed phasor).
+    loads: Vec<(usize, f64, Complex64)>,
+    /// Background of the scenario's sources: (column, Norton current E·y_s per unit).
+    background: Vec<(usize, Complex64)>,
+    /// In-service sources: (bus, y_s(h)).
+    sources: Vec<(usize, Complex64)>,
+    /// Branches of the order's network: (from, to, positive-network index, y(h)).
+    branches: Vec<(usize, usize, usize, Complex64)>,
+}
+
 /// The whole penetration study.
 #[derive(Debug, Clone)]
 pub struct Penetration {
     pub injections: Injections,
     /// One per scenario × configuration, in that nesting order.
     pub results: Vec<Distortion>,
+    /// Scenario × configuration pairs whose phasor angles fell back to the configuration
+    /// without banks (or to 0) because the load flow has no solution there.
+    pub angle_fallbacks: usize,
     /// Z per scenario and order, kept to recompute voltages on demand.
     points: Vec<Vec<HarmonicPoint>>,
+    inputs: Vec<Vec<OrderInputs>>,
+    /// Per scenario × configuration: the operating voltage angle at each column, radians
+    /// (`phasor` only, else empty).
+    angles: Vec<Vec<f64>>,
+    steps: Vec<Vec<u32>>,
     law: Summation,
 }
 
@@ -177,33 +107,68 @@ pub fn amps_per_pu(kv: f64) -> f64 {
 /// Bytes of transfer impedances one block of configurations may hold.
 const BLOCK_BYTES: usize = 32 << 20;
 
+/// The networks and engines of the two sequence networks.
+pub struct SequenceEngines<'a, 'b> {
+    /// Positive sequence (also negative).
+    pub positive: &'a Engine<'b>,
+    /// Zero sequence.
+    pub zero: &'a Engine<'b>,
+}
+
+impl SequenceEngines<'_, '_> {
+    fn for_order(&self, seq: Sequence) -> &Engine<'_> {
+        if seq == Sequence::Zero {
+            self.zero
+        } else {
+            self.positive
+        }
+    }
+}
+
 impl Penetration {
-    /// Runs the study of `injections` for `configurations` in every scenario. `limits[b][o]` is the
-    /// individual voltage limit of bus b at injected order o, and `pcc` the PCC bus index.
+    /// Runs the study of `injections` for `configurations` in every scenario. `limits[b][o]`
+    /// is the individual voltage limit of bus b at injected order o, `pcc` the PCC bus
+    /// index, `operating` the load flow of the same configurations (its angles under
+    /// `phasor` summation).
     pub fn run(
         plant: &Plant,
-        engine: &Engine<'_>,
+        engines: &SequenceEngines<'_, '_>,
         injections: Injections,
         configurations: &[Configuration],
+        operating: &OperatingStudy,
         limits: &IndividualLimits,
         pcc: usize,
     ) -> Result<Penetration, SolveError> {
-        let net = engine.network();
+        let net = engines.positive.network();
         let law = plant.study.summation;
         let ns = net.scenarios.len();
+        let nc = configurations.len();
         let points: Vec<Vec<HarmonicPoint>> = (0..ns)
             .map(|s| {
                 injections
                     .orders
                     .par_iter()
-                    .map(|&h| engine.harmonic_point(h, s, &injections.buses))
+                    .zip(&injections.sequences)
+                    .map(|(&h, &q)| engines.for_order(q).harmonic_point(h, s, &injections.buses))
                     .collect::<Result<Vec<_>, _>>()
             })
             .collect::<Result<_, _>>()?;
+        let inputs: Vec<Vec<OrderInputs>> = (0..ns)
+            .map(|s| {
+                (0..injections.orders.len())
+                    .map(|o| order_inputs(engines, &injections, s, o))
+                    .collect()
+            })
+            .collect();
+        let (angles, angle_fallbacks) = if law == Summation::Phasor {
+            phasor_angles(operating, configurations, &injections.buses, ns)
+        } else {
+            (Vec::new(), 0)
+        };
         let n = net.buses.len();
         let l = injections.buses.len().max(1);
         let per_block = (BLOCK_BYTES / (n * l * 16).max(1)).clamp(1, 256);
-        let mut order: Vec<usize> = (0..configurations.len()).collect();
+        let mut order: Vec<usize> = (0..nc).collect();
         order.sort_by(|&a, &b| configurations[a].steps.cmp(&configurations[b].steps));
         let tasks: Vec<(usize, &[usize])> = (0..ns)
             .flat_map(|s| order.chunks(per_block).map(move |c| (s, c)))
@@ -212,6 +177,8 @@ impl Penetration {
             net,
             injections: &injections,
             points: &points,
+            inputs: &inputs,
+            angles: &angles,
             configurations,
             limits,
             law,
@@ -221,7 +188,6 @@ impl Penetration {
             .par_iter()
             .map(|&(s, chunk)| ctx.block(s, chunk))
             .collect::<Result<_, _>>()?;
-        let nc = configurations.len();
         let mut slots: Vec<Option<Distortion>> = vec![None; ns * nc];
         for d in blocks.into_iter().flatten() {
             let i = d.scenario * nc + d.configuration;
@@ -230,7 +196,11 @@ impl Penetration {
         Ok(Penetration {
             injections,
             results: slots.into_iter().flatten().collect(),
+            angle_fallbacks,
             points,
+            inputs,
+            angles,
+            steps: configurations.iter().map(|c| c.steps.clone()).collect(),
             law,
         })
     }
@@ -245,27 +215,163 @@ impl Penetration {
     pub fn voltages(&self, s: usize, steps: &[u32]) -> Option<Vec<Vec<f64>>> {
         let plan = ComboPlan::new(&[steps]);
         let mut scratch = TransferScratch::default();
-        let pts = &self.points[s];
+        let pts = self.points.get(s)?;
         let (n, l) = pts.first().map_or((0, 0), HarmonicPoint::shape);
+        let nc = self.steps.len();
+        let theta: &[f64] = self
+            .steps
+            .iter()
+            .position(|c| c == steps)
+            .and_then(|c| self.angles.get(s * nc + c))
+            .map_or(&[], |a| &a[..]);
         let mut v = vec![vec![0.0; pts.len()]; n];
         let mut z = vec![Complex64::default(); n * l];
+        let mut inj = Vec::new();
         for (o, p) in pts.iter().enumerate() {
             if !p.evaluate(&plan, &mut scratch, &mut z) {
                 return None;
             }
-            let i = &self.injections.current_pu[o];
-            for (r, row) in v.iter_mut().enumerate() {
-                row[o] = combine(self.law, p.order, (0..l).map(|c| abs(z[r * l + c]) * i[c]));
+            let inp = &self.inputs[s][o];
+            if self.law == Summation::Phasor {
+                phasor_currents(inp, p.order, theta, l, &mut inj);
+                for (r, row) in v.iter_mut().enumerate() {
+                    row[o] = abs(dot(&z[r * l..(r + 1) * l], &inj));
+                }
+            } else {
+                for (r, row) in v.iter_mut().enumerate() {
+                    row[o] = magnitude_sum(self.law, p.order, inp, |c| abs(z[r * l + c]));
+                }
             }
         }
         Some(v)
     }
 }
 
+/// Σ a_i·b_i.
+#[inline]
+fn dot(a: &[Complex64], b: &[Complex64]) -> Complex64 {
+    a.iter().zip(b).map(|(x, y)| x * y).sum()
+}
+
+/// The summation law over every contribution of `inp`, with `gain(column)` the transfer
+/// magnitude from that column to the quantity.
+#[inline]
+fn magnitude_sum(
+    law: Summation,
+    order: f64,
+    inp: &OrderInputs,
+    gain: impl Fn(usize) -> f64,
+) -> f64 {
+    combine(
+        law,
+        order,
+        inp.loads
+            .iter()
+            .map(|&(c, a, _)| gain(c) * a)
+            .chain(inp.background.iter().map(|&(c, i)| gain(c) * abs(i))),
+    )
+}
+
+/// The phasor injection of every column at `order` for the operating angles `theta`
+/// (radians per column; empty = 0): I_c = A_c·e^{j·h·θ_c} plus the background's Norton
+/// currents.
+fn phasor_currents(
+    inp: &OrderInputs,
+    order: f64,
+    theta: &[f64],
+    l: usize,
+    out: &mut Vec<Complex64>,
+) {
+    out.clear();
+    out.resize(l, Complex64::default());
+    for &(c, _, a) in &inp.loads {
+        let t = theta.get(c).copied().unwrap_or(0.0);
+        out[c] += a * Complex64::from_polar(1.0, order * t);
+    }
+    for &(c, i) in &inp.background {
+        out[c] += i;
+    }
+}
+
+/// What scenario `s` injects at order `o`, in the order's sequence network.
+fn order_inputs(
+    engines: &SequenceEngines<'_, '_>,
+    inj: &Injections,
+    s: usize,
+    o: usize,
+) -> OrderInputs {
+    let seq = inj.sequences[o];
+    let net = engines.for_order(seq).network();
+    let h = inj.orders[o];
+    let rm = net.resistance;
+    let loads = (0..inj.buses.len())
+        .filter(|&c| inj.current_pu[o][c] > 0.0 && net.conducts_at(s, inj.buses[c]))
+        .map(|c| (c, inj.current_pu[o][c], inj.phasor_pu[o][c]))
+        .collect();
+    let in_service = &net.scenarios[s].sources;
+    let background = inj
+        .background
+        .iter()
+        .filter(|b| b.order == o && in_service.contains(&b.source))
+        .map(|b| (b.column, b.emf_pu * net.sources[b.source].model.y_pu(h, rm)))
+        .collect();
+    OrderInputs {
+        loads,
+        background,
+        sources: in_service
+            .iter()
+            .map(|&i| (net.sources[i].bus, net.sources[i].model.y_pu(h, rm)))
+            .collect(),
+        branches: net
+            .branches
+            .iter()
+            .map(|b| (b.from, b.to, b.index, b.z.at(h, rm).inv()))
+            .collect(),
+    }
+}
+
+/// The operating voltage angle at each column per scenario × configuration; where the
+/// load flow has no solution, the scenario's configuration without banks, else 0.
+fn phasor_angles(
+    op: &OperatingStudy,
+    configurations: &[Configuration],
+    columns: &[usize],
+    ns: usize,
+) -> (Vec<Vec<f64>>, usize) {
+    let nc = configurations.len();
+    let none = configurations
+        .iter()
+        .position(|c| c.steps.iter().all(|&k| k == 0));
+    let at = |s: usize, c: usize| {
+        op.point_at(s, c, nc)
+            .filter(|p| !p.angle_rad.is_empty())
+            .map(|p| {
+                columns
+                    .iter()
+                    .map(|&b| p.angle_rad[b])
+                    .collect::<Vec<f64>>()
+            })
+    };
+    let mut fallbacks = 0;
+    let mut out = Vec::with_capacity(ns * nc);
+    for s in 0..ns {
+        let base = none.and_then(|c| at(s, c));
+        for c in 0..nc {
+            out.push(at(s, c).unwrap_or_else(|| {
+                fallbacks += 1;
+                base.clone().unwrap_or_else(|| vec![0.0; columns.len()])
+            }));
+        }
+    }
+    (out, fallbacks)
+}
+
 struct Ctx<'a> {
     net: &'a Network,
     injections: &'a Injections,
     points: &'a [Vec<HarmonicPoint>],
+    inputs: &'a [Vec<OrderInputs>],
+    angles: &'a [Vec<f64>],
     configurations: &'a [Configuration],
     limits: &'a IndividualLimits,
     law: Summation,
@@ -279,6 +385,7 @@ impl Ctx<'_> {
         let no = self.injections.orders.len();
         let l = self.injections.buses.len();
         let nk = net.banks.len();
+        let nc = self.configurations.len();
         let combos: Vec<&[u32]> = chunk
             .iter()
             .map(|&c| &self.configurations[c].steps[..])
@@ -294,17 +401,27 @@ impl Ctx<'_> {
                 pcc_current_a: vec![0.0; no],
                 bank_voltage_percent: vec![vec![0.0; no]; nk],
                 bank_current_a: vec![vec![0.0; no]; nk],
+                bank_background_rms_a: vec![0.0; nk],
                 branch_rms_a: vec![0.0; net.branches.len()],
             })
             .collect();
         let mut z = vec![Complex64::default(); chunk.len() * n * l];
         let mut scratch = TransferScratch::default();
-        let sources: Vec<(usize, usize)> = net.scenarios[s]
-            .sources
-            .iter()
-            .map(|&i| (i, net.sources[i].bus))
-            .collect();
         let pcc_amps = amps_per_pu(net.buses[self.pcc].kv);
+        let bank_amps: Vec<f64> = net
+            .banks
+            .iter()
+            .map(|b| amps_per_pu(net.buses[b.bus].kv))
+            .collect();
+        let branch_amps: Vec<f64> = net
+            .branches
+            .iter()
+            .map(|b| amps_per_pu(net.buses[b.from].kv))
+            .collect();
+        let mut inj = Vec::new();
+        let mut inj_bg = Vec::new();
+        let mut v = vec![Complex64::default(); n];
+        let mut v_mag = vec![0.0; n];
         for (o, p) in self.points[s].iter().enumerate() {
             let h = p.order;
             if !p.evaluate(&plan, &mut scratch, &mut z) {
@@ -314,22 +431,77 @@ impl Ctx<'_> {
                     bus: String::new(),
                 });
             }
-            let cur = &self.injections.current_pu[o];
-            let y_src: Vec<(usize, Complex64)> = sources
-                .iter()
-                .map(|&(i, bus)| (bus, net.sources[i].model.y_pu(h, net.resistance)))
-                .collect();
-            let y_br: Vec<Complex64> = net
-                .branches
-                .iter()
-                .map(|b| b.z.at(h, net.resistance).inv())
-                .collect();
+            let inp = &self.inputs[s][o];
+            let bg_only = OrderInputs {
+                loads: Vec::new(),
+                background: inp.background.clone(),
+                ..OrderInputs::default()
+            };
             for (slot, d) in out.iter_mut().enumerate() {
                 let zb = &z[slot * n * l..(slot + 1) * n * l];
                 let steps = &self.configurations[d.configuration].steps;
-                for r in 0..n {
-                    let v = combine(self.law, h, (0..l).map(|c| abs(zb[r * l + c]) * cur[c]));
-                    let v_pct = v * 100.0;
+                let y_bank = |b: usize| {
+                    let k = f64::from(steps.get(b).copied().unwrap_or(0));
+                    abs(p.y_step(b) * k)
+                };
+                let supply;
+                let mut bank_bg = vec![0.0; nk];
+                if self.law == Summation::Phasor {
+                    let theta = &self.angles[s * nc + d.configuration];
+                    phasor_currents(inp, h, theta, l, &mut inj);
+                    for r in 0..n {
+                        v[r] = dot(&zb[r * l..(r + 1) * l], &inj);
+                        v_mag[r] = abs(v[r]);
+                    }
+                    let drawn: Complex64 = inp.sources.iter().map(|&(b, y)| y * v[b]).sum();
+                    let own: Complex64 = inp.background.iter().map(|&(_, i)| i).sum();
+                    supply = abs(drawn - own);
+                    if !inp.background.is_empty() {
+                        phasor_currents(&bg_only, h, &[], l, &mut inj_bg);
+                        for (b, bank) in net.banks.iter().enumerate() {
+                            let r = bank.bus;
+                            bank_bg[b] = abs(dot(&zb[r * l..(r + 1) * l], &inj_bg)) * y_bank(b);
+                        }
+                    }
+                    for &(from, to, k, y) in &inp.branches {
+                        let a = abs((v[from] - v[to]) * y) * branch_amps[k];
+                        d.branch_rms_a[k] += a * a;
+                    }
+                } else {
+                    for (r, vm) in v_mag.iter_mut().enumerate() {
+                        *vm = magnitude_sum(self.law, h, inp, |c| abs(zb[r * l + c]));
+                    }
+                    let into = |c: usize| -> Complex64 {
+                        inp.sources.iter().map(|&(b, y)| zb[b * l + c] * y).sum()
+                    };
+                    supply = combine(
+                        self.law,
+                        h,
+                        inp.loads.iter().map(|&(c, a, _)| abs(into(c)) * a).chain(
+                            inp.background
+                                .iter()
+                                .map(|&(c, i)| abs(into(c) - 1.0) * abs(i)),
+                        ),
+                    );
+                    if !inp.background.is_empty() {
+                        for (b, bank) in net.banks.iter().enumerate() {
+                            let r = bank.bus;
+                            bank_bg[b] =
+                                magnitude_sum(self.law, h, &bg_only, |c| abs(zb[r * l + c]))
+                                    * y_bank(b);
+                        }
+                    }
+                    for &(from, to, k, y) in &inp.branches {
+                        let i = magnitude_sum(self.law, h, inp, |c| {
+                            abs((zb[from * l + c] - zb[to * l + c]) * y)
+                        });
+                        let a = i * branch_amps[k];
+                        d.branch_rms_a[k] += a * a;
+                    }
+                }
+                d.pcc_current_a[o] = supply * pcc_amps;
+                for (r, &vm) in v_mag.iter().enumerate() {
+                    let v_pct = vm * 100.0;
                     d.thd_percent[r] += v_pct * v_pct;
                     let lim = self.limits[r][o];
                     let ratio = |x: &Individual| match x.limit_percent {
@@ -352,42 +524,21 @@ impl Ctx<'_> {
                         d.worst[r] = Some(cand);
                     }
                 }
-                let supply = combine(
-                    self.law,
-                    h,
-                    (0..l).map(|c| {
-                        let i: Complex64 = y_src.iter().map(|&(bus, y)| zb[bus * l + c] * y).sum();
-                        abs(i) * cur[c]
-                    }),
-                );
-                d.pcc_current_a[o] = supply * pcc_amps;
                 for (b, bank) in net.banks.iter().enumerate() {
-                    let v = combine(
-                        self.law,
-                        h,
-                        (0..l).map(|c| abs(zb[bank.bus * l + c]) * cur[c]),
-                    );
-                    d.bank_voltage_percent[b][o] = v * 100.0;
-                    let n_steps = f64::from(steps.get(b).copied().unwrap_or(0));
-                    let i_pu = v * (p.y_step(b) * n_steps).norm();
-                    d.bank_current_a[b][o] = i_pu * amps_per_pu(net.buses[bank.bus].kv);
-                }
-                for (k, br) in net.branches.iter().enumerate() {
-                    let i = combine(
-                        self.law,
-                        h,
-                        (0..l).map(|c| {
-                            abs((zb[br.from * l + c] - zb[br.to * l + c]) * y_br[k]) * cur[c]
-                        }),
-                    );
-                    let a = i * amps_per_pu(net.buses[br.from].kv);
-                    d.branch_rms_a[k] += a * a;
+                    let vb = v_mag[bank.bus];
+                    d.bank_voltage_percent[b][o] = vb * 100.0;
+                    d.bank_current_a[b][o] = vb * y_bank(b) * bank_amps[b];
+                    let a = bank_bg[b] * bank_amps[b];
+                    d.bank_background_rms_a[b] += a * a;
                 }
             }
         }
         for d in &mut out {
             d.thd_percent.iter_mut().for_each(|t| *t = t.sqrt());
             d.branch_rms_a.iter_mut().for_each(|t| *t = t.sqrt());
+            d.bank_background_rms_a
+                .iter_mut()
+                .for_each(|t| *t = t.sqrt());
         }
         Ok(out)
     }

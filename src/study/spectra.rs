@@ -1,9 +1,9 @@
 //! Harmonic current spectra: the built-in spectrum of each load type and the choice of
 //! spectrum for each load (its `Spectrum` from the Spectra sheet, else its type's).
 //!
-//! Magnitudes are in % of the load's fundamental current. Angles are not used: harmonic
-//! contributions of different loads are combined by magnitude (the Study sheet's
-//! summation law), so a spectrum's angles do not change any result.
+//! Magnitudes are in % of the load's fundamental current. Angles, in degrees, are referred
+//! to h times the angle of the load's fundamental current; they are used by `phasor`
+//! summation only (the magnitude laws ignore them).
 
 use serde::Serialize;
 
@@ -19,6 +19,29 @@ pub struct SpectrumChoice {
     pub source: &'static str,
     /// (order, % of fundamental), orders above the highest studied order removed.
     pub lines: Vec<(f64, f64)>,
+    /// Angle of each line, degrees, referred to h × the fundamental current's angle
+    /// (0 where a Spectra-sheet line has none; such a line is refused under `phasor`).
+    pub angles_deg: Vec<f64>,
+}
+
+/// Typical angle of a built-in spectrum's line, degrees, referred to h × the fundamental
+/// current's angle. Converters (6-, 12-, 18-pulse, active front end): the Fourier series
+/// of the ideal six-pulse line current, i = (2√3/π)·I_d·(cos ωt − cos 5ωt/5 + cos 7ωt/7 −
+/// cos 11ωt/11 + cos 13ωt/13 − …), i.e. 180° at h = 6k − 1 and 0° at h = 6k + 1 (power
+/// electronics textbooks, from memory). Single-phase electronic loads: a narrow current
+/// pulse at the voltage peak, every odd order at 0° (from memory). Real drives with DC-bus
+/// capacitors deviate by tens of degrees: give measured angles on the Spectra sheet when
+/// cancellation matters.
+pub fn built_in_angle_deg(kind: LoadType, order: f64) -> f64 {
+    if kind == LoadType::Electronic {
+        return 0.0;
+    }
+    let r = order.round();
+    if (order - r).abs() < 1e-9 && (r as i64).rem_euclid(6) == 5 {
+        180.0
+    } else {
+        0.0
+    }
 }
 
 /// Typical 6-pulse PWM drive with a DC-bus capacitor and no line reactor or DC choke:
@@ -90,7 +113,8 @@ const ACTIVE_FRONT_END: &[(f64, f64)] = &[
 
 /// Typical single-phase switch-mode power supplies (SMPS, LED drivers, IT) seen from the
 /// three-phase feeder: strong triplen and low odd orders, current THD about 109 %. From
-/// memory of typical published spectra; triplens are kept because the model passes them.
+/// memory of typical published spectra. The triplens are zero sequence: they reach only the
+/// buses the zero-sequence network connects to a grounded neutral.
 const ELECTRONIC: &[(f64, f64)] = &[
     (3.0, 80.0),
     (5.0, 60.0),
@@ -133,17 +157,20 @@ pub fn choose(plant: &Plant, load: &Load) -> Option<SpectrumChoice> {
     let keep = |lines: &mut Vec<(f64, f64)>| lines.retain(|&(h, _)| h <= highest + 1e-9);
     if let Some(name) = &load.spectrum {
         let sp = plant.spectrum(name)?;
-        let mut lines: Vec<(f64, f64)> = sp
+        let kept: Vec<&SpectrumLine> = sp
             .lines
             .iter()
-            .map(|l: &SpectrumLine| (l.order, l.magnitude_percent))
+            .filter(|l| l.order <= highest + 1e-9)
             .collect();
-        keep(&mut lines);
         return Some(SpectrumChoice {
             load: load.id.clone(),
             name: name.clone(),
             source: "Spectra sheet of the input workbook",
-            lines,
+            lines: kept
+                .iter()
+                .map(|l| (l.order, l.magnitude_percent))
+                .collect(),
+            angles_deg: kept.iter().map(|l| l.angle_deg.unwrap_or(0.0)).collect(),
         });
     }
     let (table, source) = built_in(load.kind)?;
@@ -153,6 +180,10 @@ pub fn choose(plant: &Plant, load: &Load) -> Option<SpectrumChoice> {
         load: load.id.clone(),
         name: format!("built-in: {}", load.kind.label()),
         source,
+        angles_deg: lines
+            .iter()
+            .map(|&(h, _)| built_in_angle_deg(load.kind, h))
+            .collect(),
         lines,
     })
 }

@@ -220,6 +220,8 @@ pub struct TransformerSpec {
     z_percent: Num,
     x_over_r: Num,
     in_service: bool,
+    group: u8,
+    zero_percent: Option<Num>,
 }
 
 #[derive(Arbitrary, Debug)]
@@ -251,6 +253,7 @@ pub struct BankSpec {
     existing: bool,
     studied: Option<Vec<u8>>,
     inrush_uh: Option<Num>,
+    connection: u8,
 }
 
 #[derive(Arbitrary, Debug)]
@@ -291,7 +294,14 @@ pub struct PlantSpec {
     banks: Vec<BankSpec>,
     loads: Vec<LoadSpec>,
     spectra: Vec<SpectrumSpec>,
+    phasor: bool,
+    background: Vec<(u8, Num, Num)>,
 }
+
+/// Vector groups the fuzzer picks from (every zero-sequence path kind).
+const GROUPS: &[&str] = &[
+    "Dyn11", "Dyn1", "YNyn0", "Yy0", "Dd0", "YNd1", "Dzn0", "YNyn6",
+];
 
 /// Bus `i` of `n` by name; an index past the end names a bus that does not exist.
 fn bus_name(i: u8, n: usize) -> String {
@@ -321,6 +331,9 @@ impl PlantSpec {
         };
         if self.iec_summation {
             s.summation = Summation::Iec61000_3_6;
+        }
+        if self.phasor {
+            s.summation = Summation::Phasor;
         }
         if self.skin {
             s.resistance_model = ResistanceModel::Skin;
@@ -357,6 +370,8 @@ impl PlantSpec {
                     },
                     x_over_r: x.x_over_r.get(X_OVER_R),
                     voltage_pu: 1.0,
+                    zero_short_circuit_mva: None,
+                    zero_x_over_r: None,
                 }
             })
             .collect();
@@ -373,6 +388,8 @@ impl PlantSpec {
                 impedance_percent: t.z_percent.get(Z_PERCENT),
                 x_over_r: t.x_over_r.get(X_OVER_R),
                 in_service: t.in_service,
+                connection: VectorGroup::parse(GROUPS[usize::from(t.group) % GROUPS.len()]),
+                zero_impedance_percent: t.zero_percent.map(|z| z.get(Z_PERCENT)),
             })
             .collect();
         plant.cables = self
@@ -424,6 +441,12 @@ impl PlantSpec {
                         Some(list) => list.iter().take(8).map(|&n| u32::from(n % 14)).collect(),
                     },
                     inrush_uh: b.inrush_uh.map(|v| v.get(Q)),
+                    connection: [
+                        None,
+                        Some(BankConnection::Delta),
+                        Some(BankConnection::Wye),
+                        Some(BankConnection::WyeGrounded),
+                    ][usize::from(b.connection % 4)],
                 }
             })
             .collect();
@@ -462,9 +485,21 @@ impl PlantSpec {
                     .map(|(h, m, a)| SpectrumLine {
                         order: h.get(SPECTRUM_ORDER),
                         magnitude_percent: m.get(MAGNITUDE),
-                        angle_deg: a.get(&[0.0, 180.0, -30.0]),
+                        angle_deg: Some(a.get(&[0.0, 180.0, -30.0])),
                     })
                     .collect(),
+            })
+            .collect();
+        let nsrc = plant.sources.len().max(1);
+        plant.background = self
+            .background
+            .iter()
+            .take(4)
+            .map(|(k, h, v)| BackgroundLine {
+                source: format!("U{}", usize::from(*k) % nsrc),
+                order: h.get(SPECTRUM_ORDER),
+                voltage_percent: v.get(PERCENT) / 10.0,
+                angle_deg: Some(v.get(&[0.0, 90.0, -45.0])),
             })
             .collect();
         plant

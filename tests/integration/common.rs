@@ -28,6 +28,8 @@ pub fn source(id: &str, bus: &str, mva: f64, x_over_r: f64) -> Source {
         short_circuit: ShortCircuit::Mva(mva),
         x_over_r,
         voltage_pu: 1.0,
+        zero_short_circuit_mva: None,
+        zero_x_over_r: None,
     }
 }
 
@@ -47,6 +49,8 @@ pub fn transformer(
         impedance_percent: z_percent,
         x_over_r,
         in_service: true,
+        connection: None,
+        zero_impedance_percent: None,
     }
 }
 
@@ -82,6 +86,7 @@ pub fn bank(
         status: BankStatus::Proposed,
         studied_steps: (0..=steps).collect(),
         inrush_uh: None,
+        connection: None,
     }
 }
 
@@ -107,7 +112,7 @@ pub fn spectrum(name: &str, lines: &[(f64, f64)]) -> Spectrum {
             .map(|&(order, m)| SpectrumLine {
                 order,
                 magnitude_percent: m,
-                angle_deg: 0.0,
+                angle_deg: Some(0.0),
             })
             .collect(),
     }

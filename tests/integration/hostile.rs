@@ -117,12 +117,12 @@ proptest! {
             Bus { id: "HV".into(), nominal_kv: 13.8, description: String::new() },
             Bus { id: "LV".into(), nominal_kv: kv, description: String::new() },
         ];
-        plant.sources = vec![Source { id: "U".into(), bus: "HV".into(), scenario: None, short_circuit: ShortCircuit::Mva(mva), x_over_r: xr, voltage_pu: 1.0 }];
-        plant.transformers = vec![Transformer { id: "T".into(), hv_bus: "HV".into(), lv_bus: "LV".into(), kva: 1000.0, impedance_percent: z, x_over_r: 6.0, in_service: true }];
+        plant.sources = vec![Source { id: "U".into(), bus: "HV".into(), scenario: None, short_circuit: ShortCircuit::Mva(mva), x_over_r: xr, voltage_pu: 1.0, zero_short_circuit_mva: None, zero_x_over_r: None }];
+        plant.transformers = vec![Transformer { id: "T".into(), hv_bus: "HV".into(), lv_bus: "LV".into(), kva: 1000.0, impedance_percent: z, x_over_r: 6.0, in_service: true, connection: None, zero_impedance_percent: None }];
         plant.banks = vec![CapacitorBank {
             id: "C".into(), bus: "LV".into(), rated_kv: kv.abs().max(0.1), step_kvar: kvar, steps,
             reactor: if p > 0.0 { Reactor::Detuning { percent: p } } else { Reactor::None },
-            reactor_q: 50.0, status: BankStatus::Proposed, studied_steps: (0..=steps).collect(), inrush_uh: None,
+            reactor_q: 50.0, status: BankStatus::Proposed, studied_steps: (0..=steps).collect(), inrush_uh: None, connection: None,
         }];
         plant.loads = vec![Load { id: "D".into(), bus: "LV".into(), kind: LoadType::SixPulseDrive, kw, power_factor: pf, quantity: 1.0, load_factor: 1.0, spectrum: None }];
         match run_check(&plant, &CheckOptions { remedies: Some(true), ..Default::default() }) {

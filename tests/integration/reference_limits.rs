@@ -163,7 +163,10 @@ fn hand_worked_single_bus_penetration() {
     // By hand, in ohm and ampere at 480 V:
     //   Z1 = 0.48² / 20 = 0.01152 ohm, R = Z1/√(1+10²), X = 10·R (input contract, Sources);
     //   X_C = 0.48² / 0.300 = 0.768 ohm (input contract, Capacitors);
-    //   Z(h) = 1 / (1/(R + j·h·X) + j·h/X_C);
+    //   Z(h) = 1 / (1/(R + j·h·X) + j·h/X_C) for h = 5, 7, 11; the 3rd is zero sequence
+    //   and the bank is delta (the default at 480 V), which has no zero-sequence path, so
+    //   Z(3) = R + j·3·X, the source's zero-sequence impedance (equal to Z1 by default)
+    //   (input contract, version 2: sequences);
     //   I1 = 200 kW / (√3 · 0.48 kV · 1.0) = 240.563 A; I_h = I1 · m_h / 100;
     //   V_h = |Z(h)| · I_h (line to neutral), v_h = V_h / (480/√3) · 100 %;
     //   THD = √(Σ v_h²); supply current I_s,h = V_h / |R + j·h·X|; TDD = √(Σ I_s,h²)/400·100.
@@ -179,7 +182,8 @@ fn hand_worked_single_bus_penetration() {
     let mut v_expected = Vec::new();
     for (h, m) in [(3.0, 10.0), (5.0, 20.0), (7.0, 14.29), (11.0, 9.09)] {
         let zs = num_complex::Complex64::new(r, h * x);
-        let z = (zs.inv() + num_complex::Complex64::new(0.0, h / xc)).inv();
+        let bank = if h == 3.0 { 0.0 } else { h / xc };
+        let z = (zs.inv() + num_complex::Complex64::new(0.0, bank)).inv();
         let ih = i1 * m / 100.0;
         let vh = z.norm() * ih;
         v_expected.push(vh / v_ln * 100.0);

@@ -47,7 +47,8 @@ pub(super) const LIMITS: &[&str] = &[
     "IEC 61000-2-4 class 2",
     "IEC 61000-2-4 class 3",
 ];
-pub(super) const SUMMATION: &[&str] = &["arithmetic", "IEC 61000-3-6"];
+pub(super) const SUMMATION: &[&str] = &["arithmetic", "IEC 61000-3-6", "phasor"];
+pub(super) const BANK_CONNECTIONS: &[&str] = &["delta", "wye", "wye grounded"];
 pub(super) const RESISTANCE: &[&str] = &["constant", "skin"];
 
 pub(super) const DATA_ROWS: u32 = 1000;
@@ -118,6 +119,18 @@ pub(super) fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                     Between(0.5, 1.5),
                     12.0,
                 ),
+                col(
+                    "Zero-sequence MVA",
+                    "Zero-sequence short-circuit power in MVA (Z0 = kV^2 / S0), > 0: the supply's zero-sequence equivalent for triplen orders. Default: equal to the positive sequence.",
+                    Positive,
+                    19.0,
+                ),
+                col(
+                    "Zero-sequence X/R",
+                    "X/R of the zero-sequence source impedance, > 0. Default: the positive-sequence X/R.",
+                    Positive,
+                    12.0,
+                ),
             ],
         ),
         (
@@ -154,6 +167,18 @@ pub(super) fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                     "yes/no (also y/n, true/false, 1/0, in/out). Default yes.",
                     List(YES_NO),
                     11.0,
+                ),
+                col(
+                    "Connection",
+                    "IEC 60076-1 vector group, HV winding first: Dyn11, Dyn1, YNyn0, Yy0, Dd0, YNd1, Dzn0... Gives the phase shift (clock x 30 deg) and the zero-sequence path. Default Dyn1 at 60 Hz, Dyn11 at 50 Hz (common practice).",
+                    Text,
+                    12.0,
+                ),
+                col(
+                    "Zero-sequence impedance (%)",
+                    "Zero-sequence impedance in % on its own rating, > 0, with the same X/R; only where a zero-sequence path exists (YN or ZN windings). Default: the positive-sequence impedance.",
+                    Positive,
+                    16.0,
                 ),
             ],
         ),
@@ -259,6 +284,12 @@ pub(super) fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                     Positive,
                     14.0,
                 ),
+                col(
+                    "Connection",
+                    "delta, wye (ungrounded) or wye grounded. Only a grounded-wye bank has a zero-sequence path (triplen orders). Default delta up to 1 kV, wye above (common practice).",
+                    List(BANK_CONNECTIONS),
+                    13.0,
+                ),
             ],
         ),
         (
@@ -327,7 +358,36 @@ pub(super) fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                 ),
                 col(
                     "Angle (deg)",
-                    "Phase angle in degrees. Default 0.",
+                    "Phase angle in degrees, referred to h x the angle of the load's fundamental current. Required for every line under phasor summation; not used otherwise.",
+                    Between(-360.0, 360.0),
+                    12.0,
+                ),
+            ],
+        ),
+        (
+            "Background",
+            vec![
+                col(
+                    "Source",
+                    "Source id from the Sources sheet: the utility's own harmonic voltage behind that source (open-circuit EMF, plant disconnected). Required.",
+                    Text,
+                    12.0,
+                ),
+                col(
+                    "Order",
+                    "Harmonic order h > 1, once per source. Required.",
+                    Between(1.0001, 1000.0),
+                    8.0,
+                ),
+                col(
+                    "Voltage (%)",
+                    "Harmonic voltage in % of the nominal voltage, 0 to 100. Required.",
+                    Between(0.0, 100.0),
+                    12.0,
+                ),
+                col(
+                    "Angle (deg)",
+                    "Angle in degrees referred to the source's fundamental EMF; used with phasor summation. Default 0.",
                     Between(-360.0, 360.0),
                     12.0,
                 ),
@@ -380,7 +440,7 @@ pub(super) fn study_items() -> Vec<(&'static str, &'static str, Check)> {
         ),
         (
             "Summation",
-            "arithmetic (an upper bound) or IEC 61000-3-6 (summation exponents by order). Default arithmetic.",
+            "arithmetic (magnitudes add: an upper bound), IEC 61000-3-6 (summation exponents by order) or phasor (complex sum with spectrum angles referred to each load's fundamental current at the operating point). Default arithmetic.",
             List(SUMMATION),
         ),
         (

@@ -93,6 +93,8 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                     ka,
                     N(s.x_over_r),
                     N(s.voltage_pu),
+                    s.zero_short_circuit_mva.map_or(Blank, N),
+                    s.zero_x_over_r.map_or(Blank, N),
                 ]
             })
             .collect(),
@@ -108,6 +110,8 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                     N(x.impedance_percent),
                     N(x.x_over_r),
                     t(if x.in_service { "yes" } else { "no" }),
+                    x.connection.map_or(Blank, |g| T(g.label())),
+                    x.zero_impedance_percent.map_or(Blank, N),
                 ]
             })
             .collect(),
@@ -161,6 +165,7 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                     }),
                     T(studied),
                     b.inrush_uh.map_or(Blank, N),
+                    b.connection.map_or(Blank, |c| t(c.label())),
                 ]
             })
             .collect(),
@@ -189,9 +194,21 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                         t(&s.name),
                         N(l.order),
                         N(l.magnitude_percent),
-                        N(l.angle_deg),
+                        l.angle_deg.map_or(Blank, N),
                     ]
                 })
+            })
+            .collect(),
+        "Background" => plant
+            .background
+            .iter()
+            .map(|b| {
+                vec![
+                    t(&b.source),
+                    N(b.order),
+                    N(b.voltage_percent),
+                    b.angle_deg.map_or(Blank, N),
+                ]
             })
             .collect(),
         _ => Vec::new(),
@@ -224,6 +241,7 @@ fn study_values(plant: &Plant) -> Vec<V> {
         t(match s.summation {
             Summation::Arithmetic => SUMMATION[0],
             Summation::Iec61000_3_6 => SUMMATION[1],
+            Summation::Phasor => SUMMATION[2],
         }),
         N(s.resonance_margin_percent),
         T(format!("{}/+{}", tol.minus_percent, tol.plus_percent)),

@@ -7,6 +7,7 @@
 //! validation ([`Plant::validate`]), whose element-and-field errors are mapped back to cells.
 
 mod cells;
+mod sequence;
 mod sheets;
 mod study;
 mod table;
@@ -260,6 +261,7 @@ pub const SHEETS: &[(&str, bool)] = &[
     ("Capacitors", false),
     ("Loads", false),
     ("Spectra", false),
+    ("Background", false),
 ];
 
 /// Reads and validates a workbook held in memory; `file` names it in messages and `stem`
@@ -369,7 +371,8 @@ pub fn read_workbook_bytes_within(
     }
     let mut t_tx = table(3, sheets::TRANSFORMERS, &mut diag);
     if let Some(t) = &mut t_tx {
-        plant.transformers = sheets::transformers(t, &mut diag, &mut defaults);
+        plant.transformers =
+            sheets::transformers(t, &mut diag, &mut defaults, plant.study.frequency_hz);
         t.release_cells();
     }
     let mut t_cables = table(4, sheets::CABLES, &mut diag);
@@ -379,7 +382,13 @@ pub fn read_workbook_bytes_within(
     }
     let mut t_caps = table(5, sheets::CAPACITORS, &mut diag);
     if let Some(t) = &mut t_caps {
-        plant.banks = sheets::banks(t, &mut diag, &mut defaults);
+        let kv: std::collections::HashMap<&str, f64> = plant
+            .buses
+            .iter()
+            .map(|b| (b.id.as_str(), b.nominal_kv))
+            .collect();
+        let bus_kv = |id: &str| kv.get(id).copied();
+        plant.banks = sheets::banks(t, &mut diag, &mut defaults, &bus_kv);
         t.release_cells();
     }
     let mut t_loads = table(6, sheets::LOADS, &mut diag);
@@ -389,7 +398,11 @@ pub fn read_workbook_bytes_within(
     }
     let mut t_spectra = table(7, sheets::SPECTRA, &mut diag);
     if let Some(t) = &mut t_spectra {
-        plant.spectra = sheets::spectra(t, &mut diag);
+        plant.spectra = sheets::spectra(
+            t,
+            &mut diag,
+            plant.study.summation == crate::model::Summation::Phasor,
+        );
         t.release_cells();
         for s in &plant.spectra {
             for l in s
@@ -407,6 +420,11 @@ pub fn read_workbook_bytes_within(
                 );
             }
         }
+    }
+    let mut t_background = table(8, sheets::BACKGROUND, &mut diag);
+    if let Some(t) = &mut t_background {
+        plant.background = sequence::background(t, &mut diag);
+        t.release_cells();
     }
     defaults.report(&mut diag);
 
@@ -429,6 +447,7 @@ pub fn read_workbook_bytes_within(
                         "Cables" => &t_cables,
                         "Capacitors" => &t_caps,
                         "Loads" => &t_loads,
+                        "Background" => &t_background,
                         _ => &None,
                     };
                     t.as_ref().filter(|t| !t.is_missing(e.field)).map(|t| {

@@ -4,13 +4,13 @@
 use super::table::{Column, Diagnostics, Table, normalize, shown};
 use crate::model::*;
 
-const fn req(header: &'static str) -> Column {
+pub(super) const fn req(header: &'static str) -> Column {
     Column {
         header,
         required: true,
     }
 }
-const fn opt(header: &'static str) -> Column {
+pub(super) const fn opt(header: &'static str) -> Column {
     Column {
         header,
         required: false,
@@ -26,6 +26,8 @@ pub const SOURCES: &[Column] = &[
     opt("Short-circuit kA"),
     req("X/R"),
     opt("Voltage (pu)"),
+    opt("Zero-sequence MVA"),
+    opt("Zero-sequence X/R"),
 ];
 pub const TRANSFORMERS: &[Column] = &[
     req("Transformer"),
@@ -35,6 +37,8 @@ pub const TRANSFORMERS: &[Column] = &[
     req("Impedance (%)"),
     req("X/R"),
     opt("In service"),
+    opt("Connection"),
+    opt("Zero-sequence impedance (%)"),
 ];
 pub const CABLES: &[Column] = &[
     req("Cable"),
@@ -58,6 +62,7 @@ pub const CAPACITORS: &[Column] = &[
     opt("Status"),
     opt("Studied steps"),
     opt("Inrush inductance (uH)"),
+    opt("Connection"),
 ];
 pub const LOADS: &[Column] = &[
     req("Load"),
@@ -75,6 +80,12 @@ pub const SPECTRA: &[Column] = &[
     req("Magnitude (%)"),
     opt("Angle (deg)"),
 ];
+pub const BACKGROUND: &[Column] = &[
+    req("Source"),
+    req("Order"),
+    req("Voltage (%)"),
+    opt("Angle (deg)"),
+];
 
 /// Default reactor X/R at fundamental (input contract, sheet `Capacitors`).
 pub const DEFAULT_REACTOR_Q: f64 = 50.0;
@@ -84,7 +95,7 @@ pub const DEFAULT_REACTOR_Q: f64 = 50.0;
 pub struct Defaults(Vec<(&'static str, &'static str, String, usize)>);
 
 impl Defaults {
-    fn note(&mut self, sheet: &'static str, column: &'static str, value: &str) {
+    pub(super) fn note(&mut self, sheet: &'static str, column: &'static str, value: &str) {
         match self
             .0
             .iter_mut()
@@ -163,15 +174,29 @@ pub fn sources(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<S
                         defaults.note("Sources", "Voltage (pu)", "1.0");
                         DEFAULT_SOURCE_VOLTAGE_PU
                     }),
+                zero_short_circuit_mva: t.number(r, "Zero-sequence MVA", "a positive number", d),
+                zero_x_over_r: t.number(r, "Zero-sequence X/R", "a positive number", d),
             }
         })
         .collect()
 }
 
-pub fn transformers(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Transformer> {
+pub fn transformers(
+    t: &Table,
+    d: &mut Diagnostics,
+    defaults: &mut Defaults,
+    frequency_hz: f64,
+) -> Vec<Transformer> {
     t.rows
         .iter()
         .map(|r| Transformer {
+            connection: super::sequence::vector_group(t, r, d, defaults, frequency_hz),
+            zero_impedance_percent: t.number(
+                r,
+                "Zero-sequence impedance (%)",
+                "a positive percentage",
+                d,
+            ),
             id: t.id(r, "Transformer", d),
             hv_bus: t.id(r, "HV bus", d),
             lv_bus: t.id(r, "LV bus", d),
@@ -266,7 +291,12 @@ pub fn studied_steps(text: &str, steps: u32) -> Result<Vec<u32>, String> {
     Ok(out)
 }
 
-pub fn banks(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<CapacitorBank> {
+pub fn banks(
+    t: &Table,
+    d: &mut Diagnostics,
+    defaults: &mut Defaults,
+    bus_kv: &dyn Fn(&str) -> Option<f64>,
+) -> Vec<CapacitorBank> {
     t.rows
         .iter()
         .map(|r| {
@@ -319,9 +349,12 @@ pub fn banks(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Cap
                     (0..=steps).collect()
                 }),
             };
+            let bus = t.id(r, "Bus", d);
+            let connection = super::sequence::bank_connection(t, r, d, defaults, bus_kv(&bus));
             CapacitorBank {
+                connection,
                 id: t.id(r, "Bank", d),
-                bus: t.id(r, "Bus", d),
+                bus,
                 rated_kv: t.required_number(r, "Rated kV", "a positive number", d),
                 step_kvar: t.required_number(r, "Step kvar", "a positive number", d),
                 steps,
@@ -423,7 +456,7 @@ pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Loa
 
 /// Spectra grouped by name in order of first appearance; each line checked at its cell
 /// (order above 1 and listed once per spectrum, magnitude zero or more).
-pub fn spectra(t: &Table, d: &mut Diagnostics) -> Vec<Spectrum> {
+pub fn spectra(t: &Table, d: &mut Diagnostics, phasor: bool) -> Vec<Spectrum> {
     let mut out: Vec<Spectrum> = Vec::new();
     for r in &t.rows {
         let name = t.id(r, "Spectrum", d);
@@ -443,9 +476,16 @@ pub fn spectra(t: &Table, d: &mut Diagnostics) -> Vec<Spectrum> {
                 format!("\"Magnitude (%)\" must be a number of zero or more, found {magnitude}"),
             );
         }
-        let angle = t
-            .number(r, "Angle (deg)", "an angle in degrees", d)
-            .unwrap_or(0.0);
+        let angle = t.number(r, "Angle (deg)", "an angle in degrees", d);
+        if angle.is_none() && phasor {
+            d.error(
+                &t.sheet,
+                t.cell(r, "Angle (deg)"),
+                format!(
+                    "\"Angle (deg)\" is blank for order {order} of spectrum \"{name}\": \"phasor\" summation needs every spectrum line's angle"
+                ),
+            );
+        }
         let i = match out.iter().position(|s| s.name == name) {
             Some(i) => i,
             None => {

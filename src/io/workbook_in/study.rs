@@ -157,7 +157,8 @@ pub fn read(t: &Table, file_stem: &str, d: &mut Diagnostics) -> (StudySettings, 
                 None => {}
                 Some("arithmetic") => s.summation = Summation::Arithmetic,
                 Some("iec6100036") => s.summation = Summation::Iec61000_3_6,
-                Some(_) => bad(d, "arithmetic or IEC 61000-3-6"),
+                Some("phasor") => s.summation = Summation::Phasor,
+                Some(_) => bad(d, "arithmetic, IEC 61000-3-6 or phasor"),
             },
             "targetpowerfactor" => {
                 if let Some(v) = number("a power factor between 0.5 and 1 (lagging)", d) {

@@ -42,6 +42,7 @@ pub(super) fn summary(
             match p.summation {
                 Summation::Arithmetic => "arithmetic",
                 Summation::Iec61000_3_6 => "IEC 61000-3-6",
+                Summation::Phasor => "phasor",
             }
             .into(),
         ),
@@ -516,7 +517,7 @@ pub(super) fn input(
                         t(&s.name),
                         n(l.order, "0.##"),
                         n(l.magnitude_percent, "0.00"),
-                        n(l.angle_deg, "0.0"),
+                        l.angle_deg.map_or_else(|| t(""), |a| n(a, "0.0")),
                     ]
                 })
             })

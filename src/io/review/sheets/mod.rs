@@ -10,7 +10,7 @@ use rust_xlsxwriter::{
 
 use super::Provenance;
 use crate::check::CheckResults;
-use crate::model::{LimitSet, ResistanceModel, Summation};
+use crate::model::{LimitSet, ResistanceModel};
 use crate::report::cautions::CAUTIONS;
 
 const BAD: [&str; 6] = [
@@ -107,11 +107,11 @@ fn extra_cautions() -> Vec<String> {
 fn assumptions(res: &CheckResults) -> Vec<String> {
     let p = &res.plant.study;
     let mut a = vec![
-        "Balanced, positive-sequence, per-phase model; triplen harmonics pass transformers as a series impedance (no zero-sequence blocking by delta windings, no winding phase shifts); interharmonics only where a spectrum gives them; transients only by the simple formulas stated.".to_string(),
+        crate::report::model_scope().to_string(),
         format!("Per-unit base 100 MVA, bus nominal kV; resistance model {} (R·√h with skin).", match p.resistance_model { ResistanceModel::Constant => "constant", ResistanceModel::Skin => "skin" }),
         "Sources and transformers: series R-L from the fault level or impedance and X/R; cables: pi model; linear loads: parallel R-L (R = V²/P, X = V²/Q); motors: R + jhX'' with X'' = 0.17 pu on kW·qty/pf and X''/R = 10 (defaults of the input contract).".into(),
         "Capacitor steps: X_C = kV_rated²/Mvar per step; detuned: X_L = p·X_C, R = X_L/Q; tuned: p = 1/order².".into(),
-        format!("Harmonic loads inject I_h = I₁·m_h/100, I₁ = P/(√3·kV·pf); contributions combine by magnitude ({}); spectrum angles are not used.", match p.summation { Summation::Arithmetic => "arithmetic summation, an upper bound", Summation::Iec61000_3_6 => "IEC 61000-3-6 summation exponents" }),
+        format!("Harmonic loads inject I_h = I₁·m_h/100, I₁ = P/(√3·kV·pf); {}", crate::report::summation_meaning(p.summation)),
         format!("Limits: {}; interharmonics and orders outside the stored tables have no individual limit (they count in THD/TDD). The PCC current is the current into the scenario's supply equivalents.", limit_set_name(p.limits)),
         format!("Capacitance tolerance {}/+{} % applied to the resonance band; capacitor duty at nominal capacitance and at the bus voltage the load flow solved for each scenario and configuration (nominal where it has no solution).", p.capacitance_tolerance.minus_percent, p.capacitance_tolerance.plus_percent),
         format!("Operating point: fundamental load flow by Newton's method to 1e-9 pu mismatch; sources as EMFs of Voltage (pu) at angle 0 behind their impedance; loads (linear, motor, converter) at constant power P = kW·Quantity·Load factor, Q = P·tan(acos pf) lagging; capacitor steps, reactors and cable charging as admittances at h = 1; transformers at the ratio of their buses' kV (no taps); target PF {} lagging, voltage range {}/{} pu, step voltage change {} %.", p.target_power_factor, p.voltage_range.low_pu, p.voltage_range.high_pu, p.step_voltage_change_percent),
