@@ -2,6 +2,7 @@
 //! configuration and screen each bank's resonance. Writers in [`crate::io`] and
 //! [`crate::report`] read the [`CheckResults`] only.
 
+use crate::model::Sequence;
 use crate::model::{ModelErrors, Plant};
 use crate::network::{Network, TopologyError};
 use crate::solve::{Engine, SolveError};
@@ -11,6 +12,7 @@ use crate::study::limits::{LimitContext, LimitRow, limit_row};
 use crate::study::operating::OperatingStudy;
 use crate::study::penetration::{Injections, Penetration, SequenceEngines};
 use crate::study::remedy::{Outcome, RemedyResult};
+use crate::study::resonance::ZeroScan;
 use crate::study::tolerance::{ToleranceBand, bands};
 use crate::study::transient::{Inrush, energize};
 use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid, all_configurations};
@@ -88,6 +90,13 @@ pub struct CheckResults {
     pub plant: Plant,
     pub network: Network,
     pub scan: Scan,
+    /// The zero-sequence scan at the grounded-wye banks' buses, when a characteristic order
+    /// is zero sequence; its configurations are the distinct projections of `scan`'s onto
+    /// those banks (`zero_map[c]`).
+    pub zero_scan: Option<Scan>,
+    pub zero_map: Vec<usize>,
+    /// The zero-sequence network.
+    pub zero_network: Network,
     pub resonance: ResonanceStudy,
     /// The fundamental load flow of every scenario × configuration.
     pub operating: OperatingStudy,
@@ -206,15 +215,66 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
     }
     let engine = Engine::new(&network, &buses);
     let zero = network.build_zero(plant)?;
-    let zero_engine = Engine::new(&zero, &buses);
+    // The zero-sequence scan: at the grounded-wye banks' buses, when some characteristic
+    // order is zero sequence (otherwise no bank can amplify a zero-sequence order).
+    let mut zero_buses: Vec<usize> = Vec::new();
+    for b in network
+        .banks
+        .iter()
+        .filter(|b| b.connection.has_zero_path())
+    {
+        if !zero_buses.contains(&b.bus) {
+            zero_buses.push(b.bus);
+        }
+    }
+    let zero_engine = Engine::new(&zero, &zero_buses);
+    let chars = crate::study::resonance::characteristic_orders(plant, plant.study.highest_order);
+    let zero_orders = chars.iter().any(|&h| Sequence::of(h) == Sequence::Zero);
     let grid = ScanGrid::new(plant.study.highest_order, plant.study.scan_step_order);
     let quiet = |_: u64, _: u64| {};
     let progress: &(dyn Fn(u64, u64) + Sync) = match &options.progress {
         Some(p) => p.as_ref(),
         None => &quiet,
     };
+    let zero_grid = grid.clone();
     let scan = Scan::run(&engine, grid, configurations, progress)?;
-    let resonance = ResonanceStudy::run(plant, &network, &engine, &scan)?;
+    let (zero_scan, zero_map) = if zero_orders && !zero_buses.is_empty() {
+        // Configurations that differ only in banks without a zero-sequence path have the
+        // same zero-sequence network: scan each distinct one once.
+        let mut distinct: Vec<Configuration> = Vec::new();
+        let map: Vec<usize> = scan
+            .configurations
+            .iter()
+            .map(|c| {
+                let steps: Vec<u32> = c
+                    .steps
+                    .iter()
+                    .zip(&network.banks)
+                    .map(|(&k, b)| if b.connection.has_zero_path() { k } else { 0 })
+                    .collect();
+                let projected = Configuration { steps };
+                distinct
+                    .iter()
+                    .position(|d| *d == projected)
+                    .unwrap_or_else(|| {
+                        distinct.push(projected);
+                        distinct.len() - 1
+                    })
+            })
+            .collect();
+        (
+            Some(Scan::run(&zero_engine, zero_grid, distinct, &|_, _| {})?),
+            map,
+        )
+    } else {
+        (None, Vec::new())
+    };
+    let zero_view = zero_scan.as_ref().map(|scan| ZeroScan {
+        engine: &zero_engine,
+        scan,
+        map: &zero_map,
+    });
+    let resonance = ResonanceStudy::run(plant, &network, &engine, &scan, zero_view.as_ref())?;
     let operating = OperatingStudy::run(plant, &network, &scan.configurations);
 
     // Harmonic penetration and limits. Isc: the largest fault current at the PCC over the
@@ -343,6 +403,9 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         plant: plant.clone(),
         network: network.clone(),
         scan,
+        zero_scan,
+        zero_map,
+        zero_network: zero.clone(),
         resonance,
         operating,
         penetration,

@@ -4,7 +4,7 @@
 use serde::Serialize;
 
 /// The symmetrical-component sequence a balanced harmonic order belongs to.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
 #[serde(rename_all = "lowercase")]
 pub enum Sequence {
     Positive,

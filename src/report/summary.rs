@@ -33,7 +33,7 @@ fn cells(r: &ResonanceRow) -> Vec<String> {
         fmt_opt(r.peak.and_then(|p| p.sharpness), 1),
         fmt_opt(r.nearest_characteristic, 0),
         fmt_opt(r.margin_percent, 1),
-        r.verdict.word().to_string(),
+        r.verdict_text(),
     ]
 }
 

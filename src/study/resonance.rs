@@ -5,7 +5,7 @@
 use serde::Serialize;
 
 use super::{Extremum, Scan};
-use crate::model::{LoadType, Plant};
+use crate::model::{LoadType, Plant, Sequence};
 use crate::network::{BASE_MVA, Network};
 use crate::solve::{Engine, SolveError};
 
@@ -13,7 +13,8 @@ use crate::solve::{Engine, SolveError};
 /// `highest`: h = k·p ± 1 for a p-pulse converter (6-pulse with or without reactor and
 /// active front end: p = 6; 12-pulse: 12; 18-pulse: 18; textbook), every odd order ≥ 3 for
 /// electronic loads (single-phase rectifiers, common practice), and the orders of the
-/// spectrum for custom loads or any load given a spectrum.
+/// spectrum for custom loads or any load given a spectrum, and the orders of the Background
+/// sheet (the harmonics the utility already carries).
 pub fn characteristic_orders(plant: &Plant, highest: f64) -> Vec<f64> {
     let mut orders: Vec<f64> = Vec::new();
     let mut add = |h: f64| {
@@ -52,8 +53,32 @@ pub fn characteristic_orders(plant: &Plant, highest: f64) -> Vec<f64> {
             }
         }
     }
+    for b in plant.background.iter().filter(|b| b.voltage_percent > 0.0) {
+        add(b.order);
+    }
     orders.sort_by(f64::total_cmp);
     orders
+}
+
+/// The characteristic orders a scan of `sequence` can amplify: the zero-sequence ones
+/// (h = 3k) for the zero-sequence scan, every other order for the positive-sequence scan
+/// (which also carries the negative-sequence orders, with the same impedances).
+pub fn orders_of_sequence(chars: &[f64], sequence: Sequence) -> Vec<f64> {
+    let zero = sequence == Sequence::Zero;
+    chars
+        .iter()
+        .copied()
+        .filter(|&h| (Sequence::of(h) == Sequence::Zero) == zero)
+        .collect()
+}
+
+/// The zero-sequence scan of the banks with a zero-sequence path (grounded wye).
+pub struct ZeroScan<'a, 'b> {
+    pub engine: &'a Engine<'b>,
+    pub scan: &'a Scan,
+    /// For each configuration of the positive scan, its index in `scan` (the steps of the
+    /// banks without a zero-sequence path set to 0).
+    pub map: &'a [usize],
 }
 
 /// The screening verdict of one bank's resonance in one configuration.
@@ -100,6 +125,19 @@ pub struct ResonanceRow {
     /// (h_peak − h_char) / h_char × 100.
     pub margin_percent: Option<f64>,
     pub verdict: Verdict,
+    /// The sequence network scanned: `positive` (which carries the positive- and
+    /// negative-sequence orders) or `zero` (triplen orders, grounded-wye banks only).
+    pub sequence: Sequence,
+}
+
+impl ResonanceRow {
+    /// The verdict as printed: the word, marked `(zero seq)` for a zero-sequence row.
+    pub fn verdict_text(&self) -> String {
+        match self.sequence {
+            Sequence::Zero => format!("{} (zero seq)", self.verdict.word()),
+            _ => self.verdict.word().to_string(),
+        }
+    }
 }
 
 /// The resonance study of every scenario × configuration × energized bank.
@@ -111,18 +149,26 @@ pub struct ResonanceStudy {
 }
 
 impl ResonanceStudy {
-    /// Builds the rows from a scan that includes every bank bus.
+    /// Builds the rows from a scan that includes every bank bus, and from the zero-sequence
+    /// scan of the grounded-wye banks when one was run.
     pub fn run(
         plant: &Plant,
         net: &Network,
         engine: &Engine<'_>,
         scan: &Scan,
+        zero: Option<&ZeroScan<'_, '_>>,
     ) -> Result<ResonanceStudy, SolveError> {
         let chars = characteristic_orders(plant, plant.study.highest_order);
         let margin = plant.study.resonance_margin_percent;
         let mut rows = Vec::new();
-        for (s, scenario) in net.scenarios.iter().enumerate() {
+        let positive = orders_of_sequence(&chars, Sequence::Positive);
+        let zero_chars = orders_of_sequence(&chars, Sequence::Zero);
+        for s in 0..net.scenarios.len() {
             let fundamental = scan.fundamental(engine, s)?;
+            let zero_fundamental = match zero {
+                Some(z) => Some(z.scan.fundamental(z.engine, s)?),
+                None => None,
+            };
             for (c, cfg) in scan.configurations.iter().enumerate() {
                 let label = cfg.label(&plant.banks);
                 for (b, bank) in net.banks.iter().enumerate() {
@@ -130,55 +176,42 @@ impl ResonanceStudy {
                     if n == 0 {
                         continue;
                     }
-                    let bus = &net.buses[bank.bus];
+                    if let (Some(z), Some(f0)) = (zero, &zero_fundamental)
+                        && bank.connection.has_zero_path()
+                        && let Some(sb) = z.scan.buses.iter().position(|&i| i == bank.bus)
+                    {
+                        let z_th_pu = f0.bank_bus_z0_pu(b).norm();
+                        let series = z.scan.series(s, z.map[c], sb);
+                        rows.push(row(
+                            plant,
+                            net,
+                            (s, b, n),
+                            &label,
+                            z_th_pu,
+                            &series.peaks,
+                            &zero_chars,
+                            margin,
+                            Sequence::Zero,
+                        ));
+                    }
                     let z_th_pu = fundamental.bank_bus_z0_pu(b).norm();
-                    let xc_pu = bank.xc_step_pu / f64::from(n);
-                    let hand_order = (xc_pu / (z_th_pu + bank.p * xc_pu)).sqrt();
-                    let peak = scan
+                    let no_peaks = Vec::new();
+                    let peaks = scan
                         .buses
                         .iter()
                         .position(|&i| i == bank.bus)
-                        .and_then(|sb| {
-                            scan.series(s, c, sb)
-                                .peaks
-                                .iter()
-                                .min_by(|x, y| {
-                                    (x.order - hand_order)
-                                        .abs()
-                                        .total_cmp(&(y.order - hand_order).abs())
-                                })
-                                .copied()
-                        });
-                    let nearest = peak.and_then(|p| {
-                        chars
-                            .iter()
-                            .copied()
-                            .min_by(|x, y| (x - p.order).abs().total_cmp(&(y - p.order).abs()))
-                    });
-                    let margin_percent = match (peak, nearest) {
-                        (Some(p), Some(h)) => Some((p.order - h) / h * 100.0),
-                        _ => None,
-                    };
-                    let verdict = match (peak, margin_percent) {
-                        (None, _) => Verdict::NoPeak,
-                        (Some(_), Some(m)) if m.abs() <= margin => Verdict::Resonant,
-                        _ => Verdict::Clear,
-                    };
-                    let model = &plant.banks[b];
-                    rows.push(ResonanceRow {
-                        scenario: scenario.name.clone(),
-                        configuration: label.clone(),
-                        bank: bank.id.clone(),
-                        bus: bus.id.clone(),
-                        steps: n,
-                        s_sc_mva: BASE_MVA / z_th_pu,
-                        q_c_kvar: model.kvar_at(n, bus.kv),
-                        hand_order,
-                        peak,
-                        nearest_characteristic: nearest,
-                        margin_percent,
-                        verdict,
-                    });
+                        .map_or(&no_peaks, |sb| &scan.series(s, c, sb).peaks);
+                    rows.push(row(
+                        plant,
+                        net,
+                        (s, b, n),
+                        &label,
+                        z_th_pu,
+                        peaks,
+                        &positive,
+                        margin,
+                        Sequence::Positive,
+                    ));
                 }
             }
         }
@@ -187,5 +220,64 @@ impl ResonanceStudy {
             margin_percent: margin,
             rows,
         })
+    }
+}
+
+/// One row: bank `b` with `n` steps in scenario `s`, its Thevenin impedance without banks
+/// in the scanned sequence (`z_th_pu`), the scanned peaks at its bus and the characteristic
+/// orders of that sequence.
+#[allow(clippy::too_many_arguments)]
+fn row(
+    plant: &Plant,
+    net: &Network,
+    (s, b, n): (usize, usize, u32),
+    label: &str,
+    z_th_pu: f64,
+    peaks: &[Extremum],
+    chars: &[f64],
+    margin: f64,
+    sequence: Sequence,
+) -> ResonanceRow {
+    let bank = &net.banks[b];
+    let bus = &net.buses[bank.bus];
+    let xc_pu = bank.xc_step_pu / f64::from(n);
+    let hand_order = (xc_pu / (z_th_pu + bank.p * xc_pu)).sqrt();
+    let peak = peaks
+        .iter()
+        .min_by(|x, y| {
+            (x.order - hand_order)
+                .abs()
+                .total_cmp(&(y.order - hand_order).abs())
+        })
+        .copied();
+    let nearest = peak.and_then(|p| {
+        chars
+            .iter()
+            .copied()
+            .min_by(|x, y| (x - p.order).abs().total_cmp(&(y - p.order).abs()))
+    });
+    let margin_percent = match (peak, nearest) {
+        (Some(p), Some(h)) => Some((p.order - h) / h * 100.0),
+        _ => None,
+    };
+    let verdict = match (peak, margin_percent) {
+        (None, _) => Verdict::NoPeak,
+        (Some(_), Some(m)) if m.abs() <= margin => Verdict::Resonant,
+        _ => Verdict::Clear,
+    };
+    ResonanceRow {
+        scenario: net.scenarios[s].name.clone(),
+        configuration: label.to_string(),
+        bank: bank.id.clone(),
+        bus: bus.id.clone(),
+        steps: n,
+        s_sc_mva: BASE_MVA / z_th_pu,
+        q_c_kvar: plant.banks[b].kvar_at(n, bus.kv),
+        hand_order,
+        peak,
+        nearest_characteristic: nearest,
+        margin_percent,
+        verdict,
+        sequence,
     }
 }

@@ -9,7 +9,8 @@
 
 use serde::Serialize;
 
-use super::resonance::{ResonanceRow, Verdict};
+use super::resonance::{ResonanceRow, Verdict, orders_of_sequence};
+use crate::model::Sequence;
 
 /// One bank in one configuration across scenarios and tolerance.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -24,6 +25,8 @@ pub struct ToleranceBand {
     pub flagged: bool,
     /// The characteristic order reached, if flagged.
     pub reaches: Option<f64>,
+    /// The sequence network of the rows (zero-sequence bands hold only triplen orders).
+    pub sequence: Sequence,
 }
 
 /// Scales a scanned order for a capacitance change of `t` (fraction), given the hand-check
@@ -50,12 +53,12 @@ pub fn bands(
 ) -> Vec<ToleranceBand> {
     let mut out: Vec<ToleranceBand> = Vec::new();
     // Rows grouped by (configuration, bank), in order of first appearance.
-    let mut index: std::collections::HashMap<(&str, &str), usize> =
+    let mut index: std::collections::HashMap<(&str, &str, Sequence), usize> =
         std::collections::HashMap::new();
     let mut groups: Vec<Vec<&ResonanceRow>> = Vec::new();
     for r in rows {
         let i = *index
-            .entry((r.configuration.as_str(), r.bank.as_str()))
+            .entry((r.configuration.as_str(), r.bank.as_str(), r.sequence))
             .or_insert_with(|| {
                 groups.push(Vec::new());
                 groups.len() - 1
@@ -79,7 +82,8 @@ pub fn bands(
             continue;
         }
         let nominal_clear = group.iter().all(|r| r.verdict != Verdict::Resonant);
-        let reaches = chars
+        let sequence = group[0].sequence;
+        let reaches = orders_of_sequence(chars, sequence)
             .iter()
             .copied()
             .find(|&c| lo <= c * (1.0 + margin / 100.0) && hi >= c * (1.0 - margin / 100.0));
@@ -90,6 +94,7 @@ pub fn bands(
             high_order: hi,
             flagged: nominal_clear && reaches.is_some(),
             reaches: if nominal_clear { reaches } else { None },
+            sequence,
         });
     }
     out

@@ -26,6 +26,7 @@ mod reference_capacitors;
 mod reference_limits;
 mod reference_operating;
 mod reference_resonance;
+mod reference_sequence;
 mod review;
 mod scan;
 mod solver;
