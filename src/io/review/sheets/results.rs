@@ -88,7 +88,7 @@ pub(super) fn resonance(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
                 margin,
                 on(band.map(|b| b.low_order), "0.000"),
                 on(band.map(|b| b.high_order), "0.000"),
-                t(&r.verdict_text()),
+                t(r.verdict_text()),
             ],
         )?;
     }
