@@ -414,3 +414,44 @@ fn a_plant_built_from_the_template_gives_its_operating_point() {
     assert!(lines[1].starts_with("base,C1=3,HV,"), "{}", lines[1]);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn bad_sequence_inputs_exit_2_and_write_nothing() {
+    // Background on an unknown source and a negative background voltage (input contract,
+    // version 2): both located, exit status 2, no output file.
+    let dir = temp_dir("badseq");
+    let mut plant = overtone::demo::demo_plant().unwrap();
+    for (source, v) in [("GRID", 1.0), ("UTIL-MAX", -2.0)] {
+        plant.background.push(overtone::model::BackgroundLine {
+            source: source.into(),
+            order: 5.0,
+            voltage_percent: v,
+            angle_deg: None,
+        });
+    }
+    let bad = dir.join("bad.xlsx");
+    std::fs::write(
+        &bad,
+        overtone::io::template::plant_workbook(&plant).unwrap(),
+    )
+    .unwrap();
+    let review = dir.join("review.xlsx");
+    let out = overtone(&[
+        "check",
+        bad.to_str().unwrap(),
+        "-o",
+        review.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(!review.exists());
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("Background!A2: \"Source\": source \"GRID\" is not on the Sources sheet"),
+        "{err}"
+    );
+    assert!(
+        err.contains("Background!C3: \"Voltage\" must be a percentage of nominal voltage from 0 to 100, found -2"),
+        "{err}"
+    );
+    std::fs::remove_dir_all(&dir).ok();
+}

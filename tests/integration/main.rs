@@ -29,4 +29,5 @@ mod reference_resonance;
 mod reference_sequence;
 mod review;
 mod scan;
+mod simulator;
 mod solver;

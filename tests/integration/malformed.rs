@@ -564,3 +564,93 @@ fn operating_point_settings_out_of_range() {
         expect_one(book, expected);
     }
 }
+
+impl Book {
+    /// `self` with a `Background` sheet of `rows` (after its header row).
+    fn with_background(mut self, rows: Vec<Vec<C>>) -> Book {
+        let mut grid = vec![vec![
+            s("Source"),
+            s("Order"),
+            s("Voltage (%)"),
+            s("Angle (deg)"),
+        ]];
+        grid.extend(rows);
+        self.0.push(("Background".into(), grid));
+        self
+    }
+}
+
+#[test]
+fn sequence_and_background_inputs_out_of_range() {
+    // Input contract, version 2 (sequences, background): a vector group IEC 60076-1 does
+    // not define, background on a source that does not exist, a negative voltage, and a
+    // zero-sequence impedance for a transformer without a zero-sequence path; each at its
+    // cell.
+    use C::*;
+    for (book, expected) in [
+        (
+            Book::base().set("Transformers", "H1", s("Connection")).set(
+                "Transformers",
+                "H2",
+                s("Dyx5"),
+            ),
+            "Transformers!H2: \"Connection\" must be an IEC 60076-1 vector group such as Dyn11, Dyn1, YNyn0, Yy0, Dd0, YNd1 (windings D, Y, YN, Z, ZN then d, y, yn, z, zn and a clock number 0 to 11 that the windings allow), found \"Dyx5\"",
+        ),
+        (
+            Book::base().set("Transformers", "H1", s("Connection")).set(
+                "Transformers",
+                "H2",
+                s("Dyn0"),
+            ),
+            "Transformers!H2: \"Connection\" must be an IEC 60076-1 vector group such as Dyn11, Dyn1, YNyn0, Yy0, Dd0, YNd1 (windings D, Y, YN, Z, ZN then d, y, yn, z, zn and a clock number 0 to 11 that the windings allow), found \"Dyn0\"",
+        ),
+        (
+            Book::base().with_background(vec![vec![s("GRID"), N(5.0), N(1.5)]]),
+            "Background!A2: \"Source\": source \"GRID\" is not on the Sources sheet",
+        ),
+        (
+            Book::base().with_background(vec![vec![s("U"), N(5.0), N(-1.0)]]),
+            "Background!C2: \"Voltage\" must be a percentage of nominal voltage from 0 to 100, found -1",
+        ),
+        (
+            Book::base()
+                .set("Transformers", "H1", s("Connection"))
+                .set("Transformers", "H2", s("Dd0"))
+                .set("Transformers", "I1", s("Zero-sequence impedance (%)"))
+                .set("Transformers", "I2", N(5.0)),
+            "Transformers!I2: \"Zero-sequence impedance\": is given but a Dd0 transformer has no zero-sequence path (it needs a grounded wye or zigzag winding, YN/yn or ZN/zn): leave it blank",
+        ),
+        (
+            Book::base().set("Capacitors", "I1", s("Connection")).set(
+                "Capacitors",
+                "I2",
+                s("zigzag"),
+            ),
+            "Capacitors!I2: \"Connection\" must be delta, wye or wye grounded, found \"zigzag\"",
+        ),
+    ] {
+        expect_one(book, expected);
+    }
+}
+
+#[test]
+fn phasor_summation_needs_every_spectrum_angle() {
+    // Input contract, version 2: under `phasor` summation a spectrum line without an angle
+    // is an input error at its cell.
+    let book = Book::base()
+        .set("Study", "A7", s("Summation"))
+        .set("Study", "B7", s("phasor"));
+    assert_eq!(
+        book.errors(),
+        [
+            "Spectra!A1: the header row needs an \"Angle (deg)\" column: \"phasor\" summation needs every spectrum line's angle"
+        ]
+    );
+    let book = book
+        .set("Spectra", "D1", s("Angle (deg)"))
+        .set("Spectra", "D2", C::N(180.0));
+    expect_one(
+        book,
+        "Spectra!D3: \"Angle (deg)\" is blank for order 7 of spectrum \"SP\": \"phasor\" summation needs every spectrum line's angle",
+    );
+}

@@ -458,6 +458,14 @@ pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Loa
 /// (order above 1 and listed once per spectrum, magnitude zero or more).
 pub fn spectra(t: &Table, d: &mut Diagnostics, phasor: bool) -> Vec<Spectrum> {
     let mut out: Vec<Spectrum> = Vec::new();
+    if phasor && !t.has("Angle (deg)") && !t.rows.is_empty() {
+        d.error(
+            &t.sheet,
+            "A1".into(),
+            "the header row needs an \"Angle (deg)\" column: \"phasor\" summation needs every spectrum line's angle".into(),
+        );
+    }
+    let phasor = phasor && t.has("Angle (deg)");
     for r in &t.rows {
         let name = t.id(r, "Spectrum", d);
         let order = t.required_number(r, "Order", "a harmonic order above 1", d);
