@@ -110,6 +110,8 @@ pub struct CheckResults {
     pub tolerance: Vec<ToleranceBand>,
     /// Energizing every step of every bank, per scenario.
     pub transients: Vec<TransientRow>,
+    /// Per bank and scenario, the configuration drawing the most background current.
+    pub background: Vec<crate::study::background::BackgroundShare>,
     /// Remedies for the flagged banks (empty when not studied; see `notes`).
     pub remedies: Vec<BankRemedies>,
     /// Assumptions the study made that the report must state.
@@ -399,6 +401,12 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
             }
         }
     }
+    let background = crate::study::background::background_shares(
+        &penetration,
+        &network,
+        &plant.banks,
+        &scan.configurations,
+    );
     let mut res = CheckResults {
         plant: plant.clone(),
         network: network.clone(),
@@ -414,6 +422,7 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         duty,
         tolerance,
         transients,
+        background,
         remedies: Vec::new(),
         notes,
         pcc,

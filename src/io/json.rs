@@ -28,6 +28,28 @@ struct DistortionJson<'a> {
     pcc_current_a: &'a [f64],
     bank_current_a: &'a [Vec<f64>],
     bank_voltage_percent: &'a [Vec<f64>],
+    /// rms of each bank's harmonic current from the background alone, A.
+    bank_background_rms_a: &'a [f64],
+}
+
+/// The model the harmonic results come from (input contract, version 2).
+#[derive(Serialize)]
+struct ModelJson<'a> {
+    scope: &'static str,
+    summation: &'static str,
+    summation_meaning: &'static str,
+    /// The sequence of each injected order, in `injected_orders` order.
+    order_sequences: &'a [crate::model::Sequence],
+    /// Per transformer: its vector group as studied.
+    vector_groups: Vec<(String, String)>,
+    /// Per bank: its connection as studied.
+    bank_connections: Vec<(String, &'static str)>,
+    /// The Background sheet.
+    background: &'a [crate::model::BackgroundLine],
+    /// Per bank and scenario, the configuration with the most background current.
+    background_shares: &'a [crate::study::background::BackgroundShare],
+    /// Peaks of the zero-sequence scan at the grounded-wye banks' buses (empty when not run).
+    zero_sequence_scan: Vec<SeriesPeaks<'a>>,
 }
 
 /// The operating point: per scenario and configuration `pcc_p_kw`, `pcc_q_kvar` (positive =
@@ -60,6 +82,7 @@ pub struct Summary<'a> {
     pcc_bus: &'a str,
     scenarios: &'a [String],
     configurations: Vec<String>,
+    model: ModelJson<'a>,
     resonance: &'a ResonanceStudy,
     scan: Vec<SeriesPeaks<'a>>,
     limits: &'a LimitContext,
@@ -113,8 +136,42 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
             pcc_current_a: &d.pcc_current_a,
             bank_current_a: &d.bank_current_a,
             bank_voltage_percent: &d.bank_voltage_percent,
+            bank_background_rms_a: &d.bank_background_rms_a,
         })
         .collect();
+    let f = res.plant.study.frequency_hz;
+    let model = ModelJson {
+        scope: crate::report::model_scope(),
+        summation: crate::report::summary::summation_word(res.plant.study.summation),
+        summation_meaning: crate::report::summation_meaning(res.plant.study.summation),
+        order_sequences: &res.penetration.injections.sequences,
+        vector_groups: res
+            .plant
+            .transformers
+            .iter()
+            .map(|t| (t.id.clone(), t.vector_group(f).label()))
+            .collect(),
+        bank_connections: res
+            .network
+            .banks
+            .iter()
+            .map(|b| (b.id.clone(), b.connection.label()))
+            .collect(),
+        background: &res.plant.background,
+        background_shares: &res.background,
+        zero_sequence_scan: res.zero_scan.as_ref().map_or_else(Vec::new, |z| {
+            z.series
+                .iter()
+                .map(|s| SeriesPeaks {
+                    scenario: &z.scenarios[s.scenario],
+                    configuration: z.configurations[s.configuration].label(&res.plant.banks),
+                    bus: &res.network.buses[z.buses[s.bus]].id,
+                    peaks: &s.peaks,
+                    dips: &s.dips,
+                })
+                .collect()
+        }),
+    };
     Summary {
         tool: "overtone",
         version: env!("CARGO_PKG_VERSION"),
@@ -126,6 +183,7 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         configurations: (0..res.scan.configurations.len())
             .map(|c| res.label(c))
             .collect(),
+        model,
         resonance: &res.resonance,
         scan,
         limits: &res.limits,

@@ -2,7 +2,7 @@
 
 /// Short cautions for the terminal summary and every report.
 pub const CAUTIONS: &[&str] = &[
-    "Screening-level results: a positive-sequence, balanced model built from the input as given. \
+    "Screening-level results: a balanced model in symmetrical components built from the input as given. \
      Verify the input data and the models against the plant before relying on them.",
     "Local electrical codes, the utility's interconnection rules and the review and seal of a \
      licensed professional engineer govern the final design; this output does not replace them.",

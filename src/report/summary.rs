@@ -100,11 +100,23 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         },
         study.margin_percent
     )?;
+    writeln!(
+        out,
+        "Model: sequence networks by order (3k+1 positive, 3k-1 negative, 3k zero), transformer shifts by vector group; summation {}",
+        summation_word(p.study.summation)
+    )?;
     writeln!(out)?;
     writeln!(
         out,
         "Resonance at each energized bank: hand check h = sqrt(Ssc/Qc) beside the scanned peak"
     )?;
+    if let Some(z) = &res.zero_scan {
+        writeln!(
+            out,
+            "Zero-sequence scan at the grounded-wye bank bus(es) too ({} distinct configuration(s)): its rows say (zero seq) and hold only triplen orders",
+            z.configurations.len()
+        )?;
+    }
     for scenario in &res.scan.scenarios {
         let rows: Vec<&ResonanceRow> = study
             .rows
@@ -208,6 +220,43 @@ const LIMIT_HEADERS: [&str; 14] = [
     "verdict",
 ];
 
+/// The summation law's name as the Study sheet spells it.
+pub fn summation_word(law: crate::model::Summation) -> &'static str {
+    match law {
+        crate::model::Summation::Arithmetic => "arithmetic",
+        crate::model::Summation::Iec61000_3_6 => "IEC 61000-3-6",
+        crate::model::Summation::Phasor => "phasor",
+    }
+}
+
+/// The Background sheet's lines and, per bank, the most harmonic current the background
+/// drives into it.
+fn write_background(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    let bg = &res.plant.background;
+    if bg.is_empty() {
+        return Ok(());
+    }
+    let lines: Vec<String> = bg
+        .iter()
+        .map(|b| format!("{} h{} {} %", b.source, b.order, b.voltage_percent))
+        .collect();
+    writeln!(out, "  background (utility side): {}", lines.join(", "))?;
+    for b in &res.background {
+        writeln!(
+            out,
+            "  bank {} ({}, {}): {:.1} A rms of its {:.1} A harmonic current from the background{}",
+            b.bank,
+            b.scenario,
+            b.configuration,
+            b.background_rms_a,
+            b.total_rms_a,
+            b.share_percent
+                .map_or_else(String::new, |p| format!(" ({p:.0} %)"))
+        )?;
+    }
+    Ok(())
+}
+
 /// The harmonic-limits table: per scenario and configuration, the worst THD bus, the worst
 /// individual harmonic, the PCC TDD and worst harmonic current, each with its limit.
 pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
@@ -252,6 +301,7 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
             "  spectrum {name}: {count} load(s), current THD {thd:.1} %"
         )?;
     }
+    write_background(out, res)?;
     let nc = res.scan.configurations.len();
     let none = res.scan.configurations.iter().position(|c| c.is_none());
     let orders = &res.penetration.injections.orders;

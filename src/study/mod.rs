@@ -2,6 +2,7 @@
 //! [`crate::model::Plant`] and the [`crate::network::Network`] and returns plain result
 //! structs; none of them formats output.
 
+pub mod background;
 pub mod config;
 pub mod detune;
 pub mod duty;

@@ -1,7 +1,8 @@
 //! The whole `overtone check` study (no CSV) of a generated 300-bus plant with 4 banks of 6
 //! steps (2,401 configurations) × 2 supply scenarios × 4,901 scan points, peaks and dips at
 //! every bank bus and the PCC, and harmonic penetration (16 orders, drives on 10 buses) with
-//! the limit checks at every bus, and the operating point alone. Prints the process's peak resident memory afterwards.
+//! the limit checks at every bus; the same under phasor summation with background
+//! distortion; and the operating point alone. Prints the process's peak resident memory afterwards.
 //! Run: `cargo bench --bench check`.
 
 use overtone::check::run_check;
@@ -55,6 +56,32 @@ fn exhaustive_300_buses_2401_configurations(bencher: divan::Bencher) {
         assert_eq!(res.scan.grid.orders.len(), 4901);
         assert_eq!(res.scan.series.len(), 2 * 2401 * 5);
         assert_eq!(res.penetration.injections.buses.len(), 10);
+        assert_eq!(res.limit_rows.len(), 2 * 2401);
+        res.resonance.rows.len()
+    });
+}
+
+/// The same study under `phasor` summation with a background 5th and 7th behind both
+/// supply scenarios' sources: complex superposition with the operating point's angles of
+/// every configuration, and one more injection column per source.
+#[divan::bench(sample_count = 3, sample_size = 1)]
+fn phasor_with_background_300_buses_2401_configurations(bencher: divan::Bencher) {
+    let mut plant = bench_plant();
+    plant.study.summation = overtone::model::Summation::Phasor;
+    for s in plant.sources.clone() {
+        for (order, v) in [(5.0, 1.5), (7.0, 1.0)] {
+            plant.background.push(overtone::model::BackgroundLine {
+                source: s.id.clone(),
+                order,
+                voltage_percent: v,
+                angle_deg: Some(20.0),
+            });
+        }
+    }
+    bencher.bench_local(|| {
+        let res = run_check(&plant, &Default::default()).expect("runs");
+        assert_eq!(res.penetration.injections.buses.len(), 11);
+        assert_eq!(res.penetration.injections.background.len(), 4);
         assert_eq!(res.limit_rows.len(), 2 * 2401);
         res.resonance.rows.len()
     });

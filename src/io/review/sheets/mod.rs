@@ -1,6 +1,7 @@
 //! The sheets of the review workbook.
 
 mod front;
+mod input;
 mod operating;
 mod results;
 
@@ -67,7 +68,7 @@ pub fn write_all(
     prov: &Provenance,
 ) -> Result<(), XlsxError> {
     front::summary(wb.add_worksheet().set_name("Summary")?, res, prov)?;
-    front::input(wb.add_worksheet().set_name("Input")?, res, prov)?;
+    input::input(wb.add_worksheet().set_name("Input")?, res, prov)?;
     operating::operating(wb.add_worksheet().set_name("Operating point")?, res)?;
     results::resonance(wb.add_worksheet().set_name("Resonance")?, res)?;
     let charts = results::scan(wb.add_worksheet().set_name("Scan")?, res)?;

@@ -313,7 +313,45 @@ pub(super) fn duty(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxErr
             ],
         )?;
     }
-    verdict_colours(ws, 1, res.duty.len() as u32, 13)
+    verdict_colours(ws, 1, res.duty.len() as u32, 13)?;
+    if !res.background.is_empty() {
+        let top = res.duty.len() as u32 + 2;
+        ws.write_string(
+            top,
+            0,
+            "Harmonic current from the utility's background distortion (Background sheet): per bank and scenario, the configuration drawing the most",
+        )?;
+        // Header cells only: the sheet keeps the duty table's frozen and repeated header.
+        let f = super::super::writer::header_format();
+        for (c, h) in [
+            "Scenario",
+            "Configuration",
+            "Bank",
+            "Ih rms from background (A)",
+            "Ih rms total (A)",
+            "background share (%)",
+        ]
+        .iter()
+        .enumerate()
+        {
+            ws.write_string_with_format(top + 1, c as u16, *h, &f)?;
+        }
+        for (i, b) in res.background.iter().enumerate() {
+            row(
+                ws,
+                top + 2 + i as u32,
+                &[
+                    t(&b.scenario),
+                    t(&b.configuration),
+                    t(&b.bank),
+                    n(b.background_rms_a, "0.0"),
+                    n(b.total_rms_a, "0.0"),
+                    on(b.share_percent, "0"),
+                ],
+            )?;
+        }
+    }
+    Ok(())
 }
 
 pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
