@@ -537,8 +537,20 @@ fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
                 .filter(|r| r.bank == bank.id)
                 .map(|r| r.ratios.rms_current * i_rated_step)
                 .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))));
-            let passes =
-                after.resonant == 0 && after.limits_exceeded == 0 && after.duty_exceeded == 0;
+            let linearity_ratio = (option.step.linearity_a > 0.0)
+                .then(|| {
+                    after_res
+                        .duty
+                        .iter()
+                        .filter(|r| r.bank == bank.id)
+                        .map(|r| r.ratios.step_peak_a / (2f64.sqrt() * option.step.linearity_a))
+                        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+                })
+                .flatten();
+            let passes = after.resonant == 0
+                && after.limits_exceeded == 0
+                && after.duty_exceeded == 0
+                && linearity_ratio.is_none_or(|r| r <= 1.0);
             results.push(RemedyResult {
                 option,
                 before: before.clone(),
@@ -547,6 +559,7 @@ fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
                 rank: 0,
                 resonance_after,
                 step_rms_a,
+                linearity_ratio,
             });
         }
         crate::study::remedy::rank(&mut results);

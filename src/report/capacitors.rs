@@ -157,7 +157,7 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
     }
     writeln!(
         out,
-        "Remedies (ranked: passes everything, then least kvar lost, then lowest capacitor voltage, then lowest THD after); studies re-run over the flagged configurations"
+        "Remedies (ranked: passes everything, then least kvar lost, then lowest capacitor voltage, then lowest THD after); studies re-run over the flagged configurations; pk/lin = step peak current (background included) over the reactor's linearity peak"
     )?;
     for br in &res.remedies {
         writeln!(out)?;
@@ -199,6 +199,8 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
                     format!("{:.1}/{:.1}", s.i1_a, s.linearity_a),
                     r.step_rms_a
                         .map_or_else(|| "-".to_string(), |v| format!("{v:.1}")),
+                    r.linearity_ratio
+                        .map_or_else(|| "-".to_string(), |v| format!("{v:.2}")),
                     r.resonance_after
                         .map_or_else(|| "-".to_string(), |(lo, hi)| format!("{lo:.2}-{hi:.2}")),
                     format!("{}", r.after.resonant),
@@ -220,6 +222,7 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
                 "kvar",
                 "I1/lin A",
                 "Irms A",
+                "pk/lin",
                 "resonance after",
                 "res",
                 "THD %",
@@ -227,7 +230,7 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
                 "duty",
                 "after",
             ],
-            &[1, 4, 8, 13],
+            &[1, 4, 9, 14],
             &rows,
         )?;
     }

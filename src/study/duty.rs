@@ -33,6 +33,9 @@ pub struct DutyRatios {
     pub peak_voltage: f64,
     pub rms_current: f64,
     pub kvar: f64,
+    /// Peak current of one step, A: √2·(I₁ + Σ I_h) / n, the crest with every harmonic in
+    /// phase (the arithmetic bound; what a series reactor must carry without saturating).
+    pub step_peak_a: f64,
 }
 
 impl DutyRatios {
@@ -76,13 +79,14 @@ pub fn duty_ratios(
     let xc = bank.step_xc_ohm() / f64::from(n.max(1));
     let v1 = bus_kv * 1000.0 / 3f64.sqrt() / (1.0 - p);
     let i1 = v1 / xc;
-    let (mut v2, mut vsum, mut i2, mut q) = (v1 * v1, v1, i1 * i1, v1 * i1);
+    let (mut v2, mut vsum, mut i2, mut q, mut isum) = (v1 * v1, v1, i1 * i1, v1 * i1, i1);
     for (&h, &ih) in orders.iter().zip(harmonic_a) {
         let vh = ih * xc / h;
         v2 += vh * vh;
         vsum += vh;
         i2 += ih * ih;
         q += vh * ih;
+        isum += ih;
     }
     let ur = bank.rated_kv * 1000.0 / 3f64.sqrt();
     let q_rated = f64::from(n) * bank.step_kvar;
@@ -92,6 +96,7 @@ pub fn duty_ratios(
         peak_voltage: vsum / ur,
         rms_current: i2.sqrt() / i_rated,
         kvar: 3.0 * q / 1000.0 / q_rated,
+        step_peak_a: 2f64.sqrt() * isum / f64::from(n.max(1)),
     }
 }
 

@@ -44,6 +44,10 @@ pub struct RemedyResult {
     pub resonance_after: Option<(f64, f64)>,
     /// Largest rms current of one step with harmonics after, A.
     pub step_rms_a: Option<f64>,
+    /// Largest peak current of one step after (fundamental plus every harmonic, the
+    /// background's included, in phase) over √2 × the reactor's linearity current
+    /// 1.8 × I₁: above 1 the reactor saturates. `None` for a plain bank.
+    pub linearity_ratio: Option<f64>,
 }
 
 /// What the studies found over the configurations compared.

@@ -20,6 +20,7 @@ fn ieee_18_limits_at_below_and_above() {
         peak_voltage: 1.0,
         rms_current: 1.0,
         kvar: 1.0,
+        step_peak_a: 0.0,
     };
     let limits = [1.10, 1.20, 1.35, 1.35];
     for (i, &limit) in limits.iter().enumerate() {
@@ -55,6 +56,8 @@ fn duty_of_a_plain_bank_by_hand() {
     assert_close(r.peak_voltage, (v1 + v5) / v1, 1e-12);
     assert_close(r.rms_current, (i1 * i1 + 3600.0).sqrt() / i1, 1e-12);
     assert_close(r.kvar, 3.0 * (v1 * i1 + v5 * 60.0) / 300_000.0, 1e-12);
+    // Peak current with the 5th in phase, by hand: √2·(360.844 + 60) = 595.163 A.
+    assert_close(r.step_peak_a, 595.163, 1e-6);
     // A 7 % detuned step sees U/(1 − p) at its terminals (references.md).
     let d = duty_ratios(&b, 1, 0.07, 0.48, &[], &[]);
     assert_close(d.rms_voltage, 1.0 / 0.93, 1e-12);

@@ -373,6 +373,7 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
             ("I1 per step (A)", 9.0),
             ("Linearity current (A)", 9.0),
             ("Irms per step after (A)", 9.0),
+            ("Peak current / linearity peak after", 10.0),
             ("Resonance after low h", 9.0),
             ("Resonance after high h", 9.0),
             ("Resonant rows before", 9.0),
@@ -410,6 +411,7 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
                     n(s.i1_a, "0.0"),
                     n(s.linearity_a, "0.0"),
                     on(x.step_rms_a, "0.0"),
+                    on(x.linearity_ratio, "0.00"),
                     on(x.resonance_after.map(|r| r.0), "0.000"),
                     on(x.resonance_after.map(|r| r.1), "0.000"),
                     n(x.before.resonant as f64, "0"),
@@ -435,7 +437,7 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
             "No remedy studied (no bank flagged, or remedies not asked for: see Assumptions).",
         )?;
     }
-    verdict_colours(ws, 1, r.saturating_sub(1), 26)
+    verdict_colours(ws, 1, r.saturating_sub(1), 27)
 }
 
 pub(super) fn switching(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
