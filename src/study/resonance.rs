@@ -176,24 +176,6 @@ impl ResonanceStudy {
                     if n == 0 {
                         continue;
                     }
-                    if let (Some(z), Some(f0)) = (zero, &zero_fundamental)
-                        && bank.connection.has_zero_path()
-                        && let Some(sb) = z.scan.buses.iter().position(|&i| i == bank.bus)
-                    {
-                        let z_th_pu = f0.bank_bus_z0_pu(b).norm();
-                        let series = z.scan.series(s, z.map[c], sb);
-                        rows.push(row(
-                            plant,
-                            net,
-                            (s, b, n),
-                            &label,
-                            z_th_pu,
-                            &series.peaks,
-                            &zero_chars,
-                            margin,
-                            Sequence::Zero,
-                        ));
-                    }
                     let z_th_pu = fundamental.bank_bus_z0_pu(b).norm();
                     let no_peaks = Vec::new();
                     let peaks = scan
@@ -212,6 +194,24 @@ impl ResonanceStudy {
                         margin,
                         Sequence::Positive,
                     ));
+                    if let (Some(z), Some(f0)) = (zero, &zero_fundamental)
+                        && bank.connection.has_zero_path()
+                        && let Some(sb) = z.scan.buses.iter().position(|&i| i == bank.bus)
+                    {
+                        let z_th_pu = f0.bank_bus_z0_pu(b).norm();
+                        let series = z.scan.series(s, z.map[c], sb);
+                        rows.push(row(
+                            plant,
+                            net,
+                            (s, b, n),
+                            &label,
+                            z_th_pu,
+                            &series.peaks,
+                            &zero_chars,
+                            margin,
+                            Sequence::Zero,
+                        ));
+                    }
                 }
             }
         }

@@ -455,3 +455,111 @@ fn bad_sequence_inputs_exit_2_and_write_nothing() {
     );
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn a_template_plant_with_background_and_phasor_runs_every_command() {
+    // As a new user would: a plant with the version 2 columns filled (a Dyn1 transformer,
+    // LED lighting and drives, a grounded-wye bank, a 1.5 % background 5th, phasor
+    // summation), written by the project's writer, through every command that reads a
+    // workbook (invented data).
+    use crate::common::{bank, bus, load, source, transformer};
+    use overtone::model::*;
+    let mut p = Plant::new(60.0);
+    p.study.pcc_bus = Some("HV".into());
+    p.study.summation = Summation::Phasor;
+    p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
+    p.sources = vec![source("U", "HV", 250.0, 10.0)];
+    p.transformers = vec![Transformer {
+        connection: VectorGroup::parse("Dyn1"),
+        ..transformer("T", "HV", "LV", 2000.0, 5.75, 8.0)
+    }];
+    let mut drives = load("VFD", "LV", LoadType::SixPulseDrive, 200.0, 0.95);
+    drives.quantity = 3.0;
+    p.loads = vec![
+        drives,
+        load("LED", "LV", LoadType::Electronic, 150.0, 0.95),
+        load("M", "LV", LoadType::Motor, 400.0, 0.85),
+    ];
+    p.banks = vec![CapacitorBank {
+        connection: Some(BankConnection::WyeGrounded),
+        ..bank("C1", "LV", 0.48, 100.0, 4, Reactor::None)
+    }];
+    p.background = vec![BackgroundLine {
+        source: "U".into(),
+        order: 5.0,
+        voltage_percent: 1.5,
+        angle_deg: Some(0.0),
+    }];
+    let dir = temp_dir("template-v2");
+    let keep = std::env::var_os("OVERTONE_KEEP_TEMPLATE_PLANT").is_some();
+    let input = dir.join("plant.xlsx");
+    std::fs::write(&input, overtone::io::template::plant_workbook(&p).unwrap()).unwrap();
+    let path = |n: &str| dir.join(n).to_str().unwrap().to_string();
+    let out = overtone(&[
+        "check",
+        input.to_str().unwrap(),
+        "-o",
+        &path("review.xlsx"),
+        "--voltages-csv",
+        &path("v.csv"),
+        "--scan-csv",
+        &path("scan.csv"),
+        "--operating-csv",
+        &path("op.csv"),
+        "--quiet",
+    ]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        out.status.success(),
+        "{text}{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(text.contains("summation phasor"), "{text}");
+    assert!(text.contains("(zero seq)"), "{text}");
+    assert!(text.contains("from the background"), "{text}");
+    assert!(std::fs::metadata(path("review.xlsx")).unwrap().len() > 10_000);
+    // The LV bus of a Dyn1 sits about 30° behind the HV bus in the operating CSV.
+    let op = std::fs::read_to_string(path("op.csv")).unwrap();
+    let angle = |bus: &str| -> f64 {
+        op.lines()
+            .find(|l| l.starts_with(&format!("base,none,{bus},")))
+            .unwrap()
+            .rsplit(',')
+            .next()
+            .unwrap()
+            .parse()
+            .unwrap()
+    };
+    let shift = angle("LV") - angle("HV");
+    assert!((-33.0..-30.0).contains(&shift), "LV − HV = {shift}°");
+    // The voltages CSV has the zero-sequence 3rd at LV and none at HV.
+    let v = std::fs::read_to_string(path("v.csv")).unwrap();
+    let third = |bus: &str| -> f64 {
+        v.lines()
+            .find(|l| l.starts_with(&format!("base,none,{bus},3.0,")))
+            .unwrap()
+            .split(',')
+            .nth(4)
+            .unwrap()
+            .parse()
+            .unwrap()
+    };
+    assert_eq!(third("HV"), 0.0);
+    assert!(third("LV") > 0.1);
+    let json = overtone(&["check", input.to_str().unwrap(), "--json", "--quiet"]);
+    let j: serde_json::Value = serde_json::from_slice(&json.stdout).expect("JSON");
+    assert_eq!(j["model"]["summation"], "phasor");
+    assert_eq!(j["model"]["vector_groups"][0][1], "Dyn1");
+    assert_eq!(j["model"]["bank_connections"][0][1], "wye grounded");
+    assert!(
+        !j["model"]["zero_sequence_scan"]
+            .as_array()
+            .unwrap()
+            .is_empty()
+    );
+    let scan = overtone(&["scan", input.to_str().unwrap(), "--csv", &path("s2.csv")]);
+    assert!(scan.status.success());
+    if !keep {
+        std::fs::remove_dir_all(&dir).ok();
+    }
+}
