@@ -64,6 +64,9 @@ pub struct CheckOptions {
     /// most [`AUTO_REMEDY_CONFIGURATIONS`] step combinations (each option re-runs every
     /// study).
     pub remedies: Option<bool>,
+    /// Only the frequency scan and the resonance screen (the `scan` command): no operating
+    /// point, penetration, duty or remedies (their results are empty).
+    pub scan_only: bool,
 }
 
 /// Step combinations up to which remedies are studied without being asked.
@@ -277,7 +280,11 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         map: &zero_map,
     });
     let resonance = ResonanceStudy::run(plant, &network, &engine, &scan, zero_view.as_ref())?;
-    let operating = OperatingStudy::run(plant, &network, &scan.configurations);
+    let operating = if options.scan_only {
+        OperatingStudy::run(plant, &network, &[])
+    } else {
+        OperatingStudy::run(plant, &network, &scan.configurations)
+    };
 
     // Harmonic penetration and limits. Isc: the largest fault current at the PCC over the
     // scenarios, from the fundamental Thevenin impedance without banks (the PCC is the
@@ -289,7 +296,11 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         s_sc_mva = s_sc_mva.max(crate::network::BASE_MVA / z.norm());
     }
     let isc_ka = s_sc_mva / (3f64.sqrt() * pcc_kv);
-    let injections = Injections::new(plant, &network, &zero);
+    let injections = if options.scan_only {
+        Injections::none()
+    } else {
+        Injections::new(plant, &network, &zero)
+    };
     let limits = LimitContext::new(plant, &network, &injections, pcc, isc_ka);
     let engines = SequenceEngines {
         positive: &engine,
@@ -325,9 +336,10 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         ));
     }
     let nc = scan.configurations.len();
-    let limit_rows = penetration
+    let limit_rows: Vec<LimitRow> = penetration
         .results
         .iter()
+        .filter(|_| !options.scan_only)
         .map(|d| {
             limit_row(
                 d,
@@ -340,10 +352,12 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         })
         .collect();
     debug_assert_eq!(penetration.results.len(), network.scenarios.len() * nc);
+    debug_assert!(options.scan_only || limit_rows.len() == penetration.results.len());
     let orders = &penetration.injections.orders;
     let duty = penetration
         .results
         .iter()
+        .filter(|_| !options.scan_only)
         .flat_map(|d| {
             let cfg = &scan.configurations[d.configuration];
             let bank_v = operating
@@ -429,6 +443,7 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
     };
     let auto = res.scan.configurations.len() <= AUTO_REMEDY_CONFIGURATIONS;
     match options.remedies {
+        _ if options.scan_only => {}
         Some(true) => res.remedies = remedies(&res, options),
         None if auto => res.remedies = remedies(&res, options),
         None => res.notes.push(format!(
@@ -511,6 +526,7 @@ fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
                 configurations: labels.clone(),
                 progress: None,
                 remedies: Some(false),
+                scan_only: false,
             };
             let Ok(after_res) = run_check(&changed, &rerun) else {
                 continue;

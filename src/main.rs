@@ -235,8 +235,9 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
         Command::Scan { plant, csv, select } => {
             check_outputs(&[&csv], Some(&plant))?;
             let plant = load(&plant)?;
-            let (options, bar) =
+            let (mut options, bar) =
                 options(&select, select.configurations.clone(), false, Some(false));
+            options.scan_only = true;
             let res = run_check(&plant, &options);
             bar.finish_and_clear();
             let res = res?;
@@ -306,6 +307,7 @@ fn options(
         configurations,
         progress: Some(Arc::new(progress)),
         remedies,
+        scan_only: false,
     };
     (options, bar)
 }

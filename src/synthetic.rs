@@ -183,3 +183,53 @@ pub fn with_two_scenarios(mut plant: Plant) -> Plant {
     }
     plant
 }
+
+/// Gives `plant` converters on about two thirds of its buses (every bus whose index is not
+/// a multiple of 3): one custom-spectrum drive of 20–60 kW each (scaled like the loads), with
+/// a 51-order spectrum of characteristic, even and interharmonic orders (invented). The
+/// shape of a large site where every MCC has drives.
+pub fn with_converters(mut plant: Plant, seed: u64) -> Plant {
+    let mut rng = Lcg(seed ^ 0x5eed);
+    let mut lines = Vec::new();
+    let mut add = |order: f64, m: f64| {
+        lines.push(SpectrumLine {
+            order,
+            magnitude_percent: m,
+            angle_deg: Some(0.0),
+        });
+    };
+    let mut k = 1.0;
+    while 6.0 * k - 1.0 <= 49.0 {
+        add(6.0 * k - 1.0, 60.0 / (6.0 * k - 1.0));
+        if 6.0 * k + 1.0 <= 49.0 {
+            add(6.0 * k + 1.0, 40.0 / (6.0 * k + 1.0));
+        }
+        k += 1.0;
+    }
+    for h in (2..=50).step_by(2) {
+        add(f64::from(h), 2.0 / f64::from(h).sqrt());
+    }
+    for i in 0..10 {
+        add(1.5 + f64::from(i), 0.8);
+    }
+    plant.spectra.push(Spectrum {
+        name: "VFD-51".into(),
+        lines,
+    });
+    let n = plant.buses.len();
+    let scale = (300.0 / n.max(1) as f64).min(1.0);
+    let ids: Vec<String> = plant.buses.iter().map(|b| b.id.clone()).collect();
+    for (i, id) in ids.iter().enumerate().filter(|(i, _)| i % 3 != 0) {
+        plant.loads.push(Load {
+            id: format!("VFD{i}"),
+            bus: id.clone(),
+            kind: LoadType::Custom,
+            kw: (20.0 + 40.0 * rng.next_f64()) * scale,
+            power_factor: 0.95,
+            quantity: 1.0,
+            load_factor: 1.0,
+            spectrum: Some("VFD-51".into()),
+        });
+    }
+    plant
+}

@@ -221,6 +221,20 @@ impl Injections {
         }
     }
 
+    /// No injection at all (the `scan` command studies no penetration).
+    pub fn none() -> Injections {
+        Injections {
+            orders: Vec::new(),
+            sequences: Vec::new(),
+            buses: Vec::new(),
+            current_pu: Vec::new(),
+            phasor_pu: Vec::new(),
+            background: Vec::new(),
+            spectra: Vec::new(),
+            blocked: Vec::new(),
+        }
+    }
+
     /// True when some source carries a background EMF.
     pub fn has_background(&self) -> bool {
         !self.background.is_empty()

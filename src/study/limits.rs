@@ -224,12 +224,7 @@ pub fn limit_row(
         worst_percent: d.worst[b].map(|w| Checked::new(w.v_percent, w.limit_percent)),
     };
     let thd_ratio = |b: usize| d.thd_percent[b] / ctx.thd_limit[b].value;
-    let ind_ratio = |b: usize| {
-        d.worst[b].map_or(0.0, |w| match w.limit_percent {
-            Some(l) if l > 0.0 => (w.v_percent / l).max(w.v_percent * 1e-12),
-            _ => w.v_percent * 1e-12,
-        })
-    };
+    let ind_ratio = |b: usize| crate::study::penetration::individual_key(d.worst[b]);
     let argmax = |f: &dyn Fn(usize) -> f64| {
         (0..net.buses.len())
             .max_by(|&a, &b| f(a).total_cmp(&f(b)))

@@ -63,6 +63,42 @@ pub struct Distortion {
     pub branch_rms_a: Vec<f64>,
 }
 
+/// Keeps in `worst` the harmonic with the highest ratio to its limit (0 without a limit),
+/// ties going to the higher value.
+#[inline]
+fn update_worst(worst: &mut Option<Individual>, cand: Individual) {
+    let ratio = |x: &Individual| match x.limit_percent {
+        Some(lp) if lp > 0.0 => x.v_percent / lp,
+        _ => 0.0,
+    };
+    let better = match worst {
+        None => true,
+        Some(w) => {
+            let (a, b) = (ratio(&cand), ratio(w));
+            a > b || (a == b && cand.v_percent > w.v_percent)
+        }
+    };
+    if better {
+        *worst = Some(cand);
+    }
+}
+
+/// The key by which a configuration's worst individual harmonic is chosen among the buses:
+/// its ratio to its limit, or a vanishing 1e-12 × its value where it has none.
+pub fn individual_key(worst: Option<Individual>) -> f64 {
+    worst.map_or(0.0, |w| match w.limit_percent {
+        Some(l) if l > 0.0 => (w.v_percent / l).max(w.v_percent * 1e-12),
+        _ => w.v_percent * 1e-12,
+    })
+}
+
+/// The worst individual harmonic's ratio to its limit (0 without a limit).
+pub fn individual_ratio(worst: Option<Individual>) -> f64 {
+    worst
+        .and_then(|w| w.limit_percent.map(|l| w.v_percent / l))
+        .unwrap_or(0.0)
+}
+
 /// Per-bus individual limits by order (`None` = no limit), used while the voltages of a
 /// configuration are at hand.
 pub type IndividualLimits = Vec<Vec<Option<f64>>>;
@@ -184,12 +220,15 @@ impl Penetration {
             law,
             pcc,
         };
-        let blocks: Vec<Vec<Distortion>> = tasks
+        let blocks: Vec<Distortion> = tasks
             .par_iter()
             .map(|&(s, chunk)| ctx.block(s, chunk))
-            .collect::<Result<_, _>>()?;
+            .collect::<Result<Vec<Vec<Distortion>>, _>>()?
+            .into_iter()
+            .flatten()
+            .collect();
         let mut slots: Vec<Option<Distortion>> = vec![None; ns * nc];
-        for d in blocks.into_iter().flatten() {
+        for d in blocks {
             let i = d.scenario * nc + d.configuration;
             slots[i] = Some(d);
         }
@@ -503,26 +542,14 @@ impl Ctx<'_> {
                 for (r, &vm) in v_mag.iter().enumerate() {
                     let v_pct = vm * 100.0;
                     d.thd_percent[r] += v_pct * v_pct;
-                    let lim = self.limits[r][o];
-                    let ratio = |x: &Individual| match x.limit_percent {
-                        Some(lp) if lp > 0.0 => x.v_percent / lp,
-                        _ => 0.0,
-                    };
-                    let cand = Individual {
-                        order: h,
-                        v_percent: v_pct,
-                        limit_percent: lim,
-                    };
-                    let better = match &d.worst[r] {
-                        None => true,
-                        Some(w) => {
-                            let (a, b) = (ratio(&cand), ratio(w));
-                            a > b || (a == b && cand.v_percent > w.v_percent)
-                        }
-                    };
-                    if better {
-                        d.worst[r] = Some(cand);
-                    }
+                    update_worst(
+                        &mut d.worst[r],
+                        Individual {
+                            order: h,
+                            v_percent: v_pct,
+                            limit_percent: self.limits[r][o],
+                        },
+                    );
                 }
                 for (b, bank) in net.banks.iter().enumerate() {
                     let vb = v_mag[bank.bus];

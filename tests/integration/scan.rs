@@ -128,3 +128,30 @@ fn too_many_combinations_are_refused_with_a_sentence() {
         .for_each(|b| b.studied_steps = vec![0, 5, 10]);
     assert_eq!(configuration_count(&plant.banks), 729);
 }
+
+#[test]
+fn scan_only_runs_the_scan_and_nothing_else() {
+    // The `scan` command's study: the same scan and resonance rows as a full check, with no
+    // operating point, penetration, duty or remedies (a generated plant with converters on
+    // two thirds of its buses, where penetration is the expensive part).
+    use overtone::synthetic::{generated_plant, with_converters, with_two_scenarios};
+    let plant = with_converters(with_two_scenarios(generated_plant(30, 0, 2, 3, 9)), 9);
+    let full = overtone::check::run_check(&plant, &Default::default()).unwrap();
+    let only = overtone::check::run_check(
+        &plant,
+        &overtone::check::CheckOptions {
+            scan_only: true,
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(only.scan.series, full.scan.series);
+    assert_eq!(only.resonance, full.resonance);
+    assert!(
+        full.penetration.injections.orders.len() >= 50,
+        "51 orders injected"
+    );
+    assert!(only.penetration.injections.orders.is_empty());
+    assert!(only.operating.points.is_empty());
+    assert!(only.duty.is_empty() && only.remedies.is_empty());
+}
