@@ -517,7 +517,25 @@ fn a_template_plant_with_background_and_phasor_runs_every_command() {
     assert!(text.contains("summation phasor"), "{text}");
     assert!(text.contains("(zero seq)"), "{text}");
     assert!(text.contains("from the background"), "{text}");
-    assert!(std::fs::metadata(path("review.xlsx")).unwrap().len() > 10_000);
+    // The review's Scan sheet carries the grounded-wye bank's zero-sequence scan beside
+    // its positive-sequence one.
+    {
+        use calamine::{Reader, Xlsx, open_workbook};
+        let mut wb: Xlsx<_> = open_workbook(path("review.xlsx")).unwrap();
+        let scan = wb.worksheet_range("Scan").unwrap();
+        let heads: Vec<String> = scan
+            .rows()
+            .next()
+            .unwrap()
+            .iter()
+            .map(|c| c.to_string())
+            .collect();
+        assert!(
+            heads.iter().any(|h| h == "|Z| LV C1=1 zero seq (ohm)"),
+            "{heads:?}"
+        );
+        assert!(heads.iter().any(|h| h == "|Z| LV C1=1 (ohm)"), "{heads:?}");
+    }
     // The LV bus of a Dyn1 sits about 30° behind the HV bus in the operating CSV.
     let op = std::fs::read_to_string(path("op.csv")).unwrap();
     let angle = |bus: &str| -> f64 {

@@ -125,13 +125,32 @@ pub(super) fn scan(
             }
         }
         let start = columns.len();
-        for c in picks {
+        for &c in &picks {
             if let Some(curve) = res.scan.curve(scenario, c, sb) {
                 columns.push((
                     bus.clone(),
                     res.label(c),
                     curve.iter().map(|z| z.norm()).collect(),
                 ));
+            }
+        }
+        // Where the bank has a zero-sequence path, its zero-sequence scan beside.
+        if let Some(z) = &res.zero_scan
+            && bank.connection.has_zero_path()
+            && let Some(zb) = z.buses.iter().position(|&x| x == bank.bus)
+        {
+            for &c in &picks {
+                if let Some(curve) = res
+                    .zero_map
+                    .get(c)
+                    .and_then(|&zc| z.curve(scenario, zc, zb))
+                {
+                    columns.push((
+                        bus.clone(),
+                        format!("{} zero seq", res.label(c)),
+                        curve.iter().map(|z| z.norm()).collect(),
+                    ));
+                }
             }
         }
         groups.push((bus, start..columns.len()));
