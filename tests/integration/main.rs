@@ -1,6 +1,9 @@
 //! The integration tests, one binary. Where new tests go:
 //! - `reference_resonance`, `reference_operating` (load flow), `reference_capacitors`,
-//!   `reference_limits`: checks against published or textbook values (source named beside each);
+//!   `reference_limits`, `reference_sequence` (sequence networks, background, phasor sums),
+//!   `reference_data` (built-in data and helpers): checks against published or textbook
+//!   values (source named beside each);
+//! - `simulator`: phasor summation with background against ngspice (when installed);
 //! - `solver`: sparse factorization and step-combination engine against independent dense algebra;
 //! - `model`: validation of plants and topology errors;
 //! - `scan`: grid, configurations, peak finding;
@@ -23,6 +26,7 @@ mod model;
 mod properties;
 mod reader;
 mod reference_capacitors;
+mod reference_data;
 mod reference_limits;
 mod reference_operating;
 mod reference_resonance;

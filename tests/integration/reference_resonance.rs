@@ -39,10 +39,34 @@ fn x_c_ohm() -> f64 {
 }
 
 #[test]
-fn lc_ring_frequency_textbook() {
-    // common practice: a 67 mH inductor with a 100 nF capacitor rings at 1944 Hz.
-    let expected_hz = 1.0 / (2.0 * std::f64::consts::PI * (L_HENRY * C_FARAD).sqrt());
-    assert!((expected_hz - 1944.0).abs() < 1.0, "{expected_hz}");
+fn series_lc_dip_at_the_textbook_ring_frequency() {
+    // common practice: a 67 mH inductor in series with a 100 nF capacitor rings at
+    // 1944 Hz. Driven through the tool: one 1 kV bus, a weak source (|Z| = 10 kΩ at 60 Hz,
+    // far above the L-C branch near its resonance) and a detuned step whose reactor is the
+    // 67 mH (p = X_L/X_C at 60 Hz) and whose capacitor is the 100 nF; the scan's deepest
+    // dip must sit at 1944 Hz within 1 Hz.
+    let mut p = Plant::new(60.0);
+    p.study.highest_order = 40.0;
+    p.buses.push(bus("B", 1.0));
+    p.sources.push(source("S", "B", 1.0 / 10_000.0, 50.0));
+    let p_percent = x_l_ohm() / x_c_ohm() * 100.0;
+    let mut b = bank(
+        "C",
+        "B",
+        1.0,
+        1000.0 / x_c_ohm(),
+        1,
+        Reactor::Detuning { percent: p_percent },
+    );
+    b.reactor_q = 200.0;
+    p.banks.push(b);
+    let res = run(&p);
+    let dip = deepest_dip(series(&res, "B", "C=1"));
+    assert!(
+        (dip.order * 60.0 - 1944.0).abs() < 1.0,
+        "dip at {} Hz",
+        dip.order * 60.0
+    );
 }
 
 #[test]
