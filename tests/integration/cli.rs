@@ -581,3 +581,35 @@ fn a_template_plant_with_background_and_phasor_runs_every_command() {
         std::fs::remove_dir_all(&dir).ok();
     }
 }
+
+#[test]
+fn strict_exits_0_on_a_clean_plant() {
+    // Nothing to flag: a 480 V bus behind a stiff service with one linear load and no
+    // banks (invented). `--strict` exits 0, and with a plain bank that resonates near the
+    // drives' 5th it exits 1.
+    use crate::common::{bank, bus, load, source};
+    use overtone::model::*;
+    let mut p = Plant::new(60.0);
+    p.buses = vec![bus("B", 0.48)];
+    p.sources = vec![source("U", "B", 40.0, 10.0)];
+    p.loads = vec![load("L", "B", LoadType::Linear, 200.0, 0.9)];
+    let dir = temp_dir("clean");
+    let input = dir.join("clean.xlsx");
+    std::fs::write(&input, overtone::io::template::plant_workbook(&p).unwrap()).unwrap();
+    let out = overtone(&["check", input.to_str().unwrap(), "--strict", "--quiet"]);
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stdout)
+    );
+    // S_sc = 40 MVA, h = √(40/1.6) = 5.0 with a 1600 kvar bank and a 6-pulse drive.
+    p.loads
+        .push(load("D", "B", LoadType::SixPulseDrive, 100.0, 0.95));
+    p.banks = vec![bank("C", "B", 0.48, 1600.0, 1, Reactor::None)];
+    std::fs::write(&input, overtone::io::template::plant_workbook(&p).unwrap()).unwrap();
+    let out = overtone(&["check", input.to_str().unwrap(), "--strict", "--quiet"]);
+    assert_eq!(out.status.code(), Some(1));
+    assert!(String::from_utf8_lossy(&out.stdout).contains("RESONANT"));
+    std::fs::remove_dir_all(&dir).ok();
+}

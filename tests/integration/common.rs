@@ -134,3 +134,44 @@ pub fn deepest_dip(s: &overtone::study::Series) -> overtone::study::Extremum {
         .min_by(|a, b| a.z_ohm.total_cmp(&b.z_ohm))
         .expect("a dip")
 }
+
+/// Whether the external program `name` (run with `--version`) is installed. When it is
+/// not: under `CI=true` the test fails (CI installs it, `.ci/run`), elsewhere it says that
+/// it skips.
+pub fn external_tool(name: &str, what: &str) -> bool {
+    if std::process::Command::new(name)
+        .arg("--version")
+        .output()
+        .is_ok()
+    {
+        return true;
+    }
+    if std::env::var("CI").is_ok_and(|v| v == "true") {
+        panic!(
+            "{name} is not installed but CI=true: {what} must be checked in CI (.ci/run installs it)"
+        );
+    }
+    eprintln!("{name} not on PATH: {what} not checked here (skipped; .ci/run installs it)");
+    false
+}
+
+/// Runs `cmd` to completion or kills it after `seconds`, failing the test then.
+pub fn output_within(cmd: &mut std::process::Command, seconds: u64) -> std::process::Output {
+    use std::time::{Duration, Instant};
+    let mut child = cmd
+        .stdout(std::process::Stdio::piped())
+        .stderr(std::process::Stdio::piped())
+        .spawn()
+        .expect("starts");
+    let deadline = Instant::now() + Duration::from_secs(seconds);
+    loop {
+        if child.try_wait().expect("waits").is_some() {
+            return child.wait_with_output().expect("output");
+        }
+        if Instant::now() > deadline {
+            child.kill().ok();
+            panic!("{cmd:?} ran longer than {seconds} s and was killed");
+        }
+        std::thread::sleep(Duration::from_millis(50));
+    }
+}

@@ -214,10 +214,7 @@ fn strip_cached_values(bytes: &[u8]) -> Vec<u8> {
 
 #[test]
 fn live_formulas_recalculated_by_libreoffice_match() {
-    if Command::new("soffice").arg("--version").output().is_err() {
-        eprintln!(
-            "soffice not on PATH: LibreOffice recalculation not checked here (.ci/run installs it)"
-        );
+    if !crate::common::external_tool("soffice", "LibreOffice recalculation of the review") {
         return;
     }
     let res = food();
@@ -239,20 +236,21 @@ fn live_formulas_recalculated_by_libreoffice_match() {
 </oor:items>"#,
     )
     .unwrap();
-    let status = Command::new("soffice")
-        .arg("--headless")
-        .arg("--norestore")
-        .arg(format!(
-            "-env:UserInstallation=file://{}",
-            profile.display()
-        ))
-        .arg("--convert-to")
-        .arg("csv:Text - txt - csv (StarCalc):44,34,UTF8,1,,0,false,true,false,false,false,-1")
-        .arg("--outdir")
-        .arg(&dir)
-        .arg(&path)
-        .output()
-        .unwrap();
+    let status = crate::common::output_within(
+        Command::new("soffice")
+            .arg("--headless")
+            .arg("--norestore")
+            .arg(format!(
+                "-env:UserInstallation=file://{}",
+                profile.display()
+            ))
+            .arg("--convert-to")
+            .arg("csv:Text - txt - csv (StarCalc):44,34,UTF8,1,,0,false,true,false,false,false,-1")
+            .arg("--outdir")
+            .arg(&dir)
+            .arg(&path),
+        600,
+    );
     let csv = std::fs::read_to_string(dir.join("stripped-Resonance.csv"))
         .unwrap_or_else(|_| panic!("no CSV: {}", String::from_utf8_lossy(&status.stderr)));
     let rows: Vec<Vec<String>> = csv
