@@ -51,6 +51,22 @@ fn huge_x_over_r_and_tiny_resistance() {
     p.transformers[0].x_over_r = 1e9;
     p.banks[0].reactor_q = 1e9;
     all_finite(&p).expect("runs");
+    // By hand: with R → 0, |Z_th| at LV = 100/200 + 0.0575·100/1.5 = 4.33333 pu, so
+    // S_sc = 23.0769 MVA and h = √(S_sc/Q_c) = 10.7417, 7.5955, 6.2017 for 1, 2, 3 steps
+    // of 200 kvar; the network is lossless, so the scanned peak sits at the same order
+    // (parallel L-C, textbook).
+    let res = run_check(&p, &Default::default()).unwrap();
+    for (steps, h) in [(1, 10.7417), (2, 7.5955), (3, 6.2017)] {
+        let row = res
+            .resonance
+            .rows
+            .iter()
+            .find(|r| r.steps == steps)
+            .expect("row");
+        assert_close(row.s_sc_mva, 23.0769, 1e-5);
+        assert_close(row.hand_order, h, 1e-5);
+        assert_close(row.peak.expect("peak").order, h, 1e-3);
+    }
 }
 
 #[test]

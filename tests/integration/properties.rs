@@ -51,6 +51,30 @@ proptest! {
         let zij = engine.impedance_pu(order, 0, &steps, 0, n - 1).unwrap();
         let zji = engine.impedance_pu(order, 0, &steps, n - 1, 0).unwrap();
         prop_assert!((zij - zji).norm() <= 1e-12 * zij.norm().max(1e-300));
+        // A residual that can fail: column j of Z (bus n − 1) against Y built independently
+        // from the stamps, the banks added on the diagonal: ‖Y·z_j − e_j‖ small against
+        // ‖Y‖·‖z_j‖ (nodal analysis).
+        let j = n - 1;
+        let z: Vec<Complex64> = (0..n)
+            .map(|i| engine.impedance_pu(order, 0, &steps, i, j).unwrap())
+            .collect();
+        let mut y = vec![vec![Complex64::default(); n]; n];
+        net.stamp(order, 0, |a, b, v| {
+            y[a][b] += v;
+            if a != b {
+                y[b][a] += v;
+            }
+        });
+        for (bank, &k) in net.banks.iter().zip(&steps) {
+            y[bank.bus][bank.bus] += bank.y_step_pu(order, net.resistance) * f64::from(k);
+        }
+        let y_norm = y.iter().flatten().map(|v| v.norm()).fold(0.0, f64::max);
+        let z_norm = z.iter().map(|v| v.norm()).fold(0.0, f64::max);
+        for (i, row) in y.iter().enumerate() {
+            let r: Complex64 = row.iter().zip(&z).map(|(a, b)| a * b).sum();
+            let e = if i == j { 1.0 } else { 0.0 };
+            prop_assert!((r - e).norm() <= 1e-9 * y_norm * z_norm, "row {i}: {r}");
+        }
     }
 
     #[test]
