@@ -683,20 +683,56 @@ fn food_plant_fourth_step_resonates_near_the_5th() {
 
 #[test]
 fn water_plant_detuned_bank_stays_below_the_5th() {
-    for r in rows_for(&water_plant(), "C-LV") {
+    // A 7 % detuned bank is tuned to 1/√0.07 = 3.78 (textbook); with the system inductance
+    // in parallel its parallel resonance lies below that, under the 5th.
+    let rows = rows_for(&water_plant(), "C-LV");
+    let positive: Vec<_> = rows
+        .iter()
+        .filter(|r| r.sequence == Sequence::Positive)
+        .collect();
+    assert_eq!(
+        positive.len(),
+        2 * 4 * 4,
+        "2 scenarios × 4 steps × 4 C-MV states"
+    );
+    for r in positive {
         let h = r.peak.expect("peak").order;
         assert!(
-            h < 4.0,
+            h < 1.0 / 0.07f64.sqrt(),
             "the 7 % detuned bank's parallel resonance stays below 3.78: {h}"
         );
     }
 }
 
 #[test]
-fn large_site_has_34_buses_and_four_banks() {
-    let p = large_site();
-    assert_eq!(p.buses.len(), 34);
-    assert_eq!(p.banks.len(), 4);
+fn large_site_dd0_dyn1_pair_lowers_the_5th_at_the_distribution_bus() {
+    // The case's Dd0 (T5) and Dyn1 (T6) unit substations are 30° apart: under phasor
+    // summation their drives' 5th and 7th partly cancel at the 13.8 kV bus (twelve-pulse
+    // pairing, textbook), so the 5th there is lower than with T5 a Dyn1 like the others.
+    let v5 = |p: &Plant| {
+        let res = run_check(p, &CheckOptions::default()).expect("runs");
+        let bus = res.network.bus_index("DIST-13").unwrap();
+        let o = res
+            .penetration
+            .injections
+            .orders
+            .iter()
+            .position(|&h| h == 5.0)
+            .unwrap();
+        res.penetration
+            .voltages(0, &vec![0; p.banks.len()])
+            .unwrap()[bus][o]
+    };
+    let paired = large_site();
+    let mut same = large_site();
+    for t in &mut same.transformers {
+        if t.id == "T5" {
+            t.connection = VectorGroup::parse("Dyn1");
+        }
+    }
+    let (a, b) = (v5(&paired), v5(&same));
+    // Measured: 1.28 % against 1.61 % of nominal.
+    assert!(a < 0.9 * b, "paired {a} vs all Dyn1 {b}");
 }
 
 #[test]
