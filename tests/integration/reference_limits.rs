@@ -217,6 +217,33 @@ fn hand_worked_single_bus_penetration() {
     }
     let d = res.penetration.result(0, c, res.scan.configurations.len());
     assert_close(d.thd_percent[0], thd2.sqrt(), 1e-9);
+    // The bank's harmonic current by hand: V_h·h/X_C for the wye-equivalent plain step
+    // (the delta bank carries no zero-sequence 3rd), and its duty row uses them.
+    for (o, (h, _)) in [(3.0, 10.0), (5.0, 20.0), (7.0, 14.29), (11.0, 9.09)]
+        .iter()
+        .enumerate()
+    {
+        let expected = if *h == 3.0 {
+            0.0
+        } else {
+            v_expected[o] / 100.0 * v_ln * h / xc
+        };
+        assert_close(d.bank_current_a[0][o], expected, 1e-9);
+    }
+    let duty = res
+        .duty
+        .iter()
+        .find(|r| r.configuration == "C=1")
+        .expect("duty row");
+    let v_bus = duty.bus_v_pu * v_ln;
+    let i1 = v_bus / xc;
+    let ih2: f64 = d.bank_current_a[0].iter().map(|a| a * a).sum();
+    let i_rated = 300.0 / (3f64.sqrt() * 0.48);
+    assert_close(
+        duty.ratios.rms_current,
+        (i1 * i1 + ih2).sqrt() / i_rated,
+        1e-9,
+    );
     let row = &res.limit_rows[c];
     assert_close(row.tdd.value, tdd2.sqrt() / 400.0 * 100.0, 1e-9);
     // IEEE 519-2014 Table 1 at 480 V: THD limit 8 %.
