@@ -184,30 +184,26 @@ impl Injections {
                 }
             })
             .collect();
-        let current_pu = orders
-            .iter()
-            .map(|&h| {
-                buses
-                    .iter()
-                    .map(|&b| {
-                        per.get(&(b, h.to_bits()))
-                            .map_or(0.0, |v| combine(law, h, v.0.iter().copied()))
-                    })
-                    .collect()
-            })
+        // One table per order and column from the loads at that bus.
+        let table = |f: &dyn Fn(f64, &(Vec<f64>, Complex64)) -> Complex64| -> Vec<Vec<Complex64>> {
+            orders
+                .iter()
+                .map(|&h| {
+                    buses
+                        .iter()
+                        .map(|&b| {
+                            per.get(&(b, h.to_bits()))
+                                .map_or_else(Complex64::default, |v| f(h, v))
+                        })
+                        .collect()
+                })
+                .collect()
+        };
+        let current_pu = table(&|h, v| Complex64::new(combine(law, h, v.0.iter().copied()), 0.0))
+            .into_iter()
+            .map(|row| row.into_iter().map(|z| z.re).collect())
             .collect();
-        let phasor_pu = orders
-            .iter()
-            .map(|&h| {
-                buses
-                    .iter()
-                    .map(|&b| {
-                        per.get(&(b, h.to_bits()))
-                            .map_or_else(Complex64::default, |v| v.1)
-                    })
-                    .collect()
-            })
-            .collect();
+        let phasor_pu = table(&|_, v| v.1);
         blocked.dedup();
         Injections {
             sequences: orders.iter().map(|&h| Sequence::of(h)).collect(),
