@@ -185,7 +185,8 @@ impl Injections {
             })
             .collect();
         // One table per order and column from the loads at that bus.
-        let table = |f: &dyn Fn(f64, &(Vec<f64>, Complex64)) -> Complex64| -> Vec<Vec<Complex64>> {
+        type AtBus = (Vec<f64>, Complex64);
+        let table = |f: &dyn Fn(f64, &AtBus) -> Complex64| -> Vec<Vec<Complex64>> {
             orders
                 .iter()
                 .map(|&h| {
