@@ -284,3 +284,56 @@ fn summation_law_iec_61000_3_6() {
         assert_close(g, 2.0, 1e-12);
     }
 }
+
+#[test]
+fn pcc_current_limits_row_isc_and_estimated_demand() {
+    // The single 480 V bus: Isc = 20 MVA / (√3·0.48 kV) = 24.056 kA (the source's fault
+    // level, no banks); with I_L = 400 A, Isc/I_L = 60.14: IEEE 519-2014 Table 2, row
+    // 50 < 100 (references.md, verified): 10.0 % for 3 ≤ h < 11, 4.5 % for 11 ≤ h < 17,
+    // TDD 12 %.
+    let res = run_check(&single_bus(Summation::Arithmetic, 1), &Default::default()).unwrap();
+    let ctx = &res.limits;
+    assert_close(ctx.isc_ka, 24.056, 1e-4);
+    assert_close(ctx.isc_over_il.unwrap(), 60.141, 1e-4);
+    assert!(!ctx.i_l_estimated);
+    assert_eq!(ctx.tdd_limit.as_ref().unwrap().value, 12.0);
+    let orders = &res.penetration.injections.orders;
+    for (h, lim) in orders.iter().zip(&ctx.pcc_limit) {
+        let expected = if *h < 11.0 { 10.0 } else { 4.5 };
+        assert_eq!(*lim, Some(expected), "h {h}");
+    }
+    // The supply current at each order by hand, in % of I_L: the divider's V_h over Z_s(h)
+    // (the 3rd, zero sequence, all into the source: the delta bank has no path), against
+    // the row's limit; the worst ratio is the row's worst PCC harmonic.
+    let c = config_index(&res, &[1]);
+    let row = &res.limit_rows[c];
+    let z1 = 0.48f64 * 0.48 / 20.0;
+    let r = z1 / 101f64.sqrt();
+    let xc = 0.48 * 0.48 / 0.3;
+    let i1 = 200.0 / (3f64.sqrt() * 0.48);
+    let mut worst = (0.0, 0.0, 0.0);
+    for (h, m) in [(3.0, 10.0), (5.0, 20.0), (7.0, 14.29), (11.0, 9.09)] {
+        let zs = num_complex::Complex64::new(r, h * 10.0 * r);
+        let yb = if h == 3.0 { 0.0 } else { h / xc };
+        let z = (zs.inv() + num_complex::Complex64::new(0.0, yb)).inv();
+        let pct = (z / zs).norm() * i1 * m / 100.0 / 400.0 * 100.0;
+        let lim = if h < 11.0 { 10.0 } else { 4.5 };
+        if pct / lim > worst.0 {
+            worst = (pct / lim, h, pct);
+        }
+    }
+    assert_eq!(row.worst_pcc_order, Some(worst.1));
+    assert_close(row.worst_pcc_current.as_ref().unwrap().value, worst.2, 1e-9);
+    assert_eq!(
+        row.exceeds,
+        worst.0 > 1.0 || row.worst_thd.value > 8.0 || row.tdd.value > 12.0
+    );
+    // Without "Max demand current (A)", I_L is estimated from the loads: Σ P/pf at the
+    // study point over √3·kV = 200 kW / (√3·0.48 kV·1.0) = 240.56 A, flagged as estimated.
+    let mut p = single_bus(Summation::Arithmetic, 1);
+    p.study.max_demand_current_a = None;
+    let est = run_check(&p, &Default::default()).unwrap();
+    assert!(est.limits.i_l_estimated);
+    assert_close(est.limits.i_l_a, 240.56, 1e-4);
+    assert!(est.notes.iter().any(|n| n.contains("I_L estimated")));
+}
