@@ -337,3 +337,67 @@ fn pcc_current_limits_row_isc_and_estimated_demand() {
     assert_close(est.limits.i_l_a, 240.56, 1e-4);
     assert!(est.notes.iter().any(|n| n.contains("I_L estimated")));
 }
+
+#[test]
+fn iec_limit_sets_end_to_end() {
+    // IEC 61000-2-4 class 2 through a full check: voltage levels only (the standard sets no
+    // PCC current limit, so no TDD or Ih limit), THD 8 % at every bus, the 5th at 6 %; the
+    // capacitors held to IEC 60831-1 up to 1 kV rated and IEC 60871-1 above (references.md,
+    // IEC capacitor standards: 1.10 U_n and 1.30 I_n, from memory).
+    let mut p = Plant::new(50.0);
+    p.study.limits = LimitSet::Iec61000_2_4Class2;
+    p.study.max_demand_current_a = Some(100.0);
+    p.buses = vec![bus("MV", 11.0), bus("LV", 0.4)];
+    p.sources = vec![source("U", "MV", 250.0, 10.0)];
+    p.transformers = vec![transformer("T", "MV", "LV", 1600.0, 6.0, 8.0)];
+    p.banks = vec![
+        bank(
+            "CL",
+            "LV",
+            0.44,
+            100.0,
+            2,
+            Reactor::Detuning { percent: 7.0 },
+        ),
+        bank(
+            "CM",
+            "MV",
+            11.0,
+            600.0,
+            1,
+            Reactor::Detuning { percent: 7.0 },
+        ),
+    ];
+    p.loads = vec![load("D", "LV", LoadType::SixPulseDrive, 300.0, 0.95)];
+    let res = run_check(&p, &Default::default()).unwrap();
+    assert!(res.limits.tdd_limit.is_none());
+    assert!(res.limits.pcc_limit.iter().all(Option::is_none));
+    assert!(res.limits.thd_limit.iter().all(|l| l.value == 8.0));
+    let o5 = res
+        .penetration
+        .injections
+        .orders
+        .iter()
+        .position(|&h| h == 5.0)
+        .unwrap();
+    assert!(res.limits.individual.iter().all(|b| b[o5] == Some(6.0)));
+    for r in &res.limit_rows {
+        // The PCC currents are still shown, without a limit.
+        assert!(r.tdd.limit.is_none());
+        assert!(
+            r.worst_pcc_current
+                .as_ref()
+                .is_none_or(|c| c.limit.is_none())
+        );
+    }
+    for d in &res.duty {
+        let expected = if d.bank == "CL" {
+            "IEC 60831-1 (from memory)"
+        } else {
+            "IEC 60871-1 (from memory)"
+        };
+        assert_eq!(d.limits.source, expected);
+        assert_eq!((d.limits.rms_voltage, d.limits.rms_current), (1.10, 1.30));
+        assert!(d.limits.peak_voltage.is_none() && d.limits.kvar.is_none());
+    }
+}
