@@ -209,3 +209,30 @@ fn tuned_order_is_where_the_dip_lands() {
     let dip = deepest_dip(s);
     assert!((dip.order - 4.7).abs() < 1e-3, "{}", dip.order);
 }
+
+#[test]
+fn detuned_hand_order_by_hand() {
+    // 480 V bus behind 20 MVA (X/R 10): |Z_th| = 100/20 = 5 pu on 100 MVA; a 300 kvar 7 %
+    // detuned step: X_C = 100/0.3 = 333.33 pu, X_L = 0.07·X_C = 23.333 pu. Hand order
+    // √(X_C/(|Z_th| + X_L)) = 3.4300 (the plain law with the reactor's inductance added,
+    // textbook); the lossless parallel resonance with X_th = 5/√1.01 is 3.4315, and the
+    // scanned peak lies within 0.2 % of it.
+    let mut p = Plant::new(60.0);
+    p.buses.push(bus("B", 0.48));
+    p.sources.push(source("U", "B", 20.0, 10.0));
+    p.banks.push(bank(
+        "C",
+        "B",
+        0.48,
+        300.0,
+        1,
+        Reactor::Detuning { percent: 7.0 },
+    ));
+    p.loads
+        .push(load("D", "B", LoadType::SixPulseDrive, 50.0, 0.95));
+    let res = run(&p);
+    let row = &res.resonance.rows[0];
+    assert_close(row.hand_order, 3.4300, 1e-4);
+    assert_close(row.s_sc_mva, 20.0, 1e-9);
+    assert_close(row.peak.expect("peak").order, 3.4315, 2e-3);
+}
