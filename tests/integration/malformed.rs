@@ -654,3 +654,80 @@ fn phasor_summation_needs_every_spectrum_angle() {
         "Spectra!D3: \"Angle (deg)\" is blank for order 7 of spectrum \"SP\": \"phasor\" summation needs every spectrum line's angle",
     );
 }
+
+#[test]
+fn every_study_item_out_of_range_at_its_cell() {
+    // Each Study sheet item with a value outside its range (input contract, sheet Study and
+    // version 2 items): one located error each, at the item's value cell (the base
+    // workbook's rows 2-6, a new item in row 7).
+    use C::*;
+    for (cell, item, value, expected) in [
+        (
+            "B2",
+            None,
+            N(55.0),
+            "Study!B2: \"Frequency\" must be 50 or 60, found 55",
+        ),
+        (
+            "B4",
+            None,
+            s("quadratic"),
+            "Study!B4: \"Resistance model\" must be constant or skin, found \"quadratic\"",
+        ),
+        (
+            "B5",
+            None,
+            s("EN 50160"),
+            "Study!B5: \"Limits\" must be IEEE 519-2014, IEC 61000-2-4 class 1, class 2 or class 3, found \"EN 50160\"",
+        ),
+        (
+            "B6",
+            None,
+            s("+10/-5"),
+            "Study!B6: \"Capacitance tolerance\" must be a band like -5/+10 with -100 < minus <= 0 <= plus <= 100, found 10/-5",
+        ),
+        (
+            "B7",
+            Some("Max demand current (A)"),
+            N(-5.0),
+            "Study!B7: \"Max demand current\" must be a positive number, found -5",
+        ),
+        (
+            "B7",
+            Some("Highest order"),
+            N(0.5),
+            "Study!B7: \"Highest order\" must be a number above 1 and at most 1000, found 0.5",
+        ),
+        (
+            "B7",
+            Some("Scan step (order)"),
+            N(0.0),
+            "Study!B7: \"Scan step\" must be between 0.0001 and 1, found 0",
+        ),
+        (
+            "B7",
+            Some("Resonance margin (%)"),
+            N(150.0),
+            "Study!B7: \"Resonance margin\" must be between 0 and 100 %, found 150",
+        ),
+        (
+            "B7",
+            Some("Summation"),
+            s("rms"),
+            "Study!B7: \"Summation\" must be arithmetic, IEC 61000-3-6 or phasor, found \"rms\"",
+        ),
+        (
+            "B7",
+            Some("Step voltage change (%)"),
+            N(0.0),
+            "Study!B7: \"Step voltage change\" must be a percentage above 0 and at most 100, found 0",
+        ),
+    ] {
+        let mut book = Book::base();
+        if let Some(item) = item {
+            book = book.set("Study", "A7", s(item));
+        }
+        let got = book.set("Study", cell, value).errors();
+        assert_eq!(got, [expected], "{cell}");
+    }
+}
