@@ -613,3 +613,46 @@ fn strict_exits_0_on_a_clean_plant() {
     assert!(String::from_utf8_lossy(&out.stdout).contains("RESONANT"));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn strict_exits_1_when_only_capacitor_duty_fails() {
+    // A 7 % detuned step rated 440 V on a 480 V bus: its capacitor sees
+    // 480/440/(1 − 0.07) = 117 % of rated voltage, over IEEE 18's 110 % (references.md),
+    // while its resonance (below 3.78) is clear of the 5th, the limits hold and the power
+    // factor stays lagging (invented plant): `--strict` exits 1 for the duty alone.
+    use crate::common::{bank, bus, load, source};
+    use overtone::model::*;
+    let mut p = Plant::new(60.0);
+    p.study.max_demand_current_a = Some(1000.0);
+    p.buses = vec![bus("B", 0.48)];
+    p.sources = vec![source("U", "B", 40.0, 10.0)];
+    p.loads = vec![
+        load("L", "B", LoadType::Linear, 600.0, 0.8),
+        load("D", "B", LoadType::SixPulseDriveWithReactor, 30.0, 0.95),
+    ];
+    p.banks = vec![bank(
+        "C",
+        "B",
+        0.44,
+        50.0,
+        1,
+        Reactor::Detuning { percent: 7.0 },
+    )];
+    let res = overtone::check::run_check(&p, &Default::default()).unwrap();
+    assert!(res.duty.iter().any(|d| d.exceeds));
+    assert!(
+        res.resonance
+            .rows
+            .iter()
+            .all(|r| r.verdict != overtone::study::Verdict::Resonant)
+    );
+    assert!(res.limit_rows.iter().all(|r| !r.exceeds));
+    assert!(res.tolerance.iter().all(|t| !t.flagged));
+    assert!(res.operating.points.iter().all(|o| !o.flagged()));
+    let dir = temp_dir("duty-only");
+    let input = dir.join("plant.xlsx");
+    std::fs::write(&input, overtone::io::template::plant_workbook(&p).unwrap()).unwrap();
+    let out = overtone(&["check", input.to_str().unwrap(), "--strict", "--quiet"]);
+    assert_eq!(out.status.code(), Some(1));
+    std::fs::remove_dir_all(&dir).ok();
+}
