@@ -230,6 +230,32 @@ fn hand_worked_single_bus_penetration() {
         };
         assert_close(d.bank_current_a[0][o], expected, 1e-9);
     }
+    // Bank amplification by hand: THD at the bank's bus with the bank over THD without
+    // (no bank: V_h = |Z_s(h)|·I_h), and the largest single-order ratio.
+    let none = res
+        .penetration
+        .result(0, config_index(&res, &[0]), res.scan.configurations.len());
+    let mut thd0 = 0.0;
+    let mut best = (0.0, 0.0);
+    for (o, (h, m)) in [(3.0, 10.0), (5.0, 20.0), (7.0, 14.29), (11.0, 9.09)]
+        .iter()
+        .enumerate()
+    {
+        let zs = num_complex::Complex64::new(r, h * x);
+        let v0 = zs.norm() * i1 * m / 100.0 / v_ln * 100.0;
+        thd0 += v0 * v0;
+        if v_expected[o] / v0 > best.0 {
+            best = (v_expected[o] / v0, *h);
+        }
+    }
+    let amp = overtone::study::penetration::bank_amplification(
+        d,
+        none,
+        &res.penetration.injections.orders,
+    );
+    assert_close(amp[0].thd_ratio, thd2.sqrt() / thd0.sqrt(), 1e-9);
+    assert_close(amp[0].max_ratio, best.0, 1e-9);
+    assert_eq!(amp[0].at_order, best.1);
     let duty = res
         .duty
         .iter()
