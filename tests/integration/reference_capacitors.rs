@@ -301,3 +301,51 @@ fn tolerance_band_against_rescans_with_scaled_capacitance() {
         assert_close(band.low_order, low, 1e-4);
     }
 }
+
+#[test]
+fn remedies_threshold_note_and_configuration_cap() {
+    // Remedies are studied without being asked up to 200 step combinations; above, a note
+    // says so and how to ask; asked with --remedies, at most 50 configurations are
+    // compared per bank (check::AUTO_REMEDY_CONFIGURATIONS, REMEDY_CONFIGURATIONS).
+    use overtone::check::{AUTO_REMEDY_CONFIGURATIONS, CheckOptions, REMEDY_CONFIGURATIONS};
+    use overtone::synthetic::{generated_plant, with_converters};
+    let mut plant = with_converters(generated_plant(20, 0, 3, 6, 4), 4);
+    for b in &mut plant.banks {
+        b.reactor = Reactor::None;
+        b.step_kvar *= 4.0;
+    }
+    let combos = overtone::study::all_configurations(&plant.banks).len();
+    assert_eq!(combos, 343);
+    assert!(combos > AUTO_REMEDY_CONFIGURATIONS);
+    let res = run_check(&plant, &CheckOptions::default()).unwrap();
+    assert!(res.remedies.is_empty());
+    assert!(
+        res.notes.iter().any(|n| n
+            == "remedies not studied: 343 step combinations exceed 200 (each option re-runs every study); ask for them with --remedies"),
+        "{:?}",
+        res.notes
+    );
+    let asked = run_check(
+        &plant,
+        &CheckOptions {
+            remedies: Some(true),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    assert!(!asked.remedies.is_empty(), "a flagged bank gets remedies");
+    for r in &asked.remedies {
+        assert!(r.configurations.len() <= REMEDY_CONFIGURATIONS);
+        assert!(!r.results.is_empty());
+        // Ranks are 1, 2, ... in order.
+        for (i, x) in r.results.iter().enumerate() {
+            assert_eq!(x.rank, i + 1);
+        }
+    }
+    assert!(
+        asked
+            .remedies
+            .iter()
+            .any(|r| r.configurations.len() == REMEDY_CONFIGURATIONS)
+    );
+}
