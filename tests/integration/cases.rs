@@ -712,13 +712,7 @@ fn large_site_dd0_dyn1_pair_lowers_the_5th_at_the_distribution_bus() {
     let v5 = |p: &Plant| {
         let res = run_check(p, &CheckOptions::default()).expect("runs");
         let bus = res.network.bus_index("DIST-13").unwrap();
-        let o = res
-            .penetration
-            .injections
-            .orders
-            .iter()
-            .position(|&h| h == 5.0)
-            .unwrap();
+        let o = crate::common::order_index(&res, 5.0);
         res.penetration
             .voltages(0, &vec![0; p.banks.len()])
             .unwrap()[bus][o]

@@ -127,6 +127,16 @@ pub fn config_index(res: &overtone::check::CheckResults, steps: &[u32]) -> usize
         .expect("configuration studied")
 }
 
+/// Index of the injected order `h` (orders within 1e-9 are one) in a check's penetration.
+pub fn order_index(res: &overtone::check::CheckResults, h: f64) -> usize {
+    res.penetration
+        .injections
+        .orders
+        .iter()
+        .position(|&o| (o - h).abs() < 1e-9)
+        .expect("order injected")
+}
+
 /// The lowest-|Z| dip of a scanned series.
 pub fn deepest_dip(s: &overtone::study::Series) -> overtone::study::Extremum {
     *s.dips

@@ -399,13 +399,7 @@ fn iec_limit_sets_end_to_end() {
     assert!(res.limits.tdd_limit.is_none());
     assert!(res.limits.pcc_limit.iter().all(Option::is_none));
     assert!(res.limits.thd_limit.iter().all(|l| l.value == 8.0));
-    let o5 = res
-        .penetration
-        .injections
-        .orders
-        .iter()
-        .position(|&h| h == 5.0)
-        .unwrap();
+    let o5 = order_index(&res, 5.0);
     assert!(res.limits.individual.iter().all(|b| b[o5] == Some(6.0)));
     for r in &res.limit_rows {
         // The PCC currents are still shown, without a limit.

@@ -11,15 +11,6 @@ use overtone::study::Verdict;
 
 use crate::common::*;
 
-fn order_index(res: &CheckResults, h: f64) -> usize {
-    res.penetration
-        .injections
-        .orders
-        .iter()
-        .position(|&o| (o - h).abs() < 1e-9)
-        .expect("order injected")
-}
-
 fn bus_index(res: &CheckResults, id: &str) -> usize {
     res.network.bus_index(id).expect("bus")
 }
