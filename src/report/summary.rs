@@ -102,7 +102,7 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     )?;
     writeln!(
         out,
-        "Model: sequence networks by order (3k+1 positive, 3k-1 negative, 3k zero), transformer shifts by vector group; summation {}",
+        "Model: sequence networks (3k+1 pos., 3k-1 neg., 3k zero), vector-group shifts; summation {}",
         summation_word(p.study.summation)
     )?;
     writeln!(out)?;
@@ -113,7 +113,7 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     if let Some(z) = &res.zero_scan {
         writeln!(
             out,
-            "Zero-sequence scan at the grounded-wye bank bus(es) too ({} distinct configuration(s)): its rows say (zero seq) and hold only triplen orders",
+            "Zero-sequence scan too at grounded-wye banks ({} configuration(s)): rows marked (zero seq)",
             z.configurations.len()
         )?;
     }
