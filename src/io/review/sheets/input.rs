@@ -299,7 +299,7 @@ pub(super) fn input(
         ws.write_string(r, 0, w.to_string())?;
         r += 1;
     }
-    for c in 0..10 {
+    for c in 0..12 {
         ws.set_column_width(c, 16)?;
     }
     ws.set_landscape();
