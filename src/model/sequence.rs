@@ -76,8 +76,8 @@ impl Winding {
 }
 
 /// The zero-sequence equivalent of a two-winding transformer, by winding connection
-/// (the usual equivalent circuits of power-system textbooks, e.g. Grainger & Stevenson,
-/// *Power System Analysis*, 1994, §11.7, from memory): grounded wye on both sides passes
+/// (the zero-sequence equivalent circuits of symmetrical-component analysis, textbook,
+/// from memory): grounded wye on both sides passes
 /// zero sequence through Z₀; grounded wye (or grounded zigzag) facing a delta shunts Z₀ to
 /// ground on the grounded side and blocks it on the other; every other combination is open.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]

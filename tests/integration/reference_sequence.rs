@@ -44,8 +44,8 @@ fn drive_pair(a: &str, b: &str, law: Summation) -> Plant {
 fn twelve_pulse_pair_cancels_the_5th_and_7th_at_the_common_bus() {
     // Two identical six-pulse converters fed 30° apart (Dd0 and Dyn1) form a twelve-pulse
     // pair: at the common bus the orders 6k ± 1 with k odd (5, 7, 17, 19) cancel and those
-    // with k even (11, 13, 23, 25) add (power electronics textbooks on twelve-pulse
-    // converters, e.g. Mohan, Undeland & Robbins, *Power Electronics*, from memory). The
+    // with k even (11, 13, 23, 25) add (twelve-pulse converter theory, textbook, from
+    // memory). The
     // built-in spectrum's angles are the ideal six-pulse ones, and both drives see the
     // same fundamental angle in their own zone, so the cancellation is exact to rounding.
     let phasor = run_check(
@@ -117,8 +117,8 @@ fn electronic_behind_dyn(connection: Option<BankConnection>) -> Plant {
 #[test]
 fn triplen_on_the_wye_side_of_a_delta_wye_transformer_stays_there() {
     // A zero-sequence current injected on the grounded-wye side of a Dyn transformer
-    // circulates in the delta: none reaches the HV side (symmetrical components; textbook,
-    // e.g. Grainger & Stevenson, *Power System Analysis*, §11.7, from memory). On the LV
+    // circulates in the delta: none reaches the HV side (symmetrical components,
+    // textbook, from memory). On the LV
     // side the only zero-sequence path is the transformer's own Z0 to the neutral (the
     // loads have none), so by hand V_h = |Z_T0(h)|·I_h with Z_T0 = Z1 (default):
     //   Z_T = 0.0575 · 0.48² / 2.0 = 0.006624 ohm, R = Z/√(1+8²), X = 8R;
