@@ -13,8 +13,8 @@ use crate::study::operating::OperatingStudy;
 use crate::study::penetration::{Injections, Penetration, SequenceEngines};
 use crate::study::remedy::{Outcome, RemedyResult};
 use crate::study::resonance::ZeroScan;
+use crate::study::switching::SwitchingStudy;
 use crate::study::tolerance::{ToleranceBand, bands};
-use crate::study::transient::{Inrush, energize};
 use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid, all_configurations};
 
 /// Most step combinations studied in one run; above it the engineer is asked to narrow
@@ -40,16 +40,6 @@ pub enum CheckError {
     TooManyConfigurations { count: u64 },
 }
 
-/// Energizing one step of one bank in one scenario.
-#[derive(Debug, Clone, PartialEq, serde::Serialize)]
-pub struct TransientRow {
-    pub scenario: String,
-    pub bank: String,
-    /// The step energized (1-based); step 1 is isolated, later steps back-to-back.
-    pub step: u32,
-    pub inrush: Inrush,
-}
-
 /// What the engineer asked for beyond the defaults.
 #[derive(Clone, Default)]
 pub struct CheckOptions {
@@ -67,6 +57,8 @@ pub struct CheckOptions {
     /// Only the frequency scan and the resonance screen (the `scan` command): no operating
     /// point, penetration, duty or remedies (their results are empty).
     pub scan_only: bool,
+    /// Simulate the switching events (`check` does; remedy re-runs do not).
+    pub switching: bool,
 }
 
 /// Step combinations up to which remedies are studied without being asked.
@@ -111,8 +103,9 @@ pub struct CheckResults {
     pub duty: Vec<DutyRow>,
     /// Resonance bands across capacitance tolerance and scenarios.
     pub tolerance: Vec<ToleranceBand>,
-    /// Energizing every step of every bank, per scenario.
-    pub transients: Vec<TransientRow>,
+    /// Energizing every step of every bank, per scenario: simulated, with the formulas
+    /// beside each event.
+    pub switching: SwitchingStudy,
     /// Per bank and scenario, the configuration drawing the most background current.
     pub background: Vec<crate::study::background::BackgroundShare>,
     /// Remedies for the flagged banks (empty when not studied; see `notes`).
@@ -137,6 +130,7 @@ impl CheckResults {
             || self.operating.points.iter().any(|p| p.flagged())
             || !self.operating.collapsed.is_empty()
             || self.operating.step_changes.iter().any(|s| s.exceeds)
+            || self.switching.events.iter().any(|e| e.flagged())
     }
 
     /// The before/after outcome for `bank` over the configurations labelled `labels`.
@@ -392,29 +386,32 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         &resonance.characteristic_orders,
         resonance.margin_percent,
     );
-    let mut transients = Vec::new();
-    for (s, scenario) in network.scenarios.iter().enumerate() {
-        let fundamental = scan.fundamental(&engine, s)?;
-        for (b, model) in network.banks.iter().enumerate() {
-            let bus = &network.buses[model.bus];
-            let z = fundamental.bank_bus_z0_pu(b) * bus.z_base_ohm;
-            for k in 1..=model.steps {
-                transients.push(TransientRow {
-                    scenario: scenario.name.clone(),
-                    bank: model.id.clone(),
-                    step: k,
-                    inrush: energize(
-                        &plant.banks[b],
-                        model.p,
-                        k,
-                        bus.kv,
-                        network.frequency_hz,
-                        (z.re, z.im),
-                    ),
-                });
-            }
+    let switching = if options.scan_only || !options.switching {
+        SwitchingStudy::default()
+    } else {
+        let mut z_th_ohm = Vec::new();
+        for s in 0..network.scenarios.len() {
+            let fundamental = scan.fundamental(&engine, s)?;
+            z_th_ohm.push(
+                network
+                    .banks
+                    .iter()
+                    .enumerate()
+                    .map(|(b, model)| {
+                        let z = fundamental.bank_bus_z0_pu(b) * network.buses[model.bus].z_base_ohm;
+                        (z.re, z.im)
+                    })
+                    .collect::<Vec<_>>(),
+            );
         }
-    }
+        crate::study::switching::run(&crate::study::switching::Inputs {
+            plant,
+            net: &network,
+            operating: &operating,
+            z_th_ohm: &z_th_ohm,
+        })
+    };
+    notes.extend(switching.failures.iter().cloned());
     let background = crate::study::background::background_shares(
         &penetration,
         &network,
@@ -435,7 +432,7 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         limit_rows,
         duty,
         tolerance,
-        transients,
+        switching,
         background,
         remedies: Vec::new(),
         notes,
@@ -527,6 +524,7 @@ fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
                 progress: None,
                 remedies: Some(false),
                 scan_only: false,
+                switching: false,
             };
             let Ok(after_res) = run_check(&changed, &rerun) else {
                 continue;

@@ -12,7 +12,9 @@ use std::time::Instant;
 
 use indicatif::{ProgressBar, ProgressStyle};
 use overtone::check::{CheckOptions, run_check};
-use overtone::io::csv::{selection, write_operating_file, write_scan_file, write_voltages_file};
+use overtone::io::csv::{
+    selection, write_operating_file, write_scan_file, write_transients_file, write_voltages_file,
+};
 use overtone::io::output::check_output_path;
 use overtone::io::review::{Provenance, file_date, sha256_hex, write_review};
 use overtone::io::workbook_in::read_workbook;
@@ -57,6 +59,10 @@ struct Outputs {
     /// configuration) as CSV (the input contract's columns).
     #[arg(long, value_name = "FILE")]
     operating_csv: Option<PathBuf>,
+    /// Also write the simulated switching events (one row per step energized) as CSV (the
+    /// input contract's columns).
+    #[arg(long, value_name = "FILE")]
+    transients_csv: Option<PathBuf>,
     /// Print the JSON summary on stdout instead of the terminal table.
     #[arg(long)]
     json: bool,
@@ -215,6 +221,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
                     &out.scan_csv,
                     &out.voltages_csv,
                     &out.operating_csv,
+                    &out.transients_csv,
                 ],
                 Some(&path),
             )?;
@@ -308,6 +315,7 @@ fn options(
         progress: Some(Arc::new(progress)),
         remedies,
         scan_only: false,
+        switching: true,
     };
     (options, bar)
 }
@@ -374,6 +382,7 @@ fn study(
             &out.scan_csv,
             &out.voltages_csv,
             &out.operating_csv,
+            &out.transients_csv,
         ],
         input,
     )?;
@@ -398,6 +407,9 @@ fn study(
     }
     if let Some(path) = &out.operating_csv {
         write_operating_file(path, &res, &sel)?;
+    }
+    if let Some(path) = &out.transients_csv {
+        write_transients_file(path, &res)?;
     }
     if let Some(path) = &out.output {
         write_review(path, &res, &prov)?;

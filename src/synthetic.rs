@@ -139,6 +139,8 @@ pub fn generated_plant(n: usize, extra_links: usize, banks: usize, steps: u32, s
             status: BankStatus::Proposed,
             studied_steps: (0..=steps).collect(),
             inrush_uh: None,
+            trapped_charge_pu: 0.0,
+            inrush_limit_ka: None,
             connection: None,
         });
     }

@@ -276,3 +276,38 @@ pub fn write_operating_file(
     };
     crate::io::output::write_file(path, |w| write_operating_csv(w, res, sel)).map_err(io_err)
 }
+
+/// Writes `scenario,bank,step,case,peak_a,frequency_hz,bus_peak_pu,capacitor_peak_pu`
+/// (input contract, version 2): one row per simulated energizing event, each figure at its
+/// worst closing instant; a ringing frequency not seen (over-damped) is left empty.
+pub fn write_transients_csv(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    writeln!(
+        out,
+        "scenario,bank,step,case,peak_a,frequency_hz,bus_peak_pu,capacitor_peak_pu"
+    )?;
+    for e in &res.switching.events {
+        writeln!(
+            out,
+            "{},{},{},{},{:?},{},{:?},{:?}",
+            field(&e.scenario),
+            field(&e.bank),
+            e.step,
+            e.case.label(),
+            e.peak_a,
+            e.frequency_hz
+                .map_or_else(String::new, |f| format!("{f:?}")),
+            e.bus_peak_pu,
+            e.capacitor_peak_pu
+        )?;
+    }
+    Ok(())
+}
+
+/// Writes the transients CSV to `path`, whole or not at all.
+pub fn write_transients_file(path: &std::path::Path, res: &CheckResults) -> Result<(), CsvError> {
+    let io_err = |source| CsvError::Io {
+        path: path.display().to_string(),
+        source,
+    };
+    crate::io::output::write_file(path, |w| write_transients_csv(w, res)).map_err(io_err)
+}

@@ -276,6 +276,11 @@ pub struct CapacitorBank {
     pub inrush_uh: Option<f64>,
     /// Phase connection; `None` = [`BankConnection::default_for`] its bus's kV.
     pub connection: Option<BankConnection>,
+    /// Capacitor voltage left on a step when it recloses, per unit of nominal peak phase
+    /// voltage, −1..1 (switching simulation; 0 = fully discharged).
+    pub trapped_charge_pu: f64,
+    /// Peak inrush current the step's switching device withstands, kA; `None` = not checked.
+    pub inrush_limit_ka: Option<f64>,
 }
 
 /// Default inductance between the steps of a plain bank, µH per step (common practice: the

@@ -417,6 +417,20 @@ impl Plant {
             if let Some(l) = b.inrush_uh {
                 c.positive(SHEET, &b.id, "Inrush inductance", l);
             }
+            if !(b.trapped_charge_pu.is_finite() && b.trapped_charge_pu.abs() <= 1.0) {
+                c.push(
+                    SHEET,
+                    &b.id,
+                    "Trapped charge",
+                    format!(
+                        "must be between -1 and 1 pu of nominal peak voltage, found {}",
+                        b.trapped_charge_pu
+                    ),
+                );
+            }
+            if let Some(l) = b.inrush_limit_ka {
+                c.positive(SHEET, &b.id, "Switch inrush limit", l);
+            }
             if b.steps == 0 {
                 c.push(SHEET, &b.id, "Steps", "must be at least 1".to_string());
             }

@@ -101,50 +101,97 @@ pub fn write_tolerance(out: &mut dyn Write, res: &CheckResults) -> io::Result<()
     Ok(())
 }
 
-/// Energizing each step: inrush peak, ringing frequency, damping.
+/// Energizing each step, simulated: one line per event with the formula's peak beside the
+/// simulated one, the bus, capacitor and largest remote-bank peaks, and the verdict.
 pub fn write_transients(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    let sw = &res.switching;
+    if sw.events.is_empty() {
+        return Ok(());
+    }
     writeln!(
         out,
-        "Energizing each step (IEEE C37.012 formulas, undamped peaks): step 1 isolated against the supply, later steps back-to-back"
+        "Switching (time-domain simulation, worst closing instant; formula = IEEE C37.012 hand check)"
     )?;
-    let rows: Vec<Vec<String>> = res
-        .transients
+    let rows: Vec<Vec<String>> = sw
+        .events
         .iter()
         .take(4 * MAX_ROWS_PER_SCENARIO)
-        .map(|t| {
+        .map(|e| {
+            let remote = e
+                .remote
+                .iter()
+                .max_by(|a, b| a.peak_pu.total_cmp(&b.peak_pu))
+                .map_or_else(
+                    || "-".to_string(),
+                    |r| format!("{:.2} {}", r.peak_pu, r.bank),
+                );
             vec![
-                t.scenario.clone(),
-                t.bank.clone(),
-                t.step.to_string(),
-                t.inrush.case.to_string(),
-                format!("{:.0}", t.inrush.peak_a),
-                format!("{:.0}", t.inrush.frequency_hz),
-                format!("{:.3}", t.inrush.zeta),
-                format!("{:?}", t.inrush.regime)
-                    .to_lowercase()
-                    .replace("damped", "-damped"),
-                t.inrush
-                    .overvoltage_pu
-                    .map_or_else(|| "-".to_string(), |v| format!("{v:.2}")),
+                e.scenario.clone(),
+                e.bank.clone(),
+                e.step.to_string(),
+                if e.case == crate::study::switching::Case::Isolated {
+                    "isol".to_string()
+                } else {
+                    "b2b".to_string()
+                },
+                format!("{:.0}", e.peak_a),
+                format!("{:.0}", e.formula.peak_a),
+                e.frequency_hz
+                    .map_or_else(|| "-".to_string(), |f| format!("{f:.0}")),
+                format!("{:.2}", e.bus_peak_pu),
+                format!("{:.2}", e.capacitor_peak_pu),
+                remote,
+                e.ring_down_ms
+                    .map_or_else(|| format!(">{:.0}", e.simulated_ms), |t| format!("{t:.0}")),
+                if e.inrush_exceeds {
+                    "INRUSH".to_string()
+                } else if e.overvoltage_exceeds {
+                    "OVERVOLT".to_string()
+                } else {
+                    "ok".to_string()
+                },
             ]
         })
         .collect();
-    if !rows.is_empty() {
-        write_table(
+    write_table(
+        out,
+        &[
+            "scenario",
+            "bank",
+            "step",
+            "case",
+            "peak A",
+            "formula",
+            "Hz",
+            "bus pu",
+            "cap pu",
+            "remote pu",
+            "ring ms",
+            "verdict",
+        ],
+        &[0, 1, 3, 9, 11],
+        &rows,
+    )?;
+    if sw.events.len() > rows.len() {
+        writeln!(
             out,
-            &[
-                "scenario",
-                "bank",
-                "step",
-                "case",
-                "peak A",
-                "ring Hz",
-                "zeta",
-                "regime",
-                "bus Vpk pu",
-            ],
-            &[0, 1, 3, 7],
-            &rows,
+            "  ({} more events in --json, --transients-csv and the review)",
+            sw.events.len() - rows.len()
+        )?;
+    }
+    for e in sw.events.iter().filter(|e| e.inrush_exceeds) {
+        writeln!(
+            out,
+            "  {} step {} ({}): {:.0} A over the switch's {:.0} A; {}",
+            e.bank,
+            e.step,
+            e.scenario,
+            e.peak_a,
+            e.inrush_limit_a.unwrap_or(0.0),
+            e.needed_inrush_uh.map_or_else(
+                || "no inrush inductance up to 10 mH brings it under".to_string(),
+                |uh| format!("an inrush inductance of {uh:.0} uH per step brings it under"),
+            )
         )?;
     }
     Ok(())

@@ -7,4 +7,4 @@ pub mod operating;
 pub mod summary;
 pub mod table;
 
-pub use model::{model_scope, summation_meaning};
+pub use model::{model_scope, summation_meaning, switching_scope};

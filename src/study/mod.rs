@@ -14,6 +14,7 @@ pub mod remedy;
 pub mod resonance;
 pub mod scan;
 pub mod spectra;
+pub mod switching;
 pub mod tolerance;
 pub mod transient;
 

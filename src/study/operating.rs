@@ -385,15 +385,26 @@ impl OperatingStudy {
     /// from the solution without banks; the same values as the study's to about 1e-14.
     /// Angles include each bus's transformer phase shift (its zone against the PCC).
     pub fn voltages(&self, s: usize, steps: &[u32]) -> Result<Vec<Complex64>, LoadFlowFailure> {
+        let mut v = self.shift_free_voltages(s, steps)?;
+        for (x, z) in v.iter_mut().zip(&self.zone) {
+            *x *= z;
+        }
+        Ok(v)
+    }
+
+    /// Every bus voltage of scenario `s` with `steps` in the shift-free network (each
+    /// zone's phase shift left out, every source EMF at angle 0), per unit, by bus.
+    pub fn shift_free_voltages(
+        &self,
+        s: usize,
+        steps: &[u32],
+    ) -> Result<Vec<Complex64>, LoadFlowFailure> {
         if self.base.get(s).is_none() {
             return Err(LoadFlowFailure::NoConvergence);
         }
         let mut v = self.base[s].clone();
         let x: Vec<f64> = steps.iter().map(|&k| f64::from(k)).collect();
         self.solve_into(s, &x, &mut v, &mut LoadFlowScratch::default())?;
-        for (x, z) in v.iter_mut().zip(&self.zone) {
-            *x *= z;
-        }
         Ok(v)
     }
 

@@ -122,3 +122,34 @@ pub fn energize(
         )
     }
 }
+
+/// One side of a back-to-back loop: series R (ohm), L (H) and C (F).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Rlc {
+    pub r_ohm: f64,
+    pub l_h: f64,
+    pub c_f: f64,
+}
+
+/// Back-to-back energizing of a step (`step`) against the groups already on its bus
+/// (`on`, each n steps in parallel given as one R-L-C): the groups combine in parallel
+/// (C_on = ΣC, 1/L_on = Σ1/L, R_on likewise, 0 when any is 0) and the loop is
+/// L_eq = L_s + L_on, C_eq = C_s·C_on/(C_s + C_on) (IEEE C37.012, from memory). With k − 1
+/// equal steps of one bank this is [`energize`]'s back-to-back case.
+pub fn back_to_back(u_ln_v: f64, step: Rlc, on: &[Rlc]) -> Inrush {
+    let c_on: f64 = on.iter().map(|g| g.c_f).sum();
+    let l_on = 1.0 / on.iter().map(|g| 1.0 / g.l_h).sum::<f64>();
+    let r_on = if on.iter().all(|g| g.r_ohm > 0.0) {
+        1.0 / on.iter().map(|g| 1.0 / g.r_ohm).sum::<f64>()
+    } else {
+        0.0
+    };
+    rlc(
+        "back-to-back",
+        u_ln_v,
+        step.r_ohm + r_on,
+        step.l_h + l_on,
+        step.c_f * c_on / (step.c_f + c_on),
+        false,
+    )
+}

@@ -254,6 +254,8 @@ pub struct BankSpec {
     studied: Option<Vec<u8>>,
     inrush_uh: Option<Num>,
     connection: u8,
+    trapped: u8,
+    inrush_limit_ka: Option<Num>,
 }
 
 #[derive(Arbitrary, Debug)]
@@ -447,6 +449,9 @@ impl PlantSpec {
                         Some(BankConnection::Wye),
                         Some(BankConnection::WyeGrounded),
                     ][usize::from(b.connection % 4)],
+                    // −1, −0.5, 0, 0.5, 1 pu: the contract's range and its edges.
+                    trapped_charge_pu: f64::from(b.trapped % 5) * 0.5 - 1.0,
+                    inrush_limit_ka: b.inrush_limit_ka.map(|v| v.get(Q)),
                 }
             })
             .collect();

@@ -75,6 +75,8 @@ fn bank(
         status,
         studied_steps: (0..=steps).collect(),
         inrush_uh: None,
+        trapped_charge_pu: 0.0,
+        inrush_limit_ka: None,
         connection: None,
     }
 }
@@ -208,6 +210,8 @@ pub fn bottling_plant() -> Plant {
             status: BankStatus::Proposed,
             studied_steps: (0..=5).collect(),
             inrush_uh: None,
+            trapped_charge_pu: 0.0,
+            inrush_limit_ka: None,
             connection: None,
         },
         CapacitorBank {
@@ -221,6 +225,8 @@ pub fn bottling_plant() -> Plant {
             status: BankStatus::Existing,
             studied_steps: (0..=3).collect(),
             inrush_uh: None,
+            trapped_charge_pu: 0.0,
+            inrush_limit_ka: None,
             connection: None,
         },
     ];

@@ -86,6 +86,8 @@ pub fn bank(
         status: BankStatus::Proposed,
         studied_steps: (0..=steps).collect(),
         inrush_uh: None,
+        trapped_charge_pu: 0.0,
+        inrush_limit_ka: None,
         connection: None,
     }
 }

@@ -122,7 +122,7 @@ proptest! {
         plant.banks = vec![CapacitorBank {
             id: "C".into(), bus: "LV".into(), rated_kv: kv.abs().max(0.1), step_kvar: kvar, steps,
             reactor: if p > 0.0 { Reactor::Detuning { percent: p } } else { Reactor::None },
-            reactor_q: 50.0, status: BankStatus::Proposed, studied_steps: (0..=steps).collect(), inrush_uh: None, connection: None,
+            reactor_q: 50.0, status: BankStatus::Proposed, studied_steps: (0..=steps).collect(), inrush_uh: None, connection: None, trapped_charge_pu: 0.0, inrush_limit_ka: None,
         }];
         plant.loads = vec![Load { id: "D".into(), bus: "LV".into(), kind: LoadType::SixPulseDrive, kw, power_factor: pf, quantity: 1.0, load_factor: 1.0, spectrum: None }];
         match run_check(&plant, &CheckOptions { remedies: Some(true), ..Default::default() }) {

@@ -181,7 +181,10 @@ fn template_has_every_sheet_header_note_and_dropdown() {
             "Status",
             "Studied steps",
             "Inrush inductance (uH)",
-            "Connection"
+            "Connection",
+            // Version 2: the switching simulation's columns.
+            "Trapped charge (pu)",
+            "Switch inrush limit (kA)"
         ]
     );
     // Loads: the Type dropdown lists every load type of the contract.

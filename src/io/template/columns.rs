@@ -290,6 +290,18 @@ pub(super) fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                     List(BANK_CONNECTIONS),
                     13.0,
                 ),
+                col(
+                    "Trapped charge (pu)",
+                    "Capacitor voltage left on a step when it recloses, -1 to 1 per unit of nominal peak voltage (a controller that recloses before the discharge time). Switching simulation only. Default 0.",
+                    Between(-1.0, 1.0),
+                    12.0,
+                ),
+                col(
+                    "Switch inrush limit (kA)",
+                    "Peak inrush current the step's switching device withstands, kA, > 0. Optional: blank = not checked.",
+                    Positive,
+                    12.0,
+                ),
             ],
         ),
         (

@@ -166,6 +166,12 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                     T(studied),
                     b.inrush_uh.map_or(Blank, N),
                     b.connection.map_or(Blank, |c| t(c.label())),
+                    if b.trapped_charge_pu == 0.0 {
+                        Blank
+                    } else {
+                        N(b.trapped_charge_pu)
+                    },
+                    b.inrush_limit_ka.map_or(Blank, N),
                 ]
             })
             .collect(),

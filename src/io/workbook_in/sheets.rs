@@ -63,6 +63,8 @@ pub const CAPACITORS: &[Column] = &[
     opt("Studied steps"),
     opt("Inrush inductance (uH)"),
     opt("Connection"),
+    opt("Trapped charge (pu)"),
+    opt("Switch inrush limit (kA)"),
 ];
 pub const LOADS: &[Column] = &[
     req("Load"),
@@ -373,6 +375,15 @@ pub fn banks(
                     r,
                     "Inrush inductance (uH)",
                     "a positive inductance in uH",
+                    d,
+                ),
+                trapped_charge_pu: t
+                    .number(r, "Trapped charge (pu)", "a number from -1 to 1", d)
+                    .unwrap_or(0.0),
+                inrush_limit_ka: t.number(
+                    r,
+                    "Switch inrush limit (kA)",
+                    "a positive peak current in kA",
                     d,
                 ),
             }

@@ -202,22 +202,28 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             ));
         }
         if let Some(w) = res
-            .transients
+            .switching
+            .events
             .iter()
             .filter(|r| r.bank == bank.id)
-            .max_by(|a, b| a.inrush.peak_a.total_cmp(&b.inrush.peak_a))
+            .max_by(|a, b| a.peak_a.total_cmp(&b.peak_a))
         {
+            let bad = w.flagged();
             out.push((
-                0.0,
+                if bad { 2.0 } else { 0.0 },
                 vec![
-                    t("Switching (peak inrush)"),
+                    t("Switching (simulated peak inrush)"),
                     t(&bank.id),
                     t(&w.scenario),
-                    t(format!("step {} {}", w.step, w.inrush.case)),
-                    n(w.inrush.peak_a, "0"),
-                    Cell::Blank,
-                    t("A (no limit applied)"),
-                    t("info"),
+                    t(format!("step {} {}", w.step, w.case.label())),
+                    n(w.peak_a, "0"),
+                    on(w.inrush_limit_a, "0"),
+                    t(if w.inrush_limit_a.is_some() {
+                        "A peak"
+                    } else {
+                        "A (no switch limit given)"
+                    }),
+                    verdict(bad, "meets", "EXCEEDS"),
                 ],
             ));
         }

@@ -183,6 +183,8 @@ pub(super) fn input(
             "Studied steps",
             "Inrush inductance (uH)",
             "Connection",
+            "Trapped charge (pu)",
+            "Switch inrush limit (kA)",
         ],
         p.banks
             .iter()
@@ -208,6 +210,8 @@ pub(super) fn input(
                         .join(",")),
                     on(b.inrush_uh, "0.0"),
                     t(connections.get(i).copied().unwrap_or("")),
+                    n(b.trapped_charge_pu, "0.00"),
+                    on(b.inrush_limit_ka, "0.00"),
                 ]
             })
             .collect(),
@@ -299,7 +303,7 @@ pub(super) fn input(
         ws.write_string(r, 0, w.to_string())?;
         r += 1;
     }
-    for c in 0..12 {
+    for c in 0..14 {
         ws.set_column_width(c, 16)?;
     }
     ws.set_landscape();

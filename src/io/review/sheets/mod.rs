@@ -4,6 +4,7 @@ mod front;
 mod input;
 mod operating;
 mod results;
+mod switching;
 
 use rust_xlsxwriter::{
     ConditionalFormatText, ConditionalFormatTextRule, Format, Workbook, Worksheet, XlsxError,
@@ -75,7 +76,8 @@ pub fn write_all(
     results::distortion(wb.add_worksheet().set_name("Distortion")?, res)?;
     results::duty(wb.add_worksheet().set_name("Duty")?, res)?;
     results::remedies(wb.add_worksheet().set_name("Remedies")?, res)?;
-    results::switching(wb.add_worksheet().set_name("Switching")?, res)?;
+    switching::switching(wb.add_worksheet().set_name("Switching")?, res)?;
+    switching::waveforms(wb.add_worksheet().set_name("Waveforms")?, "Waveforms", res)?;
     text_sheet(
         wb.add_worksheet().set_name("Assumptions")?,
         "Assumptions and scope",
@@ -117,7 +119,7 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
         format!("Capacitance tolerance {}/+{} % applied to the resonance band; capacitor duty at nominal capacitance and at the bus voltage the load flow solved for each scenario and configuration (nominal where it has no solution).", p.capacitance_tolerance.minus_percent, p.capacitance_tolerance.plus_percent),
         format!("Operating point: fundamental load flow by Newton's method to 1e-9 pu mismatch; sources as EMFs of Voltage (pu) at angle 0 behind their impedance; loads (linear, motor, converter) at constant power P = kW·Quantity·Load factor, Q = P·tan(acos pf) lagging; capacitor steps, reactors and cable charging as admittances at h = 1; transformers at the ratio of their buses' kV (no taps); target PF {} lagging, voltage range {}/{} pu, step voltage change {} %.", p.target_power_factor, p.voltage_range.low_pu, p.voltage_range.high_pu, p.step_voltage_change_percent),
         "Hand check h = √(S_sc/Q_c) with S_sc from the fundamental Thevenin impedance at the bank's bus without banks (loads and motors included); with a series reactor √(X_C/(|Z_th| + X_L)).".into(),
-        "Switching: IEEE C37.012 formulas (from memory), undamped peaks, closing at the voltage peak, no trapped charge; plain banks use the Inrush inductance per step (default 10 µH, common practice).".into(),
+        crate::report::switching_scope().to_string(),
         "Remedies: each option sized to keep the planned kvar at bus voltage, the next standard capacitor rating at or above U/(1−p); studies re-run over at most 50 flagged configurations per bank; linearity current 1.8 × I₁ (common practice).".into(),
     ];
     for s in &res.penetration.injections.spectra {

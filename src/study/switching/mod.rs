@@ -1,0 +1,303 @@
+//! Switching transients by time-domain simulation: energizing every step of every bank in
+//! every scenario, isolated and back-to-back, at the worst closing instant, with the
+//! closed formulas of [`crate::study::transient`] beside each event as the hand check.
+//!
+//! The circuit of an event ([`setup`]) is the plant's lumped network at its fundamental
+//! parameters: source EMFs behind R-L, transformers and cables as R-L (cable charging as
+//! capacitance), every energized capacitor step with its reactor and inrush inductance,
+//! and the loads of the operating point of the configuration before closing (linear loads
+//! as the parallel R-L that draws their P and Q at the solved voltage, motors as an EMF
+//! behind their subtransient R + jX'', converters as their fundamental current), so that
+//! the state before closing is the load flow's. See `circuit.rs` for the integration.
+
+mod circuit;
+mod events;
+pub mod measure;
+mod run;
+
+pub use circuit::{Circuit, Element, Kind, State, Stepper};
+pub use events::{EventSpec, Setup, events, setup, step_values};
+pub use run::{Inputs, formula, run};
+
+use num_complex::Complex64;
+use serde::Serialize;
+
+use crate::study::transient::{Inrush, Regime};
+
+/// Time steps per period of the fastest capacitor loop of an event (the closing step's
+/// own L-C and the energized steps on its bus): Δt = 1/(60·f_max), and at most 1/400 of
+/// the fundamental period.
+pub const STEPS_PER_PERIOD: f64 = 60.0;
+/// The shortest simulated window, fundamental cycles.
+pub const MIN_CYCLES: f64 = 5.0;
+/// The longest simulated window, fundamental cycles, and at most [`MAX_STEPS`] steps.
+pub const MAX_CYCLES: f64 = 60.0;
+/// Most time steps of one run.
+pub const MAX_STEPS: usize = 200_000;
+/// The ring-down ends when the transient stays below this fraction of its peak.
+pub const RING_DOWN_FRACTION: f64 = 0.05;
+/// Transient overvoltage a capacitor withstands, peak, per unit of its rated peak phase
+/// voltage: 2·√2·U_N for switching transients (IEC 60831-1, switching overvoltages; from
+/// memory). IEEE Std 18 allows comparable multiples for a limited number of events per
+/// year (from memory). Confirm against the capacitor's data sheet.
+pub const CAPACITOR_TRANSIENT_PU: f64 = 2.0;
+
+/// How the step closes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Case {
+    /// No other capacitor on the bus: the step rings against the supply.
+    Isolated,
+    /// Other steps on the same bus discharge into the closing step.
+    BackToBack,
+}
+
+impl Case {
+    /// The contract's word for the case (`--transients-csv`).
+    pub fn label(self) -> &'static str {
+        match self {
+            Case::Isolated => "isolated",
+            Case::BackToBack => "back-to-back",
+        }
+    }
+}
+
+/// The peak voltage at another bank's bus during an event.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RemotePeak {
+    pub bank: String,
+    pub bus: String,
+    /// Peak phase voltage, per unit of that bus's nominal peak phase voltage.
+    pub peak_pu: f64,
+}
+
+/// One energizing event and what the simulation found.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SwitchingEvent {
+    pub scenario: String,
+    pub bank: String,
+    pub bus: String,
+    /// The step energized (1-based).
+    pub step: u32,
+    pub case: Case,
+    /// The configuration before closing (label).
+    pub before: String,
+    /// Trapped charge on the closing step, per unit of nominal peak (worst polarity).
+    pub trapped_charge_pu: f64,
+    /// Peak inrush current through the closing step, A.
+    pub peak_a: f64,
+    /// Dominant ringing frequency of the inrush, Hz (`None`: no oscillation seen).
+    pub frequency_hz: Option<f64>,
+    /// Damping ratio from the logarithmic decrement of the inrush.
+    pub zeta: Option<f64>,
+    pub regime: Regime,
+    /// Peak phase voltage at the bank's bus, per unit of nominal peak.
+    pub bus_peak_pu: f64,
+    /// Peak voltage across the closing step's capacitor, per unit of the bus's nominal
+    /// peak phase voltage.
+    pub capacitor_peak_pu: f64,
+    /// The same against the capacitor's rated peak phase voltage.
+    pub capacitor_peak_rated: f64,
+    /// Peak voltage at every other bank's bus.
+    pub remote: Vec<RemotePeak>,
+    /// Time for the inrush transient to fall for good below 5 % of its peak, ms (`None`:
+    /// not within the simulated window).
+    pub ring_down_ms: Option<f64>,
+    pub simulated_ms: f64,
+    pub step_us: f64,
+    /// Closing instant of the largest inrush: degrees of the bus's phase voltage
+    /// v = V̂·sin θ (90° = closing at its positive peak).
+    pub closing_deg: f64,
+    /// The closed formulas (hand check).
+    pub formula: Inrush,
+    /// The switching device's inrush limit, A peak, when given.
+    pub inrush_limit_a: Option<f64>,
+    pub inrush_exceeds: bool,
+    /// Inrush inductance per step (µH) that brings the peak under the limit, when
+    /// exceeded (`None` when none up to 10 mH does).
+    pub needed_inrush_uh: Option<f64>,
+    /// The capacitor's peak exceeds [`CAPACITOR_TRANSIENT_PU`] of its rated peak.
+    pub overvoltage_exceeds: bool,
+}
+
+impl SwitchingEvent {
+    /// True when a limit is exceeded (the `--strict` criterion).
+    pub fn flagged(&self) -> bool {
+        self.inrush_exceeds || self.overvoltage_exceeds
+    }
+}
+
+/// The worst event of a bank (largest inrush) as waveforms for a chart.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Waveform {
+    pub bank: String,
+    pub scenario: String,
+    pub step: u32,
+    pub case: Case,
+    pub time_ms: Vec<f64>,
+    /// Inrush current through the closing step, A (instantaneous).
+    pub current_a: Vec<f64>,
+    /// Bus phase voltage, per unit of nominal peak.
+    pub bus_pu: Vec<f64>,
+    /// Capacitor voltage of the closing step, per unit of the bus's nominal peak.
+    pub capacitor_pu: Vec<f64>,
+    /// The formula's peak inrush, A.
+    pub formula_peak_a: f64,
+}
+
+/// Every event of the plant.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct SwitchingStudy {
+    pub events: Vec<SwitchingEvent>,
+    pub waveforms: Vec<Waveform>,
+    /// Events that could not be simulated, each a sentence.
+    pub failures: Vec<String>,
+}
+
+/// What one run of an event gave, per unit.
+pub struct Sim {
+    pub dt: f64,
+    pub steps: usize,
+    /// Worst over closing instants, refined between samples.
+    pub peak_i_pu: f64,
+    pub bus_peak_pu: f64,
+    pub cap_peak_pu: f64,
+    pub remote_peak_pu: Vec<f64>,
+    /// The inrush's transient component at its worst closing instant, per unit.
+    pub transient: Vec<f64>,
+    /// The run ended because the transient had decayed.
+    pub decayed: bool,
+    /// Closing angle φ of the sources (rad) and trapped-charge sign of the largest inrush.
+    pub phi: f64,
+    pub q_sign: f64,
+    /// With `capture`: the worst-instant waveforms (current, bus and capacitor voltage).
+    pub channels: Option<[Vec<f64>; 3]>,
+}
+
+/// Runs one event: the analytic (complex) run with the sources, and, with a trapped charge
+/// `q`, a run from a unit capacitor voltage without sources; the worst closing instant of
+/// each quantity is max over τ of |W(τ)| + |q|·|y(τ)|.
+pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::SingularPivot> {
+    let c = &s.circuit;
+    let period = 2.0 * std::f64::consts::PI / c.w;
+    let stepper = Stepper::new(c, s.dt)?;
+    let pre = c.steady_state(false)?;
+    let post = c.steady_state(true)?;
+    let i_post = post.i[s.closing_rl];
+    let rot = Complex64::from_polar(1.0, c.w * s.dt);
+    let n_min = (MIN_CYCLES * period / s.dt).ceil() as usize;
+    let n_max = ((MAX_CYCLES * period / s.dt).ceil() as usize)
+        .min(MAX_STEPS)
+        .max(n_min);
+    let quiet = (period / s.dt).ceil() as usize;
+    let watch: Vec<usize> = std::iter::once(s.bus)
+        .chain(s.remote.iter().map(|r| r.1))
+        .collect();
+    let mut w_i: Vec<Complex64> = Vec::with_capacity(n_min);
+    let mut w_v: Vec<Vec<Complex64>> = vec![Vec::with_capacity(n_min); watch.len()];
+    let mut w_c: Vec<Complex64> = Vec::with_capacity(n_min);
+    let (mut top, mut last) = (0.0f64, 0usize);
+    let mut ss = Complex64::new(1.0, 0.0);
+    let mut decayed = false;
+    stepper.run(pre, true, |n, st| {
+        ss *= rot;
+        let i = st.i[s.closing_rl];
+        w_i.push(i);
+        for (k, &bus) in watch.iter().enumerate() {
+            w_v[k].push(st.v[bus]);
+        }
+        w_c.push(st.u[s.closing_c]);
+        let tr = (i - i_post * ss).norm();
+        if tr > top {
+            top = tr;
+        }
+        if tr >= RING_DOWN_FRACTION * top {
+            last = n;
+        }
+        if n >= n_min && n - last >= quiet {
+            decayed = true;
+            return false;
+        }
+        n < n_max
+    });
+    let steps = w_i.len();
+    // The trapped-charge run: a unit voltage on the closing capacitor, sources off.
+    let (mut y_i, mut y_v, mut y_c) = (Vec::new(), vec![Vec::new(); watch.len()], Vec::new());
+    if q != 0.0 {
+        let mut init = State {
+            v: vec![Complex64::default(); c.nodes],
+            i: vec![Complex64::default(); c.elements.len()],
+            u: vec![Complex64::default(); c.elements.len()],
+        };
+        init.u[s.closing_c] = Complex64::new(1.0, 0.0);
+        stepper.run(init, false, |n, st| {
+            y_i.push(st.i[s.closing_rl].re);
+            for (k, &bus) in watch.iter().enumerate() {
+                y_v[k].push(st.v[bus].re);
+            }
+            y_c.push(st.u[s.closing_c].re);
+            n < steps
+        });
+    }
+    let qa = q.abs();
+    let envelope = |w: &[Complex64], y: &[f64]| -> Vec<f64> {
+        w.iter()
+            .enumerate()
+            .map(|(n, x)| x.norm() + qa * y.get(n).map_or(0.0, |v| v.abs()))
+            .collect()
+    };
+    let (peak_i_pu, n_star) = measure::refined_peak(&envelope(&w_i, &y_i));
+    let v_peaks: Vec<f64> = w_v
+        .iter()
+        .zip(&y_v)
+        .map(|(w, y)| measure::refined_peak(&envelope(w, y)).0)
+        .collect();
+    let cap_peak_pu = measure::refined_peak(&envelope(&w_c, &y_c)).0;
+    // The worst closing instant of the inrush: Re[e^{jφ}·W] = |W| at n*, and the trapped
+    // charge's polarity adding to it.
+    let phi = w_i.get(n_star).map_or(0.0, |w| -w.arg());
+    let q_sign = y_i.get(n_star).map_or(1.0, |y| y.signum());
+    let e = Complex64::from_polar(1.0, phi);
+    let worst = |w: &[Complex64], y: &[f64]| -> Vec<f64> {
+        w.iter()
+            .enumerate()
+            .map(|(n, x)| (e * x).re + qa * q_sign * y.get(n).copied().unwrap_or(0.0))
+            .collect()
+    };
+    let current = worst(&w_i, &y_i);
+    let mut ph = Complex64::new(1.0, 0.0);
+    let transient: Vec<f64> = current
+        .iter()
+        .map(|x| {
+            ph *= rot;
+            x - (e * i_post * ph).re
+        })
+        .collect();
+    let channels = capture.then(|| [current, worst(&w_v[0], &y_v[0]), worst(&w_c, &y_c)]);
+    Ok(Sim {
+        dt: s.dt,
+        steps,
+        peak_i_pu,
+        bus_peak_pu: v_peaks[0],
+        cap_peak_pu,
+        remote_peak_pu: v_peaks[1..].to_vec(),
+        transient,
+        decayed,
+        phi: phi + pre_bus_angle(c, s),
+        q_sign,
+        channels,
+    })
+}
+
+/// Angle (rad) of the bus's pre-closing phasor, so that the closing angle is read on the
+/// bus voltage.
+fn pre_bus_angle(c: &Circuit, s: &Setup) -> f64 {
+    c.steady_state(false)
+        .map_or(0.0, |st| st.v.get(s.bus).map_or(0.0, |v| v.arg()))
+}
+
+/// Closing angle θ (degrees, 0..360) on v = V̂·sin θ for a closing at source phase φ with
+/// the bus phasor's angle already added: cos(φ + arg V) = sin(φ + arg V + 90°).
+pub fn closing_deg(phi_plus_bus: f64) -> f64 {
+    (phi_plus_bus.to_degrees() + 90.0).rem_euclid(360.0)
+}
