@@ -48,6 +48,7 @@ pub fn plant_study(data: &[u8]) {
 pub fn study_and_report(plant: &Plant) {
     let options = CheckOptions {
         remedies: Some(true),
+        switching: true,
         ..CheckOptions::default()
     };
     match run_check(plant, &options) {
@@ -81,6 +82,9 @@ pub fn audit_reports(res: &CheckResults) {
     let mut csv = Vec::new();
     overtone::io::csv::write_operating_csv(&mut csv, res, &sel).expect("operating CSV to memory");
     assert_no_nonfinite_text("operating CSV", &String::from_utf8_lossy(&csv));
+    let mut csv = Vec::new();
+    overtone::io::csv::write_transients_csv(&mut csv, res).expect("transients CSV to memory");
+    assert_no_nonfinite_text("transients CSV", &String::from_utf8_lossy(&csv));
 
     let prov = Provenance {
         input: "fuzz".into(),

@@ -31,6 +31,7 @@ mod reference_limits;
 mod reference_operating;
 mod reference_resonance;
 mod reference_sequence;
+mod reference_switching;
 mod review;
 mod scan;
 mod simulator;

@@ -189,72 +189,107 @@ impl<'a> Stepper<'a> {
         })
     }
 
-    /// Integrates from `state` (τ = 0) with the sources on (`sources`: E·e^{jωτ}) or off,
-    /// calling `observe(n, state)` after every step n = 1, 2, … until it returns false.
+    /// Integrates from `state` at time `t0` (s since closing) with the sources on
+    /// (`sources`: E·e^{jωτ}) or off, calling `observe(n, state)` after every step
+    /// n = 1, 2, … (at τ = t0 + n·Δt) until it returns false; returns the last state.
+    ///
+    /// With `closing`, the first step, across the closing, is taken as two backward-Euler
+    /// half steps: they need only the states (inductor currents, capacitor voltages), which
+    /// stay continuous when the switch closes, while the node voltages jump; and a
+    /// backward-Euler step of Δt/2 has exactly the trapezoidal companion conductances of
+    /// Δt, so the same factorization serves (the critical damping adjustment of EMT
+    /// programs).
     pub fn run(
         &self,
         mut state: State,
+        t0: f64,
         sources: bool,
+        closing: bool,
         mut observe: impl FnMut(usize, &State) -> bool,
-    ) {
+    ) -> State {
         let c = self.circuit;
-        let n_el = c.elements.len();
-        let mut hist = vec![Complex64::default(); n_el];
+        let mut hist = vec![Complex64::default(); c.elements.len()];
         let mut rhs = vec![Complex64::default(); c.nodes];
         let mut work = Vec::with_capacity(c.nodes);
-        let rot = Complex64::from_polar(1.0, c.w * self.dt);
-        let mut phasor = Complex64::new(1.0, 0.0);
-        let zero = Complex64::default();
+        let on = if sources { 1.0 } else { 0.0 };
         let mut n = 0usize;
         loop {
             n += 1;
-            phasor *= rot;
-            if n.is_multiple_of(1024) {
-                // Keep |e^{jωτ}| at 1 against the rounding of repeated products.
-                phasor = Complex64::from_polar(1.0, c.w * self.dt * n as f64);
-            }
-            let drive = if sources { phasor } else { zero };
-            rhs.iter_mut().for_each(|x| *x = zero);
-            for (k, e) in c.elements.iter().enumerate() {
-                let inject = match e.kind {
-                    Kind::Rl { r, l, emf } => {
-                        let g = self.g[k];
-                        let h = g * (state.u[k] + (2.0 * l / self.dt - r) * state.i[k]);
-                        hist[k] = h;
-                        g * emf * drive - h
-                    }
-                    Kind::C { .. } => {
-                        let h = -self.g[k] * state.u[k] - state.i[k];
-                        hist[k] = h;
-                        -h
-                    }
-                    Kind::G { .. } => zero,
-                    Kind::Current { i } => -i * drive,
-                };
-                rhs[e.a] += inject;
-                if let Some(b) = e.b {
-                    rhs[b] -= inject;
+            if n == 1 && closing {
+                for half in [0.5, 1.0] {
+                    let drive = Complex64::from_polar(on, c.w * (t0 + self.dt * half));
+                    self.step(&mut state, drive, true, &mut hist, &mut rhs, &mut work);
                 }
+            } else {
+                let drive = Complex64::from_polar(on, c.w * (t0 + self.dt * n as f64));
+                self.step(&mut state, drive, false, &mut hist, &mut rhs, &mut work);
             }
-            self.sym.solve_in_place(&self.factor, &mut rhs, &mut work);
-            for (k, e) in c.elements.iter().enumerate() {
-                let vab = rhs[e.a] - e.b.map_or(zero, |b| rhs[b]);
-                let (u, i) = match e.kind {
-                    Kind::Rl { emf, .. } => {
-                        let u = vab - emf * drive;
-                        (u, self.g[k] * u + hist[k])
-                    }
-                    Kind::C { .. } => (vab, self.g[k] * vab + hist[k]),
-                    Kind::G { .. } => (vab, self.g[k] * vab),
-                    Kind::Current { i } => (vab, i * drive),
-                };
-                state.u[k] = u;
-                state.i[k] = i;
-            }
-            state.v.copy_from_slice(&rhs);
             if !observe(n, &state) {
-                break;
+                return state;
             }
         }
+    }
+
+    /// One step: trapezoidal over Δt, or (`euler`) backward Euler over Δt/2, with the
+    /// sources at `drive` = e^{jωτ} of the step's end (0 when off).
+    fn step(
+        &self,
+        state: &mut State,
+        drive: Complex64,
+        euler: bool,
+        hist: &mut [Complex64],
+        rhs: &mut [Complex64],
+        work: &mut Vec<Complex64>,
+    ) {
+        let c = self.circuit;
+        let zero = Complex64::default();
+        rhs.iter_mut().for_each(|x| *x = zero);
+        for (k, e) in c.elements.iter().enumerate() {
+            let inject = match e.kind {
+                Kind::Rl { r, l, emf } => {
+                    let g = self.g[k];
+                    // Backward Euler over h = Δt/2: i_n·(R + L/h) = u_n + (L/h)·i_{n−1}.
+                    let h = if euler {
+                        g * (2.0 * l / self.dt) * state.i[k]
+                    } else {
+                        g * (state.u[k] + (2.0 * l / self.dt - r) * state.i[k])
+                    };
+                    hist[k] = h;
+                    g * emf * drive - h
+                }
+                Kind::C { .. } => {
+                    // Backward Euler: i_n = (C/h)·(u_n − u_{n−1}).
+                    let h = if euler {
+                        -self.g[k] * state.u[k]
+                    } else {
+                        -self.g[k] * state.u[k] - state.i[k]
+                    };
+                    hist[k] = h;
+                    -h
+                }
+                Kind::G { .. } => zero,
+                Kind::Current { i } => -i * drive,
+            };
+            rhs[e.a] += inject;
+            if let Some(b) = e.b {
+                rhs[b] -= inject;
+            }
+        }
+        self.sym.solve_in_place(&self.factor, rhs, work);
+        for (k, e) in c.elements.iter().enumerate() {
+            let vab = rhs[e.a] - e.b.map_or(zero, |b| rhs[b]);
+            let (u, i) = match e.kind {
+                Kind::Rl { emf, .. } => {
+                    let u = vab - emf * drive;
+                    (u, self.g[k] * u + hist[k])
+                }
+                Kind::C { .. } => (vab, self.g[k] * vab + hist[k]),
+                Kind::G { .. } => (vab, self.g[k] * vab),
+                Kind::Current { i } => (vab, i * drive),
+            };
+            state.u[k] = u;
+            state.i[k] = i;
+        }
+        state.v.copy_from_slice(rhs);
     }
 }

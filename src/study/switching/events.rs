@@ -33,7 +33,7 @@ pub fn events(plant: &Plant, net: &Network) -> Vec<EventSpec> {
     let mut out = Vec::new();
     for s in 0..net.scenarios.len() {
         for (b, bank) in net.banks.iter().enumerate() {
-            for k in 1..=bank.steps {
+            for k in simulated_steps(bank.steps) {
                 let mut before = highest.clone();
                 before[b] = k - 1;
                 let same_bus_on = net
@@ -79,6 +79,25 @@ pub fn events(plant: &Plant, net: &Network) -> Vec<EventSpec> {
     out
 }
 
+/// Most steps of one bank simulated; a bank with more has its first two, its last and
+/// evenly spaced steps between simulated (back-to-back inrush grows with the steps already
+/// on, so the last is the worst).
+pub const MAX_SIMULATED_STEPS: u32 = 12;
+
+/// The steps of a bank of `steps` that are energized in the study (1-based, ascending).
+pub fn simulated_steps(steps: u32) -> Vec<u32> {
+    if steps <= MAX_SIMULATED_STEPS {
+        return (1..=steps).collect();
+    }
+    let span = f64::from(steps - 2);
+    let mut out: Vec<u32> = (0..MAX_SIMULATED_STEPS - 1)
+        .map(|i| 2 + (span * f64::from(i) / f64::from(MAX_SIMULATED_STEPS - 2)).round() as u32)
+        .collect();
+    out.insert(0, 1);
+    out.dedup();
+    out
+}
+
 /// The circuit of one event and where to read it.
 #[derive(Debug, Clone)]
 pub struct Setup {
@@ -90,8 +109,13 @@ pub struct Setup {
     pub bus: usize,
     /// Every other bank on another bus: (bank, bus node), one per bus.
     pub remote: Vec<(usize, usize)>,
-    /// Time step, s.
+    /// Time step of the ring-down stage, s: 1/60 of the period of the fastest capacitor
+    /// loop of the bank's bus (the closing step's own L-C and the energized steps there).
     pub dt: f64,
+    /// Time step of the peak stage, s: also 1/60 of the period of every capacitance at the
+    /// bus (cable charging) against the smallest inductance there, and at most
+    /// [`super::MAX_FINE_STEPS`] steps over [`super::PEAK_CYCLES`] cycles.
+    pub dt_fine: f64,
     /// Base current at the bank's bus, A rms: S_base / (√3·kV).
     pub i_base_a: f64,
     /// The load flow of the configuration before closing had no solution: loads at
@@ -161,9 +185,38 @@ pub fn setup(
             false,
         );
     }
+    // Cable charging: C/2 at each end (pi model), each behind the cable's surge impedance
+    // Z_c = √(L/C). Far below the cable's quarter-wave frequency the resistance is
+    // negligible against 1/(ωC) and this is the pi model of the scan and the load flow;
+    // above it, where a pi section stops describing a cable, the end of a line looks like
+    // its surge impedance (travelling-wave theory, textbook), which damps the lumped
+    // section's spurious high-frequency ringing with the closing step's inrush inductance.
+    let mut extra = net.buses.len();
+    let mut charging = Vec::new();
     for sh in &net.shunts {
         if let ShuntModel::Capacitance { b_pu } = sh.model {
-            push(sh.bus, None, Kind::C { c: b_pu / w }, false);
+            let cable = sh.id.strip_suffix(" charging").unwrap_or(&sh.id);
+            let z_c = net
+                .branches
+                .iter()
+                .find(|b| b.id == cable)
+                .map(|b| (b.z.x_pu / (2.0 * b_pu)).sqrt())
+                .filter(|z| z.is_finite() && *z > 0.0);
+            charging.push((sh.bus, b_pu / w, z_c));
+        }
+    }
+    let charging_at: Vec<(usize, f64)> = charging.iter().map(|&(b, c, _)| (b, c)).collect();
+    for (bus, c, z_c) in charging {
+        match z_c {
+            Some(z) => {
+                let m = extra;
+                extra += 1;
+                push(bus, Some(m), Kind::G { g: 1.0 / z }, false);
+                push(m, None, Kind::C { c }, false);
+            }
+            None => {
+                push(bus, None, Kind::C { c }, false);
+            }
         }
     }
     if let Some(sc) = net.scenarios.get(ev.scenario) {
@@ -232,7 +285,7 @@ pub fn setup(
             }
         }
     }
-    let mut nodes = net.buses.len();
+    let mut nodes = extra;
     let mut branch = |push: &mut dyn FnMut(usize, Option<usize>, Kind, bool) -> usize,
                       bus: usize,
                       (r, l, c): (f64, f64, f64),
@@ -267,6 +320,29 @@ pub fn setup(
         }
     }
     let dt = (1.0 / (super::STEPS_PER_PERIOD * f_max)).min(1.0 / (400.0 * net.frequency_hz));
+    // Capacitance at the bus itself rings against the smallest inductance reaching it.
+    let l_min = el
+        .iter()
+        .filter(|e| e.a == bank_bus || e.b == Some(bank_bus))
+        .filter_map(|e| match e.kind {
+            Kind::Rl { l, .. } if l > 0.0 => Some(l),
+            _ => None,
+        })
+        .fold(f64::INFINITY, f64::min);
+    let c_bus: f64 = charging_at
+        .iter()
+        .filter(|(bus, _)| *bus == bank_bus)
+        .map(|(_, c)| c)
+        .sum();
+    let f_bus = if c_bus > 0.0 && l_min.is_finite() {
+        1.0 / (2.0 * std::f64::consts::PI * (l_min * c_bus).sqrt())
+    } else {
+        0.0
+    };
+    let shortest = super::PEAK_CYCLES / net.frequency_hz / super::MAX_FINE_STEPS as f64;
+    let dt_fine = (1.0 / (super::STEPS_PER_PERIOD * f_bus))
+        .min(dt)
+        .max(shortest.min(dt));
     let kv = net.buses[bank_bus].kv;
     Setup {
         circuit: Circuit {
@@ -279,6 +355,7 @@ pub fn setup(
         bus: bank_bus,
         remote,
         dt,
+        dt_fine,
         i_base_a: BASE_MVA * 1e6 / (3f64.sqrt() * kv * 1e3),
         nominal_fallback: v_before.is_none(),
     }

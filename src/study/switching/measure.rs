@@ -22,30 +22,46 @@ pub fn refined_peak(env: &[f64]) -> (f64, usize) {
     }
 }
 
-/// Times (s) at which `x` (sampled every `dt` from τ = dt) changes sign, linearly
-/// interpolated; at most `most`.
-fn zero_crossings(x: &[f64], dt: f64, most: usize) -> Vec<f64> {
+/// Times (s) at which `x` (sampled every `dt` from τ = dt) swings through zero from one
+/// side to the other, a swing counting only once it reaches `band` on the far side (a
+/// Schmitt trigger: ripple of a faster, smaller mode riding on the dominant one does not
+/// count); linearly interpolated at the last zero before the band; at most `most`.
+fn zero_crossings(x: &[f64], dt: f64, band: f64, most: usize) -> Vec<f64> {
     let mut out = Vec::new();
-    for n in 1..x.len() {
-        let (a, b) = (x[n - 1], x[n]);
-        if (a < 0.0 && b >= 0.0) || (a > 0.0 && b <= 0.0) {
-            let frac = a / (a - b);
-            out.push((n as f64 + frac) * dt);
+    let mut side = 0.0f64;
+    let mut zero_at = 0.0;
+    for n in 0..x.len() {
+        if n > 0 && (x[n - 1] < 0.0) != (x[n] < 0.0) {
+            let (a, b) = (x[n - 1], x[n]);
+            zero_at = (n as f64 + a / (a - b)) * dt;
+        }
+        let now = if x[n] >= band {
+            1.0
+        } else if x[n] <= -band {
+            -1.0
+        } else {
+            continue;
+        };
+        if side != 0.0 && now != side {
+            out.push(zero_at);
             if out.len() >= most {
                 break;
             }
         }
+        side = now;
     }
     out
 }
 
 /// How the transient component rings: the dominant frequency (Hz) from the mean spacing
-/// of its first zero crossings (half periods), and the damping ratio ζ = δ/√(4π² + δ²)
-/// from the logarithmic decrement δ = ln(A₁/A₃) of the extremes of the first and the third
-/// half-cycle (one period apart; textbook). `None` when it crosses zero fewer than four
-/// times (over-damped or too slow for the window).
+/// of its first zero crossings (half periods; swings under a fifth of its largest value
+/// ignored), and the damping ratio ζ = δ/√(4π² + δ²) from the logarithmic decrement
+/// δ = ln(A₁/A₃) of the extremes of the first and the third half-cycle (one period apart;
+/// textbook). `None` when it swings through zero fewer than four times (over-damped or
+/// too slow for the window).
 pub fn ringing(transient: &[f64], dt: f64) -> Option<(f64, f64)> {
-    let z = zero_crossings(transient, dt, 9);
+    let top = transient.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    let z = zero_crossings(transient, dt, 0.2 * top, 9);
     if z.len() < 4 {
         return None;
     }

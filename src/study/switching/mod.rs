@@ -28,6 +28,11 @@ use crate::study::transient::{Inrush, Regime};
 /// own L-C and the energized steps on its bus): Δt = 1/(60·f_max), and at most 1/400 of
 /// the fundamental period.
 pub const STEPS_PER_PERIOD: f64 = 60.0;
+/// Fundamental cycles simulated at the fine step, where the peaks are read (the largest
+/// inrush and overvoltages come within the first cycle of a closing).
+pub const PEAK_CYCLES: f64 = 1.0;
+/// Most fine steps (the fine step is lengthened to keep within it).
+pub const MAX_FINE_STEPS: usize = 400_000;
 /// The shortest simulated window, fundamental cycles.
 pub const MIN_CYCLES: f64 = 5.0;
 /// The longest simulated window, fundamental cycles, and at most [`MAX_STEPS`] steps.
@@ -156,14 +161,21 @@ pub struct SwitchingStudy {
 
 /// What one run of an event gave, per unit.
 pub struct Sim {
+    /// The fine step of the first stage, s (the step of `transient` and `channels`).
     pub dt: f64,
+    /// Steps of both stages.
     pub steps: usize,
+    /// Time simulated, s.
+    pub simulated_s: f64,
+    /// Time for the inrush to fall for good below 5 % of its peak, s (when it did).
+    pub ring_down_s: Option<f64>,
     /// Worst over closing instants, refined between samples.
     pub peak_i_pu: f64,
     pub bus_peak_pu: f64,
     pub cap_peak_pu: f64,
     pub remote_peak_pu: Vec<f64>,
-    /// The inrush's transient component at its worst closing instant, per unit.
+    /// The inrush's transient component at its worst closing instant over the first stage,
+    /// per unit.
     pub transient: Vec<f64>,
     /// The run ended because the transient had decayed.
     pub decayed: bool,
@@ -177,51 +189,66 @@ pub struct Sim {
 /// Runs one event: the analytic (complex) run with the sources, and, with a trapped charge
 /// `q`, a run from a unit capacitor voltage without sources; the worst closing instant of
 /// each quantity is max over τ of |W(τ)| + |q|·|y(τ)|.
+///
+/// Two stages: the first [`PEAK_CYCLES`] cycles at the fine step (every capacitance at the
+/// bus resolved: the peaks are read there), then the coarse step (the bank's loops
+/// resolved) until the inrush has rung down, for the ring-down time.
 pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::SingularPivot> {
     let c = &s.circuit;
     let period = 2.0 * std::f64::consts::PI / c.w;
-    let stepper = Stepper::new(c, s.dt)?;
+    let fine = Stepper::new(c, s.dt_fine)?;
+    let coarse = Stepper::new(c, s.dt)?;
     let pre = c.steady_state(false)?;
     let post = c.steady_state(true)?;
     let i_post = post.i[s.closing_rl];
-    let rot = Complex64::from_polar(1.0, c.w * s.dt);
-    let n_min = (MIN_CYCLES * period / s.dt).ceil() as usize;
-    let n_max = ((MAX_CYCLES * period / s.dt).ceil() as usize)
+    let n_fine = (PEAK_CYCLES * period / s.dt_fine).ceil() as usize;
+    let t_fine = n_fine as f64 * s.dt_fine;
+    let n_min = ((MIN_CYCLES * period - t_fine) / s.dt).ceil().max(1.0) as usize;
+    let n_max = (((MAX_CYCLES * period - t_fine) / s.dt).ceil() as usize)
         .min(MAX_STEPS)
         .max(n_min);
     let quiet = (period / s.dt).ceil() as usize;
     let watch: Vec<usize> = std::iter::once(s.bus)
         .chain(s.remote.iter().map(|r| r.1))
         .collect();
-    let mut w_i: Vec<Complex64> = Vec::with_capacity(n_min);
-    let mut w_v: Vec<Vec<Complex64>> = vec![Vec::with_capacity(n_min); watch.len()];
-    let mut w_c: Vec<Complex64> = Vec::with_capacity(n_min);
-    let (mut top, mut last) = (0.0f64, 0usize);
-    let mut ss = Complex64::new(1.0, 0.0);
-    let mut decayed = false;
-    stepper.run(pre, true, |n, st| {
-        ss *= rot;
+    let mut w_i: Vec<Complex64> = Vec::with_capacity(n_fine);
+    let mut w_v: Vec<Vec<Complex64>> = vec![Vec::with_capacity(n_fine); watch.len()];
+    let mut w_c: Vec<Complex64> = Vec::with_capacity(n_fine);
+    // The inrush's transient envelope |W − I_post·e^{jωτ}| over both stages, with times.
+    let mut env_tr: Vec<(f64, f64)> = Vec::with_capacity(n_fine + n_min);
+    let tr = |i: Complex64, tau: f64| (i - i_post * Complex64::from_polar(1.0, c.w * tau)).norm();
+    let mid = fine.run(pre.clone(), 0.0, true, true, |n, st| {
         let i = st.i[s.closing_rl];
         w_i.push(i);
         for (k, &bus) in watch.iter().enumerate() {
             w_v[k].push(st.v[bus]);
         }
         w_c.push(st.u[s.closing_c]);
-        let tr = (i - i_post * ss).norm();
-        if tr > top {
-            top = tr;
+        let tau = n as f64 * s.dt_fine;
+        env_tr.push((tau, tr(i, tau)));
+        n < n_fine
+    });
+    let mut top = env_tr.iter().fold(0.0f64, |t, e| t.max(e.1));
+    let mut last_coarse = 0usize;
+    let mut decayed = false;
+    let mut n_coarse = 0usize;
+    coarse.run(mid, t_fine, true, false, |n, st| {
+        let tau = t_fine + n as f64 * s.dt;
+        let e = tr(st.i[s.closing_rl], tau);
+        env_tr.push((tau, e));
+        top = top.max(e);
+        if e >= RING_DOWN_FRACTION * top {
+            last_coarse = n;
         }
-        if tr >= RING_DOWN_FRACTION * top {
-            last = n;
-        }
-        if n >= n_min && n - last >= quiet {
+        n_coarse = n;
+        if n >= n_min && n - last_coarse >= quiet {
             decayed = true;
             return false;
         }
         n < n_max
     });
-    let steps = w_i.len();
-    // The trapped-charge run: a unit voltage on the closing capacitor, sources off.
+    // The trapped-charge runs: a unit voltage on the closing capacitor, sources off, over
+    // the same two stages.
     let (mut y_i, mut y_v, mut y_c) = (Vec::new(), vec![Vec::new(); watch.len()], Vec::new());
     if q != 0.0 {
         let mut init = State {
@@ -230,15 +257,35 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
             u: vec![Complex64::default(); c.elements.len()],
         };
         init.u[s.closing_c] = Complex64::new(1.0, 0.0);
-        stepper.run(init, false, |n, st| {
+        let mid = fine.run(init, 0.0, false, true, |n, st| {
             y_i.push(st.i[s.closing_rl].re);
             for (k, &bus) in watch.iter().enumerate() {
                 y_v[k].push(st.v[bus].re);
             }
             y_c.push(st.u[s.closing_c].re);
-            n < steps
+            n < n_fine
         });
+        let mut k = n_fine;
+        coarse.run(mid, t_fine, false, false, |n, st| {
+            // Only the envelope of the ring-down needs the coarse stage.
+            if let Some(e) = env_tr.get_mut(k) {
+                e.1 += q.abs() * st.i[s.closing_rl].re.abs();
+            }
+            k += 1;
+            n < n_coarse
+        });
+        for (e, y) in env_tr.iter_mut().zip(&y_i) {
+            e.1 += q.abs() * y.abs();
+        }
     }
+    let ring_down = {
+        let top = env_tr.iter().fold(0.0f64, |m, e| m.max(e.1));
+        env_tr
+            .iter()
+            .rev()
+            .find(|e| e.1 >= RING_DOWN_FRACTION * top)
+            .map_or(0.0, |e| e.0)
+    };
     let qa = q.abs();
     let envelope = |w: &[Complex64], y: &[f64]| -> Vec<f64> {
         w.iter()
@@ -265,35 +312,30 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
             .collect()
     };
     let current = worst(&w_i, &y_i);
-    let mut ph = Complex64::new(1.0, 0.0);
     let transient: Vec<f64> = current
         .iter()
-        .map(|x| {
-            ph *= rot;
-            x - (e * i_post * ph).re
+        .enumerate()
+        .map(|(n, x)| {
+            let tau = (n + 1) as f64 * s.dt_fine;
+            x - (e * i_post * Complex64::from_polar(1.0, c.w * tau)).re
         })
         .collect();
     let channels = capture.then(|| [current, worst(&w_v[0], &y_v[0]), worst(&w_c, &y_c)]);
     Ok(Sim {
-        dt: s.dt,
-        steps,
+        dt: s.dt_fine,
+        steps: n_fine + n_coarse,
+        simulated_s: t_fine + n_coarse as f64 * s.dt,
         peak_i_pu,
         bus_peak_pu: v_peaks[0],
         cap_peak_pu,
         remote_peak_pu: v_peaks[1..].to_vec(),
         transient,
         decayed,
-        phi: phi + pre_bus_angle(c, s),
+        ring_down_s: decayed.then_some(ring_down),
+        phi: phi + pre.v.get(s.bus).map_or(0.0, |v| v.arg()),
         q_sign,
         channels,
     })
-}
-
-/// Angle (rad) of the bus's pre-closing phasor, so that the closing angle is read on the
-/// bus voltage.
-fn pre_bus_angle(c: &Circuit, s: &Setup) -> f64 {
-    c.steady_state(false)
-        .map_or(0.0, |st| st.v.get(s.bus).map_or(0.0, |v| v.arg()))
 }
 
 /// Closing angle θ (degrees, 0..360) on v = V̂·sin θ for a closing at source phase φ with

@@ -184,10 +184,8 @@ fn one(inp: &Inputs<'_>, ev: &EventSpec) -> Result<SwitchingEvent, String> {
                 peak_pu: p,
             })
             .collect(),
-        ring_down_ms: sim
-            .decayed
-            .then(|| measure::last_above(&sim.transient, sim.dt, super::RING_DOWN_FRACTION) * 1e3),
-        simulated_ms: sim.steps as f64 * sim.dt * 1e3,
+        ring_down_ms: sim.ring_down_s.map(|t| t * 1e3),
+        simulated_ms: sim.simulated_s * 1e3,
         step_us: sim.dt * 1e6,
         closing_deg: super::closing_deg(sim.phi),
         formula: formula(plant, net, ev, z_th),
