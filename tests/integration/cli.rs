@@ -649,10 +649,122 @@ fn strict_exits_1_when_only_capacitor_duty_fails() {
     assert!(res.limit_rows.iter().all(|r| !r.exceeds));
     assert!(res.tolerance.iter().all(|t| !t.flagged));
     assert!(res.operating.points.iter().all(|o| !o.flagged()));
+    let with_switching = overtone::check::run_check(
+        &p,
+        &overtone::check::CheckOptions {
+            switching: true,
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    // The switching simulation flags the same undersized capacitor too: its transient
+    // peak exceeds twice its 440 V rated peak. Without the simulation the duty alone
+    // flags the plant.
+    assert!(
+        with_switching
+            .switching
+            .events
+            .iter()
+            .any(|e| e.overvoltage_exceeds)
+    );
+    assert!(res.flagged());
     let dir = temp_dir("duty-only");
     let input = dir.join("plant.xlsx");
     std::fs::write(&input, overtone::io::template::plant_workbook(&p).unwrap()).unwrap();
     let out = overtone(&["check", input.to_str().unwrap(), "--strict", "--quiet"]);
     assert_eq!(out.status.code(), Some(1));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn transients_csv_inrush_limit_and_the_inductance_that_meets_it() {
+    // A 480 V bus behind a 2 MVA, 5.75 % transformer with four plain 100 kvar steps whose
+    // switch withstands 1 kA peak (invented): back-to-back steps exceed it, `--strict`
+    // exits 1, the summary names the inrush inductance that brings each under, and that
+    // inductance, put in the workbook, does.
+    use crate::common::{bank, bus, load, source, transformer};
+    use overtone::model::*;
+    let mut p = Plant::new(60.0);
+    p.buses = vec![bus("HV", 13.8), bus("B", 0.48)];
+    p.sources = vec![source("U", "HV", 250.0, 10.0)];
+    p.transformers = vec![transformer("T", "HV", "B", 2000.0, 5.75, 8.0)];
+    p.loads = vec![load("L", "B", LoadType::Linear, 800.0, 0.85)];
+    let mut c = bank("C", "B", 0.48, 100.0, 4, Reactor::None);
+    c.inrush_limit_ka = Some(1.0);
+    p.banks = vec![c];
+    let dir = temp_dir("transients");
+    let input = dir.join("plant.xlsx");
+    let csv = dir.join("transients.csv");
+    std::fs::write(&input, overtone::io::template::plant_workbook(&p).unwrap()).unwrap();
+    let out = overtone(&[
+        "check",
+        input.to_str().unwrap(),
+        "--transients-csv",
+        csv.to_str().unwrap(),
+        "--strict",
+        "--quiet",
+    ]);
+    let text = String::from_utf8_lossy(&out.stdout).to_string();
+    assert_eq!(out.status.code(), Some(1), "{text}");
+    assert!(text.contains("INRUSH"), "{text}");
+    assert!(text.contains("uH per step brings it under"), "{text}");
+    let written = std::fs::read_to_string(&csv).unwrap();
+    let mut lines = written.lines();
+    assert_eq!(
+        lines.next(),
+        Some("scenario,bank,step,case,peak_a,frequency_hz,bus_peak_pu,capacitor_peak_pu")
+    );
+    let rows: Vec<Vec<String>> = lines
+        .map(|l| l.split(',').map(str::to_string).collect())
+        .collect();
+    // One scenario, steps 1 (isolated) to 4 (back-to-back).
+    assert_eq!(rows.len(), 4);
+    assert_eq!(rows[0][3], "isolated");
+    assert!(rows[1..].iter().all(|r| r[3] == "back-to-back"));
+    let peaks: Vec<f64> = rows.iter().map(|r| r[4].parse().unwrap()).collect();
+    assert!(peaks[1..].iter().all(|&a| a > 1000.0), "{peaks:?}");
+    // The inductance it names, in the workbook, meets the limit at every step.
+    let json = overtone(&["check", input.to_str().unwrap(), "--json", "--quiet"]);
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    let needed = v["transients"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|e| e["needed_inrush_uh"].as_f64())
+        .fold(0.0, f64::max);
+    assert!(needed > 10.0, "{needed}");
+    p.banks[0].inrush_uh = Some(needed);
+    std::fs::write(&input, overtone::io::template::plant_workbook(&p).unwrap()).unwrap();
+    let out = overtone(&[
+        "check",
+        input.to_str().unwrap(),
+        "--transients-csv",
+        csv.to_str().unwrap(),
+        "--quiet",
+    ]);
+    assert!(out.status.success());
+    let written = std::fs::read_to_string(&csv).unwrap();
+    for l in written.lines().skip(1) {
+        let a: f64 = l.split(',').nth(4).unwrap().parse().unwrap();
+        assert!(a <= 1000.0, "{l}");
+    }
+    // A trapped charge beyond 1 pu: exit 2 at its cell, nothing written.
+    p.banks[0].trapped_charge_pu = 2.0;
+    std::fs::write(&input, overtone::io::template::plant_workbook(&p).unwrap()).unwrap();
+    std::fs::remove_file(&csv).unwrap();
+    let out = overtone(&[
+        "check",
+        input.to_str().unwrap(),
+        "--transients-csv",
+        csv.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        String::from_utf8_lossy(&out.stderr)
+            .contains("\"Trapped charge\" must be between -1 and 1"),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(!csv.exists());
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -731,3 +731,44 @@ fn every_study_item_out_of_range_at_its_cell() {
         assert_eq!(got, [expected], "{cell}");
     }
 }
+
+#[test]
+fn switching_columns_out_of_range_are_located() {
+    // Input contract, version 2: `Trapped charge (pu)` within −1..1, `Switch inrush limit
+    // (kA)` positive; each an error at its cell, nothing studied.
+    for (book, expected) in [
+        (
+            Book::base()
+                .set("Capacitors", "I1", s("Trapped charge (pu)"))
+                .set("Capacitors", "I2", C::N(1.5)),
+            "Capacitors!I2: \"Trapped charge\" must be between -1 and 1 pu of nominal peak voltage, found 1.5",
+        ),
+        (
+            Book::base()
+                .set("Capacitors", "I1", s("Trapped charge (pu)"))
+                .set("Capacitors", "I2", C::N(-1.01)),
+            "Capacitors!I2: \"Trapped charge\" must be between -1 and 1 pu of nominal peak voltage, found -1.01",
+        ),
+        (
+            Book::base()
+                .set("Capacitors", "I1", s("Switch inrush limit (kA)"))
+                .set("Capacitors", "I2", C::N(0.0)),
+            "Capacitors!I2: \"Switch inrush limit\" must be a positive number, found 0",
+        ),
+        (
+            Book::base()
+                .set("Capacitors", "I1", s("Switch inrush limit (kA)"))
+                .set("Capacitors", "I2", C::N(-3.0)),
+            "Capacitors!I2: \"Switch inrush limit\" must be a positive number, found -3",
+        ),
+    ] {
+        expect_one(book, expected);
+    }
+    // The edges are accepted.
+    for v in [-1.0, 1.0] {
+        let book = Book::base()
+            .set("Capacitors", "I1", s("Trapped charge (pu)"))
+            .set("Capacitors", "I2", C::N(v));
+        assert!(book.errors().is_empty(), "{v}: {:?}", book.errors());
+    }
+}
