@@ -298,3 +298,96 @@ fn live_formulas_recalculated_by_libreoffice_match() {
     }
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn switching_and_waveform_sheets_read_back_and_print() {
+    // The bottling plant (the demo) with its switching simulation: the Switching sheet
+    // holds every event's simulated and formula peaks as the study found them, and the
+    // Waveforms sheet a current chart and a voltage chart per bank, its data beside them.
+    let plant = overtone::demo::demo_plant().unwrap();
+    let res = run_check(
+        &plant,
+        &overtone::check::CheckOptions {
+            remedies: Some(false),
+            switching: true,
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    assert_eq!(res.switching.waveforms.len(), plant.banks.len());
+    let bytes = review_bytes(&res, &prov()).unwrap();
+    let mut wb = open_workbook_auto_from_rs(std::io::Cursor::new(bytes.clone())).unwrap();
+    let sw = wb.worksheet_range("Switching").unwrap();
+    let num = |r: usize, c: usize| match sw.get((r, c)) {
+        Some(Data::Float(f)) => *f,
+        other => panic!("Switching ({r},{c}): {other:?}"),
+    };
+    for (i, e) in res.switching.events.iter().enumerate() {
+        assert_eq!(num(i + 1, 6), e.peak_a);
+        assert_eq!(num(i + 1, 7), e.formula.peak_a);
+        assert_eq!(num(i + 1, 11), e.bus_peak_pu);
+        assert_eq!(num(i + 1, 12), e.capacitor_peak_pu);
+    }
+    let wf = wb.worksheet_range("Waveforms").unwrap();
+    let w = &res.switching.waveforms[0];
+    // Bank C1's block: time, current, bus, capacitor from row 4, column U.
+    assert_eq!(wf.get((3, 20)), Some(&Data::Float(w.time_ms[0])));
+    assert_eq!(wf.get((3, 21)), Some(&Data::Float(w.current_a[0])));
+    let top = w.current_a.iter().fold(0.0f64, |m, a| m.max(a.abs()));
+    let e = res
+        .switching
+        .events
+        .iter()
+        .filter(|e| e.bank == w.bank)
+        .fold(0.0f64, |m, e| m.max(e.peak_a));
+    // The chart shows the worst event; its sampled peak is within 0.5 % of the refined one.
+    assert!((top - e).abs() <= 0.005 * e, "{top} vs {e}");
+    let z = zip::ZipArchive::new(std::io::Cursor::new(bytes.clone())).unwrap();
+    let charts = z
+        .file_names()
+        .filter(|n| n.as_ref().is_ok_and(|n| n.starts_with("xl/charts/chart")))
+        .count();
+    // One scan chart per bank bus, and two waveform charts per bank.
+    assert!(charts > 2 * plant.banks.len(), "{charts}");
+    if !crate::common::external_tool("soffice", "the review printed to PDF") {
+        return;
+    }
+    let dir = temp("pdf");
+    let path = dir.join("review.xlsx");
+    std::fs::write(&path, &bytes).unwrap();
+    let out = crate::common::output_within(
+        Command::new("soffice")
+            .arg("--headless")
+            .arg("--norestore")
+            .arg(format!(
+                "-env:UserInstallation=file://{}",
+                dir.join("profile").display()
+            ))
+            .arg("--convert-to")
+            .arg("pdf")
+            .arg("--outdir")
+            .arg(&dir)
+            .arg(&path),
+        600,
+    );
+    let pdf = dir.join("review.pdf");
+    assert!(
+        pdf.exists(),
+        "no PDF: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    if crate::common::external_tool("pdftotext", "the printed review's text") {
+        let txt = dir.join("review.txt");
+        crate::common::output_within(Command::new("pdftotext").arg(&pdf).arg(&txt), 120);
+        let text = std::fs::read_to_string(&txt).unwrap();
+        assert!(
+            text.contains("Worst switching event of each bank"),
+            "no waveform page"
+        );
+        assert!(
+            text.contains("Formula peak (A)") || text.contains("Formula"),
+            "no switching table"
+        );
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -109,11 +109,12 @@ pub struct Setup {
     pub bus: usize,
     /// Every other bank on another bus: (bank, bus node), one per bus.
     pub remote: Vec<(usize, usize)>,
-    /// Time step of the ring-down stage, s: 1/60 of the period of the fastest capacitor
+    /// Time step of the ring-down stage, s: 1/20 of the period of the fastest capacitor
     /// loop of the bank's bus (the closing step's own L-C and the energized steps there).
     pub dt: f64,
-    /// Time step of the peak stage, s: also 1/60 of the period of every capacitance at the
-    /// bus (cable charging) against the smallest inductance there, and at most
+    /// Time step of the peak stage, s: 1/60 of that period and of the period of every
+    /// capacitance at the bus (cable charging) against the smallest inductance there, and
+    /// at most
     /// [`super::MAX_FINE_STEPS`] steps over [`super::PEAK_CYCLES`] cycles.
     pub dt_fine: f64,
     /// Base current at the bank's bus, A rms: S_base / (√3·kV).
@@ -319,7 +320,10 @@ pub fn setup(
             remote.push((o, b.bus));
         }
     }
-    let dt = (1.0 / (super::STEPS_PER_PERIOD * f_max)).min(1.0 / (400.0 * net.frequency_hz));
+    let dt_peak = (1.0 / (super::STEPS_PER_PERIOD * f_max)).min(1.0 / (400.0 * net.frequency_hz));
+    let dt = (1.0 / (super::RING_DOWN_STEPS_PER_PERIOD * f_max))
+        .min(1.0 / (400.0 * net.frequency_hz))
+        .max(dt_peak);
     // Capacitance at the bus itself rings against the smallest inductance reaching it.
     let l_min = el
         .iter()
@@ -340,9 +344,19 @@ pub fn setup(
         0.0
     };
     let shortest = super::PEAK_CYCLES / net.frequency_hz / super::MAX_FINE_STEPS as f64;
+    // Never more than MAX_FINE_STEPS in the first stage, nor MAX_STEPS over the shortest
+    // window of the second (a step of a few nanoseconds from extreme data would otherwise
+    // ask for billions).
     let dt_fine = (1.0 / (super::STEPS_PER_PERIOD * f_bus))
-        .min(dt)
-        .max(shortest.min(dt));
+        .min(dt_peak)
+        .max(shortest);
+    let longest_needed = super::MIN_CYCLES / net.frequency_hz / super::MAX_STEPS as f64;
+    let dt = dt.max(dt_fine).max(longest_needed);
+    let (dt, dt_fine) = if dt.is_finite() && dt_fine.is_finite() && dt_fine > 0.0 {
+        (dt, dt_fine)
+    } else {
+        (longest_needed, shortest)
+    };
     let kv = net.buses[bank_bus].kv;
     Setup {
         circuit: Circuit {

@@ -25,9 +25,11 @@ use serde::Serialize;
 use crate::study::transient::{Inrush, Regime};
 
 /// Time steps per period of the fastest capacitor loop of an event (the closing step's
-/// own L-C and the energized steps on its bus): Δt = 1/(60·f_max), and at most 1/400 of
-/// the fundamental period.
+/// own L-C and the energized steps on its bus) in the first cycle, where the peaks are
+/// read: Δt = 1/(60·f_max), and at most 1/400 of the fundamental period.
 pub const STEPS_PER_PERIOD: f64 = 60.0;
+/// The same for the ring-down stage, which reads only the decay of the envelope.
+pub const RING_DOWN_STEPS_PER_PERIOD: f64 = 20.0;
 /// Fundamental cycles simulated at the fine step, where the peaks are read (the largest
 /// inrush and overvoltages come within the first cycle of a closing).
 pub const PEAK_CYCLES: f64 = 1.0;
@@ -201,9 +203,9 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
     let pre = c.steady_state(false)?;
     let post = c.steady_state(true)?;
     let i_post = post.i[s.closing_rl];
-    let n_fine = (PEAK_CYCLES * period / s.dt_fine).ceil() as usize;
+    let n_fine = ((PEAK_CYCLES * period / s.dt_fine).ceil() as usize).clamp(1, 4 * MAX_FINE_STEPS);
     let t_fine = n_fine as f64 * s.dt_fine;
-    let n_min = ((MIN_CYCLES * period - t_fine) / s.dt).ceil().max(1.0) as usize;
+    let n_min = (((MIN_CYCLES * period - t_fine) / s.dt).ceil().max(1.0) as usize).min(MAX_STEPS);
     let n_max = (((MAX_CYCLES * period - t_fine) / s.dt).ceil() as usize)
         .min(MAX_STEPS)
         .max(n_min);

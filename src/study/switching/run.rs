@@ -140,6 +140,17 @@ fn one(inp: &Inputs<'_>, ev: &EventSpec) -> Result<SwitchingEvent, String> {
     })?;
     let amp = 2f64.sqrt() * s.i_base_a;
     let peak_a = sim.peak_i_pu * amp;
+    let figures = [peak_a, sim.bus_peak_pu, sim.cap_peak_pu];
+    if figures
+        .iter()
+        .chain(&sim.remote_peak_pu)
+        .any(|v| !v.is_finite())
+    {
+        return Err(format!(
+            "switching: bank {} step {} in scenario {scenario} ({label}) has no finite solution (check the bank's and the network's data)",
+            bank.id, ev.step
+        ));
+    }
     let ringing = measure::ringing(&sim.transient, sim.dt);
     let regime = match ringing {
         Some((_, z)) if z < 1.0 => Regime::UnderDamped,

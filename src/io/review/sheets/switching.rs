@@ -2,7 +2,9 @@
 //! event of each bank as waveforms (charts against time in ms; the data to the right of
 //! the print area).
 
-use rust_xlsxwriter::{Chart, ChartFormat, ChartLine, ChartType, Worksheet, XlsxError};
+use rust_xlsxwriter::{
+    Chart, ChartAxisLabelPosition, ChartFormat, ChartLine, ChartType, Worksheet, XlsxError,
+};
 
 use super::super::writer::{Cell, header, n, on, row, t};
 use super::verdict_colours;
@@ -37,6 +39,8 @@ pub(super) fn switching(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
             ("Verdict", 12.0),
         ],
     )?;
+    // Wrapped headers need the room of three lines.
+    ws.set_row_height(0, 45)?;
     let events = &res.switching.events;
     for (i, e) in events.iter().enumerate() {
         let remote = e
@@ -166,7 +170,9 @@ pub(super) fn waveforms(
         );
         let mut ic = Chart::new(ChartType::ScatterStraight);
         ic.title().set_name(&format!("Inrush current: {title}"));
-        ic.x_axis().set_name("Time since closing (ms)");
+        ic.x_axis()
+            .set_name("Time since closing (ms)")
+            .set_label_position(ChartAxisLabelPosition::Low);
         ic.y_axis().set_name("Current (A)");
         ic.add_series()
             .set_name("simulated")
@@ -174,7 +180,11 @@ pub(super) fn waveforms(
             .set_values((name, 3, col + 1, last, col + 1));
         for pair in [3u32, 5] {
             ic.add_series()
-                .set_name(if pair == 3 { "formula peak" } else { "" })
+                .set_name(if pair == 3 {
+                    "formula peak"
+                } else {
+                    "formula peak (negative)"
+                })
                 .set_categories((name, pair, col + 4, pair + 1, col + 4))
                 .set_values((name, pair, col + 5, pair + 1, col + 5))
                 .set_format(ChartFormat::new().set_line(
@@ -183,7 +193,9 @@ pub(super) fn waveforms(
         }
         let mut vc = Chart::new(ChartType::ScatterStraight);
         vc.title().set_name(&format!("Voltages: {title}"));
-        vc.x_axis().set_name("Time since closing (ms)");
+        vc.x_axis()
+            .set_name("Time since closing (ms)")
+            .set_label_position(ChartAxisLabelPosition::Low);
         vc.y_axis().set_name("Per unit of nominal peak");
         vc.add_series()
             .set_name("bus")
