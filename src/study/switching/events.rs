@@ -206,7 +206,15 @@ pub fn setup(
             charging.push((sh.bus, b_pu / w, z_c));
         }
     }
-    let charging_at: Vec<(usize, f64)> = charging.iter().map(|&(b, c, _)| (b, c)).collect();
+    // Charging straight at a bus (a cable without series reactance to give a surge
+    // impedance) rings undamped with the smallest inductance there: the first stage's step
+    // resolves it. Behind its surge impedance it is damped within a few of its periods, and
+    // the first step's backward-Euler half steps keep it from ringing numerically.
+    let charging_at: Vec<(usize, f64)> = charging
+        .iter()
+        .filter(|(_, _, z)| z.is_none())
+        .map(|&(b, c, _)| (b, c))
+        .collect();
     for (bus, c, z_c) in charging {
         match z_c {
             Some(z) => {

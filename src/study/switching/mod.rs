@@ -33,14 +33,22 @@ pub const RING_DOWN_STEPS_PER_PERIOD: f64 = 20.0;
 /// Fundamental cycles simulated at the fine step, where the peaks are read (the largest
 /// inrush and overvoltages come within the first cycle of a closing).
 pub const PEAK_CYCLES: f64 = 1.0;
-/// Most fine steps (the fine step is lengthened to keep within it).
-pub const MAX_FINE_STEPS: usize = 400_000;
+/// Most fine steps (the fine step is lengthened to keep within it). Under the fuzzer
+/// (`--cfg fuzzing`, whose instrumentation slows these loops about seventyfold) far fewer,
+/// so that every input stays within its time limit: the code paths are the same.
+#[cfg(not(fuzzing))]
+pub const MAX_FINE_STEPS: usize = 100_000;
+#[cfg(fuzzing)]
+pub const MAX_FINE_STEPS: usize = 1_000;
 /// The shortest simulated window, fundamental cycles.
 pub const MIN_CYCLES: f64 = 5.0;
 /// The longest simulated window, fundamental cycles, and at most [`MAX_STEPS`] steps.
 pub const MAX_CYCLES: f64 = 60.0;
-/// Most time steps of one run.
-pub const MAX_STEPS: usize = 200_000;
+/// Most time steps of the ring-down stage (fewer under the fuzzer, as above).
+#[cfg(not(fuzzing))]
+pub const MAX_STEPS: usize = 100_000;
+#[cfg(fuzzing)]
+pub const MAX_STEPS: usize = 1_000;
 /// The ring-down ends when the transient stays below this fraction of its peak.
 pub const RING_DOWN_FRACTION: f64 = 0.05;
 /// Transient overvoltage a capacitor withstands, peak, per unit of its rated peak phase
