@@ -55,12 +55,16 @@ pub fn check_output_path(out: &Path, input: Option<&Path>) -> Result<(), OutputP
     if !dir.is_dir() {
         return Err(fail("the output folder does not exist"));
     }
+    // The probe is registered like any temporary file, so that an interrupt arriving
+    // while it exists removes it too.
     let probe = dir.join(format!(".overtone-write-test-{}", std::process::id()));
-    match std::fs::write(&probe, b"") {
-        Ok(()) => {
-            let _ = std::fs::remove_file(&probe);
-            Ok(())
-        }
+    pending().push(probe.clone());
+    let written = std::fs::write(&probe, b"");
+    let mut list = pending();
+    let _ = std::fs::remove_file(&probe);
+    list.retain(|p| p != &probe);
+    match written {
+        Ok(()) => Ok(()),
         Err(_) => Err(fail("the output folder is not writable")),
     }
 }
