@@ -349,3 +349,120 @@ fn remedies_threshold_note_and_configuration_cap() {
             .any(|r| r.configurations.len() == REMEDY_CONFIGURATIONS)
     );
 }
+
+#[test]
+fn remedy_options_of_the_food_plant_by_hand() {
+    // The food plant's bank: 4 × 225 kvar rated 480 V on a 480 V, 60 Hz bus; characteristic
+    // orders 5, 7, 11, 13 … (6-pulse drives) and a 10 % margin. Hand calculation, textbook
+    // formulas of references.md (p = X_L/X_C, U_C = U/(1 − p), output U²/(X_C − X_L)):
+    // - the planned output is kept: 225 kvar per step at 480 V, so X_C − X_L = 0.48²/0.225
+    //   = 1.02400 Ω and X_C = 1.02400/(1 − p);
+    // - 7 %: X_C = 1.10108 Ω, U_C = 480/0.93 = 516.13 V (references.md's table: 516.1),
+    //   rated 525 V (next rating), 525²/1.10108 = 250.32 kvar to buy per step,
+    //   L = 0.07·1.10108/(2π·60) = 0.20445 mH;
+    // - 5.67 %: U_C = 508.85 V (table: 508.9) → 525 V; 14 %: U_C = 558.14 V (table: 558.1)
+    //   → 600 V;
+    // - tuned to the margin's edge below the 5th: 5 × 0.9 = 4.50, p = 1/4.5² = 4.94 %;
+    // - a filter at 0.94 × 5 = 4.70 (common practice: 3–10 % below the 5th), p = 1/4.7²,
+    //   U_C = 480/(1 − 0.045269) = 502.76 V → 525 V.
+    let res = run_check(
+        &crate::cases::food_plant(),
+        &overtone::check::CheckOptions {
+            remedies: Some(false),
+            ..Default::default()
+        },
+    )
+    .unwrap();
+    let bank = &res.plant.banks[0];
+    let opts = overtone::study::remedy::options(
+        &res.plant,
+        bank,
+        0.48,
+        &res.resonance.characteristic_orders,
+        res.resonance.margin_percent,
+    );
+    let names: Vec<&str> = opts.iter().map(|o| o.name.as_str()).collect();
+    assert_eq!(
+        names,
+        [
+            "5.67 % detuned",
+            "7 % detuned",
+            "14 % detuned",
+            "4.94 % detuned (tuned to 4.50)",
+            "filter at 4.70"
+        ]
+    );
+    let rated: Vec<f64> = opts.iter().map(|o| o.step.capacitor_rated_kv).collect();
+    assert_eq!(rated, [0.525, 0.525, 0.6, 0.525, 0.525]);
+    let seven = &opts[1].step;
+    assert_close(seven.capacitor_kv_needed * 1000.0, 516.13, 1e-4);
+    assert_close(seven.capacitor_kvar, 250.32, 1e-4);
+    assert_close(seven.l_mh, 0.20445, 1e-4);
+    assert_close(opts[0].step.capacitor_kv_needed * 1000.0, 508.85, 1e-4);
+    assert_close(opts[2].step.capacitor_kv_needed * 1000.0, 558.14, 1e-4);
+    assert_close(opts[3].step.p, 1.0 / 4.5f64.powi(2), 1e-3);
+    assert_close(opts[4].step.capacitor_kv_needed * 1000.0, 502.76, 1e-4);
+    // Every option keeps the planned 4 × 225 kvar at bus voltage.
+    for o in &opts {
+        assert_close(o.effective_kvar, 900.0, 1e-9);
+        assert_close(o.planned_kvar, 900.0, 1e-9);
+    }
+}
+
+#[test]
+fn remedy_ranking_and_its_tie_breaks() {
+    // The documented order (README, Remedies): passes everything first; then the least kvar
+    // lost (to 0.1 kvar); then the lowest capacitor rating; then the lowest THD after. Five
+    // results built to differ in one key each.
+    use overtone::study::remedy::{Outcome, RemedyResult, options, rank};
+    let plant = crate::cases::food_plant();
+    let opts = options(&plant, &plant.banks[0], 0.48, &[5.0, 7.0, 11.0, 13.0], 10.0);
+    let outcome = |thd: f64| Outcome {
+        configurations: 4,
+        resonant: 0,
+        limits_exceeded: 0,
+        duty_exceeded: 0,
+        worst_thd_percent: thd,
+        worst_tdd_percent: 1.0,
+    };
+    let result = |o: usize, passes: bool, lost: f64, thd: f64| {
+        let mut option = opts[o].clone();
+        option.effective_kvar -= lost;
+        RemedyResult {
+            option,
+            before: outcome(9.0),
+            after: outcome(thd),
+            passes,
+            rank: 0,
+            resonance_after: None,
+            step_rms_a: None,
+            linearity_ratio: None,
+        }
+    };
+    let mut results = vec![
+        result(2, true, 0.0, 1.0),  // 600 V: loses on rating
+        result(1, true, 0.0, 2.0),  // 525 V, THD 2.0
+        result(0, false, 0.0, 0.5), // fails: last whatever else
+        result(3, true, 5.0, 0.1),  // loses 5 kvar
+        result(4, true, 0.04, 1.5), // 525 V, THD 1.5; 0.04 kvar rounds to no loss
+    ];
+    rank(&mut results);
+    let order: Vec<&str> = results.iter().map(|r| r.option.name.as_str()).collect();
+    assert_eq!(
+        order,
+        [
+            "filter at 4.70",
+            "7 % detuned",
+            "14 % detuned",
+            "4.94 % detuned (tuned to 4.50)",
+            "5.67 % detuned"
+        ]
+    );
+    assert_eq!(
+        results.iter().map(|r| r.rank).collect::<Vec<_>>(),
+        [1, 2, 3, 4, 5]
+    );
+    // A failing option never outranks a passing one.
+    let first_fail = results.iter().position(|r| !r.passes).unwrap();
+    assert!(results[first_fail..].iter().all(|r| !r.passes));
+}

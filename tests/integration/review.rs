@@ -391,3 +391,73 @@ fn switching_and_waveform_sheets_read_back_and_print() {
     }
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn duty_remedies_and_input_sheets_read_back() {
+    // The food plant (its C1=4 resonates, so remedies are studied): every number of the
+    // Duty and Remedies sheets and the Input sheet's capacitor and load rows read back
+    // equal to the study's values (calamine, an independent xlsx reader).
+    let res = food();
+    assert!(!res.remedies.is_empty());
+    let bytes = review_bytes(&res, &prov()).unwrap();
+    let mut wb = open_workbook_auto_from_rs(std::io::Cursor::new(bytes)).unwrap();
+    let num = |r: &calamine::Range<Data>, row: usize, col: usize| match r.get((row, col)) {
+        Some(Data::Float(v)) => *v,
+        other => panic!("({row},{col}): {other:?}"),
+    };
+    let text = |r: &calamine::Range<Data>, row: usize, col: usize| {
+        r.get((row, col)).map(|c| c.to_string()).unwrap_or_default()
+    };
+    let duty = wb.worksheet_range("Duty").unwrap();
+    for (i, d) in res.duty.iter().enumerate() {
+        let row = i + 1;
+        assert_eq!(text(&duty, row, 1), d.configuration);
+        assert_eq!(text(&duty, row, 2), d.bank);
+        assert_eq!(num(&duty, row, 4), d.ratios.rms_voltage * 100.0);
+        assert_eq!(num(&duty, row, 6), d.ratios.peak_voltage * 100.0);
+        assert_eq!(num(&duty, row, 8), d.ratios.rms_current * 100.0);
+        assert_eq!(num(&duty, row, 10), d.ratios.kvar * 100.0);
+        assert_eq!(
+            text(&duty, row, 13),
+            if d.exceeds { "EXCEEDS" } else { "meets" }
+        );
+    }
+    let rem = wb.worksheet_range("Remedies").unwrap();
+    let mut row = 1;
+    for br in &res.remedies {
+        for x in &br.results {
+            assert_eq!(text(&rem, row, 0), br.bank);
+            assert_eq!(num(&rem, row, 1), x.rank as f64);
+            assert_eq!(text(&rem, row, 2), x.option.name);
+            assert_eq!(num(&rem, row, 3), x.option.step.p * 100.0);
+            assert_eq!(num(&rem, row, 5), x.option.step.l_mh);
+            assert_eq!(num(&rem, row, 9), x.option.step.capacitor_kvar);
+            assert_eq!(num(&rem, row, 10), x.option.effective_kvar);
+            assert_eq!(num(&rem, row, 18), x.after.resonant as f64);
+            row += 1;
+        }
+    }
+    let input = wb.worksheet_range("Input").unwrap();
+    let title = |name: &str| {
+        input
+            .rows()
+            .position(|r| r.first().map(|c| c.to_string()).as_deref() == Some(name))
+            .unwrap_or_else(|| panic!("no {name} section"))
+    };
+    let caps = title("Capacitors") + 2;
+    for (i, b) in res.plant.banks.iter().enumerate() {
+        assert_eq!(text(&input, caps + i, 0), b.id);
+        assert_eq!(text(&input, caps + i, 1), b.bus);
+        assert_eq!(num(&input, caps + i, 2), b.rated_kv);
+        assert_eq!(num(&input, caps + i, 3), b.step_kvar);
+        assert_eq!(num(&input, caps + i, 4), f64::from(b.steps));
+        assert_eq!(num(&input, caps + i, 11), b.trapped_charge_pu);
+    }
+    let loads = title("Loads") + 2;
+    for (i, l) in res.plant.loads.iter().enumerate() {
+        assert_eq!(text(&input, loads + i, 0), l.id);
+        assert_eq!(text(&input, loads + i, 1), l.bus);
+        assert_eq!(num(&input, loads + i, 3), l.kw);
+        assert_eq!(num(&input, loads + i, 4), l.power_factor);
+    }
+}
