@@ -421,3 +421,50 @@ fn iec_limit_sets_end_to_end() {
         assert!(d.limits.peak_voltage.is_none() && d.limits.kvar.is_none());
     }
 }
+
+#[test]
+fn branch_rms_through_a_transformer_by_hand() {
+    // A 13.8 kV source (250 MVA, X/R 10), a 1,500 kVA 5.75 % transformer (X/R 7) to 480 V,
+    // a 200 kW drive (pf 1, 5th 20 %, 7th 14.29 %, 11th 9.09 %) and a 300 kvar plain bank
+    // at 480 V (invented). By hand, in ohm at 480 V (input contract, Sources,
+    // Transformers, Capacitors):
+    //   Z_s = 0.48²/250 and Z_T = 0.0575·0.48²/1.5, each split by its X/R;
+    //   Z_sys(h) = R_s + R_T + j·h·(X_s + X_T); the bank −j·X_C/h, X_C = 0.48²/0.3;
+    //   V_h = I_h·|1/(1/Z_sys + j·h/X_C)|, I_h = I₁·m_h/100, I₁ = 200/(√3·0.48) A;
+    //   the transformer carries V_h/|Z_sys(h)| at 480 V, ×0.48/13.8 on its 13.8 kV (from)
+    //   side, and its rms is the root of the sum of squares over the orders.
+    let mut p = Plant::new(60.0);
+    p.study.max_demand_current_a = Some(100.0);
+    p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
+    p.sources = vec![source("U", "HV", 250.0, 10.0)];
+    p.transformers = vec![transformer("T", "HV", "LV", 1500.0, 5.75, 7.0)];
+    p.banks = vec![bank("C", "LV", 0.48, 300.0, 1, Reactor::None)];
+    p.spectra
+        .push(spectrum("S", &[(5.0, 20.0), (7.0, 14.29), (11.0, 9.09)]));
+    let mut d = load("D", "LV", LoadType::SixPulseDrive, 200.0, 1.0);
+    d.spectrum = Some("S".into());
+    p.loads.push(d);
+    let res = run_check(&p, &Default::default()).unwrap();
+    let split = |z: f64, xr: f64| {
+        let r = z / (1.0 + xr * xr).sqrt();
+        (r, r * xr)
+    };
+    let (rs, xs) = split(0.48 * 0.48 / 250.0, 10.0);
+    let (rt, xt) = split(0.0575 * 0.48 * 0.48 / 1.5, 7.0);
+    let xc = 0.48 * 0.48 / 0.3;
+    let i1 = 200.0 / (3f64.sqrt() * 0.48);
+    for (steps, bank_on) in [(0u32, false), (1, true)] {
+        let mut sum2 = 0.0;
+        for (h, m) in [(5.0, 20.0), (7.0, 14.29), (11.0, 9.09)] {
+            let zsys = num_complex::Complex64::new(rs + rt, h * (xs + xt));
+            let yb = if bank_on { h / xc } else { 0.0 };
+            let z = (zsys.inv() + num_complex::Complex64::new(0.0, yb)).inv();
+            let vh = z.norm() * i1 * m / 100.0;
+            let it = vh / zsys.norm() * 0.48 / 13.8;
+            sum2 += it * it;
+        }
+        let c = config_index(&res, &[steps]);
+        let d = res.penetration.result(0, c, res.scan.configurations.len());
+        assert_close(d.branch_rms_a[0], sum2.sqrt(), 1e-9);
+    }
+}
