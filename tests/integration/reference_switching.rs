@@ -153,6 +153,9 @@ fn trapped_charge_gives_the_textbook_three_per_unit_overshoot() {
     let res = check(&p);
     let e = &res.switching.events[0];
     assert_close(e.capacitor_peak_pu, 3.0, 0.03);
+    // The hand check scales with the voltage across the switch, (1 + |q|)·V̂ (common
+    // practice): an overshoot to 3 pu, and twice the discharged peak inrush.
+    assert_close(e.formula.overvoltage_pu.unwrap(), 3.0, 0.01);
     assert_eq!(e.trapped_charge_pu, 1.0);
     // 3 pu on a 480 V capacitor exceeds the 2 × rated peak allowance.
     assert!(e.overvoltage_exceeds);

@@ -86,8 +86,23 @@ fn waveform(sim: &Sim, i_base_a: f64, hz: f64, e: &SwitchingEvent) -> Option<Wav
     })
 }
 
-/// The closed formulas for `ev` (hand check).
+/// The closed formulas for `ev` (hand check). A trapped charge q raises the voltage across
+/// the switch at a peak closing to (1 + |q|)·V̂, and the formulas scale with it: the peak
+/// inrush by (1 + |q|), the overshoot above 1 pu likewise (common practice).
 pub fn formula(plant: &Plant, net: &Network, ev: &EventSpec, z_th_ohm: (f64, f64)) -> Inrush {
+    let mut f = formula_discharged(plant, net, ev, z_th_ohm);
+    let k = 1.0 + plant.banks[ev.bank].trapped_charge_pu.abs();
+    f.peak_a *= k;
+    f.overvoltage_pu = f.overvoltage_pu.map(|v| 1.0 + (v - 1.0) * k);
+    f
+}
+
+fn formula_discharged(
+    plant: &Plant,
+    net: &Network,
+    ev: &EventSpec,
+    z_th_ohm: (f64, f64),
+) -> Inrush {
     let model = &net.banks[ev.bank];
     let bank = &plant.banks[ev.bank];
     let kv = net.buses[model.bus].kv;

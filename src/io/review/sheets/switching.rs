@@ -90,7 +90,7 @@ pub(super) fn switching(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
         format!(
             "Time-domain simulation (trapezoidal rule) of each step closing, the three poles at once, at the worst instant over a cycle for each figure; capacitor transient allowance {CAPACITOR_TRANSIENT_PU} x rated peak (IEC 60831-1, from memory)."
         ),
-        "Formula columns: IEEE C37.012 closed formulas (from memory), undamped, closing at the voltage peak: the hand check.".to_string(),
+        "Formula columns: IEEE C37.012 closed formulas (from memory), undamped, closing at the voltage peak, scaled by 1 + |trapped charge|: the hand check.".to_string(),
     ]
     .iter()
     .enumerate()
