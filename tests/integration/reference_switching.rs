@@ -302,13 +302,13 @@ fn bundled_case_peaks_match_circuit_simulator() {
         // The worst closing instant's source phase (without the bus angle added).
         let pre = s.circuit.steady_state(false).unwrap();
         let phi = sim.phi - pre.v[s.bus].arg();
-        let period = 2.0 * std::f64::consts::PI / s.circuit.w;
-        let stop = 2.0 * period;
-        let len = ((stop / s.dt) as usize).min(i.len());
+        // The chart's waveforms cover the first stage: one cycle at the fine step.
+        let len = i.len();
+        let stop = len as f64 * s.dt_fine;
         let top = |x: &[f64]| x[..len].iter().fold(0.0f64, |m, v| m.max(v.abs()));
         let mut net = netlist(&s.circuit, &pre, phi, s.closing_rl);
         let cap_node = format!("n{}", s.circuit.elements[s.closing_c].a + 1);
-        n_control(&mut net, s.dt, stop, s.bus + 1, &cap_node);
+        n_control(&mut net, s.dt_fine, stop, s.bus + 1, &cap_node);
         let got = run_ngspice(&net);
         // ngspice 39 .tran (its own trapezoidal/Gear integration, 1/8 of our step at most):
         // peaks within 1 %.

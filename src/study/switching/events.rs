@@ -110,7 +110,8 @@ pub struct Setup {
     /// Every other bank on another bus: (bank, bus node), one per bus.
     pub remote: Vec<(usize, usize)>,
     /// Time step of the ring-down stage, s: 1/20 of the period of the fastest capacitor
-    /// loop of the bank's bus (the closing step's own L-C and the energized steps there).
+    /// loop of the bank's bus (the closing step's own L-C and the energized steps there),
+    /// and at most 1/100 of the fundamental period.
     pub dt: f64,
     /// Time step of the peak stage, s: 1/60 of that period and of the period of every
     /// capacitance at the bus (cable charging) against the smallest inductance there, and
@@ -330,7 +331,7 @@ pub fn setup(
     }
     let dt_peak = (1.0 / (super::STEPS_PER_PERIOD * f_max)).min(1.0 / (400.0 * net.frequency_hz));
     let dt = (1.0 / (super::RING_DOWN_STEPS_PER_PERIOD * f_max))
-        .min(1.0 / (400.0 * net.frequency_hz))
+        .min(1.0 / (100.0 * net.frequency_hz))
         .max(dt_peak);
     // Capacitance at the bus itself rings against the smallest inductance reaching it.
     let l_min = el

@@ -201,8 +201,9 @@ pub struct Sim {
 /// each quantity is max over τ of |W(τ)| + |q|·|y(τ)|.
 ///
 /// Two stages: the first [`PEAK_CYCLES`] cycles at the fine step (every capacitance at the
-/// bus resolved: the peaks are read there), then the coarse step (the bank's loops
-/// resolved) until the inrush has rung down, for the ring-down time.
+/// bus resolved: the largest peaks come there), then the coarse step (the bank's loops
+/// resolved) until the inrush has rung down, for the ring-down time; each figure's peak is
+/// the larger of the two stages'.
 pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::SingularPivot> {
     let c = &s.circuit;
     let period = 2.0 * std::f64::consts::PI / c.w;
@@ -242,8 +243,18 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
     let mut last_coarse = 0usize;
     let mut decayed = false;
     let mut n_coarse = 0usize;
+    // The ring-down stage's values, for the peaks that come later (a slowly decaying
+    // detuned ring beating with the fundamental).
+    let mut cw_i: Vec<Complex64> = Vec::new();
+    let mut cw_v: Vec<Vec<Complex64>> = vec![Vec::new(); watch.len()];
+    let mut cw_c: Vec<Complex64> = Vec::new();
     coarse.run(mid, t_fine, true, false, |n, st| {
         let tau = t_fine + n as f64 * s.dt;
+        cw_i.push(st.i[s.closing_rl]);
+        for (k, &bus) in watch.iter().enumerate() {
+            cw_v[k].push(st.v[bus]);
+        }
+        cw_c.push(st.u[s.closing_c]);
         let e = tr(st.i[s.closing_rl], tau);
         env_tr.push((tau, e));
         top = top.max(e);
@@ -260,6 +271,7 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
     // The trapped-charge runs: a unit voltage on the closing capacitor, sources off, over
     // the same two stages.
     let (mut y_i, mut y_v, mut y_c) = (Vec::new(), vec![Vec::new(); watch.len()], Vec::new());
+    let (mut cy_i, mut cy_v, mut cy_c) = (Vec::new(), vec![Vec::new(); watch.len()], Vec::new());
     if q != 0.0 {
         let mut init = State {
             v: vec![Complex64::default(); c.nodes],
@@ -277,10 +289,14 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
         });
         let mut k = n_fine;
         coarse.run(mid, t_fine, false, false, |n, st| {
-            // Only the envelope of the ring-down needs the coarse stage.
             if let Some(e) = env_tr.get_mut(k) {
                 e.1 += q.abs() * st.i[s.closing_rl].re.abs();
             }
+            cy_i.push(st.i[s.closing_rl].re);
+            for (j, &bus) in watch.iter().enumerate() {
+                cy_v[j].push(st.v[bus].re);
+            }
+            cy_c.push(st.u[s.closing_c].re);
             k += 1;
             n < n_coarse
         });
@@ -303,17 +319,28 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
             .map(|(n, x)| x.norm() + qa * y.get(n).map_or(0.0, |v| v.abs()))
             .collect()
     };
-    let (peak_i_pu, n_star) = measure::refined_peak(&envelope(&w_i, &y_i));
-    let v_peaks: Vec<f64> = w_v
-        .iter()
-        .zip(&y_v)
-        .map(|(w, y)| measure::refined_peak(&envelope(w, y)).0)
+    // Each figure's peak over both stages (each refined between its samples).
+    let both = |w: &[Complex64], y: &[f64], cw: &[Complex64], cy: &[f64]| {
+        measure::refined_peak(&envelope(w, y))
+            .0
+            .max(measure::refined_peak(&envelope(cw, cy)).0)
+    };
+    let (fine_i, n_star) = measure::refined_peak(&envelope(&w_i, &y_i));
+    let (coarse_i, m_star) = measure::refined_peak(&envelope(&cw_i, &cy_i));
+    let peak_i_pu = fine_i.max(coarse_i);
+    let v_peaks: Vec<f64> = (0..watch.len())
+        .map(|k| both(&w_v[k], &y_v[k], &cw_v[k], &cy_v[k]))
         .collect();
-    let cap_peak_pu = measure::refined_peak(&envelope(&w_c, &y_c)).0;
-    // The worst closing instant of the inrush: Re[e^{jφ}·W] = |W| at n*, and the trapped
-    // charge's polarity adding to it.
-    let phi = w_i.get(n_star).map_or(0.0, |w| -w.arg());
-    let q_sign = y_i.get(n_star).map_or(1.0, |y| y.signum());
+    let cap_peak_pu = both(&w_c, &y_c, &cw_c, &cy_c);
+    // The worst closing instant of the inrush: Re[e^{jφ}·W] = |W| at its largest sample,
+    // and the trapped charge's polarity adding to it.
+    let (at, y_at) = if coarse_i > fine_i {
+        (cw_i.get(m_star), cy_i.get(m_star))
+    } else {
+        (w_i.get(n_star), y_i.get(n_star))
+    };
+    let phi = at.map_or(0.0, |w| -w.arg());
+    let q_sign = y_at.map_or(1.0, |y| y.signum());
     let e = Complex64::from_polar(1.0, phi);
     let worst = |w: &[Complex64], y: &[f64]| -> Vec<f64> {
         w.iter()
