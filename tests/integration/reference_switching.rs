@@ -357,3 +357,90 @@ fn run_ngspice(netlist: &str) -> [f64; 3] {
         value("cmax").abs().max(value("cmin").abs()),
     ]
 }
+
+#[test]
+fn three_phase_delta_bank_matches_circuit_simulator_over_closing_angles() {
+    // The Clarke reduction checked against a three-phase circuit: a 480 V bus behind a
+    // 20 MVA, X/R 50 source with a discharged 300 kvar delta bank (10 µH per phase of its
+    // wye equivalent), no load (invented). ngspice 39 `.tran` simulates the three phases
+    // (wye EMFs, the bank as three delta legs of C/3 behind 3·L, the per-phase equivalent's
+    // values), closing all poles at 36 source angles over half a cycle (phases b and c cover
+    // the rest); its largest line current and largest capacitor voltage (line to line, per
+    // unit of √2·480 V) must equal the tool's worst over every closing angle within 1 %.
+    if !external_tool("ngspice", "the three-phase switching check") {
+        return;
+    }
+    let mut p = one_bus(20.0, 1, 10.0);
+    p.banks[0].step_kvar = 300.0;
+    p.banks[0].connection = Some(BankConnection::Delta);
+    let res = check(&p);
+    let e = &res.switching.events[0];
+    let w = 2.0 * std::f64::consts::PI * 60.0;
+    let z = 0.48f64 * 0.48 / 20.0;
+    // The source of `one_bus`: X/R 50.
+    let r = z / 2501f64.sqrt();
+    let l = 50.0 * r / w;
+    let c_y = 1.0 / (w * 0.48 * 0.48 / 0.3);
+    let (c_d, l_d) = (c_y / 3.0, 3.0 * 10e-6);
+    let e_pk = 2f64.sqrt() * 480.0 / 3f64.sqrt();
+    let mut net = String::from("three-phase energizing\n");
+    let angles: Vec<f64> = (0..36).map(|k| f64::from(k) * 5.0).collect();
+    for (k, a) in angles.iter().enumerate() {
+        for (ph, shift) in [("a", 0.0), ("b", -120.0), ("c", 120.0)] {
+            net += &format!(
+                "v{ph}{k} s{ph}{k} 0 SIN(0 {e_pk:e} 60 0 0 {:e})\nr{ph}{k} s{ph}{k} x{ph}{k} {r:e}\nl{ph}{k} x{ph}{k} b{ph}{k} {l:e} ic=0\n",
+                a + shift
+            );
+        }
+        for (leg, from, to) in [("ab", "a", "b"), ("bc", "b", "c"), ("ca", "c", "a")] {
+            net += &format!(
+                "vm{leg}{k} b{from}{k} m{leg}{k} 0\nll{leg}{k} m{leg}{k} n{leg}{k} {l_d:e} ic=0\ncc{leg}{k} n{leg}{k} b{to}{k} {c_d:e} ic=0\ne{leg}{k} d{leg}{k} 0 n{leg}{k} b{to}{k} 1\n"
+            );
+        }
+    }
+    net += &format!(
+        ".control\nset numdgt=12\ntran 1e-6 {:e} 0 5e-7 uic\n",
+        1.0 / 60.0
+    );
+    for k in 0..angles.len() {
+        for ph in ["a", "b", "c"] {
+            net += &format!(
+                "meas tran ix{ph}{k} max i(v{ph}{k})\nmeas tran iy{ph}{k} min i(v{ph}{k})\n"
+            );
+        }
+        for leg in ["ab", "bc", "ca"] {
+            net += &format!(
+                "meas tran vc{leg}{k} max v(d{leg}{k})\nmeas tran vd{leg}{k} min v(d{leg}{k})\n"
+            );
+        }
+    }
+    net += ".endc\n.end\n";
+    let dir = std::env::temp_dir().join(format!("overtone-3ph-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("three.cir");
+    std::fs::write(&path, &net).unwrap();
+    let out = output_within(
+        std::process::Command::new("ngspice").arg("-b").arg(&path),
+        300,
+    );
+    let text = String::from_utf8_lossy(&out.stdout);
+    let top = |prefix: &str| -> f64 {
+        text.lines()
+            .filter_map(|l| {
+                let l = l.trim();
+                let (name, rest) = l.split_once('=')?;
+                name.trim()
+                    .starts_with(prefix)
+                    .then(|| rest.split_whitespace().next()?.parse::<f64>().ok())
+                    .flatten()
+            })
+            .fold(0.0, |m: f64, v| m.max(v.abs()))
+    };
+    let i_max = top("ix").max(top("iy"));
+    let v_max = top("vc").max(top("vd")) / (2f64.sqrt() * 480.0);
+    assert!(i_max > 0.0 && v_max > 0.0, "no measurements:\n{text}");
+    // Over a 5° grid the worst angle is missed by at most 2.5°: a fraction of a percent.
+    assert_close(e.peak_a, i_max, 0.01);
+    assert_close(e.capacitor_peak_pu, v_max, 0.01);
+    std::fs::remove_dir_all(&dir).ok();
+}
