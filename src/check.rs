@@ -64,9 +64,6 @@ pub struct CheckOptions {
 /// Step combinations up to which remedies are studied without being asked.
 pub const AUTO_REMEDY_CONFIGURATIONS: usize = 200;
 
-/// Most configurations re-run per remedy option (the most severe first).
-pub const REMEDY_CONFIGURATIONS: usize = 50;
-
 /// The remedy options studied for one bank.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct BankRemedies {
@@ -141,8 +138,33 @@ impl CheckResults {
             .iter()
             .filter(|r| has(&r.configuration))
             .collect();
+        let bands: Vec<&ToleranceBand> = self
+            .tolerance
+            .iter()
+            .filter(|t| t.bank == bank && has(&t.configuration))
+            .collect();
+        let chars = &self.resonance.characteristic_orders;
+        let of_sequence = |seq: Sequence| -> Vec<f64> {
+            chars
+                .iter()
+                .copied()
+                .filter(|&h| (Sequence::of(h) == Sequence::Zero) == (seq == Sequence::Zero))
+                .collect()
+        };
+        let margin_percent = bands
+            .iter()
+            .filter_map(|t| {
+                crate::study::remedy::band_margin_percent(
+                    t.low_order,
+                    t.high_order,
+                    &of_sequence(t.sequence),
+                )
+            })
+            .min_by(f64::total_cmp);
         Outcome {
             configurations: labels.len(),
+            tolerance_flagged: bands.iter().filter(|t| t.flagged).count(),
+            margin_percent,
             resonant: self
                 .resonance
                 .rows
@@ -162,6 +184,25 @@ impl CheckResults {
             worst_thd_percent: limits.iter().map(|r| r.worst_thd.value).fold(0.0, f64::max),
             worst_tdd_percent: limits.iter().map(|r| r.tdd.value).fold(0.0, f64::max),
         }
+    }
+
+    /// The one sentence for a plant that exceeds a harmonic limit with no bank in service:
+    /// no bank choice fixes that (`None` when the plant without banks meets every limit).
+    pub fn plant_level_limits(&self) -> Option<String> {
+        let over: Vec<&LimitRow> = self
+            .limit_rows
+            .iter()
+            .filter(|r| r.configuration == "none" && r.exceeds)
+            .collect();
+        let first = over.first()?;
+        let scenarios: Vec<&str> = over.iter().map(|r| r.scenario.as_str()).collect();
+        Some(format!(
+            "With no capacitor bank in service the plant already exceeds its harmonic limits (scenario {}; worst voltage THD {:.2} % at {}, TDD {:.2} %): the converters need their own mitigation (line reactors, multi-pulse or active front ends, harmonic filters), and no bank choice fixes it.",
+            scenarios.join(", "),
+            first.worst_thd.value,
+            first.worst_thd_bus,
+            first.tdd.value
+        ))
     }
 
     /// The label of configuration `c`.
@@ -438,6 +479,9 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         notes,
         pcc,
     };
+    if let Some(sentence) = res.plant_level_limits() {
+        res.notes.insert(0, sentence);
+    }
     let auto = res.scan.configurations.len() <= AUTO_REMEDY_CONFIGURATIONS;
     match options.remedies {
         _ if options.scan_only => {}
@@ -463,46 +507,29 @@ fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
             .iter()
             .any(|r| r.bank == bank.id && r.verdict == crate::study::Verdict::Resonant);
         let duty = res.duty.iter().any(|r| r.bank == bank.id && r.exceeds);
-        if !resonant && !duty {
+        let band = res.tolerance.iter().any(|t| t.bank == bank.id && t.flagged);
+        if !resonant && !duty && !band {
             continue;
         }
-        let reason = match (resonant, duty) {
-            (true, true) => "resonates near a characteristic order and exceeds its duty limits",
-            (true, false) => "resonates near a characteristic order",
-            _ => "exceeds its duty limits",
+        let mut why = Vec::new();
+        if resonant {
+            why.push("resonates near a characteristic order");
+        } else if band {
+            why.push("reaches a characteristic order across its capacitance tolerance");
         }
-        .to_string();
-        // The configurations where the bank is on and something is flagged, most severe
-        // first (by the worst THD's ratio to its limit).
-        let nc = res.scan.configurations.len();
-        let mut picked: Vec<(f64, String)> = Vec::new();
-        for (c, cfg) in res.scan.configurations.iter().enumerate() {
-            if cfg.steps[b] == 0 {
-                continue;
-            }
-            let label = cfg.label(&plant.banks);
-            let flagged = res.resonance.rows.iter().any(|r| {
-                r.bank == bank.id
-                    && r.configuration == label
-                    && r.verdict == crate::study::Verdict::Resonant
-            }) || res
-                .duty
-                .iter()
-                .any(|r| r.bank == bank.id && r.configuration == label && r.exceeds)
-                || (0..res.scan.scenarios.len()).any(|s| res.limit_rows[s * nc + c].exceeds);
-            if flagged {
-                let severity = (0..res.scan.scenarios.len())
-                    .map(|s| {
-                        let r = &res.limit_rows[s * nc + c];
-                        r.worst_thd.value / r.worst_thd.limit.unwrap_or(1.0)
-                    })
-                    .fold(0.0, f64::max);
-                picked.push((severity, label));
-            }
+        if duty {
+            why.push("exceeds its duty limits");
         }
-        picked.sort_by(|a, b| b.0.total_cmp(&a.0));
-        picked.truncate(REMEDY_CONFIGURATIONS);
-        let labels: Vec<String> = picked.into_iter().map(|p| p.1).collect();
+        let reason = why.join(" and ");
+        // Every studied configuration in which the bank is energized: the option must hold
+        // where the bank was clear as well as where it was flagged.
+        let labels: Vec<String> = res
+            .scan
+            .configurations
+            .iter()
+            .filter(|cfg| cfg.steps[b] > 0)
+            .map(|cfg| cfg.label(&plant.banks))
+            .collect();
         if labels.is_empty() {
             continue;
         }
@@ -561,8 +588,10 @@ fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
                         .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
                 })
                 .flatten();
+            // The bank's own checks: plant-wide limits are reported, not required (a bank
+            // change may not be able to fix them).
             let passes = after.resonant == 0
-                && after.limits_exceeded == 0
+                && after.tolerance_flagged == 0
                 && after.duty_exceeded == 0
                 && linearity_ratio.is_none_or(|r| r <= 1.0);
             results.push(RemedyResult {

@@ -204,7 +204,7 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
     }
     writeln!(
         out,
-        "Remedies (ranked: passes everything, then least kvar lost, then lowest capacitor voltage, then lowest THD after); studies re-run over the flagged configurations; pk/lin = step peak current (background included) over the reactor's linearity peak"
+        "Remedies, re-run over every configuration with the bank on. Ranked: the bank's own checks\n  pass (resonance, tolerance band, duty, reactor linearity), then the lowest capacitor\n  voltage class, the widest margin to a characteristic order across the tolerance band,\n  linearity headroom, reactor size. Plant-wide limits are shown, not ranked. pk/lin = step peak current\n  (background included) over the reactor's linearity peak; margin % across the band"
     )?;
     for br in &res.remedies {
         writeln!(out)?;
@@ -254,7 +254,10 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
                     format!("{:.2}", r.after.worst_thd_percent),
                     format!("{:.2}", r.after.worst_tdd_percent),
                     format!("{}", r.after.duty_exceeded),
-                    if r.passes { "passes" } else { "fails" }.to_string(),
+                    r.after
+                        .margin_percent
+                        .map_or_else(|| "-".to_string(), |m| format!("{m:.1}")),
+                    r.verdict().to_string(),
                 ]
             })
             .collect();
@@ -275,9 +278,10 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
                 "THD %",
                 "TDD %",
                 "duty",
+                "margin %",
                 "after",
             ],
-            &[1, 4, 9, 14],
+            &[1, 4, 9, 15],
             &rows,
         )?;
     }

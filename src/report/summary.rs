@@ -105,6 +105,10 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         "Model: sequence networks (3k+1 pos., 3k-1 neg., 3k zero), vector-group shifts; summation {}",
         summation_word(p.study.summation)
     )?;
+    if let Some(sentence) = res.plant_level_limits() {
+        writeln!(out)?;
+        super::table::write_wrapped(out, &sentence, 100)?;
+    }
     writeln!(out)?;
     writeln!(
         out,
@@ -183,13 +187,13 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         writeln!(out)?;
         writeln!(out, "Assumptions:")?;
         for n in &res.notes {
-            writeln!(out, "- {n}")?;
+            super::table::write_wrapped(out, &format!("- {n}"), 100)?;
         }
     }
     writeln!(out)?;
     writeln!(out, "Cautions:")?;
     for c in CAUTIONS {
-        writeln!(out, "- {c}")?;
+        super::table::write_wrapped(out, &format!("- {c}"), 100)?;
     }
     Ok(())
 }
@@ -424,7 +428,7 @@ pub fn write_peaks(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     }
     writeln!(out)?;
     for c in CAUTIONS {
-        writeln!(out, "- {c}")?;
+        super::table::write_wrapped(out, &format!("- {c}"), 100)?;
     }
     Ok(())
 }
@@ -497,7 +501,7 @@ pub fn write_sizing(out: &mut dyn Write, s: &crate::study::detune::Sizing) -> io
     }
     writeln!(out)?;
     for c in CAUTIONS {
-        writeln!(out, "- {c}")?;
+        super::table::write_wrapped(out, &format!("- {c}"), 100)?;
     }
     Ok(())
 }

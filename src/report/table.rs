@@ -40,3 +40,23 @@ pub fn write_table(
     }
     Ok(())
 }
+
+/// Writes `text` wrapped at word boundaries to lines of at most `width` columns (a word
+/// longer than the width stands on its own line).
+pub fn write_wrapped(out: &mut dyn Write, text: &str, width: usize) -> io::Result<()> {
+    let mut line = String::new();
+    for word in text.split_whitespace() {
+        if !line.is_empty() && line.chars().count() + 1 + word.chars().count() > width {
+            writeln!(out, "{line}")?;
+            line.clear();
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    if !line.is_empty() {
+        writeln!(out, "{line}")?;
+    }
+    Ok(())
+}

@@ -5,10 +5,20 @@
 //! practice). Each option is sized to deliver the bank's planned kvar at bus voltage, then
 //! every study is re-run with it in place and compared with the plant as it was.
 //!
-//! Ranking (stated rule): options that pass everything first (no resonance flag for the
-//! bank, no limit exceeded, no duty limit exceeded in the configurations re-run), then the
-//! least kvar lost against the planned kvar (to 0.1 kvar), then the lowest capacitor voltage
-//! rating, then the lowest worst voltage THD after.
+//! Every option is re-run over every studied configuration in which the bank is energized,
+//! through the same checks as `check`.
+//!
+//! Ranking (stated rule): options that pass the bank's own checks first (no resonance flag,
+//! no tolerance band reaching a characteristic order, no duty limit exceeded, the reactor
+//! within its linearity current); plant-wide harmonic limits, which a bank change may not be
+//! able to fix, are reported beside each option but do not rank. Then the lowest capacitor
+//! voltage class (a cost proxy: every passing option already clears the study's resonance
+//! margin across the tolerance band, so a higher class buys margin the checks do not ask
+//! for); then the widest margin of the bank's resonance band (across capacitance tolerance
+//! and scenarios) to the nearest characteristic order; then the most reactor linearity
+//! headroom (the lowest peak current over the linearity peak); then the smallest reactor
+//! (kvar at fundamental). Every option keeps the planned kvar, so kvar delivered never
+//! decides.
 
 use serde::Serialize;
 
@@ -62,6 +72,12 @@ pub struct Outcome {
     pub duty_exceeded: usize,
     pub worst_thd_percent: f64,
     pub worst_tdd_percent: f64,
+    /// Tolerance bands of the bank that reach a characteristic order the nominal clears.
+    pub tolerance_flagged: usize,
+    /// Smallest distance of the bank's resonance band (across capacitance tolerance and
+    /// scenarios) to the nearest characteristic order of its sequence, % of that order (0
+    /// when a band contains one); `None` without a band.
+    pub margin_percent: Option<f64>,
 }
 
 /// The planned kvar of one step of `bank` at a bus of `bus_kv`: a plain step's rating at
@@ -137,27 +153,54 @@ pub fn apply(bank: &CapacitorBank, option: &RemedyOption) -> CapacitorBank {
 
 /// Orders results by the ranking rule and numbers them.
 pub fn rank(results: &mut [RemedyResult]) {
+    let margin = |r: &RemedyResult| r.after.margin_percent.unwrap_or(f64::NEG_INFINITY);
+    let linearity = |r: &RemedyResult| r.linearity_ratio.unwrap_or(0.0);
     results.sort_by(|a, b| {
-        // kvar lost to 0.1 kvar, so rounding does not decide the rank.
-        let lost = |r: &RemedyResult| {
-            ((r.option.planned_kvar - r.option.effective_kvar).abs() * 10.0).round()
-        };
         b.passes
             .cmp(&a.passes)
-            .then(lost(a).total_cmp(&lost(b)))
             .then(
                 a.option
                     .step
                     .capacitor_rated_kv
                     .total_cmp(&b.option.step.capacitor_rated_kv),
             )
-            .then(
-                a.after
-                    .worst_thd_percent
-                    .total_cmp(&b.after.worst_thd_percent),
-            )
+            .then(margin(b).total_cmp(&margin(a)))
+            .then(linearity(a).total_cmp(&linearity(b)))
+            .then(reactor_kvar(a).total_cmp(&reactor_kvar(b)))
     });
     for (i, r) in results.iter_mut().enumerate() {
         r.rank = i + 1;
+    }
+}
+
+/// Reactive power of one step's reactor at fundamental, kvar: 3·I₁²·X_L (three phases).
+pub fn reactor_kvar(r: &RemedyResult) -> f64 {
+    3.0 * r.option.step.i1_a * r.option.step.i1_a * r.option.step.xl_ohm / 1000.0
+}
+
+/// Distance of a resonance band [low, high] to the nearest of `orders`, % of that order:
+/// 0 when the band contains one.
+pub fn band_margin_percent(low: f64, high: f64, orders: &[f64]) -> Option<f64> {
+    orders
+        .iter()
+        .map(|&h| {
+            if (low..=high).contains(&h) {
+                0.0
+            } else {
+                (low - h).abs().min((high - h).abs()) / h * 100.0
+            }
+        })
+        .min_by(f64::total_cmp)
+}
+
+impl RemedyResult {
+    /// The verdict the reports print: the bank's own checks, and whether plant-wide limits
+    /// still fail with the option in place.
+    pub fn verdict(&self) -> &'static str {
+        match (self.passes, self.after.limits_exceeded > 0) {
+            (true, false) => "passes",
+            (true, true) => "passes; plant limits still exceeded",
+            (false, _) => "fails",
+        }
     }
 }

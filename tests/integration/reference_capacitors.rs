@@ -305,9 +305,10 @@ fn tolerance_band_against_rescans_with_scaled_capacitance() {
 #[test]
 fn remedies_threshold_note_and_configuration_cap() {
     // Remedies are studied without being asked up to 200 step combinations; above, a note
-    // says so and how to ask; asked with --remedies, at most 50 configurations are
-    // compared per bank (check::AUTO_REMEDY_CONFIGURATIONS, REMEDY_CONFIGURATIONS).
-    use overtone::check::{AUTO_REMEDY_CONFIGURATIONS, CheckOptions, REMEDY_CONFIGURATIONS};
+    // says so and how to ask; asked with --remedies, each option is re-run over every
+    // configuration in which the bank is energized: 6 × 7² = 294 of the 7³ = 343 here
+    // (check::AUTO_REMEDY_CONFIGURATIONS).
+    use overtone::check::{AUTO_REMEDY_CONFIGURATIONS, CheckOptions};
     use overtone::synthetic::{generated_plant, with_converters};
     let mut plant = with_converters(generated_plant(20, 0, 3, 6, 4), 4);
     for b in &mut plant.banks {
@@ -335,19 +336,13 @@ fn remedies_threshold_note_and_configuration_cap() {
     .unwrap();
     assert!(!asked.remedies.is_empty(), "a flagged bank gets remedies");
     for r in &asked.remedies {
-        assert!(r.configurations.len() <= REMEDY_CONFIGURATIONS);
+        assert_eq!(r.configurations.len(), 294);
         assert!(!r.results.is_empty());
         // Ranks are 1, 2, ... in order.
         for (i, x) in r.results.iter().enumerate() {
             assert_eq!(x.rank, i + 1);
         }
     }
-    assert!(
-        asked
-            .remedies
-            .iter()
-            .any(|r| r.configurations.len() == REMEDY_CONFIGURATIONS)
-    );
 }
 
 #[test]
@@ -411,58 +406,134 @@ fn remedy_options_of_the_food_plant_by_hand() {
 
 #[test]
 fn remedy_ranking_and_its_tie_breaks() {
-    // The documented order (README, Remedies): passes everything first; then the least kvar
-    // lost (to 0.1 kvar); then the lowest capacitor rating; then the lowest THD after. Five
-    // results built to differ in one key each.
+    // The documented order (README, Remedies; study::remedy): the bank's own checks pass
+    // first (a failing option never outranks a passing one, whatever else it does better);
+    // then the lowest capacitor voltage class; then the widest margin across the tolerance
+    // band; then the most linearity headroom; then the smallest reactor. Results built to
+    // differ in one key each.
     use overtone::study::remedy::{Outcome, RemedyResult, options, rank};
     let plant = crate::cases::food_plant();
     let opts = options(&plant, &plant.banks[0], 0.48, &[5.0, 7.0, 11.0, 13.0], 10.0);
-    let outcome = |thd: f64| Outcome {
+    let outcome = |margin: f64| Outcome {
         configurations: 4,
         resonant: 0,
         limits_exceeded: 0,
         duty_exceeded: 0,
-        worst_thd_percent: thd,
+        worst_thd_percent: 1.0,
         worst_tdd_percent: 1.0,
+        tolerance_flagged: 0,
+        margin_percent: Some(margin),
     };
-    let result = |o: usize, passes: bool, lost: f64, thd: f64| {
-        let mut option = opts[o].clone();
-        option.effective_kvar -= lost;
-        RemedyResult {
-            option,
-            before: outcome(9.0),
-            after: outcome(thd),
-            passes,
-            rank: 0,
-            resonance_after: None,
-            step_rms_a: None,
-            linearity_ratio: None,
-        }
+    // Options: 0 = 5.67 %, 1 = 7 %, 2 = 14 % (600 V), 3 = 4.94 %, 4 = filter at 4.70.
+    let result = |o: usize, passes: bool, margin: f64, linearity: f64| RemedyResult {
+        option: opts[o].clone(),
+        before: outcome(0.0),
+        after: outcome(margin),
+        passes,
+        rank: 0,
+        resonance_after: None,
+        step_rms_a: None,
+        linearity_ratio: Some(linearity),
     };
     let mut results = vec![
-        result(2, true, 0.0, 1.0),  // 600 V: loses on rating
-        result(1, true, 0.0, 2.0),  // 525 V, THD 2.0
-        result(0, false, 0.0, 0.5), // fails: last whatever else
-        result(3, true, 5.0, 0.1),  // loses 5 kvar
-        result(4, true, 0.04, 1.5), // 525 V, THD 1.5; 0.04 kvar rounds to no loss
+        result(2, true, 45.0, 0.5),  // 600 V: after every passing 525 V option
+        result(0, true, 20.0, 0.6),  // 525 V, margin 20
+        result(4, false, 60.0, 0.1), // fails its own checks: last, despite the best margin
+        result(1, true, 20.0, 0.7),  // 525 V, margin 20, less linearity headroom than 5.67 %
+        result(3, true, 25.0, 0.9),  // 525 V, the widest margin of the 525 V options
     ];
     rank(&mut results);
     let order: Vec<&str> = results.iter().map(|r| r.option.name.as_str()).collect();
     assert_eq!(
         order,
         [
-            "filter at 4.70",
+            "4.94 % detuned (tuned to 4.50)",
+            "5.67 % detuned",
             "7 % detuned",
             "14 % detuned",
-            "4.94 % detuned (tuned to 4.50)",
-            "5.67 % detuned"
+            "filter at 4.70"
         ]
     );
     assert_eq!(
         results.iter().map(|r| r.rank).collect::<Vec<_>>(),
         [1, 2, 3, 4, 5]
     );
-    // A failing option never outranks a passing one.
     let first_fail = results.iter().position(|r| !r.passes).unwrap();
     assert!(results[first_fail..].iter().all(|r| !r.passes));
+    // Equal in every key but the reactor: the smaller reactor (kvar = 3·I₁²·X_L) first.
+    let mut tie = vec![result(1, true, 20.0, 0.7), result(0, true, 20.0, 0.7)];
+    rank(&mut tie);
+    assert_eq!(tie[0].option.name, "5.67 % detuned");
+    assert!(
+        overtone::study::remedy::reactor_kvar(&tie[0])
+            < overtone::study::remedy::reactor_kvar(&tie[1])
+    );
+}
+
+#[test]
+fn remedy_outcomes_agree_with_a_check_of_the_plant_with_the_remedy_in_place() {
+    // Every remedy option of the demo (capacitance tolerance −5/+10 %) is re-run through the
+    // same checks as `check`: installing the option in the workbook and checking the plant
+    // gives the same resonance, tolerance-band and duty findings for the bank, over every
+    // configuration in which the bank is energized, and the same verdict.
+    let mut plant = overtone::demo::demo_plant().unwrap();
+    plant.study.capacitance_tolerance = Tolerance {
+        minus_percent: -5.0,
+        plus_percent: 10.0,
+    };
+    let res = run_check(&plant, &Default::default()).unwrap();
+    assert!(!res.remedies.is_empty());
+    for br in &res.remedies {
+        let b = plant.banks.iter().position(|x| x.id == br.bank).unwrap();
+        let energized = res
+            .scan
+            .configurations
+            .iter()
+            .filter(|c| c.steps[b] > 0)
+            .count();
+        assert_eq!(
+            br.configurations.len(),
+            energized,
+            "every configuration re-run"
+        );
+        for x in &br.results {
+            let mut changed = plant.clone();
+            changed.banks[b] = overtone::study::remedy::apply(&plant.banks[b], &x.option);
+            let after = run_check(&changed, &Default::default()).unwrap();
+            let on = |c: &str| br.configurations.iter().any(|l| l == c);
+            let resonant = after
+                .resonance
+                .rows
+                .iter()
+                .filter(|r| {
+                    r.bank == br.bank
+                        && on(&r.configuration)
+                        && r.verdict == overtone::study::Verdict::Resonant
+                })
+                .count();
+            let bands = after
+                .tolerance
+                .iter()
+                .filter(|t| t.bank == br.bank && on(&t.configuration) && t.flagged)
+                .count();
+            let duty = after
+                .duty
+                .iter()
+                .filter(|d| d.bank == br.bank && on(&d.configuration) && d.exceeds)
+                .count();
+            assert_eq!(
+                (
+                    x.after.resonant,
+                    x.after.tolerance_flagged,
+                    x.after.duty_exceeded
+                ),
+                (resonant, bands, duty),
+                "{}",
+                x.option.name
+            );
+            if x.passes {
+                assert_eq!((resonant, bands, duty), (0, 0, 0), "{}", x.option.name);
+            }
+        }
+    }
 }

@@ -405,7 +405,9 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
             ("after", 7.0),
             ("Worst TDD before (%)", 9.0),
             ("after", 7.0),
-            ("Result", 9.0),
+            ("Margin across tolerance after (%)", 9.0),
+            ("Tolerance bands flagged after", 8.0),
+            ("Result", 12.0),
         ],
     )?;
     let mut r = 1;
@@ -443,7 +445,9 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
                     n(x.after.worst_thd_percent, "0.00"),
                     n(x.before.worst_tdd_percent, "0.00"),
                     n(x.after.worst_tdd_percent, "0.00"),
-                    t(if x.passes { "passes" } else { "fails" }),
+                    on(x.after.margin_percent, "0.0"),
+                    n(x.after.tolerance_flagged as f64, "0"),
+                    t(x.verdict()),
                 ],
             )?;
             r += 1;
@@ -456,5 +460,5 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
             "No remedy studied (no bank flagged, or remedies not asked for: see Assumptions).",
         )?;
     }
-    verdict_colours(ws, 1, r.saturating_sub(1), 27)
+    verdict_colours(ws, 1, r.saturating_sub(1), 29)
 }
