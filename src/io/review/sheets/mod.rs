@@ -120,7 +120,7 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
         format!("Operating point: fundamental load flow by Newton's method to 1e-9 pu mismatch; sources as EMFs of Voltage (pu) at angle 0 behind their impedance; loads (linear, motor, converter) at constant power P = kW·Quantity·Load factor, Q = P·tan(acos pf) lagging; capacitor steps, reactors and cable charging as admittances at h = 1; transformers at the ratio of their buses' kV (no taps); target PF {} lagging, voltage range {}/{} pu, step voltage change {} %.", p.target_power_factor, p.voltage_range.low_pu, p.voltage_range.high_pu, p.step_voltage_change_percent),
         "Hand check h = √(S_sc/Q_c) with S_sc from the fundamental Thevenin impedance at the bank's bus without banks (loads and motors included); with a series reactor √(X_C/(|Z_th| + X_L)).".into(),
         crate::report::switching_scope().to_string(),
-        "Remedies: each option sized to keep the planned kvar at bus voltage, the next standard capacitor rating at or above U/(1−p); studies re-run over at most 50 flagged configurations per bank; linearity current 1.8 × I₁ (common practice).".into(),
+        "Remedies: each option sized to keep the planned kvar at bus voltage, the next standard capacitor rating at or above U/(1−p); studies re-run over every configuration in which the bank is energized; ranked by the bank's own checks (resonance, tolerance band, duty, linearity), then capacitor voltage class, margin across the tolerance band, linearity headroom, reactor size; plant-wide limits shown, not ranked; linearity current 1.8 × I₁ (common practice).".into(),
     ];
     for s in &res.penetration.injections.spectra {
         a.push(format!(
