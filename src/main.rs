@@ -46,7 +46,8 @@ struct Outputs {
     /// Write the review workbook (.xlsx) to this file.
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     output: Option<PathBuf>,
-    /// The report date, YYYY-MM-DD (default: the input file's modification date).
+    /// The report date, YYYY-MM-DD (default: the input workbook's modification date; the
+    /// demo's is fixed at 2026-01-01).
     #[arg(long, value_name = "DATE")]
     date: Option<String>,
     /// Also write the frequency scan as CSV (the input contract's columns) to this file.
@@ -95,21 +96,33 @@ enum Command {
     },
     /// Frequency scan only: the peaks per bus and configuration, or the CSV with --csv.
     Scan {
+        /// The plant's input workbook (.xlsx, .xlsm, .xls or .ods).
         plant: PathBuf,
-        /// Write the scan CSV (the input contract's columns) to this file.
-        #[arg(long, value_name = "FILE")]
+        /// Write the scan CSV (the input contract's columns) to this file (`--csv` is the
+        /// same option).
+        #[arg(long = "scan-csv", visible_alias = "csv", value_name = "FILE")]
         csv: Option<PathBuf>,
+        /// Print the JSON summary (peaks and dips of every scanned bus) instead of the table.
+        #[arg(long)]
+        json: bool,
+        /// No progress bar.
+        #[arg(long)]
+        quiet: bool,
         #[command(flatten)]
         select: Select,
     },
     /// Write a blank input workbook with every sheet, header, note and dropdown.
-    Template { file: PathBuf },
+    Template {
+        /// The workbook to write (.xlsx).
+        file: PathBuf,
+    },
     /// Size one detuned step or tuned filter from a few numbers, no workbook.
     Size(SizeArgs),
 }
 
 #[derive(clap::Args)]
 #[command(group(clap::ArgGroup::new("tuning").required(true).args(["detuning", "order"])))]
+#[command(allow_negative_numbers = true)]
 struct SizeArgs {
     /// Bus voltage, kV line-to-line.
     #[arg(long)]
@@ -135,6 +148,9 @@ struct SizeArgs {
     /// Supply short-circuit power at the bus, MVA, for the parallel resonance below tuning.
     #[arg(long)]
     ssc_mva: Option<f64>,
+    /// Print the sizing as JSON instead of the table.
+    #[arg(long)]
+    json: bool,
 }
 
 /// A failure: the message for stderr.
@@ -160,7 +176,14 @@ fn main() -> ExitCode {
         );
         std::process::exit(INTERRUPTED);
     });
-    match run(Cli::parse().command) {
+    // `overtone help --help` (or -h) is the program's own help.
+    let args: Vec<String> = std::env::args().collect();
+    let cli = if args.len() == 3 && args[1] == "help" && (args[2] == "--help" || args[2] == "-h") {
+        Cli::parse_from([args[0].as_str(), "--help"])
+    } else {
+        Cli::parse()
+    };
+    match run(cli.command) {
         Ok(code) => code,
         Err(Failure(msg)) => {
             let _ = writeln!(io::stderr(), "overtone: {msg}");
@@ -239,11 +262,17 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             };
             study(&read.plant, &out, Some(&path), prov)
         }
-        Command::Scan { plant, csv, select } => {
+        Command::Scan {
+            plant,
+            csv,
+            json,
+            quiet,
+            select,
+        } => {
             check_outputs(&[&csv], Some(&plant))?;
             let plant = load(&plant)?;
             let (mut options, bar) =
-                options(&select, select.configurations.clone(), false, Some(false));
+                options(&select, select.configurations.clone(), quiet, Some(false));
             options.scan_only = true;
             let res = run_check(&plant, &options);
             bar.finish_and_clear();
@@ -254,6 +283,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
                     write_scan_file(&path, &res, &sel)?;
                     Ok(ExitCode::SUCCESS)
                 }
+                None if json => print(|w| writeln!(w, "{}", overtone::io::json::to_json(&res))),
                 None => print(|w| overtone::report::summary::write_peaks(w, &res)),
             }
         }
@@ -337,8 +367,37 @@ fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
     };
     positive(a.kv, "kv")?;
     positive(a.kvar, "kvar")?;
-    positive(a.hz, "hz")?;
+    if a.hz != 50.0 && a.hz != 60.0 {
+        return Err(Failure(format!(
+            "--hz must be 50 or 60 (as the Study sheet's Frequency), found {}",
+            a.hz
+        )));
+    }
     positive(a.q, "q")?;
+    let mut err = io::stderr().lock();
+    if a.kv >= 100.0 {
+        let _ = writeln!(
+            err,
+            "warning: --kv is in kV: {} means {} kV; for {} V give --kv {}",
+            a.kv,
+            a.kv,
+            a.kv,
+            a.kv / 1000.0
+        );
+    }
+    if let Some(d) = a
+        .detuning
+        .filter(|&d| (overtone::model::MIN_MAGNITUDE..1.0).contains(&d))
+    {
+        let _ = writeln!(
+            err,
+            "warning: --detuning is in percent: {d} means p = {d} % (tuned at {:.1}); for {} % give --detuning {}",
+            1.0 / (d / 100.0).sqrt(),
+            (d * 100.0 * 1e6).round() / 1e6,
+            (d * 100.0 * 1e6).round() / 1e6
+        );
+    }
+    drop(err);
     for (v, what) in [
         (a.rated_kv, "rated-kv"),
         (a.ssc_mva, "ssc-mva"),
@@ -352,7 +411,12 @@ fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
         (Some(d), _) if (MIN_MAGNITUDE..100.0).contains(&d) => d / 100.0,
         (Some(d), _) => {
             return Err(Failure(format!(
-                "--detuning must be between 0 and 100 %, found {d}"
+                "--detuning must be above 0 and below 100 (percent of X_C, e.g. 7), found {d}{}",
+                if d == 0.0 {
+                    ": a plain capacitor has no reactor to size"
+                } else {
+                    ""
+                }
             )));
         }
         (None, Some(h)) if h > 1.0 && h.is_finite() => overtone::study::detune::p_for_order(h),
@@ -367,7 +431,30 @@ fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
                 a.kv / (1.0 - p) * 1000.0
             ))
         })?;
-    print(|w| overtone::report::summary::write_sizing(w, &s))
+    if let Some(rated) = a.rated_kv
+        && s.capacitor_kv_needed > rated * (1.0 + 1e-9)
+    {
+        let _ = writeln!(
+            io::stderr(),
+            "warning: the capacitor sees U/(1-p) = {:.0} V, {:.1} % over its {:.0} V rating (IEEE 18 allows 110 % of rated rms voltage continuously, with harmonics on top): choose --rated-kv {} or more",
+            s.capacitor_kv_needed * 1000.0,
+            (s.capacitor_kv_needed / rated - 1.0) * 100.0,
+            rated * 1000.0,
+            overtone::study::detune::next_standard_rating(s.capacitor_kv_needed)
+                .map_or_else(|| "higher".to_string(), |r| r.to_string())
+        );
+    }
+    if a.json {
+        return print(|w| {
+            writeln!(
+                w,
+                "{}",
+                serde_json::to_string_pretty(&s).unwrap_or_else(|_| "{}".into())
+            )
+        });
+    }
+    let tuned = a.order.is_some();
+    print(|w| overtone::report::summary::write_sizing(w, &s, tuned))
 }
 
 fn study(

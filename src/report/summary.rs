@@ -434,11 +434,15 @@ pub fn write_peaks(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
 }
 
 /// Writes the `size` command's result.
-pub fn write_sizing(out: &mut dyn Write, s: &crate::study::detune::Sizing) -> io::Result<()> {
-    let kind = if s.p > 0.0 && s.tuning_order < 4.5 {
-        "detuned step"
-    } else {
+pub fn write_sizing(
+    out: &mut dyn Write,
+    s: &crate::study::detune::Sizing,
+    tuned: bool,
+) -> io::Result<()> {
+    let kind = if tuned {
         "tuned filter"
+    } else {
+        "detuned step"
     };
     writeln!(
         out,
@@ -463,7 +467,7 @@ pub fn write_sizing(out: &mut dyn Write, s: &crate::study::detune::Sizing) -> io
             format!("{:.1} V", s.capacitor_kv_needed * 1000.0),
         ),
         (
-            "capacitor rating",
+            "capacitor to order (nameplate, per step)",
             format!(
                 "{:.0} V, {:.1} kvar",
                 s.capacitor_rated_kv * 1000.0,
@@ -476,12 +480,8 @@ pub fn write_sizing(out: &mut dyn Write, s: &crate::study::detune::Sizing) -> io
         ("L per phase", format!("{:.4} mH", s.l_mh)),
         ("reactor R = X_L/Q", format!("{:.5} ohm", s.r_ohm)),
         (
-            "effective output at bus voltage",
+            "output at bus voltage (what the step delivers)",
             format!("{:.1} kvar", s.effective_kvar),
-        ),
-        (
-            "output at the capacitor's rated voltage",
-            format!("{:.1} kvar", s.effective_kvar_at_rated),
         ),
         ("fundamental current", format!("{:.1} A", s.i1_a)),
         (

@@ -374,7 +374,20 @@ fn size_at_the_edges_prints_no_non_finite_number() {
         ),
         (
             "--kv 0.48 --kvar 100 --detuning 1e-12",
-            "--detuning must be between 0 and 100 %, found 0.000000000001",
+            "--detuning must be above 0 and below 100 (percent of X_C, e.g. 7), found 0.000000000001",
+        ),
+        (
+            "--kv 0.48 --kvar 100 --detuning 0",
+            "found 0: a plain capacitor has no reactor to size",
+        ),
+        // A negative number is a value, not an unknown option.
+        (
+            "--kv 0.48 --kvar -100 --detuning 7",
+            "--kvar must be a positive number, found -100",
+        ),
+        (
+            "--kv 0.48 --kvar 100 --hz 55 --detuning 7",
+            "--hz must be 50 or 60",
         ),
     ] {
         let out = size(args);
@@ -382,6 +395,90 @@ fn size_at_the_edges_prints_no_non_finite_number() {
         let err = String::from_utf8_lossy(&out.stderr);
         assert!(err.contains(expected), "{err}");
     }
+}
+
+#[test]
+fn size_warns_of_units_and_an_undersized_capacitor() {
+    // Units a user mistypes: a fraction for a percentage, volts for kV; and a rating below
+    // U/(1 − p) = 480/0.93 = 516 V (references.md's detuning table). Each a warning on
+    // stderr, the sizing still printed, titled by what was asked.
+    for (args, warning, title) in [
+        (
+            "--kv 0.48 --kvar 100 --detuning 0.07",
+            "--detuning is in percent: 0.07 means p = 0.07 %",
+            "Sizing of a detuned step",
+        ),
+        (
+            "--kv 480 --kvar 100 --detuning 7 --rated-kv 600",
+            "--kv is in kV: 480 means 480 kV; for 480 V give --kv 0.48",
+            "Sizing of a detuned step",
+        ),
+        (
+            "--kv 0.48 --kvar 100 --detuning 7 --rated-kv 0.48",
+            "the capacitor sees U/(1-p) = 516 V, 7.5 % over its 480 V rating",
+            "Sizing of a detuned step",
+        ),
+        (
+            "--kv 0.48 --kvar 100 --order 4.7",
+            "",
+            "Sizing of a tuned filter",
+        ),
+    ] {
+        let mut full = vec!["size"];
+        full.extend(args.split_whitespace());
+        let out = overtone(&full);
+        assert!(out.status.success(), "{args}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains(warning), "{args}: {err}");
+        let text = String::from_utf8_lossy(&out.stdout);
+        assert!(text.starts_with(title), "{args}: {text}");
+        assert!(
+            !text.contains("rated voltage"),
+            "one output figure, at bus voltage"
+        );
+    }
+}
+
+#[test]
+fn help_and_option_names_are_consistent() {
+    // `help --help` is the program's help; `scan` takes the same --scan-csv name as
+    // `check` (and --csv), --json and --quiet; every argument is described.
+    let out = overtone(&["help", "--help"]);
+    assert!(out.status.success());
+    assert!(String::from_utf8_lossy(&out.stdout).contains("Usage: overtone <COMMAND>"));
+    for cmd in ["scan", "template", "check", "demo", "size"] {
+        let out = overtone(&[cmd, "--help"]);
+        let text = String::from_utf8_lossy(&out.stdout).to_string();
+        assert!(out.status.success(), "{cmd}");
+        // clap prints an argument without a description as its name and nothing after.
+        for line in text.lines().filter(|l| l.trim_start().starts_with('<')) {
+            assert!(
+                line.split_whitespace().count() > 1,
+                "{cmd}: blank description: {line}"
+            );
+        }
+    }
+    let scan = String::from_utf8_lossy(&overtone(&["scan", "--help"]).stdout).to_string();
+    for opt in ["--scan-csv", "--json", "--quiet"] {
+        assert!(scan.contains(opt), "{opt}");
+    }
+    let dir = temp_dir("scan-json");
+    let csv = dir.join("s.csv");
+    let out = overtone(&[
+        "scan",
+        &case("food-plant.xlsx"),
+        "--scan-csv",
+        csv.to_str().unwrap(),
+        "--quiet",
+    ]);
+    assert!(out.status.success());
+    assert!(csv.exists());
+    let out = overtone(&["scan", &case("food-plant.xlsx"), "--json", "--quiet"]);
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["tool"], "overtone");
+    let demo = String::from_utf8_lossy(&overtone(&["demo", "--help"]).stdout).to_string();
+    assert!(demo.contains("the demo's is fixed at 2026-01-01"));
+    std::fs::remove_dir_all(&dir).ok();
 }
 
 #[test]
