@@ -15,7 +15,7 @@ use overtone::check::{CheckOptions, run_check};
 use overtone::io::csv::{
     selection, write_operating_file, write_scan_file, write_transients_file, write_voltages_file,
 };
-use overtone::io::output::check_output_path;
+use overtone::io::output::{OutputKind, check_output};
 use overtone::io::review::{Provenance, file_date, sha256_hex, write_review};
 use overtone::io::workbook_in::read_workbook;
 use overtone::model::Plant;
@@ -79,6 +79,10 @@ struct Outputs {
     /// Do not study remedies.
     #[arg(long)]
     no_remedies: bool,
+    /// Replace an existing output file that overtone did not write (a workbook of your
+    /// own, for example); without it such a file is refused.
+    #[arg(long)]
+    force: bool,
     #[command(flatten)]
     select: Select,
 }
@@ -108,13 +112,20 @@ enum Command {
         /// No progress bar.
         #[arg(long)]
         quiet: bool,
+        /// Replace an existing CSV that overtone did not write.
+        #[arg(long)]
+        force: bool,
         #[command(flatten)]
         select: Select,
     },
     /// Write a blank input workbook with every sheet, header, note and dropdown.
     Template {
-        /// The workbook to write (.xlsx).
+        /// The workbook to write (.xlsx); an existing file is replaced only when it is a
+        /// blank template or with --force.
         file: PathBuf,
+        /// Replace an existing file that is not a blank template (a filled plant workbook).
+        #[arg(long)]
+        force: bool,
     },
     /// Size one detuned step or tuned filter from a few numbers, no workbook.
     Size(SizeArgs),
@@ -238,16 +249,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             study(&read.plant, &out, None, prov)
         }
         Command::Check { plant: path, out } => {
-            check_outputs(
-                &[
-                    &out.output,
-                    &out.scan_csv,
-                    &out.voltages_csv,
-                    &out.operating_csv,
-                    &out.transients_csv,
-                ],
-                Some(&path),
-            )?;
+            check_outputs(&outputs(&out), Some(&path), out.force)?;
             let read = read_workbook(&path)?;
             warn(&read.warnings);
             let bytes =
@@ -267,9 +269,10 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             csv,
             json,
             quiet,
+            force,
             select,
         } => {
-            check_outputs(&[&csv], Some(&plant))?;
+            check_outputs(&[(&csv, OutputKind::Csv)], Some(&plant), force)?;
             let plant = load(&plant)?;
             let (mut options, bar) =
                 options(&select, select.configurations.clone(), quiet, Some(false));
@@ -288,23 +291,39 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             }
         }
         Command::Size(a) => size(&a),
-        Command::Template { file } => {
+        Command::Template { file, force } => {
+            check_outputs(&[(&Some(file.clone()), OutputKind::Template)], None, force)?;
             overtone::io::template::write_template(&file)?;
             Ok(ExitCode::SUCCESS)
         }
     }
 }
 
-/// Checks before any study that every output can be written, none is the input and no
-/// two outputs share a path.
+/// The outputs a study writes, with their kinds.
+fn outputs(out: &Outputs) -> [(&Option<PathBuf>, OutputKind); 5] {
+    [
+        (&out.output, OutputKind::Review),
+        (&out.scan_csv, OutputKind::Csv),
+        (&out.voltages_csv, OutputKind::Csv),
+        (&out.operating_csv, OutputKind::Csv),
+        (&out.transients_csv, OutputKind::Csv),
+    ]
+}
+
+/// Checks before any study that every output can be written, none is the input, none
+/// replaces a file overtone did not write (unless `force`) and no two outputs share a path.
 fn check_outputs(
-    outputs: &[&Option<std::path::PathBuf>],
+    outputs: &[(&Option<PathBuf>, OutputKind)],
     input: Option<&std::path::Path>,
+    force: bool,
 ) -> Result<(), Failure> {
-    let given: Vec<&std::path::PathBuf> = outputs.iter().filter_map(|o| o.as_ref()).collect();
-    for (i, o) in given.iter().enumerate() {
-        check_output_path(o, input)?;
-        if given[..i].iter().any(|p| p == o) {
+    let given: Vec<(&PathBuf, OutputKind)> = outputs
+        .iter()
+        .filter_map(|(o, k)| o.as_ref().map(|p| (p, *k)))
+        .collect();
+    for (i, (o, kind)) in given.iter().enumerate() {
+        check_output(o, *kind, input, force)?;
+        if given[..i].iter().any(|(p, _)| p == o) {
             return Err(Failure(format!(
                 "{}: given for two outputs: choose a name for each",
                 o.display()
@@ -463,16 +482,7 @@ fn study(
     input: Option<&std::path::Path>,
     mut prov: Provenance,
 ) -> Result<ExitCode, Failure> {
-    check_outputs(
-        &[
-            &out.output,
-            &out.scan_csv,
-            &out.voltages_csv,
-            &out.operating_csv,
-            &out.transients_csv,
-        ],
-        input,
-    )?;
+    check_outputs(&outputs(out), input, out.force)?;
     if let Some(d) = &out.date {
         prov.date = parse_date(d)?;
     }

@@ -5,6 +5,15 @@ use std::io::{self, Write};
 
 use crate::check::CheckResults;
 
+/// The header lines of the input contract's CSV files: scan, harmonic voltages, operating
+/// point, switching transients.
+pub const HEADERS: [&str; 4] = [
+    "scenario,configuration,bus,order,frequency_hz,z_ohm,angle_deg",
+    "scenario,configuration,bus,order,v_percent,v_volts",
+    "scenario,configuration,bus,v_pu,angle_deg",
+    "scenario,bank,step,case,peak_a,frequency_hz,bus_peak_pu,capacitor_peak_pu",
+];
+
 /// Which series of the scan go into the CSV.
 #[derive(Debug, Clone, Default)]
 pub struct ScanSelection {
@@ -54,10 +63,7 @@ pub fn write_scan_csv(
 ) -> io::Result<()> {
     let (buses, configs, _) = resolve(res, sel);
     let f = res.plant.study.frequency_hz;
-    writeln!(
-        out,
-        "scenario,configuration,bus,order,frequency_hz,z_ohm,angle_deg"
-    )?;
+    writeln!(out, "{}", HEADERS[0])?;
     for (s, scenario) in res.scan.scenarios.iter().enumerate() {
         for &c in &configs {
             let label = res.label(c);
@@ -180,7 +186,7 @@ pub fn write_voltages_csv(
 ) -> io::Result<()> {
     let (buses, configs) = every_bus(res, sel);
     let orders = &res.penetration.injections.orders;
-    writeln!(out, "scenario,configuration,bus,order,v_percent,v_volts")?;
+    writeln!(out, "{}", HEADERS[1])?;
     for (s, scenario) in res.scan.scenarios.iter().enumerate() {
         for &c in &configs {
             let label = res.label(c);
@@ -235,7 +241,7 @@ pub fn write_operating_csv(
     sel: &ScanSelection,
 ) -> io::Result<()> {
     let (buses, configs) = every_bus(res, sel);
-    writeln!(out, "scenario,configuration,bus,v_pu,angle_deg")?;
+    writeln!(out, "{}", HEADERS[2])?;
     for (s, scenario) in res.scan.scenarios.iter().enumerate() {
         for &c in &configs {
             let label = res.label(c);
@@ -281,10 +287,7 @@ pub fn write_operating_file(
 /// (input contract, version 2): one row per simulated energizing event, each figure at its
 /// worst closing instant; a ringing frequency not seen (over-damped) is left empty.
 pub fn write_transients_csv(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
-    writeln!(
-        out,
-        "scenario,bank,step,case,peak_a,frequency_hz,bus_peak_pu,capacitor_peak_pu"
-    )?;
+    writeln!(out, "{}", HEADERS[3])?;
     for e in &res.switching.events {
         writeln!(
             out,

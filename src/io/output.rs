@@ -33,6 +33,89 @@ pub struct OutputPathError {
     pub reason: String,
 }
 
+/// The custom document property that marks a review workbook as this tool's (name, value).
+pub const REVIEW_MARK: (&str, &str) = ("overtone", "review workbook");
+
+/// What an output file is, for its extension and for recognizing a file it may replace.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum OutputKind {
+    /// The review workbook (`-o`).
+    Review,
+    /// The blank input workbook (`template`).
+    Template,
+    /// A CSV of the input contract.
+    Csv,
+}
+
+impl OutputKind {
+    fn extension(self) -> &'static str {
+        match self {
+            OutputKind::Review | OutputKind::Template => "xlsx",
+            OutputKind::Csv => "csv",
+        }
+    }
+}
+
+/// True when the existing file `path` is one this tool wrote: a review workbook (its
+/// document property), a blank template (byte for byte the current one), or a CSV whose
+/// first line is one of the input contract's headers. Anything else, a filled plant
+/// workbook above all, is not replaced without `--force`.
+pub fn written_by_us(path: &Path) -> bool {
+    let Ok(bytes) = std::fs::read(path) else {
+        return false;
+    };
+    if crate::io::template::template_bytes().is_ok_and(|t| t == bytes) {
+        return true;
+    }
+    if let Ok(mut zip) = zip::ZipArchive::new(std::io::Cursor::new(&bytes)) {
+        let mut xml = String::new();
+        return zip.by_name("docProps/custom.xml").is_ok_and(|mut f| {
+            std::io::Read::read_to_string(&mut f, &mut xml).is_ok()
+                && xml.contains(&format!("name=\"{}\"", REVIEW_MARK.0))
+                && xml.contains(REVIEW_MARK.1)
+        });
+    }
+    let first = bytes.split(|&b| b == b'\n').next().unwrap_or_default();
+    crate::io::csv::HEADERS
+        .iter()
+        .any(|h| first == h.as_bytes() || first == format!("{h}\r").as_bytes())
+}
+
+/// Checks before the study runs that `out` can be written as a `kind` file: the extension
+/// fits, its folder exists and accepts a new file, it is not the input `input`, and an
+/// existing file there is one this tool wrote (unless `force`).
+pub fn check_output(
+    out: &Path,
+    kind: OutputKind,
+    input: Option<&Path>,
+    force: bool,
+) -> Result<(), OutputPathError> {
+    let fail = |reason: String| OutputPathError {
+        path: out.display().to_string(),
+        reason,
+    };
+    let ext = out
+        .extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase());
+    if ext.as_deref() != Some(kind.extension()) {
+        return Err(fail(format!(
+            "this output is {}: give a name ending in .{}",
+            match kind {
+                OutputKind::Csv => "a CSV file",
+                _ => "an .xlsx workbook",
+            },
+            kind.extension()
+        )));
+    }
+    check_output_path(out, input)?;
+    if out.exists() && !force && !written_by_us(out) {
+        return Err(fail(
+            "a file of that name exists and was not written by overtone (a plant workbook?): choose another name, or give --force to replace it".to_string(),
+        ));
+    }
+    Ok(())
+}
+
 /// Checks before the study runs that `out` can be written (its folder exists and accepts a
 /// new file) and is not the input `input`.
 pub fn check_output_path(out: &Path, input: Option<&Path>) -> Result<(), OutputPathError> {

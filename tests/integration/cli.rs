@@ -74,8 +74,17 @@ fn demo_json_is_valid() {
 
 #[test]
 fn bad_configuration_exits_2() {
-    let out = overtone(&["demo", "--scan-csv", "/dev/null", "--configuration", "C9=1"]);
+    let dir = temp_dir("bad-config");
+    let csv = dir.join("scan.csv");
+    let out = overtone(&[
+        "demo",
+        "--scan-csv",
+        csv.to_str().unwrap(),
+        "--configuration",
+        "C9=1",
+    ]);
     assert_eq!(out.status.code(), Some(2));
+    assert!(!csv.exists());
     assert!(String::from_utf8_lossy(&out.stderr).contains("there is no bank \"C9\""));
 }
 
@@ -321,10 +330,10 @@ fn unwritable_folders_and_shared_names_are_refused_before_the_study() {
         assert!(out.stdout.is_empty(), "the study ran: {args:?}");
     }
     let dir = temp_dir("shared");
-    let p = dir.join("out.xlsx");
+    let p = dir.join("out.csv");
     let out = overtone(&[
         "demo",
-        "-o",
+        "--scan-csv",
         p.to_str().unwrap(),
         "--voltages-csv",
         p.to_str().unwrap(),
@@ -1001,5 +1010,80 @@ fn a_plant_over_its_limits_without_banks_is_said_first() {
     );
     let demo = overtone(&["demo"]);
     assert!(!String::from_utf8_lossy(&demo.stdout).contains("With no capacitor bank in service"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn outputs_never_replace_a_file_overtone_did_not_write() {
+    // A filled plant workbook is not replaced by `template`, by `demo -o` or by a CSV
+    // (exit 2, the file unchanged); a wrong extension is refused; overtone's own review,
+    // blank template and CSVs are replaced; --force replaces anything.
+    let dir = temp_dir("overwrite");
+    let plant = dir.join("plant.xlsx");
+    std::fs::copy(case("food-plant.xlsx"), &plant).unwrap();
+    let before = std::fs::read(&plant).unwrap();
+    let p = plant.to_str().unwrap();
+    for args in [
+        vec!["template", p],
+        vec!["demo", "-o", p],
+        vec!["demo", "--quiet", "-o", p],
+    ] {
+        let out = overtone(&args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(
+            err.contains("exists and was not written by overtone"),
+            "{args:?}: {err}"
+        );
+        assert_eq!(std::fs::read(&plant).unwrap(), before, "{args:?}");
+    }
+    let mine = dir.join("notes.csv");
+    std::fs::write(&mine, "my own notes\n").unwrap();
+    let out = overtone(&["demo", "--scan-csv", mine.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(2));
+    assert_eq!(std::fs::read_to_string(&mine).unwrap(), "my own notes\n");
+    for (args, ext) in [
+        (vec!["template", "plant.csv"], ".xlsx"),
+        (vec!["demo", "-o", "out.pdf"], ".xlsx"),
+        (vec!["demo", "--voltages-csv", "v.xlsx"], ".csv"),
+    ] {
+        let out = overtone(&args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        assert!(
+            String::from_utf8_lossy(&out.stderr).contains(&format!("give a name ending in {ext}")),
+            "{args:?}"
+        );
+    }
+    // Its own files: replaced.
+    let review = dir.join("review.xlsx");
+    let template = dir.join("blank.xlsx");
+    let csv = dir.join("scan.csv");
+    for _ in 0..2 {
+        assert!(
+            overtone(&["demo", "--quiet", "-o", review.to_str().unwrap()])
+                .status
+                .success()
+        );
+        assert!(
+            overtone(&["template", template.to_str().unwrap()])
+                .status
+                .success()
+        );
+        assert!(
+            overtone(&[
+                "demo",
+                "--quiet",
+                "--configuration",
+                "none",
+                "--scan-csv",
+                csv.to_str().unwrap()
+            ])
+            .status
+            .success()
+        );
+    }
+    // --force replaces the plant workbook.
+    assert!(overtone(&["template", p, "--force"]).status.success());
+    assert_ne!(std::fs::read(&plant).unwrap(), before);
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -57,6 +57,10 @@ pub fn review_bytes(res: &CheckResults, prov: &Provenance) -> Result<Vec<u8>, Xl
         &DocProperties::new()
             .set_title(&title)
             .set_author(&res.plant.study.prepared_by)
+            .set_custom_property(
+                crate::io::output::REVIEW_MARK.0,
+                crate::io::output::REVIEW_MARK.1,
+            )
             .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, d)?),
     );
     sheets::write_all(&mut wb, res, prov)?;
