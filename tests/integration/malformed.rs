@@ -222,6 +222,13 @@ impl Book {
         wb.save_to_buffer().unwrap()
     }
 
+    fn warnings(&self) -> Vec<String> {
+        match read_workbook_bytes("case.xlsx", "case", &self.bytes()) {
+            Ok(read) => read.warnings.iter().map(|w| w.to_string()).collect(),
+            Err(e) => panic!("{e}"),
+        }
+    }
+
     fn errors(&self) -> Vec<String> {
         match read_workbook_bytes("case.xlsx", "case", &self.bytes()) {
             Ok(_) => Vec::new(),
@@ -771,4 +778,40 @@ fn switching_columns_out_of_range_are_located() {
             .set("Capacitors", "I2", C::N(v));
         assert!(book.errors().is_empty(), "{v}: {:?}", book.errors());
     }
+}
+
+#[test]
+fn implausible_values_warn_at_their_cells() {
+    // Values that validate but look like a unit typed wrong or a capacitor rated too low:
+    // each a warning at its own cell naming the row, the plant still read.
+    use C::N;
+    for (book, expected) in [
+        (
+            Book::base().set("Transformers", "E2", N(0.0575)),
+            "Transformers!E2: transformer T1: \"Impedance (%)\" 0.0575 % is below 1 %: a fraction typed for a percentage? (5.75 % is entered as 5.75)",
+        ),
+        (
+            Book::base().set("Buses", "B2", N(13800.0)),
+            "Buses!B2: bus HV: \"Nominal kV\" 13800 is 28750 times the 0.48 kV across transformer T1: volts typed for kV?",
+        ),
+        (
+            Book::base().set("Capacitors", "F2", N(0.07)),
+            "Capacitors!F2: bank C1: \"Detuning (%)\" 0.07 is below 1 %: a fraction typed for a percentage? (7 % is entered as 7)",
+        ),
+        (
+            // 480/(1 − 0.07) = 516.1 V on a 480 V capacitor (references.md's table).
+            Book::base().set("Capacitors", "C2", N(0.48)),
+            "Capacitors!C2: bank C1: \"Rated kV\" 0.48 is below what it sees: the 7.00 % reactor raises the capacitor's voltage to U/(1-p) = 0.516 kV (7.5 % over its rating; IEEE 18 allows 110 % of rated voltage with harmonics on top)",
+        ),
+    ] {
+        let w = book.warnings();
+        assert!(w.iter().any(|x| x == expected), "{expected}\n{w:#?}");
+    }
+    // The base plant: no plausibility warning.
+    assert!(
+        Book::base()
+            .warnings()
+            .iter()
+            .all(|w| !w.contains("typed") && !w.contains("below what it sees")),
+    );
 }

@@ -7,6 +7,7 @@
 //! validation ([`Plant::validate`]), whose element-and-field errors are mapped back to cells.
 
 mod cells;
+mod plausible;
 mod sequence;
 mod sheets;
 mod study;
@@ -470,6 +471,15 @@ pub fn read_workbook_bytes_within(
         }
     }
     if diag.errors.is_empty() {
+        plausible::check(
+            &plant,
+            &plausible::Tables {
+                buses: t_buses.as_ref(),
+                transformers: t_tx.as_ref(),
+                capacitors: t_caps.as_ref(),
+            },
+            &mut diag,
+        );
         return Ok(ReadOutcome {
             plant,
             warnings: diag.warnings,
