@@ -105,6 +105,36 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         "Model: sequence networks (3k+1 pos., 3k-1 neg., 3k zero), vector-group shifts; summation {}",
         summation_word(p.study.summation)
     )?;
+    // Each bank's nameplate beside what a step delivers at its bus voltage:
+    // Q = kV_bus² / (X_C·(1 − p)), X_C = kV_rated² / Mvar_step (textbook).
+    let banks: Vec<String> = p
+        .banks
+        .iter()
+        .zip(&res.network.banks)
+        .map(|(b, m)| {
+            let bus_kv = res.network.buses[m.bus].kv;
+            let out_kvar = bus_kv * bus_kv / (b.step_xc_ohm() * (1.0 - m.p)) * 1000.0;
+            let reactor = match b.reactor {
+                crate::model::Reactor::None => String::new(),
+                crate::model::Reactor::Detuning { percent } => format!(", {percent} % detuned"),
+                crate::model::Reactor::Tuned { order } => format!(", tuned at {order}"),
+            };
+            format!(
+                "{} {} x {} kvar at {} kV{reactor} -> {:.1} kvar per step at {} kV",
+                b.id, b.steps, b.step_kvar, b.rated_kv, out_kvar, bus_kv
+            )
+        })
+        .collect();
+    if !banks.is_empty() {
+        super::table::write_wrapped(
+            out,
+            &format!(
+                "Banks (nameplate -> output at bus voltage): {}",
+                banks.join("; ")
+            ),
+            100,
+        )?;
+    }
     if let Some(sentence) = res.plant_level_limits() {
         writeln!(out)?;
         super::table::write_wrapped(out, &sentence, 100)?;

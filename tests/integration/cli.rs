@@ -25,6 +25,12 @@ fn demo_prints_the_resonance_table_and_cautions() {
     // Notes and cautions are wrapped at 100 columns: read them as words.
     let words = text.split_whitespace().collect::<Vec<_>>().join(" ");
     assert!(words.contains("licensed professional engineer"));
+    // A detuned bank's nameplate beside its output at bus voltage, by hand:
+    // 0.48² / ((0.525²/0.1)·(1 − 0.07)) = 0.0899 Mvar per step (references.md's formulas).
+    assert!(
+        words.contains("C2 3 x 100 kvar at 0.525 kV, 7 % detuned -> 89.9 kvar per step at 0.48 kV"),
+        "{words}"
+    );
     assert!(
         text.lines()
             .all(|l| !l.starts_with("- ") || l.chars().count() <= 100)
