@@ -76,8 +76,8 @@ fn worked_detuned_step_example() {
     assert_close(s.effective_kvar_at_rated, 86.0, 0.002);
     assert_close(s.effective_kvar, 49.9, 0.002);
     // The same through `overtone size`, asking for 49.9 kvar at 400 V on 525 V capacitors.
-    let out = std::process::Command::new(env!("CARGO_BIN_EXE_overtone"))
-        .args([
+    let size = |extra: &[&str]| {
+        let mut args = vec![
             "size",
             "--kv",
             "0.4",
@@ -89,9 +89,14 @@ fn worked_detuned_step_example() {
             "7",
             "--rated-kv",
             "0.525",
-        ])
-        .output()
-        .unwrap();
+        ];
+        args.extend_from_slice(extra);
+        std::process::Command::new(env!("CARGO_BIN_EXE_overtone"))
+            .args(args)
+            .output()
+            .unwrap()
+    };
+    let out = size(&[]);
     assert!(out.status.success());
     let text = String::from_utf8(out.stdout).unwrap();
     let value = |label: &str| -> f64 {
@@ -115,23 +120,7 @@ fn worked_detuned_step_example() {
     );
     // The published 86.0 kvar at 525 V: in the JSON (the table shows the nameplate and the
     // output at bus voltage only).
-    let json = std::process::Command::new(env!("CARGO_BIN_EXE_overtone"))
-        .args([
-            "size",
-            "--kv",
-            "0.4",
-            "--kvar",
-            "49.94",
-            "--hz",
-            "50",
-            "--detuning",
-            "7",
-            "--rated-kv",
-            "0.525",
-            "--json",
-        ])
-        .output()
-        .unwrap();
+    let json = size(&["--json"]);
     let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
     assert_close(v["effective_kvar_at_rated"].as_f64().unwrap(), 86.0, 0.002);
 }
