@@ -114,8 +114,13 @@ pub struct ResonanceRow {
     pub steps: u32,
     /// Short-circuit power at the bank's bus without banks, MVA: S_sc = kV² / |Z_th(1)|.
     pub s_sc_mva: f64,
-    /// Energized kvar corrected to bus voltage: n·Step kvar·(kV_bus / kV_rated)².
+    /// Energized kvar on the bank's bus that the hand check counts (this bank and the banks
+    /// there of the same detuning), corrected to bus voltage: Σ n·Step kvar·(kV_bus /
+    /// kV_rated)².
     pub q_c_kvar: f64,
+    /// The capacitive reactance of those steps together at fundamental, ohm:
+    /// X_C = 1/Σ(n/X_C1).
+    pub x_c_ohm: f64,
     /// Hand-check order: √(S_sc / Q_c) for a plain bank; √(X_C / (|Z_th| + X_L)) with a
     /// series reactor (the same law with the reactor's inductance added to the system's).
     pub hand_order: f64,
@@ -186,7 +191,7 @@ impl ResonanceStudy {
                     rows.push(row(
                         plant,
                         net,
-                        (s, b, n),
+                        (s, b, &cfg.steps),
                         &label,
                         z_th_pu,
                         peaks,
@@ -203,7 +208,7 @@ impl ResonanceStudy {
                         rows.push(row(
                             plant,
                             net,
-                            (s, b, n),
+                            (s, b, &cfg.steps),
                             &label,
                             z_th_pu,
                             &series.peaks,
@@ -223,14 +228,19 @@ impl ResonanceStudy {
     }
 }
 
-/// One row: bank `b` with `n` steps in scenario `s`, its Thevenin impedance without banks
-/// in the scanned sequence (`z_th_pu`), the scanned peaks at its bus and the characteristic
-/// orders of that sequence.
+/// One row: bank `b` in scenario `s` with `steps` of every bank, its Thevenin impedance
+/// without banks in the scanned sequence (`z_th_pu`), the scanned peaks at its bus and the
+/// characteristic orders of that sequence.
+///
+/// The hand check counts every step energized on the bank's bus that resonates with it as
+/// one capacitance: the banks there of the same detuning (plain with plain, 7 % with 7 %),
+/// in the zero sequence only those with a zero-sequence path. X_C = 1/Σ(n/X_C1) and
+/// Q_c = Σ n·Step kvar·(kV_bus/kV_rated)².
 #[allow(clippy::too_many_arguments)]
 fn row(
     plant: &Plant,
     net: &Network,
-    (s, b, n): (usize, usize, u32),
+    (s, b, steps): (usize, usize, &[u32]),
     label: &str,
     z_th_pu: f64,
     peaks: &[Extremum],
@@ -240,7 +250,28 @@ fn row(
 ) -> ResonanceRow {
     let bank = &net.banks[b];
     let bus = &net.buses[bank.bus];
-    let xc_pu = bank.xc_step_pu / f64::from(n);
+    let n = steps[b];
+    let together: Vec<usize> = net
+        .banks
+        .iter()
+        .enumerate()
+        .filter(|(o, ob)| {
+            ob.bus == bank.bus
+                && steps[*o] > 0
+                && (ob.p - bank.p).abs() <= 1e-9
+                && (sequence != Sequence::Zero || ob.connection.has_zero_path())
+        })
+        .map(|(o, _)| o)
+        .collect();
+    let y_c: f64 = together
+        .iter()
+        .map(|&o| f64::from(steps[o]) / net.banks[o].xc_step_pu)
+        .sum();
+    let xc_pu = 1.0 / y_c;
+    let q_c_kvar: f64 = together
+        .iter()
+        .map(|&o| plant.banks[o].kvar_at(steps[o], bus.kv))
+        .sum();
     let hand_order = (xc_pu / (z_th_pu + bank.p * xc_pu)).sqrt();
     let peak = peaks
         .iter()
@@ -272,7 +303,8 @@ fn row(
         bus: bus.id.clone(),
         steps: n,
         s_sc_mva: BASE_MVA / z_th_pu,
-        q_c_kvar: plant.banks[b].kvar_at(n, bus.kv),
+        q_c_kvar,
+        x_c_ohm: xc_pu * bus.z_base_ohm,
         hand_order,
         peak,
         nearest_characteristic: nearest,

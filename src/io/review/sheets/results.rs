@@ -42,7 +42,7 @@ pub(super) fn resonance(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
         let bus = res.network.buses.iter().find(|b| b.id == r.bus);
         let (xc, xl, zth) = match (bank, bus) {
             (Some(b), Some(bus)) => {
-                let xc = b.xc_step_pu * bus.z_base_ohm / f64::from(r.steps);
+                let xc = r.x_c_ohm;
                 (xc, b.p * xc, bus.kv * bus.kv / r.s_sc_mva)
             }
             _ => (f64::NAN, f64::NAN, f64::NAN),
