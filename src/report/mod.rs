@@ -4,6 +4,7 @@ pub mod capacitors;
 pub mod cautions;
 pub mod model;
 pub mod operating;
+pub mod sources;
 pub mod summary;
 pub mod table;
 

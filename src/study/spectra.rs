@@ -130,7 +130,7 @@ const ELECTRONIC: &[(f64, f64)] = &[
 /// The built-in spectrum of a load type, with its source; `None` for linear loads, motors
 /// and custom loads (which need a spectrum of their own).
 pub fn built_in(kind: LoadType) -> Option<(&'static [(f64, f64)], &'static str)> {
-    const TYPICAL: &str = "typical values, from memory (see references.md)";
+    const TYPICAL: &str = "typical values, from memory (see the review's Sources sheet)";
     match kind {
         LoadType::SixPulseDrive => Some((SIX_PULSE, TYPICAL)),
         LoadType::SixPulseDriveWithReactor => Some((SIX_PULSE_REACTOR, TYPICAL)),

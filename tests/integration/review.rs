@@ -101,6 +101,29 @@ fn sheets_headers_numbers_and_formulas_read_back() {
         .collect();
     assert!(text.iter().any(|t| t == "EXCEEDS"));
     assert!(text.iter().any(|t| t == "Reviewer sign-off"));
+    // The sources of every built-in value travel with the review (issue of a reviewer
+    // without the project's files): one row each, cited from the Assumptions.
+    let sources = wb.worksheet_range("Sources").unwrap();
+    for (i, (what, source, confidence)) in overtone::report::sources::SOURCES.iter().enumerate() {
+        assert_eq!(
+            sources.get((3 + i, 0)).map(|c| c.to_string()).as_deref(),
+            Some(*what)
+        );
+        assert_eq!(
+            sources.get((3 + i, 1)).map(|c| c.to_string()).as_deref(),
+            Some(*source)
+        );
+        assert_eq!(
+            sources.get((3 + i, 2)).map(|c| c.to_string()).as_deref(),
+            Some(*confidence)
+        );
+    }
+    let assumptions = wb.worksheet_range("Assumptions").unwrap();
+    assert!(
+        assumptions
+            .rows()
+            .any(|r| r.iter().any(|c| c.to_string().contains("Sources sheet")))
+    );
     let cautions = wb.worksheet_range("Cautions").unwrap();
     assert!(cautions.rows().any(|r| {
         r.iter()

@@ -83,6 +83,7 @@ pub fn write_all(
         "Assumptions and scope",
         &assumptions(res),
     )?;
+    sources(wb.add_worksheet().set_name("Sources")?)?;
     let cautions: Vec<String> = CAUTIONS
         .iter()
         .map(|c| c.to_string())
@@ -110,6 +111,7 @@ fn extra_cautions() -> Vec<String> {
 fn assumptions(res: &CheckResults) -> Vec<String> {
     let p = &res.plant.study;
     let mut a = vec![
+        "Every built-in value (limit tables, spectra, defaults, formulas) is listed with its source and confidence on the Sources sheet; a licensed copy of a standard wins over any value here.".to_string(),
         crate::report::model_scope().to_string(),
         format!("Per-unit base 100 MVA, bus nominal kV; resistance model {} (R·√h with skin).", match p.resistance_model { ResistanceModel::Constant => "constant", ResistanceModel::Skin => "skin" }),
         "Sources and transformers: series R-L from the fault level or impedance and X/R; cables: pi model; linear loads: parallel R-L (R = V²/P, X = V²/Q); motors: R + jhX'' with X'' = 0.17 pu on kW·qty/pf and X''/R = 10 (defaults of the input contract).".into(),
@@ -130,6 +132,33 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
     }
     a.extend(res.notes.iter().cloned());
     a
+}
+
+/// The sources and confidence of every built-in value (report::sources).
+fn sources(ws: &mut Worksheet) -> Result<(), XlsxError> {
+    ws.write_string_with_format(
+        0,
+        0,
+        "Sources of the built-in values and how sure they are",
+        &Format::new().set_bold().set_font_size(14),
+    )?;
+    let head = super::writer::header_format();
+    let wrap = Format::new().set_text_wrap();
+    for (c, h) in ["Value", "Source", "Confidence"].iter().enumerate() {
+        ws.write_string_with_format(2, c as u16, *h, &head)?;
+    }
+    for (i, (what, source, confidence)) in crate::report::sources::SOURCES.iter().enumerate() {
+        let r = 3 + i as u32;
+        ws.write_string_with_format(r, 0, *what, &wrap)?;
+        ws.write_string_with_format(r, 1, *source, &wrap)?;
+        ws.write_string_with_format(r, 2, *confidence, &wrap)?;
+    }
+    ws.set_column_width(0, 60)?;
+    ws.set_column_width(1, 45)?;
+    ws.set_column_width(2, 25)?;
+    ws.set_landscape();
+    ws.set_print_fit_to_pages(1, 0);
+    Ok(())
 }
 
 fn text_sheet(ws: &mut Worksheet, title: &str, lines: &[String]) -> Result<(), XlsxError> {
