@@ -1,6 +1,6 @@
 //! What is read off a simulated waveform: the peak (refined between samples), the ringing
-//! frequency from zero crossings, the damping ratio from the logarithmic decrement, the
-//! ring-down time, and a thinned copy for a chart.
+//! frequency from zero crossings, the damping ratio from the logarithmic decrement, and a
+//! thinned copy for a chart.
 
 /// The largest of `env` refined by the parabola through the largest sample and its two
 /// neighbours (vertex e_n − (e_{n+1} − e_{n−1})² / (8·(e_{n+1} − 2e_n + e_{n−1}))), with
@@ -86,14 +86,6 @@ pub fn ringing(transient: &[f64], dt: f64) -> Option<(f64, f64)> {
         0.0
     };
     Some((f, zeta))
-}
-
-/// The last time (s) at which |x| reaches `fraction` of its largest value.
-pub fn last_above(x: &[f64], dt: f64, fraction: f64) -> f64 {
-    let top = x.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    x.iter()
-        .rposition(|v| v.abs() >= fraction * top)
-        .map_or(0.0, |n| (n + 1) as f64 * dt)
 }
 
 /// Sample indices for a chart of at most about `points` points over the first `len`

@@ -196,6 +196,34 @@ pub struct Sim {
     pub channels: Option<[Vec<f64>; 3]>,
 }
 
+/// What an event reads at every sample: the closing step's current, the voltage at each
+/// watched bus (the bank's, then the remote banks'), the closing capacitor's voltage.
+struct Trace<T> {
+    i: Vec<T>,
+    v: Vec<Vec<T>>,
+    c: Vec<T>,
+}
+
+impl<T> Trace<T> {
+    fn new(buses: usize) -> Self {
+        Trace {
+            i: Vec::new(),
+            v: (0..buses).map(|_| Vec::new()).collect(),
+            c: Vec::new(),
+        }
+    }
+
+    /// Appends the state's values, each mapped by `f` (the complex run keeps them, the
+    /// trapped-charge run keeps their real part).
+    fn push(&mut self, s: &Setup, watch: &[usize], st: &State, f: impl Fn(Complex64) -> T) {
+        self.i.push(f(st.i[s.closing_rl]));
+        for (k, &bus) in watch.iter().enumerate() {
+            self.v[k].push(f(st.v[bus]));
+        }
+        self.c.push(f(st.u[s.closing_c]));
+    }
+}
+
 /// Runs one event: the analytic (complex) run with the sources, and, with a trapped charge
 /// `q`, a run from a unit capacitor voltage without sources; the worst closing instant of
 /// each quantity is max over τ of |W(τ)| + |q|·|y(τ)|.
@@ -222,19 +250,13 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
     let watch: Vec<usize> = std::iter::once(s.bus)
         .chain(s.remote.iter().map(|r| r.1))
         .collect();
-    let mut w_i: Vec<Complex64> = Vec::with_capacity(n_fine);
-    let mut w_v: Vec<Vec<Complex64>> = vec![Vec::with_capacity(n_fine); watch.len()];
-    let mut w_c: Vec<Complex64> = Vec::with_capacity(n_fine);
+    let mut w: Trace<Complex64> = Trace::new(watch.len());
     // The inrush's transient envelope |W − I_post·e^{jωτ}| over both stages, with times.
     let mut env_tr: Vec<(f64, f64)> = Vec::with_capacity(n_fine + n_min);
     let tr = |i: Complex64, tau: f64| (i - i_post * Complex64::from_polar(1.0, c.w * tau)).norm();
     let mid = fine.run(pre.clone(), 0.0, true, true, |n, st| {
         let i = st.i[s.closing_rl];
-        w_i.push(i);
-        for (k, &bus) in watch.iter().enumerate() {
-            w_v[k].push(st.v[bus]);
-        }
-        w_c.push(st.u[s.closing_c]);
+        w.push(s, &watch, st, |x| x);
         let tau = n as f64 * s.dt_fine;
         env_tr.push((tau, tr(i, tau)));
         n < n_fine
@@ -245,16 +267,10 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
     let mut n_coarse = 0usize;
     // The ring-down stage's values, for the peaks that come later (a slowly decaying
     // detuned ring beating with the fundamental).
-    let mut cw_i: Vec<Complex64> = Vec::new();
-    let mut cw_v: Vec<Vec<Complex64>> = vec![Vec::new(); watch.len()];
-    let mut cw_c: Vec<Complex64> = Vec::new();
+    let mut cw: Trace<Complex64> = Trace::new(watch.len());
     coarse.run(mid, t_fine, true, false, |n, st| {
         let tau = t_fine + n as f64 * s.dt;
-        cw_i.push(st.i[s.closing_rl]);
-        for (k, &bus) in watch.iter().enumerate() {
-            cw_v[k].push(st.v[bus]);
-        }
-        cw_c.push(st.u[s.closing_c]);
+        cw.push(s, &watch, st, |x| x);
         let e = tr(st.i[s.closing_rl], tau);
         env_tr.push((tau, e));
         top = top.max(e);
@@ -270,8 +286,8 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
     });
     // The trapped-charge runs: a unit voltage on the closing capacitor, sources off, over
     // the same two stages.
-    let (mut y_i, mut y_v, mut y_c) = (Vec::new(), vec![Vec::new(); watch.len()], Vec::new());
-    let (mut cy_i, mut cy_v, mut cy_c) = (Vec::new(), vec![Vec::new(); watch.len()], Vec::new());
+    let mut y: Trace<f64> = Trace::new(watch.len());
+    let mut cy: Trace<f64> = Trace::new(watch.len());
     if q != 0.0 {
         let mut init = State {
             v: vec![Complex64::default(); c.nodes],
@@ -280,11 +296,7 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
         };
         init.u[s.closing_c] = Complex64::new(1.0, 0.0);
         let mid = fine.run(init, 0.0, false, true, |n, st| {
-            y_i.push(st.i[s.closing_rl].re);
-            for (k, &bus) in watch.iter().enumerate() {
-                y_v[k].push(st.v[bus].re);
-            }
-            y_c.push(st.u[s.closing_c].re);
+            y.push(s, &watch, st, |x| x.re);
             n < n_fine
         });
         let mut k = n_fine;
@@ -292,15 +304,11 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
             if let Some(e) = env_tr.get_mut(k) {
                 e.1 += q.abs() * st.i[s.closing_rl].re.abs();
             }
-            cy_i.push(st.i[s.closing_rl].re);
-            for (j, &bus) in watch.iter().enumerate() {
-                cy_v[j].push(st.v[bus].re);
-            }
-            cy_c.push(st.u[s.closing_c].re);
+            cy.push(s, &watch, st, |x| x.re);
             k += 1;
             n < n_coarse
         });
-        for (e, y) in env_tr.iter_mut().zip(&y_i) {
+        for (e, y) in env_tr.iter_mut().zip(&y.i) {
             e.1 += q.abs() * y.abs();
         }
     }
@@ -313,42 +321,42 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
             .map_or(0.0, |e| e.0)
     };
     let qa = q.abs();
-    let envelope = |w: &[Complex64], y: &[f64]| -> Vec<f64> {
-        w.iter()
+    let envelope = |wv: &[Complex64], yv: &[f64]| -> Vec<f64> {
+        wv.iter()
             .enumerate()
-            .map(|(n, x)| x.norm() + qa * y.get(n).map_or(0.0, |v| v.abs()))
+            .map(|(n, x)| x.norm() + qa * yv.get(n).map_or(0.0, |v| v.abs()))
             .collect()
     };
     // Each figure's peak over both stages (each refined between its samples).
-    let both = |w: &[Complex64], y: &[f64], cw: &[Complex64], cy: &[f64]| {
-        measure::refined_peak(&envelope(w, y))
+    let both = |a: &[Complex64], b: &[f64], ca: &[Complex64], cb: &[f64]| {
+        measure::refined_peak(&envelope(a, b))
             .0
-            .max(measure::refined_peak(&envelope(cw, cy)).0)
+            .max(measure::refined_peak(&envelope(ca, cb)).0)
     };
-    let (fine_i, n_star) = measure::refined_peak(&envelope(&w_i, &y_i));
-    let (coarse_i, m_star) = measure::refined_peak(&envelope(&cw_i, &cy_i));
+    let (fine_i, n_star) = measure::refined_peak(&envelope(&w.i, &y.i));
+    let (coarse_i, m_star) = measure::refined_peak(&envelope(&cw.i, &cy.i));
     let peak_i_pu = fine_i.max(coarse_i);
     let v_peaks: Vec<f64> = (0..watch.len())
-        .map(|k| both(&w_v[k], &y_v[k], &cw_v[k], &cy_v[k]))
+        .map(|k| both(&w.v[k], &y.v[k], &cw.v[k], &cy.v[k]))
         .collect();
-    let cap_peak_pu = both(&w_c, &y_c, &cw_c, &cy_c);
+    let cap_peak_pu = both(&w.c, &y.c, &cw.c, &cy.c);
     // The worst closing instant of the inrush: Re[e^{jφ}·W] = |W| at its largest sample,
     // and the trapped charge's polarity adding to it.
     let (at, y_at) = if coarse_i > fine_i {
-        (cw_i.get(m_star), cy_i.get(m_star))
+        (cw.i.get(m_star), cy.i.get(m_star))
     } else {
-        (w_i.get(n_star), y_i.get(n_star))
+        (w.i.get(n_star), y.i.get(n_star))
     };
-    let phi = at.map_or(0.0, |w| -w.arg());
+    let phi = at.map_or(0.0, |x| -x.arg());
     let q_sign = y_at.map_or(1.0, |y| y.signum());
     let e = Complex64::from_polar(1.0, phi);
-    let worst = |w: &[Complex64], y: &[f64]| -> Vec<f64> {
-        w.iter()
+    let worst = |wv: &[Complex64], yv: &[f64]| -> Vec<f64> {
+        wv.iter()
             .enumerate()
-            .map(|(n, x)| (e * x).re + qa * q_sign * y.get(n).copied().unwrap_or(0.0))
+            .map(|(n, x)| (e * x).re + qa * q_sign * yv.get(n).copied().unwrap_or(0.0))
             .collect()
     };
-    let current = worst(&w_i, &y_i);
+    let current = worst(&w.i, &y.i);
     let transient: Vec<f64> = current
         .iter()
         .enumerate()
@@ -357,7 +365,7 @@ pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::S
             x - (e * i_post * Complex64::from_polar(1.0, c.w * tau)).re
         })
         .collect();
-    let channels = capture.then(|| [current, worst(&w_v[0], &y_v[0]), worst(&w_c, &y_c)]);
+    let channels = capture.then(|| [current, worst(&w.v[0], &y.v[0]), worst(&w.c, &y.c)]);
     Ok(Sim {
         dt: s.dt_fine,
         steps: n_fine + n_coarse,
