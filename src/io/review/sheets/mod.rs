@@ -152,6 +152,13 @@ fn sources(ws: &mut Worksheet) -> Result<(), XlsxError> {
         ws.write_string_with_format(r, 0, *what, &wrap)?;
         ws.write_string_with_format(r, 1, *source, &wrap)?;
         ws.write_string_with_format(r, 2, *confidence, &wrap)?;
+        // Wrapped text needs its lines' height (a spreadsheet does not grow a row written
+        // this way): about one character per width unit, 15 points a line.
+        let lines = [(*what, 60.0), (*source, 45.0), (*confidence, 25.0)]
+            .iter()
+            .map(|(t, w)| (t.chars().count() as f64 / (w * 0.95)).ceil().max(1.0))
+            .fold(1.0, f64::max);
+        ws.set_row_height(r, 15.0 * lines)?;
     }
     ws.set_column_width(0, 60)?;
     ws.set_column_width(1, 45)?;

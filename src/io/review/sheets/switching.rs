@@ -36,11 +36,11 @@ pub(super) fn switching(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
             ("Inrush limit (A)", 8.0),
             ("Inrush L to meet it (uH)", 9.0),
             ("Closing angle (deg)", 8.0),
-            ("Verdict", 12.0),
+            ("Verdict", 18.0),
         ],
     )?;
-    // Wrapped headers need the room of three lines.
-    ws.set_row_height(0, 45)?;
+    // Wrapped headers need the room of four lines.
+    ws.set_row_height(0, 60)?;
     let events = &res.switching.events;
     for (i, e) in events.iter().enumerate() {
         let remote = e
