@@ -658,9 +658,10 @@ fn a_template_plant_with_background_and_phasor_runs_every_command() {
         use calamine::{Reader, Xlsx, open_workbook};
         let mut wb: Xlsx<_> = open_workbook(path("review.xlsx")).unwrap();
         let scan = wb.worksheet_range("Scan").unwrap();
+        // Row 0 is the sheet's note; the header is row 1.
         let heads: Vec<String> = scan
             .rows()
-            .next()
+            .nth(1)
             .unwrap()
             .iter()
             .map(|c| c.to_string())

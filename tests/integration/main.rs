@@ -23,6 +23,7 @@ mod fuzz_bodies;
 mod hostile;
 mod malformed;
 mod model;
+mod printed;
 mod properties;
 mod reader;
 mod reference_capacitors;

@@ -456,7 +456,26 @@ fn duty_remedies_and_input_sheets_read_back() {
             assert_eq!(num(&rem, row, 5), x.option.step.l_mh);
             assert_eq!(num(&rem, row, 9), x.option.step.capacitor_kvar);
             assert_eq!(num(&rem, row, 10), x.option.effective_kvar);
-            assert_eq!(num(&rem, row, 18), x.after.resonant as f64);
+            row += 1;
+        }
+    }
+    // The outcome table below: its header is the second row that starts with "Bank".
+    let outcome = rem
+        .rows()
+        .enumerate()
+        .filter(|(_, r)| r.first().map(|c| c.to_string()).as_deref() == Some("Bank"))
+        .nth(1)
+        .map(|(i, _)| i + 1)
+        .expect("outcome table");
+    let mut row = outcome;
+    for br in &res.remedies {
+        for x in &br.results {
+            assert_eq!(text(&rem, row, 0), br.bank);
+            assert_eq!(text(&rem, row, 2), x.option.name);
+            assert_eq!(num(&rem, row, 7), x.after.resonant as f64);
+            assert_eq!(num(&rem, row, 8), x.after.limits_exceeded as f64);
+            assert_eq!(num(&rem, row, 9), x.after.duty_exceeded as f64);
+            assert_eq!(text(&rem, row, 14), x.verdict());
             row += 1;
         }
     }

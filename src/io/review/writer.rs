@@ -50,15 +50,96 @@ pub fn header_format() -> Format {
 /// the header row repeated.
 pub fn header(ws: &mut Worksheet, row: u32, headers: &[(&str, f64)]) -> Result<(), XlsxError> {
     let f = header_format();
+    let mut lines: f64 = 1.0;
     for (c, (h, w)) in headers.iter().enumerate() {
         ws.write_string_with_format(row, c as u16, *h, &f)?;
         ws.set_column_width(c as u16, *w)?;
+        lines = lines.max(wrapped_lines(h, *w, true));
     }
+    // A spreadsheet does not grow a row written from a file: the header's wrapped lines
+    // get their height, or a printout loses the first lines of a long header.
+    ws.set_row_height(row, LINE_POINTS * lines + 2.0)?;
     ws.set_landscape();
     ws.set_print_fit_to_pages(1, 0);
     ws.set_repeat_rows(row, row)?;
     ws.set_freeze_panes(row + 1, 0)?;
     Ok(())
+}
+
+/// Rows a long table prints: the rest stay on the sheet, hidden.
+pub const PRINTED_ROWS: usize = 45;
+
+/// Keeps a long table's printout to [`PRINTED_ROWS`] rows: the flagged rows first, then the
+/// most severe (`keys[i]` = (flagged, severity) of the table's row `first + i`); the other
+/// rows are hidden, not removed (every row and formula stays on the sheet for the audit).
+/// The page header says how many rows print and how to see the rest; an autofilter on
+/// the header row (`first - 1`, columns `0..=last_col`) lets the reviewer sort and filter.
+pub fn print_digest(
+    ws: &mut Worksheet,
+    first: u32,
+    last_col: u16,
+    keys: &[(bool, f64)],
+    what: &str,
+) -> Result<(), XlsxError> {
+    if keys.is_empty() {
+        return Ok(());
+    }
+    ws.autofilter(
+        first.saturating_sub(1),
+        0,
+        first + keys.len() as u32 - 1,
+        last_col,
+    )?;
+    if keys.len() <= PRINTED_ROWS {
+        return Ok(());
+    }
+    let mut order: Vec<usize> = (0..keys.len()).collect();
+    order.sort_by(|&a, &b| {
+        keys[b]
+            .0
+            .cmp(&keys[a].0)
+            .then(keys[b].1.total_cmp(&keys[a].1))
+            .then(a.cmp(&b))
+    });
+    let flagged = keys.iter().filter(|k| k.0).count();
+    for &i in &order[PRINTED_ROWS..] {
+        ws.set_row_hidden(first + i as u32)?;
+    }
+    ws.set_header(format!(
+        "&L{what}: {PRINTED_ROWS} of {} rows printed ({flagged} flagged): the flagged, then the most severe, in table order; every row is on the sheet (unhide rows to see them all)&R&P / &N",
+        keys.len()
+    ));
+    Ok(())
+}
+
+/// Height of one line of 11-point text, points.
+pub const LINE_POINTS: f64 = 15.0;
+
+/// The lines `text` takes when wrapped at word boundaries in a column `width` characters
+/// wide (a word longer than the line is broken, as a spreadsheet does). Bold text is
+/// taken 12 % wider; a width unit is about one digit of the default font (an estimate that
+/// errs towards one more line).
+pub fn wrapped_lines(text: &str, width: f64, bold: bool) -> f64 {
+    let per_line = ((width * if bold { 0.85 } else { 1.0 }).floor() as usize).max(1);
+    let mut lines = 0usize;
+    for paragraph in text.split('\n') {
+        let mut used = 0usize;
+        lines += 1;
+        for word in paragraph.split_whitespace() {
+            let len = word.chars().count();
+            let need = if used == 0 { len } else { used + 1 + len };
+            if need <= per_line {
+                used = need;
+            } else {
+                if used > 0 {
+                    lines += 1;
+                }
+                lines += (len.saturating_sub(1)) / per_line;
+                used = (len - 1) % per_line + 1;
+            }
+        }
+    }
+    lines.max(1) as f64
 }
 
 /// Writes one row of cells.

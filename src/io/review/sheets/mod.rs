@@ -4,6 +4,7 @@ mod front;
 mod input;
 mod operating;
 mod results;
+mod scan;
 mod switching;
 
 use rust_xlsxwriter::{
@@ -72,7 +73,7 @@ pub fn write_all(
     input::input(wb.add_worksheet().set_name("Input")?, res, prov)?;
     operating::operating(wb.add_worksheet().set_name("Operating point")?, res)?;
     results::resonance(wb.add_worksheet().set_name("Resonance")?, res)?;
-    let charts = results::scan(wb.add_worksheet().set_name("Scan")?, res)?;
+    let charts = scan::scan(wb.add_worksheet().set_name("Scan")?, res)?;
     results::distortion(wb.add_worksheet().set_name("Distortion")?, res)?;
     results::duty(wb.add_worksheet().set_name("Duty")?, res)?;
     results::remedies(wb.add_worksheet().set_name("Remedies")?, res)?;
@@ -94,10 +95,7 @@ pub fn write_all(
         "Cautions",
         &cautions,
     )?;
-    for (name, chart) in charts {
-        let cs = wb.add_chartsheet().set_name(&name)?;
-        cs.insert_chart(0, 0, &chart)?;
-    }
+    scan::charts_sheet(wb.add_worksheet().set_name("Charts")?, charts)?;
     Ok(())
 }
 
@@ -124,10 +122,22 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
         crate::report::switching_scope().to_string(),
         "Remedies: each option sized to keep the planned kvar at bus voltage, the next standard capacitor rating at or above U/(1−p); studies re-run over every configuration in which the bank is energized; ranked by the bank's own checks (resonance, tolerance band, duty, linearity), then capacitor voltage class, margin across the tolerance band, linearity headroom, reactor size; plant-wide limits shown, not ranked; linearity current 1.8 × I₁ (common practice).".into(),
     ];
+    // One line per spectrum, naming the loads that use it.
+    let mut spectra: Vec<(String, String, Vec<String>)> = Vec::new();
     for s in &res.penetration.injections.spectra {
+        match spectra
+            .iter_mut()
+            .find(|(name, source, _)| *name == s.name && *source == s.source)
+        {
+            Some(e) => e.2.push(s.load.clone()),
+            None => spectra.push((s.name.clone(), s.source.to_string(), vec![s.load.clone()])),
+        }
+    }
+    for (name, source, loads) in spectra {
+        let which = if loads.len() == 1 { "Load" } else { "Loads" };
         a.push(format!(
-            "Load {}: spectrum {} ({}).",
-            s.load, s.name, s.source
+            "Spectrum {name} ({source}): {which} {}.",
+            loads.join(", ")
         ));
     }
     a.extend(res.notes.iter().cloned());
@@ -156,9 +166,9 @@ fn sources(ws: &mut Worksheet) -> Result<(), XlsxError> {
         // this way): about one character per width unit, 15 points a line.
         let lines = [(*what, 60.0), (*source, 45.0), (*confidence, 25.0)]
             .iter()
-            .map(|(t, w)| (t.chars().count() as f64 / (w * 0.95)).ceil().max(1.0))
+            .map(|(t, w)| super::writer::wrapped_lines(t, *w, false))
             .fold(1.0, f64::max);
-        ws.set_row_height(r, 15.0 * lines)?;
+        ws.set_row_height(r, super::writer::LINE_POINTS * lines)?;
     }
     ws.set_column_width(0, 60)?;
     ws.set_column_width(1, 45)?;
@@ -168,13 +178,22 @@ fn sources(ws: &mut Worksheet) -> Result<(), XlsxError> {
     Ok(())
 }
 
+/// A numbered list of sentences, wrapped in a column that prints at full size.
 fn text_sheet(ws: &mut Worksheet, title: &str, lines: &[String]) -> Result<(), XlsxError> {
     ws.write_string_with_format(0, 0, title, &Format::new().set_bold().set_font_size(14))?;
-    let wrap = Format::new().set_text_wrap();
+    let top = rust_xlsxwriter::FormatAlign::Top;
+    let wrap = Format::new().set_text_wrap().set_align(top);
+    let number = Format::new().set_align(top);
+    const WIDTH: f64 = 100.0;
     for (i, l) in lines.iter().enumerate() {
-        ws.write_string_with_format(i as u32 + 2, 0, l, &wrap)?;
+        let r = i as u32 + 2;
+        ws.write_string_with_format(r, 0, format!("{}.", i + 1), &number)?;
+        ws.write_string_with_format(r, 1, l, &wrap)?;
+        let h = super::writer::LINE_POINTS * super::writer::wrapped_lines(l, WIDTH, false) + 3.0;
+        ws.set_row_height(r, h)?;
     }
-    ws.set_column_width(0, 120)?;
+    ws.set_column_width(0, 4)?;
+    ws.set_column_width(1, WIDTH)?;
     ws.set_landscape();
     ws.set_print_fit_to_pages(1, 0);
     Ok(())

@@ -5,7 +5,7 @@
 
 use rust_xlsxwriter::{Format, Worksheet, XlsxError, utility::row_col_to_cell};
 
-use super::super::writer::{Cell, header, n, on, row, t};
+use super::super::writer::{Cell, header, n, on, print_digest, row, t};
 use super::verdict_colours;
 use crate::check::CheckResults;
 
@@ -83,6 +83,17 @@ pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
         )?;
         r += 1;
     }
+    let keys: Vec<(bool, f64)> = op
+        .points
+        .iter()
+        .map(|p| {
+            (
+                p.flagged(),
+                (p.max_v_pu - 1.0).abs().max((p.min_v_pu - 1.0).abs()),
+            )
+        })
+        .collect();
+    print_digest(ws, 1, 13, &keys, "Operating point")?;
     verdict_colours(ws, 1, r.saturating_sub(1), 13)?;
     r += 1;
     ws.write_string_with_format(

@@ -1,11 +1,9 @@
-//! The study sheets: resonance (hand checks as live formulas), scan table and charts,
-//! distortion, duty, remedies and switching.
+//! The study sheets: resonance (hand checks as live formulas), distortion, duty and
+//! remedies.
 
-use rust_xlsxwriter::{
-    Chart, ChartMarker, ChartMarkerType, ChartType, Worksheet, XlsxError, utility::row_col_to_cell,
-};
+use rust_xlsxwriter::{Worksheet, XlsxError, utility::row_col_to_cell};
 
-use super::super::writer::{Cell, header, n, on, row, t};
+use super::super::writer::{Cell, header, n, on, print_digest, row, t};
 use super::verdict_colours;
 use crate::check::CheckResults;
 
@@ -92,138 +90,19 @@ pub(super) fn resonance(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
             ],
         )?;
     }
+    let keys: Vec<(bool, f64)> = res
+        .resonance
+        .rows
+        .iter()
+        .map(|r| {
+            (
+                r.verdict == crate::study::resonance::Verdict::Resonant,
+                -r.margin_percent.map_or(f64::INFINITY, f64::abs),
+            )
+        })
+        .collect();
+    print_digest(ws, 1, 19, &keys, "Resonance")?;
     verdict_colours(ws, 1, res.resonance.rows.len() as u32, 19)
-}
-
-/// Most curves drawn per bank bus.
-pub(super) const MAX_CURVES: usize = 12;
-
-/// The scan table (first scenario) and one chart per bank bus: the configurations with
-/// only that bank energized, step by step, and no banks, characteristic orders marked.
-pub(super) fn scan(
-    ws: &mut Worksheet,
-    res: &CheckResults,
-) -> Result<Vec<(String, Chart)>, XlsxError> {
-    let orders = &res.scan.grid.orders;
-    let scenario = 0;
-    let mut columns: Vec<(String, String, Vec<f64>)> = Vec::new();
-    let mut groups: Vec<(String, std::ops::Range<usize>)> = Vec::new();
-    let none = res.scan.configurations.iter().position(|c| c.is_none());
-    for (b, bank) in res.network.banks.iter().enumerate() {
-        let Some(sb) = res.scan.buses.iter().position(|&x| x == bank.bus) else {
-            continue;
-        };
-        let bus = res.network.buses[bank.bus].id.clone();
-        if groups.iter().any(|g| g.0 == bus) {
-            continue;
-        }
-        let mut picks: Vec<usize> = none.into_iter().collect();
-        for (c, cfg) in res.scan.configurations.iter().enumerate() {
-            let only = cfg.steps.iter().enumerate().all(|(j, &s)| j == b || s == 0);
-            if only && cfg.steps[b] > 0 && picks.len() < MAX_CURVES {
-                picks.push(c);
-            }
-        }
-        let start = columns.len();
-        for &c in &picks {
-            if let Some(curve) = res.scan.curve(scenario, c, sb) {
-                columns.push((
-                    bus.clone(),
-                    res.label(c),
-                    curve.iter().map(|z| z.norm()).collect(),
-                ));
-            }
-        }
-        // Where the bank has a zero-sequence path, its zero-sequence scan beside.
-        if let Some(z) = &res.zero_scan
-            && bank.connection.has_zero_path()
-            && let Some(zb) = z.buses.iter().position(|&x| x == bank.bus)
-        {
-            for &c in &picks {
-                if let Some(curve) = res
-                    .zero_map
-                    .get(c)
-                    .and_then(|&zc| z.curve(scenario, zc, zb))
-                {
-                    columns.push((
-                        bus.clone(),
-                        format!("{} zero seq", res.label(c)),
-                        curve.iter().map(|z| z.norm()).collect(),
-                    ));
-                }
-            }
-        }
-        groups.push((bus, start..columns.len()));
-    }
-    let mut heads: Vec<(String, f64)> =
-        vec![("Order".into(), 8.0), ("Frequency (Hz)".into(), 10.0)];
-    heads.extend(
-        columns
-            .iter()
-            .map(|(bus, label, _)| (format!("|Z| {bus} {label} (ohm)"), 14.0)),
-    );
-    let head_refs: Vec<(&str, f64)> = heads.iter().map(|(h, w)| (h.as_str(), *w)).collect();
-    header(ws, 0, &head_refs)?;
-    let f = res.plant.study.frequency_hz;
-    for (i, &h) in orders.iter().enumerate() {
-        let mut cells = vec![n(h, "0.00"), n(h * f, "0.0")];
-        cells.extend(columns.iter().map(|c| n(c.2[i], "0.00000")));
-        row(ws, i as u32 + 1, &cells)?;
-    }
-    // Characteristic orders for the marker series, at the right of the table.
-    let mark_col = (columns.len() + 3) as u16;
-    ws.write_string(0, mark_col, "Characteristic order")?;
-    ws.write_string(0, mark_col + 1, "Marker height (ohm)")?;
-    let chars: Vec<f64> = res.resonance.characteristic_orders.clone();
-    let last = orders.len() as u32;
-    let mut charts = Vec::new();
-    for (g, (bus, range)) in groups.iter().enumerate() {
-        let top = columns[range.clone()]
-            .iter()
-            .flat_map(|c| c.2.iter().copied())
-            .fold(0.0, f64::max);
-        let mc = mark_col + 2 * g as u16;
-        if g > 0 {
-            ws.write_string(0, mc, "Characteristic order")?;
-            ws.write_string(0, mc + 1, "Marker height (ohm)")?;
-        }
-        for (i, &h) in chars.iter().enumerate() {
-            ws.write_number(i as u32 + 1, mc, h)?;
-            ws.write_number(i as u32 + 1, mc + 1, top)?;
-        }
-        let mut chart = Chart::new(ChartType::ScatterStraight);
-        chart.title().set_name(&format!(
-            "Driving-point impedance at {bus}, scenario {}",
-            res.scan.scenarios[scenario]
-        ));
-        chart.x_axis().set_name("Harmonic order");
-        chart.y_axis().set_name("|Z| (ohm)");
-        for (k, col) in range.clone().enumerate() {
-            let c = (col + 2) as u16;
-            chart
-                .add_series()
-                .set_name(&columns[col].1)
-                .set_categories(("Scan", 1, 0, last, 0))
-                .set_values(("Scan", 1, c, last, c));
-            let _ = k;
-        }
-        if !chars.is_empty() {
-            chart
-                .add_series()
-                .set_name("characteristic orders")
-                .set_categories(("Scan", 1, mc, chars.len() as u32, mc))
-                .set_values(("Scan", 1, mc + 1, chars.len() as u32, mc + 1))
-                .set_marker(ChartMarker::new().set_type(ChartMarkerType::Triangle))
-                .set_format(rust_xlsxwriter::ChartFormat::new().set_no_line());
-        }
-        let name: String = format!("Chart {bus}")
-            .chars()
-            .filter(|c| !"[]:*?/\\".contains(*c))
-            .take(31)
-            .collect();
-        charts.push((name, chart));
-    }
-    Ok(charts)
 }
 
 pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
@@ -284,6 +163,25 @@ pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), X
             ],
         )?;
     }
+    let ratio = |c: &crate::study::limits::Checked| c.limit.map_or(0.0, |l| c.value / l);
+    let keys: Vec<(bool, f64)> = res
+        .limit_rows
+        .iter()
+        .map(|r| {
+            let worst = [
+                Some(&r.worst_thd),
+                r.worst_individual.as_ref(),
+                Some(&r.tdd),
+                r.worst_pcc_current.as_ref(),
+            ]
+            .into_iter()
+            .flatten()
+            .map(ratio)
+            .fold(0.0, f64::max);
+            (r.exceeds, worst)
+        })
+        .collect();
+    print_digest(ws, 1, 17, &keys, "Distortion")?;
     verdict_colours(ws, 1, res.limit_rows.len() as u32, 17)
 }
 
@@ -332,6 +230,24 @@ pub(super) fn duty(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxErr
             ],
         )?;
     }
+    let keys: Vec<(bool, f64)> = res
+        .duty
+        .iter()
+        .map(|d| {
+            let l = &d.limits;
+            let worst = [
+                Some(d.ratios.rms_voltage / l.rms_voltage),
+                l.peak_voltage.map(|x| d.ratios.peak_voltage / x),
+                Some(d.ratios.rms_current / l.rms_current),
+                l.kvar.map(|x| d.ratios.kvar / x),
+            ]
+            .into_iter()
+            .flatten()
+            .fold(0.0, f64::max);
+            (d.exceeds, worst)
+        })
+        .collect();
+    print_digest(ws, 1, 13, &keys, "Duty")?;
     verdict_colours(ws, 1, res.duty.len() as u32, 13)?;
     if !res.background.is_empty() {
         let top = res.duty.len() as u32 + 2;
@@ -373,43 +289,38 @@ pub(super) fn duty(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxErr
     Ok(())
 }
 
+/// The remedies in two tables that print at full width: what each option is (sizing, one
+/// row per option) and, below, what it does (the studies re-run with it in place); the
+/// bank's figures before any remedy on a line of their own.
 pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
+    const W: f64 = 8.5;
     header(
         ws,
         0,
         &[
-            ("Bank", 8.0),
+            ("Bank", 7.0),
             ("Rank", 5.0),
-            ("Option", 26.0),
-            ("p (%)", 7.0),
-            ("Tuning order", 8.0),
-            ("L per step (mH)", 9.0),
-            ("XL (ohm)", 9.0),
-            ("Capacitor voltage needed (V)", 10.0),
-            ("Capacitor rating (V)", 9.0),
-            ("kvar to buy per step", 10.0),
-            ("Effective kvar (bank)", 10.0),
-            ("I1 per step (A)", 9.0),
-            ("Linearity current (A)", 9.0),
-            ("Irms per step after (A)", 9.0),
-            ("Peak current / linearity peak after", 10.0),
-            ("Resonance after low h", 9.0),
-            ("Resonance after high h", 9.0),
-            ("Resonant rows before", 9.0),
-            ("after", 7.0),
-            ("Limit rows over before", 9.0),
-            ("after", 7.0),
-            ("Duty rows over before", 9.0),
-            ("after", 7.0),
-            ("Worst THD before (%)", 9.0),
-            ("after", 7.0),
-            ("Worst TDD before (%)", 9.0),
-            ("after", 7.0),
-            ("Margin across tolerance after (%)", 9.0),
-            ("Tolerance bands flagged after", 8.0),
-            ("Result", 12.0),
+            ("Option", 24.0),
+            ("p (%)", W),
+            ("Tuning order", W),
+            ("L per step (mH)", W),
+            ("XL (ohm)", W),
+            ("Capacitor voltage needed (V)", W),
+            ("Capacitor rating (V)", W),
+            ("kvar to buy per step", W),
+            ("Effective kvar (bank)", W),
+            ("I1 per step (A)", W),
+            ("Linearity current (A)", W),
         ],
     )?;
+    if res.remedies.is_empty() {
+        ws.write_string(
+            1,
+            0,
+            "No remedy studied (no bank flagged, or remedies not asked for: see Assumptions).",
+        )?;
+        return Ok(());
+    }
     let mut r = 1;
     for br in &res.remedies {
         for x in &br.results {
@@ -431,19 +342,71 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
                     n(x.option.effective_kvar, "0.0"),
                     n(s.i1_a, "0.0"),
                     n(s.linearity_a, "0.0"),
+                ],
+            )?;
+            r += 1;
+        }
+    }
+    r += 1;
+    let bold = rust_xlsxwriter::Format::new().set_bold();
+    for br in &res.remedies {
+        if let Some(b) = br.results.first().map(|x| &x.before) {
+            ws.write_string_with_format(
+                r,
+                0,
+                format!(
+                    "Bank {} before any remedy: {} resonant row(s), {} scenario-configuration row(s) over a harmonic limit, {} duty row(s) over, worst THD {:.2} %, worst TDD {:.2} %.",
+                    br.bank, b.resonant, b.limits_exceeded, b.duty_exceeded, b.worst_thd_percent, b.worst_tdd_percent
+                ),
+                &bold,
+            )?;
+            r += 1;
+        }
+    }
+    r += 1;
+    header(
+        ws,
+        r,
+        &[
+            ("Bank", 7.0),
+            ("Rank", 5.0),
+            ("Option", 24.0),
+            ("Irms per step after (A)", W),
+            ("Peak current / linearity peak after", W),
+            ("Resonance after low h", W),
+            ("Resonance after high h", W),
+            ("Resonant rows after", W),
+            ("Limit rows over after", W),
+            ("Duty rows over after", W),
+            ("Worst THD after (%)", W),
+            ("Worst TDD after (%)", W),
+            ("Margin across tolerance after (%)", W),
+            ("Tolerance bands flagged after", W),
+            ("Result", 9.0),
+        ],
+    )?;
+    // The sizing table's header repeats on every printed page; the outcome table is short.
+    ws.set_repeat_rows(0, 0)?;
+    ws.set_freeze_panes(1, 0)?;
+    let first = r + 1;
+    r += 1;
+    for br in &res.remedies {
+        for x in &br.results {
+            row(
+                ws,
+                r,
+                &[
+                    t(&br.bank),
+                    n(x.rank as f64, "0"),
+                    t(&x.option.name),
                     on(x.step_rms_a, "0.0"),
                     on(x.linearity_ratio, "0.00"),
                     on(x.resonance_after.map(|r| r.0), "0.000"),
                     on(x.resonance_after.map(|r| r.1), "0.000"),
-                    n(x.before.resonant as f64, "0"),
                     n(x.after.resonant as f64, "0"),
-                    n(x.before.limits_exceeded as f64, "0"),
                     n(x.after.limits_exceeded as f64, "0"),
-                    n(x.before.duty_exceeded as f64, "0"),
                     n(x.after.duty_exceeded as f64, "0"),
-                    n(x.before.worst_thd_percent, "0.00"),
                     n(x.after.worst_thd_percent, "0.00"),
-                    n(x.before.worst_tdd_percent, "0.00"),
                     n(x.after.worst_tdd_percent, "0.00"),
                     on(x.after.margin_percent, "0.0"),
                     n(x.after.tolerance_flagged as f64, "0"),
@@ -453,12 +416,5 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
             r += 1;
         }
     }
-    if res.remedies.is_empty() {
-        ws.write_string(
-            1,
-            0,
-            "No remedy studied (no bank flagged, or remedies not asked for: see Assumptions).",
-        )?;
-    }
-    verdict_colours(ws, 1, r.saturating_sub(1), 29)
+    verdict_colours(ws, first, r.saturating_sub(1), 14)
 }

@@ -1,0 +1,123 @@
+//! The review as a reviewer reads it: each bundled case's review printed to PDF by
+//! LibreOffice (when installed; CI installs it), its page count under the target, and
+//! every assumption and caution sentence present whole in the PDF's text.
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use calamine::{Reader, Xlsx, open_workbook};
+
+use crate::common::{external_tool, output_within};
+
+/// Page target for a bundled case's printed review (the goal: under 25 pages).
+const MAX_PAGES: usize = 24;
+
+/// The sentences of a text sheet (column B, from row 3), as written.
+fn sentences(review: &Path, sheet: &str) -> Vec<String> {
+    let mut wb: Xlsx<_> = open_workbook(review).unwrap();
+    let r = wb.worksheet_range(sheet).unwrap();
+    r.rows()
+        .skip(2)
+        .filter_map(|row| row.get(1).map(|c| c.to_string()))
+        .filter(|s| !s.is_empty())
+        .collect()
+}
+
+/// Whitespace runs to one space, so a sentence wrapped over lines compares whole; hyphens
+/// dropped, as pdftotext joins a word broken at a line's end hyphen ("plant-" + "wide").
+fn squash(s: &str) -> String {
+    s.split_whitespace()
+        .collect::<Vec<_>>()
+        .join(" ")
+        .replace('-', "")
+}
+
+#[test]
+fn printed_reviews_are_short_and_print_every_sentence_whole() {
+    if !external_tool("soffice", "the review printed to PDF")
+        || !external_tool("pdftotext", "the printed review's text")
+    {
+        return;
+    }
+    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    let dir = std::env::temp_dir().join(format!("overtone-printed-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let cases = ["bottling-plant", "food-plant", "water-plant", "large-site"];
+    let mut reviews = Vec::new();
+    for case in cases {
+        let review = dir.join(format!("{case}.xlsx"));
+        let out = output_within(
+            Command::new(env!("CARGO_BIN_EXE_overtone"))
+                .arg("check")
+                .arg(root.join("cases").join(format!("{case}.xlsx")))
+                .arg("-o")
+                .arg(&review)
+                .arg("--quiet"),
+            600,
+        );
+        assert!(
+            out.status.success(),
+            "{case}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        reviews.push(review);
+    }
+    let out = output_within(
+        Command::new("soffice")
+            .arg("--headless")
+            .arg("--norestore")
+            .arg(format!(
+                "-env:UserInstallation=file://{}",
+                dir.join("profile").display()
+            ))
+            .arg("--convert-to")
+            .arg("pdf")
+            .arg("--outdir")
+            .arg(&dir)
+            .args(&reviews),
+        900,
+    );
+    for (case, review) in cases.iter().zip(&reviews) {
+        let pdf = review.with_extension("pdf");
+        assert!(
+            pdf.exists(),
+            "{case}: no PDF: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let txt = review.with_extension("txt");
+        output_within(Command::new("pdftotext").arg(&pdf).arg(&txt), 120);
+        let text = std::fs::read_to_string(&txt).unwrap();
+        // pdftotext ends every page with a form feed.
+        let pages = text.matches('\u{c}').count();
+        assert!(
+            (2..=MAX_PAGES).contains(&pages),
+            "{case}: {pages} printed pages (target at most {MAX_PAGES})"
+        );
+        let flat = squash(&text);
+        for sheet in ["Assumptions", "Cautions"] {
+            let lines = sentences(review, sheet);
+            assert!(
+                lines.len() >= 2,
+                "{case}: {sheet} has {} lines",
+                lines.len()
+            );
+            for s in lines {
+                assert!(
+                    flat.contains(&squash(&s)),
+                    "{case}: this {sheet} line is not whole in the PDF: {s}"
+                );
+            }
+        }
+        // The scan data do not print; the charts and the study sheets do.
+        assert!(!flat.contains("Marker height"), "{case}: scan data printed");
+        assert!(
+            flat.contains(&squash("Driving-point impedance at")),
+            "{case}: no chart"
+        );
+        assert!(
+            flat.contains(&squash("Reviewer sign-off")),
+            "{case}: no summary"
+        );
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
