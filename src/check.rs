@@ -359,9 +359,11 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         ));
     }
     if limits.i_l_estimated {
+        let (_, before_kva, after_kva) =
+            crate::study::limits::estimated_demand_a(plant, network.buses[pcc].kv);
         notes.push(format!(
-            "I_L estimated from the Loads sheet: {:.1} A at the PCC (sum of P/pf at the study point, no diversity); give \"Max demand current (A)\" on the Study sheet",
-            limits.i_l_a
+            "I_L ESTIMATED from the Loads sheet: {:.1} A at the PCC, the demand after correction ({after_kva:.0} kVA: the loads' P at the study point at the better of the target PF {} and their own; {before_kva:.0} kVA before correction; no diversity); give \"Max demand current (A)\" on the Study sheet (IEEE 519-2014 takes the average of the 12 monthly maximum demands)",
+            limits.i_l_a, plant.study.target_power_factor
         ));
     }
     if let Some(first) = operating.collapsed.first() {

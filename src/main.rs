@@ -209,7 +209,13 @@ const DEMO_DATE: (u16, u8, u8) = (2026, 1, 1);
 fn warn(warnings: &[overtone::io::workbook_in::Warning]) {
     let mut err = io::stderr().lock();
     for w in warnings {
-        let _ = writeln!(err, "warning: {w}");
+        let _ = overtone::report::table::write_hanging(
+            &mut err,
+            "warning: ",
+            "  ",
+            &w.to_string(),
+            100,
+        );
     }
 }
 

@@ -18,11 +18,16 @@ fn ratio(v: f64, limit: Option<f64>) -> String {
 pub fn write_duty(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     let source = res.duty.first().map_or("IEEE 18-2012", |r| r.limits.source);
     let exceeding: Vec<&DutyRow> = res.duty.iter().filter(|r| r.exceeds).collect();
-    writeln!(
+    super::table::write_hanging(
         out,
-        "Capacitor duty at the capacitor terminals ({source}), % of rated / limit: {} of {} bank rows exceed",
-        exceeding.len(),
-        res.duty.len()
+        "",
+        "  ",
+        &format!(
+            "Capacitor duty at the capacitor terminals ({source}), % of rated / limit: {} of {} bank rows exceed",
+            exceeding.len(),
+            res.duty.len()
+        ),
+        100,
     )?;
     let shown: Vec<&DutyRow> = if res.duty.len() <= MAX_ROWS_PER_SCENARIO {
         res.duty.iter().collect()
@@ -80,12 +85,17 @@ pub fn write_duty(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
 pub fn write_tolerance(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     let t = res.plant.study.capacitance_tolerance;
     let flagged: Vec<_> = res.tolerance.iter().filter(|b| b.flagged).collect();
-    writeln!(
+    super::table::write_hanging(
         out,
-        "Resonance across capacitance tolerance {}/+{} % and the scenarios: {} band(s) reach the margin of a characteristic order that the nominal value clears",
-        t.minus_percent,
-        t.plus_percent,
-        flagged.len()
+        "",
+        "  ",
+        &format!(
+            "Resonance across capacitance tolerance {}/+{} % and the scenarios: {} band(s) reach the margin of a characteristic order that the nominal value clears",
+            t.minus_percent,
+            t.plus_percent,
+            flagged.len()
+        ),
+        100,
     )?;
     for b in flagged.iter().take(MAX_ROWS_PER_SCENARIO) {
         writeln!(
@@ -180,54 +190,74 @@ pub fn write_transients(out: &mut dyn Write, res: &CheckResults) -> io::Result<(
         )?;
     }
     for e in sw.events.iter().filter(|e| e.inrush_exceeds) {
-        writeln!(
+        super::table::write_hanging(
             out,
-            "  {} step {} ({}): {:.0} A over the switch's {:.0} A; {}",
-            e.bank,
-            e.step,
-            e.scenario,
-            e.peak_a,
-            e.inrush_limit_a.unwrap_or(0.0),
-            e.needed_inrush_uh.map_or_else(
-                || "no inrush inductance up to 10 mH brings it under".to_string(),
-                |uh| format!("an inrush inductance of {uh:.0} uH per step brings it under"),
-            )
+            "  ",
+            "    ",
+            &format!(
+                "{} step {} ({}): {:.0} A over the switch's {:.0} A; {}",
+                e.bank,
+                e.step,
+                e.scenario,
+                e.peak_a,
+                e.inrush_limit_a.unwrap_or(0.0),
+                e.needed_inrush_uh.map_or_else(
+                    || "no inrush inductance up to 10 mH brings it under".to_string(),
+                    |uh| format!("an inrush inductance of {uh:.0} uH per step brings it under"),
+                )
+            ),
+            100,
         )?;
     }
     Ok(())
 }
 
-/// Remedies for each flagged bank, ranked, with the studies before and after.
+/// Remedies for each flagged bank, ranked, with the studies before and after: one table
+/// of what each option is (what to buy) and one of what it does (the re-run).
 pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     if res.remedies.is_empty() {
         return Ok(());
     }
-    writeln!(
+    super::table::write_hanging(
         out,
-        "Remedies, re-run over every configuration with the bank on. Ranked: the bank's own checks\n  pass (resonance, tolerance band, duty, reactor linearity), then the lowest capacitor\n  voltage class, the widest margin to a characteristic order across the tolerance band,\n  linearity headroom, reactor size. Plant-wide limits are shown, not ranked. pk/lin = step peak current\n  (background included) over the reactor's linearity peak; margin % across the band"
+        "",
+        "  ",
+        "Remedies, re-run over every configuration with the bank on. Ranked: the bank's own checks pass (resonance, tolerance band, duty, reactor linearity), then the lowest capacitor voltage class, the widest margin to a characteristic order across the tolerance band, linearity headroom, reactor size. Plant-wide limits are shown, not ranked. pk/lin: step peak current (background included) over the reactor's linearity peak; margin % across the band; res, duty: rows flagged after.",
+        100,
     )?;
+    let dash = || "-".to_string();
     for br in &res.remedies {
         writeln!(out)?;
-        writeln!(
+        super::table::write_hanging(
             out,
-            "Bank {}: {}; {} configuration(s) compared",
-            br.bank,
-            br.reason,
-            br.configurations.len()
+            "",
+            "  ",
+            &format!(
+                "Bank {}: {}; {} configuration(s) compared",
+                br.bank,
+                br.reason,
+                br.configurations.len()
+            ),
+            100,
         )?;
         if let Some(first) = br.results.first() {
             let b = &first.before;
-            writeln!(
+            super::table::write_hanging(
                 out,
-                "  before: {} resonant row(s), {} scenario-configuration row(s) over a harmonic limit, {} duty row(s) over, worst THD {:.2} %, worst TDD {:.2} %",
-                b.resonant,
-                b.limits_exceeded,
-                b.duty_exceeded,
-                b.worst_thd_percent,
-                b.worst_tdd_percent
+                "  before: ",
+                "    ",
+                &format!(
+                    "{} resonant row(s), {} scenario-configuration row(s) over a harmonic limit, {} duty row(s) over, worst THD {:.2} %, worst TDD {:.2} %",
+                    b.resonant,
+                    b.limits_exceeded,
+                    b.duty_exceeded,
+                    b.worst_thd_percent,
+                    b.worst_tdd_percent
+                ),
+                100,
             )?;
         }
-        let rows: Vec<Vec<String>> = br
+        let what: Vec<Vec<String>> = br
             .results
             .iter()
             .map(|r| {
@@ -244,20 +274,6 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
                     ),
                     format!("{:.0}", r.option.effective_kvar),
                     format!("{:.1}/{:.1}", s.i1_a, s.linearity_a),
-                    r.step_rms_a
-                        .map_or_else(|| "-".to_string(), |v| format!("{v:.1}")),
-                    r.linearity_ratio
-                        .map_or_else(|| "-".to_string(), |v| format!("{v:.2}")),
-                    r.resonance_after
-                        .map_or_else(|| "-".to_string(), |(lo, hi)| format!("{lo:.2}-{hi:.2}")),
-                    format!("{}", r.after.resonant),
-                    format!("{:.2}", r.after.worst_thd_percent),
-                    format!("{:.2}", r.after.worst_tdd_percent),
-                    format!("{}", r.after.duty_exceeded),
-                    r.after
-                        .margin_percent
-                        .map_or_else(|| "-".to_string(), |m| format!("{m:.1}")),
-                    r.verdict().to_string(),
                 ]
             })
             .collect();
@@ -271,18 +287,48 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
                 "capacitor/step",
                 "kvar",
                 "I1/lin A",
+            ],
+            &[1, 4],
+            &what,
+        )?;
+        let does: Vec<Vec<String>> = br
+            .results
+            .iter()
+            .map(|r| {
+                vec![
+                    r.rank.to_string(),
+                    r.step_rms_a.map_or_else(dash, |v| format!("{v:.1}")),
+                    r.linearity_ratio.map_or_else(dash, |v| format!("{v:.2}")),
+                    r.resonance_after
+                        .map_or_else(dash, |(lo, hi)| format!("{lo:.2}-{hi:.2}")),
+                    format!("{}", r.after.resonant),
+                    format!("{}", r.after.duty_exceeded),
+                    r.after
+                        .margin_percent
+                        .map_or_else(dash, |m| format!("{m:.1}")),
+                    format!("{:.2}", r.after.worst_thd_percent),
+                    format!("{:.2}", r.after.worst_tdd_percent),
+                    r.verdict().to_string(),
+                ]
+            })
+            .collect();
+        writeln!(out)?;
+        write_table(
+            out,
+            &[
+                "rank",
                 "Irms A",
                 "pk/lin",
                 "resonance after",
                 "res",
-                "THD %",
-                "TDD %",
                 "duty",
                 "margin %",
+                "THD %",
+                "TDD %",
                 "after",
             ],
-            &[1, 4, 9, 15],
-            &rows,
+            &[3, 9],
+            &does,
         )?;
     }
     Ok(())

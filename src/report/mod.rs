@@ -7,5 +7,17 @@ pub mod operating;
 pub mod sources;
 pub mod summary;
 pub mod table;
+pub mod verdict;
 
 pub use model::{model_scope, summation_meaning, switching_scope};
+
+/// The limit set's name as printed.
+pub fn limit_set_name(l: crate::model::LimitSet) -> &'static str {
+    use crate::model::LimitSet;
+    match l {
+        LimitSet::Ieee519_2014 => "IEEE 519-2014",
+        LimitSet::Iec61000_2_4Class1 => "IEC 61000-2-4 class 1",
+        LimitSet::Iec61000_2_4Class2 => "IEC 61000-2-4 class 2",
+        LimitSet::Iec61000_2_4Class3 => "IEC 61000-2-4 class 3",
+    }
+}

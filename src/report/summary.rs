@@ -22,33 +22,27 @@ fn cells(r: &ResonanceRow) -> Vec<String> {
     vec![
         r.configuration.clone(),
         r.bank.clone(),
-        r.bus.clone(),
-        r.steps.to_string(),
         format!("{:.0}", r.q_c_kvar),
         format!("{:.1}", r.s_sc_mva),
         format!("{:.2}", r.hand_order),
         fmt_opt(r.peak.map(|p| p.order), 3),
         fmt_opt(r.peak.map(|p| p.z_ohm), 4),
         fmt_opt(r.peak.map(|p| p.amplification), 2),
-        fmt_opt(r.peak.and_then(|p| p.sharpness), 1),
         fmt_opt(r.nearest_characteristic, 0),
         fmt_opt(r.margin_percent, 1),
         r.verdict_text(),
     ]
 }
 
-const HEADERS: [&str; 14] = [
+const HEADERS: [&str; 11] = [
     "configuration",
     "bank",
-    "bus",
-    "steps",
     "Qc kvar",
     "Ssc MVA",
     "hand h",
     "scan h",
     "|Z| ohm",
     "ampl",
-    "Q",
     "near h",
     "margin %",
     "verdict",
@@ -66,6 +60,8 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     if !p.study.plant.is_empty() {
         writeln!(out, "Plant: {}", p.study.plant)?;
     }
+    super::verdict::write_verdict(out, res)?;
+    writeln!(out)?;
     let study = &res.resonance;
     writeln!(
         out,
@@ -85,8 +81,7 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         .take(12)
         .map(|h| format!("{h}"))
         .collect();
-    writeln!(
-        out,
+    let chars_line = format!(
         "Characteristic orders of the loads: {}{}; resonance margin {} %",
         if chars.is_empty() {
             "none (no harmonic-producing load)".to_string()
@@ -99,7 +94,8 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
             ""
         },
         study.margin_percent
-    )?;
+    );
+    super::table::write_wrapped(out, &chars_line, 100)?;
     writeln!(
         out,
         "Model: sequence networks (3k+1 pos., 3k-1 neg., 3k zero), vector-group shifts; summation {}",
@@ -134,10 +130,6 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
             ),
             100,
         )?;
-    }
-    if let Some(sentence) = res.plant_level_limits() {
-        writeln!(out)?;
-        super::table::write_wrapped(out, &sentence, 100)?;
     }
     writeln!(out)?;
     writeln!(
@@ -189,15 +181,17 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         };
         let table: Vec<Vec<String>> = shown.iter().map(|r| cells(r)).collect();
         if !table.is_empty() {
-            write_table(out, &HEADERS, &[0, 1, 2, 13], &table)?;
+            write_table(out, &HEADERS, &[0, 1, 10], &table)?;
         }
     }
     writeln!(out)?;
-    writeln!(
+    super::table::write_wrapped(
         out,
         "hand h: sqrt(Ssc/Qc) (with a series reactor: sqrt(Xc/(Xth+XL))); scan h, |Z|: the scanned \
          parallel-resonance peak at the bank's bus nearest the hand check; ampl: |Z| / |Z| without \
-         banks at that order; Q: peak sharpness h/bandwidth; margin: (scan h - near h)/near h."
+         banks at that order; margin: (scan h - near h)/near h; the bank's bus, steps and the \
+         peak's sharpness are in --json and the review.",
+        100,
     )?;
     writeln!(out)?;
     super::operating::write_operating(out, res)?;
@@ -228,29 +222,28 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     Ok(())
 }
 
-fn pct(c: &Checked) -> String {
-    format!("{:.2}", c.value)
+/// "value/limit" with the order: `7.28/10.0 h5`; `-` without a value.
+fn of_limit(c: Option<&Checked>, order: Option<f64>) -> String {
+    let Some(c) = c else {
+        return "-".to_string();
+    };
+    let limit = c
+        .limit
+        .map_or_else(|| "-".to_string(), |l| format!("{l:.1}"));
+    match order {
+        Some(h) => format!("{:.2}/{limit} h{h}", c.value),
+        None => format!("{:.2}/{limit}", c.value),
+    }
 }
 
-fn lim(c: &Checked) -> String {
-    c.limit
-        .map_or_else(|| "-".to_string(), |l| format!("{l:.2}"))
-}
-
-const LIMIT_HEADERS: [&str; 14] = [
+const LIMIT_HEADERS: [&str; 8] = [
     "configuration",
-    "THD bus",
-    "THD %",
-    "limit",
-    "worst h (bus)",
-    "Vh %",
-    "limit",
+    "PCC THD %",
+    "PCC Vh %",
     "TDD %",
-    "limit",
-    "PCC h",
-    "Ih % IL",
-    "limit",
-    "bank V ampl",
+    "PCC Ih % IL",
+    "in-plant THD %",
+    "ampl",
     "verdict",
 ];
 
@@ -276,16 +269,21 @@ fn write_background(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
         .collect();
     writeln!(out, "  background (utility side): {}", lines.join(", "))?;
     for b in &res.background {
-        writeln!(
+        super::table::write_hanging(
             out,
-            "  bank {} ({}, {}): {:.1} A rms of its {:.1} A harmonic current from the background{}",
-            b.bank,
-            b.scenario,
-            b.configuration,
-            b.background_rms_a,
-            b.total_rms_a,
-            b.share_percent
-                .map_or_else(String::new, |p| format!(" ({p:.0} %)"))
+            "  ",
+            "    ",
+            &format!(
+                "bank {} ({}, {}): {:.1} A rms of its {:.1} A harmonic current from the background{}",
+                b.bank,
+                b.scenario,
+                b.configuration,
+                b.background_rms_a,
+                b.total_rms_a,
+                b.share_percent
+                    .map_or_else(String::new, |p| format!(" ({p:.0} %)"))
+            ),
+            100,
         )?;
     }
     Ok(())
@@ -295,28 +293,34 @@ fn write_background(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
 /// individual harmonic, the PCC TDD and worst harmonic current, each with its limit.
 pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     let ctx = &res.limits;
-    let set = match ctx.set {
-        LimitSet::Ieee519_2014 => "IEEE 519-2014",
-        LimitSet::Iec61000_2_4Class1 => "IEC 61000-2-4 class 1",
-        LimitSet::Iec61000_2_4Class2 => "IEC 61000-2-4 class 2",
-        LimitSet::Iec61000_2_4Class3 => "IEC 61000-2-4 class 3",
+    let set = super::limit_set_name(ctx.set);
+    let at = if ctx.set == LimitSet::Ieee519_2014 {
+        format!(
+            "at the PCC {}; in-plant buses informational",
+            res.network.buses[res.pcc].id
+        )
+    } else {
+        "at every bus (in-plant compatibility levels)".to_string()
     };
-    writeln!(
+    super::table::write_wrapped(
         out,
-        "Harmonic limits ({set}): I_L {:.1} A{}, Isc {:.2} kA, Isc/IL {}; {} harmonic load(s), {} injected order(s)",
-        ctx.i_l_a,
-        if ctx.i_l_estimated {
-            " (estimated)"
-        } else {
-            ""
-        },
-        ctx.isc_ka,
-        ctx.isc_over_il.map_or_else(
-            || "not defined (no demand current)".to_string(),
-            |r| format!("{r:.1}")
+        &format!(
+            "Harmonic limits ({set}, {at}): I_L {:.1} A{}, Isc {:.2} kA, Isc/IL {}; {} harmonic load(s), {} injected order(s)",
+            ctx.i_l_a,
+            if ctx.i_l_estimated {
+                " (ESTIMATED from the loads after correction)"
+            } else {
+                ""
+            },
+            ctx.isc_ka,
+            ctx.isc_over_il.map_or_else(
+                || "not defined (no demand current)".to_string(),
+                |r| format!("{r:.1}")
+            ),
+            res.penetration.injections.spectra.len(),
+            res.penetration.injections.orders.len(),
         ),
-        res.penetration.injections.spectra.len(),
-        res.penetration.injections.orders.len(),
+        100,
     )?;
     let mut used: Vec<(String, usize, f64)> = Vec::new();
     for s in &res.penetration.injections.spectra {
@@ -384,45 +388,38 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
                             .map_or_else(|| "-".to_string(), |v| format!("{v:.2}"))
                     },
                 );
+                let ieee = ctx.set == LimitSet::Ieee519_2014;
+                let in_plant = if r.worst_thd_bus == res.network.buses[res.pcc].id {
+                    "-".to_string()
+                } else {
+                    let mark = if r.in_plant_above && ieee { " *" } else { "" };
+                    format!("{:.2} {}{mark}", r.worst_thd.value, r.worst_thd_bus)
+                };
                 vec![
                     r.configuration.clone(),
-                    r.worst_thd_bus.clone(),
-                    pct(&r.worst_thd),
-                    lim(&r.worst_thd),
-                    match r.worst_individual_order {
-                        Some(h) => format!("{h} ({})", r.worst_individual_bus),
-                        None => "-".to_string(),
-                    },
-                    r.worst_individual
-                        .as_ref()
-                        .map_or_else(|| "-".to_string(), pct),
-                    r.worst_individual
-                        .as_ref()
-                        .map_or_else(|| "-".to_string(), lim),
-                    pct(&r.tdd),
-                    lim(&r.tdd),
-                    r.worst_pcc_order
-                        .map_or_else(|| "-".to_string(), |h| format!("{h}")),
-                    r.worst_pcc_current
-                        .as_ref()
-                        .map_or_else(|| "-".to_string(), pct),
-                    r.worst_pcc_current
-                        .as_ref()
-                        .map_or_else(|| "-".to_string(), lim),
+                    of_limit(Some(&r.pcc_thd), None),
+                    of_limit(r.pcc_individual.as_ref(), r.pcc_individual_order),
+                    of_limit(Some(&r.tdd), None),
+                    of_limit(r.worst_pcc_current.as_ref(), r.worst_pcc_order),
+                    in_plant,
                     ampl,
                     if r.exceeds { "EXCEEDS" } else { "meets" }.to_string(),
                 ]
             })
             .collect();
         if !table.is_empty() {
-            write_table(out, &LIMIT_HEADERS, &[0, 1, 4, 13], &table)?;
+            write_table(out, &LIMIT_HEADERS, &[0, 5, 7], &table)?;
         }
     }
     writeln!(out)?;
-    writeln!(
+    super::table::write_wrapped(
         out,
-        "THD and Vh in % of nominal voltage at the bus; TDD and Ih in % of I_L at the PCC (current into the supply); \
-         bank V ampl: the largest ratio over the banks of the voltage THD at the bank's bus to that without banks."
+        if ctx.set == LimitSet::Ieee519_2014 {
+            "value/limit; THD and Vh in % of nominal voltage, Vh the worst individual order; TDD and Ih in % of I_L (current into the supply); in-plant THD: the worst other bus; * an in-plant bus above the IEEE 519 voltage values (THD or an individual order; informational: IEEE 519 applies at the PCC); ampl: the largest ratio over the banks of the voltage THD at the bank's bus to that without banks."
+        } else {
+            "value/limit; THD and Vh in % of nominal voltage at the PCC; in-plant THD: the worst other bus (IEC 61000-2-4 limits apply there too and count in the verdict); ampl: the largest ratio over the banks of the voltage THD at the bank's bus to that without banks."
+        },
+        100,
     )
 }
 

@@ -18,6 +18,9 @@ pub fn write_table(
             *w = (*w).max(c.chars().count());
         }
     }
+    // Two spaces between columns, one where that keeps the table within 100 columns.
+    let total: usize = 2 + widths.iter().sum::<usize>() + 2 * widths.len().saturating_sub(1);
+    let gap = if total > 100 { " " } else { "  " };
     let line = |cells: &[String]| {
         cells
             .iter()
@@ -31,7 +34,7 @@ pub fn write_table(
                 }
             })
             .collect::<Vec<_>>()
-            .join("  ")
+            .join(gap)
     };
     let head: Vec<String> = headers.iter().map(|h| h.to_string()).collect();
     writeln!(out, "  {}", line(&head).trim_end())?;
@@ -56,6 +59,35 @@ pub fn write_wrapped(out: &mut dyn Write, text: &str, width: usize) -> io::Resul
         line.push_str(word);
     }
     if !line.is_empty() {
+        writeln!(out, "{line}")?;
+    }
+    Ok(())
+}
+
+/// Writes `text` wrapped to `width` columns, its first line after `first` and the others
+/// after `rest` (a hanging indent), at word boundaries.
+pub fn write_hanging(
+    out: &mut dyn Write,
+    first: &str,
+    rest: &str,
+    text: &str,
+    width: usize,
+) -> io::Result<()> {
+    let mut line = first.to_string();
+    let mut empty = true;
+    for word in text.split_whitespace() {
+        if !empty && line.chars().count() + 1 + word.chars().count() > width {
+            writeln!(out, "{line}")?;
+            line = rest.to_string();
+            empty = true;
+        }
+        if !empty {
+            line.push(' ');
+        }
+        line.push_str(word);
+        empty = false;
+    }
+    if !empty {
         writeln!(out, "{line}")?;
     }
     Ok(())

@@ -13,6 +13,8 @@ use crate::standards::{Limit, iec61000_2_4, ieee519};
 #[derive(Debug, Clone, Serialize)]
 pub struct LimitContext {
     pub set: LimitSet,
+    /// The PCC's network bus index.
+    pub pcc: usize,
     /// Maximum demand current at the PCC, A.
     pub i_l_a: f64,
     /// True when I_L was estimated from the Loads sheet (no `Max demand current (A)`).
@@ -59,17 +61,35 @@ pub fn thd_limit(set: LimitSet, kv: f64) -> Limit {
     }
 }
 
-/// Estimated maximum demand current at the PCC, A: the apparent power of every load at the
-/// study point, Σ P/pf, over √3·kV of the PCC (an upper estimate: diversity ignored).
-pub fn estimated_demand_a(plant: &Plant, pcc_kv: f64) -> f64 {
+/// Estimated maximum demand current at the PCC after power-factor correction, A: the
+/// loads' real power at the study point, P = Σ P_load (kW), at the better of the target PF
+/// and the loads' own PF √(P² + Q²) (Q = Σ P·tan φ), over √3·kV of the PCC:
+/// I_L = P / (PF_after·√3·kV). IEEE 519-2014 (clause 3.1, "maximum demand load current")
+/// takes I_L at normal operation, which after correction is the corrected demand; diversity
+/// is ignored (an upper estimate of P). Returns (I_L A, kVA before, kVA after).
+pub fn estimated_demand_a(plant: &Plant, pcc_kv: f64) -> (f64, f64, f64) {
     // `+ 0.0` turns the −0.0 of an empty sum into 0.
-    let kva: f64 = plant
+    let p_kw: f64 = plant.loads.iter().map(|l| l.p_kw()).sum::<f64>() + 0.0;
+    let q_kvar: f64 = plant
         .loads
         .iter()
-        .map(|l| l.p_kw() / l.power_factor)
+        .map(|l| {
+            l.p_kw()
+                * (1.0 / (l.power_factor * l.power_factor) - 1.0)
+                    .max(0.0)
+                    .sqrt()
+        })
         .sum::<f64>()
         + 0.0;
-    kva / (3f64.sqrt() * pcc_kv)
+    let before_kva = p_kw.hypot(q_kvar);
+    let own_pf = if before_kva > 0.0 {
+        p_kw / before_kva
+    } else {
+        1.0
+    };
+    let pf_after = own_pf.max(plant.study.target_power_factor.clamp(0.01, 1.0));
+    let after_kva = p_kw / pf_after;
+    (after_kva / (3f64.sqrt() * pcc_kv), before_kva, after_kva)
 }
 
 impl LimitContext {
@@ -80,13 +100,14 @@ impl LimitContext {
         let pcc_kv = net.buses[pcc].kv;
         let (i_l_a, i_l_estimated) = match plant.study.max_demand_current_a {
             Some(i) => (i, false),
-            None => (estimated_demand_a(plant, pcc_kv), true),
+            None => (estimated_demand_a(plant, pcc_kv).0, true),
         };
         let isc_over_il = (i_l_a > 0.0).then(|| isc_ka * 1000.0 / i_l_a);
         let ratio_for_row = isc_over_il.unwrap_or(f64::INFINITY);
         let ieee = iec_class(set).is_none();
         LimitContext {
             set,
+            pcc,
             i_l_a,
             i_l_estimated,
             isc_ka,
@@ -174,7 +195,17 @@ pub struct LimitRow {
     pub worst_pcc_order: Option<f64>,
     /// The PCC harmonic current with the highest ratio to its limit, % of I_L.
     pub worst_pcc_current: Option<Checked>,
-    /// Any value above its limit.
+    /// Voltage THD at the PCC, %.
+    pub pcc_thd: Checked,
+    /// The PCC's worst individual voltage harmonic (order, % of nominal).
+    pub pcc_individual_order: Option<f64>,
+    pub pcc_individual: Option<Checked>,
+    /// An in-plant bus (not the PCC) above the voltage values of the limit set: a verdict
+    /// under IEC 61000-2-4 (in-plant compatibility levels), informational under IEEE 519
+    /// (whose limits apply at the PCC only, IEEE 519-2014 clause 1.1 and 5).
+    pub in_plant_above: bool,
+    /// Any value above its limit where the limit set applies: under IEEE 519 the PCC's
+    /// voltage, TDD and current; under IEC 61000-2-4 every bus's voltage.
     pub exceeds: bool,
 }
 
@@ -232,10 +263,14 @@ pub fn limit_row(
     };
     let thd = check(argmax(&thd_ratio));
     let ind = check(argmax(&ind_ratio));
-    let any_bus_exceeds = (0..net.buses.len()).any(|b| {
+    let bus_exceeds = |b: usize| {
         thd_ratio(b) > 1.0
             || d.worst[b].is_some_and(|w| w.limit_percent.is_some_and(|l| w.v_percent > l))
-    });
+    };
+    let ieee = iec_class(ctx.set).is_none();
+    let in_plant_above = (0..net.buses.len()).any(|b| b != ctx.pcc && bus_exceeds(b));
+    let voltage_exceeds = bus_exceeds(ctx.pcc) || (!ieee && in_plant_above);
+    let at_pcc = check(ctx.pcc.min(net.buses.len().saturating_sub(1)));
     // Without demand (I_L = 0: no load, only background) TDD has no base: not evaluated.
     let demand = ctx.i_l_a > 0.0;
     let tdd = Checked::new(
@@ -262,7 +297,7 @@ pub fn limit_row(
                 .then(a.1.value.total_cmp(&b.1.value))
         })
         .cloned();
-    let exceeds = any_bus_exceeds || tdd.exceeds() || pcc.iter().any(|(_, c)| c.exceeds());
+    let exceeds = voltage_exceeds || tdd.exceeds() || pcc.iter().any(|(_, c)| c.exceeds());
     LimitRow {
         scenario: scenario.to_string(),
         configuration,
@@ -274,6 +309,10 @@ pub fn limit_row(
         tdd,
         worst_pcc_order: worst_pcc.as_ref().map(|p| p.0),
         worst_pcc_current: worst_pcc.map(|p| p.1),
+        pcc_thd: at_pcc.thd_percent,
+        pcc_individual_order: at_pcc.worst_order,
+        pcc_individual: at_pcc.worst_percent,
+        in_plant_above,
         exceeds,
     }
 }

@@ -199,7 +199,7 @@ impl RemedyResult {
     pub fn verdict(&self) -> &'static str {
         match (self.passes, self.after.limits_exceeded > 0) {
             (true, false) => "passes",
-            (true, true) => "passes; plant limits still exceeded",
+            (true, true) => "passes; plant limits over",
             (false, _) => "fails",
         }
     }

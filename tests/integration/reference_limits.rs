@@ -354,14 +354,26 @@ fn pcc_current_limits_row_isc_and_estimated_demand() {
         row.exceeds,
         worst.0 > 1.0 || row.worst_thd.value > 8.0 || row.tdd.value > 12.0
     );
-    // Without "Max demand current (A)", I_L is estimated from the loads: Σ P/pf at the
-    // study point over √3·kV = 200 kW / (√3·0.48 kV·1.0) = 240.56 A, flagged as estimated.
+    // Without "Max demand current (A)", I_L is estimated from the loads after correction:
+    // P at the better of the target PF and the loads' own, over √3·kV. Unity-PF loads:
+    // 200 kW / (√3·0.48 kV·1.0) = 240.56 A, flagged as estimated.
     let mut p = single_bus(Summation::Arithmetic, 1);
     p.study.max_demand_current_a = None;
     let est = run_check(&p, &Default::default()).unwrap();
     assert!(est.limits.i_l_estimated);
     assert_close(est.limits.i_l_a, 240.56, 1e-4);
-    assert!(est.notes.iter().any(|n| n.contains("I_L estimated")));
+    assert!(est.notes.iter().any(|n| n.contains("I_L ESTIMATED")));
+    // Loads at PF 0.8 corrected to the 0.95 target: I_L = P / (0.95·√3·kV), not P/0.8
+    // (IEEE 519-2014 clause 3.1: the demand at normal operation, here after correction).
+    let mut lagging = p.clone();
+    for l in &mut lagging.loads {
+        l.power_factor = 0.8;
+    }
+    lagging.study.target_power_factor = 0.95;
+    let p_kw: f64 = lagging.loads.iter().map(|l| l.p_kw()).sum();
+    let est = run_check(&lagging, &Default::default()).unwrap();
+    assert_close(est.limits.i_l_a, p_kw / 0.95 / (3f64.sqrt() * 0.48), 1e-12);
+    assert!(est.notes.iter().any(|n| n.contains("after correction")));
 }
 
 #[test]
@@ -466,5 +478,50 @@ fn branch_rms_through_a_transformer_by_hand() {
         let c = config_index(&res, &[steps]);
         let d = res.penetration.result(0, c, res.scan.configurations.len());
         assert_close(d.branch_rms_a[0], sum2.sqrt(), 1e-9);
+    }
+}
+
+#[test]
+fn ieee_519_verdict_is_at_the_pcc_and_in_plant_buses_are_informational() {
+    // IEEE 519-2014 clause 1.1 and clause 5: the limits apply at the point of common
+    // coupling; an in-plant bus above the Table 1 values is reported, not a violation.
+    // IEC 61000-2-4 (compatibility levels inside the plant) counts every bus. A 13.8 kV
+    // PCC behind 300 MVA with a 480 V bus of drives and a plain bank that resonates there
+    // (invented plant): under IEEE 519 the verdict must equal the PCC's own values.
+    let mut p = Plant::new(60.0);
+    p.buses = vec![bus("PCC", 13.8), bus("LV", 0.48)];
+    p.sources = vec![source("U", "PCC", 300.0, 12.0)];
+    p.transformers = vec![transformer("T", "PCC", "LV", 2000.0, 5.75, 7.0)];
+    p.loads = vec![load("VFD", "LV", LoadType::SixPulseDrive, 600.0, 0.95)];
+    p.banks = vec![bank("C", "LV", 0.48, 150.0, 4, Reactor::None)];
+    p.study.max_demand_current_a = Some(2000.0);
+    let res = run_check(&p, &Default::default()).unwrap();
+    assert_eq!(res.network.buses[res.pcc].id, "PCC");
+    let mut informational = 0;
+    for r in &res.limit_rows {
+        let over = |c: &overtone::study::limits::Checked| c.limit.is_some_and(|l| c.value > l);
+        let at_pcc = over(&r.pcc_thd)
+            || r.pcc_individual.as_ref().is_some_and(over)
+            || over(&r.tdd)
+            || r.worst_pcc_current.as_ref().is_some_and(over);
+        assert_eq!(r.exceeds, at_pcc, "{} {}", r.scenario, r.configuration);
+        // THD limit at 13.8 kV: 5 % (Table 1, 1 kV < V ≤ 69 kV); at 480 V: 8 %.
+        assert_eq!(r.pcc_thd.limit, Some(5.0));
+        if r.in_plant_above && !r.exceeds {
+            informational += 1;
+        }
+    }
+    assert!(
+        informational > 0,
+        "some configuration is above the values in the plant and within them at the PCC"
+    );
+    // The same plant under IEC 61000-2-4 class 2: an in-plant bus above counts.
+    let mut iec = p.clone();
+    iec.study.limits = LimitSet::Iec61000_2_4Class2;
+    let res = run_check(&iec, &Default::default()).unwrap();
+    for r in &res.limit_rows {
+        if r.in_plant_above {
+            assert!(r.exceeds, "{}", r.configuration);
+        }
     }
 }

@@ -228,6 +228,7 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             ));
         }
     }
+    let ieee = res.limits.set == crate::model::LimitSet::Ieee519_2014;
     for (b, bus) in res.network.buses.iter().enumerate() {
         let lim = res.limits.thd_limit[b].value;
         if let Some(d) = res
@@ -237,17 +238,26 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             .max_by(|x, y| x.thd_percent[b].total_cmp(&y.thd_percent[b]))
         {
             let v = d.thd_percent[b];
+            let info = ieee && b != res.pcc;
             out.push((
-                if v > lim { 3.0 } else { 0.0 } + v / lim,
+                if v > lim && !info { 3.0 } else { 0.0 } + v / lim,
                 vec![
-                    t("Voltage THD"),
+                    t(if info {
+                        "Voltage THD (in-plant, informational)"
+                    } else {
+                        "Voltage THD"
+                    }),
                     t(&bus.id),
                     t(&res.scan.scenarios[d.scenario]),
                     t(res.label(d.configuration)),
                     n(v, "0.00"),
                     n(lim, "0.00"),
                     t("% of nominal"),
-                    verdict(v > lim, "meets", "EXCEEDS"),
+                    if info {
+                        t(if v > lim { "above (info)" } else { "within" })
+                    } else {
+                        verdict(v > lim, "meets", "EXCEEDS")
+                    },
                 ],
             ));
         }
@@ -266,18 +276,27 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             && let Some(w) = d.worst[b]
             && let Some(l) = w.limit_percent
         {
+            let info = ieee && b != res.pcc;
             let bad = w.v_percent > l;
             out.push((
-                if bad { 3.0 } else { 0.0 } + w.v_percent / l,
+                if bad && !info { 3.0 } else { 0.0 } + w.v_percent / l,
                 vec![
-                    t(format!("Harmonic voltage (h {})", w.order)),
+                    t(if info {
+                        format!("Harmonic voltage (h {}, in-plant, informational)", w.order)
+                    } else {
+                        format!("Harmonic voltage (h {})", w.order)
+                    }),
                     t(&bus.id),
                     t(&res.scan.scenarios[d.scenario]),
                     t(res.label(d.configuration)),
                     n(w.v_percent, "0.00"),
                     n(l, "0.00"),
                     t("% of nominal"),
-                    verdict(bad, "meets", "EXCEEDS"),
+                    if info {
+                        t(if bad { "above (info)" } else { "within" })
+                    } else {
+                        verdict(bad, "meets", "EXCEEDS")
+                    },
                 ],
             ));
         }

@@ -55,12 +55,7 @@ pub(super) fn verdict_colours(
 }
 
 pub(super) fn limit_set_name(l: LimitSet) -> &'static str {
-    match l {
-        LimitSet::Ieee519_2014 => "IEEE 519-2014",
-        LimitSet::Iec61000_2_4Class1 => "IEC 61000-2-4 class 1",
-        LimitSet::Iec61000_2_4Class2 => "IEC 61000-2-4 class 2",
-        LimitSet::Iec61000_2_4Class3 => "IEC 61000-2-4 class 3",
-    }
+    crate::report::limit_set_name(l)
 }
 
 /// Writes every sheet.

@@ -106,6 +106,12 @@ pub(super) fn resonance(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
 }
 
 pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
+    let ieee = res.limits.set == crate::model::LimitSet::Ieee519_2014;
+    let in_plant_head = if ieee {
+        "In-plant bus above the IEEE 519 values (informational: limits at the PCC)"
+    } else {
+        "In-plant bus above its limit (IEC 61000-2-4: counts)"
+    };
     header(
         ws,
         0,
@@ -127,6 +133,12 @@ pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), X
             ("PCC worst order", 8.0),
             ("PCC Ih (% of I_L)", 10.0),
             ("Ih limit (%)", 9.0),
+            ("PCC THD (%)", 9.0),
+            ("PCC THD limit (%)", 9.0),
+            ("PCC worst voltage order", 8.0),
+            ("PCC Vh (%)", 9.0),
+            ("PCC Vh limit (%)", 9.0),
+            (in_plant_head, 12.0),
             ("Verdict", 10.0),
         ],
     )?;
@@ -159,6 +171,12 @@ pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), X
                 on(r.worst_pcc_order, "0.##"),
                 on(r.worst_pcc_current.as_ref().map(|c| c.value), "0.00"),
                 on(r.worst_pcc_current.as_ref().and_then(|c| c.limit), "0.00"),
+                n(r.pcc_thd.value, "0.00"),
+                on(r.pcc_thd.limit, "0.00"),
+                on(r.pcc_individual_order, "0.##"),
+                on(r.pcc_individual.as_ref().map(|c| c.value), "0.00"),
+                on(r.pcc_individual.as_ref().and_then(|c| c.limit), "0.00"),
+                t(if r.in_plant_above { "yes" } else { "no" }),
                 t(if r.exceeds { "EXCEEDS" } else { "meets" }),
             ],
         )?;
@@ -181,8 +199,8 @@ pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), X
             (r.exceeds, worst)
         })
         .collect();
-    print_digest(ws, 1, 17, &keys, "Distortion")?;
-    verdict_colours(ws, 1, res.limit_rows.len() as u32, 17)
+    print_digest(ws, 1, 23, &keys, "Distortion")?;
+    verdict_colours(ws, 1, res.limit_rows.len() as u32, 23)
 }
 
 pub(super) fn duty(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {

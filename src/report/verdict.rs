@@ -1,0 +1,259 @@
+//! The verdict block that opens the terminal summary: per bank, what its steps do
+//! (resonant near which order, in which configurations and scenarios), whether duty and
+//! switching hold, and the recommended remedy with its before and after; then the plant's
+//! limits at the PCC and its power factor, in about ten lines of at most 100 columns.
+
+use std::io::{self, Write};
+
+use super::table::write_hanging;
+use crate::check::CheckResults;
+use crate::study::Verdict;
+
+/// Terminal width the block is wrapped to.
+const WIDTH: usize = 100;
+
+/// Sorted distinct values, joined: `1, 3, 4`.
+fn list<T: PartialOrd + Copy + std::fmt::Display>(mut v: Vec<T>) -> String {
+    v.sort_by(|a, b| a.partial_cmp(b).unwrap_or(std::cmp::Ordering::Equal));
+    v.dedup_by(|a, b| a == b);
+    v.iter()
+        .map(|x| x.to_string())
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// One bank's sentence: resonance, tolerance band, duty, switching.
+fn bank_line(res: &CheckResults, bank: &str) -> String {
+    let rows: Vec<_> = res
+        .resonance
+        .rows
+        .iter()
+        .filter(|r| r.bank == bank && r.verdict == Verdict::Resonant)
+        .collect();
+    let resonance = if rows.is_empty() {
+        "clear of resonance in every configuration and scenario".to_string()
+    } else {
+        let mut steps: Vec<u32> = rows.iter().map(|r| r.steps).collect();
+        steps.sort_unstable();
+        steps.dedup();
+        let per_step: Vec<String> = steps
+            .iter()
+            .map(|&k| {
+                let near = list(
+                    rows.iter()
+                        .filter(|r| r.steps == k)
+                        .filter_map(|r| r.nearest_characteristic)
+                        .collect(),
+                );
+                format!("{k} (h {near})")
+            })
+            .collect();
+        let mut scenarios: Vec<&str> = rows.iter().map(|r| r.scenario.as_str()).collect();
+        scenarios.dedup();
+        scenarios.sort_unstable();
+        scenarios.dedup();
+        let configs = {
+            let mut c: Vec<&str> = rows.iter().map(|r| r.configuration.as_str()).collect();
+            c.sort_unstable();
+            c.dedup();
+            c.len()
+        };
+        format!(
+            "RESONANT at {}step(s) {} in {configs} configuration(s), scenario {}",
+            bank_word(res, bank),
+            per_step.join(", "),
+            scenarios.join(", ")
+        )
+    };
+    let band = res
+        .tolerance
+        .iter()
+        .filter(|b| b.bank == bank && b.flagged)
+        .count();
+    let band = if band > 0 {
+        format!("; {band} tolerance band(s) reach a characteristic order")
+    } else {
+        String::new()
+    };
+    let duty_over = res
+        .duty
+        .iter()
+        .filter(|d| d.bank == bank && d.exceeds)
+        .count();
+    let duty_all = res.duty.iter().filter(|d| d.bank == bank).count();
+    let duty = if duty_all == 0 {
+        String::new()
+    } else if duty_over == 0 {
+        "; duty within IEEE 18".to_string()
+    } else {
+        format!("; duty EXCEEDS in {duty_over} of {duty_all} rows")
+    };
+    let events: Vec<_> = res
+        .switching
+        .events
+        .iter()
+        .filter(|e| e.bank == bank)
+        .collect();
+    let switching = if events.is_empty() {
+        String::new()
+    } else {
+        let over = events.iter().filter(|e| e.flagged()).count();
+        let worst = events.iter().map(|e| e.peak_a).fold(0.0, f64::max);
+        if over == 0 {
+            format!("; switching ok (inrush up to {worst:.0} A)")
+        } else {
+            format!("; switching FLAGGED in {over} event(s) (inrush up to {worst:.0} A)")
+        }
+    };
+    format!("{resonance}{band}{duty}{switching}")
+}
+
+/// True when the bank resonates or exceeds its duty.
+fn bank_flagged(res: &CheckResults, bank: &str) -> bool {
+    res.resonance
+        .rows
+        .iter()
+        .any(|r| r.bank == bank && r.verdict == Verdict::Resonant)
+        || res.duty.iter().any(|d| d.bank == bank && d.exceeds)
+}
+
+/// "steps" of a plain bank, "detuned steps" of a bank with a reactor.
+fn bank_word(res: &CheckResults, bank: &str) -> &'static str {
+    match res
+        .plant
+        .banks
+        .iter()
+        .find(|b| b.id == bank)
+        .map(|b| b.reactor)
+    {
+        Some(crate::model::Reactor::None) | None => "",
+        Some(_) => "detuned ",
+    }
+}
+
+/// Writes the verdict block.
+pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    writeln!(out, "VERDICT (the tables below give every figure)")?;
+    let not_studied = res
+        .notes
+        .iter()
+        .find(|n| n.starts_with("remedies not studied"));
+    for (b, m) in res.plant.banks.iter().zip(&res.network.banks) {
+        let reactor = match b.reactor {
+            crate::model::Reactor::None => "plain".to_string(),
+            crate::model::Reactor::Detuning { percent } => format!("{percent} % detuned"),
+            crate::model::Reactor::Tuned { order } => format!("tuned at {order}"),
+        };
+        let head = format!(
+            "{} ({}, {} x {} kvar, {reactor}): ",
+            b.id, res.network.buses[m.bus].id, b.steps, b.step_kvar
+        );
+        write_hanging(
+            out,
+            "- ",
+            "    ",
+            &format!("{head}{}.", bank_line(res, &b.id)),
+            WIDTH,
+        )?;
+        if let Some(br) = res.remedies.iter().find(|r| r.bank == b.id)
+            && let Some(x) = br.results.first()
+        {
+            let s = &x.option.step;
+            let reactor = if s.l_mh > 0.0 {
+                format!(", {:.3} mH per step", s.l_mh)
+            } else {
+                String::new()
+            };
+            write_hanging(
+                out,
+                "  > ",
+                "    ",
+                &format!(
+                    "recommended: {} ({:.0} V {:.1} kvar per step{reactor}): {}; resonant rows {} -> {}, duty rows over {} -> {}",
+                    x.option.name,
+                    s.capacitor_rated_kv * 1000.0,
+                    s.capacitor_kvar,
+                    x.verdict(),
+                    x.before.resonant,
+                    x.after.resonant,
+                    x.before.duty_exceeded,
+                    x.after.duty_exceeded
+                ),
+                WIDTH,
+            )?;
+        } else if let Some(why) = not_studied
+            && bank_flagged(res, &b.id)
+        {
+            write_hanging(out, "  > ", "    ", why, WIDTH)?;
+        }
+    }
+    // The plant: harmonic limits where the limit set applies, and the power factor.
+    let nc = res.scan.configurations.len();
+    let per_scenario: Vec<String> = res
+        .scan
+        .scenarios
+        .iter()
+        .enumerate()
+        .filter_map(|(s, name)| {
+            let rows = res.limit_rows.get(s * nc..(s + 1) * nc)?;
+            let over = rows.iter().filter(|r| r.exceeds).count();
+            Some(format!("{over} of {nc} in {name}"))
+        })
+        .collect();
+    if !res.limit_rows.is_empty() {
+        let set = match res.limits.set {
+            crate::model::LimitSet::Ieee519_2014 => {
+                format!("IEEE 519-2014 at the PCC {}", res.network.buses[res.pcc].id)
+            }
+            other => format!("{} at every bus", super::limit_set_name(other)),
+        };
+        write_hanging(
+            out,
+            "- ",
+            "    ",
+            &format!(
+                "Harmonic limits ({set}): configurations exceeding {}.",
+                per_scenario.join(", ")
+            ),
+            WIDTH,
+        )?;
+    }
+    if !res.operating.points.is_empty() {
+        let reach: Vec<String> = res
+            .scan
+            .scenarios
+            .iter()
+            .map(|name| {
+                let pts: Vec<_> = res
+                    .operating
+                    .points
+                    .iter()
+                    .filter(|p| &p.scenario == name)
+                    .collect();
+                let ok = pts
+                    .iter()
+                    .filter(|p| {
+                        p.pf_verdict == crate::study::operating::PfVerdict::Reaches
+                            && p.buses_out_of_range == 0
+                    })
+                    .count();
+                format!("{ok} of {} in {name}", pts.len())
+            })
+            .collect();
+        write_hanging(
+            out,
+            "- ",
+            "    ",
+            &format!(
+                "Power factor {} lagging at the PCC reached without leading or a bus out of range: {}.",
+                res.operating.target_power_factor,
+                reach.join(", ")
+            ),
+            WIDTH,
+        )?;
+    }
+    if let Some(sentence) = res.plant_level_limits() {
+        write_hanging(out, "- ", "    ", &sentence, WIDTH)?;
+    }
+    Ok(())
+}
