@@ -78,6 +78,11 @@ pub const SOURCES: &[(&str, &str, &str)] = &[
         "textbook; worked examples 7.05 and 13.7 seen once",
     ),
     (
+        "S_sc by the series sum of per-unit source, transformer and cable impedances",
+        "IEEE Std 141-1993 short-circuit hand method",
+        "common practice",
+    ),
+    (
         "Tuned filter 3–10 % below the harmonic (4.7 for the 5th), reactor Q 30–60",
         "filter design practice",
         "common practice; Q from memory",

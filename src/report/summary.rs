@@ -187,7 +187,10 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     writeln!(out)?;
     super::table::write_wrapped(
         out,
-        "hand h: sqrt(Ssc/Qc) (with a series reactor: sqrt(Xc/(Xth+XL))); scan h, |Z|: the scanned \
+        "Ssc: sources, transformers and cables in series (loads and motors left out; with several \
+         sources or a loop, the network's Thevenin impedance with loads); Qc: every step on the bus; \
+         hand h: sqrt(Ssc/Qc) (with a series reactor: sqrt(Xc/(Xth+XL)); plain and detuned steps \
+         together: the zero of the bus susceptance); scan h, |Z|: the scanned \
          parallel-resonance peak at the bank's bus nearest the hand check; ampl: |Z| / |Z| without \
          banks at that order; margin: (scan h - near h)/near h; the bank's bus, steps and the \
          peak's sharpness are in --json and the review.",

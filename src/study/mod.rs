@@ -6,6 +6,7 @@ pub mod background;
 pub mod config;
 pub mod detune;
 pub mod duty;
+pub mod hand;
 pub mod injections;
 pub mod limits;
 pub mod operating;

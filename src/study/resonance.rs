@@ -8,6 +8,7 @@ use super::{Extremum, Scan};
 use crate::model::{LoadType, Plant, Sequence};
 use crate::network::{BASE_MVA, Network};
 use crate::solve::{Engine, SolveError};
+use crate::study::hand::SscBasis;
 
 /// Characteristic harmonic orders of the plant's harmonic-producing loads, ascending, up to
 /// `highest`: h = k·p ± 1 for a p-pulse converter (6-pulse with or without reactor and
@@ -112,17 +113,25 @@ pub struct ResonanceRow {
     pub bank: String,
     pub bus: String,
     pub steps: u32,
-    /// Short-circuit power at the bank's bus without banks, MVA: S_sc = kV² / |Z_th(1)|.
+    /// Short-circuit power at the bank's bus without banks, MVA: S_sc = S_base / |Z_th(1)|,
+    /// from the sources, transformers and cables alone on a radial plant (the engineer's
+    /// number), from the network with its loads where several sources or a loop make the
+    /// path not unique (see `s_sc_basis`).
     pub s_sc_mva: f64,
-    /// Energized kvar on the bank's bus that the hand check counts (this bank and the banks
-    /// there of the same detuning), corrected to bus voltage: Σ n·Step kvar·(kV_bus /
-    /// kV_rated)².
+    /// How `s_sc_mva` was found.
+    pub s_sc_basis: crate::study::hand::SscBasis,
+    /// Energized kvar on the bank's bus (every bank there, plain and detuned), corrected to
+    /// bus voltage: Σ n·Step kvar·(kV_bus / kV_rated)².
     pub q_c_kvar: f64,
-    /// The capacitive reactance of those steps together at fundamental, ohm:
-    /// X_C = 1/Σ(n/X_C1).
+    /// The capacitive reactance at fundamental of the steps on the bus of this bank's
+    /// detuning, together, ohm: X_C = 1/Σ(n/X_C1).
     pub x_c_ohm: f64,
-    /// Hand-check order: √(S_sc / Q_c) for a plain bank; √(X_C / (|Z_th| + X_L)) with a
-    /// series reactor (the same law with the reactor's inductance added to the system's).
+    /// True when banks of another detuning are energized on the same bus (the hand check
+    /// is then the susceptance zero of every group, [`crate::study::hand::resonance_order`]).
+    pub mixed: bool,
+    /// Hand-check order: √(S_sc / Q_c) for plain steps alone; √(X_C / (|Z_th| + X_L)) for
+    /// detuned steps alone; with plain and detuned steps on the bus, the lossless
+    /// susceptance zero of them all.
     pub hand_order: f64,
     /// The scanned peak at the bank's bus nearest the hand-check order.
     pub peak: Option<Extremum>,
@@ -170,6 +179,25 @@ impl ResonanceStudy {
         let zero_chars = orders_of_sequence(&chars, Sequence::Zero);
         for s in 0..net.scenarios.len() {
             let fundamental = scan.fundamental(engine, s)?;
+            // The engineer's S_sc per bank: the radial path's series sum where there is one.
+            let paths: Vec<Option<(Vec<crate::study::hand::PathElement>, f64)>> = net
+                .banks
+                .iter()
+                .map(|bank| {
+                    crate::study::hand::radial_path(
+                        plant,
+                        &net.scenarios[s].name,
+                        &net.buses[bank.bus].id,
+                    )
+                    .map(|p| {
+                        let z: num_complex::Complex64 = p
+                            .iter()
+                            .map(|&e| crate::study::hand::element_z_pu(plant, e))
+                            .sum();
+                        (p, z.norm())
+                    })
+                })
+                .collect();
             let zero_fundamental = match zero {
                 Some(z) => Some(z.scan.fundamental(z.engine, s)?),
                 None => None,
@@ -181,7 +209,10 @@ impl ResonanceStudy {
                     if n == 0 {
                         continue;
                     }
-                    let z_th_pu = fundamental.bank_bus_z0_pu(b).norm();
+                    let (z_th_pu, basis) = match &paths[b] {
+                        Some((p, z)) => (*z, SscBasis::Path(p.clone())),
+                        None => (fundamental.bank_bus_z0_pu(b).norm(), SscBasis::Network),
+                    };
                     let no_peaks = Vec::new();
                     let peaks = scan
                         .buses
@@ -193,7 +224,7 @@ impl ResonanceStudy {
                         net,
                         (s, b, &cfg.steps),
                         &label,
-                        z_th_pu,
+                        (z_th_pu, basis),
                         peaks,
                         &positive,
                         margin,
@@ -210,7 +241,7 @@ impl ResonanceStudy {
                             net,
                             (s, b, &cfg.steps),
                             &label,
-                            z_th_pu,
+                            (z_th_pu, SscBasis::Network),
                             &series.peaks,
                             &zero_chars,
                             margin,
@@ -242,7 +273,7 @@ fn row(
     net: &Network,
     (s, b, steps): (usize, usize, &[u32]),
     label: &str,
-    z_th_pu: f64,
+    (z_th_pu, s_sc_basis): (f64, SscBasis),
     peaks: &[Extremum],
     chars: &[f64],
     margin: f64,
@@ -251,28 +282,43 @@ fn row(
     let bank = &net.banks[b];
     let bus = &net.buses[bank.bus];
     let n = steps[b];
-    let together: Vec<usize> = net
+    // Every step energized on the bus (in the zero sequence, those with a zero-sequence
+    // path), grouped by detuning: (X_C together, X_L together) per group, per unit.
+    let on_bus: Vec<usize> = net
         .banks
         .iter()
         .enumerate()
         .filter(|(o, ob)| {
             ob.bus == bank.bus
                 && steps[*o] > 0
-                && (ob.p - bank.p).abs() <= 1e-9
                 && (sequence != Sequence::Zero || ob.connection.has_zero_path())
         })
         .map(|(o, _)| o)
         .collect();
-    let y_c: f64 = together
+    let mut groups: Vec<(f64, f64)> = Vec::new(); // (p, Σ n/X_C1)
+    for &o in &on_bus {
+        let ob = &net.banks[o];
+        let y = f64::from(steps[o]) / ob.xc_step_pu;
+        match groups.iter_mut().find(|g| (g.0 - ob.p).abs() <= 1e-9) {
+            Some(g) => g.1 += y,
+            None => groups.push((ob.p, y)),
+        }
+    }
+    let group = groups
         .iter()
-        .map(|&o| f64::from(steps[o]) / net.banks[o].xc_step_pu)
-        .sum();
-    let xc_pu = 1.0 / y_c;
-    let q_c_kvar: f64 = together
+        .position(|g| (g.0 - bank.p).abs() <= 1e-9)
+        .unwrap_or(0);
+    let reactances: Vec<(f64, f64)> = groups.iter().map(|g| (1.0 / g.1, g.0 / g.1)).collect();
+    let xc_pu = reactances.get(group).map_or(f64::NAN, |g| g.0);
+    let q_c_kvar: f64 = on_bus
         .iter()
         .map(|&o| plant.banks[o].kvar_at(steps[o], bus.kv))
         .sum();
-    let hand_order = (xc_pu / (z_th_pu + bank.p * xc_pu)).sqrt();
+    let hand_order = if reactances.is_empty() {
+        f64::NAN
+    } else {
+        crate::study::hand::resonance_order(z_th_pu, &reactances, group)
+    };
     let peak = peaks
         .iter()
         .min_by(|x, y| {
@@ -303,8 +349,10 @@ fn row(
         bus: bus.id.clone(),
         steps: n,
         s_sc_mva: BASE_MVA / z_th_pu,
+        s_sc_basis,
         q_c_kvar,
         x_c_ohm: xc_pu * bus.z_base_ohm,
+        mixed: groups.len() > 1,
         hand_order,
         peak,
         nearest_characteristic: nearest,

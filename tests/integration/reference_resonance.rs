@@ -267,3 +267,78 @@ fn hand_check_counts_every_step_on_the_bus() {
         assert_close(r.peak.unwrap().order, h, 0.01);
     }
 }
+
+#[test]
+fn engineer_hand_check_from_the_path_and_with_plain_and_detuned_steps_together() {
+    // S_sc by the hand method: per-unit impedances of the source and the transformer added
+    // in series (IEEE Std 141-1993 short-circuit hand method, common practice). With the
+    // same X/R the magnitudes add: S_sc = 1/(1/500 + 0.0575/2) MVA = 32.520 MVA at 480 V,
+    // loads and motors left out (a 500 kW motor load here must not change it).
+    let mut p = Plant::new(60.0);
+    p.buses = vec![bus("MV", 13.8), bus("LV", 0.48)];
+    p.sources = vec![source("U", "MV", 500.0, 10.0)];
+    p.transformers = vec![transformer("T", "MV", "LV", 2000.0, 5.75, 10.0)];
+    p.loads = vec![
+        load("M", "LV", LoadType::Motor, 500.0, 0.85),
+        load("D", "LV", LoadType::SixPulseDrive, 300.0, 0.95),
+    ];
+    let x_c1 = 0.48f64 * 0.48 / 0.2; // plain, 200 kvar a step at 480 V, ohm
+    let x_c2 = 0.48f64 * 0.48 / 0.1; // 7 % detuned, 100 kvar a step at 480 V, ohm
+    p.banks = vec![
+        bank("P", "LV", 0.48, 200.0, 1, Reactor::None),
+        bank(
+            "D7",
+            "LV",
+            0.48,
+            100.0,
+            1,
+            Reactor::Detuning { percent: 7.0 },
+        ),
+    ];
+    let res = run(&p);
+    let expected_mva = 1.0 / (1.0 / 500.0 + 0.0575 / 2.0);
+    for r in &res.resonance.rows {
+        assert_close(r.s_sc_mva, expected_mva, 1e-12);
+        assert!(matches!(
+            r.s_sc_basis,
+            overtone::study::hand::SscBasis::Path(_)
+        ));
+    }
+    // Both energized: the lossless parallel resonance of X_s with the plain C ∥ the detuned
+    // branch solves X_s·X_L·u² − (X_C1·X_L + X_s·X_C2 + X_s·X_C1)·u + X_C1·X_C2 = 0 for
+    // u = h² (the zero of the bus susceptance, circuit theory): the lower root belongs to
+    // the detuned steps (below their tuning order 1/√0.07 = 3.78), the upper to the plain.
+    let x_s = 0.48 * 0.48 / expected_mva;
+    let x_l = 0.07 * x_c2;
+    let (a, b, c) = (
+        x_s * x_l,
+        -(x_c1 * x_l + x_s * x_c2 + x_s * x_c1),
+        x_c1 * x_c2,
+    );
+    let disc = (b * b - 4.0 * a * c).sqrt();
+    let (u_low, u_high) = ((-b - disc) / (2.0 * a), (-b + disc) / (2.0 * a));
+    let row = |bank: &str| {
+        res.resonance
+            .rows
+            .iter()
+            .find(|r| r.configuration == "P=1 D7=1" && r.bank == bank)
+            .expect("row")
+    };
+    assert!(row("P").mixed && row("D7").mixed);
+    assert_close(row("P").hand_order, u_high.sqrt(), 1e-9);
+    assert_close(row("D7").hand_order, u_low.sqrt(), 1e-9);
+    assert!(row("D7").hand_order < 1.0 / 0.07f64.sqrt());
+    // Every step on the bus counts: 200 + 100 kvar.
+    assert_close(row("P").q_c_kvar, 300.0, 1e-12);
+    // Alone, each is its closed form: √(S_sc/Q_c) and √(X_C/(X_s + X_L)).
+    let alone = |label: &str, bank: &str| {
+        res.resonance
+            .rows
+            .iter()
+            .find(|r| r.configuration == label && r.bank == bank)
+            .expect("row")
+            .hand_order
+    };
+    assert_close(alone("P=1 D7=0", "P"), (expected_mva / 0.2).sqrt(), 1e-12);
+    assert_close(alone("P=0 D7=1", "D7"), (x_c2 / (x_s + x_l)).sqrt(), 1e-12);
+}

@@ -289,6 +289,14 @@ fn live_formulas_recalculated_by_libreoffice_match() {
     for (r, row) in rows.iter().zip(&res.resonance.rows) {
         let hand: f64 = r[10].parse().unwrap();
         let margin: f64 = r[16].parse().unwrap();
+        // S_sc from the Input sheet's source, transformer and cable cells (the engineer's
+        // series sum, IEEE Std 399 per-unit conversions) equals the tool's, 1e-9.
+        let s_sc: f64 = r[5].parse().unwrap();
+        assert!(
+            (s_sc - row.s_sc_mva).abs() <= 1e-9 * row.s_sc_mva,
+            "{s_sc} vs {}",
+            row.s_sc_mva
+        );
         // The spreadsheet's own arithmetic on the visible cells equals the tool's, 1e-9.
         assert!(
             (hand - row.hand_order).abs() <= 1e-9 * row.hand_order,

@@ -19,11 +19,22 @@ fn zero_path_words(z: ZeroPath) -> &'static str {
     }
 }
 
-pub(super) fn input(
+/// Where the Input sheet put the rows that other sheets' formulas read (0-based rows of
+/// the first data row of each section; row i of a section is that plus i).
+#[derive(Debug, Clone, Copy, Default)]
+pub(in crate::io::review) struct InputCells {
+    pub buses: u32,
+    pub sources: u32,
+    pub transformers: u32,
+    pub cables: u32,
+}
+
+pub(in crate::io::review) fn input(
     ws: &mut Worksheet,
     res: &CheckResults,
     prov: &Provenance,
-) -> Result<(), XlsxError> {
+) -> Result<InputCells, XlsxError> {
+    let mut cells = InputCells::default();
     let p = &res.plant;
     let f = p.study.frequency_hz;
     let connections: Vec<&str> = res
@@ -54,6 +65,7 @@ pub(super) fn input(
         *r += 1;
         Ok(())
     };
+    cells.buses = r + 2;
     section(
         ws,
         &mut r,
@@ -64,6 +76,7 @@ pub(super) fn input(
             .map(|b| vec![t(&b.id), n(b.nominal_kv, "0.###"), t(&b.description)])
             .collect(),
     )?;
+    cells.sources = r + 2;
     section(
         ws,
         &mut r,
@@ -100,6 +113,7 @@ pub(super) fn input(
             })
             .collect(),
     )?;
+    cells.transformers = r + 2;
     section(
         ws,
         &mut r,
@@ -137,6 +151,7 @@ pub(super) fn input(
             })
             .collect(),
     )?;
+    cells.cables = r + 2;
     section(
         ws,
         &mut r,
@@ -308,5 +323,5 @@ pub(super) fn input(
     }
     ws.set_landscape();
     ws.set_print_fit_to_pages(1, 0);
-    Ok(())
+    Ok(cells)
 }

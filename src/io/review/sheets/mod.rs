@@ -65,9 +65,9 @@ pub fn write_all(
     prov: &Provenance,
 ) -> Result<(), XlsxError> {
     front::summary(wb.add_worksheet().set_name("Summary")?, res, prov)?;
-    input::input(wb.add_worksheet().set_name("Input")?, res, prov)?;
+    let cells = input::input(wb.add_worksheet().set_name("Input")?, res, prov)?;
     operating::operating(wb.add_worksheet().set_name("Operating point")?, res)?;
-    results::resonance(wb.add_worksheet().set_name("Resonance")?, res)?;
+    results::resonance(wb.add_worksheet().set_name("Resonance")?, res, &cells)?;
     let charts = scan::scan(wb.add_worksheet().set_name("Scan")?, res)?;
     results::distortion(wb.add_worksheet().set_name("Distortion")?, res)?;
     results::duty(wb.add_worksheet().set_name("Duty")?, res)?;
@@ -113,7 +113,7 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
         format!("Limits: {}; interharmonics and orders outside the stored tables have no individual limit (they count in THD/TDD). The PCC current is the current into the scenario's supply equivalents.", limit_set_name(p.limits)),
         format!("Capacitance tolerance {}/+{} % applied to the resonance band; capacitor duty at nominal capacitance and at the bus voltage the load flow solved for each scenario and configuration (nominal where it has no solution).", p.capacitance_tolerance.minus_percent, p.capacitance_tolerance.plus_percent),
         format!("Operating point: fundamental load flow by Newton's method to 1e-9 pu mismatch; sources as EMFs of Voltage (pu) at angle 0 behind their impedance; loads (linear, motor, converter) at constant power P = kW·Quantity·Load factor, Q = P·tan(acos pf) lagging; capacitor steps, reactors and cable charging as admittances at h = 1; transformers at the ratio of their buses' kV (no taps); target PF {} lagging, voltage range {}/{} pu, step voltage change {} %.", p.target_power_factor, p.voltage_range.low_pu, p.voltage_range.high_pu, p.step_voltage_change_percent),
-        "Hand check h = √(S_sc/Q_c) with S_sc from the fundamental Thevenin impedance at the bank's bus without banks (loads and motors included) and Q_c every step energized on that bus of the same detuning (X_C = 1/Σ(n/X_C1)); with a series reactor √(X_C/(|Z_th| + X_L)).".into(),
+        "Hand check (the engineer's independent number): S_sc at the bank's bus from the sources, transformers and cables in series (per-unit impedances added with their X/R; loads, motors and cable charging left out), a live formula of the Input sheet's cells on a radial plant; where several sources or a loop make the path not unique, from the network's fundamental Thevenin impedance with its loads (value). Plain steps alone: h = √(S_sc/Q_c); detuned steps alone: √(X_C/(|Z_th| + X_L)); plain and detuned steps on one bus together: the zero of the lossless bus susceptance (value). Q_c counts every step energized on the bus.".into(),
         crate::report::switching_scope().to_string(),
         "Remedies: each option sized to keep the planned kvar at bus voltage, the next standard capacitor rating at or above U/(1−p); studies re-run over every configuration in which the bank is energized; ranked by the bank's own checks (resonance, tolerance band, duty, linearity), then capacitor voltage class, margin across the tolerance band, linearity headroom, reactor size; plant-wide limits shown, not ranked; linearity current 1.8 × I₁ (common practice).".into(),
     ];

@@ -7,7 +7,58 @@ use super::super::writer::{Cell, header, n, on, print_digest, row, t};
 use super::verdict_colours;
 use crate::check::CheckResults;
 
-pub(super) fn resonance(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
+/// The engineer's S_sc as a formula of the Input sheet's cells: S_base / |Σ Z| over the
+/// path's elements, each in per unit on 100 MVA (source 100/MVA, transformer
+/// Z%/100·100/(kVA/1000), cable (R, X)·ℓ/1000/runs over kV²/100), its R and X from the
+/// given X/R ([`crate::study::hand::element_z_pu`]).
+fn s_sc_formula(
+    res: &CheckResults,
+    cells: &super::input::InputCells,
+    path: &[crate::study::hand::PathElement],
+) -> String {
+    use crate::study::hand::PathElement;
+    let at = |row: u32, col: u16| format!("Input!{}", row_col_to_cell(row, col));
+    let bus_kv = |id: &str| {
+        let i = res.plant.buses.iter().position(|b| b.id == id).unwrap_or(0) as u32;
+        at(cells.buses + i, 1)
+    };
+    let mut r_terms = Vec::new();
+    let mut x_terms = Vec::new();
+    for e in path {
+        match *e {
+            PathElement::Source(i) => {
+                let row = cells.sources + i as u32;
+                let z = format!("100/{}", at(row, 3));
+                r_terms.push(format!("{z}*COS(ATAN({}))", at(row, 4)));
+                x_terms.push(format!("{z}*SIN(ATAN({}))", at(row, 4)));
+            }
+            PathElement::Transformer(i) => {
+                let row = cells.transformers + i as u32;
+                let z = format!("{}/100*100/({}/1000)", at(row, 4), at(row, 3));
+                r_terms.push(format!("{z}*COS(ATAN({}))", at(row, 5)));
+                x_terms.push(format!("{z}*SIN(ATAN({}))", at(row, 5)));
+            }
+            PathElement::Cable(i) => {
+                let row = cells.cables + i as u32;
+                let kv = bus_kv(&res.plant.cables[i].from_bus);
+                let per = format!("{}/1000/{}/({kv}^2/100)", at(row, 3), at(row, 7));
+                r_terms.push(format!("{}*{per}", at(row, 4)));
+                x_terms.push(format!("{}*{per}", at(row, 5)));
+            }
+        }
+    }
+    format!(
+        "=100/SQRT(({})^2+({})^2)",
+        r_terms.join("+"),
+        x_terms.join("+")
+    )
+}
+
+pub(super) fn resonance(
+    ws: &mut Worksheet,
+    res: &CheckResults,
+    cells: &super::input::InputCells,
+) -> Result<(), XlsxError> {
     header(
         ws,
         0,
@@ -17,11 +68,14 @@ pub(super) fn resonance(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
             ("Bank", 8.0),
             ("Bus", 10.0),
             ("Steps", 6.0),
-            ("Ssc at bus, no banks (MVA)", 12.0),
-            ("Qc at bus voltage (kvar)", 12.0),
-            ("Xc (ohm)", 10.0),
+            (
+                "Ssc at bus, sources and branches (MVA) (formula of Input)",
+                13.0,
+            ),
+            ("Qc on the bus at bus voltage (kvar)", 12.0),
+            ("Xc of this detuning (ohm)", 10.0),
             ("XL reactor (ohm)", 10.0),
-            ("|Zth| (ohm)", 10.0),
+            ("|Zth| (ohm) (formula)", 10.0),
             ("Hand check h (formula)", 11.0),
             ("Scanned h", 10.0),
             ("|Z| at peak (ohm)", 11.0),
@@ -46,11 +100,44 @@ pub(super) fn resonance(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
             _ => (f64::NAN, f64::NAN, f64::NAN),
         };
         let cell = |c: u16| row_col_to_cell(rr, c);
-        let hand = if bank.is_some_and(|b| b.p == 0.0) {
-            format!("=SQRT({}*1000/{})", cell(5), cell(6))
+        // Plain or detuned steps alone: the closed form, live. Plain and detuned together:
+        // the susceptance zero (a root, not a closed form), as a value.
+        let hand = if r.mixed {
+            n(r.hand_order, "0.000")
+        } else if bank.is_some_and(|b| b.p == 0.0) {
+            Cell::Formula(
+                format!("=SQRT({}*1000/{})", cell(5), cell(6)),
+                r.hand_order,
+                "0.000",
+            )
         } else {
-            format!("=SQRT({}/({}+{}))", cell(7), cell(9), cell(8))
+            Cell::Formula(
+                format!("=SQRT({}/({}+{}))", cell(7), cell(9), cell(8)),
+                r.hand_order,
+                "0.000",
+            )
         };
+        let s_sc = match &r.s_sc_basis {
+            crate::study::hand::SscBasis::Path(p) => {
+                Cell::Formula(s_sc_formula(res, cells, p), r.s_sc_mva, "0.000")
+            }
+            crate::study::hand::SscBasis::Network => n(r.s_sc_mva, "0.000"),
+        };
+        let bus_row = res
+            .plant
+            .buses
+            .iter()
+            .position(|b| b.id == r.bus)
+            .unwrap_or(0) as u32;
+        let zth_cell = Cell::Formula(
+            format!(
+                "=Input!{}^2/{}",
+                row_col_to_cell(cells.buses + bus_row, 1),
+                cell(5)
+            ),
+            zth,
+            "0.000000",
+        );
         let band = res
             .tolerance
             .iter()
@@ -72,12 +159,12 @@ pub(super) fn resonance(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
                 t(&r.bank),
                 t(&r.bus),
                 n(f64::from(r.steps), "0"),
-                n(r.s_sc_mva, "0.000"),
+                s_sc,
                 n(r.q_c_kvar, "0.0"),
                 n(xc, "0.00000"),
                 n(xl, "0.00000"),
-                n(zth, "0.000000"),
-                Cell::Formula(hand, r.hand_order, "0.000"),
+                zth_cell,
+                hand,
                 on(r.peak.map(|p| p.order), "0.000"),
                 on(r.peak.map(|p| p.z_ohm), "0.0000"),
                 on(r.peak.map(|p| p.amplification), "0.00"),
