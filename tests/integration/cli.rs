@@ -169,7 +169,10 @@ fn check_prints_warnings_and_strict_exits_1_when_flagged() {
     assert!(out.status.success());
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(
-        err.contains("warning: Loads: \"Quantity\" blank in 9 row(s): default 1 applied"),
+        // Each blank cell named (eight, then the count): the engineer finds the rows.
+        err.contains(
+            "warning: Loads: \"Quantity\" blank at F2, F4, F5, F7, F8, F9, F10, F13 and 1 more: default 1 applied"
+        ),
         "{err}"
     );
 }

@@ -246,7 +246,7 @@ fn base_workbook_is_valid() {
         read.plant.loads[1].power_factor, 0.85,
         "contract default for a motor"
     );
-    assert!(read.warnings.iter().any(|w| w.to_string() == "Loads: \"Power factor\" blank in 1 row(s): default 0.85 (linear, motor) or 0.95 (converters) applied"));
+    assert!(read.warnings.iter().any(|w| w.to_string() == "Loads: \"Power factor\" blank at E3: default 0.85 (linear, motor) or 0.95 (converters) applied"));
 }
 
 /// With `OVERTONE_WRITE_CORPUS=1`, keeps `bytes` as a seed of the reader's fuzz corpus
@@ -434,6 +434,15 @@ fn malformed_cells_each_give_their_message_and_cell() {
         (
             Book::base().set("Buses", "B1", s("Voltage")),
             "Buses!C1: required column \"Nominal kV\" is missing from the header row (row 1); found Bus",
+        ),
+        (
+            // A renamed header is reported at its own cell (words reordered, a typo).
+            Book::base().set("Buses", "B1", s("kV nominal")),
+            "Buses!B1: required column \"Nominal kV\" is missing; this header \"kV nominal\" is not in the contract (renamed? the header must read \"Nominal kV\")",
+        ),
+        (
+            Book::base().set("Buses", "B1", s("Nominl kV")),
+            "Buses!B1: required column \"Nominal kV\" is missing; this header \"Nominl kV\" is not in the contract (renamed? the header must read \"Nominal kV\")",
         ),
         (
             Book::base().set("Buses", "B5", N(0.48)),

@@ -114,10 +114,8 @@ fn ods_copy_reads_the_same_as_xlsx() {
     }
     assert_eq!(ods.plant, expected);
     assert!(
-        ods.warnings
-            .iter()
-            .any(|w| w.to_string()
-                == "Sources: \"Voltage (pu)\" blank in 2 row(s): default 1.0 applied"),
+        ods.warnings.iter().any(|w| w.to_string()
+            == "Sources: no \"Voltage (pu)\" column: default 1.0 applied (rows 2, 3)"),
         "{:?}",
         ods.warnings
     );

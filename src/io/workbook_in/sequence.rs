@@ -21,6 +21,7 @@ pub fn vector_group(
                 "Transformers",
                 "Connection",
                 "Dyn1 at 60 Hz, Dyn11 at 50 Hz (common practice)",
+                t.default_at(r, "Connection"),
             );
             Some(g)
         }
@@ -55,6 +56,7 @@ pub fn bank_connection(
                 "Capacitors",
                 "Connection",
                 "delta up to 1 kV, wye above (common practice)",
+                t.default_at(r, "Connection"),
             );
             bus_kv.map(BankConnection::default_for)
         }

@@ -92,29 +92,55 @@ pub const BACKGROUND: &[Column] = &[
 /// Default reactor X/R at fundamental (input contract, sheet `Capacitors`).
 pub const DEFAULT_REACTOR_Q: f64 = 50.0;
 
-/// Counts of defaults applied per (sheet, column), reported once per column.
+/// The blank cells that took a default, per (sheet, column), reported once per column
+/// with the cells named.
 #[derive(Default)]
-pub struct Defaults(Vec<(&'static str, &'static str, String, usize)>);
+pub struct Defaults(Vec<(&'static str, &'static str, String, Vec<String>)>);
+
+/// Cells named in one default warning before "and N more".
+const CELLS_NAMED: usize = 8;
 
 impl Defaults {
-    pub(super) fn note(&mut self, sheet: &'static str, column: &'static str, value: &str) {
+    pub(super) fn note(
+        &mut self,
+        sheet: &'static str,
+        column: &'static str,
+        value: &str,
+        cell: String,
+    ) {
         match self
             .0
             .iter_mut()
             .find(|(s, c, _, _)| *s == sheet && *c == column)
         {
-            Some(e) => e.3 += 1,
-            None => self.0.push((sheet, column, value.to_string(), 1)),
+            Some(e) => e.3.push(cell),
+            None => self.0.push((sheet, column, value.to_string(), vec![cell])),
         }
     }
 
-    /// One warning per column: how many blank cells took which default.
+    /// One warning per column: which blank cells took which default.
     pub fn report(self, diag: &mut Diagnostics) {
-        for (sheet, column, value, n) in self.0 {
+        for (sheet, column, value, cells) in self.0 {
+            let mut named = cells
+                .iter()
+                .take(CELLS_NAMED)
+                .cloned()
+                .collect::<Vec<_>>()
+                .join(", ");
+            if cells.len() > CELLS_NAMED {
+                named.push_str(&format!(" and {} more", cells.len() - CELLS_NAMED));
+            }
             diag.warn(
                 sheet,
                 None,
-                format!("\"{column}\" blank in {n} row(s): default {value} applied"),
+                if cells[0].starts_with("row ") {
+                    format!(
+                        "no \"{column}\" column: default {value} applied (rows {})",
+                        named.replace("row ", "")
+                    )
+                } else {
+                    format!("\"{column}\" blank at {named}: default {value} applied")
+                },
             );
         }
     }
@@ -173,7 +199,7 @@ pub fn sources(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<S
                 voltage_pu: t
                     .number(r, "Voltage (pu)", "a voltage in pu between 0.5 and 1.5", d)
                     .unwrap_or_else(|| {
-                        defaults.note("Sources", "Voltage (pu)", "1.0");
+                        defaults.note("Sources", "Voltage (pu)", "1.0", t.default_at(r, "Voltage (pu)"));
                         DEFAULT_SOURCE_VOLTAGE_PU
                     }),
                 zero_short_circuit_mva: t.number(r, "Zero-sequence MVA", "a positive number", d),
@@ -206,7 +232,12 @@ pub fn transformers(
             impedance_percent: t.required_number(r, "Impedance (%)", "a positive number", d),
             x_over_r: t.required_number(r, "X/R", "a positive number", d),
             in_service: t.yes_no(r, "In service", d).unwrap_or_else(|| {
-                defaults.note("Transformers", "In service", "yes");
+                defaults.note(
+                    "Transformers",
+                    "In service",
+                    "yes",
+                    t.default_at(r, "In service"),
+                );
                 true
             }),
         })
@@ -253,7 +284,7 @@ pub fn cables(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Ca
                 .number(r, "C (uF/km)", "a number of zero or more", d)
                 .unwrap_or(0.0),
             runs: count(t, r, "Runs", 1, d).unwrap_or_else(|| {
-                defaults.note("Cables", "Runs", "1");
+                defaults.note("Cables", "Runs", "1", t.default_at(r, "Runs"));
                 1
             }),
         })
@@ -303,7 +334,7 @@ pub fn banks(
         .iter()
         .map(|r| {
             let steps = count(t, r, "Steps", 1, d).unwrap_or_else(|| {
-                defaults.note("Capacitors", "Steps", "1");
+                defaults.note("Capacitors", "Steps", "1", t.default_at(r, "Steps"));
                 1
             });
             let detuning = t.number(r, "Detuning (%)", "a percentage between 0 and 100", d);
@@ -323,7 +354,12 @@ pub fn banks(
             };
             let status = match t.text(r, "Status", d) {
                 None => {
-                    defaults.note("Capacitors", "Status", "proposed");
+                    defaults.note(
+                        "Capacitors",
+                        "Status",
+                        "proposed",
+                        t.default_at(r, "Status"),
+                    );
                     BankStatus::Proposed
                 }
                 Some(s) => match normalize(&s).as_str() {
@@ -365,7 +401,12 @@ pub fn banks(
                     .number(r, "Reactor Q", "a positive number", d)
                     .unwrap_or_else(|| {
                         if reactor != Reactor::None {
-                            defaults.note("Capacitors", "Reactor Q", "50");
+                            defaults.note(
+                                "Capacitors",
+                                "Reactor Q",
+                                "50",
+                                t.default_at(r, "Reactor Q"),
+                            );
                         }
                         DEFAULT_REACTOR_Q
                     }),
@@ -444,19 +485,20 @@ pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Loa
                         "Loads",
                         "Power factor",
                         "0.85 (linear, motor) or 0.95 (converters)",
+                        t.default_at(r, "Power factor"),
                     );
                     v
                 }),
                 quantity: t
                     .number(r, "Quantity", "a number of zero or more", d)
                     .unwrap_or_else(|| {
-                        defaults.note("Loads", "Quantity", "1");
+                        defaults.note("Loads", "Quantity", "1", t.default_at(r, "Quantity"));
                         1.0
                     }),
                 load_factor: t
                     .number(r, "Load factor", "a number from 0 to 1", d)
                     .unwrap_or_else(|| {
-                        defaults.note("Loads", "Load factor", "1");
+                        defaults.note("Loads", "Load factor", "1", t.default_at(r, "Load factor"));
                         1.0
                     }),
                 spectrum,

@@ -10,6 +10,50 @@ use super::{InputError, Warning};
 
 /// The contract's matching rule for sheet, header and item names: case-insensitive,
 /// ignoring spaces, underscores, hyphens and a trailing unit in parentheses.
+/// Whether an unknown header looks like a renamed `contract` header: the same words in
+/// another order or case, a unit changed in brackets, or at most two letters different
+/// (a typo), or one name containing the other.
+fn alike(header: &str, contract: &str) -> bool {
+    let words = |s: &str| -> Vec<String> {
+        let mut w: Vec<String> = s
+            .split(|c: char| !c.is_alphanumeric())
+            .filter(|w| !w.is_empty())
+            .map(str::to_lowercase)
+            .collect();
+        w.sort();
+        w
+    };
+    let (a, b) = (normalize(header), normalize(contract));
+    if a.is_empty() || b.is_empty() {
+        return false;
+    }
+    let stem = |s: &str| {
+        let s = s.trim();
+        s.rfind('(').map_or(s, |i| s[..i].trim()).to_string()
+    };
+    words(header) == words(contract)
+        || words(&stem(header)) == words(&stem(contract))
+        || (a.len() >= 3 && b.contains(&a))
+        || (b.len() >= 3 && a.contains(&b))
+        || edit_distance(&a, &b) <= 2
+}
+
+/// Levenshtein distance between two strings, in characters.
+fn edit_distance(a: &str, b: &str) -> usize {
+    let b: Vec<char> = b.chars().collect();
+    let mut prev: Vec<usize> = (0..=b.len()).collect();
+    for (i, ca) in a.chars().enumerate() {
+        let mut cur = vec![i + 1; b.len() + 1];
+        for (j, &cb) in b.iter().enumerate() {
+            cur[j + 1] = (prev[j] + usize::from(ca != cb))
+                .min(prev[j + 1] + 1)
+                .min(cur[j] + 1);
+        }
+        prev = cur;
+    }
+    prev[b.len()]
+}
+
 pub fn normalize(name: &str) -> String {
     let mut s = name.trim();
     if s.ends_with(')')
@@ -150,6 +194,7 @@ impl Table {
             spec.iter().map(|c| (normalize(c.header), c)).collect();
         let mut rows = rows.into_iter().peekable();
         let mut next_free_col = 0;
+        let mut unknown: Vec<(String, u32)> = Vec::new();
         if let Some(header) = rows.next_if(|r| r.row == 0) {
             for (col, cell) in &header.cells {
                 let col = *col;
@@ -168,11 +213,7 @@ impl Table {
                     continue;
                 }
                 if !known.contains_key(&key) {
-                    diag.warn(
-                        sheet,
-                        Some(a1(0, col)),
-                        format!("unknown column \"{name}\" ignored"),
-                    );
+                    unknown.push((name.clone(), col));
                 }
                 t.columns.insert(key, col);
             }
@@ -188,9 +229,28 @@ impl Table {
             r.cells.retain(|(c, _)| kept.contains(c));
             t.rows.push(r);
         }
+        // A required column that is missing beside an unknown header like it: most likely
+        // renamed, reported at the renamed header's own cell.
+        let mut renamed: Vec<u32> = Vec::new();
         for c in spec.iter().filter(|c| c.required) {
             if !t.columns.contains_key(&normalize(c.header)) {
                 t.missing.insert(normalize(c.header));
+                if let Some((name, col)) = unknown
+                    .iter()
+                    .filter(|(_, col)| !renamed.contains(col))
+                    .find(|(name, _)| alike(name, c.header))
+                {
+                    renamed.push(*col);
+                    diag.error(
+                        sheet,
+                        a1(0, *col),
+                        format!(
+                            "required column \"{}\" is missing; this header \"{name}\" is not in the contract (renamed? the header must read \"{}\")",
+                            c.header, c.header
+                        ),
+                    );
+                    continue;
+                }
                 let found: Vec<String> = spec
                     .iter()
                     .filter(|s| t.columns.contains_key(&normalize(s.header)))
@@ -211,6 +271,13 @@ impl Table {
                 );
             }
         }
+        for (name, col) in unknown.iter().filter(|(_, col)| !renamed.contains(col)) {
+            diag.warn(
+                sheet,
+                Some(a1(0, *col)),
+                format!("unknown column \"{name}\" ignored"),
+            );
+        }
         t
     }
 
@@ -230,6 +297,16 @@ impl Table {
     /// Whether the sheet has the column with this contract header.
     pub fn has(&self, header: &str) -> bool {
         self.columns.contains_key(&normalize(header))
+    }
+
+    /// Where a default was applied: `header`'s cell in `row` (A1), or `row N` when the
+    /// sheet has no such column.
+    pub fn default_at(&self, row: &Row, header: &str) -> String {
+        if self.has(header) {
+            self.cell(row, header)
+        } else {
+            format!("row {}", row.row + 1)
+        }
     }
 
     /// A1 reference of `header`'s cell in `row`; column A when the column is absent.
