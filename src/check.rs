@@ -196,12 +196,14 @@ impl CheckResults {
             .collect();
         let first = over.first()?;
         let scenarios: Vec<&str> = over.iter().map(|r| r.scenario.as_str()).collect();
+        let pcc = &self.network.buses[self.pcc].id;
         Some(format!(
-            "With no capacitor bank in service the plant already exceeds its harmonic limits (scenario {}; worst voltage THD {:.2} % at {}, TDD {:.2} %): the converters need their own mitigation (line reactors, multi-pulse or active front ends, harmonic filters), and no bank choice fixes it.",
+            "With no capacitor bank in service the plant already exceeds its harmonic limits (scenario {}; at the PCC {pcc}: voltage THD {:.2} %, TDD {:.2} %; worst in-plant voltage THD {:.2} % at {}): the converters need their own mitigation (line reactors, multi-pulse or active front ends, harmonic filters), and no bank choice fixes it.",
             scenarios.join(", "),
+            first.pcc_thd.value,
+            first.tdd.value,
             first.worst_thd.value,
             first.worst_thd_bus,
-            first.tdd.value
         ))
     }
 

@@ -107,13 +107,13 @@ pub(super) fn summary(
         ws,
         top,
         &[
-            ("Check", 22.0),
+            ("Check", 40.0),
             ("Element", 16.0),
             ("Scenario", 10.0),
             ("Configuration", 26.0),
             ("Value", 12.0),
             ("Limit", 12.0),
-            ("Unit", 18.0),
+            ("Unit", 24.0),
             ("Verdict", 12.0),
         ],
     )?;
