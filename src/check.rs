@@ -57,6 +57,9 @@ pub struct CheckOptions {
     /// Only the frequency scan and the resonance screen (the `scan` command): no operating
     /// point, penetration, duty or remedies (their results are empty).
     pub scan_only: bool,
+    /// How penetration sums every configuration (bounded on large plants by default; the
+    /// figures reported are the same, `Direct` is the reference the tests compare with).
+    pub evaluation: crate::study::penetration::Evaluation,
     /// Simulate the switching events (`check` does; remedy re-runs do not).
     pub switching: bool,
 }
@@ -350,7 +353,13 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
         &scan.configurations,
         &operating,
         &limits.individual,
+        &limits
+            .thd_limit
+            .iter()
+            .map(|l| l.value)
+            .collect::<Vec<f64>>(),
         pcc,
+        options.evaluation,
     )?;
     let mut notes = Vec::new();
     notes.extend(penetration.injections.blocked.iter().cloned());
@@ -556,6 +565,7 @@ fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
                 remedies: Some(false),
                 scan_only: false,
                 switching: false,
+                evaluation: options.evaluation,
             };
             let Ok(after_res) = run_check(&changed, &rerun) else {
                 continue;

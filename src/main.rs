@@ -371,6 +371,7 @@ fn options(
         remedies,
         scan_only: false,
         switching: true,
+        ..Default::default()
     };
     (options, bar)
 }

@@ -132,7 +132,8 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
             bank_amplification: none.map_or_else(Vec::new, |n0| {
                 bank_amplification(d, res.penetration.result(d.scenario, n0, nc), orders)
             }),
-            buses: per_bus.then(|| bus_checks(d, &res.limits, &res.network)),
+            buses: (per_bus && d.evaluated.is_none())
+                .then(|| bus_checks(d, &res.limits, &res.network)),
             pcc_current_a: &d.pcc_current_a,
             bank_current_a: &d.bank_current_a,
             bank_voltage_percent: &d.bank_voltage_percent,

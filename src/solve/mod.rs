@@ -19,4 +19,4 @@ pub use load_flow::{
     LoadFlowFailure, LoadFlowScratch, LoadFlowSystem, MAX_ITERATIONS, MISMATCH_PU,
 };
 pub use sparse::{Factor, SingularPivot, Symbolic};
-pub use transfer::{HarmonicPoint, TransferScratch};
+pub use transfer::{HarmonicPoint, TransferScratch, Z0Blocks};

@@ -89,6 +89,18 @@ impl TState {
     }
 }
 
+/// Borrowed Z₀ blocks of a [`HarmonicPoint`] (see [`HarmonicPoint::z0_blocks`]).
+#[derive(Debug, Clone, Copy)]
+pub struct Z0Blocks<'a> {
+    pub k: usize,
+    pub n: usize,
+    pub l: usize,
+    pub bank_bank: &'a [Complex64],
+    pub bus_bank: &'a [Complex64],
+    pub bank_inj: &'a [Complex64],
+    pub bus_inj: &'a [Complex64],
+}
+
 /// Reusable buffers for [`HarmonicPoint::evaluate`].
 #[derive(Debug, Clone, Default)]
 pub struct TransferScratch {
@@ -159,6 +171,22 @@ impl HarmonicPoint {
     /// One step's admittance of bank `b`, per unit.
     pub fn y_step(&self, b: usize) -> Complex64 {
         self.y_step[b]
+    }
+
+    /// Z₀ (no banks) blocks, per unit, row-major: among the bank buses (k×k), every bus to
+    /// the bank buses (n×k), the bank buses to the injection buses (k×l) and every bus to
+    /// the injection buses (n×l).
+    pub fn z0_blocks(&self) -> Z0Blocks<'_> {
+        let st = &self.state;
+        Z0Blocks {
+            k: st.k,
+            n: st.n,
+            l: st.l,
+            bank_bank: &st.zss,
+            bus_bank: &st.zrs,
+            bank_inj: &st.zsj,
+            bus_inj: &st.zrj,
+        }
     }
 
     /// Z between every bus and every injection bus for each combination of `plan`: `out`

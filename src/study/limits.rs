@@ -254,21 +254,17 @@ pub fn limit_row(
         worst_order: d.worst[b].map(|w| w.order),
         worst_percent: d.worst[b].map(|w| Checked::new(w.v_percent, w.limit_percent)),
     };
+    // The worst buses and the in-plant flag come with the result (every bus summed, or
+    // the bounded evaluation's exact decision).
     let thd_ratio = |b: usize| d.thd_percent[b] / ctx.thd_limit[b].value;
-    let ind_ratio = |b: usize| crate::study::penetration::individual_key(d.worst[b]);
-    let argmax = |f: &dyn Fn(usize) -> f64| {
-        (0..net.buses.len())
-            .max_by(|&a, &b| f(a).total_cmp(&f(b)))
-            .unwrap_or(0)
-    };
-    let thd = check(argmax(&thd_ratio));
-    let ind = check(argmax(&ind_ratio));
+    let thd = check(d.worst_thd_bus);
+    let ind = check(d.worst_individual_bus);
     let bus_exceeds = |b: usize| {
         thd_ratio(b) > 1.0
             || d.worst[b].is_some_and(|w| w.limit_percent.is_some_and(|l| w.v_percent > l))
     };
     let ieee = iec_class(ctx.set).is_none();
-    let in_plant_above = (0..net.buses.len()).any(|b| b != ctx.pcc && bus_exceeds(b));
+    let in_plant_above = d.in_plant_above;
     let voltage_exceeds = bus_exceeds(ctx.pcc) || (!ieee && in_plant_above);
     let at_pcc = check(ctx.pcc.min(net.buses.len().saturating_sub(1)));
     // Without demand (I_L = 0: no load, only background) TDD has no base: not evaluated.

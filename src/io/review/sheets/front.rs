@@ -229,12 +229,29 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
         }
     }
     let ieee = res.limits.set == crate::model::LimitSet::Ieee519_2014;
-    for (b, bus) in res.network.buses.iter().enumerate() {
+    // The buses reported: the PCC and the bank buses (every configuration), and each bus that
+    // is some configuration's worst (over the configurations where it is the worst: the
+    // figures every evaluation of penetration gives exactly).
+    let mut always: Vec<usize> = std::iter::once(res.pcc)
+        .chain(res.network.banks.iter().map(|b| b.bus))
+        .collect();
+    always.sort_unstable();
+    always.dedup();
+    let mut reported = always.clone();
+    for d in &res.penetration.results {
+        reported.push(d.worst_thd_bus);
+        reported.push(d.worst_individual_bus);
+    }
+    reported.sort_unstable();
+    reported.dedup();
+    for &b in &reported {
+        let bus = &res.network.buses[b];
         let lim = res.limits.thd_limit[b].value;
         if let Some(d) = res
             .penetration
             .results
             .iter()
+            .filter(|d| always.contains(&b) || d.worst_thd_bus == b)
             .max_by(|x, y| x.thd_percent[b].total_cmp(&y.thd_percent[b]))
         {
             let v = d.thd_percent[b];
@@ -262,7 +279,8 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             ));
         }
     }
-    for (b, bus) in res.network.buses.iter().enumerate() {
+    for &b in &reported {
+        let bus = &res.network.buses[b];
         let ratio = |d: &crate::study::penetration::Distortion| {
             d.worst[b]
                 .and_then(|w| w.limit_percent.map(|l| w.v_percent / l))
@@ -272,6 +290,7 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             .penetration
             .results
             .iter()
+            .filter(|d| always.contains(&b) || d.worst_individual_bus == b)
             .max_by(|x, y| ratio(x).total_cmp(&ratio(y)))
             && let Some(w) = d.worst[b]
             && let Some(l) = w.limit_percent

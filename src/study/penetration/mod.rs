@@ -14,6 +14,8 @@
 
 use num_complex::Complex64;
 use rayon::prelude::*;
+
+mod bounded;
 use serde::Serialize;
 
 use super::Configuration;
@@ -59,9 +61,35 @@ pub struct Distortion {
     /// rms over the orders of each bank's harmonic current caused by the background alone,
     /// A per phase (0 without a Background sheet).
     pub bank_background_rms_a: Vec<f64>,
-    /// rms of the harmonic currents in each branch, A at the branch's from-bus kV.
-    pub branch_rms_a: Vec<f64>,
+    /// The bus with the highest ratio of voltage THD to its limit (the last of equal ones).
+    pub worst_thd_bus: usize,
+    /// The bus whose worst individual harmonic has the highest [`individual_key`].
+    pub worst_individual_bus: usize,
+    /// A bus other than the PCC above its THD limit or an individual limit.
+    pub in_plant_above: bool,
+    /// Which buses' `thd_percent` and `worst` were evaluated (`None`: every bus). The
+    /// bounded evaluation ([`Evaluation::Bounded`]) evaluates the PCC, the bank and source
+    /// buses and every bus that its bounds could not rule out as the worst; the others hold
+    /// NaN and `None`.
+    pub evaluated: Option<Vec<bool>>,
 }
+
+/// How the per-configuration sums are evaluated.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Evaluation {
+    /// Bounded where the plant is large (see [`BOUNDED_ABOVE`]), direct otherwise.
+    #[default]
+    Auto,
+    /// Every bus of every configuration by the full transfer matrix.
+    Direct,
+    /// Under magnitude summation: exact at the PCC, the bank and source buses and the worst
+    /// buses, the rest ruled out by proven bounds (`bounded.rs`); `phasor` is always direct.
+    Bounded,
+}
+
+/// Results × buses above which [`Evaluation::Auto`] bounds (the JSON's per-bus tables stop
+/// at the same size, `io::json::MAX_BUS_ENTRIES`).
+pub const BOUNDED_ABOVE: usize = 200_000;
 
 /// Keeps in `worst` the harmonic with the highest ratio to its limit (0 without a limit),
 /// ties going to the higher value.
@@ -166,6 +194,7 @@ impl Penetration {
     /// is the individual voltage limit of bus b at injected order o, `pcc` the PCC bus
     /// index, `operating` the load flow of the same configurations (its angles under
     /// `phasor` summation).
+    #[allow(clippy::too_many_arguments)]
     pub fn run(
         plant: &Plant,
         engines: &SequenceEngines<'_, '_>,
@@ -173,7 +202,9 @@ impl Penetration {
         configurations: &[Configuration],
         operating: &OperatingStudy,
         limits: &IndividualLimits,
+        thd_limit: &[f64],
         pcc: usize,
+        evaluation: Evaluation,
     ) -> Result<Penetration, SolveError> {
         let net = engines.positive.network();
         let law = plant.study.summation;
@@ -211,6 +242,7 @@ impl Penetration {
             .collect();
         let ctx = Ctx {
             net,
+            thd_limit,
             injections: &injections,
             points: &points,
             inputs: &inputs,
@@ -220,9 +252,31 @@ impl Penetration {
             law,
             pcc,
         };
+        let bounded = law != Summation::Phasor
+            && match evaluation {
+                Evaluation::Direct => false,
+                Evaluation::Bounded => true,
+                Evaluation::Auto => ns * nc * n > BOUNDED_ABOVE,
+            };
+        let prepared = if bounded {
+            Some(bounded::Prepared::new(&ctx))
+        } else {
+            None
+        };
+        let tasks: Vec<(usize, &[usize])> = if bounded {
+            // Bounded blocks hold no transfer matrices: smaller blocks, more parallelism.
+            (0..ns)
+                .flat_map(|s| order.chunks(8).map(move |c| (s, c)))
+                .collect()
+        } else {
+            tasks
+        };
         let blocks: Vec<Distortion> = tasks
             .par_iter()
-            .map(|&(s, chunk)| ctx.block(s, chunk))
+            .map(|&(s, chunk)| match &prepared {
+                Some(p) => p.block(&ctx, s, chunk),
+                None => ctx.block(s, chunk),
+            })
             .collect::<Result<Vec<Vec<Distortion>>, _>>()?
             .into_iter()
             .flatten()
@@ -284,6 +338,80 @@ impl Penetration {
         }
         Some(v)
     }
+}
+
+impl Penetration {
+    /// rms of the harmonic currents in each branch for scenario `s` with `steps`, A at the
+    /// branch's from-bus kV (every contribution by the summation law, as the bus voltages);
+    /// `None` if singular.
+    pub fn branch_rms_a(&self, net: &Network, s: usize, steps: &[u32]) -> Option<Vec<f64>> {
+        let plan = ComboPlan::new(&[steps]);
+        let mut scratch = TransferScratch::default();
+        let pts = self.points.get(s)?;
+        let (n, l) = pts.first().map_or((0, 0), HarmonicPoint::shape);
+        let nc = self.steps.len();
+        let theta: &[f64] = self
+            .steps
+            .iter()
+            .position(|c| c == steps)
+            .and_then(|c| self.angles.get(s * nc + c))
+            .map_or(&[], |a| &a[..]);
+        let amps: Vec<f64> = net
+            .branches
+            .iter()
+            .map(|b| amps_per_pu(net.buses[b.from].kv))
+            .collect();
+        let mut rms = vec![0.0; net.branches.len()];
+        let mut z = vec![Complex64::default(); n * l];
+        let mut inj = Vec::new();
+        let mut v = vec![Complex64::default(); n];
+        for (o, p) in pts.iter().enumerate() {
+            if !p.evaluate(&plan, &mut scratch, &mut z) {
+                return None;
+            }
+            let inp = &self.inputs[s][o];
+            let h = p.order;
+            if self.law == Summation::Phasor {
+                phasor_currents(inp, h, theta, l, &mut inj);
+                for (r, vr) in v.iter_mut().enumerate() {
+                    *vr = dot(&z[r * l..(r + 1) * l], &inj);
+                }
+                for &(from, to, k, y) in &inp.branches {
+                    let a = abs((v[from] - v[to]) * y) * amps[k];
+                    rms[k] += a * a;
+                }
+            } else {
+                for &(from, to, k, y) in &inp.branches {
+                    let i = magnitude_sum(self.law, h, inp, |c| {
+                        abs((z[from * l + c] - z[to * l + c]) * y)
+                    });
+                    let a = i * amps[k];
+                    rms[k] += a * a;
+                }
+            }
+        }
+        Some(rms.into_iter().map(f64::sqrt).collect())
+    }
+}
+
+/// Fills a result's worst buses and in-plant flag from its per-bus values (every bus
+/// evaluated): the worst THD bus by THD/limit and the worst individual bus by
+/// [`individual_key`], each the last of equal ones (as `Iterator::max_by`).
+fn summarize(d: &mut Distortion, thd_limit: &[f64], pcc: usize) {
+    let n = d.thd_percent.len();
+    let thd_ratio = |b: usize| d.thd_percent[b] / thd_limit[b];
+    let argmax =
+        |f: &dyn Fn(usize) -> f64| (0..n).max_by(|&a, &b| f(a).total_cmp(&f(b))).unwrap_or(0);
+    d.worst_thd_bus = argmax(&thd_ratio);
+    d.worst_individual_bus = argmax(&|b| individual_key(d.worst[b]));
+    d.in_plant_above = (0..n).any(|b| b != pcc && bus_above(d, thd_limit, b));
+}
+
+/// Bus `b` above its THD limit or an individual limit (its worst individual harmonic is
+/// the one with the highest ratio, so any order above shows there).
+fn bus_above(d: &Distortion, thd_limit: &[f64], b: usize) -> bool {
+    d.thd_percent[b] / thd_limit[b] > 1.0
+        || d.worst[b].is_some_and(|w| w.limit_percent.is_some_and(|l| w.v_percent > l))
 }
 
 /// Σ a_i·b_i.
@@ -407,6 +535,8 @@ fn phasor_angles(
 
 struct Ctx<'a> {
     net: &'a Network,
+    /// Voltage THD limit per bus, %.
+    thd_limit: &'a [f64],
     injections: &'a Injections,
     points: &'a [Vec<HarmonicPoint>],
     inputs: &'a [Vec<OrderInputs>],
@@ -441,7 +571,10 @@ impl Ctx<'_> {
                 bank_voltage_percent: vec![vec![0.0; no]; nk],
                 bank_current_a: vec![vec![0.0; no]; nk],
                 bank_background_rms_a: vec![0.0; nk],
-                branch_rms_a: vec![0.0; net.branches.len()],
+                worst_thd_bus: 0,
+                worst_individual_bus: 0,
+                in_plant_above: false,
+                evaluated: None,
             })
             .collect();
         let mut z = vec![Complex64::default(); chunk.len() * n * l];
@@ -451,11 +584,6 @@ impl Ctx<'_> {
             .banks
             .iter()
             .map(|b| amps_per_pu(net.buses[b.bus].kv))
-            .collect();
-        let branch_amps: Vec<f64> = net
-            .branches
-            .iter()
-            .map(|b| amps_per_pu(net.buses[b.from].kv))
             .collect();
         let mut inj = Vec::new();
         let mut inj_bg = Vec::new();
@@ -502,10 +630,6 @@ impl Ctx<'_> {
                             bank_bg[b] = abs(dot(&zb[r * l..(r + 1) * l], &inj_bg)) * y_bank(b);
                         }
                     }
-                    for &(from, to, k, y) in &inp.branches {
-                        let a = abs((v[from] - v[to]) * y) * branch_amps[k];
-                        d.branch_rms_a[k] += a * a;
-                    }
                 } else {
                     for (r, vm) in v_mag.iter_mut().enumerate() {
                         *vm = magnitude_sum(self.law, h, inp, |c| abs(zb[r * l + c]));
@@ -529,13 +653,6 @@ impl Ctx<'_> {
                                 magnitude_sum(self.law, h, &bg_only, |c| abs(zb[r * l + c]))
                                     * y_bank(b);
                         }
-                    }
-                    for &(from, to, k, y) in &inp.branches {
-                        let i = magnitude_sum(self.law, h, inp, |c| {
-                            abs((zb[from * l + c] - zb[to * l + c]) * y)
-                        });
-                        let a = i * branch_amps[k];
-                        d.branch_rms_a[k] += a * a;
                     }
                 }
                 d.pcc_current_a[o] = supply * pcc_amps;
@@ -562,7 +679,7 @@ impl Ctx<'_> {
         }
         for d in &mut out {
             d.thd_percent.iter_mut().for_each(|t| *t = t.sqrt());
-            d.branch_rms_a.iter_mut().for_each(|t| *t = t.sqrt());
+            summarize(d, self.thd_limit, self.pcc);
             d.bank_background_rms_a
                 .iter_mut()
                 .for_each(|t| *t = t.sqrt());
