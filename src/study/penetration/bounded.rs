@@ -43,6 +43,10 @@ pub(super) struct Prepared {
     /// Per scenario and order, per bus: the always-exact bus q nearest it in transfer
     /// impedance and S_rq = Σ_c |Z₀_rc − Z₀_qc|·w_c (see [`Prepared::new`]).
     reference: Vec<Vec<Vec<(usize, f64)>>>,
+    /// Per scenario and order, n×k row-major: |Z₀_rj| and |Z₀_rj − Z₀_qj| (q the bus's
+    /// reference), the bounds' coefficients, which no configuration changes.
+    abs_bank: Vec<Vec<Vec<f64>>>,
+    abs_near: Vec<Vec<Vec<f64>>>,
 }
 
 /// One order of one configuration: the energized banks and P = M·Z₀[E,:].
@@ -179,7 +183,7 @@ impl Prepared {
         // (the same two triangle inequalities on Z_r − Z_q = (Z₀_r − Z₀_q) − (Z₀_r,E −
         // Z₀_q,E)·P). On a radial plant a bus below a bank bus shares its transfer
         // impedances to everything upstream, so S_rq holds only the local injections.
-        let reference = (0..ns)
+        let reference: Vec<Vec<Vec<(usize, f64)>>> = (0..ns)
             .map(|s| {
                 ctx.points[s]
                     .iter()
@@ -210,11 +214,35 @@ impl Prepared {
                     .collect()
             })
             .collect();
+        let mut abs_bank = Vec::with_capacity(ns);
+        let mut abs_near = Vec::with_capacity(ns);
+        for (s, refs) in reference.iter().enumerate() {
+            let (mut ab, mut an) = (Vec::new(), Vec::new());
+            for (o, p) in ctx.points[s].iter().enumerate() {
+                let z0 = p.z0_blocks();
+                let k = z0.k;
+                let r_of: &Vec<(usize, f64)> = &refs[o];
+                ab.push(z0.bus_bank.iter().map(|&z| abs(z)).collect::<Vec<f64>>());
+                an.push(
+                    (0..z0.n * k)
+                        .map(|i| {
+                            let (r, j) = (i / k, i % k);
+                            let q = r_of[r].0;
+                            abs(z0.bus_bank[r * k + j] - z0.bus_bank[q * k + j])
+                        })
+                        .collect::<Vec<f64>>(),
+                );
+            }
+            abs_bank.push(ab);
+            abs_near.push(an);
+        }
         Prepared {
             terms,
             v0,
             always,
             reference,
+            abs_bank,
+            abs_near,
         }
     }
 
@@ -273,6 +301,8 @@ impl Prepared {
             let inp = &ctx.inputs[s][o];
             let terms = &self.terms[s][o];
             let v0 = &self.v0[s][o];
+            let abs_bank = &self.abs_bank[s][o];
+            let abs_near = &self.abs_near[s][o];
             let energized: Vec<usize> = (0..k)
                 .filter(|&b| {
                     let y = p.y_step(b) * f64::from(steps.get(b).copied().unwrap_or(0));
@@ -316,7 +346,7 @@ impl Prepared {
                     .energized
                     .iter()
                     .zip(&w)
-                    .map(|(&b, &wj)| abs(z0.bus_bank[r * k + b]) * wj)
+                    .map(|(&b, &wj)| abs_bank[r * k + b] * wj)
                     .sum();
                 if delta > 0.0 {
                     exact[r] = false;
@@ -326,7 +356,7 @@ impl Prepared {
                     .energized
                     .iter()
                     .zip(&w)
-                    .map(|(&b, &wj)| abs(z0.bus_bank[r * k + b] - z0.bus_bank[q * k + b]) * wj)
+                    .map(|(&b, &wj)| abs_near[r * k + b] * wj)
                     .sum();
                 let via_q = exact_v[q].last().copied().unwrap_or(f64::INFINITY) + s_rq + near;
                 hi[r * no + o] = (v0[r] + delta).min(via_q) * (1.0 + SLACK) * 100.0;

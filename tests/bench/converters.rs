@@ -1,0 +1,76 @@
+//! Every configuration on plants where most buses carry converters: a generated radial
+//! plant (one 13.8 kV feeder tree, a 0.48 kV bus under every fourth bus), converters with a
+//! custom 51-order spectrum (characteristic, even and interharmonic orders) on two thirds
+//! of the buses, 4 banks of 6 steps 7 % detuned (2,401 configurations), 2 supply scenarios.
+//! The whole check as the binary runs it without remedies (switching simulation included),
+//! the same without the switching simulation, and penetration evaluated directly (every
+//! bus of every configuration, the reference the bounded evaluation is tested against) for
+//! the ratio. Prints the peak resident memory afterwards. Run: `cargo bench --bench
+//! converters`.
+
+use overtone::check::{CheckOptions, run_check};
+use overtone::model::Reactor;
+use overtone::study::penetration::Evaluation;
+use overtone::synthetic::{generated_plant, with_converters, with_two_scenarios};
+
+fn main() {
+    divan::main();
+    if let Ok(status) = std::fs::read_to_string("/proc/self/status")
+        && let Some(line) = status.lines().find(|l| l.starts_with("VmHWM"))
+    {
+        println!(
+            "peak resident memory of the benchmark process: {}",
+            line.trim_start_matches("VmHWM:").trim()
+        );
+    }
+}
+
+fn plant(n: usize) -> overtone::model::Plant {
+    let mut p = with_converters(with_two_scenarios(generated_plant(n, 0, 4, 6, 17)), 17);
+    for b in &mut p.banks {
+        b.reactor = Reactor::Detuning { percent: 7.0 };
+    }
+    p
+}
+
+fn options(switching: bool, evaluation: Evaluation) -> CheckOptions {
+    CheckOptions {
+        remedies: Some(false),
+        switching,
+        evaluation,
+        ..Default::default()
+    }
+}
+
+/// The shape: 300 buses, 200 converter buses, 51 orders.
+#[divan::bench(sample_count = 3, sample_size = 1, args = [100, 300, 600])]
+fn whole_check(bencher: divan::Bencher, n: usize) {
+    let p = plant(n);
+    bencher.bench_local(|| {
+        let res = run_check(&p, &options(true, Evaluation::Auto)).expect("runs");
+        assert_eq!(res.penetration.injections.orders.len(), 51);
+        res.limit_rows.len()
+    });
+}
+
+#[divan::bench(sample_count = 3, sample_size = 1, args = [100, 300, 600, 1000])]
+fn check_without_switching(bencher: divan::Bencher, n: usize) {
+    let p = plant(n);
+    bencher.bench_local(|| {
+        run_check(&p, &options(false, Evaluation::Auto))
+            .expect("runs")
+            .limit_rows
+            .len()
+    });
+}
+
+#[divan::bench(sample_count = 2, sample_size = 1, args = [300])]
+fn check_without_switching_direct(bencher: divan::Bencher, n: usize) {
+    let p = plant(n);
+    bencher.bench_local(|| {
+        run_check(&p, &options(false, Evaluation::Direct))
+            .expect("runs")
+            .limit_rows
+            .len()
+    });
+}
