@@ -20,6 +20,7 @@
 //! every bus whose upper bound reaches the best exact value (or the limit).
 
 use num_complex::Complex64;
+use rayon::prelude::*;
 
 use super::{
     Ctx, Distortion, Individual, abs, amps_per_pu, individual_key, magnitude_sum, update_worst,
@@ -183,20 +184,35 @@ impl Prepared {
         // (the same two triangle inequalities on Z_r − Z_q = (Z₀_r − Z₀_q) − (Z₀_r,E −
         // Z₀_q,E)·P). On a radial plant a bus below a bank bus shares its transfer
         // impedances to everything upstream, so S_rq holds only the local injections.
+        // The reference q of each bus: among the exact buses, the two nearest by the bank
+        // columns alone (Σ_j |Z₀_rj − Z₀_qj|, k terms), then the one with the smaller S_rq
+        // (l terms): the bound holds for any q, the choice only makes it tight.
         let reference: Vec<Vec<Vec<(usize, f64)>>> = (0..ns)
             .map(|s| {
                 ctx.points[s]
-                    .iter()
+                    .par_iter()
                     .enumerate()
                     .map(|(o, p)| {
                         let z0 = p.z0_blocks();
-                        let l = z0.l;
+                        let (k, l) = (z0.k, z0.l);
                         let t = &terms[s][o];
                         (0..z0.n)
                             .map(|r| {
-                                always
+                                let mut near: Vec<(f64, usize)> = always
                                     .iter()
                                     .map(|&q| {
+                                        let d: f64 = (0..k)
+                                            .map(|j| {
+                                                abs(z0.bus_bank[r * k + j] - z0.bus_bank[q * k + j])
+                                            })
+                                            .sum();
+                                        (d, q)
+                                    })
+                                    .collect();
+                                near.sort_by(|a, b| a.0.total_cmp(&b.0));
+                                near.iter()
+                                    .take(2)
+                                    .map(|&(_, q)| {
                                         let sum: f64 = t
                                             .iter()
                                             .map(|&(c, w)| {
