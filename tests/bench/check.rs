@@ -8,16 +8,11 @@
 use overtone::check::run_check;
 use overtone::synthetic::{generated_plant, with_two_scenarios};
 
+mod peak;
+
 fn main() {
     divan::main();
-    if let Ok(status) = std::fs::read_to_string("/proc/self/status")
-        && let Some(line) = status.lines().find(|l| l.starts_with("VmHWM"))
-    {
-        println!(
-            "peak resident memory of the benchmark process: {}",
-            line.trim_start_matches("VmHWM:").trim()
-        );
-    }
+    peak::print_peak_memory();
 }
 
 /// The generated plant with 6-pulse drives (built-in spectrum) on ten 480 V buses.

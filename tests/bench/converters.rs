@@ -13,16 +13,11 @@ use overtone::model::Reactor;
 use overtone::study::penetration::Evaluation;
 use overtone::synthetic::{generated_plant, with_converters, with_two_scenarios};
 
+mod peak;
+
 fn main() {
     divan::main();
-    if let Ok(status) = std::fs::read_to_string("/proc/self/status")
-        && let Some(line) = status.lines().find(|l| l.starts_with("VmHWM"))
-    {
-        println!(
-            "peak resident memory of the benchmark process: {}",
-            line.trim_start_matches("VmHWM:").trim()
-        );
-    }
+    peak::print_peak_memory();
 }
 
 fn plant(n: usize) -> overtone::model::Plant {

@@ -187,3 +187,27 @@ pub fn output_within(cmd: &mut std::process::Command, seconds: u64) -> std::proc
         std::thread::sleep(Duration::from_millis(50));
     }
 }
+
+/// Prints `files` to PDF in `dir` with LibreOffice headless (a fresh profile in
+/// `dir/profile`), within `seconds`.
+pub fn soffice_to_pdf(
+    dir: &std::path::Path,
+    files: &[std::path::PathBuf],
+    seconds: u64,
+) -> std::process::Output {
+    output_within(
+        std::process::Command::new("soffice")
+            .arg("--headless")
+            .arg("--norestore")
+            .arg(format!(
+                "-env:UserInstallation=file://{}",
+                dir.join("profile").display()
+            ))
+            .arg("--convert-to")
+            .arg("pdf")
+            .arg("--outdir")
+            .arg(dir)
+            .args(files),
+        seconds,
+    )
+}

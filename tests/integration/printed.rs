@@ -62,21 +62,7 @@ fn printed_reviews_are_short_and_print_every_sentence_whole() {
         );
         reviews.push(review);
     }
-    let out = output_within(
-        Command::new("soffice")
-            .arg("--headless")
-            .arg("--norestore")
-            .arg(format!(
-                "-env:UserInstallation=file://{}",
-                dir.join("profile").display()
-            ))
-            .arg("--convert-to")
-            .arg("pdf")
-            .arg("--outdir")
-            .arg(&dir)
-            .args(&reviews),
-        900,
-    );
+    let out = crate::common::soffice_to_pdf(&dir, &reviews, 900);
     for (case, review) in cases.iter().zip(&reviews) {
         let pdf = review.with_extension("pdf");
         assert!(

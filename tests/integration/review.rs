@@ -386,21 +386,7 @@ fn switching_and_waveform_sheets_read_back_and_print() {
     let dir = temp("pdf");
     let path = dir.join("review.xlsx");
     std::fs::write(&path, &bytes).unwrap();
-    let out = crate::common::output_within(
-        Command::new("soffice")
-            .arg("--headless")
-            .arg("--norestore")
-            .arg(format!(
-                "-env:UserInstallation=file://{}",
-                dir.join("profile").display()
-            ))
-            .arg("--convert-to")
-            .arg("pdf")
-            .arg("--outdir")
-            .arg(&dir)
-            .arg(&path),
-        600,
-    );
+    let out = crate::common::soffice_to_pdf(&dir, std::slice::from_ref(&path), 600);
     let pdf = dir.join("review.pdf");
     assert!(
         pdf.exists(),

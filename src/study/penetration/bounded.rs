@@ -288,20 +288,7 @@ impl Prepared {
             .iter()
             .map(|b| amps_per_pu(net.buses[b.bus].kv))
             .collect();
-        let mut d = Distortion {
-            scenario: s,
-            configuration: c,
-            thd_percent: vec![0.0; n],
-            worst: vec![None; n],
-            pcc_current_a: vec![0.0; no],
-            bank_voltage_percent: vec![vec![0.0; no]; nk],
-            bank_current_a: vec![vec![0.0; no]; nk],
-            bank_background_rms_a: vec![0.0; nk],
-            worst_thd_bus: 0,
-            worst_individual_bus: 0,
-            in_plant_above: false,
-            evaluated: None,
-        };
+        let mut d = Distortion::zeroed(s, c, n, no, nk);
         // Per bus and order: the upper bound of 100·V (with slack), row-major n×no; per bus
         // whether the bound is exact (no energized bank reaches it).
         let mut hi = vec![0.0f64; n * no];

@@ -74,6 +74,27 @@ pub struct Distortion {
     pub evaluated: Option<Vec<bool>>,
 }
 
+impl Distortion {
+    /// A result of scenario `s`, configuration `c` with every sum at zero: `n` buses, `no`
+    /// injected orders, `nk` banks.
+    fn zeroed(s: usize, c: usize, n: usize, no: usize, nk: usize) -> Distortion {
+        Distortion {
+            scenario: s,
+            configuration: c,
+            thd_percent: vec![0.0; n],
+            worst: vec![None; n],
+            pcc_current_a: vec![0.0; no],
+            bank_voltage_percent: vec![vec![0.0; no]; nk],
+            bank_current_a: vec![vec![0.0; no]; nk],
+            bank_background_rms_a: vec![0.0; nk],
+            worst_thd_bus: 0,
+            worst_individual_bus: 0,
+            in_plant_above: false,
+            evaluated: None,
+        }
+    }
+}
+
 /// How the per-configuration sums are evaluated.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Evaluation {
@@ -303,13 +324,14 @@ impl Penetration {
         &self.results[s * configurations + c]
     }
 
-    /// Harmonic voltage at every bus and injected order for scenario `s` with `steps`, per
-    /// unit of nominal phase voltage: `v[bus][order]`. `None` if singular.
-    pub fn voltages(&self, s: usize, steps: &[u32]) -> Option<Vec<Vec<f64>>> {
-        let plan = ComboPlan::new(&[steps]);
-        let mut scratch = TransferScratch::default();
+    /// The plan, the points and the operating angles (`phasor` only) of one configuration
+    /// evaluated on demand; `None` for an unknown scenario.
+    fn one_configuration(
+        &self,
+        s: usize,
+        steps: &[u32],
+    ) -> Option<(ComboPlan, &[HarmonicPoint], &[f64])> {
         let pts = self.points.get(s)?;
-        let (n, l) = pts.first().map_or((0, 0), HarmonicPoint::shape);
         let nc = self.steps.len();
         let theta: &[f64] = self
             .steps
@@ -317,6 +339,15 @@ impl Penetration {
             .position(|c| c == steps)
             .and_then(|c| self.angles.get(s * nc + c))
             .map_or(&[], |a| &a[..]);
+        Some((ComboPlan::new(&[steps]), pts, theta))
+    }
+
+    /// Harmonic voltage at every bus and injected order for scenario `s` with `steps`, per
+    /// unit of nominal phase voltage: `v[bus][order]`. `None` if singular.
+    pub fn voltages(&self, s: usize, steps: &[u32]) -> Option<Vec<Vec<f64>>> {
+        let (plan, pts, theta) = self.one_configuration(s, steps)?;
+        let mut scratch = TransferScratch::default();
+        let (n, l) = pts.first().map_or((0, 0), HarmonicPoint::shape);
         let mut v = vec![vec![0.0; pts.len()]; n];
         let mut z = vec![Complex64::default(); n * l];
         let mut inj = Vec::new();
@@ -345,17 +376,9 @@ impl Penetration {
     /// branch's from-bus kV (every contribution by the summation law, as the bus voltages);
     /// `None` if singular.
     pub fn branch_rms_a(&self, net: &Network, s: usize, steps: &[u32]) -> Option<Vec<f64>> {
-        let plan = ComboPlan::new(&[steps]);
+        let (plan, pts, theta) = self.one_configuration(s, steps)?;
         let mut scratch = TransferScratch::default();
-        let pts = self.points.get(s)?;
         let (n, l) = pts.first().map_or((0, 0), HarmonicPoint::shape);
-        let nc = self.steps.len();
-        let theta: &[f64] = self
-            .steps
-            .iter()
-            .position(|c| c == steps)
-            .and_then(|c| self.angles.get(s * nc + c))
-            .map_or(&[], |a| &a[..]);
         let amps: Vec<f64> = net
             .branches
             .iter()
@@ -562,20 +585,7 @@ impl Ctx<'_> {
         let plan = ComboPlan::new(&combos);
         let mut out: Vec<Distortion> = chunk
             .iter()
-            .map(|&c| Distortion {
-                scenario: s,
-                configuration: c,
-                thd_percent: vec![0.0; n],
-                worst: vec![None; n],
-                pcc_current_a: vec![0.0; no],
-                bank_voltage_percent: vec![vec![0.0; no]; nk],
-                bank_current_a: vec![vec![0.0; no]; nk],
-                bank_background_rms_a: vec![0.0; nk],
-                worst_thd_bus: 0,
-                worst_individual_bus: 0,
-                in_plant_above: false,
-                evaluated: None,
-            })
+            .map(|&c| Distortion::zeroed(s, c, n, no, nk))
             .collect();
         let mut z = vec![Complex64::default(); chunk.len() * n * l];
         let mut scratch = TransferScratch::default();
