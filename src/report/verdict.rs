@@ -189,17 +189,9 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     }
     // The plant: harmonic limits where the limit set applies, and the power factor.
     let nc = res.scan.configurations.len();
-    let per_scenario: Vec<String> = res
-        .scan
-        .scenarios
-        .iter()
-        .enumerate()
-        .filter_map(|(s, name)| {
-            let rows = res.limit_rows.get(s * nc..(s + 1) * nc)?;
-            let over = rows.iter().filter(|r| r.exceeds).count();
-            Some(format!("{over} of {nc} in {name}"))
-        })
-        .collect();
+    // One line for the plant: configurations over the harmonic limits and configurations
+    // reaching the target PF (lagging, every bus in range), per scenario.
+    let mut parts = Vec::new();
     if !res.limit_rows.is_empty() {
         let set = match res.limits.set {
             crate::model::LimitSet::Ieee519_2014 => {
@@ -207,16 +199,18 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
             }
             other => format!("{} at every bus", super::limit_set_name(other)),
         };
-        write_hanging(
-            out,
-            "- ",
-            "    ",
-            &format!(
-                "Harmonic limits ({set}): configurations exceeding {}.",
-                per_scenario.join(", ")
-            ),
-            WIDTH,
-        )?;
+        let over: Vec<String> = res
+            .scan
+            .scenarios
+            .iter()
+            .enumerate()
+            .filter_map(|(s, name)| {
+                let rows = res.limit_rows.get(s * nc..(s + 1) * nc)?;
+                let n = rows.iter().filter(|r| r.exceeds).count();
+                Some(format!("{n}/{nc} {name}"))
+            })
+            .collect();
+        parts.push(format!("{set} exceeded in {}", over.join(", ")));
     }
     if !res.operating.points.is_empty() {
         let reach: Vec<String> = res
@@ -237,18 +231,21 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
                             && p.buses_out_of_range == 0
                     })
                     .count();
-                format!("{ok} of {} in {name}", pts.len())
+                format!("{ok}/{} {name}", pts.len())
             })
             .collect();
+        parts.push(format!(
+            "PF {} lagging reached, no bus out of range, in {}",
+            res.operating.target_power_factor,
+            reach.join(", ")
+        ));
+    }
+    if !parts.is_empty() {
         write_hanging(
             out,
             "- ",
             "    ",
-            &format!(
-                "Power factor {} lagging at the PCC reached without leading or a bus out of range: {}.",
-                res.operating.target_power_factor,
-                reach.join(", ")
-            ),
+            &format!("Plant (configurations): {}.", parts.join("; ")),
             WIDTH,
         )?;
     }
