@@ -334,8 +334,18 @@ impl Prepared {
             }
             let st = OrderState { energized, p: pm };
             // The always-exact buses: their rows, sums and what depends on them.
+            // At an energized bank's bus the row is P_j/y_j: Z[E,:] = Z₀[E,:] − Z₀[E,E]·M·Z₀[E,:]
+            // = (I − Z₀[E,E]·M)·Z₀[E,:] = D⁻¹·M·Z₀[E,:] (M = (D⁻¹ + Z₀[E,E])⁻¹), no extra work.
             for &r in &self.always {
-                row_after(&z0, &st, r, &mut row);
+                match st.energized.iter().position(|&b| net.banks[b].bus == r) {
+                    Some(j) => {
+                        let b = st.energized[j];
+                        let y = p.y_step(b) * f64::from(steps[b]);
+                        row.clear();
+                        row.extend(st.p[j * l..(j + 1) * l].iter().map(|x| x / y));
+                    }
+                    None => row_after(&z0, &st, r, &mut row),
+                }
                 let v = magnitude_sum(ctx.law, h, inp, |col| abs(row[col]));
                 exact_v[r].push(v);
                 rows[r].clone_from(&row);
