@@ -69,8 +69,11 @@ pub fn header(ws: &mut Worksheet, row: u32, headers: &[(&str, f64)]) -> Result<(
 /// Rows a long table prints: the rest stay on the sheet, hidden.
 pub const PRINTED_ROWS: usize = 45;
 
-/// Keeps a long table's printout to [`PRINTED_ROWS`] rows: the flagged rows first, then the
-/// most severe (`keys[i]` = (flagged, severity) of the table's row `first + i`); the other
+/// Tables up to this many rows (about two printed pages) print whole.
+pub const PRINTED_WHOLE: usize = 90;
+
+/// Keeps the printout of a table longer than [`PRINTED_WHOLE`] rows to [`PRINTED_ROWS`]:
+/// the flagged rows first, then the most severe (`keys[i]` = (flagged, severity) of the table's row `first + i`); the other
 /// rows are hidden, not removed (every row and formula stays on the sheet for the audit).
 /// The page header says how many rows print and how to see the rest; an autofilter on
 /// the header row (`first - 1`, columns `0..=last_col`) lets the reviewer sort and filter.
@@ -90,7 +93,7 @@ pub fn print_digest(
         first + keys.len() as u32 - 1,
         last_col,
     )?;
-    if keys.len() <= PRINTED_ROWS {
+    if keys.len() <= PRINTED_WHOLE {
         return Ok(());
     }
     let mut order: Vec<usize> = (0..keys.len()).collect();
