@@ -16,6 +16,23 @@ pub struct HarmonicPoint {
     pub order: f64,
     state: TState,
     y_step: Vec<Complex64>,
+    /// Lean points keep only some rows of Z₀ to the injection buses (`state.zrj` holds
+    /// those rows) and solve any other row on demand from the kept factorization.
+    lean: Option<Lean>,
+}
+
+/// What a lean [`HarmonicPoint`] needs to solve a row of Z₀ on demand.
+#[derive(Debug, Clone)]
+struct Lean {
+    sym: std::sync::Arc<crate::solve::Symbolic>,
+    factor: crate::solve::Factor,
+    /// The injection buses (columns).
+    inject: Vec<usize>,
+    /// Per bus, its row in `state.zrj` when kept.
+    kept: Vec<Option<usize>>,
+    /// Rows solved on demand, kept once solved (a row of Z₀ does not change with the
+    /// configuration; the candidates of one configuration are mostly those of the next).
+    solved: Vec<std::sync::OnceLock<Vec<Complex64>>>,
 }
 
 #[derive(Debug, Clone, Default)]
@@ -158,6 +175,75 @@ impl Engine<'_> {
             order,
             state: st,
             y_step: self.y_steps(order),
+            lean: None,
+        })
+    }
+
+    /// Like [`Engine::harmonic_point`], keeping of Z₀ to the injection buses only the rows
+    /// of the buses `keep`; the others are solved on demand
+    /// ([`HarmonicPoint::bus_inj_row`]). Needs k + |keep| solves instead of k + l, and
+    /// holds k·n + |keep|·l values instead of (k + l)·n. By symmetry of Y, row r of Z₀ at
+    /// the injection buses is column r at those buses.
+    pub fn harmonic_point_lean(
+        &self,
+        order: f64,
+        scenario: usize,
+        inject: &[usize],
+        keep: &[usize],
+        sym: &std::sync::Arc<crate::solve::Symbolic>,
+    ) -> Result<HarmonicPoint, SolveError> {
+        let net = self.network();
+        let f = self.factor(order, scenario, &[])?;
+        let n = net.buses.len();
+        let banks: Vec<usize> = net.banks.iter().map(|b| b.bus).collect();
+        let (k, l) = (banks.len(), inject.len());
+        let column = |bus: usize| {
+            let mut rhs = vec![Complex64::default(); n];
+            rhs[bus] = Complex64::new(1.0, 0.0);
+            self.solve(&f, &mut rhs);
+            rhs
+        };
+        let bank_cols: Vec<Vec<Complex64>> = banks.iter().map(|&b| column(b)).collect();
+        let mut st = TState {
+            k,
+            n,
+            l,
+            zss: Vec::with_capacity(k * k),
+            zrs: Vec::with_capacity(n * k),
+            zsj: Vec::with_capacity(k * l),
+            zrj: Vec::with_capacity(keep.len() * l),
+        };
+        for &a in &banks {
+            for col in &bank_cols {
+                st.zss.push(col[a]);
+            }
+        }
+        // Z₀[bank, c] = Z₀[c, bank]: the bank columns at the injection buses.
+        for col in &bank_cols {
+            st.zsj.extend(inject.iter().map(|&c| col[c]));
+        }
+        for r in 0..n {
+            for col in &bank_cols {
+                st.zrs.push(col[r]);
+            }
+        }
+        let mut kept = vec![None; n];
+        for (i, &q) in keep.iter().enumerate() {
+            let col = column(q);
+            st.zrj.extend(inject.iter().map(|&c| col[c]));
+            kept[q] = Some(i);
+        }
+        Ok(HarmonicPoint {
+            order,
+            state: st,
+            y_step: self.y_steps(order),
+            lean: Some(Lean {
+                sym: sym.clone(),
+                factor: f,
+                inject: inject.to_vec(),
+                kept,
+                solved: (0..n).map(|_| std::sync::OnceLock::new()).collect(),
+            }),
         })
     }
 }
@@ -190,7 +276,8 @@ impl HarmonicPoint {
     }
 
     /// Z between every bus and every injection bus for each combination of `plan`: `out`
-    /// holds slot after slot an n×l row-major block. False if any is singular.
+    /// holds slot after slot an n×l row-major block. False if any is singular. A lean point
+    /// first solves its missing rows (n solves).
     pub fn evaluate(
         &self,
         plan: &ComboPlan,
@@ -198,14 +285,65 @@ impl HarmonicPoint {
         out: &mut [Complex64],
     ) -> bool {
         let block = self.state.n * self.state.l;
-        run_plan(
-            plan,
-            &self.state,
-            &self.y_step,
-            &mut scratch.levels,
-            block,
-            out,
-        )
+        let full;
+        let state = if self.lean.is_some() {
+            let mut st = self.state.clone();
+            st.zrj.clear();
+            let mut row = Vec::new();
+            for r in 0..st.n {
+                self.bus_inj_row_once(r, &mut row);
+                st.zrj.extend_from_slice(&row);
+            }
+            full = st;
+            &full
+        } else {
+            &self.state
+        };
+        run_plan(plan, state, &self.y_step, &mut scratch.levels, block, out)
+    }
+
+    /// Row r of Z₀ at the injection buses, into `out` (l values): kept, or solved from the
+    /// factorization (lean points).
+    pub fn bus_inj_row(&self, r: usize, out: &mut Vec<Complex64>) {
+        let l = self.state.l;
+        out.clear();
+        match &self.lean {
+            None => out.extend_from_slice(&self.state.zrj[r * l..(r + 1) * l]),
+            Some(lean) => match lean.kept[r] {
+                Some(i) => out.extend_from_slice(&self.state.zrj[i * l..(i + 1) * l]),
+                None => {
+                    let row = lean.solved[r].get_or_init(|| {
+                        let mut x = vec![Complex64::default(); self.state.n];
+                        x[r] = Complex64::new(1.0, 0.0);
+                        let mut work = Vec::with_capacity(self.state.n);
+                        lean.sym.solve_in_place(&lean.factor, &mut x, &mut work);
+                        lean.inject.iter().map(|&c| x[c]).collect()
+                    });
+                    out.extend_from_slice(row);
+                }
+            },
+        }
+    }
+
+    /// Like [`HarmonicPoint::bus_inj_row`] without keeping a solved row (for one pass over
+    /// every bus).
+    pub fn bus_inj_row_once(&self, r: usize, out: &mut Vec<Complex64>) {
+        match &self.lean {
+            Some(lean) if lean.kept[r].is_none() && lean.solved[r].get().is_none() => {
+                let mut x = vec![Complex64::default(); self.state.n];
+                x[r] = Complex64::new(1.0, 0.0);
+                let mut work = Vec::with_capacity(self.state.n);
+                lean.sym.solve_in_place(&lean.factor, &mut x, &mut work);
+                out.clear();
+                out.extend(lean.inject.iter().map(|&c| x[c]));
+            }
+            _ => self.bus_inj_row(r, out),
+        }
+    }
+
+    /// True for a point built by [`Engine::harmonic_point_lean`].
+    pub fn is_lean(&self) -> bool {
+        self.lean.is_some()
     }
 }
 

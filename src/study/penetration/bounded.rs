@@ -25,7 +25,7 @@ use rayon::prelude::*;
 use super::{
     Ctx, Distortion, Individual, abs, amps_per_pu, individual_key, magnitude_sum, update_worst,
 };
-use crate::solve::{SolveError, Z0Blocks};
+use crate::solve::{HarmonicPoint, SolveError};
 use crate::study::injections::combine;
 
 /// Relative slack on the bounds, far above rounding (1e-15) and far below any figure
@@ -48,6 +48,17 @@ pub(super) struct Prepared {
     /// reference), the bounds' coefficients, which no configuration changes.
     abs_bank: Vec<Vec<Vec<f64>>>,
     abs_near: Vec<Vec<Vec<f64>>>,
+}
+
+/// The buses always summed exactly: the PCC, the bank buses and the source buses (sorted).
+pub(super) fn always_summed(net: &crate::network::Network, pcc: usize) -> Vec<usize> {
+    let mut always: Vec<usize> = std::iter::once(pcc)
+        .chain(net.banks.iter().map(|b| b.bus))
+        .chain(net.sources.iter().map(|s| s.bus))
+        .collect();
+    always.sort_unstable();
+    always.dedup();
+    always
 }
 
 /// One order of one configuration: the energized banks and P = M·Z₀[E,:].
@@ -108,10 +119,10 @@ fn solve_small(a: &mut [Complex64], b: &mut [Complex64], m: usize, l: usize) -> 
 }
 
 /// Z from bus `r` to every injection column after the energized banks of `st`.
-fn row_after(z0: &Z0Blocks<'_>, st: &OrderState, r: usize, out: &mut Vec<Complex64>) {
+fn row_after(p: &HarmonicPoint, st: &OrderState, r: usize, out: &mut Vec<Complex64>) {
+    let z0 = p.z0_blocks();
     let l = z0.l;
-    out.clear();
-    out.extend_from_slice(&z0.bus_inj[r * l..(r + 1) * l]);
+    p.bus_inj_row(r, out);
     for (j, &b) in st.energized.iter().enumerate() {
         let g = z0.bus_bank[r * z0.k + b];
         for (o, p) in out.iter_mut().zip(&st.p[j * l..(j + 1) * l]) {
@@ -144,40 +155,7 @@ fn finish_bus(orders: &[f64], limits: &[Option<f64>], r: usize, v: &[f64], d: &m
 impl Prepared {
     pub(super) fn new(ctx: &Ctx<'_>) -> Prepared {
         let ns = ctx.points.len();
-        let mut terms = Vec::with_capacity(ns);
-        let mut v0 = Vec::with_capacity(ns);
-        for s in 0..ns {
-            let mut ts = Vec::new();
-            let mut vs = Vec::new();
-            for (o, p) in ctx.points[s].iter().enumerate() {
-                let inp = &ctx.inputs[s][o];
-                let t: Vec<(usize, f64)> = inp
-                    .loads
-                    .iter()
-                    .map(|&(c, a, _)| (c, a))
-                    .chain(inp.background.iter().map(|&(c, i)| (c, abs(i))))
-                    .collect();
-                let z0 = p.z0_blocks();
-                let l = z0.l;
-                vs.push(
-                    (0..z0.n)
-                        .map(|r| {
-                            magnitude_sum(ctx.law, p.order, inp, |c| abs(z0.bus_inj[r * l + c]))
-                        })
-                        .collect::<Vec<f64>>(),
-                );
-                ts.push(t);
-            }
-            terms.push(ts);
-            v0.push(vs);
-        }
-        let net = ctx.net;
-        let mut always: Vec<usize> = std::iter::once(ctx.pcc)
-            .chain(net.banks.iter().map(|b| b.bus))
-            .chain(net.sources.iter().map(|s| s.bus))
-            .collect();
-        always.sort_unstable();
-        always.dedup();
+        let always = always_summed(ctx.net, ctx.pcc);
         // A second bound beside V₀ + δ: from the exact value at a reference bus q,
         //   V_r ≤ V_q + Σ_c |Z_rc − Z_qc|·w_c
         //       ≤ V_q + S_rq + Σ_j |Z₀_rj − Z₀_qj|·W_j,   S_rq = Σ_c |Z₀_rc − Z₀_qc|·w_c
@@ -186,50 +164,76 @@ impl Prepared {
         // impedances to everything upstream, so S_rq holds only the local injections.
         // The reference q of each bus: among the exact buses, the two nearest by the bank
         // columns alone (Σ_j |Z₀_rj − Z₀_qj|, k terms), then the one with the smaller S_rq
-        // (l terms): the bound holds for any q, the choice only makes it tight.
-        let reference: Vec<Vec<Vec<(usize, f64)>>> = (0..ns)
-            .map(|s| {
-                ctx.points[s]
-                    .par_iter()
-                    .enumerate()
-                    .map(|(o, p)| {
-                        let z0 = p.z0_blocks();
-                        let (k, l) = (z0.k, z0.l);
-                        let t = &terms[s][o];
-                        (0..z0.n)
-                            .map(|r| {
-                                let mut near: Vec<(f64, usize)> = always
-                                    .iter()
-                                    .map(|&q| {
-                                        let d: f64 = (0..k)
-                                            .map(|j| {
-                                                abs(z0.bus_bank[r * k + j] - z0.bus_bank[q * k + j])
-                                            })
-                                            .sum();
-                                        (d, q)
-                                    })
-                                    .collect();
-                                near.sort_by(|a, b| a.0.total_cmp(&b.0));
-                                near.iter()
-                                    .take(2)
-                                    .map(|&(_, q)| {
-                                        let sum: f64 = t
-                                            .iter()
-                                            .map(|&(c, w)| {
-                                                abs(z0.bus_inj[r * l + c] - z0.bus_inj[q * l + c])
-                                                    * w
-                                            })
-                                            .sum();
-                                        (q, sum)
-                                    })
-                                    .min_by(|a, b| a.1.total_cmp(&b.1))
-                                    .unwrap_or((ctx.pcc, f64::INFINITY))
+        // (l terms): the bound holds for any q, the choice only makes it tight. Each bus's
+        // row of Z₀ is read (or, on a lean point, solved) once, here.
+        type PerOrder = (Vec<(usize, f64)>, Vec<f64>, Vec<(usize, f64)>);
+        let mut terms = Vec::with_capacity(ns);
+        let mut v0 = Vec::with_capacity(ns);
+        let mut reference: Vec<Vec<Vec<(usize, f64)>>> = Vec::with_capacity(ns);
+        for s in 0..ns {
+            let per: Vec<PerOrder> = ctx.points[s]
+                .par_iter()
+                .enumerate()
+                .map(|(o, p)| {
+                    let inp = &ctx.inputs[s][o];
+                    let t: Vec<(usize, f64)> = inp
+                        .loads
+                        .iter()
+                        .map(|&(c, a, _)| (c, a))
+                        .chain(inp.background.iter().map(|&(c, i)| (c, abs(i))))
+                        .collect();
+                    let z0 = p.z0_blocks();
+                    let k = z0.k;
+                    let kept: Vec<Vec<Complex64>> = always
+                        .iter()
+                        .map(|&q| {
+                            let mut row = Vec::new();
+                            p.bus_inj_row(q, &mut row);
+                            row
+                        })
+                        .collect();
+                    let mut row = Vec::new();
+                    let mut vs = Vec::with_capacity(z0.n);
+                    let mut refs = Vec::with_capacity(z0.n);
+                    for r in 0..z0.n {
+                        p.bus_inj_row_once(r, &mut row);
+                        vs.push(magnitude_sum(ctx.law, p.order, inp, |c| abs(row[c])));
+                        let mut near: Vec<(f64, usize)> = always
+                            .iter()
+                            .enumerate()
+                            .map(|(qi, &q)| {
+                                let d: f64 = (0..k)
+                                    .map(|j| abs(z0.bus_bank[r * k + j] - z0.bus_bank[q * k + j]))
+                                    .sum();
+                                (d, qi)
                             })
-                            .collect()
-                    })
-                    .collect()
-            })
-            .collect();
+                            .collect();
+                        near.sort_by(|a, b| a.0.total_cmp(&b.0));
+                        refs.push(
+                            near.iter()
+                                .take(2)
+                                .map(|&(_, qi)| {
+                                    let sum: f64 =
+                                        t.iter().map(|&(c, w)| abs(row[c] - kept[qi][c]) * w).sum();
+                                    (always[qi], sum)
+                                })
+                                .min_by(|a, b| a.1.total_cmp(&b.1))
+                                .unwrap_or((ctx.pcc, f64::INFINITY)),
+                        );
+                    }
+                    (t, vs, refs)
+                })
+                .collect();
+            let (mut ts, mut vss, mut rss) = (Vec::new(), Vec::new(), Vec::new());
+            for (t, vs, refs) in per {
+                ts.push(t);
+                vss.push(vs);
+                rss.push(refs);
+            }
+            terms.push(ts);
+            v0.push(vss);
+            reference.push(rss);
+        }
         let mut abs_bank = Vec::with_capacity(ns);
         let mut abs_near = Vec::with_capacity(ns);
         for (s, refs) in reference.iter().enumerate() {
@@ -344,7 +348,7 @@ impl Prepared {
                         row.clear();
                         row.extend(st.p[j * l..(j + 1) * l].iter().map(|x| x / y));
                     }
-                    None => row_after(&z0, &st, r, &mut row),
+                    None => row_after(p, &st, r, &mut row),
                 }
                 let v = magnitude_sum(ctx.law, h, inp, |col| abs(row[col]));
                 exact_v[r].push(v);
@@ -440,7 +444,7 @@ impl Prepared {
             let i = r * no + o;
             if known[i].is_nan() {
                 let p = &points[o];
-                row_after(&p.z0_blocks(), &states[o], r, &mut row);
+                row_after(p, &states[o], r, &mut row);
                 known[i] = magnitude_sum(ctx.law, p.order, &ctx.inputs[s][o], |col| abs(row[col]));
             }
             known[i]

@@ -231,13 +231,34 @@ impl Penetration {
         let law = plant.study.summation;
         let ns = net.scenarios.len();
         let nc = configurations.len();
+        let bounded = law != Summation::Phasor
+            && match evaluation {
+                Evaluation::Direct => false,
+                Evaluation::Bounded => true,
+                Evaluation::Auto => ns * nc * net.buses.len() > BOUNDED_ABOVE,
+            };
+        // Bounded: lean points keep Z₀ to the injection buses only at the PCC, bank and
+        // source buses (the rows always summed) and solve other rows on demand.
+        let keep = bounded::always_summed(net, pcc);
+        let syms = [
+            std::sync::Arc::new(engines.positive.symbolic().clone()),
+            std::sync::Arc::new(engines.zero.symbolic().clone()),
+        ];
         let points: Vec<Vec<HarmonicPoint>> = (0..ns)
             .map(|s| {
                 injections
                     .orders
                     .par_iter()
                     .zip(&injections.sequences)
-                    .map(|(&h, &q)| engines.for_order(q).harmonic_point(h, s, &injections.buses))
+                    .map(|(&h, &q)| {
+                        let engine = engines.for_order(q);
+                        if bounded {
+                            let sym = &syms[usize::from(q == Sequence::Zero)];
+                            engine.harmonic_point_lean(h, s, &injections.buses, &keep, sym)
+                        } else {
+                            engine.harmonic_point(h, s, &injections.buses)
+                        }
+                    })
                     .collect::<Result<Vec<_>, _>>()
             })
             .collect::<Result<_, _>>()?;
@@ -273,12 +294,6 @@ impl Penetration {
             law,
             pcc,
         };
-        let bounded = law != Summation::Phasor
-            && match evaluation {
-                Evaluation::Direct => false,
-                Evaluation::Bounded => true,
-                Evaluation::Auto => ns * nc * n > BOUNDED_ABOVE,
-            };
         let prepared = if bounded {
             Some(bounded::Prepared::new(&ctx))
         } else {
