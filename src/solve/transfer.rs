@@ -125,6 +125,28 @@ pub struct TransferScratch {
 }
 
 impl Engine<'_> {
+    /// Column `bus` of Z₀ = Y₀⁻¹ from its factorization, per unit, every bus.
+    fn unit_column(&self, f: &crate::solve::Factor, bus: usize) -> Vec<Complex64> {
+        let mut rhs = vec![Complex64::default(); self.network().buses.len()];
+        rhs[bus] = Complex64::new(1.0, 0.0);
+        self.solve(f, &mut rhs);
+        rhs
+    }
+
+    /// Factors Y₀(h) in `scenario` and solves the columns at the bank buses: (factor, bank
+    /// buses, their columns).
+    #[allow(clippy::type_complexity)]
+    fn bank_columns(
+        &self,
+        order: f64,
+        scenario: usize,
+    ) -> Result<(crate::solve::Factor, Vec<usize>, Vec<Vec<Complex64>>), SolveError> {
+        let f = self.factor(order, scenario, &[])?;
+        let banks: Vec<usize> = self.network().banks.iter().map(|b| b.bus).collect();
+        let cols = banks.iter().map(|&b| self.unit_column(&f, b)).collect();
+        Ok((f, banks, cols))
+    }
+
     /// Factors Y₀(h) in `scenario` and solves the columns at the bank buses and at the
     /// injection buses `inject` (bus indices).
     pub fn harmonic_point(
@@ -133,18 +155,10 @@ impl Engine<'_> {
         scenario: usize,
         inject: &[usize],
     ) -> Result<HarmonicPoint, SolveError> {
-        let net = self.network();
-        let f = self.factor(order, scenario, &[])?;
-        let n = net.buses.len();
-        let banks: Vec<usize> = net.banks.iter().map(|b| b.bus).collect();
+        let (f, banks, bank_cols) = self.bank_columns(order, scenario)?;
+        let n = self.network().buses.len();
         let (k, l) = (banks.len(), inject.len());
-        let column = |bus: usize| {
-            let mut rhs = vec![Complex64::default(); n];
-            rhs[bus] = Complex64::new(1.0, 0.0);
-            self.solve(&f, &mut rhs);
-            rhs
-        };
-        let bank_cols: Vec<Vec<Complex64>> = banks.iter().map(|&b| column(b)).collect();
+        let column = |bus: usize| self.unit_column(&f, bus);
         let inj_cols: Vec<Vec<Complex64>> = inject.iter().map(|&b| column(b)).collect();
         let mut st = TState {
             k,
@@ -192,18 +206,10 @@ impl Engine<'_> {
         keep: &[usize],
         sym: &std::sync::Arc<crate::solve::Symbolic>,
     ) -> Result<HarmonicPoint, SolveError> {
-        let net = self.network();
-        let f = self.factor(order, scenario, &[])?;
-        let n = net.buses.len();
-        let banks: Vec<usize> = net.banks.iter().map(|b| b.bus).collect();
+        let (f, banks, bank_cols) = self.bank_columns(order, scenario)?;
+        let n = self.network().buses.len();
         let (k, l) = (banks.len(), inject.len());
-        let column = |bus: usize| {
-            let mut rhs = vec![Complex64::default(); n];
-            rhs[bus] = Complex64::new(1.0, 0.0);
-            self.solve(&f, &mut rhs);
-            rhs
-        };
-        let bank_cols: Vec<Vec<Complex64>> = banks.iter().map(|&b| column(b)).collect();
+        let column = |bus: usize| self.unit_column(&f, bus);
         let mut st = TState {
             k,
             n,
