@@ -11,6 +11,15 @@ pub mod verdict;
 
 pub use model::{model_scope, summation_meaning, switching_scope};
 
+/// A bank's series reactor in words: `7 % detuned`, `tuned at 4.7`; `None` for a plain bank.
+pub fn reactor_words(r: crate::model::Reactor) -> Option<String> {
+    match r {
+        crate::model::Reactor::None => None,
+        crate::model::Reactor::Detuning { percent } => Some(format!("{percent} % detuned")),
+        crate::model::Reactor::Tuned { order } => Some(format!("tuned at {order}")),
+    }
+}
+
 /// The limit set's name as printed.
 pub fn limit_set_name(l: crate::model::LimitSet) -> &'static str {
     use crate::model::LimitSet;

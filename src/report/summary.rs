@@ -110,11 +110,8 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         .map(|(b, m)| {
             let bus_kv = res.network.buses[m.bus].kv;
             let out_kvar = bus_kv * bus_kv / (b.step_xc_ohm() * (1.0 - m.p)) * 1000.0;
-            let reactor = match b.reactor {
-                crate::model::Reactor::None => String::new(),
-                crate::model::Reactor::Detuning { percent } => format!(", {percent} % detuned"),
-                crate::model::Reactor::Tuned { order } => format!(", tuned at {order}"),
-            };
+            let reactor =
+                super::reactor_words(b.reactor).map_or_else(String::new, |w| format!(", {w}"));
             format!(
                 "{} {} x {} kvar at {} kV{reactor} -> {:.1} kvar per step at {} kV",
                 b.id, b.steps, b.step_kvar, b.rated_kv, out_kvar, bus_kv

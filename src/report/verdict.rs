@@ -139,11 +139,7 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         .iter()
         .find(|n| n.starts_with("remedies not studied"));
     for (b, m) in res.plant.banks.iter().zip(&res.network.banks) {
-        let reactor = match b.reactor {
-            crate::model::Reactor::None => "plain".to_string(),
-            crate::model::Reactor::Detuning { percent } => format!("{percent} % detuned"),
-            crate::model::Reactor::Tuned { order } => format!("tuned at {order}"),
-        };
+        let reactor = super::reactor_words(b.reactor).unwrap_or_else(|| "plain".to_string());
         let head = format!(
             "{} ({}, {} x {} kvar, {reactor}): ",
             b.id, res.network.buses[m.bus].id, b.steps, b.step_kvar

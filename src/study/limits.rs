@@ -256,13 +256,9 @@ pub fn limit_row(
     };
     // The worst buses and the in-plant flag come with the result (every bus summed, or
     // the bounded evaluation's exact decision).
-    let thd_ratio = |b: usize| d.thd_percent[b] / ctx.thd_limit[b].value;
     let thd = check(d.worst_thd_bus);
     let ind = check(d.worst_individual_bus);
-    let bus_exceeds = |b: usize| {
-        thd_ratio(b) > 1.0
-            || d.worst[b].is_some_and(|w| w.limit_percent.is_some_and(|l| w.v_percent > l))
-    };
+    let bus_exceeds = |b: usize| crate::study::penetration::bus_above(d, b, ctx.thd_limit[b].value);
     let ieee = iec_class(ctx.set).is_none();
     let in_plant_above = d.in_plant_above;
     let voltage_exceeds = bus_exceeds(ctx.pcc) || (!ieee && in_plant_above);

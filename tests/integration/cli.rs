@@ -504,13 +504,15 @@ fn a_plant_built_from_the_template_gives_its_operating_point() {
     // As a new user would: the template's columns filled with a 13.8 kV service, a 2,000 kVA
     // transformer, 4 × 200 kW 6-pulse drives and a 6 × 100 kvar bank (invented), written
     // by the project's own writer, then `check` with the operating CSV.
-    use crate::common::{bank, bus, load, source, transformer};
+    use crate::common::{bank, load, service};
     use overtone::model::*;
-    let mut p = Plant::new(60.0);
+    let mut p = service(
+        ("HV", 13.8),
+        ("LV", 0.48),
+        (250.0, 10.0),
+        (2000.0, 5.75, 8.0),
+    );
     p.study.pcc_bus = Some("HV".into());
-    p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
-    p.sources = vec![source("U", "HV", 250.0, 10.0)];
-    p.transformers = vec![transformer("T", "HV", "LV", 2000.0, 5.75, 8.0)];
     let mut drives = load("VFD", "LV", LoadType::SixPulseDrive, 200.0, 0.95);
     drives.quantity = 4.0;
     p.loads = vec![drives, load("M", "LV", LoadType::Motor, 400.0, 0.85)];
@@ -821,12 +823,14 @@ fn transients_csv_inrush_limit_and_the_inductance_that_meets_it() {
     // switch withstands 1 kA peak (invented): back-to-back steps exceed it, `--strict`
     // exits 1, the summary names the inrush inductance that brings each under, and that
     // inductance, put in the workbook, does.
-    use crate::common::{bank, bus, load, source, transformer};
+    use crate::common::{bank, load, service};
     use overtone::model::*;
-    let mut p = Plant::new(60.0);
-    p.buses = vec![bus("HV", 13.8), bus("B", 0.48)];
-    p.sources = vec![source("U", "HV", 250.0, 10.0)];
-    p.transformers = vec![transformer("T", "HV", "B", 2000.0, 5.75, 8.0)];
+    let mut p = service(
+        ("HV", 13.8),
+        ("B", 0.48),
+        (250.0, 10.0),
+        (2000.0, 5.75, 8.0),
+    );
     p.loads = vec![load("L", "B", LoadType::Linear, 800.0, 0.85)];
     let mut c = bank("C", "B", 0.48, 100.0, 4, Reactor::None);
     c.inrush_limit_ka = Some(1.0);
@@ -988,12 +992,14 @@ fn a_plant_over_its_limits_without_banks_is_said_first() {
     // transformer (invented): with no bank at all the plant exceeds IEEE 519-2014, and the
     // summary says so in one sentence before any table; the demo, which meets its limits
     // without banks, does not.
-    use crate::common::{bank, bus, load, source, transformer};
+    use crate::common::{bank, load, service};
     use overtone::model::*;
-    let mut p = Plant::new(60.0);
-    p.buses = vec![bus("MAIN", 13.8), bus("LV", 0.48)];
-    p.sources = vec![source("U", "MAIN", 300.0, 12.0)];
-    p.transformers = vec![transformer("T", "MAIN", "LV", 2000.0, 5.75, 7.0)];
+    let mut p = service(
+        ("MAIN", 13.8),
+        ("LV", 0.48),
+        (300.0, 12.0),
+        (2000.0, 5.75, 7.0),
+    );
     p.loads = vec![load("VFD", "LV", LoadType::SixPulseDrive, 800.0, 0.95)];
     p.banks = vec![bank("C", "LV", 0.48, 100.0, 2, Reactor::None)];
     let res = overtone::check::run_check(&p, &Default::default()).unwrap();

@@ -211,3 +211,19 @@ pub fn soffice_to_pdf(
         seconds,
     )
 }
+
+/// A 60 Hz plant fed by source "U" (`mva` MVA, X/R) at bus `hv` through transformer "T"
+/// (`kva` kVA, `z_percent` %, X/R) to bus `lv`, each bus (id, kV): the supply most tests
+/// start from.
+pub fn service(
+    hv: (&str, f64),
+    lv: (&str, f64),
+    (mva, x_over_r): (f64, f64),
+    (kva, z_percent, t_x_over_r): (f64, f64, f64),
+) -> Plant {
+    let mut p = Plant::new(60.0);
+    p.buses = vec![bus(hv.0, hv.1), bus(lv.0, lv.1)];
+    p.sources = vec![source("U", hv.0, mva, x_over_r)];
+    p.transformers = vec![transformer("T", hv.0, lv.0, kva, z_percent, t_x_over_r)];
+    p
+}

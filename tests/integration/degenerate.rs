@@ -7,10 +7,12 @@ use overtone::model::*;
 use crate::common::*;
 
 fn base() -> Plant {
-    let mut p = Plant::new(60.0);
-    p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
-    p.sources = vec![source("U", "HV", 200.0, 10.0)];
-    p.transformers = vec![transformer("T", "HV", "LV", 1500.0, 5.75, 6.0)];
+    let mut p = service(
+        ("HV", 13.8),
+        ("LV", 0.48),
+        (200.0, 10.0),
+        (1500.0, 5.75, 6.0),
+    );
     p.banks = vec![bank("C", "LV", 0.48, 200.0, 3, Reactor::None)];
     p.loads = vec![load("D", "LV", LoadType::SixPulseDrive, 300.0, 0.95)];
     p

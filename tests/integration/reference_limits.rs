@@ -445,11 +445,13 @@ fn branch_rms_through_a_transformer_by_hand() {
     //   V_h = I_h·|1/(1/Z_sys + j·h/X_C)|, I_h = I₁·m_h/100, I₁ = 200/(√3·0.48) A;
     //   the transformer carries V_h/|Z_sys(h)| at 480 V, ×0.48/13.8 on its 13.8 kV (from)
     //   side, and its rms is the root of the sum of squares over the orders.
-    let mut p = Plant::new(60.0);
+    let mut p = service(
+        ("HV", 13.8),
+        ("LV", 0.48),
+        (250.0, 10.0),
+        (1500.0, 5.75, 7.0),
+    );
     p.study.max_demand_current_a = Some(100.0);
-    p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
-    p.sources = vec![source("U", "HV", 250.0, 10.0)];
-    p.transformers = vec![transformer("T", "HV", "LV", 1500.0, 5.75, 7.0)];
     p.banks = vec![bank("C", "LV", 0.48, 300.0, 1, Reactor::None)];
     p.spectra
         .push(spectrum("S", &[(5.0, 20.0), (7.0, 14.29), (11.0, 9.09)]));
@@ -490,10 +492,12 @@ fn ieee_519_verdict_is_at_the_pcc_and_in_plant_buses_are_informational() {
     // IEC 61000-2-4 (compatibility levels inside the plant) counts every bus. A 13.8 kV
     // PCC behind 300 MVA with a 480 V bus of drives and a plain bank that resonates there
     // (invented plant): under IEEE 519 the verdict must equal the PCC's own values.
-    let mut p = Plant::new(60.0);
-    p.buses = vec![bus("PCC", 13.8), bus("LV", 0.48)];
-    p.sources = vec![source("U", "PCC", 300.0, 12.0)];
-    p.transformers = vec![transformer("T", "PCC", "LV", 2000.0, 5.75, 7.0)];
+    let mut p = service(
+        ("PCC", 13.8),
+        ("LV", 0.48),
+        (300.0, 12.0),
+        (2000.0, 5.75, 7.0),
+    );
     p.loads = vec![load("VFD", "LV", LoadType::SixPulseDrive, 600.0, 0.95)];
     p.banks = vec![bank("C", "LV", 0.48, 150.0, 4, Reactor::None)];
     p.study.max_demand_current_a = Some(2000.0);

@@ -274,10 +274,12 @@ fn engineer_hand_check_from_the_path_and_with_plain_and_detuned_steps_together()
     // in series (IEEE Std 141-1993 short-circuit hand method, common practice). With the
     // same X/R the magnitudes add: S_sc = 1/(1/500 + 0.0575/2) MVA = 32.520 MVA at 480 V,
     // loads and motors left out (a 500 kW motor load here must not change it).
-    let mut p = Plant::new(60.0);
-    p.buses = vec![bus("MV", 13.8), bus("LV", 0.48)];
-    p.sources = vec![source("U", "MV", 500.0, 10.0)];
-    p.transformers = vec![transformer("T", "MV", "LV", 2000.0, 5.75, 10.0)];
+    let mut p = service(
+        ("MV", 13.8),
+        ("LV", 0.48),
+        (500.0, 10.0),
+        (2000.0, 5.75, 10.0),
+    );
     p.loads = vec![
         load("M", "LV", LoadType::Motor, 500.0, 0.85),
         load("D", "LV", LoadType::SixPulseDrive, 300.0, 0.95),

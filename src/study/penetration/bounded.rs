@@ -23,7 +23,8 @@ use num_complex::Complex64;
 use rayon::prelude::*;
 
 use super::{
-    Ctx, Distortion, Individual, abs, amps_per_pu, individual_key, magnitude_sum, update_worst,
+    Ctx, Distortion, Individual, abs, amps_per_pu, bus_above, individual_key, magnitude_sum,
+    update_worst,
 };
 use crate::solve::{HarmonicPoint, SolveError};
 use crate::study::injections::combine;
@@ -528,10 +529,7 @@ impl Prepared {
             }
         }
         // Any in-plant bus above a limit: decided by the exact sums where a bound allows it.
-        let above = |d: &Distortion, r: usize| {
-            d.thd_percent[r] / thd_limit[r] > 1.0
-                || d.worst[r].is_some_and(|w| w.limit_percent.is_some_and(|l| w.v_percent > l))
-        };
+        let above = |d: &Distortion, r: usize| bus_above(d, r, thd_limit[r]);
         let may = |r: usize, k: &[f64]| {
             thd_bound(r, k) > 1.0
                 || (0..no).any(|o| ctx.limits[r][o].is_some_and(|lp| value(r, o, k) > lp))

@@ -442,13 +442,13 @@ fn summarize(d: &mut Distortion, thd_limit: &[f64], pcc: usize) {
         |f: &dyn Fn(usize) -> f64| (0..n).max_by(|&a, &b| f(a).total_cmp(&f(b))).unwrap_or(0);
     d.worst_thd_bus = argmax(&thd_ratio);
     d.worst_individual_bus = argmax(&|b| individual_key(d.worst[b]));
-    d.in_plant_above = (0..n).any(|b| b != pcc && bus_above(d, thd_limit, b));
+    d.in_plant_above = (0..n).any(|b| b != pcc && bus_above(d, b, thd_limit[b]));
 }
 
-/// Bus `b` above its THD limit or an individual limit (its worst individual harmonic is
-/// the one with the highest ratio, so any order above shows there).
-fn bus_above(d: &Distortion, thd_limit: &[f64], b: usize) -> bool {
-    d.thd_percent[b] / thd_limit[b] > 1.0
+/// Bus `b` above its THD limit (`thd_limit_percent`) or an individual limit (its worst
+/// individual harmonic is the one with the highest ratio, so any order above shows there).
+pub fn bus_above(d: &Distortion, b: usize, thd_limit_percent: f64) -> bool {
+    d.thd_percent[b] / thd_limit_percent > 1.0
         || d.worst[b].is_some_and(|w| w.limit_percent.is_some_and(|l| w.v_percent > l))
 }
 

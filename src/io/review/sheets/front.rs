@@ -4,9 +4,10 @@ use rust_xlsxwriter::{Format, Worksheet, XlsxError};
 
 use super::super::Provenance;
 use super::super::writer::{Cell, header, n, on, row, t};
-use super::{limit_set_name, verdict_colours};
+use super::verdict_colours;
 use crate::check::CheckResults;
 use crate::model::{ResistanceModel, Summation};
+use crate::report::limit_set_name;
 use crate::study::Verdict;
 
 pub(super) fn summary(

@@ -13,8 +13,9 @@ use rust_xlsxwriter::{
 
 use super::Provenance;
 use crate::check::CheckResults;
-use crate::model::{LimitSet, ResistanceModel};
+use crate::model::ResistanceModel;
 use crate::report::cautions::CAUTIONS;
+use crate::report::limit_set_name;
 
 const BAD: [&str; 6] = [
     "RESONANT",
@@ -52,10 +53,6 @@ pub(super) fn verdict_colours(
         }
     }
     Ok(())
-}
-
-pub(super) fn limit_set_name(l: LimitSet) -> &'static str {
-    crate::report::limit_set_name(l)
 }
 
 /// Writes every sheet.
