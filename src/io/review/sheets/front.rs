@@ -108,7 +108,7 @@ pub(super) fn summary(
         ws,
         top,
         &[
-            ("Check", 40.0),
+            ("Check", 50.0),
             ("Element", 16.0),
             ("Scenario", 10.0),
             ("Configuration", 26.0),
