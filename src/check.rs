@@ -134,7 +134,7 @@ impl CheckResults {
     }
 
     /// The before/after outcome for `bank` over the configurations labelled `labels`.
-    fn outcome(&self, bank: &str, labels: &[String]) -> Outcome {
+    pub fn outcome(&self, bank: &str, labels: &[String]) -> Outcome {
         let has = |c: &str| labels.iter().any(|l| l == c);
         let limits: Vec<&LimitRow> = self
             .limit_rows

@@ -129,6 +129,36 @@ enum Command {
     },
     /// Size one detuned step or tuned filter from a few numbers, no workbook.
     Size(SizeArgs),
+    /// Search the bank plans (step size × count × detuning × voltage class at the Design
+    /// sheet's buses) that reach the target power factor and pass every check.
+    Design(DesignArgs),
+}
+
+#[derive(clap::Args)]
+struct DesignArgs {
+    /// The plant's input workbook (.xlsx, .xlsm, .xls or .ods), with a Design sheet (or a
+    /// proposed bank on the Capacitors sheet) and optionally a Load levels sheet.
+    plant: PathBuf,
+    /// Write the review workbook (.xlsx): the plans compared, the load levels, and every
+    /// study of the recommended plan.
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    output: Option<PathBuf>,
+    /// Write the plant with the recommended plan on its Capacitors sheet (.xlsx), ready for
+    /// `overtone check`.
+    #[arg(long, value_name = "FILE")]
+    write_plant: Option<PathBuf>,
+    /// The report date, YYYY-MM-DD (default: the input workbook's modification date).
+    #[arg(long, value_name = "DATE")]
+    date: Option<String>,
+    /// Print the design as JSON instead of the terminal table.
+    #[arg(long)]
+    json: bool,
+    /// No progress bar.
+    #[arg(long)]
+    quiet: bool,
+    /// Replace an existing output file that overtone did not write.
+    #[arg(long)]
+    force: bool,
 }
 
 #[derive(clap::Args)]
@@ -297,6 +327,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             }
         }
         Command::Size(a) => size(&a),
+        Command::Design(a) => design(&a),
         Command::Template { file, force } => {
             check_outputs(&[(&Some(file.clone()), OutputKind::Template)], None, force)?;
             overtone::io::template::write_template(&file)?;
@@ -527,6 +558,83 @@ fn study(
     })?;
     if out.strict && res.flagged() {
         return Ok(ExitCode::from(1));
+    }
+    Ok(code)
+}
+
+fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
+    check_outputs(
+        &[
+            (&a.output, OutputKind::Review),
+            (&a.write_plant, OutputKind::Template),
+        ],
+        Some(&a.plant),
+        a.force,
+    )?;
+    let date = a.date.as_deref().map(parse_date).transpose()?;
+    let read = read_workbook(&a.plant)?;
+    warn(&read.warnings);
+    let bar = if a.quiet {
+        ProgressBar::hidden()
+    } else {
+        ProgressBar::new(0)
+    };
+    bar.set_style(
+        ProgressStyle::with_template("designing {bar:40} {pos}/{len} plans, {eta} left")
+            .unwrap_or_else(|_| ProgressStyle::default_bar()),
+    );
+    let start = Instant::now();
+    let handle = bar.clone();
+    let options = overtone::study::design::DesignOptions {
+        progress: Some(Arc::new(move |done: u64, total: u64| {
+            if start.elapsed().as_secs_f64() > 1.0 {
+                handle.set_length(total);
+                handle.set_position(done);
+            }
+        })),
+        ..Default::default()
+    };
+    let res = overtone::study::design::run_design(&read.plant, &options);
+    bar.finish_and_clear();
+    let res = res?;
+    if let Some(path) = &a.write_plant
+        && let Some(i) = res.recommended
+    {
+        let bytes = overtone::io::template::plant_workbook(&res.plant_with(i)).map_err(|e| {
+            Failure(format!(
+                "{}: the workbook cannot be written ({e})",
+                path.display()
+            ))
+        })?;
+        overtone::io::output::write_bytes(path, &bytes)
+            .map_err(|e| Failure(format!("{}: {e}", path.display())))?;
+    }
+    if let Some(path) = &a.output {
+        let bytes =
+            std::fs::read(&a.plant).map_err(|e| Failure(format!("{}: {e}", a.plant.display())))?;
+        let prov = Provenance {
+            input: a
+                .plant
+                .file_name()
+                .map_or_else(String::new, |n| n.to_string_lossy().into_owned()),
+            sha256: sha256_hex(&bytes),
+            date: date.or_else(|| file_date(&a.plant)).unwrap_or(DEMO_DATE),
+            warnings: read.warnings.clone(),
+        };
+        overtone::io::review::write_design_review(path, &res, &prov)?;
+    }
+    let code = print(|w| {
+        if a.json {
+            writeln!(w, "{}", overtone::io::json::design_json(&res))
+        } else {
+            overtone::report::design::write_design(w, &res)
+        }
+    })?;
+    if a.write_plant.is_some() && res.recommended.is_none() {
+        let _ = writeln!(
+            io::stderr(),
+            "overtone: no plan passes every check, so --write-plant wrote nothing"
+        );
     }
     Ok(code)
 }

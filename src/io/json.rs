@@ -213,3 +213,34 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         cautions: crate::report::cautions::CAUTIONS,
     }
 }
+
+/// The design as JSON: the recommended plan, the reason, the counts, the baseline and every
+/// plan ranked with its controller choices and failures.
+pub fn design_json(d: &crate::study::design::DesignResult) -> String {
+    #[derive(serde::Serialize)]
+    struct DesignJson<'a> {
+        target_power_factor: f64,
+        levels: &'a [(String, f64)],
+        scenarios: &'a [String],
+        recommended: Option<&'a crate::study::design::PlanResult>,
+        reason: &'a str,
+        counts: crate::study::design::Counts,
+        baseline: &'a crate::study::design::Baseline,
+        unreachable: &'a [(String, String)],
+        notes: &'a [String],
+        plans: &'a [crate::study::design::PlanResult],
+    }
+    let j = DesignJson {
+        target_power_factor: d.target_power_factor,
+        levels: &d.levels,
+        scenarios: &d.scenarios,
+        recommended: d.recommended.map(|i| &d.plans[i]),
+        reason: &d.reason,
+        counts: d.counts,
+        baseline: &d.baseline,
+        unreachable: &d.unreachable,
+        notes: &d.notes,
+        plans: &d.plans,
+    };
+    serde_json::to_string_pretty(&j).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+}

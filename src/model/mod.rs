@@ -5,11 +5,13 @@
 //! the workbook reader, by code for the demo or tests) and then checked once by
 //! [`Plant::validate`], which returns every problem at once; nothing downstream re-checks.
 
+mod design;
 mod elements;
 mod sequence;
 mod validate;
 mod validate_sequence;
 
+pub use design::*;
 pub use elements::*;
 pub use sequence::*;
 pub use validate::{MAX_MAGNITUDE, MIN_MAGNITUDE, ModelError, ModelErrors};
@@ -31,6 +33,10 @@ pub struct Plant {
     pub spectra: Vec<Spectrum>,
     /// The `Background` sheet: harmonic EMFs behind the sources (input contract, version 2).
     pub background: Vec<BackgroundLine>,
+    /// The `Design` sheet (read by `design` only).
+    pub design: Vec<DesignRow>,
+    /// The `Load levels` sheet (read by `design` only).
+    pub load_levels: Vec<LoadLevelRow>,
 }
 
 impl Plant {
@@ -46,6 +52,8 @@ impl Plant {
             loads: Vec::new(),
             spectra: Vec::new(),
             background: Vec::new(),
+            design: Vec::new(),
+            load_levels: Vec::new(),
         }
     }
 

@@ -2,6 +2,7 @@
 
 pub mod capacitors;
 pub mod cautions;
+pub mod design;
 pub mod model;
 pub mod operating;
 pub mod sources;

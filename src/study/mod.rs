@@ -4,6 +4,7 @@
 
 pub mod background;
 pub mod config;
+pub mod design;
 pub mod detune;
 pub mod duty;
 pub mod hand;

@@ -42,6 +42,8 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
 pub enum ReviewError {
     #[error("{path}: the review workbook cannot be written ({source})")]
     Write { path: String, source: XlsxError },
+    #[error("the study of the recommended plan could not run: {0}")]
+    Study(String),
 }
 
 /// The review workbook's bytes.
@@ -65,6 +67,62 @@ pub fn review_bytes(res: &CheckResults, prov: &Provenance) -> Result<Vec<u8>, Xl
     );
     sheets::write_all(&mut wb, res, prov)?;
     wb.save_to_buffer()
+}
+
+/// The design review's bytes: the plans compared and the load levels, then the full study
+/// of the recommended plan (of the plant without a bank when no plan passes).
+pub fn design_review_bytes(
+    d: &crate::study::design::DesignResult,
+    prov: &Provenance,
+) -> Result<Vec<u8>, ReviewError> {
+    let err = |source: XlsxError| ReviewError::Write {
+        path: prov.input.clone(),
+        source,
+    };
+    let plant = d
+        .recommended
+        .map_or_else(|| d.base.clone(), |i| d.plant_with(i));
+    let options = crate::check::CheckOptions {
+        remedies: Some(false),
+        switching: true,
+        ..Default::default()
+    };
+    let mut res =
+        crate::check::run_check(&plant, &options).map_err(|e| ReviewError::Study(e.to_string()))?;
+    res.notes.extend(d.notes.iter().cloned());
+    let mut wb = Workbook::new();
+    let (y, m, day) = prov.date;
+    wb.set_properties(
+        &DocProperties::new()
+            .set_title("overtone design review")
+            .set_author(&plant.study.prepared_by)
+            .set_custom_property(
+                crate::io::output::REVIEW_MARK.0,
+                crate::io::output::REVIEW_MARK.1,
+            )
+            .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, day).map_err(err)?),
+    );
+    sheets::write_design(&mut wb, d, &res, prov).map_err(err)?;
+    wb.save_to_buffer().map_err(err)
+}
+
+/// Writes the design review workbook to `path`, whole or not at all.
+pub fn write_design_review(
+    path: &Path,
+    d: &crate::study::design::DesignResult,
+    prov: &Provenance,
+) -> Result<(), ReviewError> {
+    let bytes = design_review_bytes(d, prov).map_err(|e| match e {
+        ReviewError::Write { source, .. } => ReviewError::Write {
+            path: path.display().to_string(),
+            source,
+        },
+        other => other,
+    })?;
+    crate::io::output::write_bytes(path, &bytes).map_err(|e| ReviewError::Write {
+        path: path.display().to_string(),
+        source: XlsxError::IoError(e),
+    })
 }
 
 /// Writes the review workbook to `path` through a temporary file in the same folder, renamed

@@ -7,6 +7,7 @@
 //! validation ([`Plant::validate`]), whose element-and-field errors are mapped back to cells.
 
 mod cells;
+mod design;
 mod plausible;
 mod sequence;
 mod sheets;
@@ -21,6 +22,7 @@ use calamine::{HeaderRow, Reader, Sheets, open_workbook_auto_from_rs};
 
 pub use cells::{MAX_CELLS, MAX_ROWS};
 
+pub use design::reactor_choice;
 pub use sheets::{load_type, studied_steps};
 pub use study::{ITEMS as STUDY_ITEMS, limit_set, tolerance};
 pub use table::{a1, normalize};
@@ -263,6 +265,8 @@ pub const SHEETS: &[(&str, bool)] = &[
     ("Loads", false),
     ("Spectra", false),
     ("Background", false),
+    ("Design", false),
+    ("Load levels", false),
 ];
 
 /// Reads and validates a workbook held in memory; `file` names it in messages and `stem`
@@ -425,6 +429,14 @@ pub fn read_workbook_bytes_within(
     let mut t_background = table(8, sheets::BACKGROUND, &mut diag);
     if let Some(t) = &mut t_background {
         plant.background = sequence::background(t, &mut diag);
+        t.release_cells();
+    }
+    if let Some(t) = &mut table(9, design::DESIGN, &mut diag) {
+        plant.design = design::design(t, &mut diag);
+        t.release_cells();
+    }
+    if let Some(t) = &mut table(10, design::LOAD_LEVELS, &mut diag) {
+        plant.load_levels = design::load_levels(t, &mut diag);
         t.release_cells();
     }
     defaults.report(&mut diag);

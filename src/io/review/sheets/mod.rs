@@ -1,5 +1,6 @@
 //! The sheets of the review workbook.
 
+mod design;
 mod front;
 mod input;
 mod operating;
@@ -53,6 +54,18 @@ pub(super) fn verdict_colours(
         }
     }
     Ok(())
+}
+
+/// Writes the design's sheets, then every sheet of the recommended plan's study.
+pub fn write_design(
+    wb: &mut Workbook,
+    d: &crate::study::design::DesignResult,
+    res: &CheckResults,
+    prov: &Provenance,
+) -> Result<(), XlsxError> {
+    design::design(wb.add_worksheet().set_name("Design")?, d)?;
+    design::load_levels(wb.add_worksheet().set_name("Load levels")?, d)?;
+    write_all(wb, res, prov)
 }
 
 /// Writes every sheet.

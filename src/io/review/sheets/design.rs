@@ -1,0 +1,215 @@
+//! The design's own sheets: the plans compared (`Design`) and the controller's choices at
+//! each load level (`Load levels`), ahead of the recommended plan's study sheets.
+
+use rust_xlsxwriter::{Format, Worksheet, XlsxError};
+
+use super::super::writer::{Cell, LINE_POINTS, header, n, on, row, t, wrapped_lines};
+use crate::report::design::{baseline_words, level_words, plan_words};
+use crate::study::design::DesignResult;
+
+fn title(ws: &mut Worksheet, r: u32, text: &str, size: f64) -> Result<(), XlsxError> {
+    ws.write_string_with_format(r, 0, text, &Format::new().set_bold().set_font_size(size))?;
+    Ok(())
+}
+
+/// A sentence across the table's width, its row as tall as its wrapped lines.
+fn sentence(ws: &mut Worksheet, r: u32, text: &str, last_col: u16) -> Result<(), XlsxError> {
+    let f = Format::new()
+        .set_text_wrap()
+        .set_align(rust_xlsxwriter::FormatAlign::Top);
+    ws.merge_range(r, 0, r, last_col, text, &f)?;
+    ws.set_row_height(r, LINE_POINTS * wrapped_lines(text, 150.0, false) + 3.0)?;
+    Ok(())
+}
+
+/// The `Design` sheet: the answer, then every plan ranked with what it fails.
+pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
+    const LAST: u16 = 22;
+    title(
+        ws,
+        0,
+        "Design of the power-factor bank: the plans compared",
+        14.0,
+    )?;
+    let c = &d.counts;
+    let mut lines = vec![
+        format!(
+            "Target PF {} at the PCC {}; load levels {}. Without the bank: {}.",
+            d.target_power_factor,
+            d.plant.pcc_bus().unwrap_or_default(),
+            d.levels
+                .iter()
+                .map(|(n, h)| format!("{n} ({h} h/year)"))
+                .collect::<Vec<_>>()
+                .join(", "),
+            baseline_words(d)
+        ),
+        format!(
+            "Searched {} plans ({} families of size, detuning and voltage class × step counts): {} after the power-factor bound, {} scanned over every configuration, {} through every check, {} pass.",
+            c.enumerated, c.families, c.after_pf_bound, c.scanned, c.checked, c.passed
+        ),
+    ];
+    match d.recommended.map(|i| &d.plans[i]) {
+        Some(p) => {
+            lines.push(format!(
+                "Recommended: {}. PF at the PCC: {}. {}",
+                plan_words(p),
+                level_words(d, p),
+                d.reason
+            ));
+            lines.push("The sheets after Load levels are the full study of the recommended plan, as `overtone check` writes it for the plant with this plan on its Capacitors sheet.".into());
+        }
+        None => lines.push(format!("No plan satisfies every check. {}", d.reason)),
+    }
+    lines.push("A PROPOSAL for a licensed engineer's review: verify the input, the costs and the ratings; local electrical codes and the utility's rules govern.".into());
+    for (i, l) in lines.iter().enumerate() {
+        sentence(ws, 1 + i as u32, l, LAST)?;
+    }
+    let head = 2 + lines.len() as u32;
+    header(
+        ws,
+        head,
+        &[
+            ("Rank", 6.0),
+            ("Pareto", 7.0),
+            ("Bank", 10.0),
+            ("Bus", 10.0),
+            ("Steps", 6.0),
+            ("Step kvar (rated)", 9.0),
+            ("Rated kV", 7.0),
+            ("Reactor", 9.0),
+            ("kvar at bus kV", 9.0),
+            ("Cost (relative)", 9.0),
+            ("Lowest PF", 8.0),
+            ("Weighted PF", 8.0),
+            ("Resonance low (h)", 9.0),
+            ("Resonance high (h)", 9.0),
+            ("Hand check h", 8.0),
+            ("Margin (%)", 8.0),
+            ("Resonant rows", 8.0),
+            ("Tolerance flagged", 9.0),
+            ("Duty exceeded", 8.0),
+            ("PCC THD (%)", 8.0),
+            ("TDD (%)", 7.0),
+            ("Step change (%)", 8.0),
+            ("Verdict", 46.0),
+        ],
+    )?;
+    let wrap = Format::new().set_text_wrap();
+    for (i, p) in d.plans.iter().enumerate() {
+        let r = head + 1 + i as u32;
+        let verdict = if p.passes() {
+            "passes every check".to_string()
+        } else {
+            format!("fails: {}", p.fails.join("; "))
+        };
+        let checked = |v: f64| {
+            if p.scan_only {
+                Cell::Text("not checked (resonant)".into())
+            } else {
+                n(v, "0.00")
+            }
+        };
+        row(
+            ws,
+            r,
+            &[
+                n(p.rank as f64, "0"),
+                t(if p.pareto { "yes" } else { "" }),
+                t(p.bank.id.clone()),
+                t(p.plan.bus.clone()),
+                n(f64::from(p.plan.steps), "0"),
+                n(p.plan.step_kvar, "0.0"),
+                n(p.plan.rated_kv, "0.000"),
+                t(p.plan.reactor_label()),
+                n(p.effective_kvar, "0"),
+                n(p.cost, "0"),
+                on(p.pf_lowest, "0.000"),
+                on(p.pf_weighted, "0.000"),
+                on(p.resonance.map(|r| r.0), "0.00"),
+                on(p.resonance.map(|r| r.1), "0.00"),
+                on(p.hand_order, "0.00"),
+                on(p.outcome.margin_percent, "0.0"),
+                n(p.outcome.resonant as f64, "0"),
+                n(p.outcome.tolerance_flagged as f64, "0"),
+                if p.scan_only {
+                    Cell::Text("not checked (resonant)".into())
+                } else {
+                    n(p.outcome.duty_exceeded as f64, "0")
+                },
+                checked(p.pcc_thd_percent),
+                checked(p.tdd_percent),
+                checked(p.step_change_percent),
+                Cell::Blank,
+            ],
+        )?;
+        ws.write_string_with_format(r, LAST, &verdict, &wrap)?;
+        ws.set_row_height(r, LINE_POINTS * wrapped_lines(&verdict, 46.0, false))?;
+    }
+    super::verdict_colours(ws, head + 1, head + d.plans.len() as u32, LAST)?;
+    ws.set_freeze_panes(head + 1, 0)?;
+    ws.set_landscape();
+    ws.set_print_fit_to_pages(1, 0);
+    ws.set_repeat_rows(head, head)?;
+    Ok(())
+}
+
+/// The `Load levels` sheet: per level and scenario, the controller's steps and the PCC
+/// power factor without the bank and with the recommended plan.
+pub fn load_levels(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
+    title(ws, 0, "Load levels: what the controller switches", 14.0)?;
+    let text = "At each level and scenario the plant's other banks switch first, then the designed bank; each adds steps while the PCC power factor is below the target and blocks a step that would lead beyond the limit (common practice). Steps are listed bank by bank in the Capacitors sheet's order, the designed bank last.";
+    sentence(ws, 1, text, 8)?;
+    header(
+        ws,
+        3,
+        &[
+            ("Level", 12.0),
+            ("Hours per year", 9.0),
+            ("Scenario", 12.0),
+            ("PF without the bank", 10.0),
+            ("Steps without", 12.0),
+            ("PF with the plan", 10.0),
+            ("Steps with the plan", 12.0),
+            ("Reaches target", 9.0),
+            ("P at PCC (kW)", 10.0),
+        ],
+    )?;
+    let plan = d.recommended.map(|i| &d.plans[i]);
+    let mut r = 4;
+    for (l, (name, hours)) in d.levels.iter().enumerate() {
+        for (s, scen) in d.scenarios.iter().enumerate() {
+            let base = &d.baseline.control[l][s];
+            let with = plan.map(|p| &p.control[l][s]);
+            let steps = |v: &[u32]| v.iter().map(u32::to_string).collect::<Vec<_>>().join(" ");
+            row(
+                ws,
+                r,
+                &[
+                    t(name.clone()),
+                    n(*hours, "0"),
+                    t(scen.clone()),
+                    on(base.pf, "0.000"),
+                    t(steps(&base.steps)),
+                    on(with.and_then(|c| c.pf), "0.000"),
+                    t(with.map_or_else(String::new, |c| steps(&c.steps))),
+                    t(with.map_or("", |c| {
+                        if c.reaches {
+                            "reaches"
+                        } else if c.leading() {
+                            "LEADING"
+                        } else {
+                            "below target"
+                        }
+                    })),
+                    n(base.p_kw, "0"),
+                ],
+            )?;
+            r += 1;
+        }
+    }
+    super::verdict_colours(ws, 4, r.saturating_sub(1), 7)?;
+    ws.set_landscape();
+    ws.set_print_fit_to_pages(1, 0);
+    Ok(())
+}

@@ -1,0 +1,241 @@
+//! The terminal answer of `overtone design`: the recommended plan in a few lines, then the
+//! ranked plans, every line within 100 columns.
+
+use std::io::{self, Write};
+
+use super::table::{write_hanging, write_table};
+use crate::study::design::{DesignResult, PlanResult};
+
+const WIDTH: usize = 100;
+
+/// The controller's choice at each level as `full 0.951 (3)`: the lowest PF over the
+/// scenarios and the most steps of the bank.
+pub fn level_words(d: &DesignResult, p: &PlanResult) -> String {
+    d.levels
+        .iter()
+        .zip(&p.control)
+        .map(|((name, _), per)| {
+            let pf = per
+                .iter()
+                .filter_map(|c| c.pf)
+                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
+            let steps = per
+                .iter()
+                .map(|c| c.steps.last().copied().unwrap_or(0))
+                .max()
+                .unwrap_or(0);
+            let lead = if per.iter().any(|c| c.leading()) {
+                " leading"
+            } else {
+                ""
+            };
+            format!(
+                "{name} {}{lead} ({steps} step{})",
+                pf.map_or_else(|| "n/a".into(), |v| format!("{v:.3}")),
+                if steps == 1 { "" } else { "s" }
+            )
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// `3.31–3.62`, or `none` when no peak was found.
+pub fn range_words(r: Option<(f64, f64)>) -> String {
+    r.map_or_else(|| "none".into(), |(a, b)| format!("{a:.2}–{b:.2}"))
+}
+
+/// The plan in words with its bus and bank id.
+pub fn plan_words(p: &PlanResult) -> String {
+    let tuned = match p.plan.reactor {
+        crate::model::Reactor::Detuning { percent } => {
+            format!(" (tuned at {:.2})", 1.0 / (percent / 100.0).sqrt())
+        }
+        _ => String::new(),
+    };
+    format!(
+        "{} at {}: {}{tuned}, {:.0} kvar at bus voltage",
+        p.bank.id,
+        p.plan.bus,
+        p.plan.label(),
+        p.effective_kvar
+    )
+}
+
+pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
+    let c = &d.counts;
+    let pcc = d.plant.pcc_bus().unwrap_or_default();
+    write_hanging(
+        out,
+        "",
+        "  ",
+        &format!(
+            "Design of the power-factor bank: target PF {} at the PCC {pcc}; levels {}.",
+            d.target_power_factor,
+            d.levels
+                .iter()
+                .map(|(n, h)| format!("{n} ({h} h)"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ),
+        WIDTH,
+    )?;
+    write_hanging(
+        out,
+        "",
+        "  ",
+        &format!(
+            "Searched {} plans ({} families of size, detuning and class × step counts): {} after the power-factor bound, {} scanned over every configuration, {} through every check, {} pass.",
+            c.enumerated, c.families, c.after_pf_bound, c.scanned, c.checked, c.passed
+        ),
+        WIDTH,
+    )?;
+    writeln!(out)?;
+    match d.recommended.map(|i| &d.plans[i]) {
+        Some(p) => {
+            write_hanging(out, "Recommended: ", "  ", &plan_words(p), WIDTH)?;
+            write_hanging(
+                out,
+                "  PF at the PCC: ",
+                "    ",
+                &format!(
+                    "{}; without the bank {}.",
+                    level_words(d, p),
+                    baseline_words(d)
+                ),
+                WIDTH,
+            )?;
+            write_hanging(
+                out,
+                "  ",
+                "    ",
+                &format!(
+                    "Resonance {} (hand check {}), margin {} to the nearest characteristic order; worst PCC THD {:.2} %, TDD {:.2} %; largest step change {:.2} %; cost {:.0}.",
+                    range_words(p.resonance),
+                    p.hand_order
+                        .map_or_else(|| "n/a".into(), |h| format!("{h:.2}")),
+                    p.outcome
+                        .margin_percent
+                        .map_or_else(|| "n/a".into(), |m| format!("{m:.1} %")),
+                    p.pcc_thd_percent,
+                    p.tdd_percent,
+                    p.step_change_percent,
+                    p.cost
+                ),
+                WIDTH,
+            )?;
+            write_hanging(out, "  Why: ", "    ", &d.reason, WIDTH)?;
+        }
+        None => {
+            write_hanging(
+                out,
+                "No plan satisfies every check. ",
+                "  ",
+                &d.reason,
+                WIDTH,
+            )?;
+        }
+    }
+    writeln!(out)?;
+    writeln!(
+        out,
+        "Plans, ranked (* on the Pareto set of cost, margin and PF):"
+    )?;
+    let shown = if d.recommended.is_some() { 15 } else { 8 };
+    let rows: Vec<Vec<String>> = d
+        .plans
+        .iter()
+        .take(shown)
+        .map(|p| {
+            vec![
+                format!("{}{}", p.rank, if p.pareto { "*" } else { "" }),
+                p.plan.bus.clone(),
+                format!("{} × {}", p.plan.steps, p.plan.step_kvar),
+                format!("{}", p.plan.rated_kv),
+                p.plan.reactor_label(),
+                format!("{:.0}", p.effective_kvar),
+                format!("{:.0}", p.cost),
+                p.pf_lowest
+                    .map_or_else(|| "n/a".into(), |v| format!("{v:.3}")),
+                range_words(p.resonance),
+                p.outcome
+                    .margin_percent
+                    .map_or_else(|| "n/a".into(), |m| format!("{m:.1}")),
+                if p.passes() {
+                    "passes".into()
+                } else {
+                    format!("fails {}", p.fails.len())
+                },
+            ]
+        })
+        .collect();
+    write_table(
+        out,
+        &[
+            "#",
+            "bus",
+            "steps×kvar",
+            "kV",
+            "reactor",
+            "kvar@bus",
+            "cost",
+            "PF low",
+            "h range",
+            "margin %",
+            "verdict",
+        ],
+        &[1, 4, 10],
+        &rows,
+    )?;
+    if d.plans.len() > shown {
+        writeln!(
+            out,
+            "  ... {} more plans in the workbook (-o) and --json",
+            d.plans.len() - shown
+        )?;
+    }
+    let failing: Vec<&PlanResult> = d.plans.iter().take(shown).filter(|p| !p.passes()).collect();
+    if !failing.is_empty() {
+        writeln!(out)?;
+        writeln!(out, "What the listed plans fail:")?;
+        for p in failing {
+            write_hanging(
+                out,
+                &format!("  {}: ", p.rank),
+                "     ",
+                &p.fails.join("; "),
+                WIDTH,
+            )?;
+        }
+    }
+    writeln!(out)?;
+    for n in &d.notes {
+        write_hanging(out, "note: ", "  ", n, WIDTH)?;
+    }
+    write_hanging(
+        out,
+        "",
+        "",
+        "The plan is a proposal for a licensed engineer's review; see SAFETY.md. Local electrical codes and the utility's rules govern.",
+        WIDTH,
+    )?;
+    Ok(())
+}
+
+/// The PF without the bank per level: `full 0.905, light 0.902`.
+pub fn baseline_words(d: &DesignResult) -> String {
+    d.levels
+        .iter()
+        .zip(&d.baseline.control)
+        .map(|((name, _), per)| {
+            let pf = per
+                .iter()
+                .filter_map(|c| c.pf)
+                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
+            format!(
+                "{name} {}",
+                pf.map_or_else(|| "n/a".into(), |v| format!("{v:.3}"))
+            )
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
+}

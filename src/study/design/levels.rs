@@ -1,0 +1,180 @@
+//! Load levels and the power-factor controller of the design search.
+//!
+//! A level scales the loads' load factors (the `Load levels` sheet, or full and light load
+//! by default). At each level and supply scenario a controller picks the step counts:
+//! banks in order (the plant's other banks first, the designed bank last), each adding
+//! steps from its fewest studied count while the PCC power factor is below the target and
+//! the next step would not leave it leading beyond the limit (common practice: a PF
+//! controller switches a step in while the PF is below its setting and blocks a step that
+//! would lead). The power factor is the operating point's, solved by the load flow of
+//! [`crate::study::operating`].
+
+use super::DesignError;
+use crate::model::{LoadLevelRow, Plant};
+use crate::network::Network;
+use crate::study::operating::{OperatingStudy, supply_power};
+
+/// One load level: its name, its weight (hours per year) and the plant at that level.
+#[derive(Debug, Clone)]
+pub struct Level {
+    pub name: String,
+    pub hours: f64,
+    pub plant: Plant,
+}
+
+/// Default levels without a `Load levels` sheet: full load (the Loads sheet as given) and
+/// light load (every load factor halved); hours invented, stated in the Assumptions.
+pub const DEFAULT_LEVELS: [(&str, f64, f64); 2] = [("full", 6000.0, 1.0), ("light", 2760.0, 0.5)];
+
+/// The levels of `plant`: from its `Load levels` rows, or the defaults. A row's `Load`
+/// names a load id or a load type; blank = every load. Rows apply in the order every load,
+/// then types, then ids, so the most specific wins; loads no row names keep their factor.
+pub fn levels(plant: &Plant) -> Result<Vec<Level>, DesignError> {
+    if plant.load_levels.is_empty() {
+        return Ok(DEFAULT_LEVELS
+            .iter()
+            .map(|&(name, hours, scale)| {
+                let mut p = plant.clone();
+                for l in &mut p.loads {
+                    l.load_factor *= scale;
+                }
+                Level {
+                    name: name.to_string(),
+                    hours,
+                    plant: p,
+                }
+            })
+            .collect());
+    }
+    let mut names: Vec<&str> = Vec::new();
+    for r in &plant.load_levels {
+        if !names.contains(&r.level.as_str()) {
+            names.push(&r.level);
+        }
+    }
+    let mut out = Vec::new();
+    for name in names {
+        let rows: Vec<&LoadLevelRow> = plant
+            .load_levels
+            .iter()
+            .filter(|r| r.level == name)
+            .collect();
+        let hours = rows.iter().find_map(|r| r.hours).unwrap_or(1.0);
+        let mut p = plant.clone();
+        for pass in 0..3 {
+            for r in &rows {
+                let matches = |l: &crate::model::Load| match (&r.load, pass) {
+                    (None, 0) => true,
+                    (Some(t), 1) => {
+                        crate::io::workbook_in::load_type(t).is_some_and(|k| k == l.kind)
+                    }
+                    (Some(id), 2) => l.id == *id,
+                    _ => false,
+                };
+                for l in p.loads.iter_mut().filter(|l| matches(l)) {
+                    l.load_factor = r.load_factor;
+                }
+            }
+        }
+        for r in &rows {
+            if let Some(t) = &r.load
+                && crate::io::workbook_in::load_type(t).is_none()
+                && !plant.loads.iter().any(|l| l.id == *t)
+            {
+                return Err(DesignError::Input {
+                    sheet: "Load levels",
+                    cell: r.cell.clone(),
+                    message: format!(
+                        "\"Load\" names \"{t}\", which is neither a load on the Loads sheet nor a load type"
+                    ),
+                });
+            }
+        }
+        out.push(Level {
+            name: name.to_string(),
+            hours,
+            plant: p,
+        });
+    }
+    Ok(out)
+}
+
+/// What the controller chose at one level and scenario.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Control {
+    /// Step counts of every bank.
+    pub steps: Vec<u32>,
+    pub p_kw: f64,
+    pub q_kvar: f64,
+    /// PCC power factor (`None` without load or without a load-flow solution).
+    pub pf: Option<f64>,
+    /// True when the PF reaches the target (lagging, or leading within the limit).
+    pub reaches: bool,
+}
+
+impl Control {
+    /// True when the PCC draws leading reactive power.
+    pub fn leading(&self) -> bool {
+        self.q_kvar < 0.0
+    }
+}
+
+/// The PF controller over `allowed[b]` (ascending step counts of bank b, in controller
+/// order `order`) at scenario `s` of `study` (built on `net`).
+pub fn control(
+    study: &OperatingStudy,
+    net: &Network,
+    s: usize,
+    allowed: &[Vec<u32>],
+    order: &[usize],
+    target: f64,
+    leading_limit: f64,
+) -> Control {
+    let eval = |steps: &[u32]| -> Option<(f64, f64)> {
+        let v = study.shift_free_voltages(s, steps).ok()?;
+        Some(supply_power(net, s, &v))
+    };
+    let pf_of = |p: f64, q: f64| {
+        let s = p.hypot(q);
+        (p > 0.0 && s > 0.0).then(|| p / s)
+    };
+    // Acceptable: lagging, or leading no lower than the limit.
+    let acceptable =
+        |p: f64, q: f64| q >= -1e-9 || pf_of(p, q).is_some_and(|pf| pf >= leading_limit);
+    let reaches =
+        |p: f64, q: f64| acceptable(p, q) && pf_of(p, q).is_some_and(|pf| pf >= target - 1e-12);
+    let mut steps: Vec<u32> = allowed
+        .iter()
+        .map(|a| a.first().copied().unwrap_or(0))
+        .collect();
+    let mut now = eval(&steps);
+    for &b in order {
+        if now.is_some_and(|(p, q)| reaches(p, q)) {
+            break;
+        }
+        let mut chosen = steps[b];
+        let mut chosen_pq = now;
+        for &k in allowed[b].iter().skip(1) {
+            steps[b] = k;
+            let Some((p, q)) = eval(&steps) else { break };
+            if !acceptable(p, q) {
+                break;
+            }
+            chosen = k;
+            chosen_pq = Some((p, q));
+            if reaches(p, q) {
+                break;
+            }
+        }
+        steps[b] = chosen;
+        now = chosen_pq;
+    }
+    let (p_kw, q_kvar) = now.unwrap_or((f64::NAN, f64::NAN));
+    Control {
+        pf: pf_of(p_kw, q_kvar),
+        reaches: now.is_some_and(|(p, q)| reaches(p, q)),
+        steps,
+        p_kw,
+        q_kvar,
+    }
+}

@@ -1,0 +1,838 @@
+//! The design search (`overtone design`): the bank plans that reach the target power
+//! factor and stay clear of resonance, each checked exhaustively.
+//!
+//! 1. **Plans.** Per design bus: step size × detuning × capacitor voltage class (a family),
+//!    × step count within the allowed range; equal steps.
+//! 2. **Step count, pruned by the power factor (provably safe).** At each load level and
+//!    scenario the controller of [`levels::control`] uses the fewest steps that reach the
+//!    target. A family's count is the most steps the controller uses at any level with the
+//!    largest count allowed: a count above it is never switched in (same power factor at
+//!    every level, a higher cost, and more configurations, so no larger resonance margin:
+//!    dominated), and a count below it misses the target at the level that needed it.
+//! 3. **Scan (exact).** Each remaining plan is scanned by the combination engine over every
+//!    configuration: its step counts 0..N × every studied configuration of the other banks
+//!    × every scenario, across the capacitance tolerance band; a plan whose bank resonates
+//!    near a characteristic order stops there.
+//! 4. **Check (exact).** Survivors run every study of `check` (the same code): duty at the
+//!    solved voltage, harmonic limits at the PCC against the plant without the bank, the
+//!    step voltage change.
+//!
+//! The hand check h = √(S_sc/Q_c) is not used to discard plans: on the bundled cases it
+//! differs from the scan by up to 12.5 % (loads and motors), more than the 10 % margin, so
+//! it could discard a plan that passes. The scan-only pass in 3 is exact and cheap.
+
+pub mod levels;
+pub mod plans;
+
+use std::sync::Arc;
+
+use rayon::prelude::*;
+use serde::Serialize;
+
+use crate::check::{CheckError, CheckOptions, CheckResults, run_check};
+use crate::model::*;
+use crate::network::Network;
+use crate::study::Verdict;
+use crate::study::operating::OperatingStudy;
+use crate::study::remedy::Outcome;
+pub use levels::{Control, Level};
+pub use plans::{Family, Plan};
+
+/// Why a design could not run: a sentence naming the sheet and cell.
+#[derive(Debug, thiserror::Error)]
+pub enum DesignError {
+    #[error("{sheet}!{cell}: {message}")]
+    Input {
+        sheet: &'static str,
+        cell: String,
+        message: String,
+    },
+    #[error("{0}")]
+    Sheet(String),
+    #[error(transparent)]
+    Check(#[from] CheckError),
+}
+
+/// What the engineer asked for beyond the workbook.
+#[derive(Clone, Default)]
+pub struct DesignOptions {
+    /// Called with (plans done, plans to check) as the search advances.
+    pub progress: Option<Arc<dyn Fn(u64, u64) + Send + Sync>>,
+    pub evaluation: crate::study::penetration::Evaluation,
+}
+
+/// One plan and what every check found.
+#[derive(Debug, Clone, Serialize)]
+pub struct PlanResult {
+    pub plan: Plan,
+    pub bank: CapacitorBank,
+    /// Relative cost (the Design sheet's prices, or the invented defaults).
+    pub cost: f64,
+    /// Output of every step at the bus's nominal voltage, kvar.
+    pub effective_kvar: f64,
+    /// The controller's choice per level and scenario ([level][scenario]).
+    pub control: Vec<Vec<Control>>,
+    /// Hours-weighted mean over the levels of the lowest PCC power factor over scenarios.
+    pub pf_weighted: Option<f64>,
+    /// The lowest PCC power factor the controller leaves at any level and scenario.
+    pub pf_lowest: Option<f64>,
+    /// The bank's outcome over every configuration with it energized.
+    pub outcome: Outcome,
+    /// Lowest and highest parallel resonance order of the bank (scanned).
+    pub resonance: Option<(f64, f64)>,
+    /// The hand check h at all steps (lowest over scenarios).
+    pub hand_order: Option<f64>,
+    /// Largest steady-state voltage change of one step, % (and how many exceed).
+    pub step_change_percent: f64,
+    pub step_changes_exceeded: usize,
+    /// Worst PCC voltage THD and TDD over the configurations with the bank energized, %.
+    pub pcc_thd_percent: f64,
+    pub tdd_percent: f64,
+    /// True when only the scan ran (the plan resonates; later checks were not needed).
+    pub scan_only: bool,
+    /// Why the plan fails, one phrase each; empty = passes every check.
+    pub fails: Vec<String>,
+    /// On the Pareto set of the passing plans (cost, margin, PF).
+    pub pareto: bool,
+    pub rank: usize,
+}
+
+impl PlanResult {
+    pub fn passes(&self) -> bool {
+        self.fails.is_empty()
+    }
+}
+
+/// The plant without the bank, for comparison.
+#[derive(Debug, Clone, Serialize)]
+pub struct Baseline {
+    /// Per level and scenario.
+    pub control: Vec<Vec<Control>>,
+    pub pcc_thd_percent: f64,
+    pub tdd_percent: f64,
+    pub limits_exceeded: usize,
+}
+
+/// How many plans each stage saw.
+#[derive(Debug, Clone, Copy, Default, Serialize)]
+pub struct Counts {
+    /// Every plan allowed: families × step counts.
+    pub enumerated: usize,
+    pub families: usize,
+    /// Left after the power-factor bound (one count per family).
+    pub after_pf_bound: usize,
+    /// Scanned over every configuration.
+    pub scanned: usize,
+    /// Run through every check.
+    pub checked: usize,
+    pub passed: usize,
+}
+
+/// Everything the design found.
+#[derive(Debug, Clone)]
+pub struct DesignResult {
+    pub plant: Plant,
+    /// The plant the plans are added to (proposed banks on design buses removed).
+    pub base: Plant,
+    pub levels: Vec<(String, f64)>,
+    pub scenarios: Vec<String>,
+    pub target_power_factor: f64,
+    /// Ranked: passing plans first (cost, then margin), then the others (fewest failures).
+    pub plans: Vec<PlanResult>,
+    /// Index into `plans` of the recommended plan (`None`: no plan passes every check).
+    pub recommended: Option<usize>,
+    pub reason: String,
+    pub baseline: Baseline,
+    pub counts: Counts,
+    /// Levels × scenarios at which no allowed plan reaches the target (waived there).
+    pub unreachable: Vec<(String, String)>,
+    /// The id the designed bank takes at each design row.
+    pub bank_ids: Vec<String>,
+    /// Assumptions and decisions the reports state.
+    pub notes: Vec<String>,
+}
+
+impl DesignResult {
+    /// The plant with plan `i` in place: what `--write-plant` writes and `check` reruns.
+    pub fn plant_with(&self, i: usize) -> Plant {
+        let mut p = self.base.clone();
+        p.banks.push(self.plans[i].bank.clone());
+        p.design = self.plant.design.clone();
+        p.load_levels = self.plant.load_levels.clone();
+        p
+    }
+}
+
+/// The design rows: the `Design` sheet's, or one per proposed bank (its bus, steps of half,
+/// one and two times its step, 1 to 8 steps, the default detuning choices and classes).
+fn design_rows(plant: &Plant) -> Result<(Vec<DesignRow>, bool), DesignError> {
+    if !plant.design.is_empty() {
+        return Ok((plant.design.clone(), false));
+    }
+    let mut rows: Vec<DesignRow> = Vec::new();
+    for b in plant
+        .banks
+        .iter()
+        .filter(|b| b.status == BankStatus::Proposed)
+    {
+        if rows.iter().any(|r| r.bus == b.bus) {
+            continue;
+        }
+        rows.push(DesignRow {
+            bus: b.bus.clone(),
+            step_kvar: vec![b.step_kvar / 2.0, b.step_kvar, b.step_kvar * 2.0],
+            steps_min: DEFAULT_STEPS.0,
+            steps_max: DEFAULT_STEPS.1,
+            reactors: DEFAULT_REACTORS.to_vec(),
+            rated_kv: Vec::new(),
+            capacitor_cost_per_kvar: Vec::new(),
+            reactor_cost_per_kvar: None,
+            step_cost: None,
+            leading_pf_limit: None,
+            cells: DesignCells::default(),
+        });
+    }
+    if rows.is_empty() {
+        return Err(DesignError::Sheet(
+            "Design: the workbook has no Design sheet and no proposed bank on the Capacitors sheet: name the bus(es) where a bank may go and the allowed step sizes on a Design sheet (`overtone template FILE.xlsx` writes one)".into(),
+        ));
+    }
+    Ok((rows, true))
+}
+
+/// Checks what the reader cannot: buses that exist, a price per voltage class.
+fn validate_rows(plant: &Plant, rows: &[DesignRow]) -> Result<(), DesignError> {
+    for r in rows {
+        if plant.bus_index(&r.bus).is_none() {
+            return Err(DesignError::Input {
+                sheet: "Design",
+                cell: r.cells.bus.clone(),
+                message: format!(
+                    "\"Bus\" names \"{}\", which is not on the Buses sheet",
+                    r.bus
+                ),
+            });
+        }
+        if r.step_kvar.is_empty() {
+            return Err(DesignError::Input {
+                sheet: "Design",
+                cell: r.cells.step_kvar.clone(),
+                message: "\"Step kvar\" lists no step size: give the allowed sizes, kvar at rated voltage, e.g. 25, 50, 100".into(),
+            });
+        }
+        let n = r.capacitor_cost_per_kvar.len();
+        if n > 1 && n != r.rated_kv.len() {
+            return Err(DesignError::Input {
+                sheet: "Design",
+                cell: r.cells.capacitor_cost.clone(),
+                message: format!(
+                    "\"Capacitor cost (per kvar)\" lists {n} prices for {} voltage classes in \"Rated kV\": give one price, or one per class in the same order",
+                    r.rated_kv.len()
+                ),
+            });
+        }
+    }
+    if rows.len() > 1 {
+        for (i, r) in rows.iter().enumerate() {
+            if rows[..i].iter().any(|o| o.bus == r.bus) {
+                return Err(DesignError::Input {
+                    sheet: "Design",
+                    cell: r.cells.bus.clone(),
+                    message: format!("bus \"{}\" is listed twice: one row per bus", r.bus),
+                });
+            }
+        }
+    }
+    Ok(())
+}
+
+/// The check options of the search: no remedies, no switching simulation.
+fn check_options(options: &DesignOptions, scan_only: bool) -> CheckOptions {
+    CheckOptions {
+        remedies: Some(false),
+        scan_only,
+        switching: false,
+        evaluation: options.evaluation,
+        ..Default::default()
+    }
+}
+
+/// The controller's choices per level and scenario for a plant whose banks are `banks`,
+/// with `designed` (index of the designed bank, last in controller order) allowed `0..=max`.
+fn controls(
+    levels: &[Level],
+    bank: Option<&CapacitorBank>,
+    max: u32,
+    leading_limit: f64,
+) -> Result<Vec<Vec<Control>>, DesignError> {
+    let mut out = Vec::new();
+    for level in levels {
+        let mut plant = level.plant.clone();
+        if let Some(b) = bank {
+            let mut b = b.clone();
+            b.steps = max;
+            b.studied_steps = (0..=max).collect();
+            plant.banks.push(b);
+        }
+        let net = Network::build(&plant).map_err(CheckError::from)?;
+        let study = OperatingStudy::run(&plant, &net, &[]);
+        let allowed: Vec<Vec<u32>> = plant
+            .banks
+            .iter()
+            .map(|b| b.studied_steps.clone())
+            .collect();
+        let order: Vec<usize> = (0..plant.banks.len()).collect();
+        out.push(
+            (0..net.scenarios.len())
+                .map(|s| {
+                    levels::control(
+                        &study,
+                        &net,
+                        s,
+                        &allowed,
+                        &order,
+                        plant.study.target_power_factor,
+                        leading_limit,
+                    )
+                })
+                .collect(),
+        );
+    }
+    Ok(out)
+}
+
+fn designed_steps(control: &[Vec<Control>]) -> u32 {
+    control
+        .iter()
+        .flatten()
+        .map(|c| c.steps.last().copied().unwrap_or(0))
+        .max()
+        .unwrap_or(0)
+}
+
+/// A family's plan at its bounded step count, with the controller's choices at the largest
+/// count and at that count ([level][scenario]).
+type Bounded = (Plan, Vec<Vec<Control>>, Vec<Vec<Control>>);
+
+/// Runs the design search on `plant` (its `Design` and `Load levels` rows).
+pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult, DesignError> {
+    plant.validate().map_err(CheckError::from)?;
+    let (rows, derived) = design_rows(plant)?;
+    validate_rows(plant, &rows)?;
+    let target = plant.study.target_power_factor;
+    // The plant the plans join: proposed banks on the design buses are what is designed.
+    let mut base = plant.clone();
+    base.banks
+        .retain(|b| !(b.status == BankStatus::Proposed && rows.iter().any(|r| r.bus == b.bus)));
+    let bank_ids: Vec<String> = rows
+        .iter()
+        .map(|r| {
+            plant
+                .banks
+                .iter()
+                .find(|b| b.status == BankStatus::Proposed && b.bus == r.bus)
+                .map_or_else(|| format!("PFC-{}", r.bus), |b| b.id.clone())
+        })
+        .collect();
+    let templates: Vec<Option<&CapacitorBank>> = rows
+        .iter()
+        .map(|r| {
+            plant
+                .banks
+                .iter()
+                .find(|b| b.status == BankStatus::Proposed && b.bus == r.bus)
+        })
+        .collect();
+    let levels = levels::levels(&base)?;
+    let scenarios = plant.scenarios();
+    let bus_kv = |bus: &str| {
+        plant
+            .buses
+            .iter()
+            .find(|b| b.id == bus)
+            .map_or(f64::NAN, |b| b.nominal_kv)
+    };
+    let families: Vec<Family> = rows
+        .iter()
+        .enumerate()
+        .flat_map(|(i, r)| plans::families(i, r, bus_kv(&r.bus)))
+        .collect();
+    let mut counts = Counts {
+        families: families.len(),
+        enumerated: families
+            .iter()
+            .map(|f| (rows[f.row].steps_max - rows[f.row].steps_min + 1) as usize)
+            .sum(),
+        ..Default::default()
+    };
+    let leading = |r: &DesignRow| r.leading_pf_limit.unwrap_or(DEFAULT_LEADING_PF_LIMIT);
+    let baseline_control = controls(&levels, None, 0, leading(&rows[0]))?;
+    // 2. The step count of each family from the controller at the largest count.
+    let plan_of = |f: &Family, steps: u32| Plan {
+        bus: rows[f.row].bus.clone(),
+        step_kvar: f.step_kvar,
+        steps,
+        reactor: f.reactor,
+        rated_kv: f.rated_kv,
+    };
+    let bounded: Vec<Result<Bounded, DesignError>> = families
+        .par_iter()
+        .map(|f| {
+            let row = &rows[f.row];
+            let widest = plan_of(f, row.steps_max);
+            let b = plans::bank(&widest, &bank_ids[f.row], templates[f.row]);
+            let at_max = controls(&levels, Some(&b), row.steps_max, leading(row))?;
+            let n = designed_steps(&at_max).clamp(row.steps_min, row.steps_max);
+            let at_n = if n == row.steps_max {
+                at_max.clone()
+            } else {
+                controls(&levels, Some(&b), n, leading(row))?
+            };
+            Ok((plan_of(f, n), at_max, at_n))
+        })
+        .collect();
+    let mut bounded_ok = Vec::new();
+    for b in bounded {
+        bounded_ok.push(b?);
+    }
+    // Where no allowed plan reaches the target, it is waived; where none reaches it at any
+    // level, the design limits contradict the target.
+    let nl = levels.len();
+    let ns = scenarios.len();
+    let mut reachable = vec![vec![false; ns]; nl];
+    for (_, at_max, _) in &bounded_ok {
+        for (l, per) in at_max.iter().enumerate() {
+            for (s, c) in per.iter().enumerate() {
+                reachable[l][s] |= c.reaches;
+            }
+        }
+    }
+    if reachable.iter().flatten().all(|r| !r) {
+        let (best, _) = bounded_ok
+            .iter()
+            .map(|(_, at_max, _)| {
+                let pf = at_max
+                    .iter()
+                    .flatten()
+                    .filter_map(|c| c.pf)
+                    .fold(f64::INFINITY, f64::min);
+                (at_max, pf)
+            })
+            .fold((None, f64::NEG_INFINITY), |(b, bp), (c, pf)| {
+                if pf > bp { (Some(c), pf) } else { (b, bp) }
+            });
+        let best_pf = best
+            .map(|c| {
+                c.iter()
+                    .flatten()
+                    .filter_map(|c| c.pf)
+                    .fold(f64::INFINITY, f64::min)
+            })
+            .unwrap_or(f64::NAN);
+        let r = &rows[0];
+        let largest = r.step_kvar.last().copied().unwrap_or(0.0);
+        return Err(DesignError::Input {
+            sheet: "Design",
+            cell: r.cells.steps.clone(),
+            message: format!(
+                "no allowed plan reaches the target power factor {target} at any load level: the best, {} × {largest} kvar, leaves {best_pf:.3} at the PCC; allow more steps here or larger sizes in \"Step kvar\" ({}), or lower \"Target power factor\" on the Study sheet",
+                r.steps_max, r.cells.step_kvar
+            ),
+        });
+    }
+    let mut unreachable = Vec::new();
+    for (l, per) in reachable.iter().enumerate() {
+        for (s, ok) in per.iter().enumerate() {
+            if !ok {
+                unreachable.push((levels[l].name.clone(), scenarios[s].clone()));
+            }
+        }
+    }
+    let mut candidates: Vec<(usize, Plan, Vec<Vec<Control>>)> = Vec::new();
+    for (i, (plan, _, at_n)) in bounded_ok.into_iter().enumerate() {
+        if !candidates.iter().any(|(_, p, _)| *p == plan) {
+            candidates.push((i, plan, at_n));
+        }
+    }
+    counts.after_pf_bound = candidates.len();
+    // The plant without the bank, for the limits comparison.
+    let base_res = run_check(&base, &check_options(options, false))?;
+    let baseline = Baseline {
+        control: baseline_control,
+        pcc_thd_percent: base_res
+            .limit_rows
+            .iter()
+            .map(|r| r.pcc_thd.value)
+            .fold(0.0, f64::max),
+        tdd_percent: base_res
+            .limit_rows
+            .iter()
+            .map(|r| r.tdd.value)
+            .fold(0.0, f64::max),
+        limits_exceeded: base_res.limit_rows.iter().filter(|r| r.exceeds).count(),
+    };
+    // 3 and 4: scan every plan, check the ones clear of resonance.
+    let total = candidates.len() as u64;
+    let done = std::sync::atomic::AtomicU64::new(0);
+    let results: Vec<Result<PlanResult, DesignError>> = candidates
+        .par_iter()
+        .map(|(fi, plan, control)| {
+            let f = &families[*fi];
+            let row = &rows[f.row];
+            let bank = plans::bank(plan, &bank_ids[f.row], templates[f.row]);
+            let mut p = base.clone();
+            p.banks.push(bank.clone());
+            let scan = run_check(&p, &check_options(options, true))?;
+            let clear = !scan
+                .resonance
+                .rows
+                .iter()
+                .any(|r| r.bank == bank.id && r.verdict == Verdict::Resonant)
+                && !scan
+                    .tolerance
+                    .iter()
+                    .any(|t| t.bank == bank.id && t.flagged);
+            let res = if clear {
+                run_check(&p, &check_options(options, false))?
+            } else {
+                scan
+            };
+            let out = evaluate(
+                &res,
+                plan,
+                bank,
+                plans::cost(f, row, plan.steps),
+                f.bus_kv,
+                control.clone(),
+                &levels,
+                &reachable,
+                &baseline,
+                target,
+                !clear,
+            );
+            let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            if let Some(pr) = &options.progress {
+                pr(k, total);
+            }
+            Ok(out)
+        })
+        .collect();
+    let mut plans_out = Vec::new();
+    for r in results {
+        plans_out.push(r?);
+    }
+    counts.scanned = plans_out.len();
+    counts.checked = plans_out.iter().filter(|p| !p.scan_only).count();
+    counts.passed = plans_out.iter().filter(|p| p.passes()).count();
+    rank(&mut plans_out);
+    let recommended = plans_out.first().filter(|p| p.passes()).map(|_| 0);
+    let reason = reason(&plans_out, recommended);
+    let mut notes = notes(&levels, &rows, derived, &unreachable, target);
+    notes.extend(
+        base_res
+            .notes
+            .iter()
+            .filter(|n| n.starts_with("I_L ESTIMATED"))
+            .cloned(),
+    );
+    Ok(DesignResult {
+        plant: plant.clone(),
+        base,
+        levels: levels.iter().map(|l| (l.name.clone(), l.hours)).collect(),
+        scenarios,
+        target_power_factor: target,
+        plans: plans_out,
+        recommended,
+        reason,
+        baseline,
+        counts,
+        unreachable,
+        bank_ids,
+        notes,
+    })
+}
+
+/// The margin used for ranking: the band margin, or 100 % when the bank has no peak in
+/// the scanned range.
+fn margin(p: &PlanResult) -> f64 {
+    p.outcome.margin_percent.unwrap_or(100.0)
+}
+
+/// Every figure and failure of one plan from its check results.
+#[allow(clippy::too_many_arguments)]
+fn evaluate(
+    res: &CheckResults,
+    plan: &Plan,
+    bank: CapacitorBank,
+    cost: f64,
+    bus_kv: f64,
+    control: Vec<Vec<Control>>,
+    levels: &[Level],
+    reachable: &[Vec<bool>],
+    baseline: &Baseline,
+    target: f64,
+    scan_only: bool,
+) -> PlanResult {
+    let labels: Vec<String> = res
+        .scan
+        .configurations
+        .iter()
+        .filter(|c| c.steps.last().copied().unwrap_or(0) > 0)
+        .map(|c| c.label(&res.plant.banks))
+        .collect();
+    let outcome = res.outcome(&bank.id, &labels);
+    let has = |c: &str| labels.iter().any(|l| l == c);
+    let mine: Vec<&crate::study::ResonanceRow> = res
+        .resonance
+        .rows
+        .iter()
+        .filter(|r| r.bank == bank.id)
+        .collect();
+    let peaks: Vec<f64> = mine
+        .iter()
+        .filter_map(|r| r.peak.map(|p| p.order))
+        .collect();
+    let resonance = (!peaks.is_empty()).then(|| {
+        (
+            peaks.iter().copied().fold(f64::INFINITY, f64::min),
+            peaks.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+        )
+    });
+    let hand_order = mine
+        .iter()
+        .filter(|r| r.steps == bank.steps)
+        .map(|r| r.hand_order)
+        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
+    let steps: Vec<&crate::study::operating::StepChange> = res
+        .operating
+        .step_changes
+        .iter()
+        .filter(|s| s.bank == bank.id)
+        .collect();
+    let rows: Vec<&crate::study::limits::LimitRow> = res
+        .limit_rows
+        .iter()
+        .filter(|r| has(&r.configuration))
+        .collect();
+    let pcc_thd_percent = rows.iter().map(|r| r.pcc_thd.value).fold(0.0, f64::max);
+    let tdd_percent = rows.iter().map(|r| r.tdd.value).fold(0.0, f64::max);
+    let mut fails = Vec::new();
+    for (l, per) in control.iter().enumerate() {
+        for (s, c) in per.iter().enumerate() {
+            if reachable[l][s] && !c.reaches {
+                fails.push(format!(
+                    "PF {} below {target} at {} ({})",
+                    c.pf.map_or_else(|| "n/a".into(), |v| format!("{v:.3}")),
+                    levels[l].name,
+                    res.network.scenarios[s].name
+                ));
+            }
+        }
+    }
+    if outcome.resonant > 0 {
+        let orders: Vec<f64> = {
+            let mut o: Vec<f64> = mine
+                .iter()
+                .filter(|r| r.verdict == Verdict::Resonant)
+                .filter_map(|r| r.nearest_characteristic)
+                .collect();
+            o.sort_by(f64::total_cmp);
+            o.dedup();
+            o
+        };
+        fails.push(format!(
+            "resonant near h {} in {} row(s)",
+            orders
+                .iter()
+                .map(|h| format!("{h}"))
+                .collect::<Vec<_>>()
+                .join(", "),
+            outcome.resonant
+        ));
+    }
+    if outcome.tolerance_flagged > 0 {
+        fails.push(format!(
+            "tolerance band reaches a characteristic order in {} configuration(s)",
+            outcome.tolerance_flagged
+        ));
+    }
+    if !scan_only {
+        if outcome.duty_exceeded > 0 {
+            fails.push(format!(
+                "IEEE 18 duty exceeded in {} row(s)",
+                outcome.duty_exceeded
+            ));
+        }
+        let worse = pcc_thd_percent > baseline.pcc_thd_percent * (1.0 + 1e-9) + 1e-12
+            || tdd_percent > baseline.tdd_percent * (1.0 + 1e-9) + 1e-12;
+        if outcome.limits_exceeded > 0 && worse {
+            fails.push(format!(
+                "harmonic limits exceeded in {} configuration(s), worse at the PCC than without the bank",
+                outcome.limits_exceeded
+            ));
+        }
+        let exceeded = steps.iter().filter(|s| s.exceeds).count();
+        if exceeded > 0 {
+            fails.push(format!(
+                "step voltage change above {} % ({} step(s))",
+                res.operating.step_limit_percent, exceeded
+            ));
+        }
+    }
+    let weight: f64 = levels.iter().map(|l| l.hours).sum();
+    let lowest_per_level: Vec<Option<f64>> = control
+        .iter()
+        .map(|per| {
+            per.iter()
+                .filter_map(|c| c.pf)
+                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))))
+        })
+        .collect();
+    let pf_weighted = (weight > 0.0 && lowest_per_level.iter().all(Option::is_some)).then(|| {
+        lowest_per_level
+            .iter()
+            .zip(levels)
+            .map(|(pf, l)| pf.unwrap_or(0.0) * l.hours)
+            .sum::<f64>()
+            / weight
+    });
+    let pf_lowest = lowest_per_level
+        .iter()
+        .flatten()
+        .copied()
+        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
+    PlanResult {
+        effective_kvar: f64::from(plan.steps) * plan.effective_step_kvar(bus_kv),
+        plan: plan.clone(),
+        bank,
+        cost,
+        control,
+        pf_weighted,
+        pf_lowest,
+        outcome,
+        resonance,
+        hand_order,
+        step_change_percent: steps.iter().map(|s| s.change_percent).fold(0.0, f64::max),
+        step_changes_exceeded: steps.iter().filter(|s| s.exceeds).count(),
+        pcc_thd_percent,
+        tdd_percent,
+        scan_only,
+        fails,
+        pareto: false,
+        rank: 0,
+    }
+}
+
+/// Marks the Pareto set of the passing plans (lower cost, larger margin, higher weighted
+/// PF; a plan is on it when no other passing plan is at least as good in all three and
+/// better in one) and ranks: passing plans by cost, then margin (larger first), then PF;
+/// then the others by number of failures, then cost.
+fn rank(plans: &mut [PlanResult]) {
+    let key = |p: &PlanResult| (p.cost, margin(p), p.pf_weighted.unwrap_or(0.0));
+    let n = plans.len();
+    for i in 0..n {
+        if !plans[i].passes() {
+            continue;
+        }
+        let (ci, mi, fi) = key(&plans[i]);
+        let dominated = (0..n).any(|j| {
+            if j == i || !plans[j].passes() {
+                return false;
+            }
+            let (cj, mj, fj) = key(&plans[j]);
+            cj <= ci && mj >= mi && fj >= fi && (cj < ci || mj > mi || fj > fi)
+        });
+        plans[i].pareto = !dominated;
+    }
+    plans.sort_by(|a, b| {
+        b.passes()
+            .cmp(&a.passes())
+            .then(a.fails.len().cmp(&b.fails.len()))
+            .then(a.cost.total_cmp(&b.cost))
+            .then(margin(b).total_cmp(&margin(a)))
+            .then(
+                b.pf_weighted
+                    .unwrap_or(0.0)
+                    .total_cmp(&a.pf_weighted.unwrap_or(0.0)),
+            )
+            .then(a.plan.bus.cmp(&b.plan.bus))
+            .then(a.plan.step_kvar.total_cmp(&b.plan.step_kvar))
+            .then(a.plan.rated_kv.total_cmp(&b.plan.rated_kv))
+    });
+    for (i, p) in plans.iter_mut().enumerate() {
+        p.rank = i + 1;
+    }
+}
+
+/// Why the recommended plan, in one or two sentences.
+fn reason(plans: &[PlanResult], recommended: Option<usize>) -> String {
+    let Some(r) = recommended.map(|i| &plans[i]) else {
+        return "No plan passes every check: the nearest plans are listed with what each fails."
+            .into();
+    };
+    let passing = plans.iter().filter(|p| p.passes()).count();
+    let mut s = format!(
+        "The least-cost plan of the {passing} that pass every check (power factor at every reachable level, no resonance across the tolerance band in any configuration or scenario, IEEE 18 duty, limits at the PCC, step voltage change)."
+    );
+    if let Some(wider) = plans
+        .iter()
+        .filter(|p| p.pareto && margin(p) > margin(r) + 1e-9)
+        .max_by(|a, b| margin(a).total_cmp(&margin(b)))
+    {
+        s.push_str(&format!(
+            " For more margin to the nearest characteristic order, {} at {} ({}) costs {:.0} % more for {:.1} % margin against {:.1} %.",
+            wider.plan.label(),
+            wider.plan.bus,
+            wider.bank.id,
+            (wider.cost / r.cost - 1.0) * 100.0,
+            margin(wider),
+            margin(r)
+        ));
+    }
+    s
+}
+
+/// The assumptions the design states.
+fn notes(
+    levels: &[Level],
+    rows: &[DesignRow],
+    derived: bool,
+    unreachable: &[(String, String)],
+    target: f64,
+) -> Vec<String> {
+    let mut out = vec![
+        format!(
+            "Controller (common practice): at each load level and scenario the plant's other banks switch first, then the designed bank; each adds steps while the PCC power factor is below the target {target} and blocks a step that would leave it leading beyond the leading limit."
+        ),
+        "Equal steps only; one bank per plan, at one of the design buses. The step count of a plan is the most steps the controller uses at any level: more steps are never switched in (dominated), fewer miss the target.".into(),
+        "Harmonic checks (resonance, tolerance band, duty, limits, step voltage change) run at the Loads sheet's study point over every step count of the bank × every studied configuration of the other banks × every scenario, as `check` does.".into(),
+    ];
+    if levels.iter().any(|l| l.name == "full")
+        && levels.iter().any(|l| l.name == "light")
+        && levels.len() == 2
+    {
+        out.push(format!(
+            "Load levels: no Load levels sheet, so full load (the Loads sheet as given, {} h/year) and light load (every load factor halved, {} h/year); hours invented for weighting only.",
+            levels::DEFAULT_LEVELS[0].1,
+            levels::DEFAULT_LEVELS[1].1
+        ));
+    }
+    if derived {
+        out.push("No Design sheet: each proposed bank's bus is designed, with steps of ½, 1 and 2 × its step kvar, 1 to 8 steps, plain, 5.67 %, 7 % and 14 % detuning and the two standard voltage classes above U/(1 − p).".into());
+    }
+    if rows.iter().any(|r| {
+        r.capacitor_cost_per_kvar.is_empty()
+            || r.reactor_cost_per_kvar.is_none()
+            || r.step_cost.is_none()
+    }) {
+        out.push(format!(
+            "Costs are relative and INVENTED where the Design sheet gives none: {DEFAULT_CAPACITOR_COST} per rated kvar of capacitor × (rated kV / bus kV), {DEFAULT_REACTOR_COST} per kvar of reactor (p × rated kvar), {DEFAULT_STEP_COST} per step; replace them with quotations."
+        ));
+    }
+    for (l, s) in unreachable {
+        out.push(format!(
+            "No allowed plan reaches the target at level {l}, scenario {s}: the power factor is not required there."
+        ));
+    }
+    out
+}
