@@ -36,8 +36,10 @@ pub struct DesignRow {
     pub cells: DesignCells,
 }
 
-/// Where each column of a [`DesignRow`] sits (A1 notation on the `Design` sheet).
-#[derive(Debug, Clone, PartialEq, Default, Serialize)]
+/// Where each column of a [`DesignRow`] sits (A1 notation on the `Design` sheet). Where a
+/// row was read is not part of what it says: any two compare equal, so a plant written and
+/// read back equals its definition.
+#[derive(Debug, Clone, Default, Serialize)]
 pub struct DesignCells {
     pub bus: String,
     pub step_kvar: String,
@@ -46,6 +48,12 @@ pub struct DesignCells {
     pub rated_kv: String,
     pub capacitor_cost: String,
     pub leading_pf_limit: String,
+}
+
+impl PartialEq for DesignCells {
+    fn eq(&self, _: &Self) -> bool {
+        true
+    }
 }
 
 /// Default step counts of a design bus when `Steps` is blank.
@@ -79,5 +87,16 @@ pub struct LoadLevelRow {
     pub load: Option<String>,
     pub load_factor: f64,
     /// The A1 cell of `Load` (or `Level` when blank), for messages.
-    pub cell: String,
+    pub cell: CellAt,
+}
+
+/// An A1 cell a row was read from, for messages. Where a row was read is not part of what
+/// it says: any two compare equal.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct CellAt(pub String);
+
+impl PartialEq for CellAt {
+    fn eq(&self, _: &Self) -> bool {
+        true
+    }
 }

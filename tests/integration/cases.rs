@@ -317,6 +317,39 @@ pub fn food_plant() -> Plant {
         Reactor::None,
         BankStatus::Proposed,
     )];
+    // For `overtone design`: where the bank may go, the plans allowed, and two shifts a
+    // day plus the weekend sanitation run.
+    p.design = vec![DesignRow {
+        bus: "MCC-1".into(),
+        step_kvar: vec![50.0, 75.0, 100.0, 150.0],
+        steps_min: 2,
+        steps_max: 6,
+        reactors: vec![
+            Reactor::None,
+            Reactor::Detuning { percent: 7.0 },
+            Reactor::Detuning { percent: 14.0 },
+        ],
+        rated_kv: Vec::new(),
+        capacitor_cost_per_kvar: Vec::new(),
+        reactor_cost_per_kvar: Some(1.2),
+        step_cost: Some(35.0),
+        leading_pf_limit: None,
+        cells: DesignCells::default(),
+    }];
+    let level = |name: &str, hours: Option<f64>, load: Option<&str>, lf: f64| LoadLevelRow {
+        level: name.into(),
+        hours,
+        load: load.map(str::to_string),
+        load_factor: lf,
+        cell: CellAt::default(),
+    };
+    p.load_levels = vec![
+        level("production", Some(4200.0), None, 0.9),
+        level("production", None, Some("OVENS"), 1.0),
+        level("sanitation", Some(900.0), None, 0.2),
+        level("sanitation", None, Some("motor"), 0.5),
+        level("sanitation", None, Some("LIGHTING"), 1.0),
+    ];
     p
 }
 
@@ -604,7 +637,7 @@ pub fn large_site() -> Plant {
 
 /// `p` with every transformer and bank connection named (the contract's defaults where a
 /// case leaves them open), so that the cases read without default warnings.
-fn explicit(mut p: Plant) -> Plant {
+pub fn explicit(mut p: Plant) -> Plant {
     let f = p.study.frequency_hz;
     for t in &mut p.transformers {
         t.connection.get_or_insert(VectorGroup::default_for(f));

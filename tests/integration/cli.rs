@@ -1162,3 +1162,116 @@ fn the_summary_opens_with_a_verdict_block_and_fits_100_columns() {
         }
     }
 }
+
+/// The food plant's workbook with its Design row set to `bus`, `sizes`, `steps`.
+fn food_with_design(
+    dir: &std::path::Path,
+    name: &str,
+    bus: &str,
+    sizes: &[f64],
+    steps: (u32, u32),
+) -> String {
+    let mut plant =
+        overtone::io::workbook_in::read_workbook(std::path::Path::new(&case("food-plant.xlsx")))
+            .unwrap()
+            .plant;
+    plant.design[0].bus = bus.into();
+    plant.design[0].step_kvar = sizes.to_vec();
+    (plant.design[0].steps_min, plant.design[0].steps_max) = steps;
+    let path = dir.join(name);
+    std::fs::write(
+        &path,
+        overtone::io::template::plant_workbook(&plant).unwrap(),
+    )
+    .unwrap();
+    path.display().to_string()
+}
+
+#[test]
+fn design_writes_the_plan_check_reruns_it_and_bad_design_input_writes_nothing() {
+    let dir = temp_dir("design");
+    let review = dir.join("design.xlsx");
+    let plant = dir.join("designed.xlsx");
+    let _ = std::fs::remove_file(&review);
+    let _ = std::fs::remove_file(&plant);
+    let out = overtone(&[
+        "design",
+        &case("food-plant.xlsx"),
+        "--quiet",
+        "-o",
+        review.to_str().unwrap(),
+        "--write-plant",
+        plant.to_str().unwrap(),
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(text.contains("Recommended: C1 at MCC-1:"), "{text}");
+    assert!(text.lines().all(|l| l.chars().count() <= 100), "{text}");
+    assert!(
+        text.split_whitespace()
+            .collect::<Vec<_>>()
+            .join(" ")
+            .contains("licensed engineer")
+    );
+    assert!(review.exists() && plant.exists());
+    // The written plant runs through `check` directly.
+    let check = overtone(&["check", plant.to_str().unwrap(), "--quiet", "--no-remedies"]);
+    assert!(
+        check.status.success(),
+        "{}",
+        String::from_utf8_lossy(&check.stderr)
+    );
+    let summary = String::from_utf8(check.stdout).unwrap();
+    assert!(
+        summary.contains("clear of resonance in every configuration"),
+        "{summary}"
+    );
+    // Bad design input: a sentence naming the sheet and cell, exit 2, nothing written.
+    for (name, bus, sizes, steps, says) in [
+        (
+            "unknown.xlsx",
+            "MCC-9",
+            &[50.0][..],
+            (2, 6),
+            "Design!A2: \"Bus\" names \"MCC-9\"",
+        ),
+        (
+            "empty.xlsx",
+            "MCC-1",
+            &[][..],
+            (2, 6),
+            "Design!B2: \"Step kvar\" is required",
+        ),
+        (
+            "short.xlsx",
+            "MCC-1",
+            &[5.0][..],
+            (1, 2),
+            "Design!C2: no allowed plan reaches the target",
+        ),
+    ] {
+        let input = food_with_design(&dir, name, bus, sizes, steps);
+        let out_review = dir.join(format!("review-{name}"));
+        let out_plant = dir.join(format!("plant-{name}"));
+        let out = overtone(&[
+            "design",
+            &input,
+            "--quiet",
+            "-o",
+            out_review.to_str().unwrap(),
+            "--write-plant",
+            out_plant.to_str().unwrap(),
+        ]);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{name}: {err}");
+        assert!(err.contains(says), "{name}: {err}");
+        assert!(
+            !out_review.exists() && !out_plant.exists(),
+            "{name}: nothing written"
+        );
+    }
+}

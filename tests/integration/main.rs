@@ -18,6 +18,7 @@ mod cases;
 mod cli;
 mod common;
 mod degenerate;
+mod design;
 mod evaluation;
 #[path = "../fuzz/bodies.rs"]
 mod fuzz_bodies;

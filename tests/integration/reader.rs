@@ -164,9 +164,14 @@ fn template_has_every_sheet_header_note_and_dropdown() {
             "Capacitors",
             "Loads",
             "Spectra",
-            "Background"
+            "Background",
+            "Design",
+            "Load levels"
         ]
     );
+    // The design section: where a bank may go and the load levels.
+    assert_eq!(h[9].1[..4], ["Bus", "Step kvar", "Steps", "Detuning"]);
+    assert_eq!(h[10].1, ["Level", "Hours per year", "Load", "Load factor"]);
     // Version 2: the sequence model's columns (input contract, version 2).
     assert_eq!(h[3].1[7..], ["Connection", "Zero-sequence impedance (%)"]);
     assert_eq!(h[8].1, ["Source", "Order", "Voltage (%)", "Angle (deg)"]);

@@ -405,6 +405,94 @@ pub(super) fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                 ),
             ],
         ),
+        (
+            "Design",
+            vec![
+                col(
+                    "Bus",
+                    "For `overtone design`: a bus where a bank may go (Bus id from the Buses sheet), one row per bus; each plan puts one bank at one of these buses. A proposed bank on the Capacitors sheet at this bus is what is designed (the plan replaces it). Required.",
+                    Text,
+                    14.0,
+                ),
+                col(
+                    "Step kvar",
+                    "Allowed step sizes, kvar of one step at the capacitor's rated voltage, separated by commas, e.g. 25, 50, 100. Required.",
+                    Text,
+                    16.0,
+                ),
+                col(
+                    "Steps",
+                    "Allowed step counts: a count (4) or a range (2-8), 1 to 64. Default 1-8.",
+                    Text,
+                    9.0,
+                ),
+                col(
+                    "Detuning",
+                    "Detuning choices separated by commas: plain, a detuning factor in % of X_C (5.67, 7, 14) or a tuned order (tuned 4.7). Default: plain, 5.67, 7, 14.",
+                    Text,
+                    22.0,
+                ),
+                col(
+                    "Rated kV",
+                    "Capacitor voltage classes, kV line-to-line, separated by commas, e.g. 0.48, 0.525, 0.6. Default: the two standard ratings at or above the capacitor's voltage U/(1 - p) of each detuning choice.",
+                    Text,
+                    16.0,
+                ),
+                col(
+                    "Capacitor cost (per kvar)",
+                    "Relative cost per rated kvar of capacitor: one number, or one per voltage class in the order of Rated kV. Default (invented): 1 x rated kV / bus kV.",
+                    Text,
+                    14.0,
+                ),
+                col(
+                    "Reactor cost (per kvar)",
+                    "Relative cost per kvar of reactor (p x rated kvar of the step). Default (invented): 1.5.",
+                    NonNegative,
+                    12.0,
+                ),
+                col(
+                    "Step cost",
+                    "Relative cost per switched step (contactor, fuses, controller output). Default (invented): 40.",
+                    NonNegative,
+                    10.0,
+                ),
+                col(
+                    "Leading PF limit",
+                    "The lowest leading power factor the controller may leave at the PCC; 1 = never leading. Default 1.",
+                    Between(0.5, 1.0),
+                    11.0,
+                ),
+            ],
+        ),
+        (
+            "Load levels",
+            vec![
+                col(
+                    "Level",
+                    "For `overtone design`: a load level's name (full, night, weekend...); several rows with one name make one level. Without this sheet: full load (the Loads sheet) and light load (load factors halved). Required.",
+                    Text,
+                    14.0,
+                ),
+                col(
+                    "Hours per year",
+                    "Hours per year at this level, its weight in the weighted power factor (0 to 8784); give it on any row of the level. Default 1.",
+                    Between(0.0, 8784.0),
+                    12.0,
+                ),
+                col(
+                    "Load",
+                    "The loads this row sets: a Load id, a load type (motor, 6-pulse drive...), or blank for every load; the most specific row wins. Loads no row names keep their Loads-sheet factor.",
+                    Text,
+                    18.0,
+                ),
+                col(
+                    "Load factor",
+                    "Fraction of full load at this level, 0 to 1 (replaces the Loads sheet's). Required.",
+                    Between(0.0, 1.0),
+                    11.0,
+                ),
+            ],
+        ),
     ]
 }
 

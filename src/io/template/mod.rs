@@ -217,6 +217,53 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                 ]
             })
             .collect(),
+        "Design" => plant
+            .design
+            .iter()
+            .map(|d| {
+                let list = |v: &[f64]| {
+                    v.iter()
+                        .map(|x| format!("{x}"))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                };
+                vec![
+                    t(&d.bus),
+                    T(list(&d.step_kvar)),
+                    T(if d.steps_min == d.steps_max {
+                        format!("{}", d.steps_min)
+                    } else {
+                        format!("{}-{}", d.steps_min, d.steps_max)
+                    }),
+                    T(d.reactors
+                        .iter()
+                        .map(|r| match r {
+                            Reactor::None => "plain".to_string(),
+                            Reactor::Detuning { percent } => format!("{percent}"),
+                            Reactor::Tuned { order } => format!("tuned {order}"),
+                        })
+                        .collect::<Vec<_>>()
+                        .join(", ")),
+                    t(&list(&d.rated_kv)),
+                    t(&list(&d.capacitor_cost_per_kvar)),
+                    d.reactor_cost_per_kvar.map_or(Blank, N),
+                    d.step_cost.map_or(Blank, N),
+                    d.leading_pf_limit.map_or(Blank, N),
+                ]
+            })
+            .collect(),
+        "Load levels" => plant
+            .load_levels
+            .iter()
+            .map(|l| {
+                vec![
+                    t(&l.level),
+                    l.hours.map_or(Blank, N),
+                    t(l.load.as_deref().unwrap_or("")),
+                    N(l.load_factor),
+                ]
+            })
+            .collect(),
         _ => Vec::new(),
     }
 }

@@ -241,7 +241,7 @@ pub fn load_levels(t: &Table, d: &mut Diagnostics) -> Vec<LoadLevelRow> {
                 hours,
                 load,
                 load_factor: factor,
-                cell,
+                cell: CellAt(cell),
             }
         })
         .collect()

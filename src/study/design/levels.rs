@@ -83,7 +83,7 @@ pub fn levels(plant: &Plant) -> Result<Vec<Level>, DesignError> {
             {
                 return Err(DesignError::Input {
                     sheet: "Load levels",
-                    cell: r.cell.clone(),
+                    cell: r.cell.0.clone(),
                     message: format!(
                         "\"Load\" names \"{t}\", which is neither a load on the Loads sheet nor a load type"
                     ),
