@@ -206,7 +206,7 @@ fn template_has_every_sheet_header_note_and_dropdown() {
         .file_names()
         .filter(|n| n.as_ref().is_ok_and(|n| n.starts_with("xl/comments")))
         .count();
-    assert_eq!(comments, 9);
+    assert_eq!(comments, 11);
     // A blank template is not a plant yet: it says what is missing.
     let err = read_workbook_bytes("t.xlsx", "t", &t)
         .unwrap_err()

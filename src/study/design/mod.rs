@@ -528,6 +528,12 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
     let recommended = plans_out.first().filter(|p| p.passes()).map(|_| 0);
     let reason = reason(&plans_out, recommended);
     let mut notes = notes(&levels, &rows, derived, &unreachable, target);
+    if baseline.control.iter().flatten().all(|c| c.reaches) {
+        notes.insert(
+            0,
+            "The plant reaches the target power factor at every level and scenario without the designed bank (its other banks or its loads suffice): the controller switches no designed step, and the plans are the smallest allowed.".into(),
+        );
+    }
     notes.extend(
         base_res
             .notes
@@ -820,13 +826,24 @@ fn notes(
     if derived {
         out.push("No Design sheet: each proposed bank's bus is designed, with steps of ½, 1 and 2 × its step kvar, 1 to 8 steps, plain, 5.67 %, 7 % and 14 % detuning and the two standard voltage classes above U/(1 − p).".into());
     }
-    if rows.iter().any(|r| {
-        r.capacitor_cost_per_kvar.is_empty()
-            || r.reactor_cost_per_kvar.is_none()
-            || r.step_cost.is_none()
-    }) {
+    let mut invented = Vec::new();
+    if rows.iter().any(|r| r.capacitor_cost_per_kvar.is_empty()) {
+        invented.push(format!(
+            "{DEFAULT_CAPACITOR_COST} per rated kvar of capacitor × (rated kV / bus kV)"
+        ));
+    }
+    if rows.iter().any(|r| r.reactor_cost_per_kvar.is_none()) {
+        invented.push(format!(
+            "{DEFAULT_REACTOR_COST} per kvar of reactor (p × rated kvar)"
+        ));
+    }
+    if rows.iter().any(|r| r.step_cost.is_none()) {
+        invented.push(format!("{DEFAULT_STEP_COST} per step"));
+    }
+    if !invented.is_empty() {
         out.push(format!(
-            "Costs are relative and INVENTED where the Design sheet gives none: {DEFAULT_CAPACITOR_COST} per rated kvar of capacitor × (rated kV / bus kV), {DEFAULT_REACTOR_COST} per kvar of reactor (p × rated kvar), {DEFAULT_STEP_COST} per step; replace them with quotations."
+            "Costs are relative; where the Design sheet gives none they are INVENTED: {}; replace them with quotations.",
+            invented.join(", ")
         ));
     }
     for (l, s) in unreachable {

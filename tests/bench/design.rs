@@ -1,0 +1,55 @@
+//! `overtone design` on the bundled cases: the whole search (power-factor bound, scan of
+//! every plan over every configuration, every check of the plans clear of resonance), as
+//! the binary runs it without writing. After the timings it prints, per case, the plans
+//! searched and scanned and the rates per second of one run. Run: `cargo bench --bench
+//! design`.
+
+use std::time::Instant;
+
+use overtone::io::workbook_in::read_workbook;
+use overtone::model::Plant;
+use overtone::study::design::{DesignOptions, run_design};
+
+mod peak;
+
+const CASES: [&str; 4] = ["bottling-plant", "food-plant", "water-plant", "large-site"];
+
+fn plant(name: &str) -> Plant {
+    let path = format!("{}/cases/{name}.xlsx", env!("CARGO_MANIFEST_DIR"));
+    read_workbook(std::path::Path::new(&path))
+        .expect("case reads")
+        .plant
+}
+
+fn main() {
+    divan::main();
+    for name in CASES {
+        let p = plant(name);
+        let start = Instant::now();
+        let d = run_design(&p, &DesignOptions::default()).expect("design runs");
+        let s = start.elapsed().as_secs_f64();
+        let c = d.counts;
+        println!(
+            "{name}: {} plans searched ({} families), {} scanned, {} checked, {} pass in {s:.2} s: {:.0} plans searched/s, {:.1} scanned/s",
+            c.enumerated,
+            c.families,
+            c.scanned,
+            c.checked,
+            c.passed,
+            c.enumerated as f64 / s,
+            c.scanned as f64 / s
+        );
+    }
+    peak::print_peak_memory();
+}
+
+#[divan::bench(sample_count = 3, sample_size = 1, args = CASES)]
+fn design_case(bencher: divan::Bencher, name: &str) {
+    let p = plant(name);
+    bencher.bench_local(|| {
+        run_design(&p, &DesignOptions::default())
+            .expect("runs")
+            .plans
+            .len()
+    });
+}
