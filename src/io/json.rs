@@ -237,7 +237,7 @@ pub fn design_json(d: &crate::study::design::DesignResult) -> String {
         recommended: d.recommended.map(|i| &d.plans[i]),
         reason: &d.reason,
         counts: d.counts,
-        baseline: &d.baseline,
+        baseline: d.baseline(),
         unreachable: &d.unreachable,
         notes: &d.notes,
         plans: &d.plans,

@@ -89,6 +89,18 @@ pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
         ),
         WIDTH,
     )?;
+    if d.baselines
+        .iter()
+        .all(|b| b.control.iter().flatten().all(|c| c.reaches))
+    {
+        write_hanging(
+            out,
+            "",
+            "  ",
+            "The plant already reaches the target power factor at every level without a designed step (its other banks or loads suffice): the plans below are the smallest allowed, for the record.",
+            WIDTH,
+        )?;
+    }
     writeln!(out)?;
     match d.recommended.map(|i| &d.plans[i]) {
         Some(p) => {
@@ -225,7 +237,7 @@ pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
 pub fn baseline_words(d: &DesignResult) -> String {
     d.levels
         .iter()
-        .zip(&d.baseline.control)
+        .zip(&d.baseline().control)
         .map(|((name, _), per)| {
             let pf = per
                 .iter()

@@ -81,7 +81,7 @@ pub fn design_review_bytes(
     };
     let plant = d
         .recommended
-        .map_or_else(|| d.base.clone(), |i| d.plant_with(i));
+        .map_or_else(|| d.base().clone(), |i| d.plant_with(i));
     let options = crate::check::CheckOptions {
         remedies: Some(false),
         switching: true,

@@ -95,6 +95,8 @@ pub struct PlanResult {
     /// On the Pareto set of the passing plans (cost, margin, PF).
     pub pareto: bool,
     pub rank: usize,
+    /// Index of the design row (bus) of the plan.
+    pub row: usize,
 }
 
 impl PlanResult {
@@ -132,8 +134,8 @@ pub struct Counts {
 #[derive(Debug, Clone)]
 pub struct DesignResult {
     pub plant: Plant,
-    /// The plant the plans are added to (proposed banks on design buses removed).
-    pub base: Plant,
+    /// Per design row, the plant its plans join (the proposed bank on its bus removed).
+    pub bases: Vec<Plant>,
     pub levels: Vec<(String, f64)>,
     pub scenarios: Vec<String>,
     pub target_power_factor: f64,
@@ -142,7 +144,8 @@ pub struct DesignResult {
     /// Index into `plans` of the recommended plan (`None`: no plan passes every check).
     pub recommended: Option<usize>,
     pub reason: String,
-    pub baseline: Baseline,
+    /// Per design row, the plant without the bank.
+    pub baselines: Vec<Baseline>,
     pub counts: Counts,
     /// Levels × scenarios at which no allowed plan reaches the target (waived there).
     pub unreachable: Vec<(String, String)>,
@@ -153,9 +156,20 @@ pub struct DesignResult {
 }
 
 impl DesignResult {
+    /// The plant without a bank that the reports compare with: the recommended plan's row
+    /// (the first row when no plan passes).
+    pub fn baseline(&self) -> &Baseline {
+        &self.baselines[self.recommended.map_or(0, |i| self.plans[i].row)]
+    }
+
+    /// The plant of the reports when no plan passes: the first row's, without a bank.
+    pub fn base(&self) -> &Plant {
+        &self.bases[self.recommended.map_or(0, |i| self.plans[i].row)]
+    }
+
     /// The plant with plan `i` in place: what `--write-plant` writes and `check` reruns.
     pub fn plant_with(&self, i: usize) -> Plant {
-        let mut p = self.base.clone();
+        let mut p = self.bases[self.plans[i].row].clone();
         p.banks.push(self.plans[i].bank.clone());
         p.design = self.plant.design.clone();
         p.load_levels = self.plant.load_levels.clone();
@@ -320,10 +334,17 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
     let (rows, derived) = design_rows(plant)?;
     validate_rows(plant, &rows)?;
     let target = plant.study.target_power_factor;
-    // The plant the plans join: proposed banks on the design buses are what is designed.
-    let mut base = plant.clone();
-    base.banks
-        .retain(|b| !(b.status == BankStatus::Proposed && rows.iter().any(|r| r.bus == b.bus)));
+    // The plant each row's plans join: the proposed bank on that row's bus is what is
+    // designed; every other bank stays as on the Capacitors sheet.
+    let bases: Vec<Plant> = rows
+        .iter()
+        .map(|r| {
+            let mut base = plant.clone();
+            base.banks
+                .retain(|b| !(b.status == BankStatus::Proposed && b.bus == r.bus));
+            base
+        })
+        .collect();
     let bank_ids: Vec<String> = rows
         .iter()
         .map(|r| {
@@ -343,7 +364,11 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
                 .find(|b| b.status == BankStatus::Proposed && b.bus == r.bus)
         })
         .collect();
-    let levels = levels::levels(&base)?;
+    let mut row_levels: Vec<Vec<Level>> = Vec::new();
+    for base in &bases {
+        row_levels.push(levels::levels(base)?);
+    }
+    let levels = &row_levels[0];
     let scenarios = plant.scenarios();
     let bus_kv = |bus: &str| {
         plant
@@ -366,7 +391,10 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
         ..Default::default()
     };
     let leading = |r: &DesignRow| r.leading_pf_limit.unwrap_or(DEFAULT_LEADING_PF_LIMIT);
-    let baseline_control = controls(&levels, None, 0, leading(&rows[0]))?;
+    let mut baseline_controls = Vec::new();
+    for (r, row) in rows.iter().enumerate() {
+        baseline_controls.push(controls(&row_levels[r], None, 0, leading(row))?);
+    }
     // 2. The step count of each family from the controller at the largest count.
     let plan_of = |f: &Family, steps: u32| Plan {
         bus: rows[f.row].bus.clone(),
@@ -381,12 +409,13 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
             let row = &rows[f.row];
             let widest = plan_of(f, row.steps_max);
             let b = plans::bank(&widest, &bank_ids[f.row], templates[f.row]);
-            let at_max = controls(&levels, Some(&b), row.steps_max, leading(row))?;
+            let lv = &row_levels[f.row];
+            let at_max = controls(lv, Some(&b), row.steps_max, leading(row))?;
             let n = designed_steps(&at_max).clamp(row.steps_min, row.steps_max);
             let at_n = if n == row.steps_max {
                 at_max.clone()
             } else {
-                controls(&levels, Some(&b), n, leading(row))?
+                controls(lv, Some(&b), n, leading(row))?
             };
             Ok((plan_of(f, n), at_max, at_n))
         })
@@ -455,22 +484,29 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
         }
     }
     counts.after_pf_bound = candidates.len();
-    // The plant without the bank, for the limits comparison.
-    let base_res = run_check(&base, &check_options(options, false))?;
-    let baseline = Baseline {
-        control: baseline_control,
-        pcc_thd_percent: base_res
-            .limit_rows
-            .iter()
-            .map(|r| r.pcc_thd.value)
-            .fold(0.0, f64::max),
-        tdd_percent: base_res
-            .limit_rows
-            .iter()
-            .map(|r| r.tdd.value)
-            .fold(0.0, f64::max),
-        limits_exceeded: base_res.limit_rows.iter().filter(|r| r.exceeds).count(),
-    };
+    // The plant without the bank, for the limits comparison (per design row).
+    let mut baselines = Vec::new();
+    let mut base_notes = Vec::new();
+    for (base, control) in bases.iter().zip(baseline_controls) {
+        let base_res = run_check(base, &check_options(options, false))?;
+        baselines.push(Baseline {
+            control,
+            pcc_thd_percent: base_res
+                .limit_rows
+                .iter()
+                .map(|r| r.pcc_thd.value)
+                .fold(0.0, f64::max),
+            tdd_percent: base_res
+                .limit_rows
+                .iter()
+                .map(|r| r.tdd.value)
+                .fold(0.0, f64::max),
+            limits_exceeded: base_res.limit_rows.iter().filter(|r| r.exceeds).count(),
+        });
+        if base_notes.is_empty() {
+            base_notes = base_res.notes;
+        }
+    }
     // 3 and 4: scan every plan, check the ones clear of resonance.
     let total = candidates.len() as u64;
     let done = std::sync::atomic::AtomicU64::new(0);
@@ -480,7 +516,7 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
             let f = &families[*fi];
             let row = &rows[f.row];
             let bank = plans::bank(plan, &bank_ids[f.row], templates[f.row]);
-            let mut p = base.clone();
+            let mut p = bases[f.row].clone();
             p.banks.push(bank.clone());
             let scan = run_check(&p, &check_options(options, true))?;
             let clear = !scan
@@ -504,11 +540,12 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
                 plans::cost(f, row, plan.steps),
                 f.bus_kv,
                 control.clone(),
-                &levels,
+                &row_levels[f.row],
                 &reachable,
-                &baseline,
+                &baselines[f.row],
                 target,
                 !clear,
+                f.row,
             );
             let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
             if let Some(pr) = &options.progress {
@@ -527,30 +564,35 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
     rank(&mut plans_out);
     let recommended = plans_out.first().filter(|p| p.passes()).map(|_| 0);
     let reason = reason(&plans_out, recommended);
-    let mut notes = notes(&levels, &rows, derived, &unreachable, target);
-    if baseline.control.iter().flatten().all(|c| c.reaches) {
+    let mut notes = notes(levels, &rows, derived, &unreachable, target);
+    if rows.len() > 1 {
+        notes.push("Several design buses: each plan puts one bank at one of them, replacing the proposed bank on that bus only; the other banks stay as on the Capacitors sheet.".into());
+    }
+    if baselines
+        .iter()
+        .all(|b| b.control.iter().flatten().all(|c| c.reaches))
+    {
         notes.insert(
             0,
             "The plant reaches the target power factor at every level and scenario without the designed bank (its other banks or its loads suffice): the controller switches no designed step, and the plans are the smallest allowed.".into(),
         );
     }
     notes.extend(
-        base_res
-            .notes
+        base_notes
             .iter()
             .filter(|n| n.starts_with("I_L ESTIMATED"))
             .cloned(),
     );
     Ok(DesignResult {
         plant: plant.clone(),
-        base,
         levels: levels.iter().map(|l| (l.name.clone(), l.hours)).collect(),
+        bases,
         scenarios,
         target_power_factor: target,
         plans: plans_out,
         recommended,
         reason,
-        baseline,
+        baselines,
         counts,
         unreachable,
         bank_ids,
@@ -578,6 +620,7 @@ fn evaluate(
     baseline: &Baseline,
     target: f64,
     scan_only: bool,
+    row: usize,
 ) -> PlanResult {
     let labels: Vec<String> = res
         .scan
@@ -726,6 +769,7 @@ fn evaluate(
         fails,
         pareto: false,
         rank: 0,
+        row,
     }
 }
 

@@ -179,7 +179,7 @@ pub fn load_levels(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError
     let mut r = 4;
     for (l, (name, hours)) in d.levels.iter().enumerate() {
         for (s, scen) in d.scenarios.iter().enumerate() {
-            let base = &d.baseline.control[l][s];
+            let base = &d.baseline().control[l][s];
             let with = plan.map(|p| &p.control[l][s]);
             let steps = |v: &[u32]| v.iter().map(u32::to_string).collect::<Vec<_>>().join(" ");
             row(
