@@ -107,3 +107,60 @@ fn printed_reviews_are_short_and_print_every_sentence_whole() {
     }
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn the_printed_design_review_opens_with_the_plans_and_keeps_the_cautions() {
+    if !external_tool("soffice", "the design review printed to PDF")
+        || !external_tool("pdftotext", "the printed review's text")
+    {
+        return;
+    }
+    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    let dir = std::env::temp_dir().join(format!("overtone-design-pdf-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let review = dir.join("food-design.xlsx");
+    let out = output_within(
+        Command::new(env!("CARGO_BIN_EXE_overtone"))
+            .arg("design")
+            .arg(root.join("cases").join("food-plant.xlsx"))
+            .arg("-o")
+            .arg(&review)
+            .arg("--quiet"),
+        600,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let mut wb: Xlsx<_> = open_workbook(&review).unwrap();
+    let names = wb.sheet_names();
+    assert_eq!(names[..3], ["Design", "Load levels", "Summary"]);
+    assert!(names.iter().any(|n| n == "Cautions"));
+    let out = crate::common::soffice_to_pdf(&dir, std::slice::from_ref(&review), 600);
+    let pdf = review.with_extension("pdf");
+    assert!(
+        pdf.exists(),
+        "no PDF: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let txt = review.with_extension("txt");
+    output_within(Command::new("pdftotext").arg(&pdf).arg(&txt), 120);
+    let raw = std::fs::read_to_string(&txt).unwrap();
+    let pages = raw.matches('\u{c}').count();
+    assert!((3..=MAX_PAGES + 4).contains(&pages), "{pages} pages");
+    let text = squash(&raw);
+    // The first page is the design: the proposal caution and the recommended plan.
+    let first = squash(raw.split('\u{c}').next().unwrap_or_default());
+    assert!(
+        first.contains("A PROPOSAL for a licensed engineer's review"),
+        "{first}"
+    );
+    assert!(
+        first.contains("Recommended: C1 at MCC1: 2 × 50 kvar"),
+        "{first}"
+    );
+    for s in sentences(&review, "Cautions") {
+        assert!(text.contains(&squash(&s)), "caution not printed whole: {s}");
+    }
+}

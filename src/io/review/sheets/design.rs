@@ -61,6 +61,7 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
         }
         None => lines.push(format!("No plan satisfies every check. {}", d.reason)),
     }
+    lines.push("Duty, PCC THD, TDD and step change read – where the plan resonates: the scan stopped it before those checks. Pareto: on the set of cost, margin to the nearest characteristic order and hours-weighted PF.".into());
     lines.push("A PROPOSAL for a licensed engineer's review: verify the input, the costs and the ratings; local electrical codes and the utility's rules govern.".into());
     for (i, l) in lines.iter().enumerate() {
         sentence(ws, 1 + i as u32, l, LAST)?;
@@ -92,7 +93,7 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
             ("PCC THD (%)", 8.0),
             ("TDD (%)", 7.0),
             ("Step change (%)", 8.0),
-            ("Verdict", 46.0),
+            ("Verdict", 40.0),
         ],
     )?;
     let wrap = Format::new().set_text_wrap();
@@ -105,7 +106,7 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
         };
         let checked = |v: f64| {
             if p.scan_only {
-                Cell::Text("not checked (resonant)".into())
+                Cell::Text("–".into())
             } else {
                 n(v, "0.00")
             }
@@ -133,7 +134,7 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
                 n(p.outcome.resonant as f64, "0"),
                 n(p.outcome.tolerance_flagged as f64, "0"),
                 if p.scan_only {
-                    Cell::Text("not checked (resonant)".into())
+                    Cell::Text("–".into())
                 } else {
                     n(p.outcome.duty_exceeded as f64, "0")
                 },
@@ -144,7 +145,7 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
             ],
         )?;
         ws.write_string_with_format(r, LAST, &verdict, &wrap)?;
-        ws.set_row_height(r, LINE_POINTS * wrapped_lines(&verdict, 46.0, false))?;
+        ws.set_row_height(r, LINE_POINTS * wrapped_lines(&verdict, 40.0, false))?;
     }
     super::verdict_colours(ws, head + 1, head + d.plans.len() as u32, LAST)?;
     ws.set_freeze_panes(head + 1, 0)?;
