@@ -133,7 +133,7 @@ fn the_printed_design_review_opens_with_the_plans_and_keeps_the_cautions() {
         "{}",
         String::from_utf8_lossy(&out.stderr)
     );
-    let mut wb: Xlsx<_> = open_workbook(&review).unwrap();
+    let wb: Xlsx<_> = open_workbook(&review).unwrap();
     let names = wb.sheet_names();
     assert_eq!(names[..3], ["Design", "Load levels", "Summary"]);
     assert!(names.iter().any(|n| n == "Cautions"));
