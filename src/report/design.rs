@@ -101,6 +101,19 @@ pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
             WIDTH,
         )?;
     }
+    let b = d.baseline();
+    if b.limits_exceeded > 0 {
+        write_hanging(
+            out,
+            "",
+            "  ",
+            &format!(
+                "Without the bank the plant already exceeds its harmonic limits (worst PCC voltage THD {:.2} %, TDD {:.2} %): no bank fixes that (the converters need their own mitigation), so a plan passes the limits check when it is no worse at the PCC than without the bank.",
+                b.pcc_thd_percent, b.tdd_percent
+            ),
+            WIDTH,
+        )?;
+    }
     writeln!(out)?;
     match d.recommended.map(|i| &d.plans[i]) {
         Some(p) => {

@@ -408,7 +408,7 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
         .map(|f| {
             let row = &rows[f.row];
             let widest = plan_of(f, row.steps_max);
-            let b = plans::bank(&widest, &bank_ids[f.row], templates[f.row]);
+            let b = plans::bank(&widest, &bank_ids[f.row], templates[f.row], f.bus_kv);
             let lv = &row_levels[f.row];
             let at_max = controls(lv, Some(&b), row.steps_max, leading(row))?;
             let n = designed_steps(&at_max).clamp(row.steps_min, row.steps_max);
@@ -515,7 +515,7 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
         .map(|(fi, plan, control)| {
             let f = &families[*fi];
             let row = &rows[f.row];
-            let bank = plans::bank(plan, &bank_ids[f.row], templates[f.row]);
+            let bank = plans::bank(plan, &bank_ids[f.row], templates[f.row], f.bus_kv);
             let mut p = bases[f.row].clone();
             p.banks.push(bank.clone());
             let scan = run_check(&p, &check_options(options, true))?;

@@ -122,9 +122,10 @@ pub fn cost(family: &Family, row: &DesignRow, steps: u32) -> f64 {
         + n * row.step_cost.unwrap_or(DEFAULT_STEP_COST)
 }
 
-/// The bank of a plan: `template`'s id and settings (a proposed bank the plan replaces) or
-/// the contract's defaults, every step count studied.
-pub fn bank(plan: &Plan, id: &str, template: Option<&CapacitorBank>) -> CapacitorBank {
+/// The bank of a plan at a bus of `bus_kv`: `template`'s id and settings (a proposed bank
+/// the plan replaces) or the contract's defaults written out (so the written plant reads
+/// without default warnings), every step count studied.
+pub fn bank(plan: &Plan, id: &str, template: Option<&CapacitorBank>, bus_kv: f64) -> CapacitorBank {
     CapacitorBank {
         id: id.to_string(),
         bus: plan.bus.clone(),
@@ -136,7 +137,9 @@ pub fn bank(plan: &Plan, id: &str, template: Option<&CapacitorBank>) -> Capacito
         status: BankStatus::Proposed,
         studied_steps: (0..=plan.steps).collect(),
         inrush_uh: template.and_then(|t| t.inrush_uh),
-        connection: template.and_then(|t| t.connection),
+        connection: template
+            .and_then(|t| t.connection)
+            .or(Some(BankConnection::default_for(bus_kv))),
         trapped_charge_pu: template.map_or(0.0, |t| t.trapped_charge_pu),
         inrush_limit_ka: template.and_then(|t| t.inrush_limit_ka),
     }
