@@ -8,6 +8,7 @@
 //! - `model`: validation of plants and topology errors;
 //! - `scan`: grid, configurations, peak finding;
 //! - `cli`: the `overtone` binary as a user runs it (exit codes, output paths, interrupts);
+//! - `design`: the design search against power-factor sizing and its own checks;
 //! - `reader`, `malformed`, `bounds`: the workbook reader, its messages and its resource bounds;
 //! - `degenerate`: degenerate physics, each through the full report audit;
 //! - `hostile`, `properties`: the fuzz bodies over the kept corpus (`fuzz_bodies` is
