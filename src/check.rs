@@ -210,6 +210,16 @@ impl CheckResults {
         ))
     }
 
+    /// The labels of the studied configurations in which bank `b` is energized.
+    pub fn energized_labels(&self, b: usize) -> Vec<String> {
+        self.scan
+            .configurations
+            .iter()
+            .filter(|cfg| cfg.steps.get(b).is_some_and(|&k| k > 0))
+            .map(|cfg| cfg.label(&self.plant.banks))
+            .collect()
+    }
+
     /// The label of configuration `c`.
     pub fn label(&self, c: usize) -> String {
         self.scan.configurations[c].label(&self.plant.banks)
@@ -536,13 +546,7 @@ fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
         let reason = why.join(" and ");
         // Every studied configuration in which the bank is energized: the option must hold
         // where the bank was clear as well as where it was flagged.
-        let labels: Vec<String> = res
-            .scan
-            .configurations
-            .iter()
-            .filter(|cfg| cfg.steps[b] > 0)
-            .map(|cfg| cfg.label(&plant.banks))
-            .collect();
+        let labels = res.energized_labels(b);
         if labels.is_empty() {
             continue;
         }

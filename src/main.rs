@@ -378,14 +378,31 @@ fn options(
     quiet: bool,
     remedies: Option<bool>,
 ) -> (CheckOptions, ProgressBar) {
+    let (bar, progress) = progress_bar(quiet, "scanning {bar:40} {pos}/{len} blocks, {eta} left");
+    let options = CheckOptions {
+        buses: select.buses.clone(),
+        configurations,
+        progress: Some(progress),
+        remedies,
+        scan_only: false,
+        switching: true,
+        ..Default::default()
+    };
+    (options, bar)
+}
+
+/// A progress callback for the library and its bar on stderr, shown once a study has run
+/// for a second (hidden with `quiet` or when stderr is not a terminal).
+type Progress = Arc<dyn Fn(u64, u64) + Send + Sync>;
+
+fn progress_bar(quiet: bool, template: &str) -> (ProgressBar, Progress) {
     let bar = if quiet {
         ProgressBar::hidden()
     } else {
         ProgressBar::new(0)
     };
     bar.set_style(
-        ProgressStyle::with_template("scanning {bar:40} {pos}/{len} blocks, {eta} left")
-            .unwrap_or_else(|_| ProgressStyle::default_bar()),
+        ProgressStyle::with_template(template).unwrap_or_else(|_| ProgressStyle::default_bar()),
     );
     let start = Instant::now();
     let handle = bar.clone();
@@ -395,16 +412,7 @@ fn options(
             handle.set_position(done);
         }
     };
-    let options = CheckOptions {
-        buses: select.buses.clone(),
-        configurations,
-        progress: Some(Arc::new(progress)),
-        remedies,
-        scan_only: false,
-        switching: true,
-        ..Default::default()
-    };
-    (options, bar)
+    (bar, Arc::new(progress))
 }
 
 fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
@@ -574,24 +582,9 @@ fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
     let date = a.date.as_deref().map(parse_date).transpose()?;
     let read = read_workbook(&a.plant)?;
     warn(&read.warnings);
-    let bar = if a.quiet {
-        ProgressBar::hidden()
-    } else {
-        ProgressBar::new(0)
-    };
-    bar.set_style(
-        ProgressStyle::with_template("designing {bar:40} {pos}/{len} plans, {eta} left")
-            .unwrap_or_else(|_| ProgressStyle::default_bar()),
-    );
-    let start = Instant::now();
-    let handle = bar.clone();
+    let (bar, progress) = progress_bar(a.quiet, "designing {bar:40} {pos}/{len} plans, {eta} left");
     let options = overtone::study::design::DesignOptions {
-        progress: Some(Arc::new(move |done: u64, total: u64| {
-            if start.elapsed().as_secs_f64() > 1.0 {
-                handle.set_length(total);
-                handle.set_position(done);
-            }
-        })),
+        progress: Some(progress),
         ..Default::default()
     };
     let res = overtone::study::design::run_design(&read.plant, &options);

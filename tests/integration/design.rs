@@ -187,13 +187,7 @@ fn check_on_the_written_plant_reproduces_the_design_verdicts() {
         };
         let res = run_check(&read.plant, &options).expect("check runs");
         let plan = &d.plans[i];
-        let labels: Vec<String> = res
-            .scan
-            .configurations
-            .iter()
-            .filter(|c| c.steps.last().copied().unwrap_or(0) > 0)
-            .map(|c| c.label(&res.plant.banks))
-            .collect();
+        let labels = res.energized_labels(res.plant.banks.len() - 1);
         assert_eq!(res.outcome(&plan.bank.id, &labels), plan.outcome);
         let step = res
             .operating

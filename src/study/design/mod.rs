@@ -345,16 +345,6 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
             base
         })
         .collect();
-    let bank_ids: Vec<String> = rows
-        .iter()
-        .map(|r| {
-            plant
-                .banks
-                .iter()
-                .find(|b| b.status == BankStatus::Proposed && b.bus == r.bus)
-                .map_or_else(|| format!("PFC-{}", r.bus), |b| b.id.clone())
-        })
-        .collect();
     let templates: Vec<Option<&CapacitorBank>> = rows
         .iter()
         .map(|r| {
@@ -363,6 +353,11 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
                 .iter()
                 .find(|b| b.status == BankStatus::Proposed && b.bus == r.bus)
         })
+        .collect();
+    let bank_ids: Vec<String> = rows
+        .iter()
+        .zip(&templates)
+        .map(|(r, t)| t.map_or_else(|| format!("PFC-{}", r.bus), |b| b.id.clone()))
         .collect();
     let mut row_levels: Vec<Vec<Level>> = Vec::new();
     for base in &bases {
@@ -622,13 +617,7 @@ fn evaluate(
     scan_only: bool,
     row: usize,
 ) -> PlanResult {
-    let labels: Vec<String> = res
-        .scan
-        .configurations
-        .iter()
-        .filter(|c| c.steps.last().copied().unwrap_or(0) > 0)
-        .map(|c| c.label(&res.plant.banks))
-        .collect();
+    let labels = res.energized_labels(res.plant.banks.len() - 1);
     let outcome = res.outcome(&bank.id, &labels);
     let has = |c: &str| labels.iter().any(|l| l == c);
     let mine: Vec<&crate::study::ResonanceRow> = res
