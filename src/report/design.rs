@@ -15,10 +15,7 @@ pub fn level_words(d: &DesignResult, p: &PlanResult) -> String {
         .iter()
         .zip(&p.control)
         .map(|((name, _), per)| {
-            let pf = per
-                .iter()
-                .filter_map(|c| c.pf)
-                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
+            let pf = crate::study::design::levels::lowest_pf(per);
             let steps = per
                 .iter()
                 .map(|c| c.steps.last().copied().unwrap_or(0))
@@ -252,10 +249,7 @@ pub fn baseline_words(d: &DesignResult) -> String {
         .iter()
         .zip(&d.baseline().control)
         .map(|((name, _), per)| {
-            let pf = per
-                .iter()
-                .filter_map(|c| c.pf)
-                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
+            let pf = crate::study::design::levels::lowest_pf(per);
             format!(
                 "{name} {}",
                 pf.map_or_else(|| "n/a".into(), |v| format!("{v:.3}"))

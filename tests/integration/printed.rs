@@ -32,6 +32,40 @@ fn squash(s: &str) -> String {
         .replace('-', "")
 }
 
+/// Runs `overtone COMMAND CASE -o REVIEW --quiet` on a bundled case and asserts success.
+fn review_of(command: &str, case: &str, review: &Path) {
+    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    let out = output_within(
+        Command::new(env!("CARGO_BIN_EXE_overtone"))
+            .arg(command)
+            .arg(root.join("cases").join(format!("{case}.xlsx")))
+            .arg("-o")
+            .arg(review)
+            .arg("--quiet"),
+        600,
+    );
+    assert!(
+        out.status.success(),
+        "{case}: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
+
+/// The text pdftotext reads from the PDF LibreOffice printed of `review` (pages end with
+/// a form feed).
+fn printed_text(review: &Path, stderr: &[u8]) -> String {
+    let pdf = review.with_extension("pdf");
+    assert!(
+        pdf.exists(),
+        "{}: no PDF: {}",
+        review.display(),
+        String::from_utf8_lossy(stderr)
+    );
+    let txt = review.with_extension("txt");
+    output_within(Command::new("pdftotext").arg(&pdf).arg(&txt), 120);
+    std::fs::read_to_string(&txt).unwrap()
+}
+
 #[test]
 fn printed_reviews_are_short_and_print_every_sentence_whole() {
     if !external_tool("soffice", "the review printed to PDF")
@@ -39,40 +73,18 @@ fn printed_reviews_are_short_and_print_every_sentence_whole() {
     {
         return;
     }
-    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
     let dir = std::env::temp_dir().join(format!("overtone-printed-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let cases = ["bottling-plant", "food-plant", "water-plant", "large-site"];
     let mut reviews = Vec::new();
     for case in cases {
         let review = dir.join(format!("{case}.xlsx"));
-        let out = output_within(
-            Command::new(env!("CARGO_BIN_EXE_overtone"))
-                .arg("check")
-                .arg(root.join("cases").join(format!("{case}.xlsx")))
-                .arg("-o")
-                .arg(&review)
-                .arg("--quiet"),
-            600,
-        );
-        assert!(
-            out.status.success(),
-            "{case}: {}",
-            String::from_utf8_lossy(&out.stderr)
-        );
+        review_of("check", case, &review);
         reviews.push(review);
     }
     let out = crate::common::soffice_to_pdf(&dir, &reviews, 900);
     for (case, review) in cases.iter().zip(&reviews) {
-        let pdf = review.with_extension("pdf");
-        assert!(
-            pdf.exists(),
-            "{case}: no PDF: {}",
-            String::from_utf8_lossy(&out.stderr)
-        );
-        let txt = review.with_extension("txt");
-        output_within(Command::new("pdftotext").arg(&pdf).arg(&txt), 120);
-        let text = std::fs::read_to_string(&txt).unwrap();
+        let text = printed_text(review, &out.stderr);
         // pdftotext ends every page with a form feed.
         let pages = text.matches('\u{c}').count();
         assert!(
@@ -115,38 +127,16 @@ fn the_printed_design_review_opens_with_the_plans_and_keeps_the_cautions() {
     {
         return;
     }
-    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
     let dir = std::env::temp_dir().join(format!("overtone-design-pdf-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
     let review = dir.join("food-design.xlsx");
-    let out = output_within(
-        Command::new(env!("CARGO_BIN_EXE_overtone"))
-            .arg("design")
-            .arg(root.join("cases").join("food-plant.xlsx"))
-            .arg("-o")
-            .arg(&review)
-            .arg("--quiet"),
-        600,
-    );
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    review_of("design", "food-plant", &review);
     let wb: Xlsx<_> = open_workbook(&review).unwrap();
     let names = wb.sheet_names();
     assert_eq!(names[..3], ["Design", "Load levels", "Summary"]);
     assert!(names.iter().any(|n| n == "Cautions"));
     let out = crate::common::soffice_to_pdf(&dir, std::slice::from_ref(&review), 600);
-    let pdf = review.with_extension("pdf");
-    assert!(
-        pdf.exists(),
-        "no PDF: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    let txt = review.with_extension("txt");
-    output_within(Command::new("pdftotext").arg(&pdf).arg(&txt), 120);
-    let raw = std::fs::read_to_string(&txt).unwrap();
+    let raw = printed_text(&review, &out.stderr);
     let pages = raw.matches('\u{c}').count();
     assert!((3..=MAX_PAGES + 4).contains(&pages), "{pages} pages");
     let text = squash(&raw);

@@ -178,3 +178,11 @@ pub fn control(
         q_kvar,
     }
 }
+
+/// The lowest power factor of `controls` (`None` when none has one).
+pub fn lowest_pf<'a>(controls: impl IntoIterator<Item = &'a Control>) -> Option<f64> {
+    controls
+        .into_iter()
+        .filter_map(|c| c.pf)
+        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))))
+}

@@ -22,6 +22,7 @@
 //! it could discard a plan that passes. The scan-only pass in 3 is exact and cheap.
 
 pub mod levels;
+mod outcome;
 pub mod plans;
 
 use std::sync::Arc;
@@ -29,13 +30,14 @@ use std::sync::Arc;
 use rayon::prelude::*;
 use serde::Serialize;
 
-use crate::check::{CheckError, CheckOptions, CheckResults, run_check};
+use crate::check::{CheckError, CheckOptions, run_check};
 use crate::model::*;
 use crate::network::Network;
 use crate::study::Verdict;
 use crate::study::operating::OperatingStudy;
 use crate::study::remedy::Outcome;
 pub use levels::{Control, Level};
+use outcome::{evaluate, notes, rank, reason};
 pub use plans::{Family, Plan};
 
 /// Why a design could not run: a sentence naming the sheet and cell.
@@ -432,35 +434,17 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
         }
     }
     if reachable.iter().flatten().all(|r| !r) {
-        let (best, _) = bounded_ok
+        let best_pf = bounded_ok
             .iter()
-            .map(|(_, at_max, _)| {
-                let pf = at_max
-                    .iter()
-                    .flatten()
-                    .filter_map(|c| c.pf)
-                    .fold(f64::INFINITY, f64::min);
-                (at_max, pf)
-            })
-            .fold((None, f64::NEG_INFINITY), |(b, bp), (c, pf)| {
-                if pf > bp { (Some(c), pf) } else { (b, bp) }
-            });
-        let best_pf = best
-            .map(|c| {
-                c.iter()
-                    .flatten()
-                    .filter_map(|c| c.pf)
-                    .fold(f64::INFINITY, f64::min)
-            })
-            .unwrap_or(f64::NAN);
+            .filter_map(|(_, at_max, _)| levels::lowest_pf(at_max.iter().flatten()))
+            .fold(f64::NAN, f64::max);
         let r = &rows[0];
-        let largest = r.step_kvar.last().copied().unwrap_or(0.0);
         return Err(DesignError::Input {
             sheet: "Design",
             cell: r.cells.steps.clone(),
             message: format!(
-                "no allowed plan reaches the target power factor {target} at any load level: the best, {} × {largest} kvar, leaves {best_pf:.3} at the PCC; allow more steps here or larger sizes in \"Step kvar\" ({}), or lower \"Target power factor\" on the Study sheet",
-                r.steps_max, r.cells.step_kvar
+                "no allowed plan reaches the target power factor {target} at any load level: the best leaves {best_pf:.3} at the PCC; allow more steps here or larger sizes in \"Step kvar\" ({}), or lower \"Target power factor\" on the Study sheet",
+                r.cells.step_kvar
             ),
         });
     }
@@ -593,296 +577,4 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
         bank_ids,
         notes,
     })
-}
-
-/// The margin used for ranking: the band margin, or 100 % when the bank has no peak in
-/// the scanned range.
-fn margin(p: &PlanResult) -> f64 {
-    p.outcome.margin_percent.unwrap_or(100.0)
-}
-
-/// Every figure and failure of one plan from its check results.
-#[allow(clippy::too_many_arguments)]
-fn evaluate(
-    res: &CheckResults,
-    plan: &Plan,
-    bank: CapacitorBank,
-    cost: f64,
-    bus_kv: f64,
-    control: Vec<Vec<Control>>,
-    levels: &[Level],
-    reachable: &[Vec<bool>],
-    baseline: &Baseline,
-    target: f64,
-    scan_only: bool,
-    row: usize,
-) -> PlanResult {
-    let labels = res.energized_labels(res.plant.banks.len() - 1);
-    let outcome = res.outcome(&bank.id, &labels);
-    let has = |c: &str| labels.iter().any(|l| l == c);
-    let mine: Vec<&crate::study::ResonanceRow> = res
-        .resonance
-        .rows
-        .iter()
-        .filter(|r| r.bank == bank.id)
-        .collect();
-    let peaks: Vec<f64> = mine
-        .iter()
-        .filter_map(|r| r.peak.map(|p| p.order))
-        .collect();
-    let resonance = (!peaks.is_empty()).then(|| {
-        (
-            peaks.iter().copied().fold(f64::INFINITY, f64::min),
-            peaks.iter().copied().fold(f64::NEG_INFINITY, f64::max),
-        )
-    });
-    let hand_order = mine
-        .iter()
-        .filter(|r| r.steps == bank.steps)
-        .map(|r| r.hand_order)
-        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
-    let steps: Vec<&crate::study::operating::StepChange> = res
-        .operating
-        .step_changes
-        .iter()
-        .filter(|s| s.bank == bank.id)
-        .collect();
-    let rows: Vec<&crate::study::limits::LimitRow> = res
-        .limit_rows
-        .iter()
-        .filter(|r| has(&r.configuration))
-        .collect();
-    let pcc_thd_percent = rows.iter().map(|r| r.pcc_thd.value).fold(0.0, f64::max);
-    let tdd_percent = rows.iter().map(|r| r.tdd.value).fold(0.0, f64::max);
-    let mut fails = Vec::new();
-    for (l, per) in control.iter().enumerate() {
-        for (s, c) in per.iter().enumerate() {
-            if reachable[l][s] && !c.reaches {
-                fails.push(format!(
-                    "PF {} below {target} at {} ({})",
-                    c.pf.map_or_else(|| "n/a".into(), |v| format!("{v:.3}")),
-                    levels[l].name,
-                    res.network.scenarios[s].name
-                ));
-            }
-        }
-    }
-    if outcome.resonant > 0 {
-        let orders: Vec<f64> = {
-            let mut o: Vec<f64> = mine
-                .iter()
-                .filter(|r| r.verdict == Verdict::Resonant)
-                .filter_map(|r| r.nearest_characteristic)
-                .collect();
-            o.sort_by(f64::total_cmp);
-            o.dedup();
-            o
-        };
-        fails.push(format!(
-            "resonant near h {} in {} row(s)",
-            orders
-                .iter()
-                .map(|h| format!("{h}"))
-                .collect::<Vec<_>>()
-                .join(", "),
-            outcome.resonant
-        ));
-    }
-    if outcome.tolerance_flagged > 0 {
-        fails.push(format!(
-            "tolerance band reaches a characteristic order in {} configuration(s)",
-            outcome.tolerance_flagged
-        ));
-    }
-    if !scan_only {
-        if outcome.duty_exceeded > 0 {
-            fails.push(format!(
-                "IEEE 18 duty exceeded in {} row(s)",
-                outcome.duty_exceeded
-            ));
-        }
-        let worse = pcc_thd_percent > baseline.pcc_thd_percent * (1.0 + 1e-9) + 1e-12
-            || tdd_percent > baseline.tdd_percent * (1.0 + 1e-9) + 1e-12;
-        if outcome.limits_exceeded > 0 && worse {
-            fails.push(format!(
-                "harmonic limits exceeded in {} configuration(s), worse at the PCC than without the bank",
-                outcome.limits_exceeded
-            ));
-        }
-        let exceeded = steps.iter().filter(|s| s.exceeds).count();
-        if exceeded > 0 {
-            fails.push(format!(
-                "step voltage change above {} % ({} step(s))",
-                res.operating.step_limit_percent, exceeded
-            ));
-        }
-    }
-    let weight: f64 = levels.iter().map(|l| l.hours).sum();
-    let lowest_per_level: Vec<Option<f64>> = control
-        .iter()
-        .map(|per| {
-            per.iter()
-                .filter_map(|c| c.pf)
-                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))))
-        })
-        .collect();
-    let pf_weighted = (weight > 0.0 && lowest_per_level.iter().all(Option::is_some)).then(|| {
-        lowest_per_level
-            .iter()
-            .zip(levels)
-            .map(|(pf, l)| pf.unwrap_or(0.0) * l.hours)
-            .sum::<f64>()
-            / weight
-    });
-    let pf_lowest = lowest_per_level
-        .iter()
-        .flatten()
-        .copied()
-        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
-    PlanResult {
-        effective_kvar: f64::from(plan.steps) * plan.effective_step_kvar(bus_kv),
-        plan: plan.clone(),
-        bank,
-        cost,
-        control,
-        pf_weighted,
-        pf_lowest,
-        outcome,
-        resonance,
-        hand_order,
-        step_change_percent: steps.iter().map(|s| s.change_percent).fold(0.0, f64::max),
-        step_changes_exceeded: steps.iter().filter(|s| s.exceeds).count(),
-        pcc_thd_percent,
-        tdd_percent,
-        scan_only,
-        fails,
-        pareto: false,
-        rank: 0,
-        row,
-    }
-}
-
-/// Marks the Pareto set of the passing plans (lower cost, larger margin, higher weighted
-/// PF; a plan is on it when no other passing plan is at least as good in all three and
-/// better in one) and ranks: passing plans by cost, then margin (larger first), then PF;
-/// then the others by number of failures, then cost.
-fn rank(plans: &mut [PlanResult]) {
-    let key = |p: &PlanResult| (p.cost, margin(p), p.pf_weighted.unwrap_or(0.0));
-    let n = plans.len();
-    for i in 0..n {
-        if !plans[i].passes() {
-            continue;
-        }
-        let (ci, mi, fi) = key(&plans[i]);
-        let dominated = (0..n).any(|j| {
-            if j == i || !plans[j].passes() {
-                return false;
-            }
-            let (cj, mj, fj) = key(&plans[j]);
-            cj <= ci && mj >= mi && fj >= fi && (cj < ci || mj > mi || fj > fi)
-        });
-        plans[i].pareto = !dominated;
-    }
-    plans.sort_by(|a, b| {
-        b.passes()
-            .cmp(&a.passes())
-            .then(a.fails.len().cmp(&b.fails.len()))
-            .then(a.cost.total_cmp(&b.cost))
-            .then(margin(b).total_cmp(&margin(a)))
-            .then(
-                b.pf_weighted
-                    .unwrap_or(0.0)
-                    .total_cmp(&a.pf_weighted.unwrap_or(0.0)),
-            )
-            .then(a.plan.bus.cmp(&b.plan.bus))
-            .then(a.plan.step_kvar.total_cmp(&b.plan.step_kvar))
-            .then(a.plan.rated_kv.total_cmp(&b.plan.rated_kv))
-    });
-    for (i, p) in plans.iter_mut().enumerate() {
-        p.rank = i + 1;
-    }
-}
-
-/// Why the recommended plan, in one or two sentences.
-fn reason(plans: &[PlanResult], recommended: Option<usize>) -> String {
-    let Some(r) = recommended.map(|i| &plans[i]) else {
-        return "No plan passes every check: the nearest plans are listed with what each fails."
-            .into();
-    };
-    let passing = plans.iter().filter(|p| p.passes()).count();
-    let mut s = format!(
-        "The least-cost plan of the {passing} that pass every check (power factor at every reachable level, no resonance across the tolerance band in any configuration or scenario, IEEE 18 duty, limits at the PCC, step voltage change)."
-    );
-    if let Some(wider) = plans
-        .iter()
-        .filter(|p| p.pareto && margin(p) > margin(r) + 1e-9)
-        .max_by(|a, b| margin(a).total_cmp(&margin(b)))
-    {
-        s.push_str(&format!(
-            " For more margin to the nearest characteristic order, {} at {} ({}) costs {:.0} % more for {:.1} % margin against {:.1} %.",
-            wider.plan.label(),
-            wider.plan.bus,
-            wider.bank.id,
-            (wider.cost / r.cost - 1.0) * 100.0,
-            margin(wider),
-            margin(r)
-        ));
-    }
-    s
-}
-
-/// The assumptions the design states.
-fn notes(
-    levels: &[Level],
-    rows: &[DesignRow],
-    derived: bool,
-    unreachable: &[(String, String)],
-    target: f64,
-) -> Vec<String> {
-    let mut out = vec![
-        format!(
-            "Controller (common practice): at each load level and scenario the plant's other banks switch first, then the designed bank; each adds steps while the PCC power factor is below the target {target} and blocks a step that would leave it leading beyond the leading limit."
-        ),
-        "Equal steps only; one bank per plan, at one of the design buses. The step count of a plan is the most steps the controller uses at any level: more steps are never switched in (dominated), fewer miss the target.".into(),
-        "Harmonic checks (resonance, tolerance band, duty, limits, step voltage change) run at the Loads sheet's study point over every step count of the bank × every studied configuration of the other banks × every scenario, as `check` does.".into(),
-    ];
-    if levels.iter().any(|l| l.name == "full")
-        && levels.iter().any(|l| l.name == "light")
-        && levels.len() == 2
-    {
-        out.push(format!(
-            "Load levels: no Load levels sheet, so full load (the Loads sheet as given, {} h/year) and light load (every load factor halved, {} h/year); hours invented for weighting only.",
-            levels::DEFAULT_LEVELS[0].1,
-            levels::DEFAULT_LEVELS[1].1
-        ));
-    }
-    if derived {
-        out.push("No Design sheet: each proposed bank's bus is designed, with steps of ½, 1 and 2 × its step kvar, 1 to 8 steps, plain, 5.67 %, 7 % and 14 % detuning and the two standard voltage classes above U/(1 − p).".into());
-    }
-    let mut invented = Vec::new();
-    if rows.iter().any(|r| r.capacitor_cost_per_kvar.is_empty()) {
-        invented.push(format!(
-            "{DEFAULT_CAPACITOR_COST} per rated kvar of capacitor × (rated kV / bus kV)"
-        ));
-    }
-    if rows.iter().any(|r| r.reactor_cost_per_kvar.is_none()) {
-        invented.push(format!(
-            "{DEFAULT_REACTOR_COST} per kvar of reactor (p × rated kvar)"
-        ));
-    }
-    if rows.iter().any(|r| r.step_cost.is_none()) {
-        invented.push(format!("{DEFAULT_STEP_COST} per step"));
-    }
-    if !invented.is_empty() {
-        out.push(format!(
-            "Costs are relative; where the Design sheet gives none they are INVENTED: {}; replace them with quotations.",
-            invented.join(", ")
-        ));
-    }
-    for (l, s) in unreachable {
-        out.push(format!(
-            "No allowed plan reaches the target at level {l}, scenario {s}: the power factor is not required there."
-        ));
-    }
-    out
 }
