@@ -18,7 +18,7 @@ fn sentence(ws: &mut Worksheet, r: u32, text: &str, last_col: u16) -> Result<(),
         .set_text_wrap()
         .set_align(rust_xlsxwriter::FormatAlign::Top);
     ws.merge_range(r, 0, r, last_col, text, &f)?;
-    ws.set_row_height(r, LINE_POINTS * wrapped_lines(text, 150.0, false) + 3.0)?;
+    ws.set_row_height(r, LINE_POINTS * wrapped_lines(text, 190.0, false) + 3.0)?;
     Ok(())
 }
 
@@ -71,29 +71,29 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
         ws,
         head,
         &[
-            ("Rank", 6.0),
-            ("Pareto", 7.0),
-            ("Bank", 10.0),
-            ("Bus", 10.0),
-            ("Steps", 6.0),
-            ("Step kvar (rated)", 9.0),
-            ("Rated kV", 7.0),
-            ("Reactor", 9.0),
-            ("kvar at bus kV", 9.0),
-            ("Cost (relative)", 9.0),
-            ("Lowest PF", 8.0),
+            ("Rank", 5.0),
+            ("Pareto", 6.0),
+            ("Bank", 9.0),
+            ("Bus", 9.0),
+            ("Steps", 5.0),
+            ("Step kvar (rated)", 7.0),
+            ("Rated kV", 6.0),
+            ("Reactor", 7.0),
+            ("kvar at bus kV", 7.0),
+            ("Cost (relative)", 7.0),
+            ("Lowest PF", 7.0),
             ("Weighted PF", 8.0),
-            ("Resonance low (h)", 9.0),
-            ("Resonance high (h)", 9.0),
-            ("Hand check h", 8.0),
-            ("Margin (%)", 8.0),
+            ("Resonance low (h)", 9.5),
+            ("Resonance high (h)", 9.5),
+            ("Hand check h", 7.0),
+            ("Margin (%)", 7.0),
             ("Resonant rows", 8.0),
             ("Tolerance flagged", 9.0),
-            ("Duty exceeded", 8.0),
-            ("PCC THD (%)", 8.0),
-            ("TDD (%)", 7.0),
-            ("Step change (%)", 8.0),
-            ("Verdict", 40.0),
+            ("Duty exceeded", 7.0),
+            ("PCC THD (%)", 6.0),
+            ("TDD (%)", 6.0),
+            ("Step change (%)", 7.0),
+            ("Verdict", 34.0),
         ],
     )?;
     let wrap = Format::new().set_text_wrap();
@@ -145,7 +145,7 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
             ],
         )?;
         ws.write_string_with_format(r, LAST, &verdict, &wrap)?;
-        ws.set_row_height(r, LINE_POINTS * wrapped_lines(&verdict, 40.0, false))?;
+        ws.set_row_height(r, LINE_POINTS * wrapped_lines(&verdict, 34.0, false))?;
     }
     super::verdict_colours(ws, head + 1, head + d.plans.len() as u32, LAST)?;
     ws.set_freeze_panes(head + 1, 0)?;
