@@ -44,6 +44,14 @@ pub struct Factor {
     values: Vec<Complex64>,
 }
 
+impl Factor {
+    /// The real parts of D and L, for a real matrix factored as complex (its factors'
+    /// imaginary parts are then exactly zero), laid out as `values`.
+    pub fn real_parts(&self) -> Vec<f64> {
+        self.values.iter().map(|v| v.re).collect()
+    }
+}
+
 impl Symbolic {
     /// Analyses the n×n symmetric pattern with the given off-diagonal entries (pairs in any
     /// order; duplicates and self-pairs ignored). Cost O(Σ d²·log n) over the eliminated
@@ -224,6 +232,42 @@ impl Symbolic {
             let mut acc = work[k];
             for p in self.col_ptr[k]..self.col_ptr[k + 1] {
                 acc -= v[n + p] * work[self.rows[p]];
+            }
+            work[k] = acc;
+        }
+        for (k, &i) in self.perm.iter().enumerate() {
+            b[i] = work[k];
+        }
+    }
+
+    /// Solves A·x = b in place, like [`Symbolic::solve_in_place`], for a real matrix A
+    /// whose factors are `values` ([`Factor::real_parts`]) and a complex b: each complex
+    /// product of the complex solve becomes two real ones.
+    pub fn solve_real_in_place(
+        &self,
+        values: &[f64],
+        b: &mut [Complex64],
+        work: &mut Vec<Complex64>,
+    ) {
+        let n = self.n;
+        work.clear();
+        work.extend(self.perm.iter().map(|&i| b[i]));
+        let (d, l) = values.split_at(n);
+        for k in 0..n {
+            let xk = work[k];
+            if xk != Complex64::new(0.0, 0.0) {
+                for p in self.col_ptr[k]..self.col_ptr[k + 1] {
+                    work[self.rows[p]] -= xk * l[p];
+                }
+            }
+        }
+        for (w, &dk) in work.iter_mut().zip(d) {
+            *w /= dk;
+        }
+        for k in (0..n).rev() {
+            let mut acc = work[k];
+            for p in self.col_ptr[k]..self.col_ptr[k + 1] {
+                acc -= work[self.rows[p]] * l[p];
             }
             work[k] = acc;
         }

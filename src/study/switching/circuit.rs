@@ -25,7 +25,7 @@
 
 use num_complex::Complex64;
 
-use crate::solve::{Factor, SingularPivot, Symbolic};
+use crate::solve::{SingularPivot, Symbolic};
 
 /// What a branch is.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -141,14 +141,35 @@ impl Circuit {
     }
 }
 
+/// What one step computes for an element, with its coefficients for Δt worked out once.
+#[derive(Debug, Clone, Copy)]
+enum Slot {
+    /// Series R-L: G = 1/(R + 2L/Δt), `trap` = 2L/Δt − R, `euler` = G·2L/Δt, `emf` = G·E.
+    Rl {
+        g: f64,
+        trap: f64,
+        euler: f64,
+        emf: Complex64,
+        e: Complex64,
+    },
+    /// Capacitance: G_C = 2C/Δt.
+    C { g: f64 },
+    /// Conductance g (no history).
+    G { g: f64 },
+    /// Current source I (no history).
+    Current { i: Complex64 },
+}
+
 /// The post-closing circuit factored for one time step Δt.
 pub struct Stepper<'a> {
     circuit: &'a Circuit,
     pub dt: f64,
     sym: Symbolic,
-    factor: Factor,
-    /// Companion conductance of each element, pu.
-    g: Vec<f64>,
+    /// D and L of the companion conductance matrix, which is real (see
+    /// [`Symbolic::solve_real_in_place`]).
+    factor: Vec<f64>,
+    /// Each element's nodes and coefficients, in element order.
+    slots: Vec<(usize, Option<usize>, Slot)>,
 }
 
 impl<'a> Stepper<'a> {
@@ -157,14 +178,26 @@ impl<'a> Stepper<'a> {
     pub fn new(circuit: &'a Circuit, dt: f64) -> Result<Self, SingularPivot> {
         let sym = Symbolic::new(circuit.nodes, &circuit.edges());
         let mut m = sym.zeros();
-        let g: Vec<f64> = circuit
+        let slots: Vec<(usize, Option<usize>, Slot)> = circuit
             .elements
             .iter()
-            .map(|e| match e.kind {
-                Kind::Rl { r, l, .. } => 1.0 / (r + 2.0 * l / dt),
-                Kind::C { c } => 2.0 * c / dt,
-                Kind::G { g } => g,
-                Kind::Current { .. } => 0.0,
+            .map(|e| {
+                let slot = match e.kind {
+                    Kind::Rl { r, l, emf } => {
+                        let g = 1.0 / (r + 2.0 * l / dt);
+                        Slot::Rl {
+                            g,
+                            trap: 2.0 * l / dt - r,
+                            euler: g * (2.0 * l / dt),
+                            emf: g * emf,
+                            e: emf,
+                        }
+                    }
+                    Kind::C { c } => Slot::C { g: 2.0 * c / dt },
+                    Kind::G { g } => Slot::G { g },
+                    Kind::Current { i } => Slot::Current { i },
+                };
+                (e.a, e.b, slot)
             })
             .collect();
         let mut add = |i: usize, j: usize, v: f64| {
@@ -172,20 +205,25 @@ impl<'a> Stepper<'a> {
                 m[k] += v;
             }
         };
-        for (e, &ge) in circuit.elements.iter().zip(&g) {
-            add(e.a, e.a, ge);
-            if let Some(b) = e.b {
+        for &(a, b, slot) in &slots {
+            let ge = match slot {
+                Slot::Rl { g, .. } | Slot::C { g } | Slot::G { g } => g,
+                Slot::Current { .. } => 0.0,
+            };
+            add(a, a, ge);
+            if let Some(b) = b {
                 add(b, b, ge);
-                add(e.a, b, -ge);
+                add(a, b, -ge);
             }
         }
-        let factor = sym.factor(m)?;
+        // The matrix is real, so its complex factors are too (imaginary parts exactly 0).
+        let factor = sym.factor(m)?.real_parts();
         Ok(Stepper {
             circuit,
             dt,
             sym,
             factor,
-            g,
+            slots,
         })
     }
 
@@ -241,51 +279,58 @@ impl<'a> Stepper<'a> {
         rhs: &mut [Complex64],
         work: &mut Vec<Complex64>,
     ) {
-        let c = self.circuit;
         let zero = Complex64::default();
         rhs.iter_mut().for_each(|x| *x = zero);
-        for (k, e) in c.elements.iter().enumerate() {
-            let inject = match e.kind {
-                Kind::Rl { r, l, emf } => {
-                    let g = self.g[k];
+        for (k, &(a, b, slot)) in self.slots.iter().enumerate() {
+            let inject = match slot {
+                Slot::Rl {
+                    g,
+                    trap,
+                    euler: ge,
+                    emf,
+                    ..
+                } => {
                     // Backward Euler over h = Δt/2: i_n·(R + L/h) = u_n + (L/h)·i_{n−1}.
                     let h = if euler {
-                        g * (2.0 * l / self.dt) * state.i[k]
+                        ge * state.i[k]
                     } else {
-                        g * (state.u[k] + (2.0 * l / self.dt - r) * state.i[k])
+                        g * (state.u[k] + trap * state.i[k])
                     };
                     hist[k] = h;
-                    g * emf * drive - h
+                    emf * drive - h
                 }
-                Kind::C { .. } => {
+                Slot::C { g } => {
                     // Backward Euler: i_n = (C/h)·(u_n − u_{n−1}).
                     let h = if euler {
-                        -self.g[k] * state.u[k]
+                        -g * state.u[k]
                     } else {
-                        -self.g[k] * state.u[k] - state.i[k]
+                        -g * state.u[k] - state.i[k]
                     };
                     hist[k] = h;
                     -h
                 }
-                Kind::G { .. } => zero,
-                Kind::Current { i } => -i * drive,
+                Slot::G { .. } => continue,
+                Slot::Current { i } => -i * drive,
             };
-            rhs[e.a] += inject;
-            if let Some(b) = e.b {
+            rhs[a] += inject;
+            if let Some(b) = b {
                 rhs[b] -= inject;
             }
         }
-        self.sym.solve_in_place(&self.factor, rhs, work);
-        for (k, e) in c.elements.iter().enumerate() {
-            let vab = rhs[e.a] - e.b.map_or(zero, |b| rhs[b]);
-            let (u, i) = match e.kind {
-                Kind::Rl { emf, .. } => {
-                    let u = vab - emf * drive;
-                    (u, self.g[k] * u + hist[k])
+        self.sym.solve_real_in_place(&self.factor, rhs, work);
+        for (k, &(a, b, slot)) in self.slots.iter().enumerate() {
+            let vab = match b {
+                Some(b) => rhs[a] - rhs[b],
+                None => rhs[a],
+            };
+            let (u, i) = match slot {
+                Slot::Rl { g, e, .. } => {
+                    let u = vab - e * drive;
+                    (u, g * u + hist[k])
                 }
-                Kind::C { .. } => (vab, self.g[k] * vab + hist[k]),
-                Kind::G { .. } => (vab, self.g[k] * vab),
-                Kind::Current { i } => (vab, i * drive),
+                Slot::C { g } => (vab, g * vab + hist[k]),
+                Slot::G { g } => (vab, g * vab),
+                Slot::Current { i } => (vab, i * drive),
             };
             state.u[k] = u;
             state.i[k] = i;

@@ -18,6 +18,14 @@
 //! figures are reported); a configuration's worst THD bus, worst individual-harmonic bus
 //! and whether any in-plant bus is above a limit are then decided by summing exactly
 //! every bus whose upper bound reaches the best exact value (or the limit).
+//!
+//! The exact sums run over groups of injection columns whose transfer impedances are
+//! proportional ([`groups`]): on a radial site the always-summed rows cost one term per
+//! bus of the tree that joins them, not one per converter bus.
+
+mod groups;
+
+use std::sync::OnceLock;
 
 use num_complex::Complex64;
 use rayon::prelude::*;
@@ -26,8 +34,8 @@ use super::{
     Ctx, Distortion, Individual, abs, amps_per_pu, bus_above, individual_key, magnitude_sum,
     update_worst,
 };
-use crate::solve::{HarmonicPoint, SolveError};
-use crate::study::injections::combine;
+use crate::solve::SolveError;
+use groups::{Groups, Law, RowSplit};
 
 /// Relative slack on the bounds, far above rounding (1e-15) and far below any figure
 /// printed, so that rounding never rules out a bus that the exact sum would keep.
@@ -35,16 +43,23 @@ const SLACK: f64 = 1e-9;
 
 /// What every configuration of a scenario and order shares.
 pub(super) struct Prepared {
-    /// Per scenario and order: the magnitude terms (column, weight): the loads' |I| then the
-    /// background's |I_N|, in the order of [`magnitude_sum`].
-    terms: Vec<Vec<Vec<(usize, f64)>>>,
     /// Per scenario and order: V₀ at every bus without banks, per unit.
     v0: Vec<Vec<Vec<f64>>>,
     /// Buses always summed exactly: the PCC, the bank buses and the source buses.
     always: Vec<usize>,
-    /// Per scenario and order, per bus: the always-exact bus q nearest it in transfer
-    /// impedance and S_rq = Σ_c |Z₀_rc − Z₀_qc|·w_c (see [`Prepared::new`]).
+    /// Per bus: its position in `always`.
+    always_at: Vec<Option<usize>>,
+    /// Per scenario and order, per bus: the position in `always` of the always-exact bus q
+    /// nearest it in transfer impedance and S_rq = Σ_c |Z₀_rc − Z₀_qc|·w_c (see
+    /// [`Prepared::new`]).
     reference: Vec<Vec<Vec<(usize, f64)>>>,
+    /// Per scenario and order: the injection columns grouped ([`groups`]) and the load
+    /// terms (column, |I|).
+    groups: Vec<Vec<Groups>>,
+    loads: Vec<Vec<Vec<(usize, f64)>>>,
+    /// Per scenario, order and bus: how a candidate bus sums the groups, made when first
+    /// needed (the candidates of one configuration are mostly those of the next).
+    splits: Vec<Vec<Vec<OnceLock<RowSplit>>>>,
     /// Per scenario and order, n×k row-major: |Z₀_rj| and |Z₀_rj − Z₀_qj| (q the bus's
     /// reference), the bounds' coefficients, which no configuration changes.
     abs_bank: Vec<Vec<Vec<f64>>>,
@@ -62,11 +77,12 @@ pub(super) fn always_summed(net: &crate::network::Network, pcc: usize) -> Vec<us
     always
 }
 
-/// One order of one configuration: the energized banks and P = M·Z₀[E,:].
+/// One order of one configuration: the energized banks and Q = M·Z₀[E,p_g] at every
+/// group's representative p_g (M = (D⁻¹ + Z₀[E,E])⁻¹).
 struct OrderState {
     energized: Vec<usize>,
-    /// |E|×l, row-major.
-    p: Vec<Complex64>,
+    /// |E|×G, row-major.
+    q: Vec<Complex64>,
 }
 
 /// Solves A·X = B in place for a small dense complex A (m×m) and B (m×l), Gaussian
@@ -119,15 +135,15 @@ fn solve_small(a: &mut [Complex64], b: &mut [Complex64], m: usize, l: usize) -> 
     true
 }
 
-/// Z from bus `r` to every injection column after the energized banks of `st`.
-fn row_after(p: &HarmonicPoint, st: &OrderState, r: usize, out: &mut Vec<Complex64>) {
-    let z0 = p.z0_blocks();
-    let l = z0.l;
-    p.bus_inj_row(r, out);
+/// t_g = Z₀[r,E]·Q_g for every group: what the energized banks take from bus `r`'s
+/// transfer impedance to each representative.
+fn corrections(z0_r_bank: &[Complex64], st: &OrderState, ng: usize, t: &mut Vec<Complex64>) {
+    t.clear();
+    t.resize(ng, Complex64::default());
     for (j, &b) in st.energized.iter().enumerate() {
-        let g = z0.bus_bank[r * z0.k + b];
-        for (o, p) in out.iter_mut().zip(&st.p[j * l..(j + 1) * l]) {
-            *o -= g * p;
+        let g = z0_r_bank[b];
+        for (x, q) in t.iter_mut().zip(&st.q[j * ng..(j + 1) * ng]) {
+            *x += g * q;
         }
     }
 }
@@ -156,7 +172,12 @@ fn finish_bus(orders: &[f64], limits: &[Option<f64>], r: usize, v: &[f64], d: &m
 impl Prepared {
     pub(super) fn new(ctx: &Ctx<'_>) -> Prepared {
         let ns = ctx.points.len();
+        let n = ctx.net.buses.len();
         let always = always_summed(ctx.net, ctx.pcc);
+        let mut always_at = vec![None; n];
+        for (i, &q) in always.iter().enumerate() {
+            always_at[q] = Some(i);
+        }
         // A second bound beside V₀ + δ: from the exact value at a reference bus q,
         //   V_r ≤ V_q + Σ_c |Z_rc − Z_qc|·w_c
         //       ≤ V_q + S_rq + Σ_j |Z₀_rj − Z₀_qj|·W_j,   S_rq = Σ_c |Z₀_rc − Z₀_qc|·w_c
@@ -167,22 +188,28 @@ impl Prepared {
         // columns alone (Σ_j |Z₀_rj − Z₀_qj|, k terms), then the one with the smaller S_rq
         // (l terms): the bound holds for any q, the choice only makes it tight. Each bus's
         // row of Z₀ is read (or, on a lean point, solved) once, here.
-        type PerOrder = (Vec<(usize, f64)>, Vec<f64>, Vec<(usize, f64)>);
-        let mut terms = Vec::with_capacity(ns);
+        struct PerOrder {
+            v0: Vec<f64>,
+            refs: Vec<(usize, f64)>,
+            groups: Groups,
+            loads: Vec<(usize, f64)>,
+        }
         let mut v0 = Vec::with_capacity(ns);
         let mut reference: Vec<Vec<Vec<(usize, f64)>>> = Vec::with_capacity(ns);
+        let mut groups = Vec::with_capacity(ns);
+        let mut loads = Vec::with_capacity(ns);
         for s in 0..ns {
             let per: Vec<PerOrder> = ctx.points[s]
                 .par_iter()
                 .enumerate()
                 .map(|(o, p)| {
                     let inp = &ctx.inputs[s][o];
-                    let t: Vec<(usize, f64)> = inp
-                        .loads
-                        .iter()
-                        .map(|&(c, a, _)| (c, a))
-                        .chain(inp.background.iter().map(|&(c, i)| (c, abs(i))))
-                        .collect();
+                    let load_terms: Vec<(usize, f64)> =
+                        inp.loads.iter().map(|&(c, a, _)| (c, a)).collect();
+                    let bg_terms: Vec<(usize, f64)> =
+                        inp.background.iter().map(|&(c, i)| (c, abs(i))).collect();
+                    let t: Vec<(usize, f64)> =
+                        load_terms.iter().chain(&bg_terms).copied().collect();
                     let z0 = p.z0_blocks();
                     let k = z0.k;
                     let kept: Vec<Vec<Complex64>> = always
@@ -193,6 +220,15 @@ impl Prepared {
                             row
                         })
                         .collect();
+                    let grouped = Groups::new(
+                        Law::new(ctx.law, p.order),
+                        &load_terms,
+                        &bg_terms,
+                        &kept,
+                        z0.bank_inj,
+                        k,
+                        z0.l,
+                    );
                     let mut row = Vec::new();
                     let mut vs = Vec::with_capacity(z0.n);
                     let mut refs = Vec::with_capacity(z0.n);
@@ -210,30 +246,39 @@ impl Prepared {
                             })
                             .collect();
                         near.sort_by(|a, b| a.0.total_cmp(&b.0));
+                        let pcc_at = always_at[ctx.pcc].unwrap_or(0);
                         refs.push(
                             near.iter()
                                 .take(2)
                                 .map(|&(_, qi)| {
                                     let sum: f64 =
                                         t.iter().map(|&(c, w)| abs(row[c] - kept[qi][c]) * w).sum();
-                                    (always[qi], sum)
+                                    (qi, sum)
                                 })
                                 .min_by(|a, b| a.1.total_cmp(&b.1))
-                                .unwrap_or((ctx.pcc, f64::INFINITY)),
+                                .unwrap_or((pcc_at, f64::INFINITY)),
                         );
                     }
-                    (t, vs, refs)
+                    PerOrder {
+                        v0: vs,
+                        refs,
+                        groups: grouped,
+                        loads: load_terms,
+                    }
                 })
                 .collect();
-            let (mut ts, mut vss, mut rss) = (Vec::new(), Vec::new(), Vec::new());
-            for (t, vs, refs) in per {
-                ts.push(t);
-                vss.push(vs);
-                rss.push(refs);
+            let (mut vss, mut rss, mut gs, mut ls) =
+                (Vec::new(), Vec::new(), Vec::new(), Vec::new());
+            for x in per {
+                vss.push(x.v0);
+                rss.push(x.refs);
+                gs.push(x.groups);
+                ls.push(x.loads);
             }
-            terms.push(ts);
             v0.push(vss);
             reference.push(rss);
+            groups.push(gs);
+            loads.push(ls);
         }
         let mut abs_bank = Vec::with_capacity(ns);
         let mut abs_near = Vec::with_capacity(ns);
@@ -248,7 +293,7 @@ impl Prepared {
                     (0..z0.n * k)
                         .map(|i| {
                             let (r, j) = (i / k, i % k);
-                            let q = r_of[r].0;
+                            let q = always[r_of[r].0];
                             abs(z0.bus_bank[r * k + j] - z0.bus_bank[q * k + j])
                         })
                         .collect::<Vec<f64>>(),
@@ -257,11 +302,21 @@ impl Prepared {
             abs_bank.push(ab);
             abs_near.push(an);
         }
+        let splits = (0..ns)
+            .map(|s| {
+                (0..ctx.points[s].len())
+                    .map(|_| (0..n).map(|_| OnceLock::new()).collect())
+                    .collect()
+            })
+            .collect();
         Prepared {
-            terms,
             v0,
             always,
+            always_at,
             reference,
+            groups,
+            loads,
+            splits,
             abs_bank,
             abs_near,
         }
@@ -280,12 +335,33 @@ impl Prepared {
             .collect()
     }
 
+    /// The exact magnitude sum of a bus outside the always-summed ones at order `o`.
+    fn sum_bus(&self, ctx: &Ctx<'_>, s: usize, o: usize, r: usize, st: &OrderState) -> f64 {
+        let p = &ctx.points[s][o];
+        let gr = &self.groups[s][o];
+        let split = self.splits[s][o][r].get_or_init(|| {
+            let mut row = Vec::new();
+            p.bus_inj_row(r, &mut row);
+            RowSplit::new(gr, &self.loads[s][o], &row)
+        });
+        let z0 = p.z0_blocks();
+        let mut t = Vec::new();
+        corrections(
+            &z0.bus_bank[r * z0.k..(r + 1) * z0.k],
+            st,
+            gr.groups.len(),
+            &mut t,
+        );
+        split.sum(gr, Law::new(ctx.law, p.order), &t)
+    }
+
     fn configuration(&self, ctx: &Ctx<'_>, s: usize, c: usize) -> Result<Distortion, SolveError> {
         let net = ctx.net;
         let n = net.buses.len();
         let nk = net.banks.len();
         let points = &ctx.points[s];
         let no = points.len();
+        let na = self.always.len();
         let steps = &ctx.configurations[c].steps;
         let pcc_amps = amps_per_pu(net.buses[ctx.pcc].kv);
         let bank_amps: Vec<f64> = net
@@ -299,37 +375,38 @@ impl Prepared {
         let mut hi = vec![0.0f64; n * no];
         let mut exact = vec![true; n];
         let mut states: Vec<OrderState> = Vec::with_capacity(no);
-        let mut exact_v: Vec<Vec<f64>> = vec![Vec::new(); n]; // per always-bus, per order
-        let mut row = Vec::new();
-        let mut rows: Vec<Vec<Complex64>> = vec![Vec::new(); n];
+        // Per always-summed bus (by position), per order: its exact V.
+        let mut exact_v: Vec<Vec<f64>> = vec![Vec::with_capacity(no); na];
+        let mut rows: Vec<Complex64> = Vec::new(); // na × G: the always rows by group
+        let mut t = Vec::new();
+        let mut w_full = vec![0.0f64; nk];
         for (o, p) in points.iter().enumerate() {
             let h = p.order;
+            let law = Law::new(ctx.law, h);
             let z0 = p.z0_blocks();
-            let (k, l) = (z0.k, z0.l);
+            let k = z0.k;
             let inp = &ctx.inputs[s][o];
-            let terms = &self.terms[s][o];
+            let gr = &self.groups[s][o];
+            let ng = gr.groups.len();
             let v0 = &self.v0[s][o];
             let abs_bank = &self.abs_bank[s][o];
             let abs_near = &self.abs_near[s][o];
-            let energized: Vec<usize> = (0..k)
-                .filter(|&b| {
-                    let y = p.y_step(b) * f64::from(steps.get(b).copied().unwrap_or(0));
-                    y != Complex64::default()
-                })
+            let y: Vec<Complex64> = (0..k)
+                .map(|b| p.y_step(b) * f64::from(steps.get(b).copied().unwrap_or(0)))
                 .collect();
+            let energized: Vec<usize> = (0..k).filter(|&b| y[b] != Complex64::default()).collect();
             let m = energized.len();
-            let mut pm = Vec::with_capacity(m * l);
+            let mut q = Vec::with_capacity(m * ng);
             if m > 0 {
                 let mut a = vec![Complex64::default(); m * m];
                 for (i, &bi) in energized.iter().enumerate() {
                     for (j, &bj) in energized.iter().enumerate() {
                         a[i * m + j] = z0.bank_bank[bi * k + bj];
                     }
-                    let y = p.y_step(bi) * f64::from(steps[bi]);
-                    a[i * m + i] += 1.0 / y;
-                    pm.extend_from_slice(&z0.bank_inj[bi * l..(bi + 1) * l]);
+                    a[i * m + i] += 1.0 / y[bi];
+                    q.extend_from_slice(&gr.z_bank[bi * ng..(bi + 1) * ng]);
                 }
-                if !solve_small(&mut a, &mut pm, m, l) {
+                if !solve_small(&mut a, &mut q, m, ng) {
                     return Err(SolveError::Singular {
                         scenario: net.scenarios[s].name.clone(),
                         order: h,
@@ -337,79 +414,92 @@ impl Prepared {
                     });
                 }
             }
-            let st = OrderState { energized, p: pm };
-            // The always-exact buses: their rows, sums and what depends on them.
-            // At an energized bank's bus the row is P_j/y_j: Z[E,:] = Z₀[E,:] − Z₀[E,E]·M·Z₀[E,:]
-            // = (I − Z₀[E,E]·M)·Z₀[E,:] = D⁻¹·M·Z₀[E,:] (M = (D⁻¹ + Z₀[E,E])⁻¹), no extra work.
-            for &r in &self.always {
+            let st = OrderState { energized, q };
+            // The always-exact buses' rows by group. At an energized bank's bus the row is
+            // Q_j/y_j: Z[E,:] = Z₀[E,:] − Z₀[E,E]·M·Z₀[E,:] = (I − Z₀[E,E]·M)·Z₀[E,:]
+            // = D⁻¹·M·Z₀[E,:] (M = (D⁻¹ + Z₀[E,E])⁻¹), no subtraction.
+            rows.clear();
+            for (qi, &r) in self.always.iter().enumerate() {
                 match st.energized.iter().position(|&b| net.banks[b].bus == r) {
                     Some(j) => {
-                        let b = st.energized[j];
-                        let y = p.y_step(b) * f64::from(steps[b]);
-                        row.clear();
-                        row.extend(st.p[j * l..(j + 1) * l].iter().map(|x| x / y));
+                        let inv = 1.0 / y[st.energized[j]];
+                        rows.extend(st.q[j * ng..(j + 1) * ng].iter().map(|x| x * inv));
                     }
-                    None => row_after(p, &st, r, &mut row),
+                    None => {
+                        corrections(&z0.bus_bank[r * k..(r + 1) * k], &st, ng, &mut t);
+                        rows.extend(
+                            gr.z_always[qi * ng..(qi + 1) * ng]
+                                .iter()
+                                .zip(&t)
+                                .map(|(z, x)| z - x),
+                        );
+                    }
                 }
-                let v = magnitude_sum(ctx.law, h, inp, |col| abs(row[col]));
-                exact_v[r].push(v);
-                rows[r].clone_from(&row);
-            }
-            // W_j = Σ_c |P_jc|·w_c, then the bound at every bus.
-            let w: Vec<f64> = (0..m)
-                .map(|j| terms.iter().map(|&(c, wt)| abs(st.p[j * l + c]) * wt).sum())
-                .collect();
-            for r in 0..n {
-                let delta: f64 = st
-                    .energized
+                let row = &rows[qi * ng..(qi + 1) * ng];
+                let total: f64 = gr
+                    .groups
                     .iter()
-                    .zip(&w)
-                    .map(|(&b, &wj)| abs_bank[r * k + b] * wj)
+                    .zip(row)
+                    .map(|(g, z)| law.group(abs(*z), g.w1, g.wa))
                     .sum();
+                exact_v[qi].push(law.finish(total));
+            }
+            // W_j = Σ_c |P_jc|·w_c with P_j = y_j·Z[E_j,:]: |y_j| times the ℓ1 sum of the
+            // bank bus's row; then the bound at every bus.
+            w_full.iter_mut().for_each(|w| *w = 0.0);
+            for &b in &st.energized {
+                let qi = self.always_at[net.banks[b].bus].unwrap_or(0);
+                let l1: f64 = gr
+                    .groups
+                    .iter()
+                    .zip(&rows[qi * ng..(qi + 1) * ng])
+                    .map(|(g, z)| abs(*z) * g.w1)
+                    .sum();
+                w_full[b] = abs(y[b]) * l1;
+            }
+            for r in 0..n {
+                let (ab, an) = (&abs_bank[r * k..(r + 1) * k], &abs_near[r * k..(r + 1) * k]);
+                let mut delta = 0.0;
+                let mut near = 0.0;
+                for b in 0..k {
+                    delta += ab[b] * w_full[b];
+                    near += an[b] * w_full[b];
+                }
                 if delta > 0.0 {
                     exact[r] = false;
                 }
-                let (q, s_rq) = self.reference[s][o][r];
-                let near: f64 = st
-                    .energized
-                    .iter()
-                    .zip(&w)
-                    .map(|(&b, &wj)| abs_near[r * k + b] * wj)
-                    .sum();
-                let via_q = exact_v[q].last().copied().unwrap_or(f64::INFINITY) + s_rq + near;
+                let (qi, s_rq) = self.reference[s][o][r];
+                let via_q = exact_v[qi].last().copied().unwrap_or(f64::INFINITY) + s_rq + near;
                 hi[r * no + o] = (v0[r] + delta).min(via_q) * (1.0 + SLACK) * 100.0;
             }
-            let into = |col: usize| -> Complex64 {
-                inp.sources.iter().map(|&(b, y)| rows[b][col] * y).sum()
-            };
-            let supply = combine(
-                ctx.law,
-                h,
-                inp.loads
+            // The current drawn from the supply, by group: into(g) = Σ_src y_s·Z[src, p_g].
+            let mut supply = 0.0;
+            for (g, grp) in gr.groups.iter().enumerate() {
+                let into: Complex64 = inp
+                    .sources
                     .iter()
-                    .map(|&(col, a, _)| abs(into(col)) * a)
-                    .chain(
-                        inp.background
-                            .iter()
-                            .map(|&(col, i)| abs(into(col) - 1.0) * abs(i)),
-                    ),
-            );
-            d.pcc_current_a[o] = supply * pcc_amps;
+                    .map(|&(b, ys)| rows[self.always_at[b].unwrap_or(0) * ng + g] * ys)
+                    .sum();
+                supply += match grp.background {
+                    None => law.group(abs(into), grp.w1, grp.wa),
+                    Some(i) => law.term(abs(into - 1.0) * i),
+                };
+            }
+            d.pcc_current_a[o] = law.finish(supply) * pcc_amps;
             for (b, bank) in net.banks.iter().enumerate() {
-                let kf = f64::from(steps.get(b).copied().unwrap_or(0));
-                let y_bank = abs(p.y_step(b) * kf);
-                let vb = *exact_v[bank.bus].last().unwrap_or(&0.0);
+                let y_bank = abs(y[b]);
+                let qi = self.always_at[bank.bus].unwrap_or(0);
+                let vb = *exact_v[qi].last().unwrap_or(&0.0);
                 d.bank_voltage_percent[b][o] = vb * 100.0;
                 d.bank_current_a[b][o] = vb * y_bank * bank_amps[b];
                 if !inp.background.is_empty() {
-                    let bg = combine(
-                        ctx.law,
-                        h,
-                        inp.background
-                            .iter()
-                            .map(|&(col, i)| abs(rows[bank.bus][col]) * abs(i)),
-                    ) * y_bank;
-                    let a = bg * bank_amps[b];
+                    let total: f64 = gr
+                        .groups
+                        .iter()
+                        .zip(&rows[qi * ng..(qi + 1) * ng])
+                        .filter_map(|(g, z)| g.background.map(|i| law.term(abs(*z) * i)))
+                        .sum();
+                    let a = law.finish(total) * y_bank * bank_amps[b];
                     d.bank_background_rms_a[b] += a * a;
                 }
             }
@@ -426,12 +516,12 @@ impl Prepared {
             finish_bus(&orders, &ctx.limits[r], r, v, d);
             ev[r] = true;
         };
-        for &r in &self.always {
-            let v = std::mem::take(&mut exact_v[r]);
+        for (qi, &r) in self.always.iter().enumerate() {
+            let v = std::mem::take(&mut exact_v[qi]);
             finish(r, &v, &mut d, &mut evaluated);
         }
         for (r, &ex) in exact.iter().enumerate() {
-            if ex && !self.always.contains(&r) {
+            if ex && self.always_at[r].is_none() {
                 let v: Vec<f64> = (0..no).map(|o| self.v0[s][o][r]).collect();
                 finish(r, &v, &mut d, &mut evaluated);
             }
@@ -441,12 +531,10 @@ impl Prepared {
         // below the best exact value: a bus is either summed at every order (exact) or
         // proven not to matter.
         let mut known = vec![f64::NAN; n * no]; // V (pu) where summed
-        let mut sum_at = |r: usize, o: usize, known: &mut [f64]| -> f64 {
+        let sum_at = |r: usize, o: usize, known: &mut [f64]| -> f64 {
             let i = r * no + o;
             if known[i].is_nan() {
-                let p = &points[o];
-                row_after(p, &states[o], r, &mut row);
-                known[i] = magnitude_sum(ctx.law, p.order, &ctx.inputs[s][o], |col| abs(row[col]));
+                known[i] = self.sum_bus(ctx, s, o, r, &states[o]);
             }
             known[i]
         };
@@ -479,18 +567,17 @@ impl Prepared {
         };
         // Sums the orders of bus `r` (largest bound first) while `keep(bound)` holds; true
         // when every order was summed.
-        let mut pursue =
-            |r: usize, known: &mut [f64], keep: &dyn Fn(usize, &[f64]) -> bool| -> bool {
-                let mut by: Vec<usize> = (0..no).collect();
-                by.sort_by(|&a, &b| hi[r * no + b].total_cmp(&hi[r * no + a]));
-                for o in by {
-                    if !keep(r, known) {
-                        return false;
-                    }
-                    sum_at(r, o, known);
+        let pursue = |r: usize, known: &mut [f64], keep: &dyn Fn(usize, &[f64]) -> bool| -> bool {
+            let mut by: Vec<usize> = (0..no).collect();
+            by.sort_by(|&a, &b| hi[r * no + b].total_cmp(&hi[r * no + a]));
+            for o in by {
+                if !keep(r, known) {
+                    return false;
                 }
-                true
-            };
+                sum_at(r, o, known);
+            }
+            true
+        };
         let complete = |r: usize, known: &[f64], d: &mut Distortion, ev: &mut [bool]| {
             let v: Vec<f64> = (0..no).map(|o| known[r * no + o]).collect();
             finish_bus(&orders, &ctx.limits[r], r, &v, d);
