@@ -74,7 +74,7 @@ impl State {
     fn add_into(&self, a: usize, y: Complex64, to: &mut State) -> bool {
         let (k, m) = (self.k, self.m);
         let denom = 1.0 + y * self.zss[a * k + a];
-        if !(denom.norm() > 1e-300 && denom.re.is_finite() && denom.im.is_finite()) {
+        if !super::admissible(denom) {
             return false;
         }
         let f = y / denom;
@@ -105,7 +105,7 @@ impl State {
     fn leaf(&self, a: usize, y: Complex64, out: &mut [Complex64]) -> bool {
         let k = self.k;
         let denom = 1.0 + y * self.zss[a * k + a];
-        if !(denom.norm() > 1e-300 && denom.re.is_finite() && denom.im.is_finite()) {
+        if !super::admissible(denom) {
             return false;
         }
         let f = y / denom;

@@ -20,3 +20,10 @@ pub use load_flow::{
 };
 pub use sparse::{Factor, SingularPivot, Symbolic};
 pub use transfer::{HarmonicPoint, TransferScratch, Z0Blocks};
+
+/// A Sherman–Morrison denominator 1 + y·Z[a,a] that can be divided by: finite and not
+/// vanishing (its larger component above 1e-300; no `hypot` in the innermost loop).
+#[inline]
+pub(crate) fn admissible(denom: num_complex::Complex64) -> bool {
+    denom.re.is_finite() && denom.im.is_finite() && denom.re.abs().max(denom.im.abs()) > 1e-300
+}

@@ -6,7 +6,7 @@
 use num_complex::Complex64;
 
 use super::engine::{PlanState, run_plan};
-use super::{ComboPlan, Engine, SolveError};
+use super::{ComboPlan, Engine, SolveError, admissible};
 
 /// Z₀ at one harmonic order and scenario: among bank buses (k×k), every bus to the bank
 /// buses (n×k), bank buses to the injection buses (k×l), every bus to the injection buses
@@ -44,10 +44,6 @@ struct TState {
     zrs: Vec<Complex64>,
     zsj: Vec<Complex64>,
     zrj: Vec<Complex64>,
-}
-
-fn admissible(denom: Complex64) -> bool {
-    denom.norm() > 1e-300 && denom.re.is_finite() && denom.im.is_finite()
 }
 
 impl TState {

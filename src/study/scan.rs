@@ -444,8 +444,9 @@ fn sharpness(
     if orders.len() < 2 {
         return Ok(None);
     }
-    // Left: the nearest grid point below h outside the level.
-    let Some(mut a) = orders.iter().rposition(|&o| o <= h) else {
+    // Left: the nearest grid point below h outside the level (the grid ascends: found by
+    // bisection).
+    let Some(mut a) = orders.partition_point(|&o| o <= h).checked_sub(1) else {
         return Ok(None);
     };
     while a > 0 && inside(mags[a]) {
@@ -455,9 +456,10 @@ fn sharpness(
         return Ok(None);
     }
     let left = cross(a, (a + 1).min(orders.len() - 1))?;
-    let Some(mut b) = orders.iter().position(|&o| o >= h) else {
+    let mut b = orders.partition_point(|&o| o < h);
+    if b == orders.len() {
         return Ok(None);
-    };
+    }
     while b + 1 < orders.len() && inside(mags[b]) {
         b += 1;
     }

@@ -141,26 +141,37 @@ impl Circuit {
     }
 }
 
-/// What one step computes for an element, with its coefficients for Δt worked out once.
+/// No node: the reference (ground). Branches to it write to a spare slot past the nodes.
+const GROUND: u32 = u32::MAX;
+
+/// An R-L branch's step coefficients: G = 1/(R + 2L/Δt), `trap` = 2L/Δt − R,
+/// `euler` = G·2L/Δt.
 #[derive(Debug, Clone, Copy)]
-enum Slot {
-    /// Series R-L: G = 1/(R + 2L/Δt), `trap` = 2L/Δt − R, `euler` = G·2L/Δt, `emf` = G·E.
-    Rl {
-        g: f64,
-        trap: f64,
-        euler: f64,
-        emf: Complex64,
-        e: Complex64,
-    },
-    /// Capacitance: G_C = 2C/Δt.
-    C { g: f64 },
-    /// Conductance g (no history).
-    G { g: f64 },
-    /// Current source I (no history).
-    Current { i: Complex64 },
+struct RlSlot {
+    k: u32,
+    a: u32,
+    b: u32,
+    g: f64,
+    trap: f64,
+    euler: f64,
+}
+
+/// A capacitance's (G_C = 2C/Δt), a conductance's (g) or a current source's branch.
+#[derive(Debug, Clone, Copy)]
+struct Slot<T> {
+    k: u32,
+    a: u32,
+    b: u32,
+    value: T,
 }
 
 /// The post-closing circuit factored for one time step Δt.
+///
+/// The elements are kept by kind, each with its coefficients for Δt worked out once:
+/// the R-L branches (those with an EMF apart, with G·E and E), the capacitances, the
+/// current sources and the conductances. Conductances carry no history and current
+/// sources none either, so a step updates only the R-L and capacitor branches; the others'
+/// branch values are brought up to date when [`Stepper::run`] returns.
 pub struct Stepper<'a> {
     circuit: &'a Circuit,
     pub dt: f64,
@@ -168,8 +179,18 @@ pub struct Stepper<'a> {
     /// D and L of the companion conductance matrix, which is real (see
     /// [`Symbolic::solve_real_in_place`]).
     factor: Vec<f64>,
-    /// Each element's nodes and coefficients, in element order.
-    slots: Vec<(usize, Option<usize>, Slot)>,
+    rl: Vec<RlSlot>,
+    /// R-L branches with an EMF: (coefficients, G·E, E).
+    rl_emf: Vec<(RlSlot, Complex64, Complex64)>,
+    cap: Vec<Slot<f64>>,
+    cond: Vec<Slot<f64>>,
+    current: Vec<Slot<Complex64>>,
+}
+
+/// The node index of a branch end for the step arrays (`GROUND` → the spare slot).
+#[inline]
+fn at(node: u32, spare: usize) -> usize {
+    if node == GROUND { spare } else { node as usize }
 }
 
 impl<'a> Stepper<'a> {
@@ -178,58 +199,89 @@ impl<'a> Stepper<'a> {
     pub fn new(circuit: &'a Circuit, dt: f64) -> Result<Self, SingularPivot> {
         let sym = Symbolic::new(circuit.nodes, &circuit.edges());
         let mut m = sym.zeros();
-        let slots: Vec<(usize, Option<usize>, Slot)> = circuit
-            .elements
-            .iter()
-            .map(|e| {
-                let slot = match e.kind {
-                    Kind::Rl { r, l, emf } => {
-                        let g = 1.0 / (r + 2.0 * l / dt);
-                        Slot::Rl {
-                            g,
-                            trap: 2.0 * l / dt - r,
-                            euler: g * (2.0 * l / dt),
-                            emf: g * emf,
-                            e: emf,
-                        }
-                    }
-                    Kind::C { c } => Slot::C { g: 2.0 * c / dt },
-                    Kind::G { g } => Slot::G { g },
-                    Kind::Current { i } => Slot::Current { i },
-                };
-                (e.a, e.b, slot)
-            })
-            .collect();
         let mut add = |i: usize, j: usize, v: f64| {
             if let Some(k) = sym.slot(i, j) {
                 m[k] += v;
             }
         };
-        for &(a, b, slot) in &slots {
-            let ge = match slot {
-                Slot::Rl { g, .. } | Slot::C { g } | Slot::G { g } => g,
-                Slot::Current { .. } => 0.0,
+        let mut st = Stepper {
+            circuit,
+            dt,
+            sym: sym.clone(),
+            factor: Vec::new(),
+            rl: Vec::new(),
+            rl_emf: Vec::new(),
+            cap: Vec::new(),
+            cond: Vec::new(),
+            current: Vec::new(),
+        };
+        for (k, e) in circuit.elements.iter().enumerate() {
+            let (k32, a) = (k as u32, e.a as u32);
+            let b = e.b.map_or(GROUND, |b| b as u32);
+            let ge = match e.kind {
+                Kind::Rl { r, l, emf } => {
+                    let g = 1.0 / (r + 2.0 * l / dt);
+                    let slot = RlSlot {
+                        k: k32,
+                        a,
+                        b,
+                        g,
+                        trap: 2.0 * l / dt - r,
+                        euler: g * (2.0 * l / dt),
+                    };
+                    if emf == Complex64::default() {
+                        st.rl.push(slot);
+                    } else {
+                        st.rl_emf.push((slot, g * emf, emf));
+                    }
+                    g
+                }
+                Kind::C { c } => {
+                    let g = 2.0 * c / dt;
+                    st.cap.push(Slot {
+                        k: k32,
+                        a,
+                        b,
+                        value: g,
+                    });
+                    g
+                }
+                Kind::G { g } => {
+                    st.cond.push(Slot {
+                        k: k32,
+                        a,
+                        b,
+                        value: g,
+                    });
+                    g
+                }
+                Kind::Current { i } => {
+                    st.current.push(Slot {
+                        k: k32,
+                        a,
+                        b,
+                        value: i,
+                    });
+                    0.0
+                }
             };
-            add(a, a, ge);
-            if let Some(b) = b {
+            add(e.a, e.a, ge);
+            if let Some(b) = e.b {
                 add(b, b, ge);
-                add(a, b, -ge);
+                add(e.a, b, -ge);
             }
         }
         // The matrix is real, so its complex factors are too (imaginary parts exactly 0).
-        let factor = sym.factor(m)?.real_parts();
-        Ok(Stepper {
-            circuit,
-            dt,
-            sym,
-            factor,
-            slots,
-        })
+        st.factor = sym.factor(m)?.real_parts();
+        Ok(st)
     }
 
     /// Integrates from `state` at time `t0` (s since closing) with the sources on
     /// (`sources`: E·e^{jωτ}) or off, calling `observe(n, state)` after every step
     /// n = 1, 2, … (at τ = t0 + n·Δt) until it returns false; returns the last state.
+    /// `observe` sees every node voltage and the R-L and capacitor branches of the step;
+    /// the conductances' and current sources' branch values are those of the returned
+    /// state only.
     ///
     /// With `closing`, the first step, across the closing, is taken as two backward-Euler
     /// half steps: they need only the states (inductor currents, capacitor voltages), which
@@ -247,25 +299,39 @@ impl<'a> Stepper<'a> {
     ) -> State {
         let c = self.circuit;
         let mut hist = vec![Complex64::default(); c.elements.len()];
-        let mut rhs = vec![Complex64::default(); c.nodes];
+        // The node voltages and a spare slot for the reference, which stays 0.
+        let mut rhs = vec![Complex64::default(); c.nodes + 1];
         let mut work = Vec::with_capacity(c.nodes);
         let on = if sources { 1.0 } else { 0.0 };
         let mut n = 0usize;
+        let mut drive;
         loop {
             n += 1;
             if n == 1 && closing {
+                drive = Complex64::default();
                 for half in [0.5, 1.0] {
-                    let drive = Complex64::from_polar(on, c.w * (t0 + self.dt * half));
+                    drive = Complex64::from_polar(on, c.w * (t0 + self.dt * half));
                     self.step(&mut state, drive, true, &mut hist, &mut rhs, &mut work);
                 }
             } else {
-                let drive = Complex64::from_polar(on, c.w * (t0 + self.dt * n as f64));
+                drive = Complex64::from_polar(on, c.w * (t0 + self.dt * n as f64));
                 self.step(&mut state, drive, false, &mut hist, &mut rhs, &mut work);
             }
             if !observe(n, &state) {
-                return state;
+                break;
             }
         }
+        let spare = c.nodes;
+        for s in &self.cond {
+            let vab = rhs[at(s.a, spare)] - rhs[at(s.b, spare)];
+            state.u[s.k as usize] = vab;
+            state.i[s.k as usize] = s.value * vab;
+        }
+        for s in &self.current {
+            state.u[s.k as usize] = rhs[at(s.a, spare)] - rhs[at(s.b, spare)];
+            state.i[s.k as usize] = s.value * drive;
+        }
+        state
     }
 
     /// One step: trapezoidal over Δt, or (`euler`) backward Euler over Δt/2, with the
@@ -280,61 +346,68 @@ impl<'a> Stepper<'a> {
         work: &mut Vec<Complex64>,
     ) {
         let zero = Complex64::default();
+        let spare = self.circuit.nodes;
         rhs.iter_mut().for_each(|x| *x = zero);
-        for (k, &(a, b, slot)) in self.slots.iter().enumerate() {
-            let inject = match slot {
-                Slot::Rl {
-                    g,
-                    trap,
-                    euler: ge,
-                    emf,
-                    ..
-                } => {
-                    // Backward Euler over h = Δt/2: i_n·(R + L/h) = u_n + (L/h)·i_{n−1}.
-                    let h = if euler {
-                        ge * state.i[k]
-                    } else {
-                        g * (state.u[k] + trap * state.i[k])
-                    };
-                    hist[k] = h;
-                    emf * drive - h
-                }
-                Slot::C { g } => {
-                    // Backward Euler: i_n = (C/h)·(u_n − u_{n−1}).
-                    let h = if euler {
-                        -g * state.u[k]
-                    } else {
-                        -g * state.u[k] - state.i[k]
-                    };
-                    hist[k] = h;
-                    -h
-                }
-                Slot::G { .. } => continue,
-                Slot::Current { i } => -i * drive,
-            };
-            rhs[a] += inject;
-            if let Some(b) = b {
-                rhs[b] -= inject;
+        // Backward Euler over h = Δt/2: i_n·(R + L/h) = u_n + (L/h)·i_{n−1}.
+        let rl_hist = |s: &RlSlot, state: &State| {
+            let k = s.k as usize;
+            if euler {
+                s.euler * state.i[k]
+            } else {
+                s.g * (state.u[k] + s.trap * state.i[k])
             }
+        };
+        for s in &self.rl {
+            let h = rl_hist(s, state);
+            hist[s.k as usize] = h;
+            rhs[at(s.a, spare)] -= h;
+            rhs[at(s.b, spare)] += h;
         }
-        self.sym.solve_real_in_place(&self.factor, rhs, work);
-        for (k, &(a, b, slot)) in self.slots.iter().enumerate() {
-            let vab = match b {
-                Some(b) => rhs[a] - rhs[b],
-                None => rhs[a],
+        for (s, ge, _) in &self.rl_emf {
+            let h = rl_hist(s, state);
+            hist[s.k as usize] = h;
+            let inject = ge * drive - h;
+            rhs[at(s.a, spare)] += inject;
+            rhs[at(s.b, spare)] -= inject;
+        }
+        for s in &self.cap {
+            // Backward Euler: i_n = (C/h)·(u_n − u_{n−1}).
+            let k = s.k as usize;
+            let h = if euler {
+                -s.value * state.u[k]
+            } else {
+                -s.value * state.u[k] - state.i[k]
             };
-            let (u, i) = match slot {
-                Slot::Rl { g, e, .. } => {
-                    let u = vab - e * drive;
-                    (u, g * u + hist[k])
-                }
-                Slot::C { g } => (vab, g * vab + hist[k]),
-                Slot::G { g } => (vab, g * vab),
-                Slot::Current { i } => (vab, i * drive),
-            };
+            hist[k] = h;
+            rhs[at(s.a, spare)] -= h;
+            rhs[at(s.b, spare)] += h;
+        }
+        for s in &self.current {
+            let inject = -s.value * drive;
+            rhs[at(s.a, spare)] += inject;
+            rhs[at(s.b, spare)] -= inject;
+        }
+        rhs[spare] = zero;
+        self.sym
+            .solve_real_in_place(&self.factor, &mut rhs[..spare], work);
+        for s in &self.rl {
+            let k = s.k as usize;
+            let u = rhs[at(s.a, spare)] - rhs[at(s.b, spare)];
             state.u[k] = u;
-            state.i[k] = i;
+            state.i[k] = s.g * u + hist[k];
         }
-        state.v.copy_from_slice(rhs);
+        for (s, _, e) in &self.rl_emf {
+            let k = s.k as usize;
+            let u = rhs[at(s.a, spare)] - rhs[at(s.b, spare)] - e * drive;
+            state.u[k] = u;
+            state.i[k] = s.g * u + hist[k];
+        }
+        for s in &self.cap {
+            let k = s.k as usize;
+            let vab = rhs[at(s.a, spare)] - rhs[at(s.b, spare)];
+            state.u[k] = vab;
+            state.i[k] = s.value * vab + hist[k];
+        }
+        state.v.copy_from_slice(&rhs[..spare]);
     }
 }

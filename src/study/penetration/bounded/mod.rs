@@ -90,7 +90,11 @@ struct OrderState {
 fn solve_small(a: &mut [Complex64], b: &mut [Complex64], m: usize, l: usize) -> bool {
     for col in 0..m {
         let piv = (col..m)
-            .max_by(|&x, &y| a[x * m + col].norm().total_cmp(&a[y * m + col].norm()))
+            .max_by(|&x, &y| {
+                a[x * m + col]
+                    .norm_sqr()
+                    .total_cmp(&a[y * m + col].norm_sqr())
+            })
             .unwrap_or(col);
         let pv = a[piv * m + col];
         if pv.norm().partial_cmp(&1e-300) != Some(std::cmp::Ordering::Greater)
