@@ -343,6 +343,30 @@ impl HarmonicPoint {
         }
     }
 
+    /// V₀ = Z₀·I at every bus (per unit) for the currents `inj` injected at the injection
+    /// buses (per unit, by column): one solve with the kept factorization on a lean point
+    /// (Y₀·V₀ = I), the kept n×l block otherwise. `work` is scratch.
+    pub fn z0_times(&self, inj: &[Complex64], out: &mut Vec<Complex64>, work: &mut Vec<Complex64>) {
+        let (n, l) = (self.state.n, self.state.l);
+        out.clear();
+        match &self.lean {
+            Some(lean) => {
+                out.resize(n, Complex64::default());
+                for (&bus, &i) in lean.inject.iter().zip(inj) {
+                    out[bus] += i;
+                }
+                lean.sym.solve_in_place(&lean.factor, out, work);
+            }
+            None => out.extend((0..n).map(|r| {
+                self.state.zrj[r * l..(r + 1) * l]
+                    .iter()
+                    .zip(inj)
+                    .map(|(z, i)| z * i)
+                    .sum::<Complex64>()
+            })),
+        }
+    }
+
     /// True for a point built by [`Engine::harmonic_point_lean`].
     pub fn is_lean(&self) -> bool {
         self.lean.is_some()

@@ -16,6 +16,8 @@ use num_complex::Complex64;
 use rayon::prelude::*;
 
 mod bounded;
+mod dense;
+mod linear;
 use serde::Serialize;
 
 use super::Configuration;
@@ -68,7 +70,7 @@ pub struct Distortion {
     /// A bus other than the PCC above its THD limit or an individual limit.
     pub in_plant_above: bool,
     /// Which buses' `thd_percent` and `worst` were evaluated (`None`: every bus). The
-    /// bounded evaluation ([`Evaluation::Bounded`]) evaluates the PCC, the bank and source
+    /// bounded evaluation ([`Evaluation::Fast`] under magnitude summation) evaluates the PCC, the bank and source
     /// buses and every bus that its bounds could not rule out as the worst; the others hold
     /// NaN and `None`.
     pub evaluated: Option<Vec<bool>>,
@@ -95,20 +97,23 @@ impl Distortion {
     }
 }
 
-/// How the per-configuration sums are evaluated.
+/// How the per-configuration sums are evaluated. Every figure reported is the same either
+/// way (to rounding); the fast evaluations only skip work.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Evaluation {
-    /// Bounded where the plant is large (see [`BOUNDED_ABOVE`]), direct otherwise.
+    /// Fast where the plant is large (see [`BOUNDED_ABOVE`]), direct otherwise.
     #[default]
     Auto,
-    /// Every bus of every configuration by the full transfer matrix.
+    /// Every bus of every configuration by the full transfer matrix (the reference).
     Direct,
-    /// Under magnitude summation: exact at the PCC, the bank and source buses and the worst
-    /// buses, the rest ruled out by proven bounds (`bounded.rs`); `phasor` is always direct.
-    Bounded,
+    /// Under magnitude summation the bounded evaluation (`bounded/`): exact at the PCC, the
+    /// bank and source buses and the worst buses, the rest ruled out by proven bounds.
+    /// Under `phasor` summation the linear one (`linear.rs`): superposition, every bus
+    /// exact.
+    Fast,
 }
 
-/// Results × buses above which [`Evaluation::Auto`] bounds (the JSON's per-bus tables stop
+/// Results × buses above which [`Evaluation::Auto`] is fast (the JSON's per-bus tables stop
 /// at the same size, `io::json::MAX_BUS_ENTRIES`).
 pub const BOUNDED_ABOVE: usize = 200_000;
 
@@ -231,14 +236,16 @@ impl Penetration {
         let law = plant.study.summation;
         let ns = net.scenarios.len();
         let nc = configurations.len();
-        let bounded = law != Summation::Phasor
-            && match evaluation {
-                Evaluation::Direct => false,
-                Evaluation::Bounded => true,
-                Evaluation::Auto => ns * nc * net.buses.len() > BOUNDED_ABOVE,
-            };
-        // Bounded: lean points keep Z₀ to the injection buses only at the PCC, bank and
-        // source buses (the rows always summed) and solve other rows on demand.
+        let fast = match evaluation {
+            Evaluation::Direct => false,
+            Evaluation::Fast => true,
+            Evaluation::Auto => ns * nc * net.buses.len() > BOUNDED_ABOVE,
+        };
+        let bounded = fast && law != Summation::Phasor;
+        let linear = fast && law == Summation::Phasor;
+        // Fast: lean points keep Z₀ to the injection buses only at the PCC, bank and source
+        // buses (the rows always summed) and solve other rows on demand; the linear
+        // evaluation solves with their factors.
         let keep = bounded::always_summed(net, pcc);
         let syms = [
             std::sync::Arc::new(engines.positive.symbolic().clone()),
@@ -252,7 +259,7 @@ impl Penetration {
                     .zip(&injections.sequences)
                     .map(|(&h, &q)| {
                         let engine = engines.for_order(q);
-                        if bounded {
+                        if fast {
                             let sym = &syms[usize::from(q == Sequence::Zero)];
                             engine.harmonic_point_lean(h, s, &injections.buses, &keep, sym)
                         } else {
@@ -299,8 +306,8 @@ impl Penetration {
         } else {
             None
         };
-        let tasks: Vec<(usize, &[usize])> = if bounded {
-            // Bounded blocks hold no transfer matrices: smaller blocks, more parallelism.
+        let tasks: Vec<(usize, &[usize])> = if fast {
+            // Fast blocks hold no transfer matrices: smaller blocks, more parallelism.
             (0..ns)
                 .flat_map(|s| order.chunks(8).map(move |c| (s, c)))
                 .collect()
@@ -311,6 +318,7 @@ impl Penetration {
             .par_iter()
             .map(|&(s, chunk)| match &prepared {
                 Some(p) => p.block(&ctx, s, chunk),
+                None if linear => ctx.linear_block(s, chunk),
                 None => ctx.block(s, chunk),
             })
             .collect::<Result<Vec<Vec<Distortion>>, _>>()?
@@ -604,12 +612,6 @@ impl Ctx<'_> {
             .collect();
         let mut z = vec![Complex64::default(); chunk.len() * n * l];
         let mut scratch = TransferScratch::default();
-        let pcc_amps = amps_per_pu(net.buses[self.pcc].kv);
-        let bank_amps: Vec<f64> = net
-            .banks
-            .iter()
-            .map(|b| amps_per_pu(net.buses[b.bus].kv))
-            .collect();
         let mut inj = Vec::new();
         let mut inj_bg = Vec::new();
         let mut v = vec![Complex64::default(); n];
@@ -680,36 +682,64 @@ impl Ctx<'_> {
                         }
                     }
                 }
-                d.pcc_current_a[o] = supply * pcc_amps;
-                for (r, &vm) in v_mag.iter().enumerate() {
-                    let v_pct = vm * 100.0;
-                    d.thd_percent[r] += v_pct * v_pct;
-                    update_worst(
-                        &mut d.worst[r],
-                        Individual {
-                            order: h,
-                            v_percent: v_pct,
-                            limit_percent: self.limits[r][o],
-                        },
-                    );
-                }
-                for (b, bank) in net.banks.iter().enumerate() {
-                    let vb = v_mag[bank.bus];
-                    d.bank_voltage_percent[b][o] = vb * 100.0;
-                    d.bank_current_a[b][o] = vb * y_bank(b) * bank_amps[b];
-                    let a = bank_bg[b] * bank_amps[b];
-                    d.bank_background_rms_a[b] += a * a;
-                }
+                let y_abs: Vec<f64> = (0..nk).map(y_bank).collect();
+                self.record(d, o, h, &v_mag, supply, &bank_bg, &y_abs);
             }
         }
         for d in &mut out {
-            d.thd_percent.iter_mut().for_each(|t| *t = t.sqrt());
-            summarize(d, self.thd_limit, self.pcc);
-            d.bank_background_rms_a
-                .iter_mut()
-                .for_each(|t| *t = t.sqrt());
+            self.conclude(d);
         }
         Ok(out)
+    }
+
+    /// Records order `o` (`h`) of result `d` from the harmonic voltage magnitude at every
+    /// bus (per unit), the current drawn from the supply (per unit), each bank's current
+    /// from the background alone (per unit) and each bank's admittance magnitude (per
+    /// unit): THD sums, worst individual harmonics, the PCC current (A) and the banks'
+    /// voltages (%) and currents (A).
+    #[allow(clippy::too_many_arguments)]
+    fn record(
+        &self,
+        d: &mut Distortion,
+        o: usize,
+        h: f64,
+        v_mag: &[f64],
+        supply: f64,
+        bank_bg: &[f64],
+        y_abs: &[f64],
+    ) {
+        let net = self.net;
+        d.pcc_current_a[o] = supply * amps_per_pu(net.buses[self.pcc].kv);
+        for (r, &vm) in v_mag.iter().enumerate() {
+            let v_pct = vm * 100.0;
+            d.thd_percent[r] += v_pct * v_pct;
+            update_worst(
+                &mut d.worst[r],
+                Individual {
+                    order: h,
+                    v_percent: v_pct,
+                    limit_percent: self.limits[r][o],
+                },
+            );
+        }
+        for (b, bank) in net.banks.iter().enumerate() {
+            let amps = amps_per_pu(net.buses[bank.bus].kv);
+            let vb = v_mag[bank.bus];
+            d.bank_voltage_percent[b][o] = vb * 100.0;
+            d.bank_current_a[b][o] = vb * y_abs[b] * amps;
+            let a = bank_bg[b] * amps;
+            d.bank_background_rms_a[b] += a * a;
+        }
+    }
+
+    /// Finishes a result whose every order is recorded: the rss of the THD sums and the
+    /// background currents, the worst buses.
+    fn conclude(&self, d: &mut Distortion) {
+        d.thd_percent.iter_mut().for_each(|t| *t = t.sqrt());
+        summarize(d, self.thd_limit, self.pcc);
+        d.bank_background_rms_a
+            .iter_mut()
+            .for_each(|t| *t = t.sqrt());
     }
 }
 

@@ -30,6 +30,7 @@ use std::sync::OnceLock;
 use num_complex::Complex64;
 use rayon::prelude::*;
 
+use super::dense::woodbury_solve;
 use super::{
     Ctx, Distortion, Individual, abs, amps_per_pu, bus_above, individual_key, magnitude_sum,
     update_worst,
@@ -83,60 +84,6 @@ struct OrderState {
     energized: Vec<usize>,
     /// |E|×G, row-major.
     q: Vec<Complex64>,
-}
-
-/// Solves A·X = B in place for a small dense complex A (m×m) and B (m×l), Gaussian
-/// elimination with partial pivoting. False when a pivot vanishes (a singular network).
-fn solve_small(a: &mut [Complex64], b: &mut [Complex64], m: usize, l: usize) -> bool {
-    for col in 0..m {
-        let piv = (col..m)
-            .max_by(|&x, &y| {
-                a[x * m + col]
-                    .norm_sqr()
-                    .total_cmp(&a[y * m + col].norm_sqr())
-            })
-            .unwrap_or(col);
-        let pv = a[piv * m + col];
-        if pv.norm().partial_cmp(&1e-300) != Some(std::cmp::Ordering::Greater)
-            || !pv.re.is_finite()
-            || !pv.im.is_finite()
-        {
-            return false;
-        }
-        if piv != col {
-            for c in 0..m {
-                a.swap(piv * m + c, col * m + c);
-            }
-            for c in 0..l {
-                b.swap(piv * l + c, col * l + c);
-            }
-        }
-        let inv = 1.0 / a[col * m + col];
-        for row in 0..m {
-            if row == col {
-                continue;
-            }
-            let f = a[row * m + col] * inv;
-            if f == Complex64::default() {
-                continue;
-            }
-            for c in col..m {
-                let t = a[col * m + c];
-                a[row * m + c] -= f * t;
-            }
-            for c in 0..l {
-                let t = b[col * l + c];
-                b[row * l + c] -= f * t;
-            }
-        }
-    }
-    for row in 0..m {
-        let inv = 1.0 / a[row * m + row];
-        for c in 0..l {
-            b[row * l + c] *= inv;
-        }
-    }
-    true
 }
 
 /// t_g = Z₀[r,E]·Q_g for every group: what the energized banks take from bus `r`'s
@@ -399,24 +346,16 @@ impl Prepared {
                 .map(|b| p.y_step(b) * f64::from(steps.get(b).copied().unwrap_or(0)))
                 .collect();
             let energized: Vec<usize> = (0..k).filter(|&b| y[b] != Complex64::default()).collect();
-            let m = energized.len();
-            let mut q = Vec::with_capacity(m * ng);
-            if m > 0 {
-                let mut a = vec![Complex64::default(); m * m];
-                for (i, &bi) in energized.iter().enumerate() {
-                    for (j, &bj) in energized.iter().enumerate() {
-                        a[i * m + j] = z0.bank_bank[bi * k + bj];
-                    }
-                    a[i * m + i] += 1.0 / y[bi];
-                    q.extend_from_slice(&gr.z_bank[bi * ng..(bi + 1) * ng]);
-                }
-                if !solve_small(&mut a, &mut q, m, ng) {
-                    return Err(SolveError::Singular {
-                        scenario: net.scenarios[s].name.clone(),
-                        order: h,
-                        bus: String::new(),
-                    });
-                }
+            let mut q = Vec::with_capacity(energized.len() * ng);
+            for &b in &energized {
+                q.extend_from_slice(&gr.z_bank[b * ng..(b + 1) * ng]);
+            }
+            if !woodbury_solve(z0.bank_bank, k, &y, &energized, &mut q, ng) {
+                return Err(SolveError::Singular {
+                    scenario: net.scenarios[s].name.clone(),
+                    order: h,
+                    bus: String::new(),
+                });
             }
             let st = OrderState { energized, q };
             // The always-exact buses' rows by group. At an energized bank's bus the row is

@@ -1,0 +1,112 @@
+//! The linear evaluation of harmonic penetration under `phasor` summation: superposition
+//! holds, so no transfer matrix is formed. Per scenario, order and configuration:
+//!
+//!   V₀ = Z₀·I                       (one sparse solve Y₀·V₀ = I with the kept factors)
+//!   V  = V₀ − Z₀[:,E]·X,  (D⁻¹ + Z₀[E,E])·X = V₀[E]
+//!
+//! (the Woodbury identity for the energized banks E with admittances D, the same matrix the
+//! direct path's rank-1 updates form: Z·I = Z₀·I − Z₀[:,E]·(D⁻¹ + Z₀[E,E])⁻¹·Z₀[E,:]·I and
+//! Z₀[E,:]·I = V₀[E]). The cost is one solve and O(buses × banks) per order instead of
+//! O(buses × injection buses), every bus exact. The currents I carry each configuration's
+//! operating angles, so V₀ is solved per configuration.
+
+use num_complex::Complex64;
+
+use super::dense::woodbury_solve;
+use super::{Ctx, Distortion, OrderInputs, abs, phasor_currents};
+use crate::solve::SolveError;
+
+impl Ctx<'_> {
+    /// The results of `chunk`'s configurations in scenario `s`, every bus evaluated.
+    pub(super) fn linear_block(
+        &self,
+        s: usize,
+        chunk: &[usize],
+    ) -> Result<Vec<Distortion>, SolveError> {
+        let net = self.net;
+        let (n, nk) = (net.buses.len(), net.banks.len());
+        let no = self.injections.orders.len();
+        let l = self.injections.buses.len();
+        let nc = self.configurations.len();
+        let mut inj = Vec::new();
+        let mut v = Vec::new();
+        let mut work = Vec::new();
+        let mut v_mag = vec![0.0; n];
+        let mut bank_bg = vec![0.0; nk];
+        let mut out = Vec::with_capacity(chunk.len());
+        for &c in chunk {
+            let mut d = Distortion::zeroed(s, c, n, no, nk);
+            let steps = &self.configurations[c].steps;
+            let theta = &self.angles[s * nc + c];
+            for (o, p) in self.points[s].iter().enumerate() {
+                let h = p.order;
+                let z0 = p.z0_blocks();
+                let k = z0.k;
+                let inp = &self.inputs[s][o];
+                let y: Vec<Complex64> = (0..k)
+                    .map(|b| p.y_step(b) * f64::from(steps.get(b).copied().unwrap_or(0)))
+                    .collect();
+                let energized: Vec<usize> =
+                    (0..k).filter(|&b| y[b] != Complex64::default()).collect();
+                let singular = || SolveError::Singular {
+                    scenario: net.scenarios[s].name.clone(),
+                    order: h,
+                    bus: String::new(),
+                };
+                // V = V₀ − Z₀[:,E]·X at every bus.
+                phasor_currents(inp, h, theta, l, &mut inj);
+                p.z0_times(&inj, &mut v, &mut work);
+                let mut x: Vec<Complex64> =
+                    energized.iter().map(|&b| v[net.banks[b].bus]).collect();
+                if !woodbury_solve(z0.bank_bank, k, &y, &energized, &mut x, 1) {
+                    return Err(singular());
+                }
+                for (r, vr) in v.iter_mut().enumerate() {
+                    for (&b, xj) in energized.iter().zip(&x) {
+                        *vr -= z0.bus_bank[r * k + b] * xj;
+                    }
+                    v_mag[r] = abs(*vr);
+                }
+                let drawn: Complex64 = inp.sources.iter().map(|&(b, ys)| ys * v[b]).sum();
+                let own: Complex64 = inp.background.iter().map(|&(_, i)| i).sum();
+                let supply = abs(drawn - own);
+                // The background alone at the bank buses: Z₀[bank, c]·I_N summed, then the
+                // same correction.
+                bank_bg.iter_mut().for_each(|x| *x = 0.0);
+                if !inp.background.is_empty() {
+                    let bg_only = OrderInputs {
+                        loads: Vec::new(),
+                        background: inp.background.clone(),
+                        ..OrderInputs::default()
+                    };
+                    phasor_currents(&bg_only, h, &[], l, &mut inj);
+                    let v0_bank: Vec<Complex64> = (0..k)
+                        .map(|b| {
+                            z0.bank_inj[b * l..(b + 1) * l]
+                                .iter()
+                                .zip(&inj)
+                                .map(|(z, i)| z * i)
+                                .sum()
+                        })
+                        .collect();
+                    let mut xb: Vec<Complex64> = energized.iter().map(|&b| v0_bank[b]).collect();
+                    if !woodbury_solve(z0.bank_bank, k, &y, &energized, &mut xb, 1) {
+                        return Err(singular());
+                    }
+                    for (b, slot) in bank_bg.iter_mut().enumerate() {
+                        let mut vb = v0_bank[b];
+                        for (&e, xj) in energized.iter().zip(&xb) {
+                            vb -= z0.bank_bank[b * k + e] * xj;
+                        }
+                        *slot = abs(vb) * abs(y[b]);
+                    }
+                }
+                let y_abs: Vec<f64> = y.iter().map(|&z| abs(z)).collect();
+                self.record(&mut d, o, h, &v_mag, supply, &bank_bg, &y_abs);
+            }
+            self.conclude(&mut d);
+            out.push(d);
+        }
+        Ok(out)
+    }
+}
