@@ -45,10 +45,15 @@ pub struct Factor {
 }
 
 impl Factor {
-    /// The real parts of D and L, for a real matrix factored as complex (its factors'
-    /// imaginary parts are then exactly zero), laid out as `values`.
-    pub fn real_parts(&self) -> Vec<f64> {
-        self.values.iter().map(|v| v.re).collect()
+    /// For a real matrix factored as complex (its factors' imaginary parts are then exactly
+    /// zero): 1/D and the real parts of L, laid out as `values`, for
+    /// [`Symbolic::solve_real_in_place`].
+    pub fn real_parts(&self, n: usize) -> Vec<f64> {
+        self.values
+            .iter()
+            .enumerate()
+            .map(|(k, v)| if k < n { 1.0 / v.re } else { v.re })
+            .collect()
     }
 }
 
@@ -241,8 +246,9 @@ impl Symbolic {
     }
 
     /// Solves A·x = b in place, like [`Symbolic::solve_in_place`], for a real matrix A
-    /// whose factors are `values` ([`Factor::real_parts`]) and a complex b: each complex
-    /// product of the complex solve becomes two real ones.
+    /// whose factors are `values` ([`Factor::real_parts`]: 1/D, then L) and a complex b:
+    /// each complex product of the complex solve becomes two real ones, each division by a
+    /// pivot a product.
     pub fn solve_real_in_place(
         &self,
         values: &[f64],
@@ -261,8 +267,8 @@ impl Symbolic {
                 }
             }
         }
-        for (w, &dk) in work.iter_mut().zip(d) {
-            *w /= dk;
+        for (w, &inv) in work.iter_mut().zip(d) {
+            *w *= inv;
         }
         for k in (0..n).rev() {
             let mut acc = work[k];

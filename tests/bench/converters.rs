@@ -5,11 +5,12 @@
 //! The whole check as the binary runs it without remedies (switching simulation included),
 //! the same without the switching simulation, and penetration evaluated directly (every
 //! bus of every configuration, the reference the bounded evaluation is tested against) for
-//! the ratio. Prints the peak resident memory afterwards. Run: `cargo bench --bench
-//! converters`.
+//! the ratio; the 300-bus plant with the converters on fewer buses (scaling with injection
+//! buses); and the whole check under `phasor` summation (linear superposition). Prints the
+//! peak resident memory afterwards. Run: `cargo bench --bench converters`.
 
 use overtone::check::{CheckOptions, run_check};
-use overtone::model::Reactor;
+use overtone::model::{LoadType, Reactor, Summation};
 use overtone::study::penetration::Evaluation;
 use overtone::synthetic::{generated_plant, with_converters, with_two_scenarios};
 
@@ -64,6 +65,39 @@ fn check_without_switching_direct(bencher: divan::Bencher, n: usize) {
     let p = plant(n);
     bencher.bench_local(|| {
         run_check(&p, &options(false, Evaluation::Direct))
+            .expect("runs")
+            .limit_rows
+            .len()
+    });
+}
+
+/// The 300-bus plant with its converter loads on the first `buses` converter buses only
+/// (0 = none, 200 = all): how the check scales with injection buses.
+#[divan::bench(sample_count = 3, sample_size = 1, args = [0, 10, 50, 100, 200])]
+fn by_injection_buses(bencher: divan::Bencher, buses: usize) {
+    let mut p = plant(300);
+    let mut kept = 0;
+    p.loads.retain(|l| {
+        if l.kind != LoadType::Custom {
+            return true;
+        }
+        kept += 1;
+        kept <= buses
+    });
+    bencher.bench_local(|| {
+        let res = run_check(&p, &options(false, Evaluation::Auto)).expect("runs");
+        assert_eq!(res.penetration.injections.buses.len(), buses);
+        res.limit_rows.len()
+    });
+}
+
+/// The whole check under `phasor` summation (every bus exact by superposition).
+#[divan::bench(sample_count = 3, sample_size = 1, args = [300])]
+fn whole_check_phasor(bencher: divan::Bencher, n: usize) {
+    let mut p = plant(n);
+    p.study.summation = Summation::Phasor;
+    bencher.bench_local(|| {
+        run_check(&p, &options(true, Evaluation::Auto))
             .expect("runs")
             .limit_rows
             .len()

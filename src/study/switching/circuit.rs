@@ -141,9 +141,6 @@ impl Circuit {
     }
 }
 
-/// No node: the reference (ground). Branches to it write to a spare slot past the nodes.
-const GROUND: u32 = u32::MAX;
-
 /// An R-L branch's step coefficients: G = 1/(R + 2L/Δt), `trap` = 2L/Δt − R,
 /// `euler` = G·2L/Δt.
 #[derive(Debug, Clone, Copy)]
@@ -165,6 +162,11 @@ struct Slot<T> {
     value: T,
 }
 
+/// Branches of one kind: `[to the reference, between two nodes]`. Kept apart so that the
+/// many shunt branches add into one node only (a spare slot for the reference would chain
+/// every one of them through the same memory cell).
+type ByEnd<T> = [Vec<T>; 2];
+
 /// The post-closing circuit factored for one time step Δt.
 ///
 /// The elements are kept by kind, each with its coefficients for Δt worked out once:
@@ -176,21 +178,37 @@ pub struct Stepper<'a> {
     circuit: &'a Circuit,
     pub dt: f64,
     sym: Symbolic,
-    /// D and L of the companion conductance matrix, which is real (see
+    /// 1/D and L of the companion conductance matrix, which is real (see
     /// [`Symbolic::solve_real_in_place`]).
     factor: Vec<f64>,
-    rl: Vec<RlSlot>,
+    rl: ByEnd<RlSlot>,
     /// R-L branches with an EMF: (coefficients, G·E, E).
     rl_emf: Vec<(RlSlot, Complex64, Complex64)>,
-    cap: Vec<Slot<f64>>,
+    cap: ByEnd<Slot<f64>>,
     cond: Vec<Slot<f64>>,
     current: Vec<Slot<Complex64>>,
 }
 
-/// The node index of a branch end for the step arrays (`GROUND` → the spare slot).
+/// No node: the reference.
+const GROUND: u32 = u32::MAX;
+
+/// v_a − v_b of a branch (v = 0 at the reference).
 #[inline]
-fn at(node: u32, spare: usize) -> usize {
-    if node == GROUND { spare } else { node as usize }
+fn across(v: &[Complex64], a: u32, b: u32) -> Complex64 {
+    if b == GROUND {
+        v[a as usize]
+    } else {
+        v[a as usize] - v[b as usize]
+    }
+}
+
+/// Adds `x` into node a and takes it from node b (nothing at the reference).
+#[inline]
+fn inject(rhs: &mut [Complex64], a: u32, b: u32, x: Complex64) {
+    rhs[a as usize] += x;
+    if b != GROUND {
+        rhs[b as usize] -= x;
+    }
 }
 
 impl<'a> Stepper<'a> {
@@ -209,15 +227,16 @@ impl<'a> Stepper<'a> {
             dt,
             sym: sym.clone(),
             factor: Vec::new(),
-            rl: Vec::new(),
+            rl: [Vec::new(), Vec::new()],
             rl_emf: Vec::new(),
-            cap: Vec::new(),
+            cap: [Vec::new(), Vec::new()],
             cond: Vec::new(),
             current: Vec::new(),
         };
         for (k, e) in circuit.elements.iter().enumerate() {
             let (k32, a) = (k as u32, e.a as u32);
             let b = e.b.map_or(GROUND, |b| b as u32);
+            let end = usize::from(e.b.is_some());
             let ge = match e.kind {
                 Kind::Rl { r, l, emf } => {
                     let g = 1.0 / (r + 2.0 * l / dt);
@@ -230,7 +249,7 @@ impl<'a> Stepper<'a> {
                         euler: g * (2.0 * l / dt),
                     };
                     if emf == Complex64::default() {
-                        st.rl.push(slot);
+                        st.rl[end].push(slot);
                     } else {
                         st.rl_emf.push((slot, g * emf, emf));
                     }
@@ -238,7 +257,7 @@ impl<'a> Stepper<'a> {
                 }
                 Kind::C { c } => {
                     let g = 2.0 * c / dt;
-                    st.cap.push(Slot {
+                    st.cap[end].push(Slot {
                         k: k32,
                         a,
                         b,
@@ -272,7 +291,7 @@ impl<'a> Stepper<'a> {
             }
         }
         // The matrix is real, so its complex factors are too (imaginary parts exactly 0).
-        st.factor = sym.factor(m)?.real_parts();
+        st.factor = sym.factor(m)?.real_parts(circuit.nodes);
         Ok(st)
     }
 
@@ -299,8 +318,6 @@ impl<'a> Stepper<'a> {
     ) -> State {
         let c = self.circuit;
         let mut hist = vec![Complex64::default(); c.elements.len()];
-        // The node voltages and a spare slot for the reference, which stays 0.
-        let mut rhs = vec![Complex64::default(); c.nodes + 1];
         let mut work = Vec::with_capacity(c.nodes);
         let on = if sources { 1.0 } else { 0.0 };
         let mut n = 0usize;
@@ -311,103 +328,115 @@ impl<'a> Stepper<'a> {
                 drive = Complex64::default();
                 for half in [0.5, 1.0] {
                     drive = Complex64::from_polar(on, c.w * (t0 + self.dt * half));
-                    self.step(&mut state, drive, true, &mut hist, &mut rhs, &mut work);
+                    self.step(&mut state, drive, true, &mut hist, &mut work);
                 }
             } else {
                 drive = Complex64::from_polar(on, c.w * (t0 + self.dt * n as f64));
-                self.step(&mut state, drive, false, &mut hist, &mut rhs, &mut work);
+                self.step(&mut state, drive, false, &mut hist, &mut work);
             }
             if !observe(n, &state) {
                 break;
             }
         }
-        let spare = c.nodes;
         for s in &self.cond {
-            let vab = rhs[at(s.a, spare)] - rhs[at(s.b, spare)];
+            let vab = across(&state.v, s.a, s.b);
             state.u[s.k as usize] = vab;
             state.i[s.k as usize] = s.value * vab;
         }
         for s in &self.current {
-            state.u[s.k as usize] = rhs[at(s.a, spare)] - rhs[at(s.b, spare)];
+            state.u[s.k as usize] = across(&state.v, s.a, s.b);
             state.i[s.k as usize] = s.value * drive;
         }
         state
     }
 
     /// One step: trapezoidal over Δt, or (`euler`) backward Euler over Δt/2, with the
-    /// sources at `drive` = e^{jωτ} of the step's end (0 when off).
+    /// sources at `drive` = e^{jωτ} of the step's end (0 when off). The node voltages are
+    /// solved in place of `state.v`.
     fn step(
         &self,
         state: &mut State,
         drive: Complex64,
         euler: bool,
         hist: &mut [Complex64],
-        rhs: &mut [Complex64],
         work: &mut Vec<Complex64>,
     ) {
         let zero = Complex64::default();
-        let spare = self.circuit.nodes;
+        let State { v: rhs, i, u } = state;
         rhs.iter_mut().for_each(|x| *x = zero);
         // Backward Euler over h = Δt/2: i_n·(R + L/h) = u_n + (L/h)·i_{n−1}.
-        let rl_hist = |s: &RlSlot, state: &State| {
+        let rl_hist = |s: &RlSlot, i: &[Complex64], u: &[Complex64]| {
             let k = s.k as usize;
             if euler {
-                s.euler * state.i[k]
+                s.euler * i[k]
             } else {
-                s.g * (state.u[k] + s.trap * state.i[k])
+                s.g * (u[k] + s.trap * i[k])
             }
         };
-        for s in &self.rl {
-            let h = rl_hist(s, state);
+        for s in &self.rl[0] {
+            let h = rl_hist(s, i, u);
             hist[s.k as usize] = h;
-            rhs[at(s.a, spare)] -= h;
-            rhs[at(s.b, spare)] += h;
+            rhs[s.a as usize] -= h;
+        }
+        for s in &self.rl[1] {
+            let h = rl_hist(s, i, u);
+            hist[s.k as usize] = h;
+            rhs[s.a as usize] -= h;
+            rhs[s.b as usize] += h;
         }
         for (s, ge, _) in &self.rl_emf {
-            let h = rl_hist(s, state);
+            let h = rl_hist(s, i, u);
             hist[s.k as usize] = h;
-            let inject = ge * drive - h;
-            rhs[at(s.a, spare)] += inject;
-            rhs[at(s.b, spare)] -= inject;
+            inject(rhs, s.a, s.b, ge * drive - h);
         }
-        for s in &self.cap {
-            // Backward Euler: i_n = (C/h)·(u_n − u_{n−1}).
+        // Backward Euler: i_n = (C/h)·(u_n − u_{n−1}).
+        let c_hist = |s: &Slot<f64>, i: &[Complex64], u: &[Complex64]| {
             let k = s.k as usize;
-            let h = if euler {
-                -s.value * state.u[k]
+            if euler {
+                -s.value * u[k]
             } else {
-                -s.value * state.u[k] - state.i[k]
-            };
-            hist[k] = h;
-            rhs[at(s.a, spare)] -= h;
-            rhs[at(s.b, spare)] += h;
+                -s.value * u[k] - i[k]
+            }
+        };
+        for s in &self.cap[0] {
+            let h = c_hist(s, i, u);
+            hist[s.k as usize] = h;
+            rhs[s.a as usize] -= h;
+        }
+        for s in &self.cap[1] {
+            let h = c_hist(s, i, u);
+            hist[s.k as usize] = h;
+            rhs[s.a as usize] -= h;
+            rhs[s.b as usize] += h;
         }
         for s in &self.current {
-            let inject = -s.value * drive;
-            rhs[at(s.a, spare)] += inject;
-            rhs[at(s.b, spare)] -= inject;
+            inject(rhs, s.a, s.b, -s.value * drive);
         }
-        rhs[spare] = zero;
-        self.sym
-            .solve_real_in_place(&self.factor, &mut rhs[..spare], work);
-        for s in &self.rl {
+        self.sym.solve_real_in_place(&self.factor, rhs, work);
+        for s in &self.rl[0] {
             let k = s.k as usize;
-            let u = rhs[at(s.a, spare)] - rhs[at(s.b, spare)];
-            state.u[k] = u;
-            state.i[k] = s.g * u + hist[k];
+            u[k] = rhs[s.a as usize];
+            i[k] = s.g * u[k] + hist[k];
+        }
+        for s in &self.rl[1] {
+            let k = s.k as usize;
+            u[k] = rhs[s.a as usize] - rhs[s.b as usize];
+            i[k] = s.g * u[k] + hist[k];
         }
         for (s, _, e) in &self.rl_emf {
             let k = s.k as usize;
-            let u = rhs[at(s.a, spare)] - rhs[at(s.b, spare)] - e * drive;
-            state.u[k] = u;
-            state.i[k] = s.g * u + hist[k];
+            u[k] = across(rhs, s.a, s.b) - e * drive;
+            i[k] = s.g * u[k] + hist[k];
         }
-        for s in &self.cap {
+        for s in &self.cap[0] {
             let k = s.k as usize;
-            let vab = rhs[at(s.a, spare)] - rhs[at(s.b, spare)];
-            state.u[k] = vab;
-            state.i[k] = s.value * vab + hist[k];
+            u[k] = rhs[s.a as usize];
+            i[k] = s.value * u[k] + hist[k];
         }
-        state.v.copy_from_slice(&rhs[..spare]);
+        for s in &self.cap[1] {
+            let k = s.k as usize;
+            u[k] = rhs[s.a as usize] - rhs[s.b as usize];
+            i[k] = s.value * u[k] + hist[k];
+        }
     }
 }
