@@ -61,10 +61,13 @@ pub(super) struct Prepared {
     /// Per scenario, order and bus: how a candidate bus sums the groups, made when first
     /// needed (the candidates of one configuration are mostly those of the next).
     splits: Vec<Vec<Vec<OnceLock<RowSplit>>>>,
-    /// Per scenario and order, n×k row-major: |Z₀_rj| and |Z₀_rj − Z₀_qj| (q the bus's
+    /// Per scenario and order, k×n bank-major: |Z₀_rj| and |Z₀_rj − Z₀_qj| (q the bus's
     /// reference), the bounds' coefficients, which no configuration changes.
     abs_bank: Vec<Vec<Vec<f64>>>,
     abs_near: Vec<Vec<Vec<f64>>>,
+    /// Per order and bus: 1/limit of the individual harmonic (0 without one) and the limit
+    /// (+∞ without one), for the bounds' running figures.
+    limit: Vec<Vec<(f64, f64)>>,
 }
 
 /// The buses always summed exactly: the PCC, the bank buses and the source buses (sorted).
@@ -84,6 +87,13 @@ struct OrderState {
     energized: Vec<usize>,
     /// |E|×G, row-major.
     q: Vec<Complex64>,
+}
+
+/// The exact sums of the candidate buses of one configuration, per unit, n×orders (NaN
+/// where not summed), and per bus whether any is.
+struct Known {
+    v: Vec<f64>,
+    touched: Vec<bool>,
 }
 
 /// t_g = Z₀[r,E]·Q_g for every group: what the energized banks take from bus `r`'s
@@ -239,11 +249,16 @@ impl Prepared {
                 let z0 = p.z0_blocks();
                 let k = z0.k;
                 let r_of: &Vec<(usize, f64)> = &refs[o];
-                ab.push(z0.bus_bank.iter().map(|&z| abs(z)).collect::<Vec<f64>>());
+                let n = z0.n;
+                ab.push(
+                    (0..k * n)
+                        .map(|i| abs(z0.bus_bank[(i % n) * k + i / n]))
+                        .collect::<Vec<f64>>(),
+                );
                 an.push(
-                    (0..z0.n * k)
+                    (0..k * n)
                         .map(|i| {
-                            let (r, j) = (i / k, i % k);
+                            let (j, r) = (i / n, i % n);
                             let q = always[r_of[r].0];
                             abs(z0.bus_bank[r * k + j] - z0.bus_bank[q * k + j])
                         })
@@ -260,7 +275,20 @@ impl Prepared {
                     .collect()
             })
             .collect();
+        let no = ctx.points.first().map_or(0, Vec::len);
+        let limit = (0..no)
+            .map(|o| {
+                (0..n)
+                    .map(|r| match ctx.limits[r][o] {
+                        Some(lp) if lp > 0.0 => (1.0 / lp, lp),
+                        Some(lp) => (0.0, lp),
+                        None => (0.0, f64::INFINITY),
+                    })
+                    .collect()
+            })
+            .collect();
         Prepared {
+            limit,
             v0,
             always,
             always_at,
@@ -321,9 +349,15 @@ impl Prepared {
             .map(|b| amps_per_pu(net.buses[b.bus].kv))
             .collect();
         let mut d = Distortion::zeroed(s, c, n, no, nk);
-        // Per bus and order: the upper bound of 100·V (with slack), row-major n×no; per bus
+        // Per order and bus: the upper bound of 100·V (with slack), order-major no×n; per bus
         // whether the bound is exact (no energized bank reaches it).
         let mut hi = vec![0.0f64; n * no];
+        // The same bounds accumulated per bus as the THD and individual-harmonic passes
+        // read them while nothing is summed at the bus yet: Σ hi², the largest
+        // individual key, any order above its limit.
+        let mut thd_acc = vec![0.0f64; n];
+        let mut key_acc = vec![0.0f64; n];
+        let mut over = vec![false; n];
         let mut exact = vec![true; n];
         let mut states: Vec<OrderState> = Vec::with_capacity(no);
         // Per always-summed bus (by position), per order: its exact V.
@@ -331,6 +365,7 @@ impl Prepared {
         let mut rows: Vec<Complex64> = Vec::new(); // na × G: the always rows by group
         let mut t = Vec::new();
         let mut w_full = vec![0.0f64; nk];
+        let (mut delta, mut near) = (vec![0.0f64; n], vec![0.0f64; n]);
         for (o, p) in points.iter().enumerate() {
             let h = p.order;
             let law = Law::new(ctx.law, h);
@@ -400,20 +435,37 @@ impl Prepared {
                     .sum();
                 w_full[b] = abs(y[b]) * l1;
             }
-            for r in 0..n {
-                let (ab, an) = (&abs_bank[r * k..(r + 1) * k], &abs_near[r * k..(r + 1) * k]);
-                let mut delta = 0.0;
-                let mut near = 0.0;
-                for b in 0..k {
-                    delta += ab[b] * w_full[b];
-                    near += an[b] * w_full[b];
+            // δ_r = Σ_j |Z₀_rj|·W_j and the same with |Z₀_rj − Z₀_qj|, bank by bank over
+            // every bus; then each bus's bound and its running figures.
+            delta.iter_mut().for_each(|x| *x = 0.0);
+            near.iter_mut().for_each(|x| *x = 0.0);
+            for &b in &st.energized {
+                let wb = w_full[b];
+                let (ab, an) = (&abs_bank[b * n..(b + 1) * n], &abs_near[b * n..(b + 1) * n]);
+                for r in 0..n {
+                    delta[r] += ab[r] * wb;
+                    near[r] += an[r] * wb;
                 }
-                if delta > 0.0 {
+            }
+            let now: Vec<f64> = exact_v
+                .iter()
+                .map(|v| v.last().copied().unwrap_or(f64::INFINITY))
+                .collect();
+            let refs = &self.reference[s][o];
+            let limit = &self.limit[o];
+            let hi_o = &mut hi[o * n..(o + 1) * n];
+            for r in 0..n {
+                if delta[r] > 0.0 {
                     exact[r] = false;
                 }
-                let (qi, s_rq) = self.reference[s][o][r];
-                let via_q = exact_v[qi].last().copied().unwrap_or(f64::INFINITY) + s_rq + near;
-                hi[r * no + o] = (v0[r] + delta).min(via_q) * (1.0 + SLACK) * 100.0;
+                let (qi, s_rq) = refs[r];
+                let via_q = now[qi] + s_rq + near[r];
+                let bound = (v0[r] + delta[r]).min(via_q) * (1.0 + SLACK) * 100.0;
+                hi_o[r] = bound;
+                thd_acc[r] += bound * bound;
+                let (inv, lp) = limit[r];
+                key_acc[r] = key_acc[r].max((bound * inv).max(bound * 1e-12));
+                over[r] |= bound > lp;
             }
             // The current drawn from the supply, by group: into(g) = Σ_src y_s·Z[src, p_g].
             let mut supply = 0.0;
@@ -473,31 +525,37 @@ impl Prepared {
         // and dropped as soon as their bound (exact where summed, bounded elsewhere) falls
         // below the best exact value: a bus is either summed at every order (exact) or
         // proven not to matter.
-        let mut known = vec![f64::NAN; n * no]; // V (pu) where summed
-        let sum_at = |r: usize, o: usize, known: &mut [f64]| -> f64 {
-            let i = r * no + o;
-            if known[i].is_nan() {
-                known[i] = self.sum_bus(ctx, s, o, r, &states[o]);
-            }
-            known[i]
+        let mut known = Known {
+            v: vec![f64::NAN; n * no],
+            touched: vec![false; n],
         };
-        let value = |r: usize, o: usize, known: &[f64]| {
-            let k = known[r * no + o];
-            if k.is_nan() {
-                hi[r * no + o]
-            } else {
-                k * 100.0
+        let sum_at = |r: usize, o: usize, known: &mut Known| -> f64 {
+            let i = r * no + o;
+            if known.v[i].is_nan() {
+                known.v[i] = self.sum_bus(ctx, s, o, r, &states[o]);
+                known.touched[r] = true;
             }
+            known.v[i]
+        };
+        let value = |r: usize, o: usize, known: &Known| {
+            let k = known.v[r * no + o];
+            if k.is_nan() { hi[o * n + r] } else { k * 100.0 }
         };
         let thd_limit = ctx.thd_limit;
-        let thd_bound = |r: usize, known: &[f64]| {
+        let thd_bound = |r: usize, known: &Known| {
+            if !known.touched[r] {
+                return thd_acc[r].sqrt() / thd_limit[r];
+            }
             (0..no)
                 .map(|o| value(r, o, known).powi(2))
                 .sum::<f64>()
                 .sqrt()
                 / thd_limit[r]
         };
-        let key_bound = |r: usize, known: &[f64]| {
+        let key_bound = |r: usize, known: &Known| {
+            if !known.touched[r] {
+                return key_acc[r];
+            }
             (0..no)
                 .map(|o| {
                     let v = value(r, o, known);
@@ -510,9 +568,9 @@ impl Prepared {
         };
         // Sums the orders of bus `r` (largest bound first) while `keep(bound)` holds; true
         // when every order was summed.
-        let pursue = |r: usize, known: &mut [f64], keep: &dyn Fn(usize, &[f64]) -> bool| -> bool {
+        let pursue = |r: usize, known: &mut Known, keep: &dyn Fn(usize, &Known) -> bool| -> bool {
             let mut by: Vec<usize> = (0..no).collect();
-            by.sort_by(|&a, &b| hi[r * no + b].total_cmp(&hi[r * no + a]));
+            by.sort_by(|&a, &b| hi[b * n + r].total_cmp(&hi[a * n + r]));
             for o in by {
                 if !keep(r, known) {
                     return false;
@@ -521,8 +579,8 @@ impl Prepared {
             }
             true
         };
-        let complete = |r: usize, known: &[f64], d: &mut Distortion, ev: &mut [bool]| {
-            let v: Vec<f64> = (0..no).map(|o| known[r * no + o]).collect();
+        let complete = |r: usize, known: &Known, d: &mut Distortion, ev: &mut [bool]| {
+            let v: Vec<f64> = (0..no).map(|o| known.v[r * no + o]).collect();
             finish_bus(&orders, &ctx.limits[r], r, &v, d);
             ev[r] = true;
         };
@@ -536,15 +594,19 @@ impl Prepared {
         };
         for (bound, f) in [
             (
-                &thd_bound as &dyn Fn(usize, &[f64]) -> f64,
+                &thd_bound as &dyn Fn(usize, &Known) -> f64,
                 &thd_ratio as &dyn Fn(&Distortion, usize) -> f64,
             ),
             (&key_bound, &key),
         ] {
-            let mut order: Vec<usize> = (0..n).filter(|&r| !evaluated[r]).collect();
-            let first: Vec<f64> = (0..n).map(|r| bound(r, &known)).collect();
-            order.sort_by(|&a, &b| first[b].total_cmp(&first[a]));
+            // Only the buses whose bound reaches the best exact value can be visited (the
+            // best only grows): sorted, largest bound first.
             let mut best = best_of(&d, &evaluated, f);
+            let first: Vec<f64> = (0..n).map(|r| bound(r, &known)).collect();
+            let mut order: Vec<usize> = (0..n)
+                .filter(|&r| !evaluated[r] && first[r] >= best)
+                .collect();
+            order.sort_by(|&a, &b| first[b].total_cmp(&first[a]));
             for r in order {
                 if first[r] < best {
                     break;
@@ -560,9 +622,13 @@ impl Prepared {
         }
         // Any in-plant bus above a limit: decided by the exact sums where a bound allows it.
         let above = |d: &Distortion, r: usize| bus_above(d, r, thd_limit[r]);
-        let may = |r: usize, k: &[f64]| {
+        let may = |r: usize, k: &Known| {
             thd_bound(r, k) > 1.0
-                || (0..no).any(|o| ctx.limits[r][o].is_some_and(|lp| value(r, o, k) > lp))
+                || if k.touched[r] {
+                    (0..no).any(|o| ctx.limits[r][o].is_some_and(|lp| value(r, o, k) > lp))
+                } else {
+                    over[r]
+                }
         };
         let mut in_plant = (0..n).any(|r| r != ctx.pcc && evaluated[r] && above(&d, r));
         if !in_plant {
