@@ -231,8 +231,11 @@ impl Ctx<'_, '_> {
             if !p.evaluate(&plan, &mut scratch, &mut out) {
                 return Err(self.singular(s, p.order));
             }
-            for (j, z) in out.iter().enumerate() {
-                mags[j * np + i] = (z.re * z.re + z.im * z.im).sqrt() * self.z_base[j % nb];
+            // out is slot-major, bus-minor.
+            for (j0, zs) in (0..).step_by(nb).zip(out.chunks_exact(nb)) {
+                for (b, (z, base)) in zs.iter().zip(self.z_base).enumerate() {
+                    mags[(j0 + b) * np + i] = (z.re * z.re + z.im * z.im).sqrt() * base;
+                }
             }
         }
         let mut series = Vec::with_capacity(chunk.len() * nb);
