@@ -13,9 +13,9 @@
 //! bus where its path joins the tree spanning S is such a column (a cut vertex p:
 //! Z₀_qc = Z₀_qp·Z₀_pc/Z₀_pp for q on the other side, Kirchhoff's laws), so a large site's
 //! hundreds of converter buses fall into as many groups as that tree has buses. Meshed
-//! plants merge fewer columns and stay exact. A bus outside S ([`RowSplit`]) keeps a group
-//! whole when its own row is proportional too and sums the members of the others one by
-//! one, each with the group's correction: Z[r,c] = Z₀[r,c] − ρ_c·(Z₀[r,E]·M·Z₀[E,p]).
+//! plants merge fewer columns and stay exact. A bus r outside S ([`RowSplit`]) sums each
+//! group's members by Z[r,c] = Z₀[r,c] − ρ_c·(Z₀[r,E]·M·Z₀[E,p]), merging again the members
+//! whose own Z₀[r,c]/ρ_c agree.
 //!
 //! Proportionality is tested to [`PROPORTIONAL`] relative: a tree's columns are
 //! proportional to rounding (1e-16), a meshed plant's are not at all.
@@ -208,54 +208,68 @@ impl Groups {
     }
 }
 
-/// How one bus outside S sums the groups: whole where its own row is proportional too,
-/// member by member elsewhere.
+/// How one bus r outside S sums the groups. A member c of group g with
+/// Z₀[r,c] = ρ_c·κ has Z[r,c] = ρ_c·(κ − t_g) in every configuration, so the members of g
+/// that share κ sum as one term |κ − t_g|·Σ|ρ_c|·w_c. A group whose own row is
+/// proportional at r (κ = Z₀[r,p_g] for all) is one term; otherwise its members split by
+/// where they join the path to r (on a radial plant a handful of terms, not one per
+/// member).
 #[derive(Debug, Clone)]
 pub(super) struct RowSplit {
-    /// Z₀ from the bus to each group's representative.
-    pub z_rep: Vec<Complex64>,
-    /// Per group: summed whole.
-    pub whole: Vec<bool>,
-    /// The members of the other groups: (group, ρ, Z₀ from the bus to the member, weight).
-    pub parts: Vec<(usize, Complex64, Complex64, f64)>,
+    /// (group, κ, Σ|ρ_c|·w_c, Σ(|ρ_c|·w_c)^α).
+    pub terms: Vec<(usize, Complex64, f64, f64)>,
 }
 
 impl RowSplit {
     /// The split of the bus whose row of Z₀ to every column is `row`.
-    pub(super) fn new(gr: &Groups, loads: &[(usize, f64)], row: &[Complex64]) -> RowSplit {
-        let z_rep: Vec<Complex64> = gr.groups.iter().map(|g| row[g.rep]).collect();
+    pub(super) fn new(
+        gr: &Groups,
+        law: Law,
+        loads: &[(usize, f64)],
+        row: &[Complex64],
+    ) -> RowSplit {
         let scale = row.iter().fold(0.0f64, |m, z| m.max(abs(*z)));
-        let mut whole = vec![true; gr.groups.len()];
-        for (&(c, _), &(g, rho, _)) in loads.iter().zip(&gr.members) {
-            let (a, b) = (row[c], rho * z_rep[g]);
-            if abs(a - b) > PROPORTIONAL * abs(a).max(abs(b)).max(1e-3 * scale) {
-                whole[g] = false;
+        let mut terms: Vec<(usize, Complex64, f64, f64)> = Vec::new();
+        let mut index: HashMap<(usize, i64, i64), usize> = HashMap::new();
+        let quantum = 2f64.powi(32) / scale.max(f64::MIN_POSITIVE);
+        for (&(c, _), &(g, rho, w)) in loads.iter().zip(&gr.members) {
+            let kappa = row[c] / rho;
+            let key = (
+                g,
+                (kappa.re * quantum).round() as i64,
+                (kappa.im * quantum).round() as i64,
+            );
+            let t = abs(rho) * w;
+            let same = index.get(&key).copied().filter(|&i| {
+                let (a, b) = (row[c], rho * terms[i].1);
+                abs(a - b) <= PROPORTIONAL * abs(a).max(abs(b)).max(1e-3 * scale)
+            });
+            match same {
+                Some(i) => {
+                    terms[i].2 += t;
+                    terms[i].3 += law.term(t);
+                }
+                None => {
+                    terms.push((g, kappa, t, law.term(t)));
+                    index.entry(key).or_insert(terms.len() - 1);
+                }
             }
         }
-        let parts = loads
-            .iter()
-            .zip(&gr.members)
-            .filter(|(_, m)| !whole[m.0])
-            .map(|(&(c, _), &(g, rho, w))| (g, rho, row[c], w))
-            .collect();
-        RowSplit {
-            z_rep,
-            whole,
-            parts,
+        for (g, grp) in gr.groups.iter().enumerate() {
+            if grp.background.is_some() {
+                terms.push((g, row[grp.rep], grp.w1, grp.wa));
+            }
         }
+        RowSplit { terms }
     }
 
     /// The bus's magnitude sum given t_g = Z₀[r,E]·M·Z₀[E,p_g] for every group.
-    pub(super) fn sum(&self, gr: &Groups, law: Law, t: &[Complex64]) -> f64 {
-        let mut total = 0.0;
-        for (g, grp) in gr.groups.iter().enumerate() {
-            if self.whole[g] {
-                total += law.group(abs(self.z_rep[g] - t[g]), grp.w1, grp.wa);
-            }
-        }
-        for &(g, rho, z, w) in &self.parts {
-            total += law.term(abs(z - rho * t[g]) * w);
-        }
+    pub(super) fn sum(&self, law: Law, t: &[Complex64]) -> f64 {
+        let total: f64 = self
+            .terms
+            .iter()
+            .map(|&(g, kappa, w1, wa)| law.group(abs(kappa - t[g]), w1, wa))
+            .sum();
         law.finish(total)
     }
 }

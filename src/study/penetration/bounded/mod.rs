@@ -150,7 +150,7 @@ impl Prepared {
         let split = self.splits[s][o][r].get_or_init(|| {
             let mut row = Vec::new();
             p.bus_inj_row(r, &mut row);
-            RowSplit::new(gr, &self.loads[s][o], &row)
+            RowSplit::new(gr, Law::new(ctx.law, p.order), &self.loads[s][o], &row)
         });
         let z0 = p.z0_blocks();
         let mut t = Vec::new();
@@ -160,7 +160,7 @@ impl Prepared {
             gr.groups.len(),
             &mut t,
         );
-        split.sum(gr, Law::new(ctx.law, p.order), &t)
+        split.sum(Law::new(ctx.law, p.order), &t)
     }
 
     fn configuration(&self, ctx: &Ctx<'_>, s: usize, c: usize) -> Result<Distortion, SolveError> {
