@@ -77,21 +77,24 @@ impl Prepared {
                     for r in 0..z0.n {
                         p.bus_inj_row_once(r, &mut row);
                         vs.push(magnitude_sum(ctx.law, p.order, inp, |c| abs(row[c])));
-                        let mut near: Vec<(f64, usize)> = always
-                            .iter()
-                            .enumerate()
-                            .map(|(qi, &q)| {
-                                let d: f64 = (0..k)
-                                    .map(|j| abs(z0.bus_bank[r * k + j] - z0.bus_bank[q * k + j]))
-                                    .sum();
-                                (d, qi)
-                            })
-                            .collect();
-                        near.sort_by(|a, b| a.0.total_cmp(&b.0));
+                        // The two nearest (the earlier of equal ones first).
+                        let mut near: [Option<(f64, usize)>; 2] = [None, None];
+                        for (qi, &q) in always.iter().enumerate() {
+                            let d: f64 = (0..k)
+                                .map(|j| abs(z0.bus_bank[r * k + j] - z0.bus_bank[q * k + j]))
+                                .sum();
+                            let closer = |x: Option<(f64, usize)>| x.is_none_or(|x| d < x.0);
+                            if closer(near[0]) {
+                                near[1] = near[0];
+                                near[0] = Some((d, qi));
+                            } else if closer(near[1]) {
+                                near[1] = Some((d, qi));
+                            }
+                        }
                         let pcc_at = always_at[ctx.pcc].unwrap_or(0);
                         refs.push(
                             near.iter()
-                                .take(2)
+                                .flatten()
                                 .map(|&(_, qi)| {
                                     let sum: f64 =
                                         t.iter().map(|&(c, w)| abs(row[c] - kept[qi][c]) * w).sum();
