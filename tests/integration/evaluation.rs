@@ -238,3 +238,22 @@ fn linear_and_direct_agree_under_phasor_summation() {
         }
     }
 }
+
+/// The fast evaluations on the bundled cases (several sources and scenarios, transformer
+/// vector groups, a utility background, detuned and plain banks), under each case's own
+/// summation law and under `phasor`: every reported figure as the direct evaluation's.
+#[test]
+fn fast_and_direct_agree_on_the_bundled_cases() {
+    for plant in [
+        crate::cases::bottling_plant(),
+        crate::cases::food_plant(),
+        crate::cases::water_plant(),
+        crate::cases::large_site(),
+    ] {
+        let plant = crate::cases::explicit(plant);
+        agree(&plant);
+        let mut phasor = plant.clone();
+        phasor.study.summation = Summation::Phasor;
+        agree(&phasor);
+    }
+}
