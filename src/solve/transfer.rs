@@ -318,7 +318,8 @@ impl HarmonicPoint {
                         let mut x = vec![Complex64::default(); self.state.n];
                         x[r] = Complex64::new(1.0, 0.0);
                         let mut work = Vec::with_capacity(self.state.n);
-                        lean.sym.solve_in_place(&lean.factor, &mut x, &mut work);
+                        lean.sym
+                            .solve_in_place_fast(&lean.factor, &mut x, &mut work);
                         lean.inject.iter().map(|&c| x[c]).collect()
                     });
                     out.extend_from_slice(row);
@@ -335,7 +336,8 @@ impl HarmonicPoint {
                 let mut x = vec![Complex64::default(); self.state.n];
                 x[r] = Complex64::new(1.0, 0.0);
                 let mut work = Vec::with_capacity(self.state.n);
-                lean.sym.solve_in_place(&lean.factor, &mut x, &mut work);
+                lean.sym
+                    .solve_in_place_fast(&lean.factor, &mut x, &mut work);
                 out.clear();
                 out.extend(lean.inject.iter().map(|&c| x[c]));
             }
@@ -355,7 +357,7 @@ impl HarmonicPoint {
                 for (&bus, &i) in lean.inject.iter().zip(inj) {
                     out[bus] += i;
                 }
-                lean.sym.solve_in_place(&lean.factor, out, work);
+                lean.sym.solve_in_place_fast(&lean.factor, out, work);
             }
             None => out.extend((0..n).map(|r| {
                 self.state.zrj[r * l..(r + 1) * l]

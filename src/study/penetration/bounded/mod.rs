@@ -398,9 +398,10 @@ impl Prepared {
         // Sums the orders of bus `r` (largest bound first) while `keep(bound)` holds; true
         // when every order was summed.
         let pursue = |r: usize, known: &mut Known, keep: &dyn Fn(usize, &Known) -> bool| -> bool {
-            let mut by: Vec<usize> = (0..no).collect();
-            by.sort_by(|&a, &b| hi[b * n + r].total_cmp(&hi[a * n + r]));
-            for o in by {
+            // Largest bound first, equal ones in order (an unstable sort of distinct keys).
+            let mut by: Vec<(f64, usize)> = (0..no).map(|o| (hi[o * n + r], o)).collect();
+            by.sort_unstable_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
+            for (_, o) in by {
                 if !keep(r, known) {
                     return false;
                 }
@@ -435,7 +436,7 @@ impl Prepared {
             let mut order: Vec<usize> = (0..n)
                 .filter(|&r| !evaluated[r] && first[r] >= best)
                 .collect();
-            order.sort_by(|&a, &b| first[b].total_cmp(&first[a]));
+            order.sort_unstable_by(|&a, &b| first[b].total_cmp(&first[a]).then(a.cmp(&b)));
             for r in order {
                 if first[r] < best {
                     break;
