@@ -167,6 +167,76 @@ struct Slot<T> {
 /// every one of them through the same memory cell).
 type ByEnd<T> = [Vec<T>; 2];
 
+/// A branch with history: its element, its nodes and its companion conductance.
+trait Branch {
+    /// (element, node a, node b or `GROUND`).
+    fn ends(&self) -> (usize, usize, u32);
+    fn g(&self) -> f64;
+}
+
+impl Branch for RlSlot {
+    fn ends(&self) -> (usize, usize, u32) {
+        (self.k as usize, self.a as usize, self.b)
+    }
+    fn g(&self) -> f64 {
+        self.g
+    }
+}
+
+impl Branch for Slot<f64> {
+    fn ends(&self) -> (usize, usize, u32) {
+        (self.k as usize, self.a as usize, self.b)
+    }
+    fn g(&self) -> f64 {
+        self.value
+    }
+}
+
+/// Each branch's history current h = `history(branch)` into `hist`, taken from its node a
+/// and added at its node b (shunt branches first, touching one node only).
+#[inline]
+fn stamp_history<T: Branch>(
+    slots: &ByEnd<T>,
+    history: impl Fn(&T) -> Complex64,
+    hist: &mut [Complex64],
+    rhs: &mut [Complex64],
+) {
+    for s in &slots[0] {
+        let (k, a, _) = s.ends();
+        let h = history(s);
+        hist[k] = h;
+        rhs[a] -= h;
+    }
+    for s in &slots[1] {
+        let (k, a, b) = s.ends();
+        let h = history(s);
+        hist[k] = h;
+        rhs[a] -= h;
+        rhs[b as usize] += h;
+    }
+}
+
+/// Each branch's voltage u = v_a − v_b and current i = G·u + h after the solve.
+#[inline]
+fn update<T: Branch>(
+    slots: &ByEnd<T>,
+    v: &[Complex64],
+    hist: &[Complex64],
+    u: &mut [Complex64],
+    i: &mut [Complex64],
+) {
+    for s in &slots[0] {
+        let (k, a, _) = s.ends();
+        u[k] = v[a];
+        i[k] = s.g() * u[k] + hist[k];
+    }
+    for s in &slots[1] {
+        let (k, a, b) = s.ends();
+        u[k] = v[a] - v[b as usize];
+        i[k] = s.g() * u[k] + hist[k];
+    }
+}
+
 /// The post-closing circuit factored for one time step Δt.
 ///
 /// The elements are kept by kind, each with its coefficients for Δt worked out once:
@@ -373,17 +443,7 @@ impl<'a> Stepper<'a> {
                 s.g * (u[k] + s.trap * i[k])
             }
         };
-        for s in &self.rl[0] {
-            let h = rl_hist(s, i, u);
-            hist[s.k as usize] = h;
-            rhs[s.a as usize] -= h;
-        }
-        for s in &self.rl[1] {
-            let h = rl_hist(s, i, u);
-            hist[s.k as usize] = h;
-            rhs[s.a as usize] -= h;
-            rhs[s.b as usize] += h;
-        }
+        stamp_history(&self.rl, |s| rl_hist(s, i, u), hist, rhs);
         for (s, ge, _) in &self.rl_emf {
             let h = rl_hist(s, i, u);
             hist[s.k as usize] = h;
@@ -398,45 +458,17 @@ impl<'a> Stepper<'a> {
                 -s.value * u[k] - i[k]
             }
         };
-        for s in &self.cap[0] {
-            let h = c_hist(s, i, u);
-            hist[s.k as usize] = h;
-            rhs[s.a as usize] -= h;
-        }
-        for s in &self.cap[1] {
-            let h = c_hist(s, i, u);
-            hist[s.k as usize] = h;
-            rhs[s.a as usize] -= h;
-            rhs[s.b as usize] += h;
-        }
+        stamp_history(&self.cap, |s| c_hist(s, i, u), hist, rhs);
         for s in &self.current {
             inject(rhs, s.a, s.b, -s.value * drive);
         }
         self.sym.solve_real_in_place(&self.factor, rhs, work);
-        for s in &self.rl[0] {
-            let k = s.k as usize;
-            u[k] = rhs[s.a as usize];
-            i[k] = s.g * u[k] + hist[k];
-        }
-        for s in &self.rl[1] {
-            let k = s.k as usize;
-            u[k] = rhs[s.a as usize] - rhs[s.b as usize];
-            i[k] = s.g * u[k] + hist[k];
-        }
+        update(&self.rl, rhs, hist, u, i);
         for (s, _, e) in &self.rl_emf {
             let k = s.k as usize;
             u[k] = across(rhs, s.a, s.b) - e * drive;
             i[k] = s.g * u[k] + hist[k];
         }
-        for s in &self.cap[0] {
-            let k = s.k as usize;
-            u[k] = rhs[s.a as usize];
-            i[k] = s.value * u[k] + hist[k];
-        }
-        for s in &self.cap[1] {
-            let k = s.k as usize;
-            u[k] = rhs[s.a as usize] - rhs[s.b as usize];
-            i[k] = s.value * u[k] + hist[k];
-        }
+        update(&self.cap, rhs, hist, u, i);
     }
 }
