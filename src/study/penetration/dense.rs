@@ -59,9 +59,9 @@ fn solve_small(a: &mut [Complex64], b: &mut [Complex64], m: usize, l: usize) -> 
 
 /// Solves (D⁻¹ + Z₀[E,E])·X = B in place for the energized banks E (`energized`, indices
 /// into the k banks), D = diag(y) their admittances (per unit) and `z_bank_bank` Z₀ among
-/// the bank buses (k×k): the Woodbury identity's small system, so that
-/// Z = Z₀ − Z₀[:,E]·X with B = Z₀[E,:] (textbook). `b` is
-/// |E|×l row-major. False when singular. Nothing to do without energized banks.
+/// the bank buses (k×k): the Woodbury identity's small system (textbook), so that
+/// Z = Z₀ − Z₀[:,E]·X with B = Z₀[E,:]. `b` is |E|×l row-major. False when singular;
+/// nothing to do without energized banks.
 pub(super) fn woodbury_solve(
     z_bank_bank: &[Complex64],
     k: usize,
