@@ -8,16 +8,19 @@
 //! and the loads of the operating point of the configuration before closing (linear loads
 //! as the parallel R-L that draws their P and Q at the solved voltage, motors as an EMF
 //! behind their subtransient R + jX'', converters as their fundamental current), so that
-//! the state before closing is the load flow's. See `circuit.rs` for the integration.
+//! the state before closing is the load flow's. See `circuit.rs` for the models and
+//! `stepper.rs` for the integration.
 
 mod circuit;
 mod events;
 pub mod measure;
 mod run;
+mod stepper;
 
-pub use circuit::{Circuit, Element, Kind, State, Stepper};
+pub use circuit::{Circuit, Element, Kind, State};
 pub use events::{EventSpec, Setup, events, setup, step_values};
 pub use run::{Inputs, formula, run};
+pub use stepper::Stepper;
 
 use num_complex::Complex64;
 use serde::Serialize;
