@@ -222,7 +222,7 @@ impl Symbolic {
 
     /// Solves A·x = b in place (b and x in original indices) with the factors of A.
     pub fn solve_in_place(&self, f: &Factor, b: &mut [Complex64], work: &mut Vec<Complex64>) {
-        self.solve_with(f, b, work, |w, k| *w /= f.values[k]);
+        self.solve_with(&f.values[self.n..], b, work, |w, k| *w /= f.values[k]);
     }
 
     /// Like [`Symbolic::solve_in_place`], multiplying by the inverse pivots instead of
@@ -230,26 +230,28 @@ impl Symbolic {
     /// the last bits only. For the many row solves of harmonic penetration; the scan keeps
     /// the dividing solve, whose refined extrema its reports were checked against.
     pub fn solve_in_place_fast(&self, f: &Factor, b: &mut [Complex64], work: &mut Vec<Complex64>) {
-        self.solve_with(f, b, work, |w, k| *w *= f.inv_d[k]);
+        self.solve_with(&f.values[self.n..], b, work, |w, k| *w *= f.inv_d[k]);
     }
 
-    /// Forward substitution with L, `pivot(x_k, k)` applying D⁻¹, back substitution with Lᵀ.
-    fn solve_with(
+    /// Forward substitution with L (strictly lower entries `l`, complex or real),
+    /// `pivot(x_k, k)` applying D⁻¹, back substitution with Lᵀ.
+    fn solve_with<T>(
         &self,
-        f: &Factor,
+        l: &[T],
         b: &mut [Complex64],
         work: &mut Vec<Complex64>,
         pivot: impl Fn(&mut Complex64, usize),
-    ) {
+    ) where
+        T: Copy + std::ops::Mul<Complex64, Output = Complex64>,
+    {
         let n = self.n;
         work.clear();
         work.extend(self.perm.iter().map(|&i| b[i]));
-        let v = &f.values;
         for k in 0..n {
             let xk = work[k];
             if xk != Complex64::new(0.0, 0.0) {
                 for p in self.col_ptr[k]..self.col_ptr[k + 1] {
-                    work[self.rows[p]] -= v[n + p] * xk;
+                    work[self.rows[p]] -= l[p] * xk;
                 }
             }
         }
@@ -259,7 +261,7 @@ impl Symbolic {
         for k in (0..n).rev() {
             let mut acc = work[k];
             for p in self.col_ptr[k]..self.col_ptr[k + 1] {
-                acc -= v[n + p] * work[self.rows[p]];
+                acc -= l[p] * work[self.rows[p]];
             }
             work[k] = acc;
         }
@@ -278,31 +280,8 @@ impl Symbolic {
         b: &mut [Complex64],
         work: &mut Vec<Complex64>,
     ) {
-        let n = self.n;
-        work.clear();
-        work.extend(self.perm.iter().map(|&i| b[i]));
-        let (d, l) = values.split_at(n);
-        for k in 0..n {
-            let xk = work[k];
-            if xk != Complex64::new(0.0, 0.0) {
-                for p in self.col_ptr[k]..self.col_ptr[k + 1] {
-                    work[self.rows[p]] -= xk * l[p];
-                }
-            }
-        }
-        for (w, &inv) in work.iter_mut().zip(d) {
-            *w *= inv;
-        }
-        for k in (0..n).rev() {
-            let mut acc = work[k];
-            for p in self.col_ptr[k]..self.col_ptr[k + 1] {
-                acc -= work[self.rows[p]] * l[p];
-            }
-            work[k] = acc;
-        }
-        for (k, &i) in self.perm.iter().enumerate() {
-            b[i] = work[k];
-        }
+        let (d, l) = values.split_at(self.n);
+        self.solve_with(l, b, work, |w, k| *w *= d[k]);
     }
 
     /// Off-diagonal entries of L (fill included): a measure of factorization cost.

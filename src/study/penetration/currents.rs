@@ -6,6 +6,15 @@ use num_complex::Complex64;
 
 use super::{Configuration, Injections, OperatingStudy, OrderInputs, SequenceEngines};
 
+/// The background's Norton currents alone by column (the loads off), per unit.
+pub(super) fn background_currents(inp: &OrderInputs, l: usize, out: &mut Vec<Complex64>) {
+    out.clear();
+    out.resize(l, Complex64::default());
+    for &(c, i) in &inp.background {
+        out[c] += i;
+    }
+}
+
 /// The phasor injection of every column at `order` for the operating angles `theta`
 /// (radians per column; empty = 0): I_c = A_c·e^{j·h·θ_c} plus the background's Norton
 /// currents.

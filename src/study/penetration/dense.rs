@@ -3,6 +3,19 @@
 
 use num_complex::Complex64;
 
+use crate::solve::HarmonicPoint;
+
+/// Each bank's admittance at the point's order with `steps` energized, y_b = n_b·y_step
+/// (per unit), and the energized banks E (y_b ≠ 0), ascending.
+pub(super) fn bank_admittances(p: &HarmonicPoint, steps: &[u32]) -> (Vec<Complex64>, Vec<usize>) {
+    let k = p.z0_blocks().k;
+    let y: Vec<Complex64> = (0..k)
+        .map(|b| p.y_step(b) * f64::from(steps.get(b).copied().unwrap_or(0)))
+        .collect();
+    let energized = (0..k).filter(|&b| y[b] != Complex64::default()).collect();
+    (y, energized)
+}
+
 /// Solves A·X = B in place for a small dense complex A (m×m) and B (m×l), Gaussian
 /// elimination with partial pivoting. False when a pivot vanishes (a singular network).
 fn solve_small(a: &mut [Complex64], b: &mut [Complex64], m: usize, l: usize) -> bool {

@@ -6,8 +6,8 @@
 use num_complex::Complex64;
 
 use super::{
-    Ctx, Distortion, Individual, OrderInputs, abs, amps_per_pu, combine, dot, magnitude_sum,
-    phasor_currents, summarize, update_worst,
+    Ctx, Distortion, Individual, OrderInputs, abs, amps_per_pu, background_currents, combine, dot,
+    magnitude_sum, phasor_currents, summarize, update_worst,
 };
 use crate::model::Summation;
 use crate::solve::{ComboPlan, SolveError, TransferScratch};
@@ -38,11 +38,7 @@ impl Ctx<'_> {
         for (o, p) in self.points[s].iter().enumerate() {
             let h = p.order;
             if !p.evaluate(&plan, &mut scratch, &mut z) {
-                return Err(SolveError::Singular {
-                    scenario: net.scenarios[s].name.clone(),
-                    order: h,
-                    bus: String::new(),
-                });
+                return Err(self.singular(s, h));
             }
             let inp = &self.inputs[s][o];
             let bg_only = OrderInputs {
@@ -70,7 +66,7 @@ impl Ctx<'_> {
                     let own: Complex64 = inp.background.iter().map(|&(_, i)| i).sum();
                     supply = abs(drawn - own);
                     if !inp.background.is_empty() {
-                        phasor_currents(&bg_only, h, &[], l, &mut inj_bg);
+                        background_currents(inp, l, &mut inj_bg);
                         for (b, bank) in net.banks.iter().enumerate() {
                             let r = bank.bus;
                             bank_bg[b] = abs(dot(&zb[r * l..(r + 1) * l], &inj_bg)) * y_bank(b);

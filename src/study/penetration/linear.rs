@@ -12,8 +12,8 @@
 
 use num_complex::Complex64;
 
-use super::dense::woodbury_solve;
-use super::{Ctx, Distortion, OrderInputs, abs, phasor_currents};
+use super::dense::{bank_admittances, woodbury_solve};
+use super::{Ctx, Distortion, abs, background_currents, phasor_currents};
 use crate::solve::SolveError;
 
 impl Ctx<'_> {
@@ -43,23 +43,14 @@ impl Ctx<'_> {
                 let z0 = p.z0_blocks();
                 let k = z0.k;
                 let inp = &self.inputs[s][o];
-                let y: Vec<Complex64> = (0..k)
-                    .map(|b| p.y_step(b) * f64::from(steps.get(b).copied().unwrap_or(0)))
-                    .collect();
-                let energized: Vec<usize> =
-                    (0..k).filter(|&b| y[b] != Complex64::default()).collect();
-                let singular = || SolveError::Singular {
-                    scenario: net.scenarios[s].name.clone(),
-                    order: h,
-                    bus: String::new(),
-                };
+                let (y, energized) = bank_admittances(p, steps);
                 // V = V₀ − Z₀[:,E]·X at every bus.
                 phasor_currents(inp, h, theta, l, &mut inj);
                 p.z0_times(&inj, &mut v, &mut work);
                 let mut x: Vec<Complex64> =
                     energized.iter().map(|&b| v[net.banks[b].bus]).collect();
                 if !woodbury_solve(z0.bank_bank, k, &y, &energized, &mut x, 1) {
-                    return Err(singular());
+                    return Err(self.singular(s, h));
                 }
                 for (r, vr) in v.iter_mut().enumerate() {
                     for (&b, xj) in energized.iter().zip(&x) {
@@ -74,12 +65,7 @@ impl Ctx<'_> {
                 // same correction.
                 bank_bg.iter_mut().for_each(|x| *x = 0.0);
                 if !inp.background.is_empty() {
-                    let bg_only = OrderInputs {
-                        loads: Vec::new(),
-                        background: inp.background.clone(),
-                        ..OrderInputs::default()
-                    };
-                    phasor_currents(&bg_only, h, &[], l, &mut inj);
+                    background_currents(inp, l, &mut inj);
                     let v0_bank: Vec<Complex64> = (0..k)
                         .map(|b| {
                             z0.bank_inj[b * l..(b + 1) * l]
@@ -91,7 +77,7 @@ impl Ctx<'_> {
                         .collect();
                     let mut xb: Vec<Complex64> = energized.iter().map(|&b| v0_bank[b]).collect();
                     if !woodbury_solve(z0.bank_bank, k, &y, &energized, &mut xb, 1) {
-                        return Err(singular());
+                        return Err(self.singular(s, h));
                     }
                     for (b, slot) in bank_bg.iter_mut().enumerate() {
                         let mut vb = v0_bank[b];

@@ -20,7 +20,7 @@ mod currents;
 mod dense;
 mod direct;
 mod linear;
-use currents::{order_inputs, phasor_angles, phasor_currents};
+use currents::{background_currents, order_inputs, phasor_angles, phasor_currents};
 use serde::Serialize;
 
 use super::Configuration;
@@ -500,6 +500,17 @@ struct Ctx<'a> {
     limits: &'a IndividualLimits,
     law: Summation,
     pcc: usize,
+}
+
+impl Ctx<'_> {
+    /// The error of a network singular at order `h` in scenario `s`.
+    fn singular(&self, s: usize, h: f64) -> SolveError {
+        SolveError::Singular {
+            scenario: self.net.scenarios[s].name.clone(),
+            order: h,
+            bus: String::new(),
+        }
+    }
 }
 
 /// How much a configuration amplifies the harmonic voltage at a bank's bus against the same

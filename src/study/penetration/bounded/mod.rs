@@ -30,7 +30,7 @@ use std::sync::OnceLock;
 
 use num_complex::Complex64;
 
-use super::dense::woodbury_solve;
+use super::dense::{bank_admittances, woodbury_solve};
 use super::{
     Ctx, Distortion, Individual, abs, amps_per_pu, bus_above, individual_key, update_worst,
 };
@@ -206,20 +206,13 @@ impl Prepared {
             let v0 = &self.v0[s][o];
             let abs_bank = &self.abs_bank[s][o];
             let abs_near = &self.abs_near[s][o];
-            let y: Vec<Complex64> = (0..k)
-                .map(|b| p.y_step(b) * f64::from(steps.get(b).copied().unwrap_or(0)))
-                .collect();
-            let energized: Vec<usize> = (0..k).filter(|&b| y[b] != Complex64::default()).collect();
+            let (y, energized) = bank_admittances(p, steps);
             let mut q = Vec::with_capacity(energized.len() * ng);
             for &b in &energized {
                 q.extend_from_slice(&gr.z_bank[b * ng..(b + 1) * ng]);
             }
             if !woodbury_solve(z0.bank_bank, k, &y, &energized, &mut q, ng) {
-                return Err(SolveError::Singular {
-                    scenario: net.scenarios[s].name.clone(),
-                    order: h,
-                    bus: String::new(),
-                });
+                return Err(ctx.singular(s, h));
             }
             let st = OrderState { energized, q };
             // The always-exact buses' rows by group. At an energized bank's bus the row is
