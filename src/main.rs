@@ -288,16 +288,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             check_outputs(&outputs(&out), Some(&path), out.force)?;
             let read = read_workbook(&path)?;
             warn(&read.warnings);
-            let bytes =
-                std::fs::read(&path).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
-            let prov = Provenance {
-                input: path
-                    .file_name()
-                    .map_or_else(String::new, |n| n.to_string_lossy().into_owned()),
-                sha256: sha256_hex(&bytes),
-                date: file_date(&path).unwrap_or(DEMO_DATE),
-                warnings: read.warnings.clone(),
-            };
+            let prov = file_provenance(&path, &read.warnings)?;
             study(&read.plant, &out, Some(&path), prov)
         }
         Command::Scan {
@@ -334,6 +325,23 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             Ok(ExitCode::SUCCESS)
         }
     }
+}
+
+/// The provenance of an input workbook for a review: its file name, SHA-256, modification
+/// date (the demo's date when the file system has none) and the reader's warnings.
+fn file_provenance(
+    path: &std::path::Path,
+    warnings: &[overtone::io::workbook_in::Warning],
+) -> Result<Provenance, Failure> {
+    let bytes = std::fs::read(path).map_err(|e| Failure(format!("{}: {e}", path.display())))?;
+    Ok(Provenance {
+        input: path
+            .file_name()
+            .map_or_else(String::new, |n| n.to_string_lossy().into_owned()),
+        sha256: sha256_hex(&bytes),
+        date: file_date(path).unwrap_or(DEMO_DATE),
+        warnings: warnings.to_vec(),
+    })
 }
 
 /// The outputs a study writes, with their kinds.
@@ -603,17 +611,10 @@ fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
             .map_err(|e| Failure(format!("{}: {e}", path.display())))?;
     }
     if let Some(path) = &a.output {
-        let bytes =
-            std::fs::read(&a.plant).map_err(|e| Failure(format!("{}: {e}", a.plant.display())))?;
-        let prov = Provenance {
-            input: a
-                .plant
-                .file_name()
-                .map_or_else(String::new, |n| n.to_string_lossy().into_owned()),
-            sha256: sha256_hex(&bytes),
-            date: date.or_else(|| file_date(&a.plant)).unwrap_or(DEMO_DATE),
-            warnings: read.warnings.clone(),
-        };
+        let mut prov = file_provenance(&a.plant, &read.warnings)?;
+        if let Some(d) = date {
+            prov.date = d;
+        }
         overtone::io::review::write_design_review(path, &res, &prov)?;
     }
     let code = print(|w| {
