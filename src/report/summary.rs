@@ -440,18 +440,45 @@ pub fn write_peaks(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
                 )
             })
             .collect();
-        writeln!(
-            out,
-            "  {:<8} {:<24} {:<10} {}",
+        let head = format!(
+            "  {:<8} {:<24} {:<10} ",
             res.scan.scenarios[s.scenario],
             res.label(s.configuration),
             res.network.buses[res.scan.buses[s.bus]].id,
-            if peaks.is_empty() {
-                "no peak".to_string()
+        );
+        if peaks.is_empty() {
+            writeln!(out, "{head}no peak")?;
+            continue;
+        }
+        // The peaks fill 100 columns, further ones on lines indented under the first (or
+        // less, where a long label leaves no room).
+        let pieces: Vec<String> = peaks
+            .iter()
+            .enumerate()
+            .map(|(i, p)| {
+                if i + 1 < peaks.len() {
+                    format!("{p},")
+                } else {
+                    p.clone()
+                }
+            })
+            .collect();
+        let widest = pieces.iter().map(|p| p.chars().count()).max().unwrap_or(0);
+        let indent = " ".repeat(head.chars().count().min(100usize.saturating_sub(widest)));
+        let mut line = head;
+        let mut empty = true; // no peak on the line yet
+        for piece in &pieces {
+            let sep = if empty { "" } else { " " };
+            if line.chars().count() + sep.len() + piece.chars().count() > 100 {
+                writeln!(out, "{}", line.trim_end())?;
+                line = format!("{indent}{piece}");
             } else {
-                peaks.join(", ")
+                line.push_str(sep);
+                line.push_str(piece);
             }
-        )?;
+            empty = false;
+        }
+        writeln!(out, "{line}")?;
     }
     writeln!(out)?;
     for c in CAUTIONS {

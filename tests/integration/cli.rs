@@ -494,6 +494,20 @@ fn help_and_option_names_are_consistent() {
     let out = overtone(&["scan", &case("food-plant.xlsx"), "--json", "--quiet"]);
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(v["tool"], "overtone");
+    // The peaks table fits 100 columns: the water plant's buses with several peaks wrap
+    // them under the first, and none is lost.
+    let out = overtone(&["scan", &case("water-plant.xlsx"), "--quiet"]);
+    let text = String::from_utf8_lossy(&out.stdout).to_string();
+    assert!(text.lines().all(|l| l.chars().count() <= 100), "{text}");
+    let json = overtone(&["scan", &case("water-plant.xlsx"), "--json", "--quiet"]);
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    let peaks: usize = v["scan"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s["peaks"].as_array().map_or(0, Vec::len))
+        .sum();
+    assert_eq!(text.matches(" ohm, x").count(), peaks);
     let demo = String::from_utf8_lossy(&overtone(&["demo", "--help"]).stdout).to_string();
     assert!(demo.contains("the demo's is fixed at 2026-01-01"));
     std::fs::remove_dir_all(&dir).ok();
