@@ -106,6 +106,23 @@ fn printed_reviews_are_short_and_print_every_sentence_whole() {
                 );
             }
         }
+        // Every check named in the Summary's verdict table prints whole (column A, below
+        // the "Check" header), not clipped by the element beside it.
+        let mut wb: Xlsx<_> = open_workbook(review).unwrap();
+        let summary = wb.worksheet_range("Summary").unwrap();
+        let checks: Vec<String> = summary
+            .rows()
+            .skip_while(|row| row.first().map(|c| c.to_string()) != Some("Check".into()))
+            .skip(1)
+            .map_while(|row| row.first().map(|c| c.to_string()).filter(|s| !s.is_empty()))
+            .collect();
+        assert!(checks.len() >= 3, "{case}: {} verdict rows", checks.len());
+        for c in checks {
+            assert!(
+                flat.contains(&squash(&c)),
+                "{case}: this check is not whole in the PDF: {c}"
+            );
+        }
         // The scan data do not print; the charts and the study sheets do.
         assert!(!flat.contains("Marker height"), "{case}: scan data printed");
         assert!(
