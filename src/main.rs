@@ -11,14 +11,14 @@ use std::sync::Arc;
 use std::time::Instant;
 
 use indicatif::{ProgressBar, ProgressStyle};
-use overtone::check::{CheckOptions, run_check};
-use overtone::io::csv::{
+use overtone::export::{OutputKind, check_output};
+use overtone::io::workbook_in::read_workbook;
+use overtone::jobs::check::{CheckOptions, run_check};
+use overtone::model::Plant;
+use overtone::present::csv::{
     selection, write_operating_file, write_scan_file, write_transients_file, write_voltages_file,
 };
-use overtone::io::output::{OutputKind, check_output};
-use overtone::io::review::{Provenance, file_date, sha256_hex, write_review};
-use overtone::io::workbook_in::read_workbook;
-use overtone::model::Plant;
+use overtone::present::review::{Provenance, file_date, sha256_hex, write_review};
 
 #[derive(Parser)]
 #[command(
@@ -210,7 +210,7 @@ fn main() -> ExitCode {
     // Ctrl-C, SIGTERM or SIGHUP: remove the temporary files of writes in progress, so that
     // no partial output is left, and stop. Finished outputs are already complete.
     let _ = ctrlc::set_handler(|| {
-        overtone::io::output::remove_pending();
+        overtone::export::remove_pending();
         let _ = writeln!(
             io::stderr(),
             "\novertone: interrupted; no output file was left partly written"
@@ -239,7 +239,7 @@ const DEMO_DATE: (u16, u8, u8) = (2026, 1, 1);
 fn warn(warnings: &[overtone::io::workbook_in::Warning]) {
     let mut err = io::stderr().lock();
     for w in warnings {
-        let _ = overtone::report::table::write_hanging(
+        let _ = overtone::present::terminal::table::write_hanging(
             &mut err,
             "warning: ",
             "  ",
@@ -313,8 +313,10 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
                     write_scan_file(&path, &res, &sel)?;
                     Ok(ExitCode::SUCCESS)
                 }
-                None if json => print(|w| writeln!(w, "{}", overtone::io::json::to_json(&res))),
-                None => print(|w| overtone::report::summary::write_peaks(w, &res)),
+                None if json => {
+                    print(|w| writeln!(w, "{}", overtone::present::json::to_json(&res)))
+                }
+                None => print(|w| overtone::present::terminal::summary::write_peaks(w, &res)),
             }
         }
         Command::Size(a) => size(&a),
@@ -527,7 +529,7 @@ fn size(a: &SizeArgs) -> Result<ExitCode, Failure> {
         });
     }
     let tuned = a.order.is_some();
-    print(|w| overtone::report::summary::write_sizing(w, &s, tuned))
+    print(|w| overtone::present::terminal::summary::write_sizing(w, &s, tuned))
 }
 
 fn study(
@@ -567,9 +569,9 @@ fn study(
     }
     let code = print(|w| {
         if out.json {
-            writeln!(w, "{}", overtone::io::json::to_json(&res))
+            writeln!(w, "{}", overtone::present::json::to_json(&res))
         } else {
-            overtone::report::summary::write_summary(w, &res)
+            overtone::present::terminal::summary::write_summary(w, &res)
         }
     })?;
     if out.strict && res.flagged() {
@@ -591,11 +593,11 @@ fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
     let read = read_workbook(&a.plant)?;
     warn(&read.warnings);
     let (bar, progress) = progress_bar(a.quiet, "designing {bar:40} {pos}/{len} plans, {eta} left");
-    let options = overtone::study::design::DesignOptions {
+    let options = overtone::jobs::design::DesignOptions {
         progress: Some(progress),
         ..Default::default()
     };
-    let res = overtone::study::design::run_design(&read.plant, &options);
+    let res = overtone::jobs::design::run_design(&read.plant, &options);
     bar.finish_and_clear();
     let res = res?;
     if let Some(path) = &a.write_plant
@@ -607,7 +609,7 @@ fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
                 path.display()
             ))
         })?;
-        overtone::io::output::write_bytes(path, &bytes)
+        overtone::export::write_bytes(path, &bytes)
             .map_err(|e| Failure(format!("{}: {e}", path.display())))?;
     }
     if let Some(path) = &a.output {
@@ -615,13 +617,13 @@ fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
         if let Some(d) = date {
             prov.date = d;
         }
-        overtone::io::review::write_design_review(path, &res, &prov)?;
+        overtone::present::review::write_design_review(path, &res, &prov)?;
     }
     let code = print(|w| {
         if a.json {
-            writeln!(w, "{}", overtone::io::json::design_json(&res))
+            writeln!(w, "{}", overtone::present::json::design_json(&res))
         } else {
-            overtone::report::design::write_design(w, &res)
+            overtone::present::terminal::design::write_design(w, &res)
         }
     })?;
     if a.write_plant.is_some() && res.recommended.is_none() {

@@ -1,10 +1,6 @@
-//! Files: the input workbook reader, and machine-readable outputs (CSV per the input
-//! contract, JSON), the review workbook and the template, all written whole or not at all
-//! (`output`).
+//! Input: the plant workbook reader (every sheet validated, each problem located at its
+//! sheet and cell), the blank template built from the same column schema, and the
+//! provenance of an input file.
 
-pub mod csv;
-pub mod json;
-pub mod output;
-pub mod review;
 pub mod template;
 pub mod workbook_in;

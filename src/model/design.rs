@@ -1,7 +1,7 @@
 //! The design input of the `design` command (input contract, the `Design` and `Load levels`
 //! sheets): where a bank may go and which plans are allowed, and the load levels the power
 //! factor must hold at. Rows are kept as the engineer wrote them, with their cells, and
-//! checked by [`crate::study::design`] (only `design` reads them; `check` ignores them).
+//! checked by [`crate::jobs::design`] (only `design` reads them; `check` ignores them).
 
 use serde::Serialize;
 

@@ -4,7 +4,6 @@
 
 pub mod background;
 pub mod config;
-pub mod design;
 pub mod detune;
 pub mod duty;
 pub mod hand;

@@ -5,8 +5,11 @@
 //! distortion; and the operating point alone. Prints the process's peak resident memory afterwards.
 //! Run: `cargo bench --bench check`.
 
-use overtone::check::run_check;
-use overtone::synthetic::{generated_plant, with_two_scenarios};
+#[path = "../support/synthetic.rs"]
+mod synthetic;
+
+use overtone::jobs::check::run_check;
+use synthetic::{generated_plant, with_two_scenarios};
 
 mod peak;
 

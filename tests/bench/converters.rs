@@ -9,10 +9,13 @@
 //! buses); and the whole check under `phasor` summation (linear superposition). Prints the
 //! peak resident memory afterwards. Run: `cargo bench --bench converters`.
 
-use overtone::check::{CheckOptions, run_check};
+#[path = "../support/synthetic.rs"]
+mod synthetic;
+
+use overtone::jobs::check::{CheckOptions, run_check};
 use overtone::model::{LoadType, Reactor, Summation};
 use overtone::study::penetration::Evaluation;
-use overtone::synthetic::{generated_plant, with_converters, with_two_scenarios};
+use synthetic::{generated_plant, with_converters, with_two_scenarios};
 
 mod peak;
 

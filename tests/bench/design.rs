@@ -7,8 +7,8 @@
 use std::time::Instant;
 
 use overtone::io::workbook_in::read_workbook;
+use overtone::jobs::design::{DesignOptions, run_design};
 use overtone::model::Plant;
-use overtone::study::design::{DesignOptions, run_design};
 
 mod peak;
 

@@ -6,12 +6,15 @@
 //! Run: `cargo bench --bench reader` (writing the 1,000,000-row workbook takes about 15 s
 //! and 1.5 GB once; the files are kept under target/bench-data).
 
+#[path = "../support/synthetic.rs"]
+mod synthetic;
+
 use std::path::PathBuf;
 
 use overtone::io::template::plant_workbook;
 use overtone::io::workbook_in::read_workbook_bytes;
 use overtone::model::{Load, LoadType};
-use overtone::synthetic::generated_plant;
+use synthetic::generated_plant;
 
 const SIZES: [usize; 3] = [10_000, 100_000, 1_000_000];
 

@@ -3,10 +3,13 @@
 //! (k = 1..8 one-step banks on a 300-bus network, all 2^k combinations).
 //! Run: `cargo bench --bench scan`.
 
+#[path = "../support/synthetic.rs"]
+mod synthetic;
+
 use overtone::network::Network;
 use overtone::solve::{ComboPlan, Engine, Scratch};
 use overtone::study::{ScanGrid, all_configurations};
-use overtone::synthetic::generated_plant;
+use synthetic::generated_plant;
 
 fn main() {
     divan::main();

@@ -7,13 +7,16 @@
 //! each, peaks refined) divided by the configurations it covered, against one ngspice run
 //! (one configuration, one scenario, one bus). Run: `cargo bench --bench spice`.
 
+#[path = "../support/synthetic.rs"]
+mod synthetic;
+
 use std::fmt::Write as _;
 use std::process::Command;
 use std::time::Instant;
 
-use overtone::check::run_check;
+use overtone::jobs::check::run_check;
 use overtone::network::{Network, ShuntModel};
-use overtone::synthetic::{generated_plant, with_two_scenarios};
+use synthetic::{generated_plant, with_two_scenarios};
 
 /// The netlist of `net` in scenario `s` with `steps` bank steps, per unit (1 A = 1 pu
 /// current), injection at bus `at`; frequencies 60·order for the orders 1..50 at 0.01.

@@ -3,9 +3,12 @@
 //! the whole check with the simulation against the same check without it (the difference
 //! is the simulation's cost). Run: `cargo bench --bench switching`.
 
-use overtone::check::{CheckOptions, run_check};
+#[path = "../support/synthetic.rs"]
+mod synthetic;
+
+use overtone::jobs::check::{CheckOptions, run_check};
 use overtone::model::Plant;
-use overtone::synthetic::{generated_plant, with_two_scenarios};
+use synthetic::{generated_plant, with_two_scenarios};
 
 fn main() {
     divan::main();

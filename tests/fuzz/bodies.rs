@@ -11,11 +11,11 @@
 use std::io::Read;
 
 use arbitrary::{Arbitrary, Unstructured};
-use overtone::check::{CheckOptions, CheckResults, run_check};
-use overtone::io::csv::{ScanSelection, write_scan_csv, write_voltages_csv};
-use overtone::io::review::{Provenance, review_bytes};
 use overtone::io::workbook_in::read_workbook_bytes;
+use overtone::jobs::check::{CheckOptions, CheckResults, run_check};
 use overtone::model::*;
+use overtone::present::csv::{ScanSelection, write_scan_csv, write_voltages_csv};
+use overtone::present::review::{Provenance, review_bytes};
 
 /// Feeds `data` to the workbook reader as .xlsx (the reader detects the real format from the
 /// bytes): a plant that validates, or an error message naming the file.
@@ -60,13 +60,14 @@ pub fn study_and_report(plant: &Plant) {
 /// Every report of `res` is free of non-finite numbers.
 pub fn audit_reports(res: &CheckResults) {
     let mut text = Vec::new();
-    overtone::report::summary::write_summary(&mut text, res).expect("summary to memory");
+    overtone::present::terminal::summary::write_summary(&mut text, res).expect("summary to memory");
     assert_no_nonfinite_text("terminal summary", &String::from_utf8_lossy(&text));
     let mut peaks = Vec::new();
-    overtone::report::summary::write_peaks(&mut peaks, res).expect("peaks to memory");
+    overtone::present::terminal::summary::write_peaks(&mut peaks, res).expect("peaks to memory");
     assert_no_nonfinite_text("scan peaks", &String::from_utf8_lossy(&peaks));
 
-    let value = serde_value::to_value(overtone::io::json::summary(res)).expect("summary value");
+    let value =
+        serde_value::to_value(overtone::present::json::summary(res)).expect("summary value");
     let mut path = Vec::new();
     if let Some(bad) = first_nonfinite(&value, &mut path) {
         panic!("a non-finite number reaches the JSON summary at {bad}");
@@ -80,10 +81,11 @@ pub fn audit_reports(res: &CheckResults) {
     write_voltages_csv(&mut csv, res, &sel).expect("voltage CSV to memory");
     assert_no_nonfinite_text("voltage CSV", &String::from_utf8_lossy(&csv));
     let mut csv = Vec::new();
-    overtone::io::csv::write_operating_csv(&mut csv, res, &sel).expect("operating CSV to memory");
+    overtone::present::csv::write_operating_csv(&mut csv, res, &sel)
+        .expect("operating CSV to memory");
     assert_no_nonfinite_text("operating CSV", &String::from_utf8_lossy(&csv));
     let mut csv = Vec::new();
-    overtone::io::csv::write_transients_csv(&mut csv, res).expect("transients CSV to memory");
+    overtone::present::csv::write_transients_csv(&mut csv, res).expect("transients CSV to memory");
     assert_no_nonfinite_text("transients CSV", &String::from_utf8_lossy(&csv));
 
     let prov = Provenance {
@@ -132,7 +134,7 @@ pub fn assert_no_nonfinite_text(what: &str, text: &str) {
 
 /// The review writer's text for a number that is not finite (see `io::review`).
 fn crate_fallback() -> &'static str {
-    overtone::io::review::NOT_COMPUTED
+    overtone::present::review::NOT_COMPUTED
 }
 
 /// The path of the first non-finite float in `v`, if any.

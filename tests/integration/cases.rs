@@ -5,9 +5,9 @@
 
 use std::path::PathBuf;
 
-use overtone::check::{CheckOptions, run_check};
 use overtone::io::template::plant_workbook;
 use overtone::io::workbook_in::{read_workbook, read_workbook_bytes};
+use overtone::jobs::check::{CheckOptions, run_check};
 use overtone::model::*;
 use overtone::study::Verdict;
 

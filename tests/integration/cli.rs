@@ -793,7 +793,7 @@ fn strict_exits_1_when_only_capacitor_duty_fails() {
         1,
         Reactor::Detuning { percent: 7.0 },
     )];
-    let res = overtone::check::run_check(&p, &Default::default()).unwrap();
+    let res = overtone::jobs::check::run_check(&p, &Default::default()).unwrap();
     assert!(res.duty.iter().any(|d| d.exceeds));
     assert!(
         res.resonance
@@ -804,9 +804,9 @@ fn strict_exits_1_when_only_capacitor_duty_fails() {
     assert!(res.limit_rows.iter().all(|r| !r.exceeds));
     assert!(res.tolerance.iter().all(|t| !t.flagged));
     assert!(res.operating.points.iter().all(|o| !o.flagged()));
-    let with_switching = overtone::check::run_check(
+    let with_switching = overtone::jobs::check::run_check(
         &p,
-        &overtone::check::CheckOptions {
+        &overtone::jobs::check::CheckOptions {
             switching: true,
             ..Default::default()
         },
@@ -957,9 +957,9 @@ fn strict_exits_1_when_only_the_tolerance_band_is_flagged() {
     let input = dir.join("plant.xlsx");
     for (kvar, code) in [(1000.0, 1), (900.0, 0)] {
         let p = plant(kvar);
-        let res = overtone::check::run_check(
+        let res = overtone::jobs::check::run_check(
             &p,
-            &overtone::check::CheckOptions {
+            &overtone::jobs::check::CheckOptions {
                 switching: true,
                 ..Default::default()
             },
@@ -989,11 +989,11 @@ fn the_output_folder_probe_leaves_nothing() {
     // The write probe of the output check is registered for interrupt clean-up while it
     // exists, and gone (file and registration) afterwards.
     let dir = temp_dir("probe");
-    overtone::io::output::check_output_path(&dir.join("review.xlsx"), None).unwrap();
+    overtone::export::check_output_path(&dir.join("review.xlsx"), None).unwrap();
     assert!(listing(&dir).is_empty(), "{:?}", listing(&dir));
     let probe = format!(".overtone-write-test-{}", std::process::id());
     assert!(
-        overtone::io::output::pending_files()
+        overtone::export::pending_files()
             .iter()
             .all(|p| !p.ends_with(&probe))
     );
@@ -1016,7 +1016,7 @@ fn a_plant_over_its_limits_without_banks_is_said_first() {
     );
     p.loads = vec![load("VFD", "LV", LoadType::SixPulseDrive, 800.0, 0.95)];
     p.banks = vec![bank("C", "LV", 0.48, 100.0, 2, Reactor::None)];
-    let res = overtone::check::run_check(&p, &Default::default()).unwrap();
+    let res = overtone::jobs::check::run_check(&p, &Default::default()).unwrap();
     let none_over = res
         .limit_rows
         .iter()

@@ -121,7 +121,7 @@ pub fn spectrum(name: &str, lines: &[(f64, f64)]) -> Spectrum {
 }
 
 /// Index of the configuration with exactly `steps` in a check's scan.
-pub fn config_index(res: &overtone::check::CheckResults, steps: &[u32]) -> usize {
+pub fn config_index(res: &overtone::jobs::check::CheckResults, steps: &[u32]) -> usize {
     res.scan
         .configurations
         .iter()
@@ -130,7 +130,7 @@ pub fn config_index(res: &overtone::check::CheckResults, steps: &[u32]) -> usize
 }
 
 /// Index of the injected order `h` (orders within 1e-9 are one) in a check's penetration.
-pub fn order_index(res: &overtone::check::CheckResults, h: f64) -> usize {
+pub fn order_index(res: &overtone::jobs::check::CheckResults, h: f64) -> usize {
     res.penetration
         .injections
         .orders

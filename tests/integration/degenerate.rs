@@ -1,7 +1,7 @@
 //! Degenerate physics: each case gives a correct result or a clear error naming the
 //! element, never a panic, a NaN or an infinity in the results.
 
-use overtone::check::{CheckError, CheckOptions, run_check};
+use overtone::jobs::check::{CheckError, CheckOptions, run_check};
 use overtone::model::*;
 
 use crate::common::*;
@@ -29,7 +29,7 @@ fn all_finite(p: &Plant) -> Result<(), CheckError> {
         },
     )?;
     crate::fuzz_bodies::audit_reports(&res);
-    let json = overtone::io::json::to_json(&res);
+    let json = overtone::present::json::to_json(&res);
     assert!(
         !json.contains("NaN") && !json.contains("inf"),
         "non-finite value in the JSON"
@@ -141,7 +141,7 @@ fn no_loads_at_all() {
     all_finite(&p).expect("runs");
     let res = run_check(&p, &Default::default()).unwrap();
     let mut out = Vec::new();
-    overtone::report::summary::write_summary(&mut out, &res).unwrap();
+    overtone::present::terminal::summary::write_summary(&mut out, &res).unwrap();
     let text = String::from_utf8(out).unwrap();
     assert!(!text.contains("NaN") && !text.contains("inf "), "{text}");
 }

@@ -2,11 +2,11 @@
 //! sizing, a plant whose plain plans all resonate near the 5th, the written plant checked
 //! again, and bad design input.
 
-use overtone::check::{CheckOptions, run_check};
 use overtone::io::template::plant_workbook;
 use overtone::io::workbook_in::read_workbook_bytes;
+use overtone::jobs::check::{CheckOptions, run_check};
+use overtone::jobs::design::{DesignOptions, DesignResult, run_design};
 use overtone::model::*;
-use overtone::study::design::{DesignOptions, DesignResult, run_design};
 
 use crate::common::{bus, load, service, source};
 
@@ -64,7 +64,7 @@ fn design(p: &Plant) -> DesignResult {
     run_design(p, &DesignOptions::default()).expect("design runs")
 }
 
-fn recommended(d: &DesignResult) -> &overtone::study::design::PlanResult {
+fn recommended(d: &DesignResult) -> &overtone::jobs::design::PlanResult {
     &d.plans[d.recommended.expect("a plan passes")]
 }
 
@@ -213,8 +213,8 @@ fn the_recommended_plan_is_the_cheapest_passing_and_the_pareto_set_is_undominate
     assert!(passing.len() > 3);
     let r = recommended(&d);
     assert!(passing.iter().all(|p| p.cost >= r.cost));
-    let m = |p: &overtone::study::design::PlanResult| p.outcome.margin_percent.unwrap_or(100.0);
-    let f = |p: &overtone::study::design::PlanResult| p.pf_weighted.unwrap_or(0.0);
+    let m = |p: &overtone::jobs::design::PlanResult| p.outcome.margin_percent.unwrap_or(100.0);
+    let f = |p: &overtone::jobs::design::PlanResult| p.pf_weighted.unwrap_or(0.0);
     for a in &passing {
         let dominated = passing.iter().any(|b| {
             b.cost <= a.cost

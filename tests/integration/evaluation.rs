@@ -3,10 +3,10 @@
 //! 1e-9 relative (the limits, duty and penetration figures, and the terminal summary as
 //! printed), the worst buses the same, whatever the bounds let through.
 
-use overtone::check::{CheckOptions, CheckResults, run_check};
+use crate::synthetic::{generated_plant, with_converters, with_two_scenarios};
+use overtone::jobs::check::{CheckOptions, CheckResults, run_check};
 use overtone::model::*;
 use overtone::study::penetration::Evaluation;
-use overtone::synthetic::{generated_plant, with_converters, with_two_scenarios};
 
 fn run(p: &Plant, evaluation: Evaluation) -> CheckResults {
     let options = CheckOptions {
@@ -128,7 +128,7 @@ fn agree(p: &Plant) -> usize {
     }
     let text = |res: &CheckResults| {
         let mut out = Vec::new();
-        overtone::report::summary::write_summary(&mut out, res).unwrap();
+        overtone::present::terminal::summary::write_summary(&mut out, res).unwrap();
         String::from_utf8(out).unwrap()
     };
     assert_eq!(text(&direct), text(&bounded), "terminal summary");

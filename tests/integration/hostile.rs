@@ -7,8 +7,8 @@ use std::path::{Path, PathBuf};
 
 use crate::fuzz_bodies;
 
-use overtone::check::{CheckOptions, run_check};
 use overtone::io::workbook_in::read_workbook_bytes;
+use overtone::jobs::check::{CheckOptions, run_check};
 use overtone::model::*;
 use proptest::prelude::*;
 

@@ -40,3 +40,5 @@ mod review;
 mod scan;
 mod simulator;
 mod solver;
+#[path = "../support/synthetic.rs"]
+mod synthetic;

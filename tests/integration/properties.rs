@@ -2,12 +2,12 @@
 //! engine equals re-factorization, reciprocity, passivity, the refined peak of an R-L-C is
 //! the analytic resonance, and THD is at least every individual harmonic.
 
+use crate::synthetic::generated_plant;
 use num_complex::Complex64;
-use overtone::check::run_check;
+use overtone::jobs::check::run_check;
 use overtone::model::*;
 use overtone::network::Network;
 use overtone::solve::Engine;
-use overtone::synthetic::generated_plant;
 use proptest::prelude::*;
 
 use crate::common::*;
@@ -106,7 +106,7 @@ proptest! {
         for (i, b) in lv.iter().enumerate() {
             plant.loads.push(Load { spectrum: None, ..load(&format!("D{i}"), b, LoadType::SixPulseDrive, kw, 0.95) });
         }
-        let res = run_check(&plant, &overtone::check::CheckOptions { remedies: Some(false), ..Default::default() }).unwrap();
+        let res = run_check(&plant, &overtone::jobs::check::CheckOptions { remedies: Some(false), ..Default::default() }).unwrap();
         for d in &res.penetration.results {
             let steps = &res.scan.configurations[d.configuration].steps;
             let v = res.penetration.voltages(d.scenario, steps).unwrap();

@@ -4,11 +4,11 @@
 use std::io::Read;
 use std::path::{Path, PathBuf};
 
-use overtone::check::{CheckOptions, run_check};
-use overtone::io::csv::{selection, write_scan_csv};
 use overtone::io::template::{plant_workbook, template_bytes};
 use overtone::io::workbook_in::{read_workbook, read_workbook_bytes};
+use overtone::jobs::check::{CheckOptions, run_check};
 use overtone::model::Sequence;
+use overtone::present::csv::{selection, write_scan_csv};
 
 fn data(name: &str) -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -240,7 +240,7 @@ fn voltages_example(plant: &str, configurations: &[&str]) {
     .expect("runs");
     let sel = selection(&res, &[], &configs).expect("selection");
     let mut out = Vec::new();
-    overtone::io::csv::write_voltages_csv(&mut out, &res, &sel).unwrap();
+    overtone::present::csv::write_voltages_csv(&mut out, &res, &sel).unwrap();
     let got = String::from_utf8(out).unwrap();
     let expected = std::fs::read_to_string(data(&format!("{plant}.voltages.csv"))).unwrap();
     assert_eq!(got.lines().count(), expected.lines().count());

@@ -1,7 +1,7 @@
 //! Capacitor duty, detuning and filter sizing, switching transients: against IEEE 18 and
 //! the published and textbook values of references.md, each with its source beside it.
 
-use overtone::check::run_check;
+use overtone::jobs::check::run_check;
 use overtone::model::*;
 use overtone::standards::capacitors::IEEE_18;
 use overtone::study::detune::{next_standard_rating, size_capacitor};
@@ -313,8 +313,8 @@ fn remedies_threshold_note_and_configuration_cap() {
     // says so and how to ask; asked with --remedies, each option is re-run over every
     // configuration in which the bank is energized: 6 × 7² = 294 of the 7³ = 343 here
     // (check::AUTO_REMEDY_CONFIGURATIONS).
-    use overtone::check::{AUTO_REMEDY_CONFIGURATIONS, CheckOptions};
-    use overtone::synthetic::{generated_plant, with_converters};
+    use crate::synthetic::{generated_plant, with_converters};
+    use overtone::jobs::check::{AUTO_REMEDY_CONFIGURATIONS, CheckOptions};
     let mut plant = with_converters(generated_plant(20, 0, 3, 6, 4), 4);
     for b in &mut plant.banks {
         b.reactor = Reactor::None;
@@ -367,7 +367,7 @@ fn remedy_options_of_the_food_plant_by_hand() {
     //   U_C = 480/(1 − 0.045269) = 502.76 V → 525 V.
     let res = run_check(
         &crate::cases::food_plant(),
-        &overtone::check::CheckOptions {
+        &overtone::jobs::check::CheckOptions {
             remedies: Some(false),
             ..Default::default()
         },

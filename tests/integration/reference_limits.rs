@@ -1,7 +1,7 @@
 //! Limit tables against the values of references.md, and penetration against hand-worked
 //! and published rules, each with its source beside it.
 
-use overtone::check::run_check;
+use overtone::jobs::check::run_check;
 use overtone::model::*;
 use overtone::standards::{iec61000_2_4, ieee519};
 use overtone::study::penetration::{combine, summation_exponent};

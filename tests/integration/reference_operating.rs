@@ -3,7 +3,7 @@
 //! for the voltage rise of a capacitor step, and the duty at the solved voltage by hand.
 
 use num_complex::Complex64;
-use overtone::check::{CheckOptions, CheckResults, run_check};
+use overtone::jobs::check::{CheckOptions, CheckResults, run_check};
 use overtone::model::*;
 
 use crate::common::{assert_close, bank, bus, load, source};
@@ -211,7 +211,8 @@ fn overloaded_feeder_has_no_solution_and_is_said() {
 fn operating_csv_matches_the_study() {
     let res = run(&stiff(2, 1500.0));
     let mut out = Vec::new();
-    overtone::io::csv::write_operating_csv(&mut out, &res, &Default::default()).expect("writes");
+    overtone::present::csv::write_operating_csv(&mut out, &res, &Default::default())
+        .expect("writes");
     let text = String::from_utf8(out).expect("utf-8");
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines[0], "scenario,configuration,bus,v_pu,angle_deg");

@@ -1,6 +1,6 @@
 //! Resonance checks against published and textbook values, each with its source beside it.
 
-use overtone::check::{CheckOptions, CheckResults, run_check};
+use overtone::jobs::check::{CheckOptions, CheckResults, run_check};
 use overtone::model::*;
 use overtone::study::Series;
 

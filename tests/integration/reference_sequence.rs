@@ -5,7 +5,7 @@
 //! element formulas.
 
 use num_complex::Complex64;
-use overtone::check::{CheckResults, run_check};
+use overtone::jobs::check::{CheckResults, run_check};
 use overtone::model::*;
 use overtone::study::Verdict;
 

@@ -6,7 +6,7 @@
 //! flow.
 
 use num_complex::Complex64;
-use overtone::check::{CheckOptions, CheckResults, run_check};
+use overtone::jobs::check::{CheckOptions, CheckResults, run_check};
 use overtone::model::*;
 use overtone::study::switching::{
     Circuit, Element, EventSpec, Kind, Stepper, events, setup, simulate,

@@ -7,8 +7,8 @@ use std::path::PathBuf;
 use std::process::Command;
 
 use calamine::{Data, Reader, open_workbook_auto_from_rs};
-use overtone::check::{CheckResults, run_check};
-use overtone::io::review::{Provenance, review_bytes};
+use overtone::jobs::check::{CheckResults, run_check};
+use overtone::present::review::{Provenance, review_bytes};
 
 fn food() -> CheckResults {
     let plant = overtone::io::workbook_in::read_workbook(
@@ -104,7 +104,7 @@ fn sheets_headers_numbers_and_formulas_read_back() {
     // The sources of every built-in value travel with the review (issue of a reviewer
     // without the project's files): one row each, cited from the Assumptions.
     let sources = wb.worksheet_range("Sources").unwrap();
-    for (i, (what, source, confidence)) in overtone::report::sources::SOURCES.iter().enumerate() {
+    for (i, (what, source, confidence)) in overtone::present::sources::SOURCES.iter().enumerate() {
         assert_eq!(
             sources.get((3 + i, 0)).map(|c| c.to_string()).as_deref(),
             Some(*what)
@@ -338,7 +338,7 @@ fn switching_and_waveform_sheets_read_back_and_print() {
     let plant = overtone::demo::demo_plant().unwrap();
     let res = run_check(
         &plant,
-        &overtone::check::CheckOptions {
+        &overtone::jobs::check::CheckOptions {
             remedies: Some(false),
             switching: true,
             ..Default::default()

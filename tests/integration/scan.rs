@@ -60,9 +60,9 @@ fn configurations_and_labels() {
     );
 }
 
-fn demo_results() -> overtone::check::CheckResults {
+fn demo_results() -> overtone::jobs::check::CheckResults {
     let plant = overtone::demo::demo_plant().expect("demo");
-    overtone::check::run_check(&plant, &Default::default()).expect("runs")
+    overtone::jobs::check::run_check(&plant, &Default::default()).expect("runs")
 }
 
 #[test]
@@ -115,9 +115,9 @@ fn results_do_not_depend_on_thread_count() {
 
 #[test]
 fn too_many_combinations_are_refused_with_a_sentence() {
-    let mut plant = overtone::synthetic::generated_plant(40, 0, 6, 10, 3);
+    let mut plant = crate::synthetic::generated_plant(40, 0, 6, 10, 3);
     assert_eq!(configuration_count(&plant.banks), 11u64.pow(6));
-    let err = overtone::check::run_check(&plant, &Default::default()).unwrap_err();
+    let err = overtone::jobs::check::run_check(&plant, &Default::default()).unwrap_err();
     assert_eq!(
         err.to_string(),
         "1771561 step combinations exceed the limit of 100000: narrow \"Studied steps\" on the Capacitors sheet (for example 0,2,4 or 1-3)"
@@ -134,12 +134,12 @@ fn scan_only_runs_the_scan_and_nothing_else() {
     // The `scan` command's study: the same scan and resonance rows as a full check, with no
     // operating point, penetration, duty or remedies (a generated plant with converters on
     // two thirds of its buses, where penetration is the expensive part).
-    use overtone::synthetic::{generated_plant, with_converters, with_two_scenarios};
+    use crate::synthetic::{generated_plant, with_converters, with_two_scenarios};
     let plant = with_converters(with_two_scenarios(generated_plant(30, 0, 2, 3, 9)), 9);
-    let full = overtone::check::run_check(&plant, &Default::default()).unwrap();
-    let only = overtone::check::run_check(
+    let full = overtone::jobs::check::run_check(&plant, &Default::default()).unwrap();
+    let only = overtone::jobs::check::run_check(
         &plant,
-        &overtone::check::CheckOptions {
+        &overtone::jobs::check::CheckOptions {
             scan_only: true,
             ..Default::default()
         },

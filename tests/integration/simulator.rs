@@ -7,7 +7,7 @@
 use std::f64::consts::PI;
 use std::process::Command;
 
-use overtone::check::run_check;
+use overtone::jobs::check::run_check;
 use overtone::model::*;
 
 use crate::common::*;

@@ -6,7 +6,7 @@ use num_complex::Complex64;
 use overtone::network::Network;
 use overtone::solve::Engine;
 
-use overtone::synthetic::generated_plant;
+use crate::synthetic::generated_plant;
 
 /// Dense Y(h) of `net` in `scenario` with `steps` bank steps, from the network's own stamps.
 fn dense_y(net: &Network, order: f64, scenario: usize, steps: &[u32]) -> DMatrix<Complex64> {

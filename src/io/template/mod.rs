@@ -398,5 +398,5 @@ pub fn write_template(path: &Path) -> Result<(), TemplateError> {
         source,
     };
     let bytes = template_bytes().map_err(err)?;
-    crate::io::output::write_bytes(path, &bytes).map_err(|e| err(XlsxError::IoError(e)))
+    crate::export::write_bytes(path, &bytes).map_err(|e| err(XlsxError::IoError(e)))
 }

@@ -1,6 +1,6 @@
 //! The `Design` and `Load levels` sheets (input contract, design section): cells checked
 //! for their type and form here, at their cells; what they mean for the plant (a bus that
-//! exists, a plan that can reach the target) is checked by [`crate::study::design`].
+//! exists, a plan that can reach the target) is checked by [`crate::jobs::design`].
 
 use super::sheets::{opt, req};
 use super::table::{Column, Diagnostics, Row, Table};

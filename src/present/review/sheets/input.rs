@@ -5,7 +5,7 @@ use rust_xlsxwriter::{Format, Worksheet, XlsxError};
 
 use super::super::Provenance;
 use super::super::writer::{Cell, n, on, row, t};
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::model::{Reactor, ZeroPath};
 
 /// A zero-sequence path in words.
@@ -22,14 +22,14 @@ fn zero_path_words(z: ZeroPath) -> &'static str {
 /// Where the Input sheet put the rows that other sheets' formulas read (0-based rows of
 /// the first data row of each section; row i of a section is that plus i).
 #[derive(Debug, Clone, Copy, Default)]
-pub(in crate::io::review) struct InputCells {
+pub(in crate::present::review) struct InputCells {
     pub buses: u32,
     pub sources: u32,
     pub transformers: u32,
     pub cables: u32,
 }
 
-pub(in crate::io::review) fn input(
+pub(in crate::present::review) fn input(
     ws: &mut Worksheet,
     res: &CheckResults,
     prov: &Provenance,

@@ -5,7 +5,7 @@ use rust_xlsxwriter::{Worksheet, XlsxError, utility::row_col_to_cell};
 
 use super::super::writer::{Cell, header, n, on, print_digest, row, t};
 use super::verdict_colours;
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 
 /// The engineer's S_sc as a formula of the Input sheet's cells: S_base / |Σ Z| over the
 /// path's elements, each in per unit on 100 MVA (source 100/MVA, transformer

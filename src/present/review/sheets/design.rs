@@ -4,8 +4,8 @@
 use rust_xlsxwriter::{Format, Worksheet, XlsxError};
 
 use super::super::writer::{Cell, LINE_POINTS, header, n, on, row, t, wrapped_lines};
-use crate::report::design::{baseline_words, level_words, plan_words};
-use crate::study::design::DesignResult;
+use crate::jobs::design::DesignResult;
+use crate::present::terminal::design::{baseline_words, level_words, plan_words};
 
 fn title(ws: &mut Worksheet, r: u32, text: &str, size: f64) -> Result<(), XlsxError> {
     ws.write_string_with_format(r, 0, text, &Format::new().set_bold().set_font_size(size))?;

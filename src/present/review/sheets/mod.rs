@@ -13,10 +13,10 @@ use rust_xlsxwriter::{
 };
 
 use super::Provenance;
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::model::ResistanceModel;
-use crate::report::cautions::CAUTIONS;
-use crate::report::limit_set_name;
+use crate::present::cautions::CAUTIONS;
+use crate::present::limit_set_name;
 
 const BAD: [&str; 6] = [
     "RESONANT",
@@ -59,7 +59,7 @@ pub(super) fn verdict_colours(
 /// Writes the design's sheets, then every sheet of the recommended plan's study.
 pub fn write_design(
     wb: &mut Workbook,
-    d: &crate::study::design::DesignResult,
+    d: &crate::jobs::design::DesignResult,
     res: &CheckResults,
     prov: &Provenance,
 ) -> Result<(), XlsxError> {
@@ -115,16 +115,16 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
     let p = &res.plant.study;
     let mut a = vec![
         "Every built-in value (limit tables, spectra, defaults, formulas) is listed with its source and confidence on the Sources sheet; a licensed copy of a standard wins over any value here.".to_string(),
-        crate::report::model_scope().to_string(),
+        crate::present::model_scope().to_string(),
         format!("Per-unit base 100 MVA, bus nominal kV; resistance model {} (R·√h with skin).", match p.resistance_model { ResistanceModel::Constant => "constant", ResistanceModel::Skin => "skin" }),
         "Sources and transformers: series R-L from the fault level or impedance and X/R; cables: pi model; linear loads: parallel R-L (R = V²/P, X = V²/Q); motors: R + jhX'' with X'' = 0.17 pu on kW·qty/pf and X''/R = 10 (defaults of the input contract).".into(),
         "Capacitor steps: X_C = kV_rated²/Mvar per step; detuned: X_L = p·X_C, R = X_L/Q; tuned: p = 1/order².".into(),
-        format!("Harmonic loads inject I_h = I₁·m_h/100, I₁ = P/(√3·kV·pf); {}", crate::report::summation_meaning(p.summation)),
+        format!("Harmonic loads inject I_h = I₁·m_h/100, I₁ = P/(√3·kV·pf); {}", crate::present::summation_meaning(p.summation)),
         format!("Limits: {}; interharmonics and orders outside the stored tables have no individual limit (they count in THD/TDD). The PCC current is the current into the scenario's supply equivalents.", limit_set_name(p.limits)),
         format!("Capacitance tolerance {}/+{} % applied to the resonance band; capacitor duty at nominal capacitance and at the bus voltage the load flow solved for each scenario and configuration (nominal where it has no solution).", p.capacitance_tolerance.minus_percent, p.capacitance_tolerance.plus_percent),
         format!("Operating point: fundamental load flow by Newton's method to 1e-9 pu mismatch; sources as EMFs of Voltage (pu) at angle 0 behind their impedance; loads (linear, motor, converter) at constant power P = kW·Quantity·Load factor, Q = P·tan(acos pf) lagging; capacitor steps, reactors and cable charging as admittances at h = 1; transformers at the ratio of their buses' kV (no taps); target PF {} lagging, voltage range {}/{} pu, step voltage change {} %.", p.target_power_factor, p.voltage_range.low_pu, p.voltage_range.high_pu, p.step_voltage_change_percent),
         "Hand check (the engineer's independent number): S_sc at the bank's bus from the sources, transformers and cables in series (per-unit impedances added with their X/R; loads, motors and cable charging left out), a live formula of the Input sheet's cells on a radial plant; where several sources or a loop make the path not unique, from the network's fundamental Thevenin impedance with its loads (value). Plain steps alone: h = √(S_sc/Q_c); detuned steps alone: √(X_C/(|Z_th| + X_L)); plain and detuned steps on one bus together: the zero of the lossless bus susceptance (value). Q_c counts every step energized on the bus.".into(),
-        crate::report::switching_scope().to_string(),
+        crate::present::switching_scope().to_string(),
         "Remedies: each option sized to keep the planned kvar at bus voltage, the next standard capacitor rating at or above U/(1−p); studies re-run over every configuration in which the bank is energized; ranked by the bank's own checks (resonance, tolerance band, duty, linearity), then capacitor voltage class, margin across the tolerance band, linearity headroom, reactor size; plant-wide limits shown, not ranked; linearity current 1.8 × I₁ (common practice).".into(),
     ];
     // One line per spectrum, naming the loads that use it.
@@ -162,7 +162,7 @@ fn sources(ws: &mut Worksheet) -> Result<(), XlsxError> {
     for (c, h) in ["Value", "Source", "Confidence"].iter().enumerate() {
         ws.write_string_with_format(2, c as u16, *h, &head)?;
     }
-    for (i, (what, source, confidence)) in crate::report::sources::SOURCES.iter().enumerate() {
+    for (i, (what, source, confidence)) in crate::present::sources::SOURCES.iter().enumerate() {
         let r = 3 + i as u32;
         ws.write_string_with_format(r, 0, *what, &wrap)?;
         ws.write_string_with_format(r, 1, *source, &wrap)?;

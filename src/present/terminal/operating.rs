@@ -4,7 +4,7 @@
 use std::io::{self, Write};
 
 use super::table::{MAX_ROWS_PER_SCENARIO, write_table};
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::study::operating::{OperatingPoint, PfVerdict};
 
 /// `0.948 lead`, `0.999 lag` or `-` without load.

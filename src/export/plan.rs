@@ -1,29 +1,12 @@
-//! Output files written whole or not at all. Each file is written to a temporary name in
-//! its destination folder, flushed to disk and renamed into place (a rename within one
-//! folder replaces the name in one step), so a reader of the destination sees either the
-//! old file, no file, or the complete new one. Temporary files of writes in progress are
-//! registered so that an interrupted run can remove them ([`remove_pending`]).
+//! The export plan: every output a command will write, checked before the work starts (the
+//! extension of its kind, a folder that accepts files, not the input, no two outputs on one
+//! path, and no existing file replaced that this tool did not write unless forced), then
+//! written whole through [`super::atomic`].
 
-use std::io::{self, BufWriter, Write};
 use std::path::{Path, PathBuf};
-use std::sync::{Mutex, MutexGuard};
 
-/// Temporary files being written now.
-static PENDING: Mutex<Vec<PathBuf>> = Mutex::new(Vec::new());
-
-fn pending() -> MutexGuard<'static, Vec<PathBuf>> {
-    PENDING
-        .lock()
-        .unwrap_or_else(|poisoned| poisoned.into_inner())
-}
-
-/// The folder `path` will be written in (`.` for a bare file name).
-pub fn folder_of(path: &Path) -> PathBuf {
-    match path.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => PathBuf::from("."),
-    }
-}
+use super::atomic::{folder_accepts_files, folder_of, write_bytes};
+use crate::present::review::REVIEW_MARK;
 
 /// An output path refused before the study runs.
 #[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
@@ -32,9 +15,6 @@ pub struct OutputPathError {
     pub path: String,
     pub reason: String,
 }
-
-/// The custom document property that marks a review workbook as this tool's (name, value).
-pub const REVIEW_MARK: (&str, &str) = ("overtone", "review workbook");
 
 /// What an output file is, for its extension and for recognizing a file it may replace.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -76,7 +56,7 @@ pub fn written_by_us(path: &Path) -> bool {
         });
     }
     let first = bytes.split(|&b| b == b'\n').next().unwrap_or_default();
-    crate::io::csv::HEADERS
+    crate::present::csv::HEADERS
         .iter()
         .any(|h| first == h.as_bytes() || first == format!("{h}\r").as_bytes())
 }
@@ -138,74 +118,52 @@ pub fn check_output_path(out: &Path, input: Option<&Path>) -> Result<(), OutputP
     if !dir.is_dir() {
         return Err(fail("the output folder does not exist"));
     }
-    // The probe is registered like any temporary file, so that an interrupt arriving
-    // while it exists removes it too.
-    let probe = dir.join(format!(".overtone-write-test-{}", std::process::id()));
-    pending().push(probe.clone());
-    let written = std::fs::write(&probe, b"");
-    let mut list = pending();
-    let _ = std::fs::remove_file(&probe);
-    list.retain(|p| p != &probe);
-    match written {
-        Ok(()) => Ok(()),
-        Err(_) => Err(fail("the output folder is not writable")),
+    if !folder_accepts_files(&dir) {
+        return Err(fail("the output folder is not writable"));
     }
+    Ok(())
 }
 
-/// The temporary name a write of `path` uses: hidden, beside it, unique to this process.
-pub fn temporary_name(path: &Path) -> PathBuf {
-    let name = path
-        .file_name()
-        .map_or_else(|| "output".into(), |n| n.to_string_lossy().into_owned());
-    folder_of(path).join(format!(".{name}.{}.tmp", std::process::id()))
+/// The outputs of one command, checked together before the work.
+#[derive(Debug, Clone, Default)]
+pub struct ExportPlan {
+    outputs: Vec<(PathBuf, OutputKind)>,
 }
 
-/// Writes `path` through `write` and a temporary file renamed into place. On any error the
-/// temporary file is removed and `path` is left as it was.
-pub fn write_file(
-    path: &Path,
-    write: impl FnOnce(&mut dyn Write) -> io::Result<()>,
-) -> io::Result<()> {
-    let tmp = temporary_name(path);
-    pending().push(tmp.clone());
-    let written = (|| {
-        let file = std::fs::File::create(&tmp)?;
-        let mut w = BufWriter::new(file);
-        write(&mut w)?;
-        let file = w.into_inner().map_err(|e| e.into_error())?;
-        file.sync_all()
-    })();
-    // The rename and the registry change happen under the lock, so an interrupt either
-    // removes the temporary file or finds the complete file already in place.
-    let mut list = pending();
-    list.retain(|p| p != &tmp);
-    let done = written.and_then(|()| std::fs::rename(&tmp, path));
-    if done.is_err() {
-        let _ = std::fs::remove_file(&tmp);
+impl ExportPlan {
+    /// Checks every given output (`None` = not asked for) in order: each as
+    /// [`check_output`] does, and no path given for two outputs.
+    pub fn check(
+        outputs: &[(Option<&Path>, OutputKind)],
+        input: Option<&Path>,
+        force: bool,
+    ) -> Result<Self, OutputPathError> {
+        let mut plan = ExportPlan::default();
+        for &(path, kind) in outputs {
+            let Some(path) = path else { continue };
+            check_output(path, kind, input, force)?;
+            if plan.outputs.iter().any(|(p, _)| p == path) {
+                return Err(OutputPathError {
+                    path: path.display().to_string(),
+                    reason: "given for two outputs: choose a name for each".to_string(),
+                });
+            }
+            plan.outputs.push((path.to_path_buf(), kind));
+        }
+        Ok(plan)
     }
-    done
-}
 
-/// Writes `bytes` to `path` as [`write_file`] does.
-pub fn write_bytes(path: &Path, bytes: &[u8]) -> io::Result<()> {
-    write_file(path, |w| w.write_all(bytes))
-}
-
-/// Removes the temporary files of writes in progress and keeps the registry locked, so that
-/// no write in this process completes afterwards: for an interrupt handler that exits next.
-/// Returns how many files it removed.
-pub fn remove_pending() -> usize {
-    let list = pending();
-    let removed = list
-        .iter()
-        .filter(|p| std::fs::remove_file(p).is_ok())
-        .count();
-    // Held until the process exits: a writer waiting to rename stays blocked.
-    std::mem::forget(list);
-    removed
-}
-
-/// The temporary files being written now (for tests).
-pub fn pending_files() -> Vec<PathBuf> {
-    pending().clone()
+    /// Writes `bytes` to `path` whole or not at all; `path` must be one the plan checked.
+    pub fn write(&self, path: &Path, bytes: &[u8]) -> Result<(), OutputPathError> {
+        if !self.outputs.iter().any(|(p, _)| p == path) {
+            return Err(OutputPathError {
+                path: path.display().to_string(),
+                reason: "this output was not checked before the study (a defect)".to_string(),
+            });
+        }
+        write_bytes(path, bytes).map_err(|e| OutputPathError {
+            path: path.display().to_string(),
+            reason: e.to_string(),
+        })
+    }
 }

@@ -4,7 +4,7 @@
 use std::io::{self, Write};
 
 use super::table::{write_hanging, write_table};
-use crate::study::design::{DesignResult, PlanResult};
+use crate::jobs::design::{DesignResult, PlanResult};
 
 const WIDTH: usize = 100;
 
@@ -15,7 +15,7 @@ pub fn level_words(d: &DesignResult, p: &PlanResult) -> String {
         .iter()
         .zip(&p.control)
         .map(|((name, _), per)| {
-            let pf = crate::study::design::levels::lowest_pf(per);
+            let pf = crate::jobs::design::levels::lowest_pf(per);
             let steps = per
                 .iter()
                 .map(|c| c.steps.last().copied().unwrap_or(0))
@@ -249,7 +249,7 @@ pub fn baseline_words(d: &DesignResult) -> String {
         .iter()
         .zip(&d.baseline().control)
         .map(|((name, _), per)| {
-            let pf = crate::study::design::levels::lowest_pf(per);
+            let pf = crate::jobs::design::levels::lowest_pf(per);
             format!(
                 "{name} {}",
                 pf.map_or_else(|| "n/a".into(), |v| format!("{v:.3}"))

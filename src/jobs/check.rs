@@ -1,6 +1,6 @@
 //! The main job end to end: validate a plant, build its network, scan every scenario ×
 //! configuration and screen each bank's resonance. Writers in [`crate::io`] and
-//! [`crate::report`] read the [`CheckResults`] only.
+//! [`crate::present`] read the [`CheckResults`] only.
 
 use crate::model::Sequence;
 use crate::model::{ModelErrors, Plant};

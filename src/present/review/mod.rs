@@ -12,8 +12,11 @@ use std::path::Path;
 
 use rust_xlsxwriter::{DocProperties, ExcelDateTime, Workbook, XlsxError};
 
-use crate::check::CheckResults;
 use crate::io::workbook_in::Warning;
+use crate::jobs::check::CheckResults;
+
+/// The custom document property that marks a review workbook as this tool's (name, value).
+pub const REVIEW_MARK: (&str, &str) = ("overtone", "review workbook");
 
 /// Where the studied plant came from, for the summary sheet.
 #[derive(Debug, Clone)]
@@ -59,10 +62,7 @@ pub fn review_bytes(res: &CheckResults, prov: &Provenance) -> Result<Vec<u8>, Xl
         &DocProperties::new()
             .set_title(&title)
             .set_author(&res.plant.study.prepared_by)
-            .set_custom_property(
-                crate::io::output::REVIEW_MARK.0,
-                crate::io::output::REVIEW_MARK.1,
-            )
+            .set_custom_property(REVIEW_MARK.0, REVIEW_MARK.1)
             .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, d)?),
     );
     sheets::write_all(&mut wb, res, prov)?;
@@ -72,7 +72,7 @@ pub fn review_bytes(res: &CheckResults, prov: &Provenance) -> Result<Vec<u8>, Xl
 /// The design review's bytes: the plans compared and the load levels, then the full study
 /// of the recommended plan (of the plant without a bank when no plan passes).
 pub fn design_review_bytes(
-    d: &crate::study::design::DesignResult,
+    d: &crate::jobs::design::DesignResult,
     prov: &Provenance,
 ) -> Result<Vec<u8>, ReviewError> {
     let err = |source: XlsxError| ReviewError::Write {
@@ -82,13 +82,13 @@ pub fn design_review_bytes(
     let plant = d
         .recommended
         .map_or_else(|| d.base().clone(), |i| d.plant_with(i));
-    let options = crate::check::CheckOptions {
+    let options = crate::jobs::check::CheckOptions {
         remedies: Some(false),
         switching: true,
         ..Default::default()
     };
-    let mut res =
-        crate::check::run_check(&plant, &options).map_err(|e| ReviewError::Study(e.to_string()))?;
+    let mut res = crate::jobs::check::run_check(&plant, &options)
+        .map_err(|e| ReviewError::Study(e.to_string()))?;
     res.notes.extend(d.notes.iter().cloned());
     let mut wb = Workbook::new();
     let (y, m, day) = prov.date;
@@ -96,10 +96,7 @@ pub fn design_review_bytes(
         &DocProperties::new()
             .set_title("overtone design review")
             .set_author(&plant.study.prepared_by)
-            .set_custom_property(
-                crate::io::output::REVIEW_MARK.0,
-                crate::io::output::REVIEW_MARK.1,
-            )
+            .set_custom_property(REVIEW_MARK.0, REVIEW_MARK.1)
             .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, day).map_err(err)?),
     );
     sheets::write_design(&mut wb, d, &res, prov).map_err(err)?;
@@ -109,7 +106,7 @@ pub fn design_review_bytes(
 /// Writes the design review workbook to `path`, whole or not at all.
 pub fn write_design_review(
     path: &Path,
-    d: &crate::study::design::DesignResult,
+    d: &crate::jobs::design::DesignResult,
     prov: &Provenance,
 ) -> Result<(), ReviewError> {
     let bytes = design_review_bytes(d, prov).map_err(|e| match e {
@@ -119,7 +116,7 @@ pub fn write_design_review(
         },
         other => other,
     })?;
-    crate::io::output::write_bytes(path, &bytes).map_err(|e| ReviewError::Write {
+    crate::export::write_bytes(path, &bytes).map_err(|e| ReviewError::Write {
         path: path.display().to_string(),
         source: XlsxError::IoError(e),
     })
@@ -127,14 +124,14 @@ pub fn write_design_review(
 
 /// Writes the review workbook to `path` through a temporary file in the same folder, renamed
 /// into place, so that no partial workbook is ever left under `path`
-/// ([`crate::io::output::write_file`]).
+/// ([`crate::export::write_file`]).
 pub fn write_review(path: &Path, res: &CheckResults, prov: &Provenance) -> Result<(), ReviewError> {
     let err = |source: XlsxError| ReviewError::Write {
         path: path.display().to_string(),
         source,
     };
     let bytes = review_bytes(res, prov).map_err(err)?;
-    crate::io::output::write_bytes(path, &bytes).map_err(|e| err(XlsxError::IoError(e)))
+    crate::export::write_bytes(path, &bytes).map_err(|e| err(XlsxError::IoError(e)))
 }
 
 /// The date (UTC) a file was last modified, as (year, month, day).

@@ -3,7 +3,7 @@
 
 use std::io::{self, Write};
 
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 
 /// The header lines of the input contract's CSV files: scan, harmonic voltages, operating
 /// point, switching transients.
@@ -111,13 +111,13 @@ pub fn selection(
     res: &CheckResults,
     buses: &[String],
     configurations: &[String],
-) -> Result<ScanSelection, crate::check::CheckError> {
+) -> Result<ScanSelection, crate::jobs::check::CheckError> {
     let mut sel = ScanSelection::default();
     for id in buses {
         let i = res
             .network
             .bus_index(id)
-            .ok_or_else(|| crate::check::CheckError::UnknownBus(id.clone()))?;
+            .ok_or_else(|| crate::jobs::check::CheckError::UnknownBus(id.clone()))?;
         sel.buses.push(i);
     }
     for text in configurations {
@@ -144,7 +144,7 @@ pub enum CsvError {
 }
 
 /// Writes the scan CSV of `sel` to `path` (refusing more than [`MAX_SCAN_ROWS`] rows), whole
-/// or not at all ([`crate::io::output::write_file`]).
+/// or not at all ([`crate::export::write_file`]).
 pub fn write_scan_file(
     path: &std::path::Path,
     res: &CheckResults,
@@ -158,7 +158,7 @@ pub fn write_scan_file(
         path: path.display().to_string(),
         source,
     };
-    crate::io::output::write_file(path, |w| write_scan_csv(w, res, sel)).map_err(io_err)
+    crate::export::write_file(path, |w| write_scan_csv(w, res, sel)).map_err(io_err)
 }
 
 /// The selection of the per-bus CSVs: every bus (sheet order) and every configuration
@@ -228,7 +228,7 @@ pub fn write_voltages_file(
         path: path.display().to_string(),
         source,
     };
-    crate::io::output::write_file(path, |w| write_voltages_csv(w, res, sel)).map_err(io_err)
+    crate::export::write_file(path, |w| write_voltages_csv(w, res, sel)).map_err(io_err)
 }
 
 /// Writes `scenario,configuration,bus,v_pu,angle_deg` (input contract, version 2): the
@@ -280,7 +280,7 @@ pub fn write_operating_file(
         path: path.display().to_string(),
         source,
     };
-    crate::io::output::write_file(path, |w| write_operating_csv(w, res, sel)).map_err(io_err)
+    crate::export::write_file(path, |w| write_operating_csv(w, res, sel)).map_err(io_err)
 }
 
 /// Writes `scenario,bank,step,case,peak_a,frequency_hz,bus_peak_pu,capacitor_peak_pu`
@@ -312,5 +312,5 @@ pub fn write_transients_file(path: &std::path::Path, res: &CheckResults) -> Resu
         path: path.display().to_string(),
         source,
     };
-    crate::io::output::write_file(path, |w| write_transients_csv(w, res)).map_err(io_err)
+    crate::export::write_file(path, |w| write_transients_csv(w, res)).map_err(io_err)
 }

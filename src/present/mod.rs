@@ -1,16 +1,17 @@
-//! Human-readable output: the terminal summary and the safety cautions every report carries.
+//! Presenting results: the terminal summary, the review workbook, the CSVs of the input
+//! contract and the JSON summary, with the words, cautions and sources they share. This
+//! layer reads result structs only: it never solves or runs a study, and it writes no file
+//! (each writer returns bytes or writes to a `Write`; [`crate::export`] puts them on disk).
 
-pub mod capacitors;
 pub mod cautions;
-pub mod design;
-pub mod model;
-pub mod operating;
+pub mod csv;
+pub mod json;
+pub mod review;
 pub mod sources;
-pub mod summary;
-pub mod table;
-pub mod verdict;
+pub mod terminal;
+pub mod words;
 
-pub use model::{model_scope, summation_meaning, switching_scope};
+pub use words::{model_scope, summation_meaning, switching_scope};
 
 /// A bank's series reactor in words: `7 % detuned`, `tuned at 4.7`; `None` for a plain bank.
 pub fn reactor_words(r: crate::model::Reactor) -> Option<String> {

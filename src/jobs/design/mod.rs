@@ -30,7 +30,7 @@ use std::sync::Arc;
 use rayon::prelude::*;
 use serde::Serialize;
 
-use crate::check::{CheckError, CheckOptions, run_check};
+use crate::jobs::check::{CheckError, CheckOptions, run_check};
 use crate::model::*;
 use crate::network::Network;
 use crate::study::Verdict;

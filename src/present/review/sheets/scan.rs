@@ -8,7 +8,7 @@ use rust_xlsxwriter::{
 };
 
 use super::super::writer::{header, n, row};
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::model::Sequence;
 use crate::study::resonance::{ResonanceRow, Verdict};
 

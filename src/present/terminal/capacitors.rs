@@ -4,7 +4,7 @@
 use std::io::{self, Write};
 
 use super::table::{MAX_ROWS_PER_SCENARIO, write_table};
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::study::duty::DutyRow;
 
 fn ratio(v: f64, limit: Option<f64>) -> String {

@@ -4,9 +4,9 @@
 
 use std::io::{self, Write};
 
-use super::cautions::CAUTIONS;
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::model::LimitSet;
+use crate::present::cautions::CAUTIONS;
 use crate::study::limits::{Checked, LimitRow};
 use crate::study::penetration::bank_amplification;
 use crate::study::{ResonanceRow, Verdict};
@@ -110,8 +110,8 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         .map(|(b, m)| {
             let bus_kv = res.network.buses[m.bus].kv;
             let out_kvar = bus_kv * bus_kv / (b.step_xc_ohm() * (1.0 - m.p)) * 1000.0;
-            let reactor =
-                super::reactor_words(b.reactor).map_or_else(String::new, |w| format!(", {w}"));
+            let reactor = crate::present::reactor_words(b.reactor)
+                .map_or_else(String::new, |w| format!(", {w}"));
             format!(
                 "{} {} x {} kvar at {} kV{reactor} -> {:.1} kvar per step at {} kV",
                 b.id, b.steps, b.step_kvar, b.rated_kv, out_kvar, bus_kv
@@ -293,7 +293,7 @@ fn write_background(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
 /// individual harmonic, the PCC TDD and worst harmonic current, each with its limit.
 pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     let ctx = &res.limits;
-    let set = super::limit_set_name(ctx.set);
+    let set = crate::present::limit_set_name(ctx.set);
     let at = if ctx.set == LimitSet::Ieee519_2014 {
         format!(
             "at the PCC {}; in-plant buses informational",

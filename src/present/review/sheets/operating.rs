@@ -7,7 +7,7 @@ use rust_xlsxwriter::{Format, Worksheet, XlsxError, utility::row_col_to_cell};
 
 use super::super::writer::{Cell, header, n, on, print_digest, row, t};
 use super::verdict_colours;
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 
 /// The header row of a table below the first one: wrapped, shaded, a taller row (the
 /// sheet's first header row is the one frozen and repeated on print).

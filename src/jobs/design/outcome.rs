@@ -4,7 +4,7 @@
 
 use super::levels::{self, Control, Level, lowest_pf};
 use super::{Baseline, Plan, PlanResult};
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::model::*;
 use crate::study::Verdict;
 

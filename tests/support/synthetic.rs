@@ -1,7 +1,9 @@
 //! Generated plants for tests and benchmarks: radial or lightly meshed feeders of any size,
 //! from a seed. Invented data.
 
-use crate::model::*;
+// Each benchmark uses a part of these generators.
+#![allow(dead_code)]
+use overtone::model::*;
 
 fn bus(id: &str, kv: f64) -> Bus {
     Bus {

@@ -8,7 +8,7 @@ use rust_xlsxwriter::{
 
 use super::super::writer::{Cell, header, n, on, row, t};
 use super::verdict_colours;
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::study::switching::CAPACITOR_TRANSIENT_PU;
 
 pub(super) fn switching(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {

@@ -4,7 +4,7 @@
 
 use serde::Serialize;
 
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::study::limits::{BusCheck, LimitContext, LimitRow, bus_checks};
 use crate::study::penetration::{BankAmplification, bank_amplification};
 use crate::study::spectra::SpectrumChoice;
@@ -93,7 +93,7 @@ pub struct Summary<'a> {
     duty: &'a [crate::study::duty::DutyRow],
     tolerance: &'a [crate::study::tolerance::ToleranceBand],
     transients: &'a [crate::study::switching::SwitchingEvent],
-    remedies: &'a [crate::check::BankRemedies],
+    remedies: &'a [crate::jobs::check::BankRemedies],
     assumptions: &'a [String],
     cautions: &'static [&'static str],
 }
@@ -142,9 +142,9 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         .collect();
     let f = res.plant.study.frequency_hz;
     let model = ModelJson {
-        scope: crate::report::model_scope(),
-        summation: crate::report::summary::summation_word(res.plant.study.summation),
-        summation_meaning: crate::report::summation_meaning(res.plant.study.summation),
+        scope: crate::present::model_scope(),
+        summation: crate::present::terminal::summary::summation_word(res.plant.study.summation),
+        summation_meaning: crate::present::summation_meaning(res.plant.study.summation),
         order_sequences: &res.penetration.injections.sequences,
         vector_groups: res
             .plant
@@ -210,25 +210,25 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         transients: &res.switching.events,
         remedies: &res.remedies,
         assumptions: &res.notes,
-        cautions: crate::report::cautions::CAUTIONS,
+        cautions: crate::present::cautions::CAUTIONS,
     }
 }
 
 /// The design as JSON: the recommended plan, the reason, the counts, the baseline and every
 /// plan ranked with its controller choices and failures.
-pub fn design_json(d: &crate::study::design::DesignResult) -> String {
+pub fn design_json(d: &crate::jobs::design::DesignResult) -> String {
     #[derive(serde::Serialize)]
     struct DesignJson<'a> {
         target_power_factor: f64,
         levels: &'a [(String, f64)],
         scenarios: &'a [String],
-        recommended: Option<&'a crate::study::design::PlanResult>,
+        recommended: Option<&'a crate::jobs::design::PlanResult>,
         reason: &'a str,
-        counts: crate::study::design::Counts,
-        baseline: &'a crate::study::design::Baseline,
+        counts: crate::jobs::design::Counts,
+        baseline: &'a crate::jobs::design::Baseline,
         unreachable: &'a [(String, String)],
         notes: &'a [String],
-        plans: &'a [crate::study::design::PlanResult],
+        plans: &'a [crate::jobs::design::PlanResult],
     }
     let j = DesignJson {
         target_power_factor: d.target_power_factor,

@@ -5,9 +5,9 @@ use rust_xlsxwriter::{Format, Worksheet, XlsxError};
 use super::super::Provenance;
 use super::super::writer::{Cell, header, n, on, row, t};
 use super::verdict_colours;
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::model::{ResistanceModel, Summation};
-use crate::report::limit_set_name;
+use crate::present::limit_set_name;
 use crate::study::Verdict;
 
 pub(super) fn summary(

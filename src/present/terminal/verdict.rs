@@ -6,7 +6,7 @@
 use std::io::{self, Write};
 
 use super::table::write_hanging;
-use crate::check::CheckResults;
+use crate::jobs::check::CheckResults;
 use crate::study::Verdict;
 
 /// Terminal width the block is wrapped to.
@@ -139,7 +139,8 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         .iter()
         .find(|n| n.starts_with("remedies not studied"));
     for (b, m) in res.plant.banks.iter().zip(&res.network.banks) {
-        let reactor = super::reactor_words(b.reactor).unwrap_or_else(|| "plain".to_string());
+        let reactor =
+            crate::present::reactor_words(b.reactor).unwrap_or_else(|| "plain".to_string());
         let head = format!(
             "{} ({}, {} x {} kvar, {reactor}): ",
             b.id, res.network.buses[m.bus].id, b.steps, b.step_kvar
@@ -193,7 +194,7 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
             crate::model::LimitSet::Ieee519_2014 => {
                 format!("IEEE 519-2014 at the PCC {}", res.network.buses[res.pcc].id)
             }
-            other => format!("{} at every bus", super::limit_set_name(other)),
+            other => format!("{} at every bus", crate::present::limit_set_name(other)),
         };
         let over: Vec<String> = res
             .scan

@@ -1,0 +1,6 @@
+//! Jobs: what a command runs. A job builds the study context once, runs the studies the
+//! command names and returns data (result structs that the [`crate::present`] layer only
+//! reads). Jobs compose studies; no study imports a job.
+
+pub mod check;
+pub mod design;
