@@ -27,3 +27,19 @@ pub fn demo_workbook() -> Result<ReadOutcome, ReadError> {
 pub fn demo_plant() -> Result<Plant, ReadError> {
     demo_workbook().map(|r| r.plant)
 }
+
+/// The report date of the built-in demo (fixed, so that the demo's workbook is
+/// reproducible); also the date of an input whose file system gives none.
+pub const DEMO_DATE: (u16, u8, u8) = (2026, 1, 1);
+
+/// The provenance of the built-in demo for its reports.
+pub fn demo_provenance(
+    warnings: &[crate::io::workbook_in::Warning],
+) -> crate::io::provenance::Provenance {
+    crate::io::provenance::Provenance {
+        input: format!("built-in demo ({DEMO_NAME})"),
+        sha256: crate::io::provenance::sha256_hex(DEMO_WORKBOOK),
+        date: DEMO_DATE,
+        warnings: warnings.to_vec(),
+    }
+}

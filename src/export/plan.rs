@@ -5,7 +5,7 @@
 
 use std::path::{Path, PathBuf};
 
-use super::atomic::{folder_accepts_files, folder_of, write_bytes};
+use super::atomic::{folder_accepts_files, folder_of, write_file};
 use crate::present::review::REVIEW_MARK;
 
 /// An output path refused before the study runs.
@@ -153,17 +153,33 @@ impl ExportPlan {
         Ok(plan)
     }
 
-    /// Writes `bytes` to `path` whole or not at all; `path` must be one the plan checked.
-    pub fn write(&self, path: &Path, bytes: &[u8]) -> Result<(), OutputPathError> {
-        if !self.outputs.iter().any(|(p, _)| p == path) {
-            return Err(OutputPathError {
-                path: path.display().to_string(),
-                reason: "this output was not checked before the study (a defect)".to_string(),
-            });
-        }
-        write_bytes(path, bytes).map_err(|e| OutputPathError {
+    /// Writes `path` whole or not at all through `write`; `path` must be one the plan
+    /// checked. A failure names the path and, for a workbook, what could not be written.
+    pub fn write_with(
+        &self,
+        path: &Path,
+        write: impl FnOnce(&mut dyn std::io::Write) -> std::io::Result<()>,
+    ) -> Result<(), OutputPathError> {
+        let fail = |reason: String| OutputPathError {
             path: path.display().to_string(),
-            reason: e.to_string(),
+            reason,
+        };
+        let Some(&(_, kind)) = self.outputs.iter().find(|(p, _)| p == path) else {
+            return Err(fail(
+                "this output was not checked before the study (a defect)".to_string(),
+            ));
+        };
+        write_file(path, write).map_err(|e| {
+            fail(match kind {
+                OutputKind::Review => format!("the review workbook cannot be written ({e})"),
+                OutputKind::Template => format!("the workbook cannot be written ({e})"),
+                OutputKind::Csv => e.to_string(),
+            })
         })
+    }
+
+    /// Writes `bytes` to `path` as [`ExportPlan::write_with`] does.
+    pub fn write(&self, path: &Path, bytes: &[u8]) -> Result<(), OutputPathError> {
+        self.write_with(path, |w| w.write_all(bytes))
     }
 }

@@ -2,5 +2,6 @@
 //! sheet and cell), the blank template built from the same column schema, and the
 //! provenance of an input file.
 
+pub mod provenance;
 pub mod template;
 pub mod workbook_in;

@@ -4,3 +4,8 @@
 
 pub mod check;
 pub mod design;
+pub mod exports;
+pub mod notes;
+pub mod remedies;
+pub mod size;
+pub mod studies;

@@ -2,11 +2,12 @@
 //! peak and dip of every scanned series, the spectra used, and the harmonic distortion of
 //! every configuration against its limits.
 
+use crate::jobs::notes::Note;
 use serde::Serialize;
 
 use crate::jobs::check::CheckResults;
 use crate::study::limits::{BusCheck, LimitContext, LimitRow, bus_checks};
-use crate::study::penetration::{BankAmplification, bank_amplification};
+use crate::study::penetration::BankAmplification;
 use crate::study::spectra::SpectrumChoice;
 use crate::study::{Extremum, ResonanceStudy};
 
@@ -22,7 +23,7 @@ struct SeriesPeaks<'a> {
 #[derive(Serialize)]
 struct DistortionJson<'a> {
     limits: &'a LimitRow,
-    bank_amplification: Vec<BankAmplification>,
+    bank_amplification: &'a [BankAmplification],
     /// Every bus against its limits; omitted (null) for large studies.
     buses: Option<Vec<BusCheck>>,
     pcc_current_a: &'a [f64],
@@ -94,7 +95,7 @@ pub struct Summary<'a> {
     tolerance: &'a [crate::study::tolerance::ToleranceBand],
     transients: &'a [crate::study::switching::SwitchingEvent],
     remedies: &'a [crate::jobs::check::BankRemedies],
-    assumptions: &'a [String],
+    assumptions: &'a [Note],
     cautions: &'static [&'static str],
 }
 
@@ -119,7 +120,6 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         })
         .collect();
     let nc = res.scan.configurations.len();
-    let none = res.scan.configurations.iter().position(|c| c.is_none());
     let orders = &res.penetration.injections.orders;
     let per_bus = res.penetration.results.len() * res.network.buses.len() <= MAX_BUS_ENTRIES;
     let distortion = res
@@ -129,9 +129,7 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         .zip(&res.limit_rows)
         .map(|(d, row)| DistortionJson {
             limits: row,
-            bank_amplification: none.map_or_else(Vec::new, |n0| {
-                bank_amplification(d, res.penetration.result(d.scenario, n0, nc), orders)
-            }),
+            bank_amplification: &res.amplification[d.scenario * nc + d.configuration],
             buses: (per_bus && d.evaluated.is_none())
                 .then(|| bus_checks(d, &res.limits, &res.network)),
             pcc_current_a: &d.pcc_current_a,
@@ -227,7 +225,7 @@ pub fn design_json(d: &crate::jobs::design::DesignResult) -> String {
         counts: crate::jobs::design::Counts,
         baseline: &'a crate::jobs::design::Baseline,
         unreachable: &'a [(String, String)],
-        notes: &'a [String],
+        notes: &'a [Note],
         plans: &'a [crate::jobs::design::PlanResult],
     }
     let j = DesignJson {

@@ -11,11 +11,13 @@
 use std::io::Read;
 
 use arbitrary::{Arbitrary, Unstructured};
+use overtone::io::provenance::Provenance;
 use overtone::io::workbook_in::read_workbook_bytes;
 use overtone::jobs::check::{CheckOptions, CheckResults, run_check};
+use overtone::jobs::exports::{BusTable, ScanSelection, ScanTable};
 use overtone::model::*;
-use overtone::present::csv::{ScanSelection, write_scan_csv, write_voltages_csv};
-use overtone::present::review::{Provenance, review_bytes};
+use overtone::present::csv::{write_scan_csv, write_voltages_csv};
+use overtone::present::review::review_bytes;
 
 /// Feeds `data` to the workbook reader as .xlsx (the reader detects the real format from the
 /// bytes): a plant that validates, or an error message naming the file.
@@ -75,13 +77,16 @@ pub fn audit_reports(res: &CheckResults) {
 
     let sel = ScanSelection::default();
     let mut csv = Vec::new();
-    write_scan_csv(&mut csv, res, &sel).expect("scan CSV to memory");
+    let table = ScanTable::new(res, &sel);
+    write_scan_csv(&mut csv, res, table.curves(res)).expect("scan CSV to memory");
     assert_no_nonfinite_text("scan CSV", &String::from_utf8_lossy(&csv));
     let mut csv = Vec::new();
-    write_voltages_csv(&mut csv, res, &sel).expect("voltage CSV to memory");
+    let buses = BusTable::new(res, &sel);
+    write_voltages_csv(&mut csv, res, &buses.buses, buses.voltages(res))
+        .expect("voltage CSV to memory");
     assert_no_nonfinite_text("voltage CSV", &String::from_utf8_lossy(&csv));
     let mut csv = Vec::new();
-    overtone::present::csv::write_operating_csv(&mut csv, res, &sel)
+    overtone::present::csv::write_operating_csv(&mut csv, res, &buses.buses, buses.operating(res))
         .expect("operating CSV to memory");
     assert_no_nonfinite_text("operating CSV", &String::from_utf8_lossy(&csv));
     let mut csv = Vec::new();

@@ -1023,7 +1023,9 @@ fn a_plant_over_its_limits_without_banks_is_said_first() {
         .any(|r| r.configuration == "none" && r.exceeds);
     assert!(none_over);
     assert!(
-        res.notes[0].starts_with("With no capacitor bank in service the plant already exceeds")
+        res.notes[0]
+            .to_string()
+            .starts_with("With no capacitor bank in service the plant already exceeds")
     );
     let dir = temp_dir("plant-level");
     let input = dir.join("plant.xlsx");

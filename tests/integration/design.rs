@@ -188,7 +188,10 @@ fn check_on_the_written_plant_reproduces_the_design_verdicts() {
         let res = run_check(&read.plant, &options).expect("check runs");
         let plan = &d.plans[i];
         let labels = res.energized_labels(res.plant.banks.len() - 1);
-        assert_eq!(res.outcome(&plan.bank.id, &labels), plan.outcome);
+        assert_eq!(
+            overtone::jobs::remedies::outcome(&res, &plan.bank.id, &labels),
+            plan.outcome
+        );
         let step = res
             .operating
             .step_changes

@@ -7,8 +7,9 @@ use std::path::{Path, PathBuf};
 use overtone::io::template::{plant_workbook, template_bytes};
 use overtone::io::workbook_in::{read_workbook, read_workbook_bytes};
 use overtone::jobs::check::{CheckOptions, run_check};
+use overtone::jobs::exports::{BusTable, ScanTable, selection};
 use overtone::model::Sequence;
-use overtone::present::csv::{selection, write_scan_csv};
+use overtone::present::csv::write_scan_csv;
 
 fn data(name: &str) -> PathBuf {
     PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -46,7 +47,8 @@ fn contract_example(plant: &str, buses: &[&str], configurations: &[&str]) {
     .expect("runs");
     let sel = selection(&res, &buses, &configs).expect("selection");
     let mut out = Vec::new();
-    write_scan_csv(&mut out, &res, &sel).unwrap();
+    let table = ScanTable::new(&res, &sel);
+    write_scan_csv(&mut out, &res, table.curves(&res)).unwrap();
     let got = scan_rows(&String::from_utf8(out).unwrap());
     let expected_text = std::fs::read_to_string(data(&format!("{plant}.scan.csv"))).unwrap();
     let expected = scan_rows(&expected_text);
@@ -240,7 +242,8 @@ fn voltages_example(plant: &str, configurations: &[&str]) {
     .expect("runs");
     let sel = selection(&res, &[], &configs).expect("selection");
     let mut out = Vec::new();
-    overtone::present::csv::write_voltages_csv(&mut out, &res, &sel).unwrap();
+    let t = BusTable::new(&res, &sel);
+    overtone::present::csv::write_voltages_csv(&mut out, &res, &t.buses, t.voltages(&res)).unwrap();
     let got = String::from_utf8(out).unwrap();
     let expected = std::fs::read_to_string(data(&format!("{plant}.voltages.csv"))).unwrap();
     assert_eq!(got.lines().count(), expected.lines().count());

@@ -326,7 +326,7 @@ fn remedies_threshold_note_and_configuration_cap() {
     let res = run_check(&plant, &CheckOptions::default()).unwrap();
     assert!(res.remedies.is_empty());
     assert!(
-        res.notes.iter().any(|n| n
+        res.notes.iter().any(|n| n.to_string()
             == "remedies not studied: 343 step combinations exceed 200 (each option re-runs every study); ask for them with --remedies"),
         "{:?}",
         res.notes

@@ -1,7 +1,7 @@
 //! Built-in data and helpers against published values: SHA-256 test vectors, the civil
 //! date around leap days, the built-in spectra's THD and the characteristic orders.
 
-use overtone::present::review::{civil_from_days, sha256_hex};
+use overtone::io::provenance::{civil_from_days, sha256_hex};
 
 #[test]
 fn sha256_matches_the_fips_180_2_test_vectors() {

@@ -362,7 +362,11 @@ fn pcc_current_limits_row_isc_and_estimated_demand() {
     let est = run_check(&p, &Default::default()).unwrap();
     assert!(est.limits.i_l_estimated);
     assert_close(est.limits.i_l_a, 240.56, 1e-4);
-    assert!(est.notes.iter().any(|n| n.contains("I_L ESTIMATED")));
+    assert!(
+        est.notes
+            .iter()
+            .any(|n| n.to_string().contains("I_L ESTIMATED"))
+    );
     // Loads at PF 0.8 corrected to the 0.95 target: I_L = P / (0.95·√3·kV), not P/0.8
     // (IEEE 519-2014 clause 3.1: the demand at normal operation, here after correction).
     let mut lagging = p.clone();
@@ -373,7 +377,11 @@ fn pcc_current_limits_row_isc_and_estimated_demand() {
     let p_kw: f64 = lagging.loads.iter().map(|l| l.p_kw()).sum();
     let est = run_check(&lagging, &Default::default()).unwrap();
     assert_close(est.limits.i_l_a, p_kw / 0.95 / (3f64.sqrt() * 0.48), 1e-12);
-    assert!(est.notes.iter().any(|n| n.contains("after correction")));
+    assert!(
+        est.notes
+            .iter()
+            .any(|n| n.to_string().contains("after correction"))
+    );
 }
 
 #[test]

@@ -7,8 +7,9 @@ use std::path::PathBuf;
 use std::process::Command;
 
 use calamine::{Data, Reader, open_workbook_auto_from_rs};
+use overtone::io::provenance::Provenance;
 use overtone::jobs::check::{CheckResults, run_check};
-use overtone::present::review::{Provenance, review_bytes};
+use overtone::present::review::review_bytes;
 
 fn food() -> CheckResults {
     let plant = overtone::io::workbook_in::read_workbook(

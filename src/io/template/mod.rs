@@ -4,8 +4,6 @@
 //! default and allowed values, dropdowns for closed lists, number ranges, a frozen header
 //! row and set widths.
 
-use std::path::Path;
-
 use rust_xlsxwriter::{
     DataValidation, DataValidationRule, DocProperties, ExcelDateTime, Format, Note, Workbook,
     Worksheet, XlsxError,
@@ -373,14 +371,6 @@ fn build(plant: Option<&Plant>) -> Result<Workbook, XlsxError> {
     Ok(wb)
 }
 
-/// An input workbook could not be written.
-#[derive(Debug, thiserror::Error)]
-#[error("{path}: the workbook cannot be written ({source})")]
-pub struct TemplateError {
-    pub path: String,
-    pub source: XlsxError,
-}
-
 /// The bytes of `plant`'s input workbook (deterministic: fixed document date).
 pub fn plant_workbook(plant: &Plant) -> Result<Vec<u8>, XlsxError> {
     build(Some(plant))?.save_to_buffer()
@@ -389,14 +379,4 @@ pub fn plant_workbook(plant: &Plant) -> Result<Vec<u8>, XlsxError> {
 /// The bytes of the blank template.
 pub fn template_bytes() -> Result<Vec<u8>, XlsxError> {
     build(None)?.save_to_buffer()
-}
-
-/// Writes the blank template to `path`, whole or not at all.
-pub fn write_template(path: &Path) -> Result<(), TemplateError> {
-    let err = |source| TemplateError {
-        path: path.display().to_string(),
-        source,
-    };
-    let bytes = template_bytes().map_err(err)?;
-    crate::export::write_bytes(path, &bytes).map_err(|e| err(XlsxError::IoError(e)))
 }

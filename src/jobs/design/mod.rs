@@ -30,7 +30,8 @@ use std::sync::Arc;
 use rayon::prelude::*;
 use serde::Serialize;
 
-use crate::jobs::check::{CheckError, CheckOptions, run_check};
+use crate::jobs::check::{CheckError, CheckOptions, CheckResults, run_check};
+use crate::jobs::notes::Note;
 use crate::model::*;
 use crate::network::Network;
 use crate::study::Verdict;
@@ -53,6 +54,8 @@ pub enum DesignError {
     Sheet(String),
     #[error(transparent)]
     Check(#[from] CheckError),
+    #[error("the study of the recommended plan could not run: {0}")]
+    Recommended(CheckError),
 }
 
 /// What the engineer asked for beyond the workbook.
@@ -154,7 +157,7 @@ pub struct DesignResult {
     /// The id the designed bank takes at each design row.
     pub bank_ids: Vec<String>,
     /// Assumptions and decisions the reports state.
-    pub notes: Vec<String>,
+    pub notes: Vec<Note>,
 }
 
 impl DesignResult {
@@ -545,7 +548,7 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
     let reason = reason(&plans_out, recommended);
     let mut notes = notes(levels, &rows, derived, &unreachable, target);
     if rows.len() > 1 {
-        notes.push("Several design buses: each plan puts one bank at one of them, replacing the proposed bank on that bus only; the other banks stay as on the Capacitors sheet.".into());
+        notes.push(Note::Design("Several design buses: each plan puts one bank at one of them, replacing the proposed bank on that bus only; the other banks stay as on the Capacitors sheet.".into()));
     }
     if baselines
         .iter()
@@ -553,13 +556,13 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
     {
         notes.insert(
             0,
-            "The plant reaches the target power factor at every level and scenario without the designed bank (its other banks or its loads suffice): the controller switches no designed step, and the plans are the smallest allowed.".into(),
+            Note::Design("The plant reaches the target power factor at every level and scenario without the designed bank (its other banks or its loads suffice): the controller switches no designed step, and the plans are the smallest allowed.".into()),
         );
     }
     notes.extend(
         base_notes
             .iter()
-            .filter(|n| n.starts_with("I_L ESTIMATED"))
+            .filter(|n| matches!(n, Note::DemandEstimated { .. }))
             .cloned(),
     );
     Ok(DesignResult {
@@ -577,4 +580,21 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
         bank_ids,
         notes,
     })
+}
+
+/// Every study of the recommended plan (of the plant without a bank when no plan passes),
+/// with switching and without remedies, carrying the design's notes after its own: what
+/// the design review presents after the plans.
+pub fn recommended_study(d: &DesignResult) -> Result<CheckResults, DesignError> {
+    let plant = d
+        .recommended
+        .map_or_else(|| d.base().clone(), |i| d.plant_with(i));
+    let options = CheckOptions {
+        remedies: Some(false),
+        switching: true,
+        ..Default::default()
+    };
+    let mut res = run_check(&plant, &options).map_err(DesignError::Recommended)?;
+    res.notes.extend(d.notes.iter().cloned());
+    Ok(res)
 }

@@ -5,6 +5,7 @@
 use super::levels::{self, Control, Level, lowest_pf};
 use super::{Baseline, Plan, PlanResult};
 use crate::jobs::check::CheckResults;
+use crate::jobs::notes::Note;
 use crate::model::*;
 use crate::study::Verdict;
 
@@ -31,7 +32,7 @@ pub(super) fn evaluate(
     row: usize,
 ) -> PlanResult {
     let labels = res.energized_labels(res.plant.banks.len() - 1);
-    let outcome = res.outcome(&bank.id, &labels);
+    let outcome = crate::jobs::remedies::outcome(res, &bank.id, &labels);
     let has = |c: &str| labels.iter().any(|l| l == c);
     let mine: Vec<&crate::study::ResonanceRow> = res
         .resonance
@@ -244,8 +245,8 @@ pub(super) fn notes(
     derived: bool,
     unreachable: &[(String, String)],
     target: f64,
-) -> Vec<String> {
-    let mut out = vec![
+) -> Vec<Note> {
+    let mut out: Vec<String> = vec![
         format!(
             "Controller (common practice): at each load level and scenario the plant's other banks switch first, then the designed bank; each adds steps while the PCC power factor is below the target {target} and blocks a step that would leave it leading beyond the leading limit."
         ),
@@ -290,5 +291,5 @@ pub(super) fn notes(
             "No allowed plan reaches the target at level {l}, scenario {s}: the power factor is not required there."
         ));
     }
-    out
+    out.into_iter().map(Note::Design).collect()
 }

@@ -231,7 +231,7 @@ pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
     }
     writeln!(out)?;
     for n in &d.notes {
-        write_hanging(out, "note: ", "  ", n, WIDTH)?;
+        write_hanging(out, "note: ", "  ", &n.to_string(), WIDTH)?;
     }
     write_hanging(
         out,

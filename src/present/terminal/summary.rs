@@ -8,7 +8,6 @@ use crate::jobs::check::CheckResults;
 use crate::model::LimitSet;
 use crate::present::cautions::CAUTIONS;
 use crate::study::limits::{Checked, LimitRow};
-use crate::study::penetration::bank_amplification;
 use crate::study::{ResonanceRow, Verdict};
 
 pub use super::table::{MAX_ROWS_PER_SCENARIO, write_table};
@@ -341,8 +340,6 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     }
     write_background(out, res)?;
     let nc = res.scan.configurations.len();
-    let none = res.scan.configurations.iter().position(|c| c.is_none());
-    let orders = &res.penetration.injections.orders;
     for (s, scenario) in res.scan.scenarios.iter().enumerate() {
         let rows: Vec<(usize, &LimitRow)> =
             (0..nc).map(|c| (c, &res.limit_rows[s * nc + c])).collect();
@@ -374,20 +371,11 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
         let table: Vec<Vec<String>> = shown
             .iter()
             .map(|&(c, r)| {
-                let ampl = none.map_or_else(
-                    || "-".to_string(),
-                    |n0| {
-                        let a = bank_amplification(
-                            res.penetration.result(s, c, nc),
-                            res.penetration.result(s, n0, nc),
-                            orders,
-                        );
-                        a.iter()
-                            .map(|x| x.thd_ratio)
-                            .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
-                            .map_or_else(|| "-".to_string(), |v| format!("{v:.2}"))
-                    },
-                );
+                let ampl = res.amplification[s * nc + c]
+                    .iter()
+                    .map(|x| x.thd_ratio)
+                    .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+                    .map_or_else(|| "-".to_string(), |v| format!("{v:.2}"));
                 let ieee = ctx.set == LimitSet::Ieee519_2014;
                 let in_plant = if r.worst_thd_bus == res.network.buses[res.pcc].id {
                     "-".to_string()

@@ -3,6 +3,7 @@
 //! switching hold, and the recommended remedy with its before and after; then the plant's
 //! limits at the PCC and its power factor, in about ten lines of at most 100 columns.
 
+use crate::jobs::notes::Note;
 use std::io::{self, Write};
 
 use super::table::write_hanging;
@@ -137,7 +138,7 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     let not_studied = res
         .notes
         .iter()
-        .find(|n| n.starts_with("remedies not studied"));
+        .find(|n| matches!(n, Note::RemediesNotStudied { .. }));
     for (b, m) in res.plant.banks.iter().zip(&res.network.banks) {
         let reactor =
             crate::present::reactor_words(b.reactor).unwrap_or_else(|| "plain".to_string());
@@ -181,7 +182,7 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         } else if let Some(why) = not_studied
             && bank_flagged(res, &b.id)
         {
-            write_hanging(out, "  > ", "    ", why, WIDTH)?;
+            write_hanging(out, "  > ", "    ", &why.to_string(), WIDTH)?;
         }
     }
     // The plant: harmonic limits where the limit set applies, and the power factor.
@@ -246,8 +247,12 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
             WIDTH,
         )?;
     }
-    if let Some(sentence) = res.plant_level_limits() {
-        write_hanging(out, "- ", "    ", &sentence, WIDTH)?;
+    if let Some(note) = res
+        .notes
+        .iter()
+        .find(|n| matches!(n, Note::PlantLevelLimits { .. }))
+    {
+        write_hanging(out, "- ", "    ", &note.to_string(), WIDTH)?;
     }
     Ok(())
 }

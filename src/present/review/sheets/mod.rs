@@ -145,7 +145,7 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
             loads.join(", ")
         ));
     }
-    a.extend(res.notes.iter().cloned());
+    a.extend(res.notes.iter().map(ToString::to_string));
     a
 }
 

@@ -1,0 +1,97 @@
+//! The assumptions and conditions a job records for the reports to state: one variant per
+//! kind, so that a report or another job recognises a note by its kind, never by its words.
+//! `Display` gives the sentence every report prints (terminal, JSON, review).
+
+use std::fmt;
+
+/// One note of a check or a design.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Note {
+    /// The plant exceeds a harmonic limit with no bank in service: no bank choice fixes it.
+    PlantLevelLimits {
+        /// The scenarios in which the configuration without banks exceeds.
+        scenarios: Vec<String>,
+        /// The PCC bus id.
+        pcc: String,
+        /// The first such scenario's PCC voltage THD, TDD and worst in-plant THD, %.
+        pcc_thd_percent: f64,
+        tdd_percent: f64,
+        worst_thd_percent: f64,
+        worst_thd_bus: String,
+    },
+    /// A sentence of the harmonic injections study (an injection the sequence networks
+    /// cannot carry, as the study words it).
+    Injections(String),
+    /// Under phasor summation, scenario-configurations without a load flow whose current
+    /// angles fall back to the configuration without banks.
+    AngleFallbacks { count: usize },
+    /// I_L was estimated from the Loads sheet (no `Max demand current (A)` given).
+    DemandEstimated {
+        i_l_a: f64,
+        before_kva: f64,
+        after_kva: f64,
+        target_power_factor: f64,
+    },
+    /// Scenario-configurations without a load-flow solution.
+    Collapse { count: usize, first: String },
+    /// A switching event that could not be simulated, as the study words it.
+    Switching(String),
+    /// Remedies were not studied because the plant has too many step combinations.
+    RemediesNotStudied {
+        combinations: usize,
+        auto_limit: usize,
+    },
+    /// A sentence of the design search.
+    Design(String),
+}
+
+impl fmt::Display for Note {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Note::PlantLevelLimits {
+                scenarios,
+                pcc,
+                pcc_thd_percent,
+                tdd_percent,
+                worst_thd_percent,
+                worst_thd_bus,
+            } => write!(
+                f,
+                "With no capacitor bank in service the plant already exceeds its harmonic limits (scenario {}; at the PCC {pcc}: voltage THD {pcc_thd_percent:.2} %, TDD {tdd_percent:.2} %; worst in-plant voltage THD {worst_thd_percent:.2} % at {worst_thd_bus}): the converters need their own mitigation (line reactors, multi-pulse or active front ends, harmonic filters), and no bank choice fixes it.",
+                scenarios.join(", "),
+            ),
+            Note::Injections(s) | Note::Switching(s) | Note::Design(s) => f.write_str(s),
+            Note::AngleFallbacks { count } => write!(
+                f,
+                "phasor summation: {count} scenario-configuration(s) have no load-flow solution; their harmonic current angles use the configuration without banks (or 0° where that has none either)"
+            ),
+            Note::DemandEstimated {
+                i_l_a,
+                before_kva,
+                after_kva,
+                target_power_factor,
+            } => write!(
+                f,
+                "I_L ESTIMATED from the Loads sheet: {i_l_a:.1} A at the PCC, the demand after correction ({after_kva:.0} kVA: the loads' P at the study point at the better of the target PF {target_power_factor} and their own; {before_kva:.0} kVA before correction; no diversity); give \"Max demand current (A)\" on the Study sheet (IEEE 519-2014 takes the average of the 12 monthly maximum demands)"
+            ),
+            Note::Collapse { count, first } => write!(
+                f,
+                "load flow: {count} scenario-configuration(s) have no solution (voltage collapse), the first: {first}; their capacitor duty uses the nominal bus voltage"
+            ),
+            Note::RemediesNotStudied {
+                combinations,
+                auto_limit,
+            } => write!(
+                f,
+                "remedies not studied: {combinations} step combinations exceed {auto_limit} (each option re-runs every study); ask for them with --remedies"
+            ),
+        }
+    }
+}
+
+impl serde::Serialize for Note {
+    /// A note serializes as its sentence.
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.collect_str(self)
+    }
+}

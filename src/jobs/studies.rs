@@ -1,0 +1,462 @@
+//! The studies of one plant, run in order on a context built once: the validated plant, its
+//! positive- and zero-sequence networks, the buses to scan and the step combinations. Each
+//! step here composes studies of [`crate::study`]; none formats output. The result is
+//! [`CheckResults`], which every report reads.
+
+use super::check::{CheckError, CheckOptions, CheckResults, MAX_CONFIGURATIONS};
+use super::notes::Note;
+use crate::model::{Plant, Sequence};
+use crate::network::Network;
+use crate::solve::Engine;
+use crate::study::background::background_shares;
+use crate::study::config::configuration_count;
+use crate::study::duty::{DutyRow, duty_rows};
+use crate::study::limits::{LimitContext, LimitRow, estimated_demand_a, limit_row};
+use crate::study::operating::OperatingStudy;
+use crate::study::penetration::{Injections, Penetration, SequenceEngines, bank_amplification};
+use crate::study::resonance::ZeroScan;
+use crate::study::switching::SwitchingStudy;
+use crate::study::tolerance::bands;
+use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid, all_configurations};
+
+/// What every study of a plant shares: built once per check.
+pub struct Context<'p> {
+    pub plant: &'p Plant,
+    pub network: Network,
+    /// The zero-sequence network on the same buses.
+    pub zero: Network,
+    /// Network index of the PCC bus.
+    pub pcc: usize,
+    /// The buses scanned: the PCC first, then the bank buses, then those asked for.
+    pub buses: Vec<usize>,
+    /// The step combinations studied (`none` always among them).
+    pub configurations: Vec<Configuration>,
+    /// The grounded-wye banks' buses (the zero-sequence scan's buses).
+    pub zero_buses: Vec<usize>,
+}
+
+impl<'p> Context<'p> {
+    /// Validates `plant`, builds its networks and resolves the buses and configurations of
+    /// `options`.
+    pub fn build(plant: &'p Plant, options: &CheckOptions) -> Result<Self, CheckError> {
+        plant.validate()?;
+        let count = configuration_count(&plant.banks);
+        if options.configurations.is_empty() && count > MAX_CONFIGURATIONS {
+            return Err(CheckError::TooManyConfigurations { count });
+        }
+        let network = Network::build(plant)?;
+        let pcc_id = plant.pcc_bus().unwrap_or_default().to_string();
+        let pcc = network
+            .bus_index(&pcc_id)
+            .ok_or_else(|| CheckError::UnknownBus(pcc_id.clone()))?;
+        let buses = scan_buses(&network, pcc, &options.buses)?;
+        let configurations = configurations(plant, &options.configurations)?;
+        let zero = network.build_zero(plant)?;
+        let mut zero_buses: Vec<usize> = Vec::new();
+        for b in network
+            .banks
+            .iter()
+            .filter(|b| b.connection.has_zero_path())
+        {
+            if !zero_buses.contains(&b.bus) {
+                zero_buses.push(b.bus);
+            }
+        }
+        Ok(Context {
+            plant,
+            network,
+            zero,
+            pcc,
+            buses,
+            configurations,
+            zero_buses,
+        })
+    }
+}
+
+/// The buses to scan: the PCC, every bank bus, then `extra` (ids), each once.
+fn scan_buses(network: &Network, pcc: usize, extra: &[String]) -> Result<Vec<usize>, CheckError> {
+    let mut buses = vec![pcc];
+    for b in &network.banks {
+        if !buses.contains(&b.bus) {
+            buses.push(b.bus);
+        }
+    }
+    for id in extra {
+        let i = network
+            .bus_index(id)
+            .ok_or_else(|| CheckError::UnknownBus(id.clone()))?;
+        if !buses.contains(&i) {
+            buses.push(i);
+        }
+    }
+    Ok(buses)
+}
+
+/// The configurations to study: every combination of studied steps, or those `labels`
+/// name (each once); `none` is always added.
+fn configurations(plant: &Plant, labels: &[String]) -> Result<Vec<Configuration>, CheckError> {
+    let mut configurations: Vec<Configuration> = if labels.is_empty() {
+        all_configurations(&plant.banks)
+    } else {
+        let mut chosen = Vec::new();
+        for text in labels {
+            let c = crate::study::parse_configuration(text, &plant.banks)?;
+            if !chosen.contains(&c) {
+                chosen.push(c);
+            }
+        }
+        chosen
+    };
+    let none = Configuration::none(plant.banks.len());
+    if !configurations.contains(&none) {
+        configurations.push(none);
+    }
+    Ok(configurations)
+}
+
+/// Configurations that differ only in banks without a zero-sequence path have the same
+/// zero-sequence network: the distinct projections of `configurations` onto the banks with
+/// one, and for each configuration the index of its projection.
+fn zero_projections(
+    network: &Network,
+    configurations: &[Configuration],
+) -> (Vec<Configuration>, Vec<usize>) {
+    let mut distinct: Vec<Configuration> = Vec::new();
+    let map = configurations
+        .iter()
+        .map(|c| {
+            let steps: Vec<u32> = c
+                .steps
+                .iter()
+                .zip(&network.banks)
+                .map(|(&k, b)| if b.connection.has_zero_path() { k } else { 0 })
+                .collect();
+            let projected = Configuration { steps };
+            distinct
+                .iter()
+                .position(|d| *d == projected)
+                .unwrap_or_else(|| {
+                    distinct.push(projected);
+                    distinct.len() - 1
+                })
+        })
+        .collect();
+    (distinct, map)
+}
+
+/// The PCC's short-circuit current Isc, kA: the largest fault current over the scenarios,
+/// from the fundamental Thevenin impedance without banks, I = S_base / (|Z_pu| · √3 · kV)
+/// (the PCC is the first bus scanned).
+fn pcc_isc_ka(ctx: &Context<'_>, engine: &Engine<'_>, scan: &Scan) -> Result<f64, CheckError> {
+    let mut s_sc_mva: f64 = 0.0;
+    for s in 0..ctx.network.scenarios.len() {
+        let z = scan.fundamental(engine, s)?.z0_pu(0);
+        s_sc_mva = s_sc_mva.max(crate::network::BASE_MVA / z.norm());
+    }
+    Ok(s_sc_mva / (3f64.sqrt() * ctx.network.buses[ctx.pcc].kv))
+}
+
+/// Per scenario and bank, the fundamental Thevenin impedance without banks at the bank's
+/// bus, (R, X) in ohms, for the switching simulation.
+fn switching_z_th_ohm(
+    network: &Network,
+    engine: &Engine<'_>,
+    scan: &Scan,
+) -> Result<Vec<Vec<(f64, f64)>>, CheckError> {
+    let mut z_th_ohm = Vec::new();
+    for s in 0..network.scenarios.len() {
+        let fundamental = scan.fundamental(engine, s)?;
+        z_th_ohm.push(
+            network
+                .banks
+                .iter()
+                .enumerate()
+                .map(|(b, model)| {
+                    let z = fundamental.bank_bus_z0_pu(b) * network.buses[model.bus].z_base_ohm;
+                    (z.re, z.im)
+                })
+                .collect(),
+        );
+    }
+    Ok(z_th_ohm)
+}
+
+/// The positive-sequence scan, the zero-sequence scan where it matters and the resonance
+/// screen: what the `scan` command needs and every other study starts from.
+struct Screen {
+    scan: Scan,
+    zero_scan: Option<Scan>,
+    zero_map: Vec<usize>,
+    resonance: ResonanceStudy,
+}
+
+/// Scans every scenario × configuration and screens each bank's resonance. The
+/// zero-sequence scan runs at the grounded-wye banks' buses only when some characteristic
+/// order is zero sequence (otherwise no bank can amplify a zero-sequence order).
+fn screen(
+    ctx: &Context<'_>,
+    engine: &Engine<'_>,
+    zero_engine: &Engine<'_>,
+    options: &CheckOptions,
+) -> Result<Screen, CheckError> {
+    let plant = ctx.plant;
+    let chars = crate::study::resonance::characteristic_orders(plant, plant.study.highest_order);
+    let zero_orders = chars.iter().any(|&h| Sequence::of(h) == Sequence::Zero);
+    let grid = ScanGrid::new(plant.study.highest_order, plant.study.scan_step_order);
+    let quiet = |_: u64, _: u64| {};
+    let progress: &(dyn Fn(u64, u64) + Sync) = match &options.progress {
+        Some(p) => p.as_ref(),
+        None => &quiet,
+    };
+    let zero_grid = grid.clone();
+    let scan = Scan::run(engine, grid, ctx.configurations.clone(), progress)?;
+    let (zero_scan, zero_map) = if zero_orders && !ctx.zero_buses.is_empty() {
+        let (distinct, map) = zero_projections(&ctx.network, &scan.configurations);
+        (
+            Some(Scan::run(zero_engine, zero_grid, distinct, &|_, _| {})?),
+            map,
+        )
+    } else {
+        (None, Vec::new())
+    };
+    let zero_view = zero_scan.as_ref().map(|scan| ZeroScan {
+        engine: zero_engine,
+        scan,
+        map: &zero_map,
+    });
+    let resonance = ResonanceStudy::run(plant, &ctx.network, engine, &scan, zero_view.as_ref())?;
+    Ok(Screen {
+        scan,
+        zero_scan,
+        zero_map,
+        resonance,
+    })
+}
+
+/// Capacitor duty of every energized bank in every scenario × configuration, at the bank
+/// buses' solved voltages.
+fn duty(
+    ctx: &Context<'_>,
+    scan: &Scan,
+    operating: &OperatingStudy,
+    penetration: &Penetration,
+) -> Vec<DutyRow> {
+    let (plant, network) = (ctx.plant, &ctx.network);
+    let nc = scan.configurations.len();
+    let orders = &penetration.injections.orders;
+    penetration
+        .results
+        .iter()
+        .flat_map(|d| {
+            let cfg = &scan.configurations[d.configuration];
+            let bank_v = operating
+                .point_at(d.scenario, d.configuration, nc)
+                .map_or(&[][..], |p| &p.bank_bus_v_pu[..]);
+            duty_rows(
+                d,
+                &plant.banks,
+                &cfg.steps,
+                bank_v,
+                network,
+                orders,
+                plant.study.limits,
+                &network.scenarios[d.scenario].name,
+                &cfg.label(&plant.banks),
+            )
+        })
+        .collect()
+}
+
+/// The notes of the penetration, limits and load-flow studies, in report order.
+fn study_notes(
+    ctx: &Context<'_>,
+    penetration: &Penetration,
+    limits: &LimitContext,
+    operating: &OperatingStudy,
+) -> Vec<Note> {
+    let mut notes: Vec<Note> = (penetration.injections.blocked.iter().cloned())
+        .map(Note::Injections)
+        .collect();
+    if penetration.angle_fallbacks > 0 {
+        notes.push(Note::AngleFallbacks {
+            count: penetration.angle_fallbacks,
+        });
+    }
+    if limits.i_l_estimated {
+        let (_, before_kva, after_kva) =
+            estimated_demand_a(ctx.plant, ctx.network.buses[ctx.pcc].kv);
+        notes.push(Note::DemandEstimated {
+            i_l_a: limits.i_l_a,
+            before_kva,
+            after_kva,
+            target_power_factor: ctx.plant.study.target_power_factor,
+        });
+    }
+    if let Some(first) = operating.collapsed.first() {
+        notes.push(Note::Collapse {
+            count: operating.collapsed.len(),
+            first: first.to_string(),
+        });
+    }
+    notes
+}
+
+/// The note for a plant that exceeds a harmonic limit with no bank in service (`None`
+/// when the configuration without banks meets every limit in every scenario).
+pub fn plant_level_limits(rows: &[LimitRow], pcc: &str) -> Option<Note> {
+    let over: Vec<&LimitRow> = rows
+        .iter()
+        .filter(|r| r.configuration == "none" && r.exceeds)
+        .collect();
+    let first = over.first()?;
+    Some(Note::PlantLevelLimits {
+        scenarios: over.iter().map(|r| r.scenario.clone()).collect(),
+        pcc: pcc.to_string(),
+        pcc_thd_percent: first.pcc_thd.value,
+        tdd_percent: first.tdd.value,
+        worst_thd_percent: first.worst_thd.value,
+        worst_thd_bus: first.worst_thd_bus.clone(),
+    })
+}
+
+/// Runs every study `options` asks for on `plant` (remedies excepted: see
+/// [`super::check::run_check`]).
+pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, CheckError> {
+    let ctx = Context::build(plant, options)?;
+    let network = &ctx.network;
+    let engine = Engine::new(network, &ctx.buses);
+    let zero_engine = Engine::new(&ctx.zero, &ctx.zero_buses);
+    let Screen {
+        scan,
+        zero_scan,
+        zero_map,
+        resonance,
+    } = screen(&ctx, &engine, &zero_engine, options)?;
+    let studied: &[Configuration] = if options.scan_only {
+        &[]
+    } else {
+        &scan.configurations
+    };
+    let operating = OperatingStudy::run(plant, network, studied);
+    let isc_ka = pcc_isc_ka(&ctx, &engine, &scan)?;
+    let injections = if options.scan_only {
+        Injections::none()
+    } else {
+        Injections::new(plant, network, &ctx.zero)
+    };
+    let limits = LimitContext::new(plant, network, &injections, ctx.pcc, isc_ka);
+    let engines = SequenceEngines {
+        positive: &engine,
+        zero: &zero_engine,
+    };
+    let thd_limits: Vec<f64> = limits.thd_limit.iter().map(|l| l.value).collect();
+    let penetration = Penetration::run(
+        plant,
+        &engines,
+        injections,
+        &scan.configurations,
+        &operating,
+        &limits.individual,
+        &thd_limits,
+        ctx.pcc,
+        options.evaluation,
+    )?;
+    let mut notes = study_notes(&ctx, &penetration, &limits, &operating);
+    let limit_rows: Vec<LimitRow> = if options.scan_only {
+        Vec::new()
+    } else {
+        penetration
+            .results
+            .iter()
+            .map(|d| {
+                limit_row(
+                    d,
+                    &limits,
+                    network,
+                    &penetration.injections.orders,
+                    &network.scenarios[d.scenario].name,
+                    scan.configurations[d.configuration].label(&plant.banks),
+                )
+            })
+            .collect()
+    };
+    let duty = if options.scan_only {
+        Vec::new()
+    } else {
+        duty(&ctx, &scan, &operating, &penetration)
+    };
+    let tol = plant.study.capacitance_tolerance;
+    let p_of = |id: &str| {
+        network
+            .banks
+            .iter()
+            .find(|b| b.id == id)
+            .map_or(0.0, |b| b.p)
+    };
+    let tolerance = bands(
+        &resonance.rows,
+        &p_of,
+        tol.minus_percent,
+        tol.plus_percent,
+        &resonance.characteristic_orders,
+        resonance.margin_percent,
+    );
+    let switching = if options.scan_only || !options.switching {
+        SwitchingStudy::default()
+    } else {
+        crate::study::switching::run(&crate::study::switching::Inputs {
+            plant,
+            net: network,
+            operating: &operating,
+            z_th_ohm: &switching_z_th_ohm(network, &engine, &scan)?,
+        })
+    };
+    notes.extend(switching.failures.iter().cloned().map(Note::Switching));
+    let background = background_shares(&penetration, network, &plant.banks, &scan.configurations);
+    let amplification = amplification(&scan, &penetration);
+    if let Some(note) = plant_level_limits(&limit_rows, &network.buses[ctx.pcc].id) {
+        notes.insert(0, note);
+    }
+    Ok(CheckResults {
+        plant: plant.clone(),
+        network: ctx.network.clone(),
+        scan,
+        zero_scan,
+        zero_map,
+        zero_network: ctx.zero.clone(),
+        resonance,
+        operating,
+        penetration,
+        limits,
+        limit_rows,
+        duty,
+        tolerance,
+        switching,
+        background,
+        amplification,
+        remedies: Vec::new(),
+        notes,
+        pcc: ctx.pcc,
+    })
+}
+
+/// Per penetration result (same order), each bank bus's harmonic amplification against the
+/// configuration without banks of the same scenario (empty when that was not studied).
+fn amplification(
+    scan: &Scan,
+    penetration: &Penetration,
+) -> Vec<Vec<crate::study::penetration::BankAmplification>> {
+    let nc = scan.configurations.len();
+    let none = scan.configurations.iter().position(|c| c.is_none());
+    let orders = &penetration.injections.orders;
+    penetration
+        .results
+        .iter()
+        .map(|d| {
+            none.map_or_else(Vec::new, |n0| {
+                bank_amplification(d, penetration.result(d.scenario, n0, nc), orders)
+            })
+        })
+        .collect()
+}
