@@ -346,6 +346,14 @@ impl LoadType {
         }
     }
 
+    /// The type a cell's text names, by the contract's matching rule ([`normalize`]).
+    pub fn from_text(text: &str) -> Option<LoadType> {
+        let key = normalize(text);
+        LoadType::ALL
+            .into_iter()
+            .find(|t| normalize(t.label()) == key)
+    }
+
     /// True for every type that injects harmonic current (all but linear and motor).
     pub fn is_harmonic_source(self) -> bool {
         !matches!(self, LoadType::Linear | LoadType::Motor)
@@ -401,4 +409,20 @@ pub struct SpectrumLine {
 pub struct Spectrum {
     pub name: String,
     pub lines: Vec<SpectrumLine>,
+}
+
+/// The contract's matching rule for sheet, column and type names: a trailing parenthesized
+/// unit dropped, spaces, underscores, hyphens and tabs removed, lower case
+/// (`Nominal kV (kV)` and `nominal_kv` match).
+pub fn normalize(name: &str) -> String {
+    let mut s = name.trim();
+    if s.ends_with(')')
+        && let Some(open) = s.rfind('(')
+    {
+        s = &s[..open];
+    }
+    s.chars()
+        .filter(|c| !matches!(c, ' ' | '_' | '-' | '\t'))
+        .flat_map(char::to_lowercase)
+        .collect()
 }

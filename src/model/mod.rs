@@ -9,11 +9,13 @@ mod design;
 mod elements;
 mod sequence;
 mod validate;
+mod validate_design;
 mod validate_sequence;
 
 pub use design::*;
 pub use elements::*;
 pub use sequence::*;
+pub use validate_design::{DesignProblem, design_problems};
 pub use validate::{MAX_MAGNITUDE, MIN_MAGNITUDE, ModelError, ModelErrors};
 
 /// Name of the single scenario studied when no source row names one (input contract,

@@ -7,6 +7,7 @@
 //! validation ([`Plant::validate`]), whose element-and-field errors are mapped back to cells.
 
 mod cells;
+mod defaults;
 mod design;
 mod plausible;
 mod sequence;
@@ -275,6 +276,241 @@ pub fn read_workbook_bytes(file: &str, stem: &str, bytes: &[u8]) -> Result<ReadO
     read_workbook_bytes_within(file, stem, bytes, &ReadLimits::default())
 }
 
+/// The sheets of [`SHEETS`] that the workbook has, in that order, as rows (`None` for an
+/// optional sheet it lacks); a missing required sheet or an unreadable one is an error
+/// naming the file.
+fn sheet_tables(
+    file: &str,
+    wb: &mut Sheets<Cursor<&[u8]>>,
+    names: &[String],
+    limits: &ReadLimits,
+) -> Result<Vec<Option<(String, Vec<Row>)>>, ReadError> {
+    let fail = |reason: String| ReadError::File {
+        file: file.to_string(),
+        reason,
+    };
+    let mut sheets: Vec<Option<(String, Vec<Row>)>> = Vec::new();
+    let mut missing = Vec::new();
+    let mut budget = limits.max_cells;
+    for &(sheet, required) in SHEETS {
+        let found = names
+            .iter()
+            .find(|n| normalize(n) == normalize(sheet))
+            .cloned();
+        let Some(name) = found else {
+            if required {
+                missing.push(sheet);
+            } else {
+                sheets.push(None);
+            }
+            continue;
+        };
+        let rows = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+            sheet_rows(wb, &name, &mut budget)
+        }));
+        match rows {
+            Ok(Ok(r)) => sheets.push(Some((name, r))),
+            Ok(Err(SheetError::TooLarge(t))) => {
+                return Err(fail(t.sentence(&name, limits.max_cells)));
+            }
+            Ok(Err(SheetError::Reader(e))) => {
+                return Err(fail(format!(
+                    "sheet \"{name}\" cannot be read; the workbook may be damaged (reader: {e})"
+                )));
+            }
+            Err(_) => {
+                return Err(fail(format!(
+                    "sheet \"{name}\" is malformed and cannot be read"
+                )));
+            }
+        }
+    }
+    if !missing.is_empty() {
+        return Err(fail(format!(
+            "the workbook has no sheet {} (sheets found: {}); `overtone template FILE.xlsx` writes a blank workbook with every sheet",
+            missing
+                .iter()
+                .map(|m| format!("\"{m}\""))
+                .collect::<Vec<_>>()
+                .join(", "),
+            if names.is_empty() {
+                "none".to_string()
+            } else {
+                names.join(", ")
+            }
+        )));
+    }
+    Ok(sheets)
+}
+
+/// The element sheets' tables, kept (cells released) after conversion so that the plant's
+/// validation errors can be mapped back to their cells.
+#[derive(Default)]
+struct Tables {
+    study: Option<Table>,
+    buses: Option<Table>,
+    sources: Option<Table>,
+    transformers: Option<Table>,
+    cables: Option<Table>,
+    capacitors: Option<Table>,
+    loads: Option<Table>,
+    background: Option<Table>,
+}
+
+/// Converts every sheet into the plant. Each sheet becomes a table just before it is
+/// converted, and gives its cells back after (the tables keep their row numbers for mapping
+/// validation errors to cells), so that at most one sheet's cells are held beside the
+/// plant.
+fn read_plant(
+    mut sheets: Vec<Option<(String, Vec<Row>)>>,
+    stem: &str,
+    diag: &mut Diagnostics,
+) -> (Plant, Tables, study::ItemCells) {
+    let mut table = |i: usize, spec: &[table::Column], diag: &mut Diagnostics| {
+        sheets[i]
+            .take()
+            .map(|(name, rows)| Table::new(&name, rows, spec, diag))
+    };
+    let mut plant = Plant::new(f64::NAN);
+    let mut defaults = defaults::Defaults::default();
+    let mut item_cells = study::ItemCells::new();
+    let mut t = Tables {
+        study: table(0, study::COLUMNS, diag),
+        ..Tables::default()
+    };
+    if let Some(tb) = &mut t.study {
+        (plant.study, item_cells) = study::read(tb, stem, diag);
+        tb.release_cells();
+    }
+    t.buses = table(1, sheets::BUSES, diag);
+    if let Some(tb) = &mut t.buses {
+        plant.buses = sheets::buses(tb, diag);
+        tb.release_cells();
+    }
+    t.sources = table(2, sheets::SOURCES, diag);
+    if let Some(tb) = &mut t.sources {
+        plant.sources = sheets::sources(tb, diag, &mut defaults);
+        tb.release_cells();
+    }
+    t.transformers = table(3, sheets::TRANSFORMERS, diag);
+    if let Some(tb) = &mut t.transformers {
+        plant.transformers =
+            sheets::transformers(tb, diag, &mut defaults, plant.study.frequency_hz);
+        tb.release_cells();
+    }
+    t.cables = table(4, sheets::CABLES, diag);
+    if let Some(tb) = &mut t.cables {
+        plant.cables = sheets::cables(tb, diag, &mut defaults);
+        tb.release_cells();
+    }
+    t.capacitors = table(5, sheets::CAPACITORS, diag);
+    if let Some(tb) = &mut t.capacitors {
+        let kv: std::collections::HashMap<&str, f64> = plant
+            .buses
+            .iter()
+            .map(|b| (b.id.as_str(), b.nominal_kv))
+            .collect();
+        let bus_kv = |id: &str| kv.get(id).copied();
+        plant.banks = sheets::banks(tb, diag, &mut defaults, &bus_kv);
+        tb.release_cells();
+    }
+    t.loads = table(6, sheets::LOADS, diag);
+    if let Some(tb) = &mut t.loads {
+        plant.loads = sheets::loads(tb, diag, &mut defaults);
+        tb.release_cells();
+    }
+    if let Some(tb) = &mut table(7, sheets::SPECTRA, diag) {
+        let phasor = plant.study.summation == crate::model::Summation::Phasor;
+        plant.spectra = sheets::spectra(tb, diag, phasor);
+        tb.release_cells();
+        warn_orders_above_studied(&plant, &tb.sheet, diag);
+    }
+    t.background = table(8, sheets::BACKGROUND, diag);
+    if let Some(tb) = &mut t.background {
+        plant.background = sequence::background(tb, diag);
+        tb.release_cells();
+    }
+    if let Some(tb) = &mut table(9, design::DESIGN, diag) {
+        plant.design = design::design(tb, diag);
+        tb.release_cells();
+    }
+    if let Some(tb) = &mut table(10, design::LOAD_LEVELS, diag) {
+        plant.load_levels = design::load_levels(tb, diag);
+        tb.release_cells();
+    }
+    defaults.report(diag);
+    (plant, t, item_cells)
+}
+
+/// A warning per spectrum line above the highest order studied (it is not studied).
+fn warn_orders_above_studied(plant: &Plant, sheet: &str, diag: &mut Diagnostics) {
+    for s in &plant.spectra {
+        for l in s
+            .lines
+            .iter()
+            .filter(|l| l.order > plant.study.highest_order)
+        {
+            diag.warn(
+                sheet,
+                None,
+                format!(
+                    "spectrum \"{}\": order {} is above the highest order studied ({}) and is not studied",
+                    s.name, l.order, plant.study.highest_order
+                ),
+            );
+        }
+    }
+}
+
+/// Each of the plant's validation errors at its sheet and cell (Study items by their item
+/// cells; a spectrum's lines were checked at their cells already).
+fn locate_model_errors(
+    errors: Vec<crate::model::ModelError>,
+    t: &Tables,
+    item_cells: &study::ItemCells,
+    diag: &mut Diagnostics,
+) {
+    for e in errors {
+        let located = match e.sheet {
+            "Study" => t.study.as_ref().map(|tb| {
+                let cell = item_cells
+                    .get(&normalize(e.field))
+                    .cloned()
+                    .unwrap_or_else(|| "A1".to_string());
+                (tb.sheet.clone(), cell)
+            }),
+            "Spectra" => None, // every spectrum line was checked at its cell
+            sheet => {
+                let tb = match sheet {
+                    "Buses" => &t.buses,
+                    "Sources" => &t.sources,
+                    "Transformers" => &t.transformers,
+                    "Cables" => &t.cables,
+                    "Capacitors" => &t.capacitors,
+                    "Loads" => &t.loads,
+                    "Background" => &t.background,
+                    _ => &None,
+                };
+                tb.as_ref().filter(|tb| !tb.is_missing(e.field)).map(|tb| {
+                    let cell = e
+                        .index
+                        .and_then(|i| tb.rows.get(i))
+                        .map_or_else(|| "A2".to_string(), |r| tb.cell(r, e.field));
+                    (tb.sheet.clone(), cell)
+                })
+            }
+        };
+        if let Some((sheet, cell)) = located {
+            let message = if e.message.starts_with("must") {
+                format!("\"{}\" {}", e.field, e.message)
+            } else {
+                format!("\"{}\": {}", e.field, e.message)
+            };
+            diag.error(&sheet, cell, message);
+        }
+    }
+}
+
 /// [`read_workbook_bytes`] within `limits`.
 pub fn read_workbook_bytes_within(
     file: &str,
@@ -284,211 +520,27 @@ pub fn read_workbook_bytes_within(
 ) -> Result<ReadOutcome, ReadError> {
     let mut wb = open(file, bytes, limits)?;
     let names = wb.sheet_names();
+    let sheets = sheet_tables(file, &mut wb, &names, limits)?;
     let mut diag = Diagnostics::default();
-    let mut sheets: Vec<Option<(String, Vec<Row>)>> = Vec::new();
-    let mut missing = Vec::new();
-    let mut budget = limits.max_cells;
-    for &(sheet, required) in SHEETS {
-        let found = names
-            .iter()
-            .find(|n| normalize(n) == normalize(sheet))
-            .cloned();
-        match found {
-            None if required => missing.push(sheet),
-            None => sheets.push(None),
-            Some(name) => {
-                let rows = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
-                    sheet_rows(&mut wb, &name, &mut budget)
-                }));
-                let fail = |reason: String| ReadError::File {
-                    file: file.to_string(),
-                    reason,
-                };
-                match rows {
-                    Ok(Ok(r)) => sheets.push(Some((name, r))),
-                    Ok(Err(SheetError::TooLarge(t))) => {
-                        return Err(fail(t.sentence(&name, limits.max_cells)));
-                    }
-                    Ok(Err(SheetError::Reader(e))) => {
-                        return Err(fail(format!(
-                            "sheet \"{name}\" cannot be read; the workbook may be damaged (reader: {e})"
-                        )));
-                    }
-                    Err(_) => {
-                        return Err(fail(format!(
-                            "sheet \"{name}\" is malformed and cannot be read"
-                        )));
-                    }
-                }
-            }
-        }
-    }
-    if !missing.is_empty() {
-        return Err(ReadError::File {
-            file: file.to_string(),
-            reason: format!(
-                "the workbook has no sheet {} (sheets found: {}); `overtone template FILE.xlsx` writes a blank workbook with every sheet",
-                missing
-                    .iter()
-                    .map(|m| format!("\"{m}\""))
-                    .collect::<Vec<_>>()
-                    .join(", "),
-                if names.is_empty() {
-                    "none".to_string()
-                } else {
-                    names.join(", ")
-                }
-            ),
-        });
-    }
     for n in &names {
         if !SHEETS.iter().any(|(s, _)| normalize(s) == normalize(n)) {
             diag.warn(n, None, "unknown sheet ignored".into());
         }
     }
-    let mut table = |i: usize, spec: &[table::Column], diag: &mut Diagnostics| {
-        sheets[i]
-            .take()
-            .map(|(name, rows)| Table::new(&name, rows, spec, diag))
-    };
-    let mut plant = Plant::new(f64::NAN);
-    let mut defaults = sheets::Defaults::default();
-    let mut item_cells = study::ItemCells::new();
-    // Each sheet becomes a table just before it is converted, and gives its cells back
-    // after (the tables keep their row numbers for mapping validation errors to cells), so
-    // that at most one sheet's cells are held beside the plant.
-    let mut t_study = table(0, study::COLUMNS, &mut diag);
-    if let Some(t) = &mut t_study {
-        let (s, cells) = study::read(t, stem, &mut diag);
-        plant.study = s;
-        item_cells = cells;
-        t.release_cells();
-    }
-    let mut t_buses = table(1, sheets::BUSES, &mut diag);
-    if let Some(t) = &mut t_buses {
-        plant.buses = sheets::buses(t, &mut diag);
-        t.release_cells();
-    }
-    let mut t_sources = table(2, sheets::SOURCES, &mut diag);
-    if let Some(t) = &mut t_sources {
-        plant.sources = sheets::sources(t, &mut diag, &mut defaults);
-        t.release_cells();
-    }
-    let mut t_tx = table(3, sheets::TRANSFORMERS, &mut diag);
-    if let Some(t) = &mut t_tx {
-        plant.transformers =
-            sheets::transformers(t, &mut diag, &mut defaults, plant.study.frequency_hz);
-        t.release_cells();
-    }
-    let mut t_cables = table(4, sheets::CABLES, &mut diag);
-    if let Some(t) = &mut t_cables {
-        plant.cables = sheets::cables(t, &mut diag, &mut defaults);
-        t.release_cells();
-    }
-    let mut t_caps = table(5, sheets::CAPACITORS, &mut diag);
-    if let Some(t) = &mut t_caps {
-        let kv: std::collections::HashMap<&str, f64> = plant
-            .buses
-            .iter()
-            .map(|b| (b.id.as_str(), b.nominal_kv))
-            .collect();
-        let bus_kv = |id: &str| kv.get(id).copied();
-        plant.banks = sheets::banks(t, &mut diag, &mut defaults, &bus_kv);
-        t.release_cells();
-    }
-    let mut t_loads = table(6, sheets::LOADS, &mut diag);
-    if let Some(t) = &mut t_loads {
-        plant.loads = sheets::loads(t, &mut diag, &mut defaults);
-        t.release_cells();
-    }
-    let mut t_spectra = table(7, sheets::SPECTRA, &mut diag);
-    if let Some(t) = &mut t_spectra {
-        plant.spectra = sheets::spectra(
-            t,
-            &mut diag,
-            plant.study.summation == crate::model::Summation::Phasor,
-        );
-        t.release_cells();
-        for s in &plant.spectra {
-            for l in s
-                .lines
-                .iter()
-                .filter(|l| l.order > plant.study.highest_order)
-            {
-                diag.warn(
-                    &t.sheet,
-                    None,
-                    format!(
-                        "spectrum \"{}\": order {} is above the highest order studied ({}) and is not studied",
-                        s.name, l.order, plant.study.highest_order
-                    ),
-                );
-            }
-        }
-    }
-    let mut t_background = table(8, sheets::BACKGROUND, &mut diag);
-    if let Some(t) = &mut t_background {
-        plant.background = sequence::background(t, &mut diag);
-        t.release_cells();
-    }
-    if let Some(t) = &mut table(9, design::DESIGN, &mut diag) {
-        plant.design = design::design(t, &mut diag);
-        t.release_cells();
-    }
-    if let Some(t) = &mut table(10, design::LOAD_LEVELS, &mut diag) {
-        plant.load_levels = design::load_levels(t, &mut diag);
-        t.release_cells();
-    }
-    defaults.report(&mut diag);
-
+    let (plant, tables, item_cells) = read_plant(sheets, stem, &mut diag);
     if let Err(model_errors) = plant.validate() {
-        for e in model_errors.0 {
-            let located = match e.sheet {
-                "Study" => t_study.as_ref().map(|t| {
-                    let cell = item_cells
-                        .get(&normalize(e.field))
-                        .cloned()
-                        .unwrap_or_else(|| "A1".to_string());
-                    (t.sheet.clone(), cell)
-                }),
-                "Spectra" => None, // every spectrum line was checked at its cell
-                sheet => {
-                    let t = match sheet {
-                        "Buses" => &t_buses,
-                        "Sources" => &t_sources,
-                        "Transformers" => &t_tx,
-                        "Cables" => &t_cables,
-                        "Capacitors" => &t_caps,
-                        "Loads" => &t_loads,
-                        "Background" => &t_background,
-                        _ => &None,
-                    };
-                    t.as_ref().filter(|t| !t.is_missing(e.field)).map(|t| {
-                        let cell = e
-                            .index
-                            .and_then(|i| t.rows.get(i))
-                            .map_or_else(|| "A2".to_string(), |r| t.cell(r, e.field));
-                        (t.sheet.clone(), cell)
-                    })
-                }
-            };
-            if let Some((sheet, cell)) = located {
-                let message = if e.message.starts_with("must") {
-                    format!("\"{}\" {}", e.field, e.message)
-                } else {
-                    format!("\"{}\": {}", e.field, e.message)
-                };
-                diag.error(&sheet, cell, message);
-            }
-        }
+        locate_model_errors(model_errors.0, &tables, &item_cells, &mut diag);
+    }
+    for p in crate::model::design_problems(&plant) {
+        diag.error(p.sheet, p.cell, p.message);
     }
     if diag.errors.is_empty() {
         plausible::check(
             &plant,
             &plausible::Tables {
-                buses: t_buses.as_ref(),
-                transformers: t_tx.as_ref(),
-                capacitors: t_caps.as_ref(),
+                buses: tables.buses.as_ref(),
+                transformers: tables.transformers.as_ref(),
+                capacitors: tables.capacitors.as_ref(),
             },
             &mut diag,
         );

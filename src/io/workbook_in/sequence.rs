@@ -1,7 +1,7 @@
 //! Version 2 columns and sheet of the sequence model: transformer and bank `Connection`
 //! and the `Background` sheet.
 
-use super::sheets::Defaults;
+use super::defaults::Defaults;
 use super::table::{Diagnostics, Row, Table, normalize};
 use crate::model::{BackgroundLine, BankConnection, VectorGroup};
 

@@ -1,6 +1,7 @@
 //! The element sheets of the input contract: one model element per data row, in row order,
 //! so element i of each list comes from data row i of its sheet.
 
+use super::defaults::Defaults;
 use super::table::{Column, Diagnostics, Table, normalize, shown};
 use crate::model::*;
 
@@ -91,60 +92,6 @@ pub const BACKGROUND: &[Column] = &[
 
 /// Default reactor X/R at fundamental (input contract, sheet `Capacitors`).
 pub const DEFAULT_REACTOR_Q: f64 = 50.0;
-
-/// The blank cells that took a default, per (sheet, column), reported once per column
-/// with the cells named.
-#[derive(Default)]
-pub struct Defaults(Vec<(&'static str, &'static str, String, Vec<String>)>);
-
-/// Cells named in one default warning before "and N more".
-const CELLS_NAMED: usize = 8;
-
-impl Defaults {
-    pub(super) fn note(
-        &mut self,
-        sheet: &'static str,
-        column: &'static str,
-        value: &str,
-        cell: String,
-    ) {
-        match self
-            .0
-            .iter_mut()
-            .find(|(s, c, _, _)| *s == sheet && *c == column)
-        {
-            Some(e) => e.3.push(cell),
-            None => self.0.push((sheet, column, value.to_string(), vec![cell])),
-        }
-    }
-
-    /// One warning per column: which blank cells took which default.
-    pub fn report(self, diag: &mut Diagnostics) {
-        for (sheet, column, value, cells) in self.0 {
-            let mut named = cells
-                .iter()
-                .take(CELLS_NAMED)
-                .cloned()
-                .collect::<Vec<_>>()
-                .join(", ");
-            if cells.len() > CELLS_NAMED {
-                named.push_str(&format!(" and {} more", cells.len() - CELLS_NAMED));
-            }
-            diag.warn(
-                sheet,
-                None,
-                if cells[0].starts_with("row ") {
-                    format!(
-                        "no \"{column}\" column: default {value} applied (rows {})",
-                        named.replace("row ", "")
-                    )
-                } else {
-                    format!("\"{column}\" blank at {named}: default {value} applied")
-                },
-            );
-        }
-    }
-}
 
 pub fn buses(t: &Table, d: &mut Diagnostics) -> Vec<Bus> {
     t.rows
@@ -434,10 +381,7 @@ pub fn banks(
 
 /// The load type named in a cell, by the contract's matching rule.
 pub fn load_type(text: &str) -> Option<LoadType> {
-    let key = normalize(text);
-    LoadType::ALL
-        .into_iter()
-        .find(|t| normalize(t.label()) == key)
+    LoadType::from_text(text)
 }
 
 pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Load> {

@@ -54,18 +54,8 @@ fn edit_distance(a: &str, b: &str) -> usize {
     prev[b.len()]
 }
 
-pub fn normalize(name: &str) -> String {
-    let mut s = name.trim();
-    if s.ends_with(')')
-        && let Some(open) = s.rfind('(')
-    {
-        s = &s[..open];
-    }
-    s.chars()
-        .filter(|c| !matches!(c, ' ' | '_' | '-' | '\t'))
-        .flat_map(char::to_lowercase)
-        .collect()
-}
+pub use crate::model::normalize;
+
 
 /// A1 notation of a zero-based (row, column).
 pub fn a1(row: u32, col: u32) -> String {

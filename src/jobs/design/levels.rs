@@ -66,7 +66,7 @@ pub fn levels(plant: &Plant) -> Result<Vec<Level>, DesignError> {
                 let matches = |l: &crate::model::Load| match (&r.load, pass) {
                     (None, 0) => true,
                     (Some(t), 1) => {
-                        crate::io::workbook_in::load_type(t).is_some_and(|k| k == l.kind)
+                        crate::model::LoadType::from_text(t).is_some_and(|k| k == l.kind)
                     }
                     (Some(id), 2) => l.id == *id,
                     _ => false,
@@ -74,20 +74,6 @@ pub fn levels(plant: &Plant) -> Result<Vec<Level>, DesignError> {
                 for l in p.loads.iter_mut().filter(|l| matches(l)) {
                     l.load_factor = r.load_factor;
                 }
-            }
-        }
-        for r in &rows {
-            if let Some(t) = &r.load
-                && crate::io::workbook_in::load_type(t).is_none()
-                && !plant.loads.iter().any(|l| l.id == *t)
-            {
-                return Err(DesignError::Input {
-                    sheet: "Load levels",
-                    cell: r.cell.0.clone(),
-                    message: format!(
-                        "\"Load\" names \"{t}\", which is neither a load on the Loads sheet nor a load type"
-                    ),
-                });
             }
         }
         out.push(Level {

@@ -219,52 +219,6 @@ fn design_rows(plant: &Plant) -> Result<(Vec<DesignRow>, bool), DesignError> {
     Ok((rows, true))
 }
 
-/// Checks what the reader cannot: buses that exist, a price per voltage class.
-fn validate_rows(plant: &Plant, rows: &[DesignRow]) -> Result<(), DesignError> {
-    for r in rows {
-        if plant.bus_index(&r.bus).is_none() {
-            return Err(DesignError::Input {
-                sheet: "Design",
-                cell: r.cells.bus.clone(),
-                message: format!(
-                    "\"Bus\" names \"{}\", which is not on the Buses sheet",
-                    r.bus
-                ),
-            });
-        }
-        if r.step_kvar.is_empty() {
-            return Err(DesignError::Input {
-                sheet: "Design",
-                cell: r.cells.step_kvar.clone(),
-                message: "\"Step kvar\" lists no step size: give the allowed sizes, kvar at rated voltage, e.g. 25, 50, 100".into(),
-            });
-        }
-        let n = r.capacitor_cost_per_kvar.len();
-        if n > 1 && n != r.rated_kv.len() {
-            return Err(DesignError::Input {
-                sheet: "Design",
-                cell: r.cells.capacitor_cost.clone(),
-                message: format!(
-                    "\"Capacitor cost (per kvar)\" lists {n} prices for {} voltage classes in \"Rated kV\": give one price, or one per class in the same order",
-                    r.rated_kv.len()
-                ),
-            });
-        }
-    }
-    if rows.len() > 1 {
-        for (i, r) in rows.iter().enumerate() {
-            if rows[..i].iter().any(|o| o.bus == r.bus) {
-                return Err(DesignError::Input {
-                    sheet: "Design",
-                    cell: r.cells.bus.clone(),
-                    message: format!("bus \"{}\" is listed twice: one row per bus", r.bus),
-                });
-            }
-        }
-    }
-    Ok(())
-}
-
 /// The check options of the search: no remedies, no switching simulation.
 fn check_options(options: &DesignOptions, scan_only: bool) -> CheckOptions {
     CheckOptions {
@@ -336,8 +290,14 @@ type Bounded = (Plan, Vec<Vec<Control>>, Vec<Vec<Control>>);
 /// Runs the design search on `plant` (its `Design` and `Load levels` rows).
 pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult, DesignError> {
     plant.validate().map_err(CheckError::from)?;
+    if let Some(p) = design_problems(plant).into_iter().next() {
+        return Err(DesignError::Input {
+            sheet: p.sheet,
+            cell: p.cell,
+            message: p.message,
+        });
+    }
     let (rows, derived) = design_rows(plant)?;
-    validate_rows(plant, &rows)?;
     let target = plant.study.target_power_factor;
     // The plant each row's plans join: the proposed bank on that row's bus is what is
     // designed; every other bank stays as on the Capacitors sheet.
