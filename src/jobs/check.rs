@@ -9,7 +9,7 @@ use crate::solve::SolveError;
 use crate::study::config::ConfigurationError;
 use crate::study::duty::DutyRow;
 use crate::study::limits::{LimitContext, LimitRow};
-use crate::study::operating::OperatingStudy;
+use crate::study::operating::{OperatingSolver, OperatingStudy};
 use crate::study::penetration::{BankAmplification, Penetration};
 use crate::study::remedy::RemedyResult;
 use crate::study::switching::SwitchingStudy;
@@ -94,6 +94,9 @@ pub struct CheckResults {
     pub resonance: ResonanceStudy,
     /// The fundamental load flow of every scenario × configuration.
     pub operating: OperatingStudy,
+    /// The fundamental load flow the operating study was solved with (single
+    /// configurations for the CSVs and the switching simulation).
+    pub load_flow: OperatingSolver,
     pub penetration: Penetration,
     pub limits: LimitContext,
     /// One limits summary per scenario × configuration, in that nesting order.

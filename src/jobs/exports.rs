@@ -213,7 +213,7 @@ impl BusTable {
     ) -> impl Iterator<Item = OperatingBlock> + 'a {
         (0..res.scan.scenarios.len()).flat_map(move |s| {
             self.configurations.iter().filter_map(move |&c| {
-                res.operating
+                res.load_flow
                     .voltages(s, &res.scan.configurations[c].steps)
                     .ok()
                     .map(|v_pu| OperatingBlock {

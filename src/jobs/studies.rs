@@ -12,7 +12,7 @@ use crate::study::background::background_shares;
 use crate::study::config::configuration_count;
 use crate::study::duty::{DutyRow, duty_rows};
 use crate::study::limits::{LimitContext, LimitRow, estimated_demand_a, limit_row};
-use crate::study::operating::OperatingStudy;
+use crate::study::operating::{OperatingSolver, OperatingStudy};
 use crate::study::penetration::{Injections, Penetration, SequenceEngines, bank_amplification};
 use crate::study::resonance::ZeroScan;
 use crate::study::switching::SwitchingStudy;
@@ -338,7 +338,8 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     } else {
         &scan.configurations
     };
-    let operating = OperatingStudy::run(plant, network, studied);
+    let load_flow = OperatingSolver::new(network);
+    let operating = OperatingStudy::run(plant, network, &load_flow, studied);
     let isc_ka = pcc_isc_ka(&ctx, &engine, &scan)?;
     let injections = if options.scan_only {
         Injections::none()
@@ -409,6 +410,7 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
             plant,
             net: network,
             operating: &operating,
+            load_flow: &load_flow,
             z_th_ohm: &switching_z_th_ohm(network, &engine, &scan)?,
         })
     };
@@ -427,6 +429,7 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
         zero_network: ctx.zero.clone(),
         resonance,
         operating,
+        load_flow,
         penetration,
         limits,
         limit_rows,

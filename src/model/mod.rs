@@ -15,8 +15,8 @@ mod validate_sequence;
 pub use design::*;
 pub use elements::*;
 pub use sequence::*;
-pub use validate_design::{DesignProblem, design_problems};
 pub use validate::{MAX_MAGNITUDE, MIN_MAGNITUDE, ModelError, ModelErrors};
+pub use validate_design::{DesignProblem, design_problems};
 
 /// Name of the single scenario studied when no source row names one (input contract,
 /// sheet `Sources`).

@@ -40,7 +40,10 @@ pub fn design_problems(plant: &Plant) -> Vec<DesignProblem> {
             push(
                 "Design",
                 &r.cells.bus,
-                format!("\"Bus\" names \"{}\", which is not on the Buses sheet", r.bus),
+                format!(
+                    "\"Bus\" names \"{}\", which is not on the Buses sheet",
+                    r.bus
+                ),
             );
         }
         if r.step_kvar.is_empty() {

@@ -2,6 +2,7 @@
 //! and the review workbook.
 
 use crate::model::Summation;
+use crate::study::operating::{OperatingPoint, PfVerdict};
 
 /// The model's scope in one sentence (input contract, version 2: sequences).
 pub fn model_scope() -> &'static str {
@@ -25,5 +26,25 @@ pub fn summation_meaning(law: Summation) -> &'static str {
         Summation::Phasor => {
             "contributions add as phasors (complex superposition): each load's harmonic current has the spectrum's angle plus h times the angle of its fundamental current at the operating point of the same scenario and configuration, carried through the transformer phase shifts; the background EMFs add with their own angles."
         }
+    }
+}
+
+/// A power-factor verdict as the reports print it.
+pub fn pf_word(v: PfVerdict) -> &'static str {
+    match v {
+        PfVerdict::Reaches => "reaches target",
+        PfVerdict::BelowTarget => "below target",
+        PfVerdict::Leading => "LEADING",
+        PfVerdict::NoLoad => "no load",
+    }
+}
+
+/// An operating point's verdict words: the PF verdict, and `OUT OF RANGE` when a bus is
+/// outside its band.
+pub fn operating_verdict(p: &OperatingPoint) -> String {
+    match (p.pf_verdict, p.buses_out_of_range > 0) {
+        (v, false) => pf_word(v).to_string(),
+        (PfVerdict::Leading, true) => "LEADING, OUT OF RANGE".to_string(),
+        (_, true) => "OUT OF RANGE".to_string(),
     }
 }

@@ -93,7 +93,9 @@ fn operating_point_300_buses_2401_configurations(bencher: divan::Bencher) {
     let net = overtone::network::Network::build(&plant).expect("network");
     let configs = overtone::study::all_configurations(&plant.banks);
     bencher.bench_local(|| {
-        let op = overtone::study::operating::OperatingStudy::run(&plant, &net, &configs);
+        use overtone::study::operating::{OperatingSolver, OperatingStudy};
+        let solver = OperatingSolver::new(&net);
+        let op = OperatingStudy::run(&plant, &net, &solver, &configs);
         assert_eq!(op.points.len(), 2 * 2401);
         op.points.len()
     });

@@ -92,7 +92,7 @@ fn textbook_three_bus_example() {
     ];
     p.loads = vec![pq("D2", "B2", 256.6, 110.2), pq("D3", "B3", 138.6, 45.2)];
     let res = run(&p);
-    let v = res.operating.voltages(0, &[]).expect("solves");
+    let v = res.load_flow.voltages(0, &[]).expect("solves");
     let (v2, v3) = (Complex64::new(0.98, -0.06), Complex64::new(1.0, -0.05));
     // Angles are referred to the slack bus.
     let rot = Complex64::from_polar(1.0, -v[0].arg());
@@ -153,7 +153,7 @@ fn power_factor_verdicts_and_kvar_needed() {
     // target, 2 reach it, 5 (3,000 kvar) lead.
     let res = run(&stiff(5, 600.0));
     let op = &res.operating;
-    let word = |n: usize| op.points[n].verdict();
+    let word = |n: usize| overtone::present::words::operating_verdict(&op.points[n]);
     assert_eq!(word(0), "below target");
     assert_eq!(word(1), "below target");
     assert_eq!(word(2), "reaches target");

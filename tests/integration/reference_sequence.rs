@@ -290,7 +290,7 @@ fn phasor_sum_of_two_drives_on_one_bus_by_hand() {
     }
     let res = run_check(&p, &Default::default()).unwrap();
     let on = config_index(&res, &[1]);
-    let theta_v = res.operating.voltages(0, &[1]).unwrap()[0].arg();
+    let theta_v = res.load_flow.voltages(0, &[1]).unwrap()[0].arg();
     let v = res.penetration.voltages(0, &[1]).unwrap();
     let z1 = 0.48f64 * 0.48 / 20.0;
     let r = z1 / 101f64.sqrt();

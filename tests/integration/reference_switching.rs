@@ -169,7 +169,7 @@ fn halving_the_time_step_changes_no_peak_by_half_a_percent() {
         let res = check(&p);
         for ev in events(&res.plant, &res.network) {
             let v = res
-                .operating
+                .load_flow
                 .shift_free_voltages(ev.scenario, &ev.before)
                 .ok();
             let mut s = setup(&res.plant, &res.network, &ev, v.as_deref(), None);
@@ -210,7 +210,7 @@ fn state_before_closing_is_the_operating_point() {
         let evs: Vec<EventSpec> = events(&res.plant, &res.network);
         assert!(!evs.is_empty());
         for ev in evs.iter().step_by(3) {
-            let Ok(v) = res.operating.shift_free_voltages(ev.scenario, &ev.before) else {
+            let Ok(v) = res.load_flow.shift_free_voltages(ev.scenario, &ev.before) else {
                 continue;
             };
             let s = setup(&res.plant, &res.network, ev, Some(&v), None);
@@ -293,7 +293,7 @@ fn bundled_case_peaks_match_circuit_simulator() {
     assert_eq!(pick.len(), 2);
     for ev in pick {
         let v = res
-            .operating
+            .load_flow
             .shift_free_voltages(ev.scenario, &ev.before)
             .ok();
         let s = setup(&res.plant, &res.network, ev, v.as_deref(), None);

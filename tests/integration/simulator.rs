@@ -187,7 +187,7 @@ fn phasor_summation_with_background_matches_circuit_simulator() {
     }
     let p = plant();
     let res = run_check(&p, &Default::default()).unwrap();
-    let v_op = res.operating.voltages(0, &[1]).unwrap();
+    let v_op = res.load_flow.voltages(0, &[1]).unwrap();
     let v = res.penetration.voltages(0, &[1]).unwrap();
     let v_ln = KV * 1000.0 / 3f64.sqrt();
     let index = |id: &str| res.network.bus_index(id).unwrap();

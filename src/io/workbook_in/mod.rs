@@ -276,6 +276,9 @@ pub fn read_workbook_bytes(file: &str, stem: &str, bytes: &[u8]) -> Result<ReadO
     read_workbook_bytes_within(file, stem, bytes, &ReadLimits::default())
 }
 
+/// A sheet's name as found and its rows.
+type SheetRows = Option<(String, Vec<Row>)>;
+
 /// The sheets of [`SHEETS`] that the workbook has, in that order, as rows (`None` for an
 /// optional sheet it lacks); a missing required sheet or an unreadable one is an error
 /// naming the file.
@@ -284,12 +287,12 @@ fn sheet_tables(
     wb: &mut Sheets<Cursor<&[u8]>>,
     names: &[String],
     limits: &ReadLimits,
-) -> Result<Vec<Option<(String, Vec<Row>)>>, ReadError> {
+) -> Result<Vec<SheetRows>, ReadError> {
     let fail = |reason: String| ReadError::File {
         file: file.to_string(),
         reason,
     };
-    let mut sheets: Vec<Option<(String, Vec<Row>)>> = Vec::new();
+    let mut sheets: Vec<SheetRows> = Vec::new();
     let mut missing = Vec::new();
     let mut budget = limits.max_cells;
     for &(sheet, required) in SHEETS {
@@ -362,7 +365,7 @@ struct Tables {
 /// validation errors to cells), so that at most one sheet's cells are held beside the
 /// plant.
 fn read_plant(
-    mut sheets: Vec<Option<(String, Vec<Row>)>>,
+    mut sheets: Vec<SheetRows>,
     stem: &str,
     diag: &mut Diagnostics,
 ) -> (Plant, Tables, study::ItemCells) {

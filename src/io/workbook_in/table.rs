@@ -56,7 +56,6 @@ fn edit_distance(a: &str, b: &str) -> usize {
 
 pub use crate::model::normalize;
 
-
 /// A1 notation of a zero-based (row, column).
 pub fn a1(row: u32, col: u32) -> String {
     let mut letters = Vec::new();

@@ -12,7 +12,7 @@
 use super::DesignError;
 use crate::model::{LoadLevelRow, Plant};
 use crate::network::Network;
-use crate::study::operating::{OperatingStudy, supply_power};
+use crate::study::operating::{OperatingSolver, supply_power};
 
 /// One load level: its name, its weight (hours per year) and the plant at that level.
 #[derive(Debug, Clone)]
@@ -108,7 +108,7 @@ impl Control {
 /// The PF controller over `allowed[b]` (ascending step counts of bank b, in controller
 /// order `order`) at scenario `s` of `study` (built on `net`).
 pub fn control(
-    study: &OperatingStudy,
+    study: &OperatingSolver,
     net: &Network,
     s: usize,
     allowed: &[Vec<u32>],

@@ -35,7 +35,7 @@ use crate::jobs::notes::Note;
 use crate::model::*;
 use crate::network::Network;
 use crate::study::Verdict;
-use crate::study::operating::OperatingStudy;
+use crate::study::operating::OperatingSolver;
 use crate::study::remedy::Outcome;
 pub use levels::{Control, Level};
 use outcome::{evaluate, notes, rank, reason};
@@ -248,7 +248,7 @@ fn controls(
             plant.banks.push(b);
         }
         let net = Network::build(&plant).map_err(CheckError::from)?;
-        let study = OperatingStudy::run(&plant, &net, &[]);
+        let study = OperatingSolver::new(&net);
         let allowed: Vec<Vec<u32>> = plant
             .banks
             .iter()

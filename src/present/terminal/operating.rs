@@ -38,7 +38,7 @@ fn cells(p: &OperatingPoint) -> Vec<String> {
         format!("{:.4}", p.pcc_v_pu),
         format!("{:.4} {}", p.min_v_pu, p.min_v_bus),
         format!("{:.4} {}", p.max_v_pu, p.max_v_bus),
-        p.verdict(),
+        crate::present::words::operating_verdict(p),
     ]
 }
 

@@ -9,7 +9,7 @@ use super::{
 };
 use crate::model::Plant;
 use crate::network::Network;
-use crate::study::operating::OperatingStudy;
+use crate::study::operating::{OperatingSolver, OperatingStudy};
 use crate::study::transient::{Inrush, Regime, Rlc, back_to_back, energize, step_branch};
 
 /// What the study reads.
@@ -17,6 +17,8 @@ pub struct Inputs<'a> {
     pub plant: &'a Plant,
     pub net: &'a Network,
     pub operating: &'a OperatingStudy,
+    /// The load flow the operating study was solved with.
+    pub load_flow: &'a OperatingSolver,
     /// Per scenario and bank: the supply's Thevenin R and X at the bank's bus, ohm at
     /// fundamental, without banks (for the formulas).
     pub z_th_ohm: &'a [Vec<(f64, f64)>],
@@ -54,7 +56,7 @@ pub fn run(inp: &Inputs<'_>) -> SwitchingStudy {
             .max_by(|x, y| x.0.peak_a.total_cmp(&y.0.peak_a));
         let Some((e, ev)) = worst else { continue };
         let v = inp
-            .operating
+            .load_flow
             .shift_free_voltages(ev.scenario, &ev.before)
             .ok();
         let s = setup(inp.plant, inp.net, ev, v.as_deref(), None);
@@ -142,7 +144,7 @@ fn one(inp: &Inputs<'_>, ev: &EventSpec) -> Result<SwitchingEvent, String> {
     }
     .label(&plant.banks);
     let v = inp
-        .operating
+        .load_flow
         .shift_free_voltages(ev.scenario, &ev.before)
         .ok();
     let s = setup(plant, net, ev, v.as_deref(), None);

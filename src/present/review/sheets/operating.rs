@@ -78,7 +78,7 @@ pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
                 n(p.max_v_pu, "0.0000"),
                 t(&p.max_v_bus),
                 n(p.buses_out_of_range as f64, "0"),
-                t(p.verdict()),
+                t(crate::present::words::operating_verdict(p)),
             ],
         )?;
         r += 1;

@@ -17,9 +17,12 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use super::Configuration;
-use crate::model::{CapacitorBank, Plant};
+use crate::model::Plant;
 use crate::network::{BASE_MVA, Network};
-use crate::solve::{LoadFlowFailure, LoadFlowScratch, LoadFlowSystem, Symbolic};
+use crate::solve::{LoadFlowFailure, LoadFlowScratch, decreasing_root};
+
+mod solver;
+pub use solver::OperatingSolver;
 
 /// A configuration whose load flow has no solution: the sentence the reports print (the
 /// other studies go on, and that configuration's duty uses the nominal voltage).
@@ -45,18 +48,6 @@ pub enum PfVerdict {
     Leading,
     /// No active power drawn: the power factor is not defined.
     NoLoad,
-}
-
-impl PfVerdict {
-    /// The word the reports print.
-    pub fn word(self) -> &'static str {
-        match self {
-            PfVerdict::Reaches => "reaches target",
-            PfVerdict::BelowTarget => "below target",
-            PfVerdict::Leading => "LEADING",
-            PfVerdict::NoLoad => "no load",
-        }
-    }
 }
 
 /// The operating point of one scenario × configuration.
@@ -93,15 +84,6 @@ impl OperatingPoint {
     /// True when the configuration overcompensates or pushes a bus out of range.
     pub fn flagged(&self) -> bool {
         self.pf_verdict == PfVerdict::Leading || self.buses_out_of_range > 0
-    }
-
-    /// The verdict words: the PF verdict, and `OUT OF RANGE` when a bus is outside its band.
-    pub fn verdict(&self) -> String {
-        match (self.pf_verdict, self.buses_out_of_range > 0) {
-            (v, false) => v.word().to_string(),
-            (PfVerdict::Leading, true) => "LEADING, OUT OF RANGE".to_string(),
-            (_, true) => "OUT OF RANGE".to_string(),
-        }
     }
 }
 
@@ -160,22 +142,10 @@ pub struct OperatingStudy {
     pub low_pu: f64,
     pub high_pu: f64,
     pub step_limit_percent: f64,
-    sym: Symbolic,
-    systems: Vec<LoadFlowSystem>,
-    /// The solution without banks per scenario (the start of every other solve).
-    /// The start of every solve per scenario: the solution without banks, or a flat start
-    /// at the largest source EMF when that configuration has no solution.
-    base: Vec<Vec<Complex64>>,
-    /// Whether `base` is the solution without banks.
-    base_solved: Vec<bool>,
     /// Index into `points` of each scenario × studied configuration (`None`: no solution).
     slots: Vec<Option<usize>>,
     /// Configurations without a load-flow solution (voltage collapse), each a sentence.
     pub collapsed: Vec<CollapseError>,
-    /// One step's fundamental admittance of each bank and its bus.
-    bank_y: Vec<(usize, Complex64)>,
-    /// e^{jθ} of each bus's transformer phase-shift zone (positive sequence).
-    zone: Vec<Complex64>,
 }
 
 /// Configurations solved one after the other from a warm start, per parallel task.
@@ -193,30 +163,15 @@ struct Solved {
 
 impl OperatingStudy {
     /// Solves every scenario for `configurations` (plus, for the step changes, each
-    /// configuration with one step fewer of each energized bank).
-    pub fn run(plant: &Plant, net: &Network, configurations: &[Configuration]) -> OperatingStudy {
+    /// configuration with one step fewer of each energized bank) with `solver`.
+    pub fn run(
+        plant: &Plant,
+        net: &Network,
+        solver: &OperatingSolver,
+        configurations: &[Configuration],
+    ) -> OperatingStudy {
         let keep_angles = plant.study.summation == crate::model::Summation::Phasor;
-        let n = net.buses.len();
-        let sym = Symbolic::new(n, &net.edges());
-        let mut s_load = vec![Complex64::default(); n];
-        for l in &net.power_loads {
-            s_load[l.bus] += l.s_pu;
-        }
-        let systems: Vec<LoadFlowSystem> = (0..net.scenarios.len())
-            .map(|s| {
-                LoadFlowSystem::new(
-                    &sym,
-                    |add| net.stamp_load_flow(s, add),
-                    &net.norton_currents(s),
-                    &s_load,
-                )
-            })
-            .collect();
-        let bank_y: Vec<(usize, Complex64)> = net
-            .banks
-            .iter()
-            .map(|b| (b.bus, b.y_step_pu(1.0, net.resistance)))
-            .collect();
+        let nk = net.banks.len();
         let label = |steps: &[u32]| {
             Configuration {
                 steps: steps.to_vec(),
@@ -233,26 +188,6 @@ impl OperatingStudy {
                 }
             },
         };
-        let mut base = Vec::new();
-        let mut base_solved = Vec::new();
-        let nk = net.banks.len();
-        for (s, sys) in systems.iter().enumerate() {
-            let flat = net.scenarios[s]
-                .sources
-                .iter()
-                .map(|&i| net.source_emf_pu[i])
-                .fold(0.0, f64::max)
-                .max(0.5);
-            let mut v = vec![Complex64::new(flat, 0.0); n];
-            let ok = sys
-                .solve(&sym, &[], &mut v, &mut LoadFlowScratch::default())
-                .is_ok();
-            if !ok {
-                v = vec![Complex64::new(flat, 0.0); n];
-            }
-            base.push(v);
-            base_solved.push(ok);
-        }
         let mut study = OperatingStudy {
             points: Vec::new(),
             step_changes: Vec::new(),
@@ -261,18 +196,8 @@ impl OperatingStudy {
             low_pu: plant.study.voltage_range.low_pu,
             high_pu: plant.study.voltage_range.high_pu,
             step_limit_percent: plant.study.step_voltage_change_percent,
-            sym,
-            systems,
-            base,
-            base_solved,
             slots: Vec::new(),
             collapsed: Vec::new(),
-            bank_y,
-            zone: net
-                .zone_deg
-                .iter()
-                .map(|d| Complex64::from_polar(1.0, d.to_radians()))
-                .collect(),
         };
         // Every configuration to solve: the studied ones and one step below each bank.
         let mut wanted: Vec<Vec<u32>> = Vec::new();
@@ -303,12 +228,12 @@ impl OperatingStudy {
             .par_iter()
             .map(|&(s, chunk)| {
                 let mut w = LoadFlowScratch::default();
-                let mut v = study.base[s].clone();
+                let mut v = solver.start(s).to_vec();
                 chunk
                     .iter()
                     .map(|steps| {
                         let x: Vec<f64> = steps.iter().map(|&k| f64::from(k)).collect();
-                        match study.solve_into(s, &x, &mut v, &mut w) {
+                        match solver.solve_into(s, &x, &mut v, &mut w) {
                             Ok(iterations) => {
                                 let (p_kw, q_kvar) = supply_power(net, s, &v);
                                 Ok(Solved {
@@ -324,7 +249,7 @@ impl OperatingStudy {
                                 })
                             }
                             Err(e) => {
-                                v.copy_from_slice(&study.base[s]);
+                                v.copy_from_slice(solver.start(s));
                                 Err(collapse(s, &x, e))
                             }
                         }
@@ -358,54 +283,8 @@ impl OperatingStudy {
             }
         }
         study.step_changes = study.step_changes(net, plant, configurations, &index);
-        study.needs = study.needs(net, plant);
+        study.needs = study.needs(net, plant, solver);
         study
-    }
-
-    /// Solves scenario `s` with `steps[b]` (possibly fractional) steps of every bank,
-    /// starting from and returning in `v` (per unit, by bus).
-    fn solve_into(
-        &self,
-        s: usize,
-        steps: &[f64],
-        v: &mut [Complex64],
-        w: &mut LoadFlowScratch,
-    ) -> Result<u32, LoadFlowFailure> {
-        let shunts: Vec<(usize, Complex64)> = self
-            .bank_y
-            .iter()
-            .zip(steps)
-            .filter(|(_, n)| **n != 0.0)
-            .map(|(&(bus, y), &n)| (bus, y * n))
-            .collect();
-        self.systems[s].solve(&self.sym, &shunts, v, w)
-    }
-
-    /// Every bus voltage (per unit, complex, by bus) of scenario `s` with `steps`, solved
-    /// from the solution without banks; the same values as the study's to about 1e-14.
-    /// Angles include each bus's transformer phase shift (its zone against the PCC).
-    pub fn voltages(&self, s: usize, steps: &[u32]) -> Result<Vec<Complex64>, LoadFlowFailure> {
-        let mut v = self.shift_free_voltages(s, steps)?;
-        for (x, z) in v.iter_mut().zip(&self.zone) {
-            *x *= z;
-        }
-        Ok(v)
-    }
-
-    /// Every bus voltage of scenario `s` with `steps` in the shift-free network (each
-    /// zone's phase shift left out, every source EMF at angle 0), per unit, by bus.
-    pub fn shift_free_voltages(
-        &self,
-        s: usize,
-        steps: &[u32],
-    ) -> Result<Vec<Complex64>, LoadFlowFailure> {
-        if self.base.get(s).is_none() {
-            return Err(LoadFlowFailure::NoConvergence);
-        }
-        let mut v = self.base[s].clone();
-        let x: Vec<f64> = steps.iter().map(|&k| f64::from(k)).collect();
-        self.solve_into(s, &x, &mut v, &mut LoadFlowScratch::default())?;
-        Ok(v)
     }
 
     /// The point of scenario `s` and studied configuration `c` (of `nc`).
@@ -525,28 +404,32 @@ impl OperatingStudy {
     /// Per scenario and bank, the fractional steps of that bank alone that bring the PCC to
     /// the target power factor: the root of g(x) = Q(x) − P(x)·tan(acos target) by the
     /// secant method safeguarded by bisection, each evaluation a load flow.
-    fn needs(&self, net: &Network, plant: &Plant) -> Vec<KvarNeed> {
+    fn needs(&self, net: &Network, plant: &Plant, solver: &OperatingSolver) -> Vec<KvarNeed> {
         let mut out = Vec::new();
         let tan_t = self.target_power_factor.acos().tan();
         let nk = net.banks.len();
         for s in 0..net.scenarios.len() {
-            if !self.base_solved[s] {
+            let Some(base) = solver.solved_base(s) else {
                 continue;
-            }
-            let (p0, q0) = supply_power(net, s, &self.base[s]);
+            };
+            let (p0, q0) = supply_power(net, s, base);
             let (pf0, _) = power_factor(p0, q0, self.target_power_factor);
             let tan0 = if p0 > 0.0 { q0 / p0 } else { 0.0 };
             for (b, bank) in plant.banks.iter().enumerate() {
                 let mut w = LoadFlowScratch::default();
-                let mut v = self.base[s].clone();
-                let mut g = |x: f64, v: &mut Vec<Complex64>| -> Option<f64> {
+                let mut v = base.to_vec();
+                // g(x) = Q(x) − P(x)·tan φ_target, decreasing in the steps x; a trial
+                // without load-flow solution can only be a very large bank (beyond the
+                // root). Each trial starts from the one before.
+                let mut g = |x: f64| -> Option<f64> {
                     let mut steps = vec![0.0; nk];
                     steps[b] = x;
-                    self.solve_into(s, &steps, v, &mut w).ok()?;
-                    let (p, q) = supply_power(net, s, v);
+                    solver.solve_into(s, &steps, &mut v, &mut w).ok()?;
+                    let (p, q) = supply_power(net, s, &v);
                     Some(q - p * tan_t)
                 };
-                let steps_needed = find_steps(&mut g, &mut v, q0 - p0 * tan_t, bank);
+                let hi = 4.0 * f64::from(bank.steps.max(1));
+                let steps_needed = decreasing_root(&mut g, q0 - p0 * tan_t, hi);
                 out.push(KvarNeed {
                     scenario: net.scenarios[s].name.clone(),
                     bank: bank.id.clone(),
@@ -562,59 +445,6 @@ impl OperatingStudy {
         }
         out
     }
-}
-
-/// g(x, warm-start voltages) of [`find_steps`]: `None` when the load flow at x has no
-/// solution.
-type Residual<'a> = dyn FnMut(f64, &mut Vec<Complex64>) -> Option<f64> + 'a;
-
-/// The root of the decreasing g on [0, 4·steps] (kvar): 0 when g(0) ≤ 0, `None` when g stays
-/// positive. A trial without load-flow solution counts as beyond the root (it can only be
-/// a very large bank).
-fn find_steps(
-    g: &mut Residual<'_>,
-    v: &mut Vec<Complex64>,
-    g0: f64,
-    bank: &CapacitorBank,
-) -> Option<f64> {
-    if g0 <= 0.0 {
-        return Some(0.0);
-    }
-    let mut hi_x = 4.0 * f64::from(bank.steps.max(1));
-    let mut g_hi = None;
-    for _ in 0..40 {
-        g_hi = g(hi_x, v);
-        if g_hi.is_some() {
-            break;
-        }
-        hi_x *= 0.5;
-    }
-    let g_hi = g_hi?;
-    if g_hi > 0.0 {
-        return None;
-    }
-    let (mut a, mut ga, mut c, mut gc) = (0.0, g0, hi_x, g_hi);
-    for _ in 0..100 {
-        // Secant point, kept inside the bracket; bisection when it stalls at an end.
-        let mut x = a - ga * (c - a) / (gc - ga);
-        if !(x > a + 1e-3 * (c - a) && x < c - 1e-3 * (c - a)) {
-            x = 0.5 * (a + c);
-        }
-        let gx = g(x, v).unwrap_or(f64::NEG_INFINITY);
-        if gx.abs() < 1e-6 || (c - a) < 1e-9 * hi_x {
-            return Some(x);
-        }
-        if gx > 0.0 {
-            (a, ga) = (x, gx);
-        } else if gx.is_finite() {
-            (c, gc) = (x, gx);
-        } else {
-            // No solution at x: bisect towards the solved end.
-            c = x;
-            gc = ga - (ga - gc).abs().max(1.0);
-        }
-    }
-    Some(0.5 * (a + c))
 }
 
 /// P (kW) and Q (kvar) the scenario's sources deliver into their buses:
