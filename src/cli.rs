@@ -7,7 +7,7 @@ use std::time::Instant;
 
 use clap::{Parser, Subcommand};
 use indicatif::{ProgressBar, ProgressStyle};
-use overtone::export::OutputKind;
+use overtone::export::{CheckOutputs, OutputKind};
 use overtone::jobs::check::CheckOptions;
 use overtone::jobs::size::SizeRequest;
 
@@ -195,6 +195,19 @@ impl Outputs {
             (self.operating_csv.as_deref(), OutputKind::Csv),
             (self.transients_csv.as_deref(), OutputKind::Csv),
         ]
+    }
+
+    /// The outputs asked for, with the narrowing of the CSVs.
+    pub fn outputs(&self) -> CheckOutputs<'_> {
+        CheckOutputs {
+            review: self.output.as_deref(),
+            scan_csv: self.scan_csv.as_deref(),
+            voltages_csv: self.voltages_csv.as_deref(),
+            operating_csv: self.operating_csv.as_deref(),
+            transients_csv: self.transients_csv.as_deref(),
+            buses: &self.select.buses,
+            configurations: &self.select.configurations,
+        }
     }
 
     /// `--remedies` / `--no-remedies`: `None` = the default rule.

@@ -14,8 +14,7 @@ use overtone::export::{ExportPlan, OutputKind};
 use overtone::io::provenance::{Provenance, file_provenance, parse_date};
 use overtone::io::workbook_in::{ReadOutcome, read_workbook};
 use overtone::jobs::check::run_check;
-use overtone::jobs::exports::{BusTable, ScanTable, selection};
-use overtone::present::{csv, json, review, terminal};
+use overtone::present::{json, terminal};
 
 /// A failure: the message for stderr.
 struct Failure(String);
@@ -99,13 +98,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
         Command::Design(a) => design(&a),
         Command::Template { file, force } => {
             let plan = ExportPlan::check(&[(Some(&file), OutputKind::Template)], None, force)?;
-            let bytes = overtone::io::template::template_bytes().map_err(|e| {
-                Failure(format!(
-                    "{}: the workbook cannot be written ({e})",
-                    file.display()
-                ))
-            })?;
-            plan.write(&file, &bytes)?;
+            plan.write_template(&file)?;
             Ok(ExitCode::SUCCESS)
         }
     }
@@ -146,9 +139,7 @@ fn scan(
     let res = res?;
     match path {
         Some(path) => {
-            let sel = selection(&res, &select.buses, &select.configurations)?;
-            let table = ScanTable::new(&res, &sel).bounded()?;
-            plan.write_with(path, |w| csv::write_scan_csv(w, &res, table.curves(&res)))?;
+            plan.write_scan(&res, path, &select.buses, &select.configurations)?;
             Ok(ExitCode::SUCCESS)
         }
         None if json => print(|w| writeln!(w, "{}", json::to_json(&res))),
@@ -170,35 +161,7 @@ fn study(
     let res = run_check(&read.plant, &options);
     bar.finish_and_clear();
     let res = res?;
-    let sel = selection(&res, &out.select.buses, &out.select.configurations)?;
-    if let Some(path) = &out.scan_csv {
-        let table = ScanTable::new(&res, &sel).bounded()?;
-        plan.write_with(path, |w| csv::write_scan_csv(w, &res, table.curves(&res)))?;
-    }
-    if let Some(path) = &out.voltages_csv {
-        let t = BusTable::new(&res, &sel);
-        plan.write_with(path, |w| {
-            csv::write_voltages_csv(w, &res, &t.buses, t.voltages(&res))
-        })?;
-    }
-    if let Some(path) = &out.operating_csv {
-        let t = BusTable::new(&res, &sel).bounded(&res)?;
-        plan.write_with(path, |w| {
-            csv::write_operating_csv(w, &res, &t.buses, t.operating(&res))
-        })?;
-    }
-    if let Some(path) = &out.transients_csv {
-        plan.write_with(path, |w| csv::write_transients_csv(w, &res))?;
-    }
-    if let Some(path) = &out.output {
-        let bytes = review::review_bytes(&res, &prov).map_err(|e| {
-            Failure(format!(
-                "{}: the review workbook cannot be written ({e})",
-                path.display()
-            ))
-        })?;
-        plan.write(path, &bytes)?;
-    }
+    plan.write_check(&res, &out.outputs(), &prov)?;
     let code = print(|w| match out.json {
         true => writeln!(w, "{}", json::to_json(&res)),
         false => terminal::summary::write_summary(w, &res),
@@ -227,32 +190,17 @@ fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
     let res = overtone::jobs::design::run_design(&read.plant, &options);
     bar.finish_and_clear();
     let res = res?;
-    if let Some(path) = &a.write_plant
-        && let Some(i) = res.recommended
-    {
-        let bytes = overtone::io::template::plant_workbook(&res.plant_with(i)).map_err(|e| {
-            Failure(format!(
-                "{}: the workbook cannot be written ({e})",
-                path.display()
-            ))
-        })?;
-        plan.write(path, &bytes)?;
-    }
-    if let Some(path) = &a.output {
-        let mut prov = file_provenance(&a.plant, &read.warnings, overtone::demo::DEMO_DATE)
-            .map_err(|e| Failure(format!("{}: {e}", a.plant.display())))?;
-        if let Some(d) = date {
-            prov.date = d;
+    let prov = match &a.output {
+        Some(_) => {
+            let mut prov = file_provenance(&a.plant, &read.warnings, overtone::demo::DEMO_DATE)
+                .map_err(|e| Failure(format!("{}: {e}", a.plant.display())))?;
+            prov.date = date.unwrap_or(prov.date);
+            Some(prov)
         }
-        let study = overtone::jobs::design::recommended_study(&res)?;
-        let bytes = review::design_review_bytes(&res, &study, &prov).map_err(|e| {
-            Failure(format!(
-                "{}: the review workbook cannot be written ({e})",
-                path.display()
-            ))
-        })?;
-        plan.write(path, &bytes)?;
-    }
+        None => None,
+    };
+    let review = a.output.as_deref().zip(prov.as_ref());
+    plan.write_design(&res, a.write_plant.as_deref(), review)?;
     let code = print(|w| match a.json {
         true => writeln!(w, "{}", json::design_json(&res)),
         false => terminal::design::write_design(w, &res),

@@ -368,11 +368,6 @@ impl HarmonicPoint {
             })),
         }
     }
-
-    /// True for a point built by [`Engine::harmonic_point_lean`].
-    pub fn is_lean(&self) -> bool {
-        self.lean.is_some()
-    }
 }
 
 impl PlanState for TState {

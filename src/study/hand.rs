@@ -127,12 +127,6 @@ pub fn radial_path(plant: &Plant, scenario: &str, bus: &str) -> Option<Vec<PathE
     Some(path)
 }
 
-/// S_sc (MVA) of a path: S_base / |Σ Z|, the series elements added as complex impedances.
-pub fn path_s_sc_mva(plant: &Plant, path: &[PathElement]) -> f64 {
-    let z: Complex64 = path.iter().map(|&e| element_z_pu(plant, e)).sum();
-    BASE_MVA / z.norm()
-}
-
 /// The parallel-resonance order of a bus with groups of energized steps `(X_C, X_L)` (ohm
 /// at fundamental, the group's steps together) behind a system reactance `x_th` (ohm,
 /// the Thevenin impedance's magnitude taken as inductive), lossless: the zero of the

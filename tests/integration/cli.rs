@@ -26,7 +26,7 @@ fn demo_prints_the_resonance_table_and_cautions() {
     let words = text.split_whitespace().collect::<Vec<_>>().join(" ");
     assert!(words.contains("licensed professional engineer"));
     // A detuned bank's nameplate beside its output at bus voltage, by hand:
-    // 0.48² / ((0.525²/0.1)·(1 − 0.07)) = 0.0899 Mvar per step (references.md's formulas).
+    // 0.48² / ((0.525²/0.1)·(1 − 0.07)) = 0.0899 Mvar per step (tests/references.md's formulas).
     assert!(
         words.contains("C2 3 x 100 kvar at 0.525 kV, 7 % detuned -> 89.9 kvar per step at 0.48 kV"),
         "{words}"
@@ -418,7 +418,7 @@ fn size_at_the_edges_prints_no_non_finite_number() {
 #[test]
 fn size_warns_of_units_and_an_undersized_capacitor() {
     // Units a user mistypes: a fraction for a percentage, volts for kV; and a rating below
-    // U/(1 − p) = 480/0.93 = 516 V (references.md's detuning table). Each a warning on
+    // U/(1 − p) = 480/0.93 = 516 V (tests/references.md's detuning table). Each a warning on
     // stderr, the sizing still printed, titled by what was asked.
     for (args, warning, title) in [
         (
@@ -772,7 +772,7 @@ fn strict_exits_0_on_a_clean_plant() {
 #[test]
 fn strict_exits_1_when_only_capacitor_duty_fails() {
     // A 7 % detuned step rated 440 V on a 480 V bus: its capacitor sees
-    // 480/440/(1 − 0.07) = 117 % of rated voltage, over IEEE 18's 110 % (references.md),
+    // 480/440/(1 − 0.07) = 117 % of rated voltage, over IEEE 18's 110 % (tests/references.md),
     // while its resonance (below 3.78) is clear of the 5th, the limits hold and the power
     // factor stays lagging (invented plant): `--strict` exits 1 for the duty alone.
     use crate::common::{bank, bus, load, source};
@@ -933,7 +933,7 @@ fn strict_exits_1_when_only_the_tolerance_band_is_flagged() {
     // 0.7, a small drive with a line reactor (characteristic 5th, 7th, ...) and two plain
     // steps rated 600 V (invented). With 2 × 1,000 kvar the nominal peak sits at about
     // 5.76, 15 % above the 5th (clear of the 10 % margin), but +10 % capacitance (IEEE 18's
-    // tolerance, references.md) moves it to about 5.49, within the margin: only the
+    // tolerance, tests/references.md) moves it to about 5.49, within the margin: only the
     // tolerance band is flagged, and `--strict` exits 1 for it. With 2 × 900 kvar the band
     // stays clear and `--strict` exits 0.
     use crate::common::{bank, bus, load, source};
@@ -1002,7 +1002,7 @@ fn the_output_folder_probe_leaves_nothing() {
 
 #[test]
 fn a_plant_over_its_limits_without_banks_is_said_first() {
-    // 800 kW of 6-pulse drives (77 % current THD, references.md's range) on a 2,000 kVA
+    // 800 kW of 6-pulse drives (77 % current THD, tests/references.md's range) on a 2,000 kVA
     // transformer (invented): with no bank at all the plant exceeds IEEE 519-2014, and the
     // summary says so in one sentence before any table; the demo, which meets its limits
     // without banks, does not.

@@ -808,7 +808,7 @@ fn implausible_values_warn_at_their_cells() {
             "Capacitors!F2: bank C1: \"Detuning (%)\" 0.07 is below 1 %: a fraction typed for a percentage? (7 % is entered as 7)",
         ),
         (
-            // 480/(1 − 0.07) = 516.1 V on a 480 V capacitor (references.md's table).
+            // 480/(1 − 0.07) = 516.1 V on a 480 V capacitor (tests/references.md's table).
             Book::base().set("Capacitors", "C2", N(0.48)),
             "Capacitors!C2: bank C1: \"Rated kV\" 0.48 is below what it sees: the 7.00 % reactor raises the capacitor's voltage to U/(1-p) = 0.516 kV (7.5 % over its rating; IEEE 18 allows 110 % of rated voltage with harmonics on top)",
         ),

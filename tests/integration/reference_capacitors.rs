@@ -1,5 +1,5 @@
 //! Capacitor duty, detuning and filter sizing, switching transients: against IEEE 18 and
-//! the published and textbook values of references.md, each with its source beside it.
+//! the published and textbook values of tests/references.md, each with its source beside it.
 
 use overtone::jobs::check::run_check;
 use overtone::model::*;
@@ -12,7 +12,7 @@ use crate::common::*;
 
 #[test]
 fn ieee_18_limits_at_below_and_above() {
-    // IEEE 18 continuous limits (references.md, verified for 2002, kept in 2012 from
+    // IEEE 18 continuous limits (tests/references.md, verified for 2002, kept in 2012 from
     // memory): 110 % rms voltage, 120 % peak voltage, 135 % rms current, 135 % kvar. A value
     // at the limit is within it.
     let base = DutyRatios {
@@ -58,14 +58,14 @@ fn duty_of_a_plain_bank_by_hand() {
     assert_close(r.kvar, 3.0 * (v1 * i1 + v5 * 60.0) / 300_000.0, 1e-12);
     // Peak current with the 5th in phase, by hand: √2·(360.844 + 60) = 595.163 A.
     assert_close(r.step_peak_a, 595.163, 1e-6);
-    // A 7 % detuned step sees U/(1 − p) at its terminals (references.md).
+    // A 7 % detuned step sees U/(1 − p) at its terminals (tests/references.md).
     let d = duty_ratios(&b, 1, 0.07, 0.48, &[], &[]);
     assert_close(d.rms_voltage, 1.0 / 0.93, 1e-12);
 }
 
 #[test]
 fn worked_detuned_step_example() {
-    // references.md, published worked example (seen once): 80 kvar 525 V capacitor, p = 7 %,
+    // tests/references.md, published worked example (seen once): 80 kvar 525 V capacitor, p = 7 %,
     // 50 Hz: X_C 3.445 ohm, C 923.9 uF, X_L 0.241 ohm, L 0.768 mH, 86.0 kvar at 525 V,
     // 49.9 kvar at 400 V. Within 0.2 %.
     let s = size_capacitor(50.0, 0.4, 0.525, 80.0, 0.07, 50.0, None);
@@ -127,7 +127,7 @@ fn worked_detuned_step_example() {
 
 #[test]
 fn detuning_table_capacitor_voltages() {
-    // references.md detuning table (common practice): Uc = U/(1 − p) at 400 V and 480 V.
+    // tests/references.md detuning table (common practice): Uc = U/(1 − p) at 400 V and 480 V.
     for (p, at400, at480) in [
         (0.0567, 424.0, 508.9),
         (0.07, 430.1, 516.1),
@@ -146,7 +146,7 @@ fn detuning_table_capacitor_voltages() {
 
 #[test]
 fn filter_at_4_7_dips_there_and_peaks_below_at_the_hand_order() {
-    // Single-tuned filter (references.md): X_L = X_C/h_t², the step's series resonance at
+    // Single-tuned filter (tests/references.md): X_L = X_C/h_t², the step's series resonance at
     // h_t; the parallel resonance with the supply below it at h_p = √(X_C/(X_sys + X_L)).
     let mut p = Plant::new(60.0);
     p.buses.push(bus("B", 0.48));
@@ -354,10 +354,10 @@ fn remedies_threshold_note_and_configuration_cap() {
 fn remedy_options_of_the_food_plant_by_hand() {
     // The food plant's bank: 4 × 225 kvar rated 480 V on a 480 V, 60 Hz bus; characteristic
     // orders 5, 7, 11, 13 … (6-pulse drives) and a 10 % margin. Hand calculation, textbook
-    // formulas of references.md (p = X_L/X_C, U_C = U/(1 − p), output U²/(X_C − X_L)):
+    // formulas of tests/references.md (p = X_L/X_C, U_C = U/(1 − p), output U²/(X_C − X_L)):
     // - the planned output is kept: 225 kvar per step at 480 V, so X_C − X_L = 0.48²/0.225
     //   = 1.02400 Ω and X_C = 1.02400/(1 − p);
-    // - 7 %: X_C = 1.10108 Ω, U_C = 480/0.93 = 516.13 V (references.md's table: 516.1),
+    // - 7 %: X_C = 1.10108 Ω, U_C = 480/0.93 = 516.13 V (tests/references.md's table: 516.1),
     //   rated 525 V (next rating), 525²/1.10108 = 250.32 kvar to buy per step,
     //   L = 0.07·1.10108/(2π·60) = 0.20445 mH;
     // - 5.67 %: U_C = 508.85 V (table: 508.9) → 525 V; 14 %: U_C = 558.14 V (table: 558.1)

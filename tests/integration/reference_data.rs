@@ -39,7 +39,7 @@ fn civil_dates_across_leap_days_and_centuries() {
 
 #[test]
 fn built_in_spectra_thd_within_the_published_ranges() {
-    // references.md, Converter spectra (typical current THD, from memory): 6-pulse without
+    // tests/references.md, Converter spectra (typical current THD, from memory): 6-pulse without
     // reactor about 70–120 %, with DC choke or 3 % line reactor 35–45 %, 12-pulse 8–12 %,
     // 18-pulse 4–6 %, active front end below 5 %.
     use overtone::model::LoadType::*;
@@ -59,7 +59,7 @@ fn built_in_spectra_thd_within_the_published_ranges() {
 
 #[test]
 fn characteristic_orders_by_converter_type() {
-    // h = k·p ± 1 for a p-pulse converter (textbook, references.md); every odd order from
+    // h = k·p ± 1 for a p-pulse converter (textbook, tests/references.md); every odd order from
     // the 3rd for single-phase electronic loads (common practice); a custom load's own
     // spectrum orders; the Background sheet's orders.
     use crate::common::*;

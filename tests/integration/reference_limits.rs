@@ -1,4 +1,4 @@
-//! Limit tables against the values of references.md, and penetration against hand-worked
+//! Limit tables against the values of tests/references.md, and penetration against hand-worked
 //! and published rules, each with its source beside it.
 
 use overtone::jobs::check::run_check;
@@ -10,7 +10,7 @@ use crate::common::*;
 
 #[test]
 fn ieee_519_2014_table_1_every_cell_and_edge() {
-    // IEEE 519-2014, Table 1 (references.md, verified): (kV, individual %, THD %).
+    // IEEE 519-2014, Table 1 (tests/references.md, verified): (kV, individual %, THD %).
     let expected = [
         (0.12, 5.0, 8.0),
         (0.48, 5.0, 8.0),
@@ -31,7 +31,7 @@ fn ieee_519_2014_table_1_every_cell_and_edge() {
 
 #[test]
 fn ieee_519_2014_table_2_every_cell_and_edge() {
-    // IEEE 519-2014, Table 2, 120 V to 69 kV (references.md, verified): rows by Isc/IL,
+    // IEEE 519-2014, Table 2, 120 V to 69 kV (tests/references.md, verified): rows by Isc/IL,
     // odd harmonics 3≤h<11, 11≤h<17, 17≤h<23, 23≤h<35, 35≤h≤50, then TDD.
     let rows = [
         (10.0, [4.0, 2.0, 1.5, 0.6, 0.3], 5.0),
@@ -82,7 +82,7 @@ fn ieee_519_2014_table_2_every_cell_and_edge() {
 #[test]
 fn ieee_519_2014_tables_3_and_4_from_memory() {
     // IEEE 519-2014 Table 3 is half of Table 2; Table 4 rows < 25, 25 < 50, ≥ 50
-    // (references.md: from memory).
+    // (tests/references.md: from memory).
     assert_eq!(ieee519::current_limit(115.0, 30.0, 5.0).unwrap().value, 3.5);
     assert_eq!(ieee519::tdd_limit(115.0, 30.0).value, 4.0);
     assert_eq!(ieee519::current_limit(230.0, 10.0, 5.0).unwrap().value, 1.0);
@@ -96,7 +96,7 @@ fn ieee_519_2014_tables_3_and_4_from_memory() {
 #[test]
 fn iec_61000_2_4_every_stored_cell_of_every_class() {
     // IEC 61000-2-4, harmonic voltage compatibility levels, % of fundamental, classes
-    // 1 / 2 / 3 (references.md, "Voltage compatibility levels": from memory).
+    // 1 / 2 / 3 (tests/references.md, "Voltage compatibility levels": from memory).
     let table = [
         (2.0, [2.0, 2.0, 3.0]),
         (3.0, [3.0, 5.0, 6.0]),
@@ -120,7 +120,7 @@ fn iec_61000_2_4_every_stored_cell_of_every_class() {
         }
     }
     // Non-triplen odd 17 ≤ h ≤ 49: 2.27·(17/h) − 0.27 (classes 1, 2) and 4.5·(17/h) − 0.5
-    // (class 3) (references.md, from memory), evaluated once by hand to 6 decimals.
+    // (class 3) (tests/references.md, from memory), evaluated once by hand to 6 decimals.
     let formula = [
         (17.0, 2.0, 4.0),
         (19.0, 1.761053, 3.526316),
@@ -278,7 +278,7 @@ fn hand_worked_single_bus_penetration() {
 
 #[test]
 fn summation_law_iec_61000_3_6() {
-    // IEC 61000-3-6 summation exponents (references.md): α = 1 for h < 5, 1.4 for
+    // IEC 61000-3-6 summation exponents (tests/references.md): α = 1 for h < 5, 1.4 for
     // 5 ≤ h ≤ 10, 2 for h > 10. Two equal loads give 2× at h < 5, 2^(1/1.4)× at 5 ≤ h ≤ 10
     // and √2× above; arithmetic gives 2× everywhere.
     assert_eq!(summation_exponent(4.9), 1.0);
@@ -315,7 +315,7 @@ fn summation_law_iec_61000_3_6() {
 fn pcc_current_limits_row_isc_and_estimated_demand() {
     // The single 480 V bus: Isc = 20 MVA / (√3·0.48 kV) = 24.056 kA (the source's fault
     // level, no banks); with I_L = 400 A, Isc/I_L = 60.14: IEEE 519-2014 Table 2, row
-    // 50 < 100 (references.md, verified): 10.0 % for 3 ≤ h < 11, 4.5 % for 11 ≤ h < 17,
+    // 50 < 100 (tests/references.md, verified): 10.0 % for 3 ≤ h < 11, 4.5 % for 11 ≤ h < 17,
     // TDD 12 %.
     let res = run_check(&single_bus(Summation::Arithmetic, 1), &Default::default()).unwrap();
     let ctx = &res.limits;
@@ -388,7 +388,7 @@ fn pcc_current_limits_row_isc_and_estimated_demand() {
 fn iec_limit_sets_end_to_end() {
     // IEC 61000-2-4 class 2 through a full check: voltage levels only (the standard sets no
     // PCC current limit, so no TDD or Ih limit), THD 8 % at every bus, the 5th at 6 %; the
-    // capacitors held to IEC 60831-1 up to 1 kV rated and IEC 60871-1 above (references.md,
+    // capacitors held to IEC 60831-1 up to 1 kV rated and IEC 60871-1 above (tests/references.md,
     // IEC capacitor standards: 1.10 U_n and 1.30 I_n, from memory).
     let mut p = Plant::new(50.0);
     p.study.limits = LimitSet::Iec61000_2_4Class2;

@@ -154,7 +154,7 @@ fn bank_behind_transformer(utility_mva: f64, kva: f64, z_percent: f64, kvar: f64
 
 #[test]
 fn worked_example_7_05() {
-    // references.md: 1500 kVA, 5.5 % transformer, utility 48,000 kVA short-circuit; system
+    // tests/references.md: 1500 kVA, 5.5 % transformer, utility 48,000 kVA short-circuit; system
     // 17,391 kVA; 350 kvar gives h = 7.05 (published worked example, seen once). Within 1 %.
     let res = bank_behind_transformer(48.0, 1500.0, 5.5, 350.0);
     let row = &res.resonance.rows[0];
@@ -165,7 +165,7 @@ fn worked_example_7_05() {
 
 #[test]
 fn worked_example_13_7() {
-    // references.md: 1000 kVA, 5.3 %, 480 V, 100 kvar: h = 13.7 (published worked example,
+    // tests/references.md: 1000 kVA, 5.3 %, 480 V, 100 kvar: h = 13.7 (published worked example,
     // seen once); the utility is taken as an infinite bus. Within 1 %.
     let res = bank_behind_transformer(1e6, 1000.0, 5.3, 100.0);
     let row = &res.resonance.rows[0];
@@ -175,7 +175,7 @@ fn worked_example_13_7() {
 
 #[test]
 fn detuning_table_orders() {
-    // references.md detuning table (common practice): p = 5.67 % -> 4.200, 7 % -> 3.780,
+    // tests/references.md detuning table (common practice): p = 5.67 % -> 4.200, 7 % -> 3.780,
     // 14 % -> 2.673; tuning order 1/√p. The series-resonance dip of a single detuned step
     // at its bus (weak source, constant resistance) within 0.001 order.
     for (percent, expected) in [(5.67, 4.200), (7.0, 3.780), (14.0, 2.673)] {
@@ -197,7 +197,7 @@ fn detuning_table_orders() {
 
 #[test]
 fn tuned_order_is_where_the_dip_lands() {
-    // Single-tuned filter (references.md): X_L = X_C / h_t², so the step's series resonance
+    // Single-tuned filter (tests/references.md): X_L = X_C / h_t², so the step's series resonance
     // is at h_t; here h_t = 4.7 (common practice for the 5th).
     let mut p = Plant::new(60.0);
     p.buses.push(bus("B", 0.48));

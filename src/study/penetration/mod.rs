@@ -149,13 +149,6 @@ pub fn individual_key(worst: Option<Individual>) -> f64 {
     })
 }
 
-/// The worst individual harmonic's ratio to its limit (0 without a limit).
-pub fn individual_ratio(worst: Option<Individual>) -> f64 {
-    worst
-        .and_then(|w| w.limit_percent.map(|l| w.v_percent / l))
-        .unwrap_or(0.0)
-}
-
 /// Per-bus individual limits by order (`None` = no limit), used while the voltages of a
 /// configuration are at hand.
 pub type IndividualLimits = Vec<Vec<Option<f64>>>;
