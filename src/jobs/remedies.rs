@@ -64,31 +64,112 @@ pub fn outcome(res: &CheckResults, bank: &str, labels: &[String]) -> Outcome {
     }
 }
 
+/// Why bank `b` of `res` is flagged (resonance, its tolerance band, duty), `None` when it
+/// is not.
+fn flagged_reason(res: &CheckResults, bank: &str) -> Option<String> {
+    let resonant = res
+        .resonance
+        .rows
+        .iter()
+        .any(|r| r.bank == bank && r.verdict == crate::study::Verdict::Resonant);
+    let duty = res.duty.iter().any(|r| r.bank == bank && r.exceeds);
+    let band = res.tolerance.iter().any(|t| t.bank == bank && t.flagged);
+    if !resonant && !duty && !band {
+        return None;
+    }
+    let mut why = Vec::new();
+    if resonant {
+        why.push("resonates near a characteristic order");
+    } else if band {
+        why.push("reaches a characteristic order across its capacitance tolerance");
+    }
+    if duty {
+        why.push("exceeds its duty limits");
+    }
+    Some(why.join(" and "))
+}
+
+/// One remedy option of bank `b` re-run through the studies over the configurations
+/// `labels` (`None` when the changed plant cannot be studied), with its outcome against
+/// `before`; its rank is set by [`crate::study::remedy::rank`].
+fn try_option(
+    res: &CheckResults,
+    b: usize,
+    option: crate::study::remedy::RemedyOption,
+    labels: &[String],
+    before: &Outcome,
+    options: &CheckOptions,
+) -> Option<RemedyResult> {
+    let (plant, bank) = (&res.plant, &res.plant.banks[b]);
+    let mut changed = plant.clone();
+    changed.banks[b] = crate::study::remedy::apply(bank, &option);
+    let rerun = CheckOptions {
+        buses: options.buses.clone(),
+        configurations: labels.to_vec(),
+        progress: None,
+        remedies: Some(false),
+        scan_only: false,
+        switching: false,
+        evaluation: options.evaluation,
+    };
+    let after_res = run_check(&changed, &rerun).ok()?;
+    let after = outcome(&after_res, &bank.id, labels);
+    let orders: Vec<f64> = after_res
+        .resonance
+        .rows
+        .iter()
+        .filter(|r| r.bank == bank.id)
+        .filter_map(|r| r.peak.map(|p| p.order))
+        .collect();
+    let resonance_after = (!orders.is_empty()).then(|| {
+        (
+            orders.iter().copied().fold(f64::INFINITY, f64::min),
+            orders.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+        )
+    });
+    let i_rated_step = option.step.capacitor_kvar / (3f64.sqrt() * option.step.capacitor_rated_kv);
+    let step_rms_a = after_res
+        .duty
+        .iter()
+        .filter(|r| r.bank == bank.id)
+        .map(|r| r.ratios.rms_current * i_rated_step)
+        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))));
+    let linearity_ratio = (option.step.linearity_a > 0.0)
+        .then(|| {
+            after_res
+                .duty
+                .iter()
+                .filter(|r| r.bank == bank.id)
+                .map(|r| r.ratios.step_peak_a / (2f64.sqrt() * option.step.linearity_a))
+                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+        })
+        .flatten();
+    // The bank's own checks: plant-wide limits are reported, not required (a bank
+    // change may not be able to fix them).
+    let passes = after.resonant == 0
+        && after.tolerance_flagged == 0
+        && after.duty_exceeded == 0
+        && linearity_ratio.is_none_or(|r| r <= 1.0);
+    Some(RemedyResult {
+        option,
+        before: before.clone(),
+        after,
+        passes,
+        rank: 0,
+        resonance_after,
+        step_rms_a,
+        linearity_ratio,
+    })
+}
+
 /// Sizes the remedy options of every flagged bank and re-runs the studies with each.
 pub fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies> {
     let plant = &res.plant;
     let mut out = Vec::new();
     for (b, bank) in plant.banks.iter().enumerate() {
-        let resonant = res
-            .resonance
-            .rows
-            .iter()
-            .any(|r| r.bank == bank.id && r.verdict == crate::study::Verdict::Resonant);
-        let duty = res.duty.iter().any(|r| r.bank == bank.id && r.exceeds);
-        let band = res.tolerance.iter().any(|t| t.bank == bank.id && t.flagged);
-        if !resonant && !duty && !band {
+        let Some(reason) = flagged_reason(res, &bank.id) else {
             continue;
-        }
-        let mut why = Vec::new();
-        if resonant {
-            why.push("resonates near a characteristic order");
-        } else if band {
-            why.push("reaches a characteristic order across its capacitance tolerance");
-        }
-        if duty {
-            why.push("exceeds its duty limits");
-        }
-        let reason = why.join(" and ");
+        };
         // Every studied configuration in which the bank is energized: the option must hold
         // where the bank was clear as well as where it was flagged.
         let labels = res.energized_labels(b);
@@ -97,77 +178,16 @@ pub fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies>
         }
         let before = outcome(res, &bank.id, &labels);
         let bus_kv = res.network.buses[res.network.banks[b].bus].kv;
-        let mut results = Vec::new();
-        for option in crate::study::remedy::options(
+        let mut results: Vec<RemedyResult> = crate::study::remedy::options(
             plant,
             bank,
             bus_kv,
             &res.resonance.characteristic_orders,
             res.resonance.margin_percent,
-        ) {
-            let mut changed = plant.clone();
-            changed.banks[b] = crate::study::remedy::apply(bank, &option);
-            let rerun = CheckOptions {
-                buses: options.buses.clone(),
-                configurations: labels.clone(),
-                progress: None,
-                remedies: Some(false),
-                scan_only: false,
-                switching: false,
-                evaluation: options.evaluation,
-            };
-            let Ok(after_res) = run_check(&changed, &rerun) else {
-                continue;
-            };
-            let after = outcome(&after_res, &bank.id, &labels);
-            let orders: Vec<f64> = after_res
-                .resonance
-                .rows
-                .iter()
-                .filter(|r| r.bank == bank.id)
-                .filter_map(|r| r.peak.map(|p| p.order))
-                .collect();
-            let resonance_after = (!orders.is_empty()).then(|| {
-                (
-                    orders.iter().copied().fold(f64::INFINITY, f64::min),
-                    orders.iter().copied().fold(f64::NEG_INFINITY, f64::max),
-                )
-            });
-            let i_rated_step =
-                option.step.capacitor_kvar / (3f64.sqrt() * option.step.capacitor_rated_kv);
-            let step_rms_a = after_res
-                .duty
-                .iter()
-                .filter(|r| r.bank == bank.id)
-                .map(|r| r.ratios.rms_current * i_rated_step)
-                .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))));
-            let linearity_ratio = (option.step.linearity_a > 0.0)
-                .then(|| {
-                    after_res
-                        .duty
-                        .iter()
-                        .filter(|r| r.bank == bank.id)
-                        .map(|r| r.ratios.step_peak_a / (2f64.sqrt() * option.step.linearity_a))
-                        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
-                })
-                .flatten();
-            // The bank's own checks: plant-wide limits are reported, not required (a bank
-            // change may not be able to fix them).
-            let passes = after.resonant == 0
-                && after.tolerance_flagged == 0
-                && after.duty_exceeded == 0
-                && linearity_ratio.is_none_or(|r| r <= 1.0);
-            results.push(RemedyResult {
-                option,
-                before: before.clone(),
-                after,
-                passes,
-                rank: 0,
-                resonance_after,
-                step_rms_a,
-                linearity_ratio,
-            });
-        }
+        )
+        .into_iter()
+        .filter_map(|option| try_option(res, b, option, &labels, &before, options))
+        .collect();
         crate::study::remedy::rank(&mut results);
         out.push(BankRemedies {
             bank: bank.id.clone(),

@@ -16,7 +16,7 @@ use crate::study::operating::{OperatingSolver, OperatingStudy};
 use crate::study::penetration::{Injections, Penetration, SequenceEngines, bank_amplification};
 use crate::study::resonance::ZeroScan;
 use crate::study::switching::SwitchingStudy;
-use crate::study::tolerance::bands;
+use crate::study::tolerance::{ToleranceBand, bands};
 use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid, all_configurations};
 
 /// What every study of a plant shares: built once per check.
@@ -320,6 +320,80 @@ pub fn plant_level_limits(rows: &[LimitRow], pcc: &str) -> Option<Note> {
     })
 }
 
+/// Harmonic penetration of every configuration and the limits it is judged by. Isc at the
+/// PCC comes from the scan's fundamental Thevenin impedance.
+fn harmonics(
+    ctx: &Context<'_>,
+    engines: &SequenceEngines<'_, '_>,
+    scan: &Scan,
+    operating: &OperatingStudy,
+    options: &CheckOptions,
+) -> Result<(Penetration, LimitContext), CheckError> {
+    let (plant, network) = (ctx.plant, &ctx.network);
+    let isc_ka = pcc_isc_ka(ctx, engines.positive, scan)?;
+    let injections = if options.scan_only {
+        Injections::none()
+    } else {
+        Injections::new(plant, network, &ctx.zero)
+    };
+    let limits = LimitContext::new(plant, network, &injections, ctx.pcc, isc_ka);
+    let thd_limits: Vec<f64> = limits.thd_limit.iter().map(|l| l.value).collect();
+    let penetration = Penetration::run(
+        plant,
+        engines,
+        injections,
+        &scan.configurations,
+        operating,
+        &limits.individual,
+        &thd_limits,
+        ctx.pcc,
+        options.evaluation,
+    )?;
+    Ok((penetration, limits))
+}
+
+/// One limits summary per scenario × configuration, in that nesting order.
+fn limit_rows(
+    ctx: &Context<'_>,
+    scan: &Scan,
+    penetration: &Penetration,
+    limits: &LimitContext,
+) -> Vec<LimitRow> {
+    let network = &ctx.network;
+    penetration
+        .results
+        .iter()
+        .map(|d| {
+            limit_row(
+                d,
+                limits,
+                network,
+                &penetration.injections.orders,
+                &network.scenarios[d.scenario].name,
+                scan.configurations[d.configuration].label(&ctx.plant.banks),
+            )
+        })
+        .collect()
+}
+
+/// Each bank's resonance band across the capacitance tolerance and the scenarios.
+fn tolerance(ctx: &Context<'_>, resonance: &ResonanceStudy) -> Vec<ToleranceBand> {
+    let tol = ctx.plant.study.capacitance_tolerance;
+    let p_of = |id: &str| {
+        (ctx.network.banks.iter())
+            .find(|b| b.id == id)
+            .map_or(0.0, |b| b.p)
+    };
+    bands(
+        &resonance.rows,
+        &p_of,
+        tol.minus_percent,
+        tol.plus_percent,
+        &resonance.characteristic_orders,
+        resonance.margin_percent,
+    )
+}
+
 /// Runs every study `options` asks for on `plant` (remedies excepted: see
 /// [`super::check::run_check`]).
 pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, CheckError> {
@@ -340,69 +414,23 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     };
     let load_flow = OperatingSolver::new(network);
     let operating = OperatingStudy::run(plant, network, &load_flow, studied);
-    let isc_ka = pcc_isc_ka(&ctx, &engine, &scan)?;
-    let injections = if options.scan_only {
-        Injections::none()
-    } else {
-        Injections::new(plant, network, &ctx.zero)
-    };
-    let limits = LimitContext::new(plant, network, &injections, ctx.pcc, isc_ka);
     let engines = SequenceEngines {
         positive: &engine,
         zero: &zero_engine,
     };
-    let thd_limits: Vec<f64> = limits.thd_limit.iter().map(|l| l.value).collect();
-    let penetration = Penetration::run(
-        plant,
-        &engines,
-        injections,
-        &scan.configurations,
-        &operating,
-        &limits.individual,
-        &thd_limits,
-        ctx.pcc,
-        options.evaluation,
-    )?;
+    let (penetration, limits) = harmonics(&ctx, &engines, &scan, &operating, options)?;
     let mut notes = study_notes(&ctx, &penetration, &limits, &operating);
-    let limit_rows: Vec<LimitRow> = if options.scan_only {
+    let limit_rows = if options.scan_only {
         Vec::new()
     } else {
-        penetration
-            .results
-            .iter()
-            .map(|d| {
-                limit_row(
-                    d,
-                    &limits,
-                    network,
-                    &penetration.injections.orders,
-                    &network.scenarios[d.scenario].name,
-                    scan.configurations[d.configuration].label(&plant.banks),
-                )
-            })
-            .collect()
+        limit_rows(&ctx, &scan, &penetration, &limits)
     };
     let duty = if options.scan_only {
         Vec::new()
     } else {
         duty(&ctx, &scan, &operating, &penetration)
     };
-    let tol = plant.study.capacitance_tolerance;
-    let p_of = |id: &str| {
-        network
-            .banks
-            .iter()
-            .find(|b| b.id == id)
-            .map_or(0.0, |b| b.p)
-    };
-    let tolerance = bands(
-        &resonance.rows,
-        &p_of,
-        tol.minus_percent,
-        tol.plus_percent,
-        &resonance.characteristic_orders,
-        resonance.margin_percent,
-    );
+    let tolerance = tolerance(&ctx, &resonance);
     let switching = if options.scan_only || !options.switching {
         SwitchingStudy::default()
     } else {

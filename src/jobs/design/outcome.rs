@@ -68,6 +68,49 @@ pub(super) fn evaluate(
         .collect();
     let pcc_thd_percent = rows.iter().map(|r| r.pcc_thd.value).fold(0.0, f64::max);
     let tdd_percent = rows.iter().map(|r| r.tdd.value).fold(0.0, f64::max);
+    let mut fails = pf_fails(res, &control, levels, reachable, target);
+    fails.extend(check_fails(
+        res,
+        &outcome,
+        &mine,
+        &steps,
+        scan_only,
+        baseline,
+        (pcc_thd_percent, tdd_percent),
+    ));
+    let (pf_weighted, pf_lowest) = pf_over_levels(&control, levels);
+    PlanResult {
+        effective_kvar: f64::from(plan.steps) * plan.effective_step_kvar(bus_kv),
+        plan: plan.clone(),
+        bank,
+        cost,
+        control,
+        pf_weighted,
+        pf_lowest,
+        outcome,
+        resonance,
+        hand_order,
+        step_change_percent: steps.iter().map(|s| s.change_percent).fold(0.0, f64::max),
+        step_changes_exceeded: steps.iter().filter(|s| s.exceeds).count(),
+        pcc_thd_percent,
+        tdd_percent,
+        scan_only,
+        fails,
+        pareto: false,
+        rank: 0,
+        row,
+    }
+}
+
+/// The levels and scenarios where the plan leaves the power factor below the target although
+/// another allowed plan reaches it there, one phrase each.
+fn pf_fails(
+    res: &CheckResults,
+    control: &[Vec<Control>],
+    levels: &[Level],
+    reachable: &[Vec<bool>],
+    target: f64,
+) -> Vec<String> {
     let mut fails = Vec::new();
     for (l, per) in control.iter().enumerate() {
         for (s, c) in per.iter().enumerate() {
@@ -81,6 +124,21 @@ pub(super) fn evaluate(
             }
         }
     }
+    fails
+}
+
+/// The phrases of the checks a plan fails: resonance, tolerance band, and (when it was
+/// checked beyond the scan) duty, limits worse than without the bank, step voltage change.
+fn check_fails(
+    res: &CheckResults,
+    outcome: &crate::study::remedy::Outcome,
+    mine: &[&crate::study::ResonanceRow],
+    steps: &[&crate::study::operating::StepChange],
+    scan_only: bool,
+    baseline: &Baseline,
+    (pcc_thd_percent, tdd_percent): (f64, f64),
+) -> Vec<String> {
+    let mut fails = Vec::new();
     if outcome.resonant > 0 {
         let orders: Vec<f64> = {
             let mut o: Vec<f64> = mine
@@ -131,6 +189,12 @@ pub(super) fn evaluate(
             ));
         }
     }
+    fails
+}
+
+/// The hours-weighted mean over the levels of the lowest PCC power factor over scenarios
+/// (`None` when a level has none), and the lowest at any level.
+fn pf_over_levels(control: &[Vec<Control>], levels: &[Level]) -> (Option<f64>, Option<f64>) {
     let weight: f64 = levels.iter().map(|l| l.hours).sum();
     let lowest_per_level: Vec<Option<f64>> = control.iter().map(lowest_pf).collect();
     let pf_weighted = (weight > 0.0 && lowest_per_level.iter().all(Option::is_some)).then(|| {
@@ -146,27 +210,7 @@ pub(super) fn evaluate(
         .flatten()
         .copied()
         .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
-    PlanResult {
-        effective_kvar: f64::from(plan.steps) * plan.effective_step_kvar(bus_kv),
-        plan: plan.clone(),
-        bank,
-        cost,
-        control,
-        pf_weighted,
-        pf_lowest,
-        outcome,
-        resonance,
-        hand_order,
-        step_change_percent: steps.iter().map(|s| s.change_percent).fold(0.0, f64::max),
-        step_changes_exceeded: steps.iter().filter(|s| s.exceeds).count(),
-        pcc_thd_percent,
-        tdd_percent,
-        scan_only,
-        fails,
-        pareto: false,
-        rank: 0,
-        row,
-    }
+    (pf_weighted, pf_lowest)
 }
 
 /// Marks the Pareto set of the passing plans (lower cost, larger margin, higher weighted

@@ -1,0 +1,463 @@
+//! The design search itself, step by step (the steps of the module doc of
+//! [`super`]): the rows and the plant each joins, the step count of each family from the
+//! controller, the levels where no plan reaches the target, the plant without the bank,
+//! every plan scanned and the survivors checked, then ranked.
+
+use rayon::prelude::*;
+
+use super::levels::{self, Control, Level};
+use super::outcome::{evaluate, notes, rank, reason};
+use super::plans::{self, Family, Plan};
+use super::*;
+use crate::jobs::check::{CheckError, CheckOptions, run_check};
+use crate::jobs::notes::Note;
+use crate::network::Network;
+use crate::study::Verdict;
+use crate::study::operating::OperatingSolver;
+
+/// The design rows: the `Design` sheet's, or one per proposed bank (its bus, steps of half,
+/// one and two times its step, 1 to 8 steps, the default detuning choices and classes).
+fn design_rows(plant: &Plant) -> Result<(Vec<DesignRow>, bool), DesignError> {
+    if !plant.design.is_empty() {
+        return Ok((plant.design.clone(), false));
+    }
+    let mut rows: Vec<DesignRow> = Vec::new();
+    for b in plant
+        .banks
+        .iter()
+        .filter(|b| b.status == BankStatus::Proposed)
+    {
+        if rows.iter().any(|r| r.bus == b.bus) {
+            continue;
+        }
+        rows.push(DesignRow {
+            bus: b.bus.clone(),
+            step_kvar: vec![b.step_kvar / 2.0, b.step_kvar, b.step_kvar * 2.0],
+            steps_min: DEFAULT_STEPS.0,
+            steps_max: DEFAULT_STEPS.1,
+            reactors: DEFAULT_REACTORS.to_vec(),
+            rated_kv: Vec::new(),
+            capacitor_cost_per_kvar: Vec::new(),
+            reactor_cost_per_kvar: None,
+            step_cost: None,
+            leading_pf_limit: None,
+            cells: DesignCells::default(),
+        });
+    }
+    if rows.is_empty() {
+        return Err(DesignError::Sheet(
+            "Design: the workbook has no Design sheet and no proposed bank on the Capacitors sheet: name the bus(es) where a bank may go and the allowed step sizes on a Design sheet (`overtone template FILE.xlsx` writes one)".into(),
+        ));
+    }
+    Ok((rows, true))
+}
+
+/// The check options of the search: no remedies, no switching simulation.
+fn check_options(options: &DesignOptions, scan_only: bool) -> CheckOptions {
+    CheckOptions {
+        remedies: Some(false),
+        scan_only,
+        switching: false,
+        evaluation: options.evaluation,
+        ..Default::default()
+    }
+}
+
+/// The controller's choices per level and scenario for a plant whose banks are `banks`,
+/// with `designed` (index of the designed bank, last in controller order) allowed `0..=max`.
+fn controls(
+    levels: &[Level],
+    bank: Option<&CapacitorBank>,
+    max: u32,
+    leading_limit: f64,
+) -> Result<Vec<Vec<Control>>, DesignError> {
+    let mut out = Vec::new();
+    for level in levels {
+        let mut plant = level.plant.clone();
+        if let Some(b) = bank {
+            let mut b = b.clone();
+            b.steps = max;
+            b.studied_steps = (0..=max).collect();
+            plant.banks.push(b);
+        }
+        let net = Network::build(&plant).map_err(CheckError::from)?;
+        let study = OperatingSolver::new(&net);
+        let allowed: Vec<Vec<u32>> = plant
+            .banks
+            .iter()
+            .map(|b| b.studied_steps.clone())
+            .collect();
+        let order: Vec<usize> = (0..plant.banks.len()).collect();
+        out.push(
+            (0..net.scenarios.len())
+                .map(|s| {
+                    levels::control(
+                        &study,
+                        &net,
+                        s,
+                        &allowed,
+                        &order,
+                        plant.study.target_power_factor,
+                        leading_limit,
+                    )
+                })
+                .collect(),
+        );
+    }
+    Ok(out)
+}
+
+fn designed_steps(control: &[Vec<Control>]) -> u32 {
+    control
+        .iter()
+        .flatten()
+        .map(|c| c.steps.last().copied().unwrap_or(0))
+        .max()
+        .unwrap_or(0)
+}
+
+/// A family's plan at its bounded step count, with the controller's choices at the largest
+/// count and at that count ([level][scenario]).
+type Bounded = (Plan, Vec<Vec<Control>>, Vec<Vec<Control>>);
+
+/// What the search holds for its design rows: the plant each row's plans join (the proposed
+/// bank on that row's bus is what is designed; every other bank stays as on the Capacitors
+/// sheet), the proposed bank a plan replaces, the designed bank's id, the load levels of
+/// each row's plant and every family of plans.
+struct Search<'p> {
+    plant: &'p Plant,
+    rows: Vec<DesignRow>,
+    derived: bool,
+    bases: Vec<Plant>,
+    templates: Vec<Option<&'p CapacitorBank>>,
+    bank_ids: Vec<String>,
+    row_levels: Vec<Vec<Level>>,
+    families: Vec<Family>,
+}
+
+impl<'p> Search<'p> {
+    /// Checks the design input and lays out the search.
+    fn new(plant: &'p Plant) -> Result<Self, DesignError> {
+        plant.validate().map_err(CheckError::from)?;
+        if let Some(p) = design_problems(plant).into_iter().next() {
+            return Err(DesignError::Input {
+                sheet: p.sheet,
+                cell: p.cell,
+                message: p.message,
+            });
+        }
+        let (rows, derived) = design_rows(plant)?;
+        let proposed_on =
+            |b: &CapacitorBank, r: &DesignRow| b.status == BankStatus::Proposed && b.bus == r.bus;
+        let bases: Vec<Plant> = rows
+            .iter()
+            .map(|r| {
+                let mut base = plant.clone();
+                base.banks.retain(|b| !proposed_on(b, r));
+                base
+            })
+            .collect();
+        let templates: Vec<Option<&CapacitorBank>> = rows
+            .iter()
+            .map(|r| plant.banks.iter().find(|b| proposed_on(b, r)))
+            .collect();
+        let bank_ids: Vec<String> = rows
+            .iter()
+            .zip(&templates)
+            .map(|(r, t)| t.map_or_else(|| format!("PFC-{}", r.bus), |b| b.id.clone()))
+            .collect();
+        let mut row_levels: Vec<Vec<Level>> = Vec::new();
+        for base in &bases {
+            row_levels.push(levels::levels(base)?);
+        }
+        let bus_kv = |bus: &str| {
+            plant
+                .buses
+                .iter()
+                .find(|b| b.id == bus)
+                .map_or(f64::NAN, |b| b.nominal_kv)
+        };
+        let families: Vec<Family> = rows
+            .iter()
+            .enumerate()
+            .flat_map(|(i, r)| plans::families(i, r, bus_kv(&r.bus)))
+            .collect();
+        Ok(Search {
+            plant,
+            rows,
+            derived,
+            bases,
+            templates,
+            bank_ids,
+            row_levels,
+            families,
+        })
+    }
+
+    /// The leading power-factor limit of design row `r`.
+    fn leading(&self, r: usize) -> f64 {
+        self.rows[r]
+            .leading_pf_limit
+            .unwrap_or(DEFAULT_LEADING_PF_LIMIT)
+    }
+
+    /// Family `f`'s plan with `steps` steps.
+    fn plan_of(&self, f: &Family, steps: u32) -> Plan {
+        Plan {
+            bus: self.rows[f.row].bus.clone(),
+            step_kvar: f.step_kvar,
+            steps,
+            reactor: f.reactor,
+            rated_kv: f.rated_kv,
+        }
+    }
+
+    /// The bank of family `f`'s `plan`.
+    fn bank(&self, f: &Family, plan: &Plan) -> CapacitorBank {
+        plans::bank(plan, &self.bank_ids[f.row], self.templates[f.row], f.bus_kv)
+    }
+
+    /// Step 2: each family at the step count the controller uses at the largest count.
+    fn bounded(&self) -> Result<Vec<Bounded>, DesignError> {
+        let bounded: Vec<Result<Bounded, DesignError>> = self
+            .families
+            .par_iter()
+            .map(|f| {
+                let row = &self.rows[f.row];
+                let b = self.bank(f, &self.plan_of(f, row.steps_max));
+                let lv = &self.row_levels[f.row];
+                let leading = self.leading(f.row);
+                let at_max = controls(lv, Some(&b), row.steps_max, leading)?;
+                let n = designed_steps(&at_max).clamp(row.steps_min, row.steps_max);
+                let at_n = if n == row.steps_max {
+                    at_max.clone()
+                } else {
+                    controls(lv, Some(&b), n, leading)?
+                };
+                Ok((self.plan_of(f, n), at_max, at_n))
+            })
+            .collect();
+        bounded.into_iter().collect()
+    }
+
+    /// Per level and scenario, whether any allowed plan reaches the target; an error when
+    /// none reaches it anywhere (the design limits contradict the target).
+    fn reachable(&self, bounded: &[Bounded]) -> Result<Vec<Vec<bool>>, DesignError> {
+        let ns = self.plant.scenarios().len();
+        let mut reachable = vec![vec![false; ns]; self.row_levels[0].len()];
+        for (_, at_max, _) in bounded {
+            for (l, per) in at_max.iter().enumerate() {
+                for (s, c) in per.iter().enumerate() {
+                    reachable[l][s] |= c.reaches;
+                }
+            }
+        }
+        if reachable.iter().flatten().any(|&r| r) {
+            return Ok(reachable);
+        }
+        let best_pf = bounded
+            .iter()
+            .filter_map(|(_, at_max, _)| levels::lowest_pf(at_max.iter().flatten()))
+            .fold(f64::NAN, f64::max);
+        let r = &self.rows[0];
+        Err(DesignError::Input {
+            sheet: "Design",
+            cell: r.cells.steps.clone(),
+            message: format!(
+                "no allowed plan reaches the target power factor {} at any load level: the best leaves {best_pf:.3} at the PCC; allow more steps here or larger sizes in \"Step kvar\" ({}), or lower \"Target power factor\" on the Study sheet",
+                self.plant.study.target_power_factor, r.cells.step_kvar
+            ),
+        })
+    }
+
+    /// The plant without the designed bank per row (for the limits comparison), with the
+    /// controller's choices there, and the notes of the first row's check.
+    fn baselines(
+        &self,
+        options: &DesignOptions,
+    ) -> Result<(Vec<Baseline>, Vec<Note>), DesignError> {
+        let mut baselines = Vec::new();
+        let mut base_notes = Vec::new();
+        for (r, base) in self.bases.iter().enumerate() {
+            let control = controls(&self.row_levels[r], None, 0, self.leading(r))?;
+            let base_res = run_check(base, &check_options(options, false))?;
+            let rows = &base_res.limit_rows;
+            baselines.push(Baseline {
+                control,
+                pcc_thd_percent: rows.iter().map(|r| r.pcc_thd.value).fold(0.0, f64::max),
+                tdd_percent: rows.iter().map(|r| r.tdd.value).fold(0.0, f64::max),
+                limits_exceeded: rows.iter().filter(|r| r.exceeds).count(),
+            });
+            if base_notes.is_empty() {
+                base_notes = base_res.notes;
+            }
+        }
+        Ok((baselines, base_notes))
+    }
+
+    /// Steps 3 and 4 for one plan: scanned, and checked when clear of resonance.
+    fn check_plan(
+        &self,
+        candidate: &(usize, Plan, Vec<Vec<Control>>),
+        options: &DesignOptions,
+        reachable: &[Vec<bool>],
+        baselines: &[Baseline],
+    ) -> Result<PlanResult, DesignError> {
+        let (fi, plan, control) = candidate;
+        let f = &self.families[*fi];
+        let row = &self.rows[f.row];
+        let bank = self.bank(f, plan);
+        let mut p = self.bases[f.row].clone();
+        p.banks.push(bank.clone());
+        let scan = run_check(&p, &check_options(options, true))?;
+        let resonant = scan
+            .resonance
+            .rows
+            .iter()
+            .any(|r| r.bank == bank.id && r.verdict == Verdict::Resonant);
+        let band = scan
+            .tolerance
+            .iter()
+            .any(|t| t.bank == bank.id && t.flagged);
+        let clear = !resonant && !band;
+        let res = if clear {
+            run_check(&p, &check_options(options, false))?
+        } else {
+            scan
+        };
+        Ok(evaluate(
+            &res,
+            plan,
+            bank,
+            plans::cost(f, row, plan.steps),
+            f.bus_kv,
+            control.clone(),
+            &self.row_levels[f.row],
+            reachable,
+            &baselines[f.row],
+            self.plant.study.target_power_factor,
+            !clear,
+            f.row,
+        ))
+    }
+
+    /// The design's notes: its assumptions, then the several-bus and no-step sentences, then
+    /// the estimated I_L of the plant's own check.
+    fn notes(
+        &self,
+        unreachable: &[(String, String)],
+        baselines: &[Baseline],
+        base_notes: &[Note],
+    ) -> Vec<Note> {
+        let target = self.plant.study.target_power_factor;
+        let mut notes = notes(
+            &self.row_levels[0],
+            &self.rows,
+            self.derived,
+            unreachable,
+            target,
+        );
+        if self.rows.len() > 1 {
+            notes.push(Note::Design("Several design buses: each plan puts one bank at one of them, replacing the proposed bank on that bus only; the other banks stay as on the Capacitors sheet.".into()));
+        }
+        if baselines
+            .iter()
+            .all(|b| b.control.iter().flatten().all(|c| c.reaches))
+        {
+            notes.insert(
+                0,
+                Note::Design("The plant reaches the target power factor at every level and scenario without the designed bank (its other banks or its loads suffice): the controller switches no designed step, and the plans are the smallest allowed.".into()),
+            );
+        }
+        notes.extend(
+            base_notes
+                .iter()
+                .filter(|n| matches!(n, Note::DemandEstimated { .. }))
+                .cloned(),
+        );
+        notes
+    }
+}
+
+/// The (level, scenario) pairs where no allowed plan reaches the target (waived there).
+fn unreachable(
+    levels: &[Level],
+    scenarios: &[String],
+    reachable: &[Vec<bool>],
+) -> Vec<(String, String)> {
+    let mut out = Vec::new();
+    for (l, per) in reachable.iter().enumerate() {
+        for (s, ok) in per.iter().enumerate() {
+            if !ok {
+                out.push((levels[l].name.clone(), scenarios[s].clone()));
+            }
+        }
+    }
+    out
+}
+
+/// Runs the design search on `plant` (its `Design` and `Load levels` rows).
+pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult, DesignError> {
+    let search = Search::new(plant)?;
+    let rows = &search.rows;
+    let mut counts = Counts {
+        families: search.families.len(),
+        enumerated: (search.families.iter())
+            .map(|f| (rows[f.row].steps_max - rows[f.row].steps_min + 1) as usize)
+            .sum(),
+        ..Default::default()
+    };
+    // Step 2, and where no allowed plan reaches the target it is waived.
+    let bounded = search.bounded()?;
+    let reachable = search.reachable(&bounded)?;
+    let scenarios = plant.scenarios();
+    let unreachable = unreachable(&search.row_levels[0], &scenarios, &reachable);
+    let mut candidates: Vec<(usize, Plan, Vec<Vec<Control>>)> = Vec::new();
+    for (i, (plan, _, at_n)) in bounded.into_iter().enumerate() {
+        if !candidates.iter().any(|(_, p, _)| *p == plan) {
+            candidates.push((i, plan, at_n));
+        }
+    }
+    counts.after_pf_bound = candidates.len();
+    let (baselines, base_notes) = search.baselines(options)?;
+    // Steps 3 and 4: scan every plan, check the ones clear of resonance.
+    let total = candidates.len() as u64;
+    let done = std::sync::atomic::AtomicU64::new(0);
+    let results: Vec<Result<PlanResult, DesignError>> = candidates
+        .par_iter()
+        .map(|c| {
+            let out = search.check_plan(c, options, &reachable, &baselines);
+            let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            if let Some(pr) = &options.progress {
+                pr(k, total);
+            }
+            out
+        })
+        .collect();
+    let mut plans_out = results
+        .into_iter()
+        .collect::<Result<Vec<PlanResult>, _>>()?;
+    counts.scanned = plans_out.len();
+    counts.checked = plans_out.iter().filter(|p| !p.scan_only).count();
+    counts.passed = plans_out.iter().filter(|p| p.passes()).count();
+    rank(&mut plans_out);
+    let recommended = plans_out.first().filter(|p| p.passes()).map(|_| 0);
+    let reason = reason(&plans_out, recommended);
+    let notes = search.notes(&unreachable, &baselines, &base_notes);
+    let levels = &search.row_levels[0];
+    Ok(DesignResult {
+        plant: plant.clone(),
+        levels: levels.iter().map(|l| (l.name.clone(), l.hours)).collect(),
+        scenarios,
+        target_power_factor: plant.study.target_power_factor,
+        plans: plans_out,
+        recommended,
+        reason,
+        baselines,
+        counts,
+        unreachable,
+        bank_ids: search.bank_ids,
+        bases: search.bases,
+        notes,
+    })
+}
