@@ -58,7 +58,29 @@ pub fn plan_words(p: &PlanResult) -> String {
     )
 }
 
+/// Writes the design comparison: the search in figures, the recommended plan and why, the
+/// plans ranked, what the listed plans fail, the notes and the caution.
 pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
+    write_search(out, d)?;
+    write_recommended(out, d)?;
+    write_plans(out, d)?;
+    writeln!(out)?;
+    for n in &d.notes {
+        write_hanging(out, "note: ", "  ", &n.to_string(), WIDTH)?;
+    }
+    write_hanging(
+        out,
+        "",
+        "",
+        "The plan is a proposal for a licensed engineer's review; see SAFETY.md. Local electrical codes and the utility's rules govern.",
+        WIDTH,
+    )?;
+    Ok(())
+}
+
+
+/// The search in figures, and what holds without the designed bank.
+fn write_search(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
     let c = &d.counts;
     let pcc = d.plant.pcc_bus().unwrap_or_default();
     write_hanging(
@@ -111,6 +133,11 @@ pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
             WIDTH,
         )?;
     }
+    Ok(())
+}
+
+/// The recommended plan with its PF, resonance and cost, and why; or why none is.
+fn write_recommended(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
     writeln!(out)?;
     match d.recommended.map(|i| &d.plans[i]) {
         Some(p) => {
@@ -157,6 +184,11 @@ pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
             )?;
         }
     }
+    Ok(())
+}
+
+/// The plans ranked (at most 15, 8 without a recommendation) and what those fail.
+fn write_plans(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
     writeln!(out)?;
     writeln!(
         out,
@@ -229,17 +261,6 @@ pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
             )?;
         }
     }
-    writeln!(out)?;
-    for n in &d.notes {
-        write_hanging(out, "note: ", "  ", &n.to_string(), WIDTH)?;
-    }
-    write_hanging(
-        out,
-        "",
-        "",
-        "The plan is a proposal for a licensed engineer's review; see SAFETY.md. Local electrical codes and the utility's rules govern.",
-        WIDTH,
-    )?;
     Ok(())
 }
 

@@ -144,6 +144,14 @@ pub fn write_operating(out: &mut dyn Write, res: &CheckResults) -> io::Result<()
             write_list(out, "reach the target without leading:", &names)?;
         }
     }
+    write_needs(out, res)?;
+    write_step_changes(out, res)?;
+    Ok(())
+}
+
+/// The kvar each bank alone needs to reach the target, beside the hand estimate.
+fn write_needs(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    let op = &res.operating;
     if !op.needs.is_empty() {
         writeln!(out)?;
         writeln!(
@@ -195,6 +203,12 @@ pub fn write_operating(out: &mut dyn Write, res: &CheckResults) -> io::Result<()
             "hand kvar: P(tan phi0 - tan phi_target) at the PCC without banks; steps and kvar needed (rated):\nthe load flow with that bank's steps varied continuously; ratio: installed / needed."
         )?;
     }
+    Ok(())
+}
+
+/// The worst voltage change at each bank's bus per step switched in.
+fn write_step_changes(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    let op = &res.operating;
     if !op.step_changes.is_empty() {
         writeln!(out)?;
         writeln!(

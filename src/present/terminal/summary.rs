@@ -61,6 +61,41 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     }
     super::verdict::write_verdict(out, res)?;
     writeln!(out)?;
+    write_basis(out, res)?;
+    write_resonance(out, res)?;
+    writeln!(out)?;
+    super::operating::write_operating(out, res)?;
+    writeln!(out)?;
+    write_limits(out, res)?;
+    writeln!(out)?;
+    super::capacitors::write_duty(out, res)?;
+    writeln!(out)?;
+    super::capacitors::write_tolerance(out, res)?;
+    writeln!(out)?;
+    super::capacitors::write_transients(out, res)?;
+    if !res.remedies.is_empty() {
+        writeln!(out)?;
+        super::capacitors::write_remedies(out, res)?;
+    }
+    if !res.notes.is_empty() {
+        writeln!(out)?;
+        writeln!(out, "Assumptions:")?;
+        for n in &res.notes {
+            super::table::write_wrapped(out, &format!("- {n}"), 100)?;
+        }
+    }
+    writeln!(out)?;
+    writeln!(out, "Cautions:")?;
+    for c in CAUTIONS {
+        super::table::write_wrapped(out, &format!("- {c}"), 100)?;
+    }
+    Ok(())
+}
+
+/// The study basis in a few lines: sizes, scan grid, PCC, characteristic orders, model and
+/// each bank's nameplate against its output at bus voltage.
+fn write_basis(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    let p = &res.plant;
     let study = &res.resonance;
     writeln!(
         out,
@@ -127,6 +162,13 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
             100,
         )?;
     }
+    Ok(())
+}
+
+/// The resonance tables: per scenario, each energized bank's hand check beside its scanned
+/// peak (the flagged rows closest to an order when there are many), and their legend.
+fn write_resonance(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    let study = &res.resonance;
     writeln!(out)?;
     writeln!(
         out,
@@ -192,32 +234,6 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
          peak's sharpness are in --json and the review.",
         100,
     )?;
-    writeln!(out)?;
-    super::operating::write_operating(out, res)?;
-    writeln!(out)?;
-    write_limits(out, res)?;
-    writeln!(out)?;
-    super::capacitors::write_duty(out, res)?;
-    writeln!(out)?;
-    super::capacitors::write_tolerance(out, res)?;
-    writeln!(out)?;
-    super::capacitors::write_transients(out, res)?;
-    if !res.remedies.is_empty() {
-        writeln!(out)?;
-        super::capacitors::write_remedies(out, res)?;
-    }
-    if !res.notes.is_empty() {
-        writeln!(out)?;
-        writeln!(out, "Assumptions:")?;
-        for n in &res.notes {
-            super::table::write_wrapped(out, &format!("- {n}"), 100)?;
-        }
-    }
-    writeln!(out)?;
-    writeln!(out, "Cautions:")?;
-    for c in CAUTIONS {
-        super::table::write_wrapped(out, &format!("- {c}"), 100)?;
-    }
     Ok(())
 }
 
