@@ -78,7 +78,6 @@ pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
     Ok(())
 }
 
-
 /// The search in figures, and what holds without the designed bank.
 fn write_search(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
     let c = &d.counts;

@@ -144,92 +144,20 @@ pub(super) fn summary(
     Ok(())
 }
 
+/// A verdict row: its severity for ordering (flagged first) and its cells.
+type VerdictRow = (f64, Vec<Cell>);
+
+/// `good` or `bad_word` as a cell.
+fn verdict(bad: bool, good: &str, bad_word: &str) -> Cell {
+    t(if bad { bad_word } else { good })
+}
+
 /// One verdict row per check and element, with a severity for ordering (flagged first).
-pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
+pub(super) fn verdict_rows(res: &CheckResults) -> Vec<VerdictRow> {
     let mut out = Vec::new();
-    let verdict = |bad: bool, good: &str, badw: &str| t(if bad { badw } else { good });
     for bank in &res.plant.banks {
-        let rows: Vec<_> = res
-            .resonance
-            .rows
-            .iter()
-            .filter(|r| r.bank == bank.id)
-            .collect();
-        if let Some(w) = rows.iter().min_by(|a, b| {
-            let m =
-                |r: &&&crate::study::ResonanceRow| r.margin_percent.map_or(f64::INFINITY, f64::abs);
-            m(a).total_cmp(&m(b))
-        }) {
-            let bad = w.verdict == Verdict::Resonant;
-            out.push((
-                if bad { 3.0 } else { 0.0 } + 1.0 / (1.0 + w.margin_percent.map_or(99.0, f64::abs)),
-                vec![
-                    t("Resonance"),
-                    t(&bank.id),
-                    t(&w.scenario),
-                    t(&w.configuration),
-                    on(w.peak.map(|p| p.order), "0.000"),
-                    on(w.nearest_characteristic, "0"),
-                    t(match (w.peak, w.margin_percent) {
-                        (_, Some(m)) => format!("order (margin {m:.1} %)"),
-                        (None, _) => "no parallel resonance peak in the scanned range".into(),
-                        (Some(_), None) => "order (no characteristic order to compare)".into(),
-                    }),
-                    verdict(bad, "clear", "RESONANT"),
-                ],
-            ));
-        }
-        if let Some(w) = res
-            .duty
-            .iter()
-            .filter(|r| r.bank == bank.id)
-            .max_by(|a, b| {
-                (a.ratios.rms_current / a.limits.rms_current)
-                    .total_cmp(&(b.ratios.rms_current / b.limits.rms_current))
-            })
-        {
-            out.push((
-                if w.exceeds { 3.0 } else { 0.0 } + w.ratios.rms_current / w.limits.rms_current,
-                vec![
-                    t("Capacitor duty (rms current)"),
-                    t(&bank.id),
-                    t(&w.scenario),
-                    t(&w.configuration),
-                    n(w.ratios.rms_current * 100.0, "0.0"),
-                    n(w.limits.rms_current * 100.0, "0"),
-                    t("% of rated"),
-                    verdict(w.exceeds, "meets", "EXCEEDS"),
-                ],
-            ));
-        }
-        if let Some(w) = res
-            .switching
-            .events
-            .iter()
-            .filter(|r| r.bank == bank.id)
-            .max_by(|a, b| a.peak_a.total_cmp(&b.peak_a))
-        {
-            let bad = w.flagged();
-            out.push((
-                if bad { 2.0 } else { 0.0 },
-                vec![
-                    t("Switching (simulated peak inrush)"),
-                    t(&bank.id),
-                    t(&w.scenario),
-                    t(format!("step {} {}", w.step, w.case.label())),
-                    n(w.peak_a, "0"),
-                    on(w.inrush_limit_a, "0"),
-                    t(if w.inrush_limit_a.is_some() {
-                        "A peak"
-                    } else {
-                        "A (no switch limit given)"
-                    }),
-                    verdict(bad, "meets", "EXCEEDS"),
-                ],
-            ));
-        }
+        bank_rows(res, bank, &mut out);
     }
-    let ieee = res.limits.set == crate::model::LimitSet::Ieee519_2014;
     // The buses reported: the PCC and the bank buses (every configuration), and each bus that
     // is some configuration's worst (over the configurations where it is the worst: the
     // figures every evaluation of penetration gives exactly).
@@ -245,7 +173,101 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
     }
     reported.sort_unstable();
     reported.dedup();
-    for &b in &reported {
+    thd_rows(res, &reported, &always, &mut out);
+    individual_rows(res, &reported, &always, &mut out);
+    tdd_row(res, &mut out);
+    operating_rows(res, &mut out);
+    out
+}
+
+/// A bank's worst resonance row, its worst duty (rms current) and its largest simulated
+/// inrush.
+fn bank_rows(res: &CheckResults, bank: &crate::model::CapacitorBank, out: &mut Vec<VerdictRow>) {
+    let rows: Vec<_> = res
+        .resonance
+        .rows
+        .iter()
+        .filter(|r| r.bank == bank.id)
+        .collect();
+    if let Some(w) = rows.iter().min_by(|a, b| {
+        let m = |r: &&&crate::study::ResonanceRow| r.margin_percent.map_or(f64::INFINITY, f64::abs);
+        m(a).total_cmp(&m(b))
+    }) {
+        let bad = w.verdict == Verdict::Resonant;
+        out.push((
+            if bad { 3.0 } else { 0.0 } + 1.0 / (1.0 + w.margin_percent.map_or(99.0, f64::abs)),
+            vec![
+                t("Resonance"),
+                t(&bank.id),
+                t(&w.scenario),
+                t(&w.configuration),
+                on(w.peak.map(|p| p.order), "0.000"),
+                on(w.nearest_characteristic, "0"),
+                t(match (w.peak, w.margin_percent) {
+                    (_, Some(m)) => format!("order (margin {m:.1} %)"),
+                    (None, _) => "no parallel resonance peak in the scanned range".into(),
+                    (Some(_), None) => "order (no characteristic order to compare)".into(),
+                }),
+                verdict(bad, "clear", "RESONANT"),
+            ],
+        ));
+    }
+    if let Some(w) = res
+        .duty
+        .iter()
+        .filter(|r| r.bank == bank.id)
+        .max_by(|a, b| {
+            (a.ratios.rms_current / a.limits.rms_current)
+                .total_cmp(&(b.ratios.rms_current / b.limits.rms_current))
+        })
+    {
+        out.push((
+            if w.exceeds { 3.0 } else { 0.0 } + w.ratios.rms_current / w.limits.rms_current,
+            vec![
+                t("Capacitor duty (rms current)"),
+                t(&bank.id),
+                t(&w.scenario),
+                t(&w.configuration),
+                n(w.ratios.rms_current * 100.0, "0.0"),
+                n(w.limits.rms_current * 100.0, "0"),
+                t("% of rated"),
+                verdict(w.exceeds, "meets", "EXCEEDS"),
+            ],
+        ));
+    }
+    if let Some(w) = res
+        .switching
+        .events
+        .iter()
+        .filter(|r| r.bank == bank.id)
+        .max_by(|a, b| a.peak_a.total_cmp(&b.peak_a))
+    {
+        let bad = w.flagged();
+        out.push((
+            if bad { 2.0 } else { 0.0 },
+            vec![
+                t("Switching (simulated peak inrush)"),
+                t(&bank.id),
+                t(&w.scenario),
+                t(format!("step {} {}", w.step, w.case.label())),
+                n(w.peak_a, "0"),
+                on(w.inrush_limit_a, "0"),
+                t(if w.inrush_limit_a.is_some() {
+                    "A peak"
+                } else {
+                    "A (no switch limit given)"
+                }),
+                verdict(bad, "meets", "EXCEEDS"),
+            ],
+        ));
+    }
+}
+
+/// Per reported bus, the voltage THD of the configuration where it is highest (in-plant
+/// buses informational under IEEE 519).
+fn thd_rows(res: &CheckResults, reported: &[usize], always: &[usize], out: &mut Vec<VerdictRow>) {
+    let ieee = res.limits.set == crate::model::LimitSet::Ieee519_2014;
+    for &b in reported {
         let bus = &res.network.buses[b];
         let lim = res.limits.thd_limit[b].value;
         if let Some(d) = res
@@ -280,7 +302,17 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             ));
         }
     }
-    for &b in &reported {
+}
+
+/// Per reported bus, the individual harmonic voltage nearest (or farthest over) its limit.
+fn individual_rows(
+    res: &CheckResults,
+    reported: &[usize],
+    always: &[usize],
+    out: &mut Vec<VerdictRow>,
+) {
+    let ieee = res.limits.set == crate::model::LimitSet::Ieee519_2014;
+    for &b in reported {
         let bus = &res.network.buses[b];
         let ratio = |d: &crate::study::penetration::Distortion| {
             d.worst[b]
@@ -321,6 +353,10 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             ));
         }
     }
+}
+
+/// The largest TDD at the PCC.
+fn tdd_row(res: &CheckResults, out: &mut Vec<VerdictRow>) {
     if let Some(w) = res
         .limit_rows
         .iter()
@@ -341,8 +377,6 @@ pub(super) fn verdict_rows(res: &CheckResults) -> Vec<(f64, Vec<Cell>)> {
             ],
         ));
     }
-    operating_rows(res, &mut out);
-    out
 }
 
 /// The operating point's verdict rows: the most leading (or lowest) PF at the PCC, the bus

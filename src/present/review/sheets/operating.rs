@@ -23,7 +23,17 @@ fn sub_header(ws: &mut Worksheet, r: u32, heads: &[&str]) -> Result<(), XlsxErro
     Ok(())
 }
 
+/// The operating-point sheet: the points table, then the kvar needed and the step changes
+/// below it.
 pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
+    let r = points(ws, res)?;
+    let r = needs(ws, res, r)?;
+    step_changes(ws, res, r)
+}
+
+/// The points table with its digest, the range line and the configurations without
+/// solution; returns the last row written.
+fn points(ws: &mut Worksheet, res: &CheckResults) -> Result<u32, XlsxError> {
     let op = &res.operating;
     let bold = Format::new().set_bold();
     header(
@@ -109,6 +119,13 @@ pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
         r += 1;
         ws.write_string(r, 0, format!("NO SOLUTION: {e}"))?;
     }
+    Ok(r)
+}
+
+/// The kvar each bank alone needs, below row `r`; returns the last row written.
+fn needs(ws: &mut Worksheet, res: &CheckResults, mut r: u32) -> Result<u32, XlsxError> {
+    let op = &res.operating;
+    let bold = Format::new().set_bold();
     r += 2;
     ws.write_string_with_format(
         r,
@@ -158,6 +175,13 @@ pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
             ],
         )?;
     }
+    Ok(r)
+}
+
+/// The worst step voltage changes, below row `r`.
+fn step_changes(ws: &mut Worksheet, res: &CheckResults, mut r: u32) -> Result<(), XlsxError> {
+    let op = &res.operating;
+    let bold = Format::new().set_bold();
     r += 2;
     ws.write_string_with_format(
         r,
