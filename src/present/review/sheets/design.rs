@@ -22,6 +22,33 @@ fn sentence(ws: &mut Worksheet, r: u32, text: &str, last_col: u16) -> Result<(),
     Ok(())
 }
 
+/// Columns and widths of a table of `design`.
+const DESIGN_HEADS: &[(&str, f64)] = &[
+    ("Rank", 5.0),
+    ("Pareto", 6.0),
+    ("Bank", 9.0),
+    ("Bus", 9.0),
+    ("Steps", 5.0),
+    ("Step kvar (rated)", 7.0),
+    ("Rated kV", 6.0),
+    ("Reactor", 7.0),
+    ("kvar at bus kV", 7.0),
+    ("Cost (relative)", 7.0),
+    ("Lowest PF", 7.0),
+    ("Weighted PF", 8.0),
+    ("Resonance low (h)", 9.5),
+    ("Resonance high (h)", 9.5),
+    ("Hand check h", 7.0),
+    ("Margin (%)", 7.0),
+    ("Resonant rows", 8.0),
+    ("Tolerance flagged", 9.0),
+    ("Duty exceeded", 7.0),
+    ("PCC THD (%)", 6.0),
+    ("TDD (%)", 6.0),
+    ("Step change (%)", 7.0),
+    ("Verdict", 34.0),
+];
+
 /// The `Design` sheet: the answer, then every plan ranked with what it fails.
 pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
     const LAST: u16 = 22;
@@ -67,35 +94,7 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
         sentence(ws, 1 + i as u32, l, LAST)?;
     }
     let head = 2 + lines.len() as u32;
-    header(
-        ws,
-        head,
-        &[
-            ("Rank", 5.0),
-            ("Pareto", 6.0),
-            ("Bank", 9.0),
-            ("Bus", 9.0),
-            ("Steps", 5.0),
-            ("Step kvar (rated)", 7.0),
-            ("Rated kV", 6.0),
-            ("Reactor", 7.0),
-            ("kvar at bus kV", 7.0),
-            ("Cost (relative)", 7.0),
-            ("Lowest PF", 7.0),
-            ("Weighted PF", 8.0),
-            ("Resonance low (h)", 9.5),
-            ("Resonance high (h)", 9.5),
-            ("Hand check h", 7.0),
-            ("Margin (%)", 7.0),
-            ("Resonant rows", 8.0),
-            ("Tolerance flagged", 9.0),
-            ("Duty exceeded", 7.0),
-            ("PCC THD (%)", 6.0),
-            ("TDD (%)", 6.0),
-            ("Step change (%)", 7.0),
-            ("Verdict", 34.0),
-        ],
-    )?;
+    header(ws, head, DESIGN_HEADS)?;
     let wrap = Format::new().set_text_wrap();
     for (i, p) in d.plans.iter().enumerate() {
         let r = head + 1 + i as u32;

@@ -31,31 +31,30 @@ pub(super) fn operating(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
     step_changes(ws, res, r)
 }
 
+/// Columns and widths of a table of `points`.
+const POINT_HEADS: &[(&str, f64)] = &[
+    ("Scenario", 9.0),
+    ("Configuration", 24.0),
+    ("P from supply (kW)", 11.0),
+    ("Q from supply (kvar, + lagging)", 12.0),
+    ("PF (formula)", 9.0),
+    ("Lagging / leading", 9.0),
+    ("Target PF (lagging)", 9.0),
+    ("PCC V (pu)", 9.0),
+    ("Min V (pu)", 9.0),
+    ("Min V bus", 10.0),
+    ("Max V (pu)", 9.0),
+    ("Max V bus", 10.0),
+    ("Buses outside range", 9.0),
+    ("Verdict", 16.0),
+];
+
 /// The points table with its digest, the range line and the configurations without
 /// solution; returns the last row written.
 fn points(ws: &mut Worksheet, res: &CheckResults) -> Result<u32, XlsxError> {
     let op = &res.operating;
     let bold = Format::new().set_bold();
-    header(
-        ws,
-        0,
-        &[
-            ("Scenario", 9.0),
-            ("Configuration", 24.0),
-            ("P from supply (kW)", 11.0),
-            ("Q from supply (kvar, + lagging)", 12.0),
-            ("PF (formula)", 9.0),
-            ("Lagging / leading", 9.0),
-            ("Target PF (lagging)", 9.0),
-            ("PCC V (pu)", 9.0),
-            ("Min V (pu)", 9.0),
-            ("Min V bus", 10.0),
-            ("Max V (pu)", 9.0),
-            ("Max V bus", 10.0),
-            ("Buses outside range", 9.0),
-            ("Verdict", 16.0),
-        ],
-    )?;
+    header(ws, 0, POINT_HEADS)?;
     let mut r = 1u32;
     for p in &op.points {
         let cell = |c: u16| row_col_to_cell(r, c);

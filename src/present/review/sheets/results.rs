@@ -54,128 +54,134 @@ fn s_sc_formula(
     )
 }
 
+/// The Resonance sheet's columns and widths.
+const RESONANCE_HEADS: &[(&str, f64)] = &[
+    ("Scenario", 9.0),
+    ("Configuration", 24.0),
+    ("Bank", 8.0),
+    ("Bus", 10.0),
+    ("Steps", 6.0),
+    (
+        "Ssc at bus, sources and branches (MVA) (formula of Input)",
+        13.0,
+    ),
+    ("Qc on the bus at bus voltage (kvar)", 12.0),
+    ("Xc of this detuning (ohm)", 10.0),
+    ("XL reactor (ohm)", 10.0),
+    ("|Zth| (ohm) (formula)", 10.0),
+    ("Hand check h (formula)", 11.0),
+    ("Scanned h", 10.0),
+    ("|Z| at peak (ohm)", 11.0),
+    ("Amplification", 11.0),
+    ("Sharpness Q", 10.0),
+    ("Nearest characteristic h", 11.0),
+    ("Margin (%) (formula)", 11.0),
+    ("Band low h", 10.0),
+    ("Band high h", 10.0),
+    ("Verdict", 11.0),
+];
+
+/// The cells of resonance row `r`, written at sheet row `rr` (its formulas refer to that
+/// row and to the Input sheet's cells).
+fn resonance_cells(
+    res: &CheckResults,
+    cells: &super::input::InputCells,
+    rr: u32,
+    r: &crate::study::ResonanceRow,
+) -> Vec<Cell> {
+    let bank = res.network.banks.iter().find(|b| b.id == r.bank);
+    let bus = res.network.buses.iter().find(|b| b.id == r.bus);
+    let (xc, xl, zth) = match (bank, bus) {
+        (Some(b), Some(bus)) => {
+            let xc = r.x_c_ohm;
+            (xc, b.p * xc, bus.kv * bus.kv / r.s_sc_mva)
+        }
+        _ => (f64::NAN, f64::NAN, f64::NAN),
+    };
+    let cell = |c: u16| row_col_to_cell(rr, c);
+    // Plain or detuned steps alone: the closed form, live. Plain and detuned together:
+    // the susceptance zero (a root, not a closed form), as a value.
+    let hand = if r.mixed {
+        n(r.hand_order, "0.000")
+    } else if bank.is_some_and(|b| b.p == 0.0) {
+        Cell::Formula(
+            format!("=SQRT({}*1000/{})", cell(5), cell(6)),
+            r.hand_order,
+            "0.000",
+        )
+    } else {
+        Cell::Formula(
+            format!("=SQRT({}/({}+{}))", cell(7), cell(9), cell(8)),
+            r.hand_order,
+            "0.000",
+        )
+    };
+    let s_sc = match &r.s_sc_basis {
+        crate::study::hand::SscBasis::Path(p) => {
+            Cell::Formula(s_sc_formula(res, cells, p), r.s_sc_mva, "0.000")
+        }
+        crate::study::hand::SscBasis::Network => n(r.s_sc_mva, "0.000"),
+    };
+    let bus_row = res
+        .plant
+        .buses
+        .iter()
+        .position(|b| b.id == r.bus)
+        .unwrap_or(0) as u32;
+    let zth_cell = Cell::Formula(
+        format!(
+            "=Input!{}^2/{}",
+            row_col_to_cell(cells.buses + bus_row, 1),
+            cell(5)
+        ),
+        zth,
+        "0.000000",
+    );
+    let band = res
+        .tolerance
+        .iter()
+        .find(|b| b.bank == r.bank && b.configuration == r.configuration);
+    let margin = match (r.peak, r.nearest_characteristic) {
+        (Some(_), Some(_)) => Cell::Formula(
+            format!("=({}-{})/{}*100", cell(11), cell(15), cell(15)),
+            r.margin_percent.unwrap_or(f64::NAN),
+            "0.0",
+        ),
+        _ => Cell::Blank,
+    };
+    vec![
+        t(&r.scenario),
+        t(&r.configuration),
+        t(&r.bank),
+        t(&r.bus),
+        n(f64::from(r.steps), "0"),
+        s_sc,
+        n(r.q_c_kvar, "0.0"),
+        n(xc, "0.00000"),
+        n(xl, "0.00000"),
+        zth_cell,
+        hand,
+        on(r.peak.map(|p| p.order), "0.000"),
+        on(r.peak.map(|p| p.z_ohm), "0.0000"),
+        on(r.peak.map(|p| p.amplification), "0.00"),
+        on(r.peak.and_then(|p| p.sharpness), "0.0"),
+        on(r.nearest_characteristic, "0"),
+        margin,
+        on(band.map(|b| b.low_order), "0.000"),
+        on(band.map(|b| b.high_order), "0.000"),
+        t(r.verdict_text()),
+    ]
+}
+
 pub(super) fn resonance(
     ws: &mut Worksheet,
     res: &CheckResults,
     cells: &super::input::InputCells,
 ) -> Result<(), XlsxError> {
-    header(
-        ws,
-        0,
-        &[
-            ("Scenario", 9.0),
-            ("Configuration", 24.0),
-            ("Bank", 8.0),
-            ("Bus", 10.0),
-            ("Steps", 6.0),
-            (
-                "Ssc at bus, sources and branches (MVA) (formula of Input)",
-                13.0,
-            ),
-            ("Qc on the bus at bus voltage (kvar)", 12.0),
-            ("Xc of this detuning (ohm)", 10.0),
-            ("XL reactor (ohm)", 10.0),
-            ("|Zth| (ohm) (formula)", 10.0),
-            ("Hand check h (formula)", 11.0),
-            ("Scanned h", 10.0),
-            ("|Z| at peak (ohm)", 11.0),
-            ("Amplification", 11.0),
-            ("Sharpness Q", 10.0),
-            ("Nearest characteristic h", 11.0),
-            ("Margin (%) (formula)", 11.0),
-            ("Band low h", 10.0),
-            ("Band high h", 10.0),
-            ("Verdict", 11.0),
-        ],
-    )?;
+    header(ws, 0, RESONANCE_HEADS)?;
     for (i, r) in res.resonance.rows.iter().enumerate() {
         let rr = i as u32 + 1;
-        let bank = res.network.banks.iter().find(|b| b.id == r.bank);
-        let bus = res.network.buses.iter().find(|b| b.id == r.bus);
-        let (xc, xl, zth) = match (bank, bus) {
-            (Some(b), Some(bus)) => {
-                let xc = r.x_c_ohm;
-                (xc, b.p * xc, bus.kv * bus.kv / r.s_sc_mva)
-            }
-            _ => (f64::NAN, f64::NAN, f64::NAN),
-        };
-        let cell = |c: u16| row_col_to_cell(rr, c);
-        // Plain or detuned steps alone: the closed form, live. Plain and detuned together:
-        // the susceptance zero (a root, not a closed form), as a value.
-        let hand = if r.mixed {
-            n(r.hand_order, "0.000")
-        } else if bank.is_some_and(|b| b.p == 0.0) {
-            Cell::Formula(
-                format!("=SQRT({}*1000/{})", cell(5), cell(6)),
-                r.hand_order,
-                "0.000",
-            )
-        } else {
-            Cell::Formula(
-                format!("=SQRT({}/({}+{}))", cell(7), cell(9), cell(8)),
-                r.hand_order,
-                "0.000",
-            )
-        };
-        let s_sc = match &r.s_sc_basis {
-            crate::study::hand::SscBasis::Path(p) => {
-                Cell::Formula(s_sc_formula(res, cells, p), r.s_sc_mva, "0.000")
-            }
-            crate::study::hand::SscBasis::Network => n(r.s_sc_mva, "0.000"),
-        };
-        let bus_row = res
-            .plant
-            .buses
-            .iter()
-            .position(|b| b.id == r.bus)
-            .unwrap_or(0) as u32;
-        let zth_cell = Cell::Formula(
-            format!(
-                "=Input!{}^2/{}",
-                row_col_to_cell(cells.buses + bus_row, 1),
-                cell(5)
-            ),
-            zth,
-            "0.000000",
-        );
-        let band = res
-            .tolerance
-            .iter()
-            .find(|b| b.bank == r.bank && b.configuration == r.configuration);
-        let margin = match (r.peak, r.nearest_characteristic) {
-            (Some(_), Some(_)) => Cell::Formula(
-                format!("=({}-{})/{}*100", cell(11), cell(15), cell(15)),
-                r.margin_percent.unwrap_or(f64::NAN),
-                "0.0",
-            ),
-            _ => Cell::Blank,
-        };
-        row(
-            ws,
-            rr,
-            &[
-                t(&r.scenario),
-                t(&r.configuration),
-                t(&r.bank),
-                t(&r.bus),
-                n(f64::from(r.steps), "0"),
-                s_sc,
-                n(r.q_c_kvar, "0.0"),
-                n(xc, "0.00000"),
-                n(xl, "0.00000"),
-                zth_cell,
-                hand,
-                on(r.peak.map(|p| p.order), "0.000"),
-                on(r.peak.map(|p| p.z_ohm), "0.0000"),
-                on(r.peak.map(|p| p.amplification), "0.00"),
-                on(r.peak.and_then(|p| p.sharpness), "0.0"),
-                on(r.nearest_characteristic, "0"),
-                margin,
-                on(band.map(|b| b.low_order), "0.000"),
-                on(band.map(|b| b.high_order), "0.000"),
-                t(r.verdict_text()),
-            ],
-        )?;
+        row(ws, rr, &resonance_cells(res, cells, rr, r))?;
     }
     let keys: Vec<(bool, f64)> = res
         .resonance
@@ -290,27 +296,26 @@ pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), X
     verdict_colours(ws, 1, res.limit_rows.len() as u32, 23)
 }
 
+/// Columns and widths of a table of `duty`.
+const DUTY_HEADS: &[(&str, f64)] = &[
+    ("Scenario", 9.0),
+    ("Configuration", 24.0),
+    ("Bank", 8.0),
+    ("Steps", 6.0),
+    ("Vrms (% rated)", 10.0),
+    ("limit", 7.0),
+    ("Vpeak (% rated)", 10.0),
+    ("limit", 7.0),
+    ("Irms (% nominal)", 10.0),
+    ("limit", 7.0),
+    ("kvar (% rated)", 10.0),
+    ("limit", 7.0),
+    ("Standard", 24.0),
+    ("Verdict", 10.0),
+];
+
 pub(super) fn duty(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
-    header(
-        ws,
-        0,
-        &[
-            ("Scenario", 9.0),
-            ("Configuration", 24.0),
-            ("Bank", 8.0),
-            ("Steps", 6.0),
-            ("Vrms (% rated)", 10.0),
-            ("limit", 7.0),
-            ("Vpeak (% rated)", 10.0),
-            ("limit", 7.0),
-            ("Irms (% nominal)", 10.0),
-            ("limit", 7.0),
-            ("kvar (% rated)", 10.0),
-            ("limit", 7.0),
-            ("Standard", 24.0),
-            ("Verdict", 10.0),
-        ],
-    )?;
+    header(ws, 0, DUTY_HEADS)?;
     for (i, r) in res.duty.iter().enumerate() {
         let pct = |v: f64| n(v * 100.0, "0.0");
         let opct = |v: Option<f64>| on(v.map(|x| x * 100.0), "0");
@@ -394,30 +399,50 @@ pub(super) fn duty(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxErr
     Ok(())
 }
 
+/// The width of the remedy tables' narrow columns.
+const W: f64 = 8.5;
+
+/// Columns and widths of a table of `remedies`.
+const REMEDY_HEADS: &[(&str, f64)] = &[
+    ("Bank", 7.0),
+    ("Rank", 5.0),
+    ("Option", 24.0),
+    ("p (%)", W),
+    ("Tuning order", W),
+    ("L per step (mH)", W),
+    ("XL (ohm)", W),
+    ("Capacitor voltage needed (V)", W),
+    ("Capacitor rating (V)", W),
+    ("kvar to buy per step", W),
+    ("Effective kvar (bank)", W),
+    ("I1 per step (A)", W),
+    ("Linearity current (A)", W),
+];
+
+/// Columns and widths of a table of `remedies`.
+const REMEDY_HEADS_2: &[(&str, f64)] = &[
+    ("Bank", 7.0),
+    ("Rank", 5.0),
+    ("Option", 24.0),
+    ("Irms per step after (A)", W),
+    ("Peak current / linearity peak after", W),
+    ("Resonance after low h", W),
+    ("Resonance after high h", W),
+    ("Resonant rows after", W),
+    ("Limit rows over after", W),
+    ("Duty rows over after", W),
+    ("Worst THD after (%)", W),
+    ("Worst TDD after (%)", W),
+    ("Margin across tolerance after (%)", W),
+    ("Tolerance bands flagged after", W),
+    ("Result", 9.0),
+];
+
 /// The remedies in two tables that print at full width: what each option is (sizing, one
 /// row per option) and, below, what it does (the studies re-run with it in place); the
 /// bank's figures before any remedy on a line of their own.
 pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
-    const W: f64 = 8.5;
-    header(
-        ws,
-        0,
-        &[
-            ("Bank", 7.0),
-            ("Rank", 5.0),
-            ("Option", 24.0),
-            ("p (%)", W),
-            ("Tuning order", W),
-            ("L per step (mH)", W),
-            ("XL (ohm)", W),
-            ("Capacitor voltage needed (V)", W),
-            ("Capacitor rating (V)", W),
-            ("kvar to buy per step", W),
-            ("Effective kvar (bank)", W),
-            ("I1 per step (A)", W),
-            ("Linearity current (A)", W),
-        ],
-    )?;
+    header(ws, 0, REMEDY_HEADS)?;
     if res.remedies.is_empty() {
         ws.write_string(
             1,
@@ -469,27 +494,7 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
         }
     }
     r += 1;
-    header(
-        ws,
-        r,
-        &[
-            ("Bank", 7.0),
-            ("Rank", 5.0),
-            ("Option", 24.0),
-            ("Irms per step after (A)", W),
-            ("Peak current / linearity peak after", W),
-            ("Resonance after low h", W),
-            ("Resonance after high h", W),
-            ("Resonant rows after", W),
-            ("Limit rows over after", W),
-            ("Duty rows over after", W),
-            ("Worst THD after (%)", W),
-            ("Worst TDD after (%)", W),
-            ("Margin across tolerance after (%)", W),
-            ("Tolerance bands flagged after", W),
-            ("Result", 9.0),
-        ],
-    )?;
+    header(ws, r, REMEDY_HEADS_2)?;
     // The sizing table's header repeats on every printed page; the outcome table is short.
     ws.set_repeat_rows(0, 0)?;
     ws.set_freeze_panes(1, 0)?;

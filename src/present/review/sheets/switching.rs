@@ -11,34 +11,33 @@ use super::verdict_colours;
 use crate::jobs::check::CheckResults;
 use crate::study::switching::CAPACITOR_TRANSIENT_PU;
 
+/// Columns and widths of a table of `switching`.
+const SWITCHING_HEADS: &[(&str, f64)] = &[
+    ("Scenario", 9.0),
+    ("Bank", 7.0),
+    ("Step", 5.0),
+    ("Case", 11.0),
+    ("Before closing", 16.0),
+    ("Trapped charge (pu)", 8.0),
+    ("Peak inrush (A)", 9.0),
+    ("Formula peak (A)", 9.0),
+    ("Ringing (Hz)", 8.0),
+    ("Formula ringing (Hz)", 9.0),
+    ("Damping ratio", 8.0),
+    ("Bus peak (pu)", 7.0),
+    ("Capacitor peak (pu of bus)", 9.0),
+    ("Capacitor peak (x rated peak)", 9.0),
+    ("Largest remote peak (pu)", 9.0),
+    ("Remote bank", 7.0),
+    ("Ring-down (ms)", 8.0),
+    ("Inrush limit (A)", 8.0),
+    ("Inrush L to meet it (uH)", 9.0),
+    ("Closing angle (deg)", 8.0),
+    ("Verdict", 18.0),
+];
+
 pub(super) fn switching(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
-    header(
-        ws,
-        0,
-        &[
-            ("Scenario", 9.0),
-            ("Bank", 7.0),
-            ("Step", 5.0),
-            ("Case", 11.0),
-            ("Before closing", 16.0),
-            ("Trapped charge (pu)", 8.0),
-            ("Peak inrush (A)", 9.0),
-            ("Formula peak (A)", 9.0),
-            ("Ringing (Hz)", 8.0),
-            ("Formula ringing (Hz)", 9.0),
-            ("Damping ratio", 8.0),
-            ("Bus peak (pu)", 7.0),
-            ("Capacitor peak (pu of bus)", 9.0),
-            ("Capacitor peak (x rated peak)", 9.0),
-            ("Largest remote peak (pu)", 9.0),
-            ("Remote bank", 7.0),
-            ("Ring-down (ms)", 8.0),
-            ("Inrush limit (A)", 8.0),
-            ("Inrush L to meet it (uH)", 9.0),
-            ("Closing angle (deg)", 8.0),
-            ("Verdict", 18.0),
-        ],
-    )?;
+    header(ws, 0, SWITCHING_HEADS)?;
     // Wrapped headers need the room of four lines.
     ws.set_row_height(0, 60)?;
     let events = &res.switching.events;
