@@ -355,65 +355,8 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
         )?;
     }
     write_background(out, res)?;
-    let nc = res.scan.configurations.len();
     for (s, scenario) in res.scan.scenarios.iter().enumerate() {
-        let rows: Vec<(usize, &LimitRow)> =
-            (0..nc).map(|c| (c, &res.limit_rows[s * nc + c])).collect();
-        let exceeding = rows.iter().filter(|(_, r)| r.exceeds).count();
-        writeln!(out)?;
-        writeln!(
-            out,
-            "Scenario {scenario}: {exceeding} of {nc} configuration(s) exceed a limit"
-        )?;
-        let shown: Vec<(usize, &LimitRow)> = if rows.len() > MAX_ROWS_PER_SCENARIO {
-            let mut r: Vec<(usize, &LimitRow)> =
-                rows.iter().copied().filter(|(_, r)| r.exceeds).collect();
-            r.sort_by(|a, b| {
-                a.1.worst_thd
-                    .margin
-                    .unwrap_or(0.0)
-                    .total_cmp(&b.1.worst_thd.margin.unwrap_or(0.0))
-            });
-            r.truncate(MAX_ROWS_PER_SCENARIO);
-            writeln!(
-                out,
-                "  (showing the {} configurations exceeding most; --json has all)",
-                r.len()
-            )?;
-            r
-        } else {
-            rows
-        };
-        let table: Vec<Vec<String>> = shown
-            .iter()
-            .map(|&(c, r)| {
-                let ampl = res.amplification[s * nc + c]
-                    .iter()
-                    .map(|x| x.thd_ratio)
-                    .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
-                    .map_or_else(|| "-".to_string(), |v| format!("{v:.2}"));
-                let ieee = ctx.set == LimitSet::Ieee519_2014;
-                let in_plant = if r.worst_thd_bus == res.network.buses[res.pcc].id {
-                    "-".to_string()
-                } else {
-                    let mark = if r.in_plant_above && ieee { " *" } else { "" };
-                    format!("{:.2} {}{mark}", r.worst_thd.value, r.worst_thd_bus)
-                };
-                vec![
-                    r.configuration.clone(),
-                    of_limit(Some(&r.pcc_thd), None),
-                    of_limit(r.pcc_individual.as_ref(), r.pcc_individual_order),
-                    of_limit(Some(&r.tdd), None),
-                    of_limit(r.worst_pcc_current.as_ref(), r.worst_pcc_order),
-                    in_plant,
-                    ampl,
-                    if r.exceeds { "EXCEEDS" } else { "meets" }.to_string(),
-                ]
-            })
-            .collect();
-        if !table.is_empty() {
-            write_table(out, &LIMIT_HEADERS, &[0, 5, 7], &table)?;
-        }
+        write_limit_table(out, res, s, scenario)?;
     }
     writeln!(out)?;
     super::table::write_wrapped(
@@ -425,6 +368,79 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
         },
         100,
     )
+}
+
+/// One scenario's limits table: every configuration, or the ones exceeding most when
+/// there are many.
+fn write_limit_table(
+    out: &mut dyn Write,
+    res: &CheckResults,
+    s: usize,
+    scenario: &str,
+) -> io::Result<()> {
+    let nc = res.scan.configurations.len();
+    let rows: Vec<(usize, &LimitRow)> = (0..nc).map(|c| (c, &res.limit_rows[s * nc + c])).collect();
+    let exceeding = rows.iter().filter(|(_, r)| r.exceeds).count();
+    writeln!(out)?;
+    writeln!(
+        out,
+        "Scenario {scenario}: {exceeding} of {nc} configuration(s) exceed a limit"
+    )?;
+    let shown: Vec<(usize, &LimitRow)> = if rows.len() > MAX_ROWS_PER_SCENARIO {
+        let mut r: Vec<(usize, &LimitRow)> =
+            rows.iter().copied().filter(|(_, r)| r.exceeds).collect();
+        r.sort_by(|a, b| {
+            a.1.worst_thd
+                .margin
+                .unwrap_or(0.0)
+                .total_cmp(&b.1.worst_thd.margin.unwrap_or(0.0))
+        });
+        r.truncate(MAX_ROWS_PER_SCENARIO);
+        writeln!(
+            out,
+            "  (showing the {} configurations exceeding most; --json has all)",
+            r.len()
+        )?;
+        r
+    } else {
+        rows
+    };
+    let table: Vec<Vec<String>> = shown
+        .iter()
+        .map(|&(c, r)| limit_cells(res, s * nc + c, r))
+        .collect();
+    if !table.is_empty() {
+        write_table(out, &LIMIT_HEADERS, &[0, 5, 7], &table)?;
+    }
+    Ok(())
+}
+
+/// The cells of a limits row: PCC THD, Vh, TDD and Ih against their limits, the in-plant
+/// THD, the banks' amplification (of penetration result `i`) and the verdict.
+fn limit_cells(res: &CheckResults, i: usize, r: &LimitRow) -> Vec<String> {
+    let ctx = &res.limits;
+    let ampl = res.amplification[i]
+        .iter()
+        .map(|x| x.thd_ratio)
+        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+        .map_or_else(|| "-".to_string(), |v| format!("{v:.2}"));
+    let ieee = ctx.set == LimitSet::Ieee519_2014;
+    let in_plant = if r.worst_thd_bus == res.network.buses[res.pcc].id {
+        "-".to_string()
+    } else {
+        let mark = if r.in_plant_above && ieee { " *" } else { "" };
+        format!("{:.2} {}{mark}", r.worst_thd.value, r.worst_thd_bus)
+    };
+    vec![
+        r.configuration.clone(),
+        of_limit(Some(&r.pcc_thd), None),
+        of_limit(r.pcc_individual.as_ref(), r.pcc_individual_order),
+        of_limit(Some(&r.tdd), None),
+        of_limit(r.worst_pcc_current.as_ref(), r.worst_pcc_order),
+        in_plant,
+        ampl,
+        if r.exceeds { "EXCEEDS" } else { "meets" }.to_string(),
+    ]
 }
 
 /// Writes the peaks of every scanned series: the `scan` command's terminal output.

@@ -132,7 +132,8 @@ fn bank_word(res: &CheckResults, bank: &str) -> &'static str {
     }
 }
 
-/// Writes the verdict block.
+/// Writes the verdict block: a sentence per bank (and its recommended remedy), one for the
+/// plant, and the plant-level limits note.
 pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     writeln!(out, "VERDICT (the tables below give every figure)")?;
     let not_studied = res
@@ -140,55 +141,80 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         .iter()
         .find(|n| matches!(n, Note::RemediesNotStudied { .. }));
     for (b, m) in res.plant.banks.iter().zip(&res.network.banks) {
-        let reactor =
-            crate::present::reactor_words(b.reactor).unwrap_or_else(|| "plain".to_string());
-        let head = format!(
-            "{} ({}, {} x {} kvar, {reactor}): ",
-            b.id, res.network.buses[m.bus].id, b.steps, b.step_kvar
-        );
+        write_bank_verdict(out, res, b, m, not_studied)?;
+    }
+    if let Some(line) = plant_line(res) {
+        write_hanging(out, "- ", "    ", &line, WIDTH)?;
+    }
+    if let Some(note) = res
+        .notes
+        .iter()
+        .find(|n| matches!(n, Note::PlantLevelLimits { .. }))
+    {
+        write_hanging(out, "- ", "    ", &note.to_string(), WIDTH)?;
+    }
+    Ok(())
+}
+
+/// A bank's sentence, then its rank-1 remedy (or why remedies were not studied).
+fn write_bank_verdict(
+    out: &mut dyn Write,
+    res: &CheckResults,
+    b: &crate::model::CapacitorBank,
+    m: &crate::network::BankModel,
+    not_studied: Option<&Note>,
+) -> io::Result<()> {
+    let reactor = crate::present::reactor_words(b.reactor).unwrap_or_else(|| "plain".to_string());
+    let head = format!(
+        "{} ({}, {} x {} kvar, {reactor}): ",
+        b.id, res.network.buses[m.bus].id, b.steps, b.step_kvar
+    );
+    write_hanging(
+        out,
+        "- ",
+        "    ",
+        &format!("{head}{}.", bank_line(res, &b.id)),
+        WIDTH,
+    )?;
+    if let Some(br) = res.remedies.iter().find(|r| r.bank == b.id)
+        && let Some(x) = br.results.first()
+    {
+        let s = &x.option.step;
+        let reactor = if s.l_mh > 0.0 {
+            format!(", {:.3} mH per step", s.l_mh)
+        } else {
+            String::new()
+        };
         write_hanging(
             out,
-            "- ",
+            "  > ",
             "    ",
-            &format!("{head}{}.", bank_line(res, &b.id)),
+            &format!(
+                "recommended: {} ({:.0} V {:.1} kvar per step{reactor}): {}; resonant rows {} -> {}, duty rows over {} -> {}",
+                x.option.name,
+                s.capacitor_rated_kv * 1000.0,
+                s.capacitor_kvar,
+                x.verdict(),
+                x.before.resonant,
+                x.after.resonant,
+                x.before.duty_exceeded,
+                x.after.duty_exceeded
+            ),
             WIDTH,
         )?;
-        if let Some(br) = res.remedies.iter().find(|r| r.bank == b.id)
-            && let Some(x) = br.results.first()
-        {
-            let s = &x.option.step;
-            let reactor = if s.l_mh > 0.0 {
-                format!(", {:.3} mH per step", s.l_mh)
-            } else {
-                String::new()
-            };
-            write_hanging(
-                out,
-                "  > ",
-                "    ",
-                &format!(
-                    "recommended: {} ({:.0} V {:.1} kvar per step{reactor}): {}; resonant rows {} -> {}, duty rows over {} -> {}",
-                    x.option.name,
-                    s.capacitor_rated_kv * 1000.0,
-                    s.capacitor_kvar,
-                    x.verdict(),
-                    x.before.resonant,
-                    x.after.resonant,
-                    x.before.duty_exceeded,
-                    x.after.duty_exceeded
-                ),
-                WIDTH,
-            )?;
-        } else if let Some(why) = not_studied
-            && bank_flagged(res, &b.id)
-        {
-            write_hanging(out, "  > ", "    ", &why.to_string(), WIDTH)?;
-        }
+    } else if let Some(why) = not_studied
+        && bank_flagged(res, &b.id)
+    {
+        write_hanging(out, "  > ", "    ", &why.to_string(), WIDTH)?;
     }
-    // The plant: harmonic limits where the limit set applies, and the power factor.
+    Ok(())
+}
+
+/// The plant in one line: configurations over the harmonic limits (where the limit set
+/// applies) and configurations reaching the target PF (lagging, every bus in range), per
+/// scenario; `None` when neither was studied.
+fn plant_line(res: &CheckResults) -> Option<String> {
     let nc = res.scan.configurations.len();
-    // One line for the plant: configurations over the harmonic limits and configurations
-    // reaching the target PF (lagging, every bus in range), per scenario.
     let mut parts = Vec::new();
     if !res.limit_rows.is_empty() {
         let set = match res.limits.set {
@@ -238,21 +264,5 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
             reach.join(", ")
         ));
     }
-    if !parts.is_empty() {
-        write_hanging(
-            out,
-            "- ",
-            "    ",
-            &format!("Plant (configurations): {}.", parts.join("; ")),
-            WIDTH,
-        )?;
-    }
-    if let Some(note) = res
-        .notes
-        .iter()
-        .find(|n| matches!(n, Note::PlantLevelLimits { .. }))
-    {
-        write_hanging(out, "- ", "    ", &note.to_string(), WIDTH)?;
-    }
-    Ok(())
+    (!parts.is_empty()).then(|| format!("Plant (configurations): {}.", parts.join("; ")))
 }

@@ -10,25 +10,11 @@ use crate::model::{ResistanceModel, Summation};
 use crate::present::limit_set_name;
 use crate::study::Verdict;
 
-pub(super) fn summary(
-    ws: &mut Worksheet,
-    res: &CheckResults,
-    prov: &Provenance,
-) -> Result<(), XlsxError> {
+/// The study's provenance and basis, item by item, for the top of the front sheet.
+fn provenance_items(res: &CheckResults, prov: &Provenance) -> Vec<(&'static str, String)> {
     let p = &res.plant.study;
-    let big = Format::new().set_bold().set_font_size(14);
-    ws.write_string_with_format(
-        0,
-        0,
-        if p.title.is_empty() {
-            "overtone review"
-        } else {
-            &p.title
-        },
-        &big,
-    )?;
     let (y, m, d) = prov.date;
-    let items: Vec<(&str, String)> = vec![
+    vec![
         ("Plant", p.plant.clone()),
         ("Prepared by", p.prepared_by.clone()),
         ("Date", format!("{y:04}-{m:02}-{d:02}")),
@@ -97,27 +83,46 @@ pub(super) fn summary(
                 res.scan.configurations.len()
             ),
         ),
-    ];
+    ]
+}
+
+/// Columns and widths of a table of `summary`.
+const VERDICT_HEADS: &[(&str, f64)] = &[
+    ("Check", 50.0),
+    ("Element", 16.0),
+    ("Scenario", 10.0),
+    ("Configuration", 26.0),
+    ("Value", 12.0),
+    ("Limit", 12.0),
+    ("Unit", 24.0),
+    ("Verdict", 12.0),
+];
+
+pub(super) fn summary(
+    ws: &mut Worksheet,
+    res: &CheckResults,
+    prov: &Provenance,
+) -> Result<(), XlsxError> {
+    let p = &res.plant.study;
+    let big = Format::new().set_bold().set_font_size(14);
+    ws.write_string_with_format(
+        0,
+        0,
+        if p.title.is_empty() {
+            "overtone review"
+        } else {
+            &p.title
+        },
+        &big,
+    )?;
+    let items = provenance_items(res, prov);
     let bold = Format::new().set_bold();
     for (i, (k, v)) in items.iter().enumerate() {
         ws.write_string_with_format(i as u32 + 2, 0, *k, &bold)?;
         ws.write_string(i as u32 + 2, 1, v)?;
     }
     let top = items.len() as u32 + 3;
-    header(
-        ws,
-        top,
-        &[
-            ("Check", 50.0),
-            ("Element", 16.0),
-            ("Scenario", 10.0),
-            ("Configuration", 26.0),
-            ("Value", 12.0),
-            ("Limit", 12.0),
-            ("Unit", 24.0),
-            ("Verdict", 12.0),
-        ],
-    )?;
+    header(ws, top, VERDICT_HEADS)?;
     let mut rows = verdict_rows(res);
     rows.sort_by(|a, b| b.0.total_cmp(&a.0));
     for (i, (_, cells)) in rows.iter().enumerate() {
