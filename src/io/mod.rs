@@ -3,5 +3,6 @@
 //! provenance of an input file.
 
 pub mod provenance;
+pub mod schema;
 pub mod template;
 pub mod workbook_in;

@@ -11,10 +11,8 @@ use rust_xlsxwriter::{
 
 use crate::model::*;
 
-mod columns;
-
-pub use columns::LOAD_TYPES;
-use columns::*;
+pub use crate::io::schema::LOAD_TYPES;
+use crate::io::schema::*;
 
 fn validation(check: Check) -> Result<Option<DataValidation>, XlsxError> {
     let dv = match check {

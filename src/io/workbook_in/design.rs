@@ -2,28 +2,8 @@
 //! for their type and form here, at their cells; what they mean for the plant (a bus that
 //! exists, a plan that can reach the target) is checked by [`crate::jobs::design`].
 
-use super::sheets::{opt, req};
-use super::table::{Column, Diagnostics, Row, Table};
+use super::table::{Diagnostics, Row, Table};
 use crate::model::*;
-
-pub const DESIGN: &[Column] = &[
-    req("Bus"),
-    req("Step kvar"),
-    opt("Steps"),
-    opt("Detuning"),
-    opt("Rated kV"),
-    opt("Capacitor cost (per kvar)"),
-    opt("Reactor cost (per kvar)"),
-    opt("Step cost"),
-    opt("Leading PF limit"),
-];
-
-pub const LOAD_LEVELS: &[Column] = &[
-    req("Level"),
-    opt("Hours per year"),
-    opt("Load"),
-    req("Load factor"),
-];
 
 /// A list of positive numbers in one cell: a number, or text like `25, 50, 100` (commas or
 /// semicolons); `None` when blank. A bad item is reported at the cell.

@@ -25,7 +25,7 @@ pub use cells::{MAX_CELLS, MAX_ROWS};
 
 pub use design::reactor_choice;
 pub use sheets::{load_type, studied_steps};
-pub use study::{ITEMS as STUDY_ITEMS, limit_set, tolerance};
+pub use study::{limit_set, tolerance};
 pub use table::{a1, normalize};
 
 use crate::model::Plant;
@@ -385,28 +385,28 @@ fn read_plant(
         (plant.study, item_cells) = study::read(tb, stem, diag);
         tb.release_cells();
     }
-    t.buses = table(1, sheets::BUSES, diag);
+    t.buses = table(1, &crate::io::schema::columns("Buses"), diag);
     if let Some(tb) = &mut t.buses {
         plant.buses = sheets::buses(tb, diag);
         tb.release_cells();
     }
-    t.sources = table(2, sheets::SOURCES, diag);
+    t.sources = table(2, &crate::io::schema::columns("Sources"), diag);
     if let Some(tb) = &mut t.sources {
         plant.sources = sheets::sources(tb, diag, &mut defaults);
         tb.release_cells();
     }
-    t.transformers = table(3, sheets::TRANSFORMERS, diag);
+    t.transformers = table(3, &crate::io::schema::columns("Transformers"), diag);
     if let Some(tb) = &mut t.transformers {
         plant.transformers =
             sheets::transformers(tb, diag, &mut defaults, plant.study.frequency_hz);
         tb.release_cells();
     }
-    t.cables = table(4, sheets::CABLES, diag);
+    t.cables = table(4, &crate::io::schema::columns("Cables"), diag);
     if let Some(tb) = &mut t.cables {
         plant.cables = sheets::cables(tb, diag, &mut defaults);
         tb.release_cells();
     }
-    t.capacitors = table(5, sheets::CAPACITORS, diag);
+    t.capacitors = table(5, &crate::io::schema::columns("Capacitors"), diag);
     if let Some(tb) = &mut t.capacitors {
         let kv: std::collections::HashMap<&str, f64> = plant
             .buses
@@ -417,27 +417,27 @@ fn read_plant(
         plant.banks = sheets::banks(tb, diag, &mut defaults, &bus_kv);
         tb.release_cells();
     }
-    t.loads = table(6, sheets::LOADS, diag);
+    t.loads = table(6, &crate::io::schema::columns("Loads"), diag);
     if let Some(tb) = &mut t.loads {
         plant.loads = sheets::loads(tb, diag, &mut defaults);
         tb.release_cells();
     }
-    if let Some(tb) = &mut table(7, sheets::SPECTRA, diag) {
+    if let Some(tb) = &mut table(7, &crate::io::schema::columns("Spectra"), diag) {
         let phasor = plant.study.summation == crate::model::Summation::Phasor;
         plant.spectra = sheets::spectra(tb, diag, phasor);
         tb.release_cells();
         warn_orders_above_studied(&plant, &tb.sheet, diag);
     }
-    t.background = table(8, sheets::BACKGROUND, diag);
+    t.background = table(8, &crate::io::schema::columns("Background"), diag);
     if let Some(tb) = &mut t.background {
         plant.background = sequence::background(tb, diag);
         tb.release_cells();
     }
-    if let Some(tb) = &mut table(9, design::DESIGN, diag) {
+    if let Some(tb) = &mut table(9, &crate::io::schema::columns("Design"), diag) {
         plant.design = design::design(tb, diag);
         tb.release_cells();
     }
-    if let Some(tb) = &mut table(10, design::LOAD_LEVELS, diag) {
+    if let Some(tb) = &mut table(10, &crate::io::schema::columns("Load levels"), diag) {
         plant.load_levels = design::load_levels(tb, diag);
         tb.release_cells();
     }

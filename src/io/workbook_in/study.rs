@@ -18,26 +18,6 @@ pub const COLUMNS: &[Column] = &[
     },
 ];
 
-/// The items of the Study sheet as the contract spells them.
-pub const ITEMS: &[&str] = &[
-    "Title",
-    "Plant",
-    "Prepared by",
-    "Frequency (Hz)",
-    "PCC bus",
-    "Max demand current (A)",
-    "Highest order",
-    "Scan step (order)",
-    "Resistance model",
-    "Limits",
-    "Summation",
-    "Resonance margin (%)",
-    "Capacitance tolerance (%)",
-    "Target power factor",
-    "Step voltage change (%)",
-    "Voltage range (pu)",
-];
-
 /// Where each item's value was found: normalized item → cell.
 pub type ItemCells = HashMap<String, String>;
 
@@ -80,7 +60,10 @@ pub fn read(t: &Table, file_stem: &str, d: &mut Diagnostics) -> (StudySettings, 
     let mut s = StudySettings::new(f64::NAN);
     s.title = file_stem.to_string();
     let mut cells = ItemCells::new();
-    let known: Vec<String> = ITEMS.iter().map(|i| normalize(i)).collect();
+    let known: Vec<String> = crate::io::schema::study_item_names()
+        .iter()
+        .map(|i| normalize(i))
+        .collect();
     let mut last_row = 0;
     for r in &t.rows {
         last_row = r.row;

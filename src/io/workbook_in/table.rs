@@ -112,12 +112,7 @@ impl Diagnostics {
     }
 }
 
-/// One column the contract defines for a sheet.
-pub struct Column {
-    /// The header as the contract spells it (used in messages).
-    pub header: &'static str,
-    pub required: bool,
-}
+pub use crate::io::schema::Column;
 
 /// A row of a sheet: its zero-based row and its non-blank cells by zero-based column, in
 /// column order.
