@@ -119,58 +119,9 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
             dips: &s.dips,
         })
         .collect();
-    let nc = res.scan.configurations.len();
+    let distortion = distortion(res);
+    let model = model(res);
     let orders = &res.penetration.injections.orders;
-    let per_bus = res.penetration.results.len() * res.network.buses.len() <= MAX_BUS_ENTRIES;
-    let distortion = res
-        .penetration
-        .results
-        .iter()
-        .zip(&res.limit_rows)
-        .map(|(d, row)| DistortionJson {
-            limits: row,
-            bank_amplification: &res.amplification[d.scenario * nc + d.configuration],
-            buses: (per_bus && d.evaluated.is_none())
-                .then(|| bus_checks(d, &res.limits, &res.network)),
-            pcc_current_a: &d.pcc_current_a,
-            bank_current_a: &d.bank_current_a,
-            bank_voltage_percent: &d.bank_voltage_percent,
-            bank_background_rms_a: &d.bank_background_rms_a,
-        })
-        .collect();
-    let f = res.plant.study.frequency_hz;
-    let model = ModelJson {
-        scope: crate::present::model_scope(),
-        summation: crate::present::terminal::summary::summation_word(res.plant.study.summation),
-        summation_meaning: crate::present::summation_meaning(res.plant.study.summation),
-        order_sequences: &res.penetration.injections.sequences,
-        vector_groups: res
-            .plant
-            .transformers
-            .iter()
-            .map(|t| (t.id.clone(), t.vector_group(f).label()))
-            .collect(),
-        bank_connections: res
-            .network
-            .banks
-            .iter()
-            .map(|b| (b.id.clone(), b.connection.label()))
-            .collect(),
-        background: &res.plant.background,
-        background_shares: &res.background,
-        zero_sequence_scan: res.zero_scan.as_ref().map_or_else(Vec::new, |z| {
-            z.series
-                .iter()
-                .map(|s| SeriesPeaks {
-                    scenario: &z.scenarios[s.scenario],
-                    configuration: z.configurations[s.configuration].label(&res.plant.banks),
-                    bus: &res.network.buses[z.buses[s.bus]].id,
-                    peaks: &s.peaks,
-                    dips: &s.dips,
-                })
-                .collect()
-        }),
-    };
     Summary {
         tool: "overtone",
         version: env!("CARGO_PKG_VERSION"),
@@ -209,6 +160,66 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         remedies: &res.remedies,
         assumptions: &res.notes,
         cautions: crate::present::cautions::CAUTIONS,
+    }
+}
+
+/// Per scenario × configuration, the limits row with its amplification, per-bus checks
+/// (while the JSON stays within [`MAX_BUS_ENTRIES`]) and the PCC and bank figures.
+fn distortion(res: &CheckResults) -> Vec<DistortionJson<'_>> {
+    let nc = res.scan.configurations.len();
+    let per_bus = res.penetration.results.len() * res.network.buses.len() <= MAX_BUS_ENTRIES;
+    res.penetration
+        .results
+        .iter()
+        .zip(&res.limit_rows)
+        .map(|(d, row)| DistortionJson {
+            limits: row,
+            bank_amplification: &res.amplification[d.scenario * nc + d.configuration],
+            buses: (per_bus && d.evaluated.is_none())
+                .then(|| bus_checks(d, &res.limits, &res.network)),
+            pcc_current_a: &d.pcc_current_a,
+            bank_current_a: &d.bank_current_a,
+            bank_voltage_percent: &d.bank_voltage_percent,
+            bank_background_rms_a: &d.bank_background_rms_a,
+        })
+        .collect()
+}
+
+/// The model the study used: scope, summation, sequences per order, vector groups, bank
+/// connections, background and the zero-sequence scan's peaks.
+fn model(res: &CheckResults) -> ModelJson<'_> {
+    let f = res.plant.study.frequency_hz;
+    ModelJson {
+        scope: crate::present::model_scope(),
+        summation: crate::present::terminal::summary::summation_word(res.plant.study.summation),
+        summation_meaning: crate::present::summation_meaning(res.plant.study.summation),
+        order_sequences: &res.penetration.injections.sequences,
+        vector_groups: res
+            .plant
+            .transformers
+            .iter()
+            .map(|t| (t.id.clone(), t.vector_group(f).label()))
+            .collect(),
+        bank_connections: res
+            .network
+            .banks
+            .iter()
+            .map(|b| (b.id.clone(), b.connection.label()))
+            .collect(),
+        background: &res.plant.background,
+        background_shares: &res.background,
+        zero_sequence_scan: res.zero_scan.as_ref().map_or_else(Vec::new, |z| {
+            z.series
+                .iter()
+                .map(|s| SeriesPeaks {
+                    scenario: &z.scenarios[s.scenario],
+                    configuration: z.configurations[s.configuration].label(&res.plant.banks),
+                    bus: &res.network.buses[z.buses[s.bus]].id,
+                    peaks: &s.peaks,
+                    dips: &s.dips,
+                })
+                .collect()
+        }),
     }
 }
 

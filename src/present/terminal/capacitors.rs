@@ -225,111 +225,116 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
         "Remedies, re-run over every configuration with the bank on. Ranked: the bank's own checks pass (resonance, tolerance band, duty, reactor linearity), then the lowest capacitor voltage class, the widest margin to a characteristic order across the tolerance band, linearity headroom, reactor size. Plant-wide limits are shown, not ranked. pk/lin: step peak current (background included) over the reactor's linearity peak; margin % across the band; res, duty: rows flagged after.",
         100,
     )?;
-    let dash = || "-".to_string();
     for br in &res.remedies {
-        writeln!(out)?;
+        write_bank_remedies(out, br)?;
+    }
+    Ok(())
+}
+
+/// One flagged bank's remedies: why, before, the options sized and what each does.
+/// The remedy options' table: what each option is.
+const REMEDY_OPTION_HEADERS: [&str; 7] = [
+    "rank",
+    "option",
+    "L mH/step",
+    "Uc V",
+    "capacitor/step",
+    "kvar",
+    "I1/lin A",
+];
+
+/// The remedy options' table: what each option does.
+const REMEDY_AFTER_HEADERS: [&str; 10] = [
+    "rank",
+    "Irms A",
+    "pk/lin",
+    "resonance after",
+    "res",
+    "duty",
+    "margin %",
+    "THD %",
+    "TDD %",
+    "after",
+];
+
+fn write_bank_remedies(
+    out: &mut dyn Write,
+    br: &crate::jobs::check::BankRemedies,
+) -> io::Result<()> {
+    let dash = || "-".to_string();
+    writeln!(out)?;
+    super::table::write_hanging(
+        out,
+        "",
+        "  ",
+        &format!(
+            "Bank {}: {}; {} configuration(s) compared",
+            br.bank,
+            br.reason,
+            br.configurations.len()
+        ),
+        100,
+    )?;
+    if let Some(first) = br.results.first() {
+        let b = &first.before;
         super::table::write_hanging(
             out,
-            "",
-            "  ",
+            "  before: ",
+            "    ",
             &format!(
-                "Bank {}: {}; {} configuration(s) compared",
-                br.bank,
-                br.reason,
-                br.configurations.len()
+                "{} resonant row(s), {} scenario-configuration row(s) over a harmonic limit, {} duty row(s) over, worst THD {:.2} %, worst TDD {:.2} %",
+                b.resonant,
+                b.limits_exceeded,
+                b.duty_exceeded,
+                b.worst_thd_percent,
+                b.worst_tdd_percent
             ),
             100,
         )?;
-        if let Some(first) = br.results.first() {
-            let b = &first.before;
-            super::table::write_hanging(
-                out,
-                "  before: ",
-                "    ",
-                &format!(
-                    "{} resonant row(s), {} scenario-configuration row(s) over a harmonic limit, {} duty row(s) over, worst THD {:.2} %, worst TDD {:.2} %",
-                    b.resonant,
-                    b.limits_exceeded,
-                    b.duty_exceeded,
-                    b.worst_thd_percent,
-                    b.worst_tdd_percent
-                ),
-                100,
-            )?;
-        }
-        let what: Vec<Vec<String>> = br
-            .results
-            .iter()
-            .map(|r| {
-                let s = &r.option.step;
-                vec![
-                    r.rank.to_string(),
-                    r.option.name.clone(),
-                    format!("{:.3}", s.l_mh),
-                    format!("{:.0}", s.capacitor_kv_needed * 1000.0),
-                    format!(
-                        "{:.0} V {:.1} kvar",
-                        s.capacitor_rated_kv * 1000.0,
-                        s.capacitor_kvar
-                    ),
-                    format!("{:.0}", r.option.effective_kvar),
-                    format!("{:.1}/{:.1}", s.i1_a, s.linearity_a),
-                ]
-            })
-            .collect();
-        write_table(
-            out,
-            &[
-                "rank",
-                "option",
-                "L mH/step",
-                "Uc V",
-                "capacitor/step",
-                "kvar",
-                "I1/lin A",
-            ],
-            &[1, 4],
-            &what,
-        )?;
-        let does: Vec<Vec<String>> = br
-            .results
-            .iter()
-            .map(|r| {
-                vec![
-                    r.rank.to_string(),
-                    r.step_rms_a.map_or_else(dash, |v| format!("{v:.1}")),
-                    r.linearity_ratio.map_or_else(dash, |v| format!("{v:.2}")),
-                    r.resonance_after
-                        .map_or_else(dash, |(lo, hi)| format!("{lo:.2}-{hi:.2}")),
-                    format!("{}", r.after.resonant),
-                    format!("{}", r.after.duty_exceeded),
-                    r.after
-                        .margin_percent
-                        .map_or_else(dash, |m| format!("{m:.1}")),
-                    format!("{:.2}", r.after.worst_thd_percent),
-                    format!("{:.2}", r.after.worst_tdd_percent),
-                    r.verdict().to_string(),
-                ]
-            })
-            .collect();
-        writeln!(out)?;
-        write_table(
-            out,
-            &[
-                "rank",
-                "Irms A",
-                "pk/lin",
-                "resonance after",
-                "res",
-                "duty",
-                "margin %",
-                "THD %",
-                "TDD %",
-                "after",
-            ],
-            &[3, 9],
-            &does,
-        )?;
     }
+    let what: Vec<Vec<String>> = br
+        .results
+        .iter()
+        .map(|r| {
+            let s = &r.option.step;
+            vec![
+                r.rank.to_string(),
+                r.option.name.clone(),
+                format!("{:.3}", s.l_mh),
+                format!("{:.0}", s.capacitor_kv_needed * 1000.0),
+                format!(
+                    "{:.0} V {:.1} kvar",
+                    s.capacitor_rated_kv * 1000.0,
+                    s.capacitor_kvar
+                ),
+                format!("{:.0}", r.option.effective_kvar),
+                format!("{:.1}/{:.1}", s.i1_a, s.linearity_a),
+            ]
+        })
+        .collect();
+    write_table(out, &REMEDY_OPTION_HEADERS, &[1, 4], &what)?;
+    let does: Vec<Vec<String>> = br
+        .results
+        .iter()
+        .map(|r| {
+            vec![
+                r.rank.to_string(),
+                r.step_rms_a.map_or_else(dash, |v| format!("{v:.1}")),
+                r.linearity_ratio.map_or_else(dash, |v| format!("{v:.2}")),
+                r.resonance_after
+                    .map_or_else(dash, |(lo, hi)| format!("{lo:.2}-{hi:.2}")),
+                format!("{}", r.after.resonant),
+                format!("{}", r.after.duty_exceeded),
+                r.after
+                    .margin_percent
+                    .map_or_else(dash, |m| format!("{m:.1}")),
+                format!("{:.2}", r.after.worst_thd_percent),
+                format!("{:.2}", r.after.worst_tdd_percent),
+                r.verdict().to_string(),
+            ]
+        })
+        .collect();
+    writeln!(out)?;
+    write_table(out, &REMEDY_AFTER_HEADERS, &[3, 9], &does)?;
     Ok(())
 }
