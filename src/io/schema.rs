@@ -96,6 +96,7 @@ pub const RESISTANCE: &[&str] = &["constant", "skin"];
 
 pub const DATA_ROWS: u32 = 1000;
 
+// Long: the contract's columns as one data table, a row per column.
 pub fn sheets() -> Vec<(&'static str, Vec<Col>)> {
     use Check::*;
     vec![

@@ -177,6 +177,7 @@ impl Plant {
         }
     }
 
+    // Long: one check per Study item, in the contract's order.
     fn validate_study(&self, c: &mut Collector<'_>) {
         c.index = None;
         let s = &self.study;
@@ -397,6 +398,7 @@ impl Plant {
         }
     }
 
+    // Long: one check per Capacitors field, in the contract's order.
     fn validate_banks(&self, c: &mut Collector<'_>) {
         const SHEET: &str = "Capacitors";
         c.unique(SHEET, "Bank", self.banks.iter().map(|b| b.id.as_str()));
@@ -488,6 +490,7 @@ impl Plant {
         }
     }
 
+    // Long: one check per Loads field, in the contract's order.
     fn validate_loads(&self, c: &mut Collector<'_>) {
         const SHEET: &str = "Loads";
         c.unique(SHEET, "Load", self.loads.iter().map(|l| l.id.as_str()));

@@ -7,6 +7,7 @@ use super::validate::Collector;
 use super::{Plant, Summation, ZeroPath};
 
 impl Plant {
+    // Long: one check per sequence-model field, in the contract's order.
     pub(super) fn validate_sequences(&self, c: &mut Collector<'_>) {
         const SRC: &str = "Sources";
         for (i, s) in self.sources.iter().enumerate() {

@@ -111,6 +111,8 @@ impl Network {
     ///
     /// The plant must have passed [`Plant::validate`]; unknown bus ids are reported as a
     /// topology error rather than a panic.
+    // Long: every element kind turned into its per-unit model, one after the other on one bus
+    // index.
     pub fn build(plant: &Plant) -> Result<Network, TopologyError> {
         let buses: Vec<NetBus> = plant
             .buses

@@ -85,6 +85,7 @@ impl Network {
     ///
     /// A bus whose zero-sequence component has no grounded neutral in a scenario (no
     /// source in service, no grounded transformer winding) is `floating` there.
+    // Long: every element kind's zero-sequence path, one after the other on one bus index.
     pub fn build_zero(&self, plant: &Plant) -> Result<Network, TopologyError> {
         let f = plant.study.frequency_hz;
         let mut branches = Vec::new();

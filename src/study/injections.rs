@@ -85,6 +85,8 @@ impl Injections {
     /// line. I₁ in per unit is (P / pf) / S_base, the same at any voltage level. `zero` is
     /// the zero-sequence network (for the source impedances of triplen background and the
     /// buses without a grounded neutral).
+    // Long: every load's injections per order and column, with the sequence routing, in one pass
+    // over the loads.
     pub fn new(plant: &Plant, net: &Network, zero: &Network) -> Injections {
         let law = plant.study.summation;
         let mut chosen = Vec::new();

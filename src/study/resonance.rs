@@ -165,6 +165,8 @@ pub struct ResonanceStudy {
 impl ResonanceStudy {
     /// Builds the rows from a scan that includes every bank bus, and from the zero-sequence
     /// scan of the grounded-wye banks when one was run.
+    // Long: the rows of every bank, scenario and configuration, in parallel, with the zero-sequence
+    // rows beside.
     pub fn run(
         plant: &Plant,
         net: &Network,
@@ -267,6 +269,7 @@ impl ResonanceStudy {
 /// one capacitance: the banks there of the same detuning (plain with plain, 7 % with 7 %),
 /// in the zero sequence only those with a zero-sequence path. X_C = 1/Σ(n/X_C1) and
 /// Q_c = Σ n·Step kvar·(kV_bus/kV_rated)².
+// Long: one resonance row's figures (hand check, peak, margin, verdict) from one bank's scan.
 #[allow(clippy::too_many_arguments)]
 fn row(
     plant: &Plant,

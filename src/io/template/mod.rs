@@ -65,6 +65,7 @@ fn write_row(ws: &mut Worksheet, row: u32, values: &[V]) -> Result<(), XlsxError
 }
 
 /// The rows of each element sheet for `plant`, in the columns of [`sheets`].
+// Long: every element sheet's rows as data, a column per line.
 fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
     use V::*;
     match sheet {

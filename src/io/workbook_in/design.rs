@@ -76,6 +76,7 @@ fn steps_range(text: &str) -> Option<(u32, u32)> {
     (1 <= a && a <= b && b <= 64).then_some((a, b))
 }
 
+// Long: one Design column per line, each checked at its cell.
 pub fn design(t: &Table, d: &mut Diagnostics) -> Vec<DesignRow> {
     t.rows
         .iter()

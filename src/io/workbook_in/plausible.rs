@@ -23,6 +23,7 @@ const KV_RATIO: f64 = 500.0;
 const LOW_DETUNING_PERCENT: f64 = 1.0;
 
 /// Adds the plausibility warnings of a validated `plant` read from `t`.
+// Long: one plausibility check per line, each at its cell.
 pub fn check(plant: &Plant, t: &Tables<'_>, diag: &mut Diagnostics) {
     let kv_of = |id: &str| {
         plant

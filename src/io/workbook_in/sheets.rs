@@ -186,6 +186,7 @@ pub fn studied_steps(text: &str, steps: u32) -> Result<Vec<u32>, String> {
     Ok(out)
 }
 
+// Long: one Capacitors column per line, each checked at its cell.
 pub fn banks(
     t: &Table,
     d: &mut Diagnostics,

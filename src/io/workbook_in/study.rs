@@ -56,6 +56,7 @@ pub fn limit_set(text: &str) -> Option<LimitSet> {
 }
 
 /// Reads the Study sheet into settings; `file_stem` is the default title.
+// Long: one Study item per branch, each checked at its cell.
 pub fn read(t: &Table, file_stem: &str, d: &mut Diagnostics) -> (StudySettings, ItemCells) {
     let mut s = StudySettings::new(f64::NAN);
     s.title = file_stem.to_string();

@@ -154,6 +154,8 @@ pub fn is_blank(d: &Data) -> bool {
 impl Table {
     /// Reads the sheet's `rows` with its header in row 1, checking for the required
     /// `columns`; unknown headers are warned about. Blank rows are not among `rows`.
+    // Long: header matching: every column found, missing, duplicated or unknown, in one pass over
+    // the header row.
     pub fn new(sheet: &str, rows: Vec<Row>, spec: &[Column], diag: &mut Diagnostics) -> Table {
         let mut t = Table {
             sheet: sheet.to_string(),

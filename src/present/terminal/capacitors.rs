@@ -111,6 +111,22 @@ pub fn write_tolerance(out: &mut dyn Write, res: &CheckResults) -> io::Result<()
     Ok(())
 }
 
+/// The switching table's columns.
+const TRANSIENT_HEADERS: [&str; 12] = [
+    "scenario",
+    "bank",
+    "step",
+    "case",
+    "peak A",
+    "formula",
+    "Hz",
+    "bus pu",
+    "cap pu",
+    "remote pu",
+    "ring ms",
+    "verdict",
+];
+
 /// Energizing each step, simulated: one line per event with the formula's peak beside the
 /// simulated one, the bus, capacitor and largest remote-bank peaks, and the verdict.
 pub fn write_transients(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
@@ -163,25 +179,7 @@ pub fn write_transients(out: &mut dyn Write, res: &CheckResults) -> io::Result<(
             ]
         })
         .collect();
-    write_table(
-        out,
-        &[
-            "scenario",
-            "bank",
-            "step",
-            "case",
-            "peak A",
-            "formula",
-            "Hz",
-            "bus pu",
-            "cap pu",
-            "remote pu",
-            "ring ms",
-            "verdict",
-        ],
-        &[0, 1, 3, 9, 11],
-        &rows,
-    )?;
+    write_table(out, &TRANSIENT_HEADERS, &[0, 1, 3, 9, 11], &rows)?;
     if sw.events.len() > rows.len() {
         writeln!(
             out,

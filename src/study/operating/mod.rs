@@ -199,63 +199,14 @@ impl OperatingStudy {
             slots: Vec::new(),
             collapsed: Vec::new(),
         };
-        // Every configuration to solve: the studied ones and one step below each bank.
-        let mut wanted: Vec<Vec<u32>> = Vec::new();
-        let mut seen: HashMap<Vec<u32>, ()> = HashMap::new();
-        for c in configurations {
-            if seen.insert(c.steps.clone(), ()).is_none() {
-                wanted.push(c.steps.clone());
-            }
-        }
-        for c in configurations {
-            for b in 0..nk {
-                if c.steps[b] > 0 {
-                    let mut below = c.steps.clone();
-                    below[b] -= 1;
-                    if seen.insert(below.clone(), ()).is_none() {
-                        wanted.push(below);
-                    }
-                }
-            }
-        }
-        wanted.sort();
+        let wanted = wanted(configurations, nk);
         let ns = net.scenarios.len();
         let tasks: Vec<(usize, &[Vec<u32>])> = (0..ns)
             .flat_map(|s| wanted.chunks(BLOCK).map(move |c| (s, c)))
             .collect();
-        type Outcome = Result<Solved, CollapseError>;
         let solved: Vec<Vec<Outcome>> = tasks
             .par_iter()
-            .map(|&(s, chunk)| {
-                let mut w = LoadFlowScratch::default();
-                let mut v = solver.start(s).to_vec();
-                chunk
-                    .iter()
-                    .map(|steps| {
-                        let x: Vec<f64> = steps.iter().map(|&k| f64::from(k)).collect();
-                        match solver.solve_into(s, &x, &mut v, &mut w) {
-                            Ok(iterations) => {
-                                let (p_kw, q_kvar) = supply_power(net, s, &v);
-                                Ok(Solved {
-                                    p_kw,
-                                    q_kvar,
-                                    v_abs: v.iter().map(|z| z.norm()).collect(),
-                                    v_arg: if keep_angles {
-                                        v.iter().map(|z| z.arg()).collect()
-                                    } else {
-                                        Vec::new()
-                                    },
-                                    iterations,
-                                })
-                            }
-                            Err(e) => {
-                                v.copy_from_slice(solver.start(s));
-                                Err(collapse(s, &x, e))
-                            }
-                        }
-                    })
-                    .collect()
-            })
+            .map(|&(s, chunk)| solve_chunk(net, solver, s, chunk, keep_angles, &collapse))
             .collect();
         let mut index: HashMap<(usize, &[u32]), &Solved> = HashMap::new();
         let mut failed: HashMap<(usize, &[u32]), &CollapseError> = HashMap::new();
@@ -445,6 +396,75 @@ impl OperatingStudy {
         }
         out
     }
+}
+
+/// A configuration's load flow as the study keeps it, or why it has none.
+type Outcome = Result<Solved, CollapseError>;
+
+/// Every configuration to solve: the studied ones and each with one step fewer of each
+/// energized bank (for the step changes), each once, sorted (neighbours share most steps, so
+/// each warm-starts the next).
+fn wanted(configurations: &[Configuration], nk: usize) -> Vec<Vec<u32>> {
+    let mut wanted: Vec<Vec<u32>> = Vec::new();
+    let mut seen: HashMap<Vec<u32>, ()> = HashMap::new();
+    for c in configurations {
+        if seen.insert(c.steps.clone(), ()).is_none() {
+            wanted.push(c.steps.clone());
+        }
+    }
+    for c in configurations {
+        for b in 0..nk {
+            if c.steps[b] > 0 {
+                let mut below = c.steps.clone();
+                below[b] -= 1;
+                if seen.insert(below.clone(), ()).is_none() {
+                    wanted.push(below);
+                }
+            }
+        }
+    }
+    wanted.sort();
+    wanted
+}
+
+/// Solves scenario `s` for each configuration of `chunk` in turn, each from the solution
+/// before it (from the start again after a failure).
+fn solve_chunk(
+    net: &Network,
+    solver: &OperatingSolver,
+    s: usize,
+    chunk: &[Vec<u32>],
+    keep_angles: bool,
+    collapse: &(dyn Fn(usize, &[f64], LoadFlowFailure) -> CollapseError + Sync),
+) -> Vec<Outcome> {
+    let mut w = LoadFlowScratch::default();
+    let mut v = solver.start(s).to_vec();
+    chunk
+        .iter()
+        .map(|steps| {
+            let x: Vec<f64> = steps.iter().map(|&k| f64::from(k)).collect();
+            match solver.solve_into(s, &x, &mut v, &mut w) {
+                Ok(iterations) => {
+                    let (p_kw, q_kvar) = supply_power(net, s, &v);
+                    Ok(Solved {
+                        p_kw,
+                        q_kvar,
+                        v_abs: v.iter().map(|z| z.norm()).collect(),
+                        v_arg: if keep_angles {
+                            v.iter().map(|z| z.arg()).collect()
+                        } else {
+                            Vec::new()
+                        },
+                        iterations,
+                    })
+                }
+                Err(e) => {
+                    v.copy_from_slice(solver.start(s));
+                    Err(collapse(s, &x, e))
+                }
+            }
+        })
+        .collect()
 }
 
 /// P (kW) and Q (kvar) the scenario's sources deliver into their buses:

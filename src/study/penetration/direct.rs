@@ -13,6 +13,7 @@ use crate::model::Summation;
 use crate::solve::{ComboPlan, SolveError, TransferScratch};
 
 impl Ctx<'_> {
+    // Long: the direct sums of one block of configurations share the per-order transfer points.
     pub(super) fn block(&self, s: usize, chunk: &[usize]) -> Result<Vec<Distortion>, SolveError> {
         let net = self.net;
         let n = net.buses.len();

@@ -216,6 +216,7 @@ impl Penetration {
     /// is the individual voltage limit of bus b at injected order o, `pcc` the PCC bus
     /// index, `operating` the load flow of the same configurations (its angles under
     /// `phasor` summation).
+    // Long: sets up every evaluation path (direct, bounded, linear) on the same per-order points.
     #[allow(clippy::too_many_arguments)]
     pub fn run(
         plant: &Plant,

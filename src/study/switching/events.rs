@@ -156,6 +156,7 @@ pub fn step_values(
 /// Builds the circuit of `ev`, with `v_before` the shift-free bus voltages of the load flow
 /// before closing (`None`: 1 pu at angle 0, stated). `inrush_uh` overrides the closing
 /// bank's inrush inductance (the search for the one that meets a limit).
+// Long: one event's circuit assembled element by element on one node map.
 pub fn setup(
     plant: &Plant,
     net: &Network,

@@ -235,6 +235,7 @@ impl<T> Trace<T> {
 /// bus resolved: the largest peaks come there), then the coarse step (the bank's loops
 /// resolved) until the inrush has rung down, for the ring-down time; each figure's peak is
 /// the larger of the two stages'.
+// Long: the two stages of one simulation share the stepper and the running peaks.
 pub fn simulate(s: &Setup, q: f64, capture: bool) -> Result<Sim, crate::solve::SingularPivot> {
     let c = &s.circuit;
     let period = 2.0 * std::f64::consts::PI / c.w;

@@ -135,6 +135,7 @@ fn formula_discharged(
 }
 
 /// One event: simulation, formulas and limits.
+// Long: one event simulated, its formulas beside it and the inductance that meets its limit.
 fn one(inp: &Inputs<'_>, ev: &EventSpec) -> Result<SwitchingEvent, String> {
     let (plant, net) = (inp.plant, inp.net);
     let bank = &plant.banks[ev.bank];

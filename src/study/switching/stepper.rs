@@ -170,6 +170,8 @@ fn inject(rhs: &mut [Complex64], a: u32, b: u32, x: Complex64) {
 impl<'a> Stepper<'a> {
     /// Factors the companion conductance matrix of `circuit` (closing branches in) for
     /// step `dt` seconds.
+    // Long: the companion-model coefficients of every element kind, worked out once against one
+    // factorization.
     pub fn new(circuit: &'a Circuit, dt: f64) -> Result<Self, SingularPivot> {
         let nodes = circuit.nodes;
         // The series G-C pairs: an inner node touched by exactly one conductance and one

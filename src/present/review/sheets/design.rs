@@ -50,6 +50,7 @@ const DESIGN_HEADS: &[(&str, f64)] = &[
 ];
 
 /// The `Design` sheet: the answer, then every plan ranked with what it fails.
+// Long: the Design sheet written top to bottom on one row counter.
 pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
     const LAST: u16 = 22;
     title(

@@ -387,6 +387,7 @@ fn tdd_row(res: &CheckResults, out: &mut Vec<VerdictRow>) {
 /// The operating point's verdict rows: the most leading (or lowest) PF at the PCC, the bus
 /// voltage farthest outside (or nearest) its range, the largest step voltage change per
 /// bank, and configurations without a load-flow solution.
+// Long: one verdict row per operating-point check.
 fn operating_rows(res: &CheckResults, out: &mut Vec<(f64, Vec<Cell>)>) {
     let op = &res.operating;
     if let Some(p) = op

@@ -83,6 +83,7 @@ const RESONANCE_HEADS: &[(&str, f64)] = &[
 
 /// The cells of resonance row `r`, written at sheet row `rr` (its formulas refer to that
 /// row and to the Input sheet's cells).
+// Long: one row's cells per column, in the sheet's column order.
 fn resonance_cells(
     res: &CheckResults,
     cells: &super::input::InputCells,
@@ -198,6 +199,7 @@ pub(super) fn resonance(
     verdict_colours(ws, 1, res.resonance.rows.len() as u32, 19)
 }
 
+// Long: one row's cells per column, in the sheet's column order.
 pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
     let ieee = res.limits.set == crate::model::LimitSet::Ieee519_2014;
     let in_plant_head = if ieee {
@@ -441,6 +443,7 @@ const REMEDY_HEADS_2: &[(&str, f64)] = &[
 /// The remedies in two tables that print at full width: what each option is (sizing, one
 /// row per option) and, below, what it does (the studies re-run with it in place); the
 /// bank's figures before any remedy on a line of their own.
+// Long: the two remedy tables written on one row counter.
 pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
     header(ws, 0, REMEDY_HEADS)?;
     if res.remedies.is_empty() {

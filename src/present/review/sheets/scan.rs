@@ -77,60 +77,11 @@ pub(super) fn scan(
     }
     ws.set_print_area(0, 0, 0, 0)?;
     let last = orders.len() as u32 + FIRST_DATA_ROW - 1;
-    let chars: Vec<f64> = res.resonance.characteristic_orders.clone();
     let mark_col = (columns.len() + 3) as u16;
     let mut charts = Vec::new();
     for (g, group) in groups.iter().enumerate() {
-        let top = columns[group.columns.clone()]
-            .iter()
-            .flat_map(|c| c.z_ohm.iter().copied())
-            .fold(0.0, f64::max);
-        // The characteristic-order markers of this chart, at the right of the table.
-        let mc = mark_col + 2 * g as u16;
-        ws.write_string(FIRST_DATA_ROW - 1, mc, "Characteristic order")?;
-        ws.write_string(FIRST_DATA_ROW - 1, mc + 1, "Marker height (ohm)")?;
-        for (i, &h) in chars.iter().enumerate() {
-            ws.write_number(i as u32 + FIRST_DATA_ROW, mc, h)?;
-            ws.write_number(i as u32 + FIRST_DATA_ROW, mc + 1, top)?;
-        }
+        let chart = chart(ws, res, g, group, mark_col, last)?;
         let scenario = &res.scan.scenarios[group.scenario];
-        let mut chart = Chart::new(ChartType::ScatterStraight);
-        chart.set_width(CHART_WIDTH_PX).set_height(CHART_HEIGHT_PX);
-        let worst = group
-            .worst
-            .as_ref()
-            .map(|(w, h)| match h {
-                Some(h) => format!("; nearest a characteristic order: {w}, peak at h {h:.2}"),
-                None => format!("; worst {w}"),
-            })
-            .unwrap_or_default();
-        chart
-            .title()
-            .set_name(&format!(
-                "Driving-point impedance at {}, scenario {scenario}{worst}",
-                group.bus
-            ))
-            .set_font(rust_xlsxwriter::ChartFont::new().set_size(10).set_bold());
-        chart.x_axis().set_name("Harmonic order");
-        chart.y_axis().set_name("|Z| (ohm)");
-        for col in group.columns.clone() {
-            let c = (col + 2) as u16;
-            chart
-                .add_series()
-                .set_name(&columns[col].label)
-                .set_categories(("Scan", FIRST_DATA_ROW, 0, last, 0))
-                .set_values(("Scan", FIRST_DATA_ROW, c, last, c));
-        }
-        if !chars.is_empty() {
-            let end = FIRST_DATA_ROW + chars.len() as u32 - 1;
-            chart
-                .add_series()
-                .set_name("characteristic orders")
-                .set_categories(("Scan", FIRST_DATA_ROW, mc, end, mc))
-                .set_values(("Scan", FIRST_DATA_ROW, mc + 1, end, mc + 1))
-                .set_marker(ChartMarker::new().set_type(ChartMarkerType::Triangle))
-                .set_format(rust_xlsxwriter::ChartFormat::new().set_no_line());
-        }
         let title = if scenarios > 1 {
             format!("Chart {} {scenario}", group.bus)
         } else {
@@ -147,4 +98,69 @@ pub(super) fn scan(
         charts.push((name, chart));
     }
     Ok(charts)
+}
+
+/// Chart `g` of `group`: its curves from the data table (rows up to `last`), with its
+/// characteristic-order markers written at column `mark_col + 2g`.
+fn chart(
+    ws: &mut Worksheet,
+    res: &CheckResults,
+    g: usize,
+    group: &crate::jobs::charts::ChartGroup,
+    mark_col: u16,
+    last: u32,
+) -> Result<Chart, XlsxError> {
+    let columns = &res.charts.curves;
+    let chars = &res.resonance.characteristic_orders;
+    let top = columns[group.columns.clone()]
+        .iter()
+        .flat_map(|c| c.z_ohm.iter().copied())
+        .fold(0.0, f64::max);
+    // The characteristic-order markers of this chart, at the right of the table.
+    let mc = mark_col + 2 * g as u16;
+    ws.write_string(FIRST_DATA_ROW - 1, mc, "Characteristic order")?;
+    ws.write_string(FIRST_DATA_ROW - 1, mc + 1, "Marker height (ohm)")?;
+    for (i, &h) in chars.iter().enumerate() {
+        ws.write_number(i as u32 + FIRST_DATA_ROW, mc, h)?;
+        ws.write_number(i as u32 + FIRST_DATA_ROW, mc + 1, top)?;
+    }
+    let scenario = &res.scan.scenarios[group.scenario];
+    let mut chart = Chart::new(ChartType::ScatterStraight);
+    chart.set_width(CHART_WIDTH_PX).set_height(CHART_HEIGHT_PX);
+    let worst = group
+        .worst
+        .as_ref()
+        .map(|(w, h)| match h {
+            Some(h) => format!("; nearest a characteristic order: {w}, peak at h {h:.2}"),
+            None => format!("; worst {w}"),
+        })
+        .unwrap_or_default();
+    chart
+        .title()
+        .set_name(&format!(
+            "Driving-point impedance at {}, scenario {scenario}{worst}",
+            group.bus
+        ))
+        .set_font(rust_xlsxwriter::ChartFont::new().set_size(10).set_bold());
+    chart.x_axis().set_name("Harmonic order");
+    chart.y_axis().set_name("|Z| (ohm)");
+    for col in group.columns.clone() {
+        let c = (col + 2) as u16;
+        chart
+            .add_series()
+            .set_name(&columns[col].label)
+            .set_categories(("Scan", FIRST_DATA_ROW, 0, last, 0))
+            .set_values(("Scan", FIRST_DATA_ROW, c, last, c));
+    }
+    if !chars.is_empty() {
+        let end = FIRST_DATA_ROW + chars.len() as u32 - 1;
+        chart
+            .add_series()
+            .set_name("characteristic orders")
+            .set_categories(("Scan", FIRST_DATA_ROW, mc, end, mc))
+            .set_values(("Scan", FIRST_DATA_ROW, mc + 1, end, mc + 1))
+            .set_marker(ChartMarker::new().set_type(ChartMarkerType::Triangle))
+            .set_format(rust_xlsxwriter::ChartFormat::new().set_no_line());
+    }
+    Ok(chart)
 }

@@ -104,6 +104,7 @@ const BLOCK_ROWS: u32 = 22;
 /// First column of the waveform data (outside the print area).
 const DATA_COL: u16 = 20;
 
+// Long: one chart's series and axes set up in order.
 pub(super) fn waveforms(
     ws: &mut Worksheet,
     name: &str,

@@ -40,6 +40,7 @@ pub(super) enum Law {
 }
 
 impl Law {
+    // Long: the proportional groups of one order found in one pass over the injection columns.
     pub(super) fn new(law: Summation, order: f64) -> Law {
         match law {
             Summation::Iec61000_3_6 => {

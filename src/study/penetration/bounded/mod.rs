@@ -163,6 +163,9 @@ impl Prepared {
         split.sum(Law::new(ctx.law, p.order), &t)
     }
 
+    // Long: the bounded evaluation of one configuration shares its Woodbury factors, bounds and
+    // candidate lists across every step; split, they would travel as a dozen arguments through the
+    // hot path.
     fn configuration(&self, ctx: &Ctx<'_>, s: usize, c: usize) -> Result<Distortion, SolveError> {
         let net = ctx.net;
         let n = net.buses.len();
