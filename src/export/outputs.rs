@@ -8,6 +8,7 @@ use rust_xlsxwriter::XlsxError;
 
 use super::plan::{ExportPlan, OutputPathError};
 use crate::io::provenance::Provenance;
+use crate::jobs::charts::scan_charts;
 use crate::jobs::check::{CheckError, CheckResults};
 use crate::jobs::design::{DesignError, DesignResult, recommended_study};
 use crate::jobs::exports::{BusTable, ExportError, ScanTable, selection};
@@ -74,11 +75,12 @@ impl ExportPlan {
             self.write_with(path, |w| csv::write_transients_csv(w, res))?;
         }
         if let Some(path) = out.review {
-            let bytes =
-                review::review_bytes(res, prov).map_err(|source| ExportFailure::Review {
+            let bytes = review::review_bytes(res, &scan_charts(res), prov).map_err(|source| {
+                ExportFailure::Review {
                     path: path.display().to_string(),
                     source,
-                })?;
+                }
+            })?;
             self.write(path, &bytes)?;
         }
         Ok(())
@@ -121,12 +123,11 @@ impl ExportPlan {
         }
         if let Some((path, prov)) = review {
             let study = recommended_study(d)?;
-            let bytes = review::design_review_bytes(d, &study, prov).map_err(|source| {
-                ExportFailure::Review {
+            let bytes = review::design_review_bytes(d, &study, &scan_charts(&study), prov)
+                .map_err(|source| ExportFailure::Review {
                     path: path.display().to_string(),
                     source,
-                }
-            })?;
+                })?;
             self.write(path, &bytes)?;
         }
         Ok(())

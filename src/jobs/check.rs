@@ -113,8 +113,6 @@ pub struct CheckResults {
     /// Per penetration result (same order), each bank bus's harmonic amplification against
     /// the configuration without banks.
     pub amplification: Vec<Vec<BankAmplification>>,
-    /// The curves the review charts (empty for a scan only).
-    pub charts: super::charts::ScanCharts,
     /// Remedies for the flagged banks (empty when not studied; see `notes`).
     pub remedies: Vec<BankRemedies>,
     /// Assumptions the study made that the report must state.

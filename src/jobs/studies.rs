@@ -3,7 +3,6 @@
 //! step here composes studies of [`crate::study`]; none formats output. The result is
 //! [`CheckResults`], which every report reads.
 
-use super::charts::{ScanCharts, scan_charts};
 use super::check::{CheckError, CheckOptions, CheckResults, MAX_CONFIGURATIONS};
 use super::notes::Note;
 use crate::model::{Plant, Sequence};
@@ -449,7 +448,7 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     if let Some(note) = plant_level_limits(&limit_rows, &network.buses[ctx.pcc].id) {
         notes.insert(0, note);
     }
-    let mut res = CheckResults {
+    Ok(CheckResults {
         plant: plant.clone(),
         network: ctx.network.clone(),
         scan,
@@ -467,15 +466,10 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
         switching,
         background,
         amplification,
-        charts: ScanCharts::default(),
         remedies: Vec::new(),
         notes,
         pcc: ctx.pcc,
-    };
-    if !options.scan_only {
-        res.charts = scan_charts(&res);
-    }
-    Ok(res)
+    })
 }
 
 /// Per penetration result (same order), each bank bus's harmonic amplification against the

@@ -99,7 +99,8 @@ pub fn audit_reports(res: &CheckResults) {
         date: (2026, 1, 1),
         warnings: Vec::new(),
     };
-    let bytes = review_bytes(res, &prov).expect("review workbook to memory");
+    let bytes = review_bytes(res, &overtone::jobs::charts::scan_charts(res), &prov)
+        .expect("review workbook to memory");
     let mut zip = zip::ZipArchive::new(std::io::Cursor::new(bytes)).expect("review is a zip");
     for i in 0..zip.len() {
         let mut part = zip.by_index(i).expect("zip part");

@@ -8,6 +8,7 @@ use std::process::Command;
 
 use calamine::{Data, Reader, open_workbook_auto_from_rs};
 use overtone::io::provenance::Provenance;
+use overtone::jobs::charts::scan_charts;
 use overtone::jobs::check::{CheckResults, run_check};
 use overtone::present::review::review_bytes;
 
@@ -38,10 +39,10 @@ fn temp(tag: &str) -> PathBuf {
 #[test]
 fn sheets_headers_numbers_and_formulas_read_back() {
     let res = food();
-    let bytes = review_bytes(&res, &prov()).unwrap();
+    let bytes = review_bytes(&res, &scan_charts(&res), &prov()).unwrap();
     assert_eq!(
         bytes,
-        review_bytes(&res, &prov()).unwrap(),
+        review_bytes(&res, &scan_charts(&res), &prov()).unwrap(),
         "two runs byte-identical"
     );
     let mut wb = open_workbook_auto_from_rs(std::io::Cursor::new(bytes)).unwrap();
@@ -246,7 +247,7 @@ fn live_formulas_recalculated_by_libreoffice_match() {
     let path = dir.join("stripped.xlsx");
     std::fs::write(
         &path,
-        strip_cached_values(&review_bytes(&res, &prov()).unwrap()),
+        strip_cached_values(&review_bytes(&res, &scan_charts(&res), &prov()).unwrap()),
     )
     .unwrap();
     // A fresh profile that recalculates xlsx formulas on load (OOXMLRecalcMode 0).
@@ -347,7 +348,7 @@ fn switching_and_waveform_sheets_read_back_and_print() {
     )
     .unwrap();
     assert_eq!(res.switching.waveforms.len(), plant.banks.len());
-    let bytes = review_bytes(&res, &prov()).unwrap();
+    let bytes = review_bytes(&res, &scan_charts(&res), &prov()).unwrap();
     let mut wb = open_workbook_auto_from_rs(std::io::Cursor::new(bytes.clone())).unwrap();
     let sw = wb.worksheet_range("Switching").unwrap();
     let num = |r: usize, c: usize| match sw.get((r, c)) {
@@ -417,7 +418,7 @@ fn duty_remedies_and_input_sheets_read_back() {
     // equal to the study's values (calamine, an independent xlsx reader).
     let res = food();
     assert!(!res.remedies.is_empty());
-    let bytes = review_bytes(&res, &prov()).unwrap();
+    let bytes = review_bytes(&res, &scan_charts(&res), &prov()).unwrap();
     let mut wb = open_workbook_auto_from_rs(std::io::Cursor::new(bytes)).unwrap();
     let num = |r: &calamine::Range<Data>, row: usize, col: usize| match r.get((row, col)) {
         Some(Data::Float(v)) => *v,

@@ -11,13 +11,18 @@ pub use writer::NOT_COMPUTED;
 use rust_xlsxwriter::{DocProperties, ExcelDateTime, Workbook, XlsxError};
 
 use crate::io::provenance::Provenance;
+use crate::jobs::charts::ScanCharts;
 use crate::jobs::check::CheckResults;
 
 /// The custom document property that marks a review workbook as this tool's (name, value).
 pub const REVIEW_MARK: (&str, &str) = ("overtone", "review workbook");
 
 /// The review workbook's bytes.
-pub fn review_bytes(res: &CheckResults, prov: &Provenance) -> Result<Vec<u8>, XlsxError> {
+pub fn review_bytes(
+    res: &CheckResults,
+    charts: &ScanCharts,
+    prov: &Provenance,
+) -> Result<Vec<u8>, XlsxError> {
     let mut wb = Workbook::new();
     let (y, m, d) = prov.date;
     let title = if res.plant.study.title.is_empty() {
@@ -32,7 +37,7 @@ pub fn review_bytes(res: &CheckResults, prov: &Provenance) -> Result<Vec<u8>, Xl
             .set_custom_property(REVIEW_MARK.0, REVIEW_MARK.1)
             .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, d)?),
     );
-    sheets::write_all(&mut wb, res, prov)?;
+    sheets::write_all(&mut wb, res, charts, prov)?;
     wb.save_to_buffer()
 }
 
@@ -41,6 +46,7 @@ pub fn review_bytes(res: &CheckResults, prov: &Provenance) -> Result<Vec<u8>, Xl
 pub fn design_review_bytes(
     d: &crate::jobs::design::DesignResult,
     res: &CheckResults,
+    charts: &ScanCharts,
     prov: &Provenance,
 ) -> Result<Vec<u8>, XlsxError> {
     let mut wb = Workbook::new();
@@ -52,6 +58,6 @@ pub fn design_review_bytes(
             .set_custom_property(REVIEW_MARK.0, REVIEW_MARK.1)
             .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, day)?),
     );
-    sheets::write_design(&mut wb, d, res, prov)?;
+    sheets::write_design(&mut wb, d, res, charts, prov)?;
     wb.save_to_buffer()
 }

@@ -13,6 +13,7 @@ use rust_xlsxwriter::{
 };
 
 use super::Provenance;
+use crate::jobs::charts::ScanCharts;
 use crate::jobs::check::CheckResults;
 use crate::model::ResistanceModel;
 use crate::present::cautions::CAUTIONS;
@@ -61,24 +62,27 @@ pub fn write_design(
     wb: &mut Workbook,
     d: &crate::jobs::design::DesignResult,
     res: &CheckResults,
+    charts: &ScanCharts,
     prov: &Provenance,
 ) -> Result<(), XlsxError> {
     design::design(wb.add_worksheet().set_name("Design")?, d)?;
     design::load_levels(wb.add_worksheet().set_name("Load levels")?, d)?;
-    write_all(wb, res, prov)
+    write_all(wb, res, charts, prov)
 }
 
-/// Writes every sheet.
+/// Writes every sheet (`charts`: the scan curves to chart, from
+/// [`crate::jobs::charts::scan_charts`]).
 pub fn write_all(
     wb: &mut Workbook,
     res: &CheckResults,
+    charts: &ScanCharts,
     prov: &Provenance,
 ) -> Result<(), XlsxError> {
     front::summary(wb.add_worksheet().set_name("Summary")?, res, prov)?;
     let cells = input::input(wb.add_worksheet().set_name("Input")?, res, prov)?;
     operating::operating(wb.add_worksheet().set_name("Operating point")?, res)?;
     results::resonance(wb.add_worksheet().set_name("Resonance")?, res, &cells)?;
-    let charts = scan::scan(wb.add_worksheet().set_name("Scan")?, res)?;
+    let charts = scan::scan(wb.add_worksheet().set_name("Scan")?, res, charts)?;
     results::distortion(wb.add_worksheet().set_name("Distortion")?, res)?;
     results::duty(wb.add_worksheet().set_name("Duty")?, res)?;
     results::remedies(wb.add_worksheet().set_name("Remedies")?, res)?;

@@ -8,6 +8,7 @@ use rust_xlsxwriter::{
 };
 
 use super::super::writer::{header, n, row};
+use crate::jobs::charts::ScanCharts;
 use crate::jobs::check::CheckResults;
 
 /// A chart's size, pixels: two charts to a portrait page.
@@ -43,9 +44,10 @@ const FIRST_DATA_ROW: u32 = 2;
 pub(super) fn scan(
     ws: &mut Worksheet,
     res: &CheckResults,
+    charts_data: &ScanCharts,
 ) -> Result<Vec<(String, Chart)>, XlsxError> {
     let orders = &res.scan.grid.orders;
-    let (columns, groups) = (&res.charts.curves, &res.charts.groups);
+    let (columns, groups) = (&charts_data.curves, &charts_data.groups);
     ws.write_string_with_format(
         0,
         0,
@@ -80,7 +82,7 @@ pub(super) fn scan(
     let mark_col = (columns.len() + 3) as u16;
     let mut charts = Vec::new();
     for (g, group) in groups.iter().enumerate() {
-        let chart = chart(ws, res, g, group, mark_col, last)?;
+        let chart = chart(ws, res, columns, g, group, mark_col, last)?;
         let scenario = &res.scan.scenarios[group.scenario];
         let title = if scenarios > 1 {
             format!("Chart {} {scenario}", group.bus)
@@ -105,12 +107,12 @@ pub(super) fn scan(
 fn chart(
     ws: &mut Worksheet,
     res: &CheckResults,
+    columns: &[crate::jobs::charts::ChartCurve],
     g: usize,
     group: &crate::jobs::charts::ChartGroup,
     mark_col: u16,
     last: u32,
 ) -> Result<Chart, XlsxError> {
-    let columns = &res.charts.curves;
     let chars = &res.resonance.characteristic_orders;
     let top = columns[group.columns.clone()]
         .iter()
