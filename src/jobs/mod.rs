@@ -8,5 +8,6 @@ pub mod design;
 pub mod exports;
 pub mod notes;
 pub mod remedies;
+pub mod results;
 pub mod size;
 pub mod studies;

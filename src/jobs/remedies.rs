@@ -2,7 +2,8 @@
 //! [`crate::study::remedy`] each re-run through the studies over every configuration with
 //! the bank on, counted with the same findings `check` reports, and ranked.
 
-use super::check::{BankRemedies, CheckOptions, CheckResults, run_check};
+use super::results::{BankRemedies, CheckOptions, CheckResults};
+use super::studies::run_studies;
 use crate::model::Sequence;
 use crate::study::limits::LimitRow;
 use crate::study::remedy::{Outcome, RemedyResult};
@@ -112,7 +113,8 @@ fn try_option(
         switching: false,
         evaluation: options.evaluation,
     };
-    let after_res = run_check(&changed, &rerun).ok()?;
+    // `remedies: Some(false)`: the studies alone, as `run_check` runs them.
+    let after_res = run_studies(&changed, &rerun).ok()?;
     let after = outcome(&after_res, &bank.id, labels);
     let orders: Vec<f64> = after_res
         .resonance

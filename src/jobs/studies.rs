@@ -3,8 +3,8 @@
 //! step here composes studies of [`crate::study`]; none formats output. The result is
 //! [`CheckResults`], which every report reads.
 
-use super::check::{CheckError, CheckOptions, CheckResults, MAX_CONFIGURATIONS};
 use super::notes::Note;
+use super::results::{CheckError, CheckOptions, CheckResults, MAX_CONFIGURATIONS};
 use crate::model::{Plant, Sequence};
 use crate::network::Network;
 use crate::solve::Engine;

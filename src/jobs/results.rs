@@ -1,0 +1,154 @@
+//! What a check is asked ([`CheckOptions`]), what it finds ([`CheckResults`], which every
+//! report reads) and why it may not run ([`CheckError`]).
+
+use super::notes::Note;
+use crate::model::{ModelErrors, Plant};
+use crate::network::{Network, TopologyError};
+use crate::solve::SolveError;
+use crate::study::config::ConfigurationError;
+use crate::study::duty::DutyRow;
+use crate::study::limits::{LimitContext, LimitRow};
+use crate::study::operating::{OperatingSolver, OperatingStudy};
+use crate::study::penetration::{BankAmplification, Penetration};
+use crate::study::remedy::RemedyResult;
+use crate::study::switching::SwitchingStudy;
+use crate::study::tolerance::ToleranceBand;
+use crate::study::{ResonanceStudy, Scan};
+
+/// Most step combinations studied in one run; above it the engineer is asked to narrow
+/// `Studied steps` (a guard against runs of hours).
+pub const MAX_CONFIGURATIONS: u64 = 100_000;
+
+/// Why a check could not run.
+#[derive(Debug, thiserror::Error)]
+pub enum CheckError {
+    #[error(transparent)]
+    Model(#[from] ModelErrors),
+    #[error(transparent)]
+    Topology(#[from] TopologyError),
+    #[error(transparent)]
+    Solve(#[from] SolveError),
+    #[error(transparent)]
+    Configuration(#[from] ConfigurationError),
+    #[error("--bus: there is no bus \"{0}\" on the Buses sheet")]
+    UnknownBus(String),
+    #[error(
+        "{count} step combinations exceed the limit of {MAX_CONFIGURATIONS}: narrow \"Studied steps\" on the Capacitors sheet (for example 0,2,4 or 1-3)"
+    )]
+    TooManyConfigurations { count: u64 },
+}
+
+/// What the engineer asked for beyond the defaults.
+#[derive(Clone, Default)]
+pub struct CheckOptions {
+    /// Extra buses to scan (ids), beyond the PCC and the bank buses.
+    pub buses: Vec<String>,
+    /// Configurations to study (labels such as `C1=2 C2=0`); empty = every combination of
+    /// studied steps. `none`, the reference, is always studied.
+    pub configurations: Vec<String>,
+    /// Called with (done, total) as the scan advances; `None` = silent.
+    pub progress: Option<std::sync::Arc<dyn Fn(u64, u64) + Send + Sync>>,
+    /// Size and re-run remedies for flagged banks: `None` = only when the plant has at
+    /// most [`AUTO_REMEDY_CONFIGURATIONS`] step combinations (each option re-runs every
+    /// study).
+    pub remedies: Option<bool>,
+    /// Only the frequency scan and the resonance screen (the `scan` command): no operating
+    /// point, penetration, duty or remedies (their results are empty).
+    pub scan_only: bool,
+    /// How penetration sums every configuration (bounded on large plants by default; the
+    /// figures reported are the same, `Direct` is the reference the tests compare with).
+    pub evaluation: crate::study::penetration::Evaluation,
+    /// Simulate the switching events (`check` does; remedy re-runs do not).
+    pub switching: bool,
+}
+
+/// Step combinations up to which remedies are studied without being asked.
+pub const AUTO_REMEDY_CONFIGURATIONS: usize = 200;
+
+/// The remedy options studied for one bank.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct BankRemedies {
+    pub bank: String,
+    /// Why the bank was flagged.
+    pub reason: String,
+    /// The configurations compared before and after (labels).
+    pub configurations: Vec<String>,
+    /// Options in rank order.
+    pub results: Vec<RemedyResult>,
+}
+
+/// Everything the studies found.
+#[derive(Debug, Clone)]
+pub struct CheckResults {
+    pub plant: Plant,
+    pub network: Network,
+    pub scan: Scan,
+    /// The zero-sequence scan at the grounded-wye banks' buses, when a characteristic order
+    /// is zero sequence; its configurations are the distinct projections of `scan`'s onto
+    /// those banks (`zero_map[c]`).
+    pub zero_scan: Option<Scan>,
+    pub zero_map: Vec<usize>,
+    /// The zero-sequence network.
+    pub zero_network: Network,
+    pub resonance: ResonanceStudy,
+    /// The fundamental load flow of every scenario × configuration.
+    pub operating: OperatingStudy,
+    /// The fundamental load flow the operating study was solved with (single
+    /// configurations for the CSVs and the switching simulation).
+    pub load_flow: OperatingSolver,
+    pub penetration: Penetration,
+    pub limits: LimitContext,
+    /// One limits summary per scenario × configuration, in that nesting order.
+    pub limit_rows: Vec<LimitRow>,
+    /// Capacitor duty of every energized bank in every scenario × configuration.
+    pub duty: Vec<DutyRow>,
+    /// Resonance bands across capacitance tolerance and scenarios.
+    pub tolerance: Vec<ToleranceBand>,
+    /// Energizing every step of every bank, per scenario: simulated, with the formulas
+    /// beside each event.
+    pub switching: SwitchingStudy,
+    /// Per bank and scenario, the configuration drawing the most background current.
+    pub background: Vec<crate::study::background::BackgroundShare>,
+    /// Per penetration result (same order), each bank bus's harmonic amplification against
+    /// the configuration without banks.
+    pub amplification: Vec<Vec<BankAmplification>>,
+    /// Remedies for the flagged banks (empty when not studied; see `notes`).
+    pub remedies: Vec<BankRemedies>,
+    /// Assumptions the study made that the report must state.
+    pub notes: Vec<Note>,
+    /// Network index of the PCC bus.
+    pub pcc: usize,
+}
+
+impl CheckResults {
+    /// True when any bank's resonance is flagged or any limit exceeded (the `--strict`
+    /// criterion).
+    pub fn flagged(&self) -> bool {
+        self.resonance
+            .rows
+            .iter()
+            .any(|r| r.verdict == crate::study::Verdict::Resonant)
+            || self.limit_rows.iter().any(|r| r.exceeds)
+            || self.duty.iter().any(|r| r.exceeds)
+            || self.tolerance.iter().any(|t| t.flagged)
+            || self.operating.points.iter().any(|p| p.flagged())
+            || !self.operating.collapsed.is_empty()
+            || self.operating.step_changes.iter().any(|s| s.exceeds)
+            || self.switching.events.iter().any(|e| e.flagged())
+    }
+
+    /// The labels of the studied configurations in which bank `b` is energized.
+    pub fn energized_labels(&self, b: usize) -> Vec<String> {
+        self.scan
+            .configurations
+            .iter()
+            .filter(|cfg| cfg.steps.get(b).is_some_and(|&k| k > 0))
+            .map(|cfg| cfg.label(&self.plant.banks))
+            .collect()
+    }
+
+    /// The label of configuration `c`.
+    pub fn label(&self, c: usize) -> String {
+        self.scan.configurations[c].label(&self.plant.banks)
+    }
+}
