@@ -824,3 +824,45 @@ fn implausible_values_warn_at_their_cells() {
             .all(|w| !w.contains("typed") && !w.contains("below what it sees")),
     );
 }
+
+#[test]
+fn design_input_is_checked_against_the_plant_at_its_cells() {
+    // Input contract, design section: a Design row's bus must be on the Buses sheet, a bus
+    // is listed once, and a Load levels row's `Load` names a load or a load type. The reader
+    // reports each at its cell (for every command, not only `design`), and accepts a load
+    // type spelled loosely ("6-Pulse Drive").
+    use C::*;
+    let with = |design: Vec<Vec<C>>, levels: Vec<Vec<C>>| {
+        let mut b = Book::base();
+        let mut d = vec![vec![s("Bus"), s("Step kvar")]];
+        d.extend(design);
+        b.0.push(("Design".into(), d));
+        let mut l = vec![vec![
+            s("Level"),
+            s("Hours per year"),
+            s("Load"),
+            s("Load factor"),
+        ]];
+        l.extend(levels);
+        b.0.push(("Load levels".into(), l));
+        b
+    };
+    let full = |load: &str| vec![s("full"), N(6000.0), s(load), N(1.0)];
+    expect_one(
+        with(vec![vec![s("NOPE"), N(50.0)]], vec![full("motor")]),
+        "Design!A2: \"Bus\" names \"NOPE\", which is not on the Buses sheet",
+    );
+    expect_one(
+        with(
+            vec![vec![s("LV"), N(50.0)], vec![s("LV"), N(25.0)]],
+            vec![full("motor")],
+        ),
+        "Design!A3: bus \"LV\" is listed twice: one row per bus",
+    );
+    expect_one(
+        with(vec![vec![s("LV"), N(50.0)]], vec![full("blender")]),
+        "Load levels!C2: \"Load\" names \"blender\", which is neither a load on the Loads sheet nor a load type",
+    );
+    let ok = with(vec![vec![s("LV"), N(50.0)]], vec![full("6-Pulse Drive")]);
+    assert_eq!(ok.errors(), Vec::<String>::new());
+}
