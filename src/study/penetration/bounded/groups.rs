@@ -40,7 +40,6 @@ pub(super) enum Law {
 }
 
 impl Law {
-    // Long: the proportional groups of one order found in one pass over the injection columns.
     pub(super) fn new(law: Summation, order: f64) -> Law {
         match law {
             Summation::Iec61000_3_6 => {
@@ -117,6 +116,7 @@ impl Groups {
     /// `s_rows` (Z₀ from each always-summed bus to every column); each background term
     /// (column, |I_N|) is a group of its own. `bank_inj` is Z₀ from the bank buses to the
     /// columns (k×l).
+    // Long: the proportional groups of one order found in one pass over the injection columns.
     pub(super) fn new(
         law: Law,
         loads: &[(usize, f64)],
