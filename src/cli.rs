@@ -15,7 +15,8 @@ use overtone::jobs::size::SizeRequest;
 #[command(
     name = "overtone",
     version,
-    about = "Harmonic resonance screening of shunt capacitor banks"
+    about = "Harmonic resonance screening of shunt capacitor banks",
+    term_width = 100
 )]
 pub struct Cli {
     #[command(subcommand)]
@@ -44,7 +45,8 @@ pub struct Outputs {
     /// Also write the frequency scan as CSV (the input contract's columns) to this file.
     #[arg(long, value_name = "FILE")]
     pub scan_csv: Option<PathBuf>,
-    /// Also write the harmonic voltages at every bus as CSV (the input contract's columns).
+    /// Also write the harmonic voltages at every bus as CSV (the input contract's columns;
+    /// v_volts is line-to-neutral).
     #[arg(long, value_name = "FILE")]
     pub voltages_csv: Option<PathBuf>,
     /// Also write the operating point (bus voltage and angle of every scenario and
@@ -155,6 +157,9 @@ pub struct DesignArgs {
 #[derive(clap::Args)]
 #[command(group(clap::ArgGroup::new("tuning").required(true).args(["detuning", "order"])))]
 #[command(allow_negative_numbers = true)]
+#[command(
+    override_usage = "overtone size --kv <KV> --kvar <KVAR> --hz <HZ> (--detuning <P> | --order <H>) [OPTIONS]"
+)]
 pub struct SizeArgs {
     /// Bus voltage, kV line-to-line.
     #[arg(long)]
@@ -162,8 +167,8 @@ pub struct SizeArgs {
     /// Effective output wanted at bus voltage, kvar.
     #[arg(long)]
     pub kvar: f64,
-    /// System frequency, Hz.
-    #[arg(long, default_value_t = 60.0)]
+    /// System frequency, Hz: 50 or 60.
+    #[arg(long)]
     pub hz: f64,
     /// Detuning factor in % of X_C (e.g. 7).
     #[arg(long)]

@@ -32,8 +32,15 @@ pub enum Note {
         after_kva: f64,
         target_power_factor: f64,
     },
-    /// Scenario-configurations without a load-flow solution.
-    Collapse { count: usize, first: String },
+    /// Scenario-configurations without a load-flow solution: how many, the first, the
+    /// scenarios they fall in and the element that carries the most load for its
+    /// capability (the likely cause).
+    Collapse {
+        count: usize,
+        first: String,
+        scenarios: Vec<String>,
+        tightest: Option<crate::model::loading::Loading>,
+    },
     /// A switching event that could not be simulated, as the study words it.
     Switching(String),
     /// Remedies were not studied because the plant has too many step combinations.
@@ -74,10 +81,21 @@ impl fmt::Display for Note {
                 f,
                 "I_L ESTIMATED from the Loads sheet: {i_l_a:.1} A at the PCC, the demand after correction ({after_kva:.0} kVA: the loads' P at the study point at the better of the target PF {target_power_factor} and their own; {before_kva:.0} kVA before correction; no diversity); give \"Max demand current (A)\" on the Study sheet (IEEE 519-2014 takes the average of the 12 monthly maximum demands)"
             ),
-            Note::Collapse { count, first } => write!(
-                f,
-                "load flow: {count} scenario-configuration(s) have no solution (voltage collapse), the first: {first}; their capacitor duty uses the nominal bus voltage"
-            ),
+            Note::Collapse {
+                count,
+                first,
+                tightest,
+                ..
+            } => {
+                write!(
+                    f,
+                    "load flow: {count} scenario-configuration(s) have no solution (voltage collapse), the first: {first}; their capacitor duty uses the nominal bus voltage"
+                )?;
+                match tightest {
+                    Some(t) => write!(f, "; likely cause: {}", cause_words(t)),
+                    None => Ok(()),
+                }
+            }
             Note::RemediesNotStudied {
                 combinations,
                 auto_limit,
@@ -93,5 +111,26 @@ impl serde::Serialize for Note {
     /// A note serializes as its sentence.
     fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
         s.collect_str(self)
+    }
+}
+
+/// The likely cause of a voltage collapse in words: the element carrying the most load for
+/// its capability.
+pub fn cause_words(t: &crate::model::loading::Loading) -> String {
+    match t.kind {
+        "transformer" => format!(
+            "transformer {} feeds {:.0} kVA of load on its {:.0} kVA rating ({:.0} %)",
+            t.id,
+            t.load_kva,
+            t.capability_kva,
+            t.ratio() * 100.0
+        ),
+        _ => format!(
+            "the plant's {:.0} kVA of load against source {}'s {:.1} MVA short-circuit power ({:.1} %)",
+            t.load_kva,
+            t.id,
+            t.capability_kva / 1000.0,
+            t.ratio() * 100.0
+        ),
     }
 }

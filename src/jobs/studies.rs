@@ -294,10 +294,22 @@ fn study_notes(
         });
     }
     if let Some(first) = operating.collapsed.first() {
-        notes.push(Note::Collapse {
-            count: operating.collapsed.len(),
-            first: first.to_string(),
-        });
+        let mut scenarios: Vec<String> = Vec::new();
+        for c in &operating.collapsed {
+            if !scenarios.contains(&c.scenario) {
+                scenarios.push(c.scenario.clone());
+            }
+        }
+        // First in the notes: every figure of those configurations is missing.
+        notes.insert(
+            0,
+            Note::Collapse {
+                count: operating.collapsed.len(),
+                first: first.to_string(),
+                scenarios,
+                tightest: crate::model::loading::tightest(ctx.plant),
+            },
+        );
     }
     notes
 }
@@ -446,7 +458,8 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     let background = background_shares(&penetration, network, &plant.banks, &scan.configurations);
     let amplification = amplification(&scan, &penetration);
     if let Some(note) = plant_level_limits(&limit_rows, &network.buses[ctx.pcc].id) {
-        notes.insert(0, note);
+        let at = usize::from(matches!(notes.first(), Some(Note::Collapse { .. })));
+        notes.insert(at, note);
     }
     Ok(CheckResults {
         plant: plant.clone(),

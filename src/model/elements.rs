@@ -27,9 +27,13 @@ impl ResistanceModel {
 /// The limit set the harmonic results are held against (Study sheet, `Limits`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub enum LimitSet {
+    #[serde(rename = "ieee-519-2014")]
     Ieee519_2014,
+    #[serde(rename = "iec-61000-2-4-class-1")]
     Iec61000_2_4Class1,
+    #[serde(rename = "iec-61000-2-4-class-2")]
     Iec61000_2_4Class2,
+    #[serde(rename = "iec-61000-2-4-class-3")]
     Iec61000_2_4Class3,
 }
 
@@ -37,11 +41,14 @@ pub enum LimitSet {
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub enum Summation {
     /// Magnitudes add: an upper bound.
+    #[serde(rename = "arithmetic")]
     Arithmetic,
     /// The summation exponents of IEC 61000-3-6 by order.
+    #[serde(rename = "iec-61000-3-6")]
     Iec61000_3_6,
     /// Complex superposition of phasors (input contract, version 2): spectrum angles
     /// referred to each load's fundamental current at the operating point.
+    #[serde(rename = "phasor")]
     Phasor,
 }
 
@@ -140,6 +147,7 @@ pub struct Bus {
 
 /// Fault level of a source: exactly one of the two forms.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "lowercase")]
 pub enum ShortCircuit {
     /// Three-phase fault level, MVA.
     Mva(f64),
@@ -226,8 +234,10 @@ pub struct Cable {
 
 /// The series reactor of a capacitor bank, if any.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "lowercase")]
 pub enum Reactor {
     /// A plain bank.
+    #[serde(rename = "plain")]
     None,
     /// Detuning factor p in percent of X_C (7 means p = 0.07).
     Detuning { percent: f64 },

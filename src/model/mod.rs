@@ -7,6 +7,7 @@
 
 mod design;
 mod elements;
+pub mod loading;
 mod sequence;
 mod validate;
 mod validate_design;

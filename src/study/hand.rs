@@ -31,6 +31,33 @@ pub enum SscBasis {
     Network,
 }
 
+/// A row's S_sc basis as the JSON gives it: the path's element ids from the bank's bus to
+/// the source, or `network`.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum SscBasisIds {
+    Path(Vec<String>),
+    Network,
+}
+
+impl SscBasis {
+    /// The basis with each path element named by its id on its sheet.
+    pub fn ids(&self, plant: &Plant) -> SscBasisIds {
+        match self {
+            SscBasis::Network => SscBasisIds::Network,
+            SscBasis::Path(p) => SscBasisIds::Path(
+                p.iter()
+                    .map(|e| match *e {
+                        PathElement::Source(i) => plant.sources[i].id.clone(),
+                        PathElement::Transformer(i) => plant.transformers[i].id.clone(),
+                        PathElement::Cable(i) => plant.cables[i].id.clone(),
+                    })
+                    .collect(),
+            ),
+        }
+    }
+}
+
 /// Series impedance of one path element, per unit on [`BASE_MVA`] (complex):
 /// source Z = (S_base/S_sc)∠atan(X/R); transformer Z = (Z%/100)·(S_base/S_rated)∠atan(X/R)
 /// (IEEE Std 399 per-unit conversions, common practice); cable Z = (R + jX)·ℓ/runs over

@@ -119,7 +119,11 @@ pub struct ResonanceRow {
     /// path not unique (see `s_sc_basis`).
     pub s_sc_mva: f64,
     /// How `s_sc_mva` was found.
+    #[serde(skip)]
     pub s_sc_basis: crate::study::hand::SscBasis,
+    /// The same, named by ids (the JSON's `s_sc_basis`).
+    #[serde(rename = "s_sc_basis")]
+    pub s_sc_basis_ids: crate::study::hand::SscBasisIds,
     /// Energized kvar on the bank's bus (every bank there, plain and detuned), corrected to
     /// bus voltage: Σ n·Step kvar·(kV_bus / kV_rated)².
     pub q_c_kvar: f64,
@@ -352,6 +356,7 @@ fn row(
         bus: bus.id.clone(),
         steps: n,
         s_sc_mva: BASE_MVA / z_th_pu,
+        s_sc_basis_ids: s_sc_basis.ids(plant),
         s_sc_basis,
         q_c_kvar,
         x_c_ohm: xc_pu * bus.z_base_ohm,

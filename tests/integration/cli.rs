@@ -362,9 +362,13 @@ fn unwritable_folders_and_shared_names_are_refused_before_the_study() {
 /// values outside them with the option named.
 #[test]
 fn size_at_the_edges_prints_no_non_finite_number() {
+    // `--hz` is required (issue 31: it no longer defaults to 60 Hz silently).
     let size = |args: &str| {
         let mut full = vec!["size"];
         full.extend(args.split_whitespace());
+        if !args.contains("--hz") {
+            full.extend(["--hz", "60"]);
+        }
         overtone(&full)
     };
     for args in [
@@ -442,7 +446,7 @@ fn size_warns_of_units_and_an_undersized_capacitor() {
             "Sizing of a tuned filter",
         ),
     ] {
-        let mut full = vec!["size"];
+        let mut full = vec!["size", "--hz", "60"];
         full.extend(args.split_whitespace());
         let out = overtone(&full);
         assert!(out.status.success(), "{args}");
@@ -1289,5 +1293,62 @@ fn design_writes_the_plan_check_reruns_it_and_bad_design_input_writes_nothing() 
             !out_review.exists() && !out_plant.exists(),
             "{name}: nothing written"
         );
+    }
+}
+
+#[test]
+fn size_needs_the_frequency_and_every_help_fits_100_columns() {
+    // `size` without `--hz` is a usage error naming it (no silent 60 Hz); every command's
+    // help wraps within 100 columns, as the terminal summary does.
+    let out = overtone(&["size", "--kv", "0.48", "--kvar", "100", "--detuning", "7"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&out.stderr).contains("--hz <HZ>"));
+    for cmd in [
+        &["--help"][..],
+        &["check", "--help"],
+        &["scan", "--help"],
+        &["design", "--help"],
+        &["demo", "--help"],
+        &["size", "--help"],
+        &["template", "--help"],
+    ] {
+        let out = overtone(cmd);
+        assert!(out.status.success(), "{cmd:?}");
+        let text = String::from_utf8_lossy(&out.stdout).to_string();
+        for line in text.lines() {
+            assert!(line.chars().count() <= 100, "{cmd:?}: {line}");
+        }
+    }
+}
+
+#[test]
+fn json_choices_are_words_and_bases_name_ids() {
+    // The JSON names every choice as the workbook spells it and every S_sc path by the ids
+    // of its elements (issue 31), not by Rust variant names and list indices.
+    let out = overtone(&["demo", "--json", "--quiet", "--no-remedies"]);
+    assert!(out.status.success());
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("JSON");
+    assert_eq!(v["limits"]["set"], "ieee-519-2014");
+    let rows = v["resonance"]["rows"].as_array().expect("rows");
+    // The demo's LV1 bank sits behind T1 and cable K1 on the 13.8 kV service: every row
+    // of C1 names that path, source last.
+    let c1 = rows.iter().find(|r| r["bank"] == "C1").expect("a C1 row");
+    let path: Vec<&str> = c1["s_sc_basis"]["path"]
+        .as_array()
+        .expect("a radial path")
+        .iter()
+        .map(|x| x.as_str().expect("an id"))
+        .collect();
+    assert_eq!(path.len(), 3, "{path:?}");
+    assert!(path[0] == "T1" && path[2].starts_with("UTIL"), "{path:?}");
+    let text = String::from_utf8_lossy(&out.stdout);
+    for rust_name in [
+        "\"Ieee519_2014\"",
+        "\"Path\"",
+        "\"Transformer\":",
+        "\"Detuning\"",
+        "\"None\"",
+    ] {
+        assert!(!text.contains(rust_name), "{rust_name} in the JSON");
     }
 }

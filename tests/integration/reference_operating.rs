@@ -227,3 +227,48 @@ fn operating_csv_matches_the_study() {
     let v: f64 = row[3].parse().expect("number");
     assert_close(v, res.operating.points[2].pcc_v_pu, 1e-12);
 }
+
+#[test]
+fn a_transformer_far_below_its_load_collapses_and_the_verdict_says_why() {
+    // 2 MW of linear load behind a 25 kVA transformer: the most a constant-power load can
+    // draw through the transformer's 5 % impedance is about S_rated / (2·z) = 250 kVA
+    // (textbook maximum power transfer through a reactance), so no configuration has a
+    // load-flow solution. The verdict block says so with the scenario and the likely cause
+    // (the transformer's load against its rating: 2000/0.85 = 2353 kVA on 25 kVA), and the
+    // collapse note comes first among the notes (issue 31).
+    let mut p = Plant::new(60.0);
+    p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
+    p.sources = vec![source("U", "HV", 250.0, 10.0)];
+    p.transformers = vec![crate::common::transformer("T1", "HV", "LV", 25.0, 5.0, 8.0)];
+    p.loads = vec![load("L", "LV", LoadType::Linear, 2000.0, 0.85)];
+    let res = run(&p);
+    assert!(res.operating.points.is_empty());
+    let first = res.notes.first().expect("a note").to_string();
+    assert!(
+        first.starts_with("load flow: 1 scenario-configuration(s) have no solution"),
+        "{first}"
+    );
+    assert!(
+        first.contains(
+            "likely cause: transformer T1 feeds 2353 kVA of load on its 25 kVA rating (9412 %)"
+        ),
+        "{first}"
+    );
+    let mut out = Vec::new();
+    overtone::present::terminal::summary::write_summary(&mut out, &res).expect("writes");
+    let text = String::from_utf8(out).expect("utf-8");
+    let verdict: String = text
+        .lines()
+        .skip_while(|l| !l.starts_with("VERDICT"))
+        .take_while(|l| !l.is_empty())
+        .collect::<Vec<_>>()
+        .join(" ");
+    assert!(
+        verdict.contains("Load flow: NO SOLUTION in 1 scenario-configuration(s) (voltage collapse), scenario(s) base"),
+        "{verdict}"
+    );
+    assert!(
+        verdict.contains("transformer T1 feeds 2353 kVA"),
+        "{verdict}"
+    );
+}

@@ -117,7 +117,7 @@ fn pf_fails(
             if reachable[l][s] && !c.reaches {
                 fails.push(format!(
                     "PF {} below {target} at {} ({})",
-                    c.pf.map_or_else(|| "n/a".into(), |v| format!("{v:.3}")),
+                    c.pf.map_or_else(|| "n/a".into(), |v| below_words(v, target)),
                     levels[l].name,
                     res.network.scenarios[s].name
                 ));
@@ -125,6 +125,15 @@ fn pf_fails(
         }
     }
     fails
+}
+
+/// A power factor below `target`, with the fewest decimals (3 at least) that show it below:
+/// 0.9496 against 0.95 reads `0.9496`, not `0.950`.
+fn below_words(pf: f64, target: f64) -> String {
+    (3..=6)
+        .map(|d| format!("{pf:.d$}"))
+        .find(|t| t.parse::<f64>().is_ok_and(|v| v < target))
+        .unwrap_or_else(|| format!("{pf}"))
 }
 
 /// The phrases of the checks a plan fails: resonance, tolerance band, and (when it was

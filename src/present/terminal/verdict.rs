@@ -146,6 +146,30 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     if let Some(line) = plant_line(res) {
         write_hanging(out, "- ", "    ", &line, WIDTH)?;
     }
+    if let Some(Note::Collapse {
+        count,
+        scenarios,
+        tightest,
+        ..
+    }) = res
+        .notes
+        .iter()
+        .find(|n| matches!(n, Note::Collapse { .. }))
+    {
+        let cause = tightest.as_ref().map_or_else(String::new, |t| {
+            format!("; likely cause: {}", crate::jobs::notes::cause_words(t))
+        });
+        write_hanging(
+            out,
+            "- ",
+            "    ",
+            &format!(
+                "Load flow: NO SOLUTION in {count} scenario-configuration(s) (voltage collapse), scenario(s) {}{cause}. Their figures are missing from the tables below.",
+                scenarios.join(", ")
+            ),
+            WIDTH,
+        )?;
+    }
     if let Some(note) = res
         .notes
         .iter()
