@@ -88,6 +88,9 @@ pub struct LoadLevelRow {
     pub load_factor: f64,
     /// The A1 cell of `Load` (or `Level` when blank), for messages.
     pub cell: CellAt,
+    /// The A1 cells of `Hours per year` and `Load factor`, for messages.
+    pub hours_cell: CellAt,
+    pub factor_cell: CellAt,
 }
 
 /// An A1 cell a row was read from, for messages. Where a row was read is not part of what

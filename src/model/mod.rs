@@ -8,6 +8,7 @@
 mod design;
 mod elements;
 pub mod loading;
+pub mod names;
 mod sequence;
 mod validate;
 mod validate_design;

@@ -52,6 +52,8 @@ pub(super) struct Collector<'a> {
     /// Index of the element being checked.
     pub(super) index: Option<usize>,
     bus_ids: HashSet<&'a str>,
+    /// The bus ids in sheet order (for suggestions).
+    bus_order: Vec<&'a str>,
 }
 
 impl<'a> Collector<'a> {
@@ -121,8 +123,57 @@ impl<'a> Collector<'a> {
 
     fn bus(&mut self, sheet: &'static str, id: &str, field: &'static str, bus: &str) {
         if !self.bus_ids.contains(bus) {
-            self.push(sheet, id, field, format!("bus \"{bus}\" does not exist"));
+            let known = self.bus_order.clone();
+            let hint = match super::names::nearest(bus, &known).as_slice() {
+                [] => String::new(),
+                [one] => format!(": did you mean \"{one}\"?"),
+                many => format!(
+                    ": did you mean one of {}?",
+                    many.iter()
+                        .map(|m| format!("\"{m}\""))
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            };
+            self.push(
+                sheet,
+                id,
+                field,
+                format!("bus \"{bus}\" does not exist{hint}"),
+            );
         }
+    }
+
+    /// Ids of one kind that differ only by letter case (ids are case-sensitive, so they
+    /// would be two elements where the engineer meant one): each later one is an error.
+    fn case_unique<'b>(
+        &mut self,
+        sheet: &'static str,
+        field: &'static str,
+        what: &str,
+        ids: impl Iterator<Item = (usize, &'b str)>,
+    ) {
+        let saved = self.index;
+        let mut seen: Vec<&str> = Vec::new();
+        for (i, id) in ids {
+            if let Some(first) = seen
+                .iter()
+                .find(|s| **s != id && s.to_lowercase() == id.to_lowercase())
+            {
+                self.index = Some(i);
+                self.push(
+                    sheet,
+                    id,
+                    field,
+                    format!(
+                        "{what} \"{id}\" differs from \"{first}\" only by letter case: names are case-sensitive, so these would be two; spell them alike"
+                    ),
+                );
+            } else if !seen.contains(&id) {
+                seen.push(id);
+            }
+        }
+        self.index = saved;
     }
 
     fn unique<'b>(
@@ -158,9 +209,23 @@ impl Plant {
             errors: Vec::new(),
             index: None,
             bus_ids: self.buses.iter().map(|b| b.id.as_str()).collect(),
+            bus_order: self.buses.iter().map(|b| b.id.as_str()).collect(),
         };
         self.validate_study(&mut c);
         c.unique("Buses", "Bus", self.buses.iter().map(|b| b.id.as_str()));
+        c.case_unique(
+            "Buses",
+            "Bus",
+            "bus",
+            self.buses.iter().map(|b| b.id.as_str()).enumerate(),
+        );
+        c.case_unique(
+            "Sources",
+            "Scenario",
+            "scenario",
+            (self.sources.iter().enumerate())
+                .filter_map(|(i, s)| s.scenario.as_deref().map(|n| (i, n))),
+        );
         for (i, b) in self.buses.iter().enumerate() {
             c.index = Some(i);
             c.positive("Buses", &b.id, "Nominal kV", b.nominal_kv);
@@ -355,6 +420,16 @@ impl Plant {
                         "LV bus",
                         format!("connects two buses of the same nominal kV ({hv} kV): use a cable"),
                     );
+                } else if lv > hv {
+                    c.push(
+                        TX,
+                        &t.id,
+                        "LV bus",
+                        format!(
+                            "\"{}\" is at {lv} kV, above the HV bus \"{}\" at {hv} kV: swap the HV and LV buses, or check the Buses sheet's Nominal kV (kV, not V)",
+                            t.lv_bus, t.hv_bus
+                        ),
+                    );
                 }
             }
         }
@@ -414,6 +489,22 @@ impl Plant {
             }
             c.bus(SHEET, &b.id, "Bus", &b.bus);
             c.positive(SHEET, &b.id, "Rated kV", b.rated_kv);
+            if let Some(&kv) = c.bus_kv.get(b.bus.as_str()) {
+                let ratio = b.rated_kv / kv;
+                // A rating below 0.8 × or above 2 × the bus voltage cannot be the bank's
+                // (a detuned step sees U/(1 − p), at most about 1.2 ×; common practice).
+                if ratio.is_finite() && !(0.8..=2.0).contains(&ratio) {
+                    c.push(
+                        SHEET,
+                        &b.id,
+                        "Rated kV",
+                        format!(
+                            "{} kV is {:.2} × its bus \"{}\" at {kv} kV: a capacitor is rated from about 1 × (plain) to 1.25 × (detuned) its bus voltage; check kV against V (0.48, not 480) and the bus",
+                            b.rated_kv, ratio, b.bus
+                        ),
+                    );
+                }
+            }
             c.positive(SHEET, &b.id, "Step kvar", b.step_kvar);
             c.positive(SHEET, &b.id, "Reactor Q", b.reactor_q);
             if let Some(l) = b.inrush_uh {

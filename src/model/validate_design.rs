@@ -64,6 +64,23 @@ pub fn design_problems(plant: &Plant) -> Vec<DesignProblem> {
                 ),
             );
         }
+        let bus_kv = plant
+            .buses
+            .iter()
+            .find(|b| b.id == r.bus)
+            .map(|b| b.nominal_kv);
+        if let Some(kv) = bus_kv
+            && let Some(&low) = r.rated_kv.iter().find(|&&v| v < kv)
+        {
+            push(
+                "Design",
+                &r.cells.rated_kv,
+                format!(
+                    "\"Rated kV\" lists {low} kV, below the bus \"{}\" at {kv} kV: a capacitor's voltage class is at or above its bus voltage (above U/(1 − p) when detuned)",
+                    r.bus
+                ),
+            );
+        }
         if plant.design[..i].iter().any(|o| o.bus == r.bus) {
             push(
                 "Design",
@@ -72,6 +89,7 @@ pub fn design_problems(plant: &Plant) -> Vec<DesignProblem> {
             );
         }
     }
+    level_problems(plant, &mut push);
     for r in &plant.load_levels {
         if let Some(t) = &r.load
             && LoadType::from_text(t).is_none()
@@ -87,4 +105,64 @@ pub fn design_problems(plant: &Plant) -> Vec<DesignProblem> {
         }
     }
     out
+}
+
+/// The Load levels rows that contradict each other: a level's hours given twice and
+/// different, one load (or every load) given two factors at one level, and every level at
+/// zero hours (the levels would weigh nothing).
+fn level_problems(plant: &Plant, push: &mut impl FnMut(&'static str, &str, String)) {
+    const SHEET: &str = "Load levels";
+    let rows = &plant.load_levels;
+    for (i, r) in rows.iter().enumerate() {
+        let earlier = rows[..i].iter().filter(|o| o.level == r.level);
+        for o in earlier {
+            if let (Some(a), Some(b)) = (o.hours, r.hours)
+                && a != b
+            {
+                push(
+                    SHEET,
+                    &r.hours_cell.0,
+                    format!(
+                        "level \"{}\" has {a} hours per year on an earlier row and {b} here: give its hours once, or the same on every row",
+                        r.level
+                    ),
+                );
+                break;
+            }
+            if o.load == r.load && o.load_factor != r.load_factor {
+                let whom = r.load.as_ref().map_or_else(
+                    || "every load (blank Load)".to_string(),
+                    |l| format!("\"{l}\""),
+                );
+                push(
+                    SHEET,
+                    &r.factor_cell.0,
+                    format!(
+                        "level \"{}\" sets {whom} to load factor {} on an earlier row and {} here: one factor per level and load",
+                        r.level, o.load_factor, r.load_factor
+                    ),
+                );
+                break;
+            }
+        }
+    }
+    // A level's weight is the first hours given on its rows (1 when none is).
+    let mut levels: Vec<(&str, f64, &str)> = Vec::new();
+    for r in rows {
+        if !levels.iter().any(|(l, _, _)| *l == r.level) {
+            let first = rows
+                .iter()
+                .filter(|o| o.level == r.level)
+                .find_map(|o| o.hours.map(|h| (h, &o.hours_cell.0)));
+            let (h, cell) = first.map_or((1.0, r.hours_cell.0.as_str()), |(h, c)| (h, c.as_str()));
+            levels.push((&r.level, h, cell));
+        }
+    }
+    if !levels.is_empty() && levels.iter().all(|(_, h, _)| *h == 0.0) {
+        push(
+            SHEET,
+            levels[0].2,
+            "\"Hours per year\" is 0 at every level: the levels would weigh nothing; give each level its hours per year".to_string(),
+        );
+    }
 }

@@ -342,6 +342,8 @@ pub fn food_plant() -> Plant {
         load: load.map(str::to_string),
         load_factor: lf,
         cell: CellAt::default(),
+        hours_cell: CellAt::default(),
+        factor_cell: CellAt::default(),
     };
     p.load_levels = vec![
         level("production", Some(4200.0), None, 0.9),

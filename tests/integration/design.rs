@@ -45,6 +45,8 @@ fn full_only() -> Vec<LoadLevelRow> {
         load: None,
         load_factor: 1.0,
         cell: CellAt::default(),
+        hours_cell: CellAt::default(),
+        factor_cell: CellAt::default(),
     }]
 }
 

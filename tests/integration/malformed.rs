@@ -165,6 +165,13 @@ impl Book {
         ])
     }
 
+    /// Appends a data row to `sheet`.
+    fn add_row(mut self, sheet: &str, row: Vec<C>) -> Book {
+        let grid = &mut self.0.iter_mut().find(|(n, _)| n == sheet).unwrap().1;
+        grid.push(row);
+        self
+    }
+
     fn set(mut self, sheet: &str, cell: &str, v: C) -> Book {
         let col = (cell.as_bytes()[0] - b'A') as usize;
         let row: usize = cell[1..].parse::<usize>().unwrap() - 1;
@@ -311,7 +318,7 @@ fn malformed_cells_each_give_their_message_and_cell() {
         ),
         (
             Book::base().set("Capacitors", "B2", s("LV9")),
-            "Capacitors!B2: \"Bus\": bus \"LV9\" does not exist",
+            "Capacitors!B2: \"Bus\": bus \"LV9\" does not exist: did you mean one of \"LV\", \"LV2\"?",
         ),
         (
             Book::base()
@@ -865,4 +872,157 @@ fn design_input_is_checked_against_the_plant_at_its_cells() {
     );
     let ok = with(vec![vec![s("LV"), N(50.0)]], vec![full("6-Pulse Drive")]);
     assert_eq!(ok.errors(), Vec::<String>::new());
+}
+
+#[test]
+fn impossible_plants_are_located_errors() {
+    // Data that cannot be a plant (issue 31): a 480 kV "LV" bus behind a 13.8 kV primary, a
+    // capacitor rated 1,000 times its bus voltage, bus ids and scenario names that differ
+    // only by letter case; and an unknown bus with the nearest id suggested. Each at its
+    // cell, exit 2 through the binary (malformed_cells...), nothing studied.
+    use C::*;
+    let cases: Vec<(Book, &str)> = vec![
+        (
+            Book::base()
+                .set("Transformers", "C2", s("LV3"))
+                .add_row("Buses", vec![s("LV3"), N(480.0)]),
+            "Transformers!C2: \"LV bus\": \"LV3\" is at 480 kV, above the HV bus \"HV\" at 13.8 kV: swap the HV and LV buses, or check the Buses sheet's Nominal kV (kV, not V)",
+        ),
+        (
+            Book::base().set("Capacitors", "C2", N(480.0)),
+            "Capacitors!C2: \"Rated kV\": 480 kV is 1000.00 × its bus \"LV\" at 0.48 kV: a capacitor is rated from about 1 × (plain) to 1.25 × (detuned) its bus voltage; check kV against V (0.48, not 480) and the bus",
+        ),
+        (
+            Book::base().add_row("Buses", vec![s("lv2"), N(0.48)]),
+            "Buses!A5: \"Bus\": bus \"lv2\" differs from \"LV2\" only by letter case: names are case-sensitive, so these would be two; spell them alike",
+        ),
+        (
+            Book::base().set("Sources", "C2", s("strong")).add_row(
+                "Sources",
+                vec![s("U2"), s("HV"), s("Strong"), N(90.0), Blank, N(12.0)],
+            ),
+            "Sources!C3: \"Scenario\": scenario \"Strong\" differs from \"strong\" only by letter case: names are case-sensitive, so these would be two; spell them alike",
+        ),
+        (
+            Book::base().set("Loads", "B3", s("lv2")),
+            "Loads!B3: \"Bus\": bus \"lv2\" does not exist: did you mean \"LV2\"?",
+        ),
+    ];
+    for (book, expected) in cases {
+        expect_one(book, expected);
+    }
+}
+
+#[test]
+fn implausible_supply_and_steps_warn_at_their_cells() {
+    // Possible but unusual (issue 31): a transformer below the load it feeds (the base
+    // plant's 200 kW × 0.8 / 0.95 + 150 kW / 0.85 = 344.9 kVA on 300 kVA), a 0.5 kvar step,
+    // and a source of 0.6 MVA, 1.7 × that load (weaker than 2 ×); the strong 250 MVA source
+    // of the base plant is 250,000 / 344.9 = 724.9 × its load. Each a warning at its cell, the plant still read.
+    use C::*;
+    let warnings = |book: Book| -> Vec<String> {
+        read_workbook_bytes("w.xlsx", "w", &book.bytes())
+            .expect("reads")
+            .warnings
+            .iter()
+            .map(|w| w.to_string())
+            .collect()
+    };
+    let base = warnings(Book::base());
+    assert!(
+        base.iter().any(|w| w.starts_with("Sources!D2: source U: short-circuit power 250.0 MVA is 724.9 × the plant's 345 kVA of load, unusually strong")),
+        "{base:?}"
+    );
+    let w = warnings(
+        Book::base()
+            .set("Transformers", "D2", N(300.0))
+            .set("Capacitors", "D2", N(0.5))
+            .set("Sources", "D2", N(0.6)),
+    );
+    for expected in [
+        "Transformers!D2: transformer T1: feeds 345 kVA of load (the loads at its LV bus and beyond, at the study point, no diversity) on a 300 kVA rating (115 %)",
+        "Capacitors!D2: bank C1: \"Step kvar\" 0.5 is below 1 kvar",
+        "Sources!D2: source U: short-circuit power 0.6 MVA is 1.7 × the plant's 345 kVA of load, too weak to carry the plant's load",
+    ] {
+        assert!(
+            w.iter().any(|x| x.starts_with(expected)),
+            "{expected}\n{w:?}"
+        );
+    }
+    let w = warnings(Book::base().set("Capacitors", "D2", N(2000.0)));
+    assert!(
+        w.iter().any(|x| x.starts_with("Capacitors!D2: bank C1: one step of 2000 kvar is above the 1500 kVA of transformer T1 that feeds its bus")),
+        "{w:?}"
+    );
+}
+
+#[test]
+fn design_sheets_that_contradict_themselves_are_located() {
+    // Issue 31: a Design voltage class below its bus voltage, every level at 0 hours, and
+    // two rows of one level that disagree (hours; the factor of every load), each at its
+    // cell.
+    use C::*;
+    let with = |design: Vec<C>, levels: Vec<Vec<C>>| {
+        let mut b = Book::base();
+        b.0.push((
+            "Design".into(),
+            vec![
+                vec![
+                    s("Bus"),
+                    s("Step kvar"),
+                    s("Steps"),
+                    s("Detuning"),
+                    s("Rated kV"),
+                ],
+                design,
+            ],
+        ));
+        let mut l = vec![vec![
+            s("Level"),
+            s("Hours per year"),
+            s("Load"),
+            s("Load factor"),
+        ]];
+        l.extend(levels);
+        b.0.push(("Load levels".into(), l));
+        b
+    };
+    let lv = || vec![s("LV"), N(50.0), Blank, Blank, Blank];
+    expect_one(
+        with(
+            vec![s("LV"), N(50.0), Blank, Blank, s("0.4, 0.525")],
+            vec![vec![s("full"), N(6000.0), Blank, N(1.0)]],
+        ),
+        "Design!E2: \"Rated kV\" lists 0.4 kV, below the bus \"LV\" at 0.48 kV: a capacitor's voltage class is at or above its bus voltage (above U/(1 − p) when detuned)",
+    );
+    expect_one(
+        with(
+            lv(),
+            vec![
+                vec![s("full"), N(0.0), Blank, N(1.0)],
+                vec![s("night"), N(0.0), Blank, N(0.5)],
+            ],
+        ),
+        "Load levels!B2: \"Hours per year\" is 0 at every level: the levels would weigh nothing; give each level its hours per year",
+    );
+    expect_one(
+        with(
+            lv(),
+            vec![
+                vec![s("day"), N(6000.0), Blank, N(1.0)],
+                vec![s("day"), N(3001.0), s("motor"), N(0.6)],
+            ],
+        ),
+        "Load levels!B3: level \"day\" has 6000 hours per year on an earlier row and 3001 here: give its hours once, or the same on every row",
+    );
+    expect_one(
+        with(
+            lv(),
+            vec![
+                vec![s("day"), N(6000.0), Blank, N(1.0)],
+                vec![s("day"), Blank, Blank, N(0.6)],
+            ],
+        ),
+        "Load levels!D3: level \"day\" sets every load (blank Load) to load factor 1 on an earlier row and 0.6 here: one factor per level and load",
+    );
 }

@@ -223,6 +223,8 @@ pub fn load_levels(t: &Table, d: &mut Diagnostics) -> Vec<LoadLevelRow> {
                 load,
                 load_factor: factor,
                 cell: CellAt(cell),
+                hours_cell: CellAt(t.cell(r, "Hours per year")),
+                factor_cell: CellAt(t.cell(r, "Load factor")),
             }
         })
         .collect()

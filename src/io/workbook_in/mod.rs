@@ -538,15 +538,14 @@ pub fn read_workbook_bytes_within(
         diag.error(p.sheet, p.cell, p.message);
     }
     if diag.errors.is_empty() {
-        plausible::check(
-            &plant,
-            &plausible::Tables {
-                buses: tables.buses.as_ref(),
-                transformers: tables.transformers.as_ref(),
-                capacitors: tables.capacitors.as_ref(),
-            },
-            &mut diag,
-        );
+        let located = plausible::Tables {
+            buses: tables.buses.as_ref(),
+            sources: tables.sources.as_ref(),
+            transformers: tables.transformers.as_ref(),
+            capacitors: tables.capacitors.as_ref(),
+        };
+        plausible::check(&plant, &located, &mut diag);
+        plausible::capability(&plant, &located, &mut diag);
         return Ok(ReadOutcome {
             plant,
             warnings: diag.warnings,

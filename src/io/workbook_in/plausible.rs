@@ -8,6 +8,7 @@ use crate::model::{Plant, Reactor};
 /// The tables the warnings point into (absent sheets give no warnings).
 pub struct Tables<'a> {
     pub buses: Option<&'a Table>,
+    pub sources: Option<&'a Table>,
     pub transformers: Option<&'a Table>,
     pub capacitors: Option<&'a Table>,
 }
@@ -109,6 +110,106 @@ pub fn check(plant: &Plant, t: &Tables<'_>, diag: &mut Diagnostics) {
                     ),
                 );
             }
+        }
+    }
+}
+
+/// A source whose short-circuit power is more than this many times the plant's load is
+/// unusually strong for a plant (issue 31's bound).
+const STRONG_SOURCE: f64 = 100.0;
+/// A source weaker than this many times the plant's load can hardly carry it (the voltage
+/// drop at full load would be of the order of 1/ratio; issue 31's bound).
+const WEAK_SOURCE: f64 = 2.0;
+/// A step below this, kvar, is more likely Mvar typed for kvar.
+const SMALL_STEP_KVAR: f64 = 1.0;
+
+/// Warnings for a plant whose load and supply look out of proportion: a transformer below
+/// the load it feeds, a capacitor step below 1 kvar or above the kVA of the transformer
+/// that feeds its bus, a source more than 100 × or less than 2 × the plant's load.
+pub fn capability(plant: &Plant, t: &Tables<'_>, diag: &mut Diagnostics) {
+    use crate::model::loading::{
+        buses_fed_by, plant_load_kva, source_s_sc_mva, transformer_loadings,
+    };
+    if let Some(tt) = t.transformers {
+        let loadings = transformer_loadings(plant);
+        for (tx, row) in plant.transformers.iter().zip(&tt.rows) {
+            if let Some(l) = loadings.iter().find(|l| l.id == tx.id)
+                && l.ratio() > 1.0
+            {
+                diag.warn(
+                    &tt.sheet,
+                    Some(tt.cell(row, "kVA")),
+                    format!(
+                        "transformer {}: feeds {:.0} kVA of load (the loads at its LV bus and beyond, at the study point, no diversity) on a {} kVA rating ({:.0} %): is the kVA or a load mistyped?",
+                        tx.id, l.load_kva, tx.kva, l.ratio() * 100.0
+                    ),
+                );
+            }
+        }
+    }
+    if let Some(ct) = t.capacitors {
+        for (bank, row) in plant.banks.iter().zip(&ct.rows) {
+            let cell = || Some(ct.cell(row, "Step kvar"));
+            if bank.step_kvar < SMALL_STEP_KVAR {
+                diag.warn(
+                    &ct.sheet,
+                    cell(),
+                    format!(
+                        "bank {}: \"Step kvar\" {} is below {SMALL_STEP_KVAR} kvar: Mvar typed for kvar? (a 100 kvar step is entered as 100)",
+                        bank.id, bank.step_kvar
+                    ),
+                );
+            }
+            let feeding = (0..plant.transformers.len())
+                .filter(|&k| plant.transformers[k].in_service)
+                .filter(|&k| buses_fed_by(plant, k).contains(&bank.bus.as_str()))
+                .min_by(|&a, &b| {
+                    plant.transformers[a]
+                        .kva
+                        .total_cmp(&plant.transformers[b].kva)
+                });
+            if let Some(k) = feeding
+                && bank.step_kvar > plant.transformers[k].kva
+            {
+                diag.warn(
+                    &ct.sheet,
+                    cell(),
+                    format!(
+                        "bank {}: one step of {} kvar is above the {} kVA of transformer {} that feeds its bus: is the step or the transformer mistyped?",
+                        bank.id, bank.step_kvar, plant.transformers[k].kva, plant.transformers[k].id
+                    ),
+                );
+            }
+        }
+    }
+    let load_kva = plant_load_kva(plant);
+    if let Some(st) = t.sources
+        && load_kva > 0.0
+    {
+        for (s, (src, row)) in plant.sources.iter().zip(&st.rows).enumerate() {
+            let Some(mva) = source_s_sc_mva(plant, s) else {
+                continue;
+            };
+            let ratio = mva * 1000.0 / load_kva;
+            let column = match src.short_circuit {
+                crate::model::ShortCircuit::Mva(_) => "Short-circuit MVA",
+                crate::model::ShortCircuit::Ka(_) => "Short-circuit kA",
+            };
+            let why = if ratio > STRONG_SOURCE {
+                "unusually strong for the plant: is the fault level the one at this bus, and in MVA (not kVA)?"
+            } else if ratio < WEAK_SOURCE {
+                "too weak to carry the plant's load (the load flow may have no solution): is the fault level in MVA (not GVA), or a load mistyped?"
+            } else {
+                continue;
+            };
+            diag.warn(
+                &st.sheet,
+                Some(st.cell(row, column)),
+                format!(
+                    "source {}: short-circuit power {mva:.1} MVA is {ratio:.1} × the plant's {load_kva:.0} kVA of load, {why}",
+                    src.id
+                ),
+            );
         }
     }
 }
