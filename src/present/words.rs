@@ -1,8 +1,11 @@
 //! Sentences that state the model a study used, shared by the terminal summary, the JSON
 //! and the review workbook.
 
+use crate::model::Sequence;
 use crate::model::Summation;
 use crate::study::operating::{OperatingPoint, PfVerdict};
+use crate::study::remedy::RemedyResult;
+use crate::study::resonance::{ResonanceRow, Verdict};
 
 /// The model's scope in one sentence (input contract, version 2: sequences).
 pub fn model_scope() -> &'static str {
@@ -46,5 +49,33 @@ pub fn operating_verdict(p: &OperatingPoint) -> String {
         (v, false) => pf_word(v).to_string(),
         (PfVerdict::Leading, true) => "LEADING, OUT OF RANGE".to_string(),
         (_, true) => "OUT OF RANGE".to_string(),
+    }
+}
+
+/// A resonance verdict as the reports print it.
+pub fn verdict_word(v: Verdict) -> &'static str {
+    match v {
+        Verdict::Resonant => "RESONANT",
+        Verdict::Clear => "clear",
+        Verdict::NoPeak => "no peak",
+    }
+}
+
+/// A resonance row's verdict as printed: the word, marked `(zero seq)` for a zero-sequence
+/// row.
+pub fn resonance_verdict(r: &ResonanceRow) -> String {
+    match r.sequence {
+        Sequence::Zero => format!("{} (zero seq)", verdict_word(r.verdict)),
+        _ => verdict_word(r.verdict).to_string(),
+    }
+}
+
+/// A remedy option's verdict as printed: the bank's own checks, and whether plant-wide
+/// limits still fail with the option in place.
+pub fn remedy_verdict(x: &RemedyResult) -> &'static str {
+    match (x.passes, x.after.limits_exceeded > 0) {
+        (true, false) => "passes",
+        (true, true) => "passes; plant limits over",
+        (false, _) => "fails",
     }
 }

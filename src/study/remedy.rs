@@ -192,15 +192,3 @@ pub fn band_margin_percent(low: f64, high: f64, orders: &[f64]) -> Option<f64> {
         })
         .min_by(f64::total_cmp)
 }
-
-impl RemedyResult {
-    /// The verdict the reports print: the bank's own checks, and whether plant-wide limits
-    /// still fail with the option in place.
-    pub fn verdict(&self) -> &'static str {
-        match (self.passes, self.after.limits_exceeded > 0) {
-            (true, false) => "passes",
-            (true, true) => "passes; plant limits over",
-            (false, _) => "fails",
-        }
-    }
-}

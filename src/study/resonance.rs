@@ -94,17 +94,6 @@ pub enum Verdict {
     NoPeak,
 }
 
-impl Verdict {
-    /// The word printed in reports.
-    pub fn word(self) -> &'static str {
-        match self {
-            Verdict::Resonant => "RESONANT",
-            Verdict::Clear => "clear",
-            Verdict::NoPeak => "no peak",
-        }
-    }
-}
-
 /// One bank in one scenario and configuration: hand check beside scan.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ResonanceRow {
@@ -146,16 +135,6 @@ pub struct ResonanceRow {
     /// The sequence network scanned: `positive` (which carries the positive- and
     /// negative-sequence orders) or `zero` (triplen orders, grounded-wye banks only).
     pub sequence: Sequence,
-}
-
-impl ResonanceRow {
-    /// The verdict as printed: the word, marked `(zero seq)` for a zero-sequence row.
-    pub fn verdict_text(&self) -> String {
-        match self.sequence {
-            Sequence::Zero => format!("{} (zero seq)", self.verdict.word()),
-            _ => self.verdict.word().to_string(),
-        }
-    }
 }
 
 /// The resonance study of every scenario × configuration × energized bank.

@@ -189,7 +189,7 @@ fn a_delta_bank_is_not_resonant_at_a_zero_sequence_order_a_grounded_wye_bank_is(
     );
     assert_eq!(zero[0].nearest_characteristic, Some(9.0));
     assert_eq!(zero[0].verdict, Verdict::Resonant);
-    assert!(zero[0].verdict_text().contains("zero seq"));
+    assert!(overtone::present::words::resonance_verdict(zero[0]).contains("zero seq"));
 }
 
 /// A 13.8 kV service with a 2 % 5th behind it (angle 30°), a 500 m cable and a 1200 kvar

@@ -471,7 +471,10 @@ fn duty_remedies_and_input_sheets_read_back() {
             assert_eq!(num(&rem, row, 7), x.after.resonant as f64);
             assert_eq!(num(&rem, row, 8), x.after.limits_exceeded as f64);
             assert_eq!(num(&rem, row, 9), x.after.duty_exceeded as f64);
-            assert_eq!(text(&rem, row, 14), x.verdict());
+            assert_eq!(
+                text(&rem, row, 14),
+                overtone::present::words::remedy_verdict(x)
+            );
             row += 1;
         }
     }

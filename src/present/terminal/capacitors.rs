@@ -328,7 +328,7 @@ fn write_bank_remedies(
                     .map_or_else(dash, |m| format!("{m:.1}")),
                 format!("{:.2}", r.after.worst_thd_percent),
                 format!("{:.2}", r.after.worst_tdd_percent),
-                r.verdict().to_string(),
+                crate::present::words::remedy_verdict(r).to_string(),
             ]
         })
         .collect();

@@ -29,7 +29,7 @@ fn cells(r: &ResonanceRow) -> Vec<String> {
         fmt_opt(r.peak.map(|p| p.amplification), 2),
         fmt_opt(r.nearest_characteristic, 0),
         fmt_opt(r.margin_percent, 1),
-        r.verdict_text(),
+        crate::present::words::resonance_verdict(r),
     ]
 }
 

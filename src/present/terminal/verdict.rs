@@ -218,7 +218,7 @@ fn write_bank_verdict(
                 x.option.name,
                 s.capacitor_rated_kv * 1000.0,
                 s.capacitor_kvar,
-                x.verdict(),
+                crate::present::words::remedy_verdict(x),
                 x.before.resonant,
                 x.after.resonant,
                 x.before.duty_exceeded,

@@ -170,7 +170,7 @@ fn resonance_cells(
         margin,
         on(band.map(|b| b.low_order), "0.000"),
         on(band.map(|b| b.high_order), "0.000"),
-        t(r.verdict_text()),
+        t(crate::present::words::resonance_verdict(r)),
     ]
 }
 
@@ -523,7 +523,7 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
                     n(x.after.worst_tdd_percent, "0.00"),
                     on(x.after.margin_percent, "0.0"),
                     n(x.after.tolerance_flagged as f64, "0"),
-                    t(x.verdict()),
+                    t(crate::present::words::remedy_verdict(x)),
                 ],
             )?;
             r += 1;
