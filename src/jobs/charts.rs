@@ -64,6 +64,7 @@ pub struct ScanCharts {
 }
 
 /// The charts of `res`'s scan.
+// Long: per bank bus and scenario the curves picked and recomputed, and their group, in one pass.
 pub fn scan_charts(res: &CheckResults) -> ScanCharts {
     let mut columns: Vec<ChartCurve> = Vec::new();
     let mut groups: Vec<ChartGroup> = Vec::new();

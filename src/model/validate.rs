@@ -388,6 +388,7 @@ impl Plant {
         }
     }
 
+    // Long: one check per Transformers and Cables field, in the contract's order.
     fn validate_branches(&self, c: &mut Collector<'_>) {
         const TX: &str = "Transformers";
         c.unique(

@@ -127,9 +127,14 @@ const SMALL_STEP_KVAR: f64 = 1.0;
 /// the load it feeds, a capacitor step below 1 kvar or above the kVA of the transformer
 /// that feeds its bus, a source more than 100 × or less than 2 × the plant's load.
 pub fn capability(plant: &Plant, t: &Tables<'_>, diag: &mut Diagnostics) {
-    use crate::model::loading::{
-        buses_fed_by, plant_load_kva, source_s_sc_mva, transformer_loadings,
-    };
+    transformer_load(plant, t, diag);
+    step_sizes(plant, t, diag);
+    source_strength(plant, t, diag);
+}
+
+/// A transformer feeding more load than its kVA.
+fn transformer_load(plant: &Plant, t: &Tables<'_>, diag: &mut Diagnostics) {
+    use crate::model::loading::transformer_loadings;
     if let Some(tt) = t.transformers {
         let loadings = transformer_loadings(plant);
         for (tx, row) in plant.transformers.iter().zip(&tt.rows) {
@@ -147,6 +152,11 @@ pub fn capability(plant: &Plant, t: &Tables<'_>, diag: &mut Diagnostics) {
             }
         }
     }
+}
+
+/// A step below 1 kvar, or above the kVA of the smallest transformer feeding its bus.
+fn step_sizes(plant: &Plant, t: &Tables<'_>, diag: &mut Diagnostics) {
+    use crate::model::loading::buses_fed_by;
     if let Some(ct) = t.capacitors {
         for (bank, row) in plant.banks.iter().zip(&ct.rows) {
             let cell = || Some(ct.cell(row, "Step kvar"));
@@ -182,6 +192,11 @@ pub fn capability(plant: &Plant, t: &Tables<'_>, diag: &mut Diagnostics) {
             }
         }
     }
+}
+
+/// A source over 100 × or under 2 × the plant's load.
+fn source_strength(plant: &Plant, t: &Tables<'_>, diag: &mut Diagnostics) {
+    use crate::model::loading::{plant_load_kva, source_s_sc_mva};
     let load_kva = plant_load_kva(plant);
     if let Some(st) = t.sources
         && load_kva > 0.0

@@ -16,6 +16,7 @@ pub(super) fn margin(p: &PlanResult) -> f64 {
 }
 
 /// Every figure and failure of one plan from its check results.
+// Long: one plan's every figure, gathered from its check results into one struct.
 #[allow(clippy::too_many_arguments)]
 pub(super) fn evaluate(
     res: &CheckResults,

@@ -261,18 +261,12 @@ fn write_bank_remedies(
 ) -> io::Result<()> {
     let dash = || "-".to_string();
     writeln!(out)?;
-    super::table::write_hanging(
-        out,
-        "",
-        "  ",
-        &format!(
-            "Bank {}: {}; {} configuration(s) compared",
-            br.bank,
-            br.reason,
-            br.configurations.len()
-        ),
-        100,
-    )?;
+    let n = br.configurations.len();
+    let head = format!(
+        "Bank {}: {}; {n} configuration(s) compared",
+        br.bank, br.reason
+    );
+    super::table::write_hanging(out, "", "  ", &head, 100)?;
     if let Some(first) = br.results.first() {
         let b = &first.before;
         super::table::write_hanging(

@@ -25,47 +25,7 @@ fn list<T: PartialOrd + Copy + std::fmt::Display>(mut v: Vec<T>) -> String {
 
 /// One bank's sentence: resonance, tolerance band, duty, switching.
 fn bank_line(res: &CheckResults, bank: &str) -> String {
-    let rows: Vec<_> = res
-        .resonance
-        .rows
-        .iter()
-        .filter(|r| r.bank == bank && r.verdict == Verdict::Resonant)
-        .collect();
-    let resonance = if rows.is_empty() {
-        "clear of resonance in every configuration and scenario".to_string()
-    } else {
-        let mut steps: Vec<u32> = rows.iter().map(|r| r.steps).collect();
-        steps.sort_unstable();
-        steps.dedup();
-        let per_step: Vec<String> = steps
-            .iter()
-            .map(|&k| {
-                let near = list(
-                    rows.iter()
-                        .filter(|r| r.steps == k)
-                        .filter_map(|r| r.nearest_characteristic)
-                        .collect(),
-                );
-                format!("{k} (h {near})")
-            })
-            .collect();
-        let mut scenarios: Vec<&str> = rows.iter().map(|r| r.scenario.as_str()).collect();
-        scenarios.dedup();
-        scenarios.sort_unstable();
-        scenarios.dedup();
-        let configs = {
-            let mut c: Vec<&str> = rows.iter().map(|r| r.configuration.as_str()).collect();
-            c.sort_unstable();
-            c.dedup();
-            c.len()
-        };
-        format!(
-            "RESONANT at {}step(s) {} in {configs} configuration(s), scenario {}",
-            bank_word(res, bank),
-            per_step.join(", "),
-            scenarios.join(", ")
-        )
-    };
+    let resonance = resonance_words(res, bank);
     let band = res
         .tolerance
         .iter()
@@ -107,6 +67,52 @@ fn bank_line(res: &CheckResults, bank: &str) -> String {
         }
     };
     format!("{resonance}{band}{duty}{switching}")
+}
+
+/// A bank's resonance in words: clear, or the steps resonant with the orders they are
+/// near, how many configurations and which scenarios.
+fn resonance_words(res: &CheckResults, bank: &str) -> String {
+    let rows: Vec<_> = res
+        .resonance
+        .rows
+        .iter()
+        .filter(|r| r.bank == bank && r.verdict == Verdict::Resonant)
+        .collect();
+    if rows.is_empty() {
+        "clear of resonance in every configuration and scenario".to_string()
+    } else {
+        let mut steps: Vec<u32> = rows.iter().map(|r| r.steps).collect();
+        steps.sort_unstable();
+        steps.dedup();
+        let per_step: Vec<String> = steps
+            .iter()
+            .map(|&k| {
+                let near = list(
+                    rows.iter()
+                        .filter(|r| r.steps == k)
+                        .filter_map(|r| r.nearest_characteristic)
+                        .collect(),
+                );
+                format!("{k} (h {near})")
+            })
+            .collect();
+        let mut scenarios: Vec<&str> = rows.iter().map(|r| r.scenario.as_str()).collect();
+        scenarios.dedup();
+        scenarios.sort_unstable();
+        scenarios.dedup();
+        let configs = {
+            let mut c: Vec<&str> = rows.iter().map(|r| r.configuration.as_str()).collect();
+            c.sort_unstable();
+            c.dedup();
+            c.len()
+        };
+        format!(
+            "RESONANT at {}step(s) {} in {configs} configuration(s), scenario {}",
+            bank_word(res, bank),
+            per_step.join(", "),
+            scenarios.join(", ")
+        )
+    }
 }
 
 /// True when the bank resonates or exceeds its duty.

@@ -316,6 +316,7 @@ const DUTY_HEADS: &[(&str, f64)] = &[
     ("Verdict", 10.0),
 ];
 
+// Long: the Duty sheet's table and the background table below it, on one row counter.
 pub(super) fn duty(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
     header(ws, 0, DUTY_HEADS)?;
     for (i, r) in res.duty.iter().enumerate() {
