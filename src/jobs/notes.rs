@@ -48,6 +48,9 @@ pub enum Note {
         combinations: usize,
         auto_limit: usize,
     },
+    /// Grounded-wye banks whose bus has no zero-sequence path in some scenario (bank, bus,
+    /// scenarios): no zero-sequence resonance is screened there.
+    NoZeroPath(Vec<(String, String, Vec<String>)>),
     /// A sentence of the design search.
     Design(String),
 }
@@ -95,6 +98,17 @@ impl fmt::Display for Note {
                     Some(t) => write!(f, "; likely cause: {}", cause_words(t)),
                     None => Ok(()),
                 }
+            }
+            Note::NoZeroPath(banks) => {
+                let each: Vec<String> = banks
+                    .iter()
+                    .map(|(b, bus, sc)| format!("{b} at {bus} (scenario {})", sc.join(", ")))
+                    .collect();
+                write!(
+                    f,
+                    "no zero-sequence path: {}: the bus's part of the zero-sequence network has no grounded winding or source (a delta or ungrounded winding faces it), only the bank's own neutral, so no zero-sequence resonance is screened there and triplen currents injected there do not flow in the zero sequence",
+                    each.join("; ")
+                )
             }
             Note::RemediesNotStudied {
                 combinations,

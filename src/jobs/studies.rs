@@ -222,6 +222,7 @@ fn screen(
     };
     let zero_view = zero_scan.as_ref().map(|scan| ZeroScan {
         engine: zero_engine,
+        network: &ctx.zero,
         scan,
         map: &zero_map,
     });
@@ -312,6 +313,23 @@ fn study_notes(
         );
     }
     notes
+}
+
+/// The grounded-wye banks whose bus has no zero-sequence path in some scenario, as one
+/// note (`None` when every such bank has one).
+fn no_zero_path(ctx: &Context<'_>) -> Option<Note> {
+    let banks: Vec<(String, String, Vec<String>)> = (ctx.network.banks.iter())
+        .filter(|b| b.connection.has_zero_path())
+        .filter_map(|b| {
+            let scenarios: Vec<String> = (ctx.zero.scenarios.iter().enumerate())
+                .filter(|(s, _)| !ctx.zero.conducts_at(*s, b.bus))
+                .map(|(_, sc)| sc.name.clone())
+                .collect();
+            (!scenarios.is_empty())
+                .then(|| (b.id.clone(), ctx.network.buses[b.bus].id.clone(), scenarios))
+        })
+        .collect();
+    (!banks.is_empty()).then_some(Note::NoZeroPath(banks))
 }
 
 /// The note for a plant that exceeds a harmonic limit with no bank in service (`None`
@@ -432,6 +450,9 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     };
     let (penetration, limits) = harmonics(&ctx, &engines, &scan, &operating, options)?;
     let mut notes = study_notes(&ctx, &penetration, &limits, &operating);
+    if zero_scan.is_some() {
+        notes.extend(no_zero_path(&ctx));
+    }
     let limit_rows = if options.scan_only {
         Vec::new()
     } else {

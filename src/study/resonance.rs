@@ -76,6 +76,8 @@ pub fn orders_of_sequence(chars: &[f64], sequence: Sequence) -> Vec<f64> {
 /// The zero-sequence scan of the banks with a zero-sequence path (grounded wye).
 pub struct ZeroScan<'a, 'b> {
     pub engine: &'a Engine<'b>,
+    /// The zero-sequence network scanned (for its buses without a zero-sequence path).
+    pub network: &'a Network,
     pub scan: &'a Scan,
     /// For each configuration of the positive scan, its index in `scan` (the steps of the
     /// banks without a zero-sequence path set to 0).
@@ -147,7 +149,10 @@ pub struct ResonanceStudy {
 
 impl ResonanceStudy {
     /// Builds the rows from a scan that includes every bank bus, and from the zero-sequence
-    /// scan of the grounded-wye banks when one was run.
+    /// scan of the grounded-wye banks when one was run. A grounded-wye bank on a bus with
+    /// no zero-sequence path of its own network (no grounded winding or source in its
+    /// zero-sequence component: only the bank's neutral) has no zero-sequence row: its scan
+    /// there would be the regularizing conductance's, not the plant's.
     // Long: the rows of every bank, scenario and configuration, in parallel, with the zero-sequence
     // rows beside.
     pub fn run(
@@ -217,6 +222,7 @@ impl ResonanceStudy {
                     ));
                     if let (Some(z), Some(f0)) = (zero, &zero_fundamental)
                         && bank.connection.has_zero_path()
+                        && z.network.conducts_at(s, bank.bus)
                         && let Some(sb) = z.scan.buses.iter().position(|&i| i == bank.bus)
                     {
                         let z_th_pu = f0.bank_bus_z0_pu(b).norm();

@@ -192,6 +192,58 @@ fn a_delta_bank_is_not_resonant_at_a_zero_sequence_order_a_grounded_wye_bank_is(
     assert!(overtone::present::words::resonance_verdict(zero[0]).contains("zero seq"));
 }
 
+#[test]
+fn a_grounded_wye_bank_behind_a_delta_winding_has_no_zero_sequence_result() {
+    // Behind a YNd1 transformer the 480 V side has no grounded neutral: its zero-sequence
+    // network is the bank's own neutral and nothing else (symmetrical components,
+    // textbook, from memory), so the zero sequence has no resonance to screen there and
+    // the report says so instead of solving through the conductance that keeps the matrix
+    // regular (issue 32, item 3). The positive-sequence row stays as it was.
+    let mut p = electronic_behind_dyn(Some(BankConnection::WyeGrounded));
+    p.transformers[0].connection = VectorGroup::parse("YNd1");
+    let res = run_check(&p, &Default::default()).unwrap();
+    assert!(
+        res.zero_scan.is_some(),
+        "triplens are characteristic and the bank is grounded"
+    );
+    assert!(
+        res.resonance
+            .rows
+            .iter()
+            .all(|r| r.sequence == Sequence::Positive),
+        "{:?}",
+        res.resonance
+            .rows
+            .iter()
+            .map(|r| r.sequence)
+            .collect::<Vec<_>>()
+    );
+    let note = res
+        .notes
+        .iter()
+        .map(ToString::to_string)
+        .find(|n| n.starts_with("no zero-sequence path: C at LV (scenario base)"));
+    assert!(note.is_some(), "{:?}", res.notes);
+    // With a grounded LV winding (Dyn1) the zero-sequence row is there, as before.
+    let grounded = run_check(
+        &electronic_behind_dyn(Some(BankConnection::WyeGrounded)),
+        &Default::default(),
+    )
+    .unwrap();
+    assert_eq!(
+        (grounded.resonance.rows.iter())
+            .filter(|r| r.sequence == Sequence::Zero)
+            .count(),
+        1
+    );
+    assert!(
+        !grounded
+            .notes
+            .iter()
+            .any(|n| n.to_string().starts_with("no zero-sequence path"))
+    );
+}
+
 /// A 13.8 kV service with a 2 % 5th behind it (angle 30°), a 500 m cable and a 1200 kvar
 /// plain wye bank; no loads.
 fn background_only(law: Summation) -> Plant {
