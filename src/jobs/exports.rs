@@ -186,23 +186,32 @@ impl BusTable {
         Ok(self)
     }
 
+    /// `solve` for every selected configuration, scenario by scenario, as (scenario,
+    /// configuration, value); a configuration `solve` gives nothing for is left out.
+    fn each<'a, T>(
+        &'a self,
+        res: &'a CheckResults,
+        solve: impl Fn(usize, &[u32]) -> Option<T> + Copy + 'a,
+    ) -> impl Iterator<Item = (usize, usize, T)> + 'a {
+        (0..res.scan.scenarios.len()).flat_map(move |s| {
+            (self.configurations.iter()).filter_map(move |&c| {
+                solve(s, &res.scan.configurations[c].steps).map(|v| (s, c, v))
+            })
+        })
+    }
+
     /// The harmonic voltages of every selected configuration, scenario by scenario (a
     /// configuration the penetration cannot evaluate is left out).
     pub fn voltages<'a>(
         &'a self,
         res: &'a CheckResults,
     ) -> impl Iterator<Item = VoltageBlock> + 'a {
-        (0..res.scan.scenarios.len()).flat_map(move |s| {
-            self.configurations.iter().filter_map(move |&c| {
-                res.penetration
-                    .voltages(s, &res.scan.configurations[c].steps)
-                    .map(|v_pu| VoltageBlock {
-                        scenario: s,
-                        configuration: c,
-                        v_pu,
-                    })
+        self.each(res, move |s, steps| res.penetration.voltages(s, steps))
+            .map(|(scenario, configuration, v_pu)| VoltageBlock {
+                scenario,
+                configuration,
+                v_pu,
             })
-        })
     }
 
     /// The operating point of every selected configuration, scenario by scenario (a
@@ -211,17 +220,11 @@ impl BusTable {
         &'a self,
         res: &'a CheckResults,
     ) -> impl Iterator<Item = OperatingBlock> + 'a {
-        (0..res.scan.scenarios.len()).flat_map(move |s| {
-            self.configurations.iter().filter_map(move |&c| {
-                res.load_flow
-                    .voltages(s, &res.scan.configurations[c].steps)
-                    .ok()
-                    .map(|v_pu| OperatingBlock {
-                        scenario: s,
-                        configuration: c,
-                        v_pu,
-                    })
+        self.each(res, move |s, steps| res.load_flow.voltages(s, steps).ok())
+            .map(|(scenario, configuration, v_pu)| OperatingBlock {
+                scenario,
+                configuration,
+                v_pu,
             })
-        })
     }
 }

@@ -4,6 +4,8 @@
 
 use std::fmt;
 
+use crate::model::loading::Supplier;
+
 /// One note of a check or a design.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Note {
@@ -132,14 +134,14 @@ impl serde::Serialize for Note {
 /// its capability.
 pub fn cause_words(t: &crate::model::loading::Loading) -> String {
     match t.kind {
-        "transformer" => format!(
+        Supplier::Transformer => format!(
             "transformer {} feeds {:.0} kVA of load on its {:.0} kVA rating ({:.0} %)",
             t.id,
             t.load_kva,
             t.capability_kva,
             t.ratio() * 100.0
         ),
-        _ => format!(
+        Supplier::Source => format!(
             "the plant's {:.0} kVA of load against source {}'s {:.1} MVA short-circuit power ({:.1} %)",
             t.load_kva,
             t.id,

@@ -60,11 +60,18 @@ pub fn buses_fed_by(plant: &Plant, t: usize) -> Vec<&str> {
     seen
 }
 
+/// What kind of element supplies the load.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Supplier {
+    Transformer,
+    Source,
+}
+
 /// One supplying element's load against its capability.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Loading {
-    /// `transformer` or `source`.
-    pub kind: &'static str,
+    /// The supplying element's kind.
+    pub kind: Supplier,
     pub id: String,
     /// The load it carries, kVA.
     pub load_kva: f64,
@@ -86,7 +93,7 @@ pub fn transformer_loadings(plant: &Plant) -> Vec<Loading> {
         .map(|t| {
             let fed = buses_fed_by(plant, t);
             Loading {
-                kind: "transformer",
+                kind: Supplier::Transformer,
                 id: plant.transformers[t].id.clone(),
                 load_kva: plant
                     .loads
@@ -121,7 +128,7 @@ pub fn source_loadings(plant: &Plant) -> Vec<Loading> {
     (0..plant.sources.len())
         .filter_map(|s| {
             Some(Loading {
-                kind: "source",
+                kind: Supplier::Source,
                 id: plant.sources[s].id.clone(),
                 load_kva: load,
                 capability_kva: source_s_sc_mva(plant, s)? * 1000.0,

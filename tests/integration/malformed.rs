@@ -601,6 +601,21 @@ impl Book {
         self.0.push(("Background".into(), grid));
         self
     }
+
+    /// Adds a Design sheet (`design`: its header row, then its rows) and a Load levels
+    /// sheet with every column and `levels` as its rows.
+    fn with_design_sheets(mut self, design: Vec<Vec<C>>, levels: Vec<Vec<C>>) -> Book {
+        self.0.push(("Design".into(), design));
+        let mut l = vec![vec![
+            s("Level"),
+            s("Hours per year"),
+            s("Load"),
+            s("Load factor"),
+        ]];
+        l.extend(levels);
+        self.0.push(("Load levels".into(), l));
+        self
+    }
 }
 
 #[test]
@@ -840,19 +855,9 @@ fn design_input_is_checked_against_the_plant_at_its_cells() {
     // type spelled loosely ("6-Pulse Drive").
     use C::*;
     let with = |design: Vec<Vec<C>>, levels: Vec<Vec<C>>| {
-        let mut b = Book::base();
         let mut d = vec![vec![s("Bus"), s("Step kvar")]];
         d.extend(design);
-        b.0.push(("Design".into(), d));
-        let mut l = vec![vec![
-            s("Level"),
-            s("Hours per year"),
-            s("Load"),
-            s("Load factor"),
-        ]];
-        l.extend(levels);
-        b.0.push(("Load levels".into(), l));
-        b
+        Book::base().with_design_sheets(d, levels)
     };
     let full = |load: &str| vec![s("full"), N(6000.0), s(load), N(1.0)];
     expect_one(
@@ -963,29 +968,10 @@ fn design_sheets_that_contradict_themselves_are_located() {
     // cell.
     use C::*;
     let with = |design: Vec<C>, levels: Vec<Vec<C>>| {
-        let mut b = Book::base();
-        b.0.push((
-            "Design".into(),
-            vec![
-                vec![
-                    s("Bus"),
-                    s("Step kvar"),
-                    s("Steps"),
-                    s("Detuning"),
-                    s("Rated kV"),
-                ],
-                design,
-            ],
-        ));
-        let mut l = vec![vec![
-            s("Level"),
-            s("Hours per year"),
-            s("Load"),
-            s("Load factor"),
-        ]];
-        l.extend(levels);
-        b.0.push(("Load levels".into(), l));
-        b
+        let head = ["Bus", "Step kvar", "Steps", "Detuning", "Rated kV"]
+            .map(s)
+            .to_vec();
+        Book::base().with_design_sheets(vec![head, design], levels)
     };
     let lv = || vec![s("LV"), N(50.0), Blank, Blank, Blank];
     expect_one(

@@ -38,22 +38,7 @@ fn alike(header: &str, contract: &str) -> bool {
         || edit_distance(&a, &b) <= 2
 }
 
-/// Levenshtein distance between two strings, in characters.
-fn edit_distance(a: &str, b: &str) -> usize {
-    let b: Vec<char> = b.chars().collect();
-    let mut prev: Vec<usize> = (0..=b.len()).collect();
-    for (i, ca) in a.chars().enumerate() {
-        let mut cur = vec![i + 1; b.len() + 1];
-        for (j, &cb) in b.iter().enumerate() {
-            cur[j + 1] = (prev[j] + usize::from(ca != cb))
-                .min(prev[j + 1] + 1)
-                .min(cur[j] + 1);
-        }
-        prev = cur;
-    }
-    prev[b.len()]
-}
-
+use crate::model::names::edit_distance;
 pub use crate::model::normalize;
 
 /// A1 notation of a zero-based (row, column).
