@@ -72,7 +72,7 @@ pub struct PlanResult {
     pub cost: f64,
     /// Output of every step at the bus's nominal voltage, kvar.
     pub effective_kvar: f64,
-    /// The controller's choice per level and scenario ([level][scenario]).
+    /// The controller's choice per level and scenario (`[level][scenario]`).
     pub control: Vec<Vec<Control>>,
     /// Hours-weighted mean over the levels of the lowest PCC power factor over scenarios.
     pub pf_weighted: Option<f64>,

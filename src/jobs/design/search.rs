@@ -117,7 +117,7 @@ fn designed_steps(control: &[Vec<Control>]) -> u32 {
 }
 
 /// A family's plan at its bounded step count, with the controller's choices at the largest
-/// count and at that count ([level][scenario]).
+/// count and at that count (`[level][scenario]`).
 type Bounded = (Plan, Vec<Vec<Control>>, Vec<Vec<Control>>);
 
 /// What the search holds for its design rows: the plant each row's plans join (the proposed

@@ -117,7 +117,7 @@ pub enum Evaluation {
 }
 
 /// Results × buses above which [`Evaluation::Auto`] is fast (the JSON's per-bus tables stop
-/// at the same size, `io::json::MAX_BUS_ENTRIES`).
+/// at the same size, `present::json::MAX_BUS_ENTRIES`).
 pub const BOUNDED_ABOVE: usize = 200_000;
 
 /// Keeps in `worst` the harmonic with the highest ratio to its limit (0 without a limit),

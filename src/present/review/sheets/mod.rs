@@ -153,7 +153,7 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
     a
 }
 
-/// The sources and confidence of every built-in value (report::sources).
+/// The sources and confidence of every built-in value (present::sources).
 fn sources(ws: &mut Worksheet) -> Result<(), XlsxError> {
     ws.write_string_with_format(
         0,
