@@ -92,7 +92,8 @@ pub const LIMITS: &[&str] = &[
 ];
 pub const SUMMATION: &[&str] = &["arithmetic", "IEC 61000-3-6", "phasor"];
 pub const BANK_CONNECTIONS: &[&str] = &["delta", "wye", "wye grounded"];
-pub const RESISTANCE: &[&str] = &["constant", "skin"];
+pub const RESISTANCE: &[&str] = &["frequency-dependent", "constant", "skin"];
+pub const LOAD_MODELS: &[&str] = &["CIGRE", "parallel R-L"];
 
 pub const DATA_ROWS: u32 = 1000;
 
@@ -643,7 +644,7 @@ pub fn study_items() -> Vec<(&'static str, &'static str, Check)> {
         ),
         (
             "Resistance model",
-            "constant (R independent of frequency) or skin (R scaled by sqrt(h)). Default constant.",
+            "frequency-dependent (each element by its published law: sources and reactors R*sqrt(h), transformers and motors R*(1 + 0.1*h^1.5)/1.1, cables IEC 60287-1-1 skin effect), constant (R independent of frequency: the least damping) or skin (R*sqrt(h), motors constant). Default frequency-dependent.",
             List(RESISTANCE),
         ),
         (
@@ -680,6 +681,11 @@ pub fn study_items() -> Vec<(&'static str, &'static str, Check)> {
             "Voltage range (pu)",
             "Acceptable steady-state bus voltage band low/high in pu, e.g. 0.95/1.05. Default 0.95/1.05.",
             Text,
+        ),
+        (
+            "Load model",
+            "How linear loads damp harmonics: CIGRE (R_s = V^2/P in series with X_s = 0.073*h*R_s, in parallel with X_p = h*R_s/(6.7*Q/P - 0.74)) or parallel R-L (R = V^2/P parallel with X = h*V^2/Q). Default CIGRE.",
+            List(LOAD_MODELS),
         ),
     ]
 }

@@ -10,6 +10,9 @@ use crate::model::Plant;
 /// [`AUTO_REMEDY_CONFIGURATIONS`] step combinations).
 pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, CheckError> {
     let mut res = super::studies::run_studies(plant, options)?;
+    if !options.scan_only && options.damping_band != Some(false) {
+        res.damping = super::damping::damping_bands(&res, options)?;
+    }
     let auto = res.scan.configurations.len() <= AUTO_REMEDY_CONFIGURATIONS;
     match options.remedies {
         _ if options.scan_only => {}

@@ -4,6 +4,7 @@
 
 pub mod charts;
 pub mod check;
+pub mod damping;
 pub mod design;
 pub mod exports;
 pub mod notes;

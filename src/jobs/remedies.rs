@@ -112,6 +112,7 @@ fn try_option(
         scan_only: false,
         switching: false,
         evaluation: options.evaluation,
+        damping_band: Some(false),
     };
     // `remedies: Some(false)`: the studies alone, as `run_check` runs them.
     let after_res = run_studies(&changed, &rerun).ok()?;

@@ -60,6 +60,9 @@ pub struct CheckOptions {
     pub evaluation: crate::study::penetration::Evaluation,
     /// Simulate the switching events (`check` does; remedy re-runs do not).
     pub switching: bool,
+    /// Give every flagged resonance's key figures under the least-damped models too
+    /// (`None` = yes; `Some(false)` = no, for the re-runs of remedies and design).
+    pub damping_band: Option<bool>,
 }
 
 /// Step combinations up to which remedies are studied without being asked.
@@ -114,6 +117,9 @@ pub struct CheckResults {
     pub amplification: Vec<Vec<BankAmplification>>,
     /// Remedies for the flagged banks (empty when not studied; see `notes`).
     pub remedies: Vec<BankRemedies>,
+    /// Every flagged resonance's key figures under the study's damping models and the
+    /// least-damped ones (empty when nothing is flagged or it was not asked).
+    pub damping: Vec<super::damping::DampingBand>,
     /// Assumptions the study made that the report must state.
     pub notes: Vec<Note>,
     /// Network index of the PCC bus.

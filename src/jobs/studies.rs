@@ -501,6 +501,7 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
         background,
         amplification,
         remedies: Vec::new(),
+        damping: Vec::new(),
         notes,
         pcc: ctx.pcc,
     })

@@ -4,25 +4,58 @@ use serde::Serialize;
 
 use super::{BankConnection, VectorGroup};
 
-/// How series resistance varies with harmonic order h (Study sheet, `Resistance model`).
+/// How series resistance varies with harmonic order h (Study sheet, `Resistance model`);
+/// each element's law is in `network::damping`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[serde(rename_all = "kebab-case")]
 pub enum ResistanceModel {
-    /// R independent of frequency: k(h) = 1.
+    /// R independent of frequency: the least damping, the pessimistic option.
     Constant,
-    /// R scaled by √h for skin effect: k(h) = √h (common practice).
+    /// R scaled by √h on sources, transformers, cables and reactors (motors constant).
     Skin,
+    /// Each element by its published law: √h for sources and reactors, (1 + 0.1·h^1.5)/1.1
+    /// for transformers and motors, IEC 60287-1-1 skin effect for cables. The default.
+    FrequencyDependent,
 }
 
 impl ResistanceModel {
-    /// The resistance multiplier k(h) at harmonic order `order` (dimensionless).
-    pub fn factor(self, order: f64) -> f64 {
+    /// The word the workbook and the reports use.
+    pub fn word(self) -> &'static str {
         match self {
-            ResistanceModel::Constant => 1.0,
-            ResistanceModel::Skin => order.sqrt(),
+            ResistanceModel::Constant => "constant",
+            ResistanceModel::Skin => "skin",
+            ResistanceModel::FrequencyDependent => "frequency-dependent",
         }
     }
 }
+
+/// How linear loads are modelled at harmonic orders (Study sheet, `Load model`); the
+/// formulas are in `network::damping::linear_load_y_pu`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum LoadModel {
+    /// R parallel with L drawing the load's P and Q (the model before the default changed).
+    #[serde(rename = "parallel-r-l")]
+    ParallelRl,
+    /// The CIGRE load model: R_s + jX_s in parallel with jX_p. The default.
+    #[serde(rename = "cigre")]
+    Cigre,
+}
+
+impl LoadModel {
+    /// The word the workbook and the reports use.
+    pub fn word(self) -> &'static str {
+        match self {
+            LoadModel::ParallelRl => "parallel R-L",
+            LoadModel::Cigre => "CIGRE",
+        }
+    }
+}
+
+/// The least-damped models: constant resistance and CIGRE loads (whose conductance at any
+/// h > 0 is below the parallel R-L's 1/R for the same P). Every flagged resonance's key
+/// figures are also given under them.
+pub const LEAST_DAMPED: (ResistanceModel, LoadModel) =
+    (ResistanceModel::Constant, LoadModel::Cigre);
 
 /// The limit set the harmonic results are held against (Study sheet, `Limits`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -77,6 +110,8 @@ pub struct StudySettings {
     /// Frequency-scan step in harmonic order.
     pub scan_step_order: f64,
     pub resistance_model: ResistanceModel,
+    /// How linear loads are modelled at harmonic orders.
+    pub load_model: LoadModel,
     pub limits: LimitSet,
     pub summation: Summation,
     /// A peak within this many percent of a characteristic order is flagged.
@@ -121,7 +156,8 @@ impl StudySettings {
             max_demand_current_a: None,
             highest_order: 50.0,
             scan_step_order: 0.01,
-            resistance_model: ResistanceModel::Constant,
+            resistance_model: ResistanceModel::FrequencyDependent,
+            load_model: LoadModel::Cigre,
             limits: LimitSet::Ieee519_2014,
             summation: Summation::Arithmetic,
             resonance_margin_percent: 10.0,

@@ -1,14 +1,16 @@
 //! Element impedance models of the input contract, in per unit on [`super::BASE_MVA`] and
 //! each bus's nominal kV, as functions of harmonic order h.
 //!
-//! k(h) is the resistance multiplier of the study's resistance model: 1 (`constant`) or
-//! √h (`skin`), after the IEEE task force on harmonic modelling (1996, from memory).
+//! k(h) is the resistance multiplier of the study's resistance model for the element's kind
+//! ([`Growth::factor`], laws and sources in `damping.rs`).
 
 use num_complex::Complex64;
 
 use super::BASE_MVA;
+use super::damping::{Growth, cable_xs2, linear_load_y_pu};
 use crate::model::{
-    BankConnection, Cable, CapacitorBank, Load, LoadType, ResistanceModel, Source, Transformer,
+    BankConnection, Cable, CapacitorBank, Load, LoadModel, LoadType, ResistanceModel, Source,
+    Transformer,
 };
 
 /// Motor subtransient reactance X'' on the motor's rated kVA, per unit (input contract,
@@ -17,21 +19,24 @@ pub const MOTOR_X2_PU: f64 = 0.17;
 /// Motor X''/R ratio (input contract, sheet `Loads`; common practice).
 pub const MOTOR_X_OVER_R: f64 = 10.0;
 
-/// A series R-L impedance: Z(h) = R·k(h) + j·h·X, per unit, with R and X at fundamental.
+/// A series R-L impedance: Z(h) = R·k(h) + j·h·X, per unit, with R and X at fundamental and
+/// k(h) the law of `growth`.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct SeriesImpedance {
     pub r_pu: f64,
     pub x_pu: f64,
+    pub growth: Growth,
 }
 
 impl SeriesImpedance {
     /// Splits a magnitude |Z| into R and X by the X/R ratio:
     /// R = |Z| / √(1 + (X/R)²), X = R·(X/R) (input contract, sheet `Sources`).
-    pub fn from_magnitude(z_pu: f64, x_over_r: f64) -> Self {
+    pub fn from_magnitude(z_pu: f64, x_over_r: f64, growth: Growth) -> Self {
         let r = z_pu / (1.0 + x_over_r * x_over_r).sqrt();
         SeriesImpedance {
             r_pu: r,
             x_pu: r * x_over_r,
+            growth,
         }
     }
 
@@ -39,22 +44,26 @@ impl SeriesImpedance {
     /// system base (the same at either winding, the ratio being that of the bus bases).
     pub fn transformer(t: &Transformer) -> Self {
         let z_pu = t.impedance_percent / 100.0 * BASE_MVA / (t.kva / 1000.0);
-        Self::from_magnitude(z_pu, t.x_over_r)
+        Self::from_magnitude(z_pu, t.x_over_r, Growth::Transformer)
     }
 
     /// A cable's series impedance: (R + jX)·length / runs ohm, over Z_base (input contract,
-    /// sheet `Cables`).
-    pub fn cable(c: &Cable, z_base_ohm: f64) -> Self {
+    /// sheet `Cables`); its resistance grows by the IEC 60287-1-1 skin effect of a conductor
+    /// of that R per km at `frequency_hz`.
+    pub fn cable(c: &Cable, z_base_ohm: f64, frequency_hz: f64) -> Self {
         let km_per_run = c.length_m / 1000.0 / f64::from(c.runs.max(1));
         SeriesImpedance {
             r_pu: c.r_ohm_per_km * km_per_run / z_base_ohm,
             x_pu: c.x_ohm_per_km * km_per_run / z_base_ohm,
+            growth: Growth::Cable {
+                xs2_fundamental: cable_xs2(c.r_ohm_per_km, frequency_hz),
+            },
         }
     }
 
     /// Z(h) = R·k(h) + j·h·X, per unit.
     pub fn at(self, order: f64, rm: ResistanceModel) -> Complex64 {
-        Complex64::new(self.r_pu * rm.factor(order), order * self.x_pu)
+        Complex64::new(self.r_pu * self.growth.factor(order, rm), order * self.x_pu)
     }
 }
 
@@ -63,10 +72,15 @@ impl SeriesImpedance {
 pub enum ShuntModel {
     /// Series R-L to the reference (source Thevenin impedance): Y = 1 / (R·k(h) + j·h·X).
     SeriesRl(SeriesImpedance),
-    /// Linear load as a parallel R-L: Y = G + 1/(j·h·X_L), with G = P/kV² and 1/X_L = Q/kV²
-    /// in per unit (input contract, sheet `Loads`). The resistance model does not apply.
-    ParallelRl { g_pu: f64, b_l_pu: f64 },
-    /// Induction motor: Y = 1 / (R + j·h·X''), R independent of h (input contract).
+    /// Linear load drawing P and Q (per unit at nominal voltage) at the fundamental, by the
+    /// study's load model (`damping::linear_load_y_pu`). The resistance model does not apply.
+    LinearLoad {
+        p_pu: f64,
+        q_pu: f64,
+        model: LoadModel,
+    },
+    /// Induction motor: Y = 1 / (R·k(h) + j·h·X''), k(h) the motor law of the resistance
+    /// model (1 under `constant` and `skin`).
     Motor { r_pu: f64, x_pu: f64 },
     /// Shunt capacitance: Y = j·h·B, B the susceptance at fundamental, per unit.
     Capacitance { b_pu: f64 },
@@ -79,6 +93,7 @@ impl ShuntModel {
         ShuntModel::SeriesRl(SeriesImpedance::from_magnitude(
             BASE_MVA / s.short_circuit_mva(kv),
             s.x_over_r,
+            Growth::Source,
         ))
     }
 
@@ -93,14 +108,15 @@ impl ShuntModel {
 
     /// The network model of a load, `None` when it adds no admittance (harmonic-producing
     /// loads are current injections only; a linear load or motor of zero power is absent).
-    pub fn load(l: &Load) -> Option<Self> {
+    pub fn load(l: &Load, model: LoadModel) -> Option<Self> {
         match l.kind {
             LoadType::Linear => {
                 let p_mw = l.p_kw() / 1000.0;
                 let q_mvar = p_mw * l.power_factor.acos().tan();
-                (p_mw > 0.0).then_some(ShuntModel::ParallelRl {
-                    g_pu: p_mw / BASE_MVA,
-                    b_l_pu: q_mvar / BASE_MVA,
+                (p_mw > 0.0).then_some(ShuntModel::LinearLoad {
+                    p_pu: p_mw / BASE_MVA,
+                    q_pu: q_mvar / BASE_MVA,
+                    model,
                 })
             }
             LoadType::Motor => {
@@ -122,8 +138,12 @@ impl ShuntModel {
     pub fn y_pu(&self, order: f64, rm: ResistanceModel) -> Complex64 {
         match *self {
             ShuntModel::SeriesRl(z) => z.at(order, rm).inv(),
-            ShuntModel::ParallelRl { g_pu, b_l_pu } => Complex64::new(g_pu, -b_l_pu / order),
-            ShuntModel::Motor { r_pu, x_pu } => Complex64::new(r_pu, order * x_pu).inv(),
+            ShuntModel::LinearLoad { p_pu, q_pu, model } => {
+                linear_load_y_pu(p_pu, q_pu, order, model)
+            }
+            ShuntModel::Motor { r_pu, x_pu } => {
+                Complex64::new(r_pu * Growth::Motor.factor(order, rm), order * x_pu).inv()
+            }
             ShuntModel::Capacitance { b_pu } => Complex64::new(0.0, order * b_pu),
         }
     }
@@ -180,6 +200,7 @@ impl BankModel {
         }
         let xl = self.p * self.xc_step_pu;
         let rl = xl / self.reactor_q;
-        Complex64::new(rl * rm.factor(order), order * xl - self.xc_step_pu / order).inv()
+        let k = Growth::Reactor.factor(order, rm);
+        Complex64::new(rl * k, order * xl - self.xc_step_pu / order).inv()
     }
 }

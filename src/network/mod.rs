@@ -11,6 +11,7 @@
 //! Transformer phase shifts are not in Y: each bus carries the shift of its zone
 //! (`zone_deg`), applied to injections and voltages (see `sequence.rs`).
 
+pub mod damping;
 mod elements;
 mod sequence;
 mod topology;
@@ -20,7 +21,7 @@ pub use topology::TopologyError;
 
 use num_complex::Complex64;
 
-use crate::model::{Plant, ResistanceModel, Sequence};
+use crate::model::{LoadModel, Plant, ResistanceModel, Sequence};
 
 /// System base power, MVA three-phase.
 pub const BASE_MVA: f64 = 100.0;
@@ -71,6 +72,8 @@ pub struct Scenario {
 pub struct Network {
     pub frequency_hz: f64,
     pub resistance: ResistanceModel,
+    /// How linear loads are modelled at harmonic orders (each load's shunt carries it).
+    pub load_model: LoadModel,
     pub buses: Vec<NetBus>,
     pub branches: Vec<Branch>,
     /// Loads, motors and cable charging: in service in every scenario.
@@ -160,7 +163,7 @@ impl Network {
                 id: format!("cable {}", c.id),
                 from,
                 to,
-                z: SeriesImpedance::cable(c, zb),
+                z: SeriesImpedance::cable(c, zb, plant.study.frequency_hz),
                 index: branches.len(),
                 shift_deg: 0.0,
             });
@@ -176,7 +179,7 @@ impl Network {
         }
         for l in &plant.loads {
             let bus = find(&l.bus, &l.id)?;
-            if let Some(model) = ShuntModel::load(l) {
+            if let Some(model) = ShuntModel::load(l, plant.study.load_model) {
                 shunts.push(Shunt {
                     id: format!("load {}", l.id),
                     bus,
@@ -230,6 +233,7 @@ impl Network {
         let mut net = Network {
             frequency_hz: plant.study.frequency_hz,
             resistance: plant.study.resistance_model,
+            load_model: plant.study.load_model,
             buses,
             branches,
             shunts,

@@ -13,6 +13,7 @@
 
 use std::collections::VecDeque;
 
+use super::damping::Growth;
 use super::{BASE_MVA, Branch, Network, SeriesImpedance, Shunt, ShuntModel, TopologyError};
 use crate::model::{Plant, Sequence, ZeroPath};
 
@@ -112,6 +113,7 @@ impl Network {
             let z0 = SeriesImpedance::from_magnitude(
                 z_pct / 100.0 * BASE_MVA / (t.kva / 1000.0),
                 t.x_over_r,
+                Growth::Transformer,
             );
             let shunt = |bus: usize| Shunt {
                 id: format!("transformer {} zero sequence", t.id),
@@ -156,6 +158,7 @@ impl Network {
                     model: ShuntModel::SeriesRl(SeriesImpedance::from_magnitude(
                         BASE_MVA / mva,
                         s.zero_x_over_r.unwrap_or(s.x_over_r),
+                        Growth::Source,
                     )),
                 }
             })
@@ -172,6 +175,7 @@ impl Network {
         let mut zero = Network {
             frequency_hz: self.frequency_hz,
             resistance: self.resistance,
+            load_model: self.load_model,
             buses: self.buses.clone(),
             branches,
             shunts,

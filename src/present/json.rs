@@ -37,6 +37,10 @@ struct DistortionJson<'a> {
 #[derive(Serialize)]
 struct ModelJson<'a> {
     scope: &'static str,
+    /// The Study sheet's resistance and load models, and what they mean.
+    resistance_model: crate::model::ResistanceModel,
+    load_model: crate::model::LoadModel,
+    damping_meaning: String,
     summation: &'static str,
     summation_meaning: &'static str,
     /// The sequence of each injected order, in `injected_orders` order.
@@ -67,6 +71,15 @@ struct OperatingJson<'a> {
     kvar_needed: &'a [crate::study::operating::KvarNeed],
 }
 
+/// Every flagged resonance's key figures under the study's models and the least-damped
+/// ones (`rows` empty when nothing is flagged).
+#[derive(Serialize)]
+struct DampingJson<'a> {
+    least_damped_resistance_model: crate::model::ResistanceModel,
+    least_damped_load_model: crate::model::LoadModel,
+    rows: &'a [crate::jobs::damping::DampingBand],
+}
+
 /// Scenario × configuration × bus entries above which per-bus checks are left out of the
 /// JSON (the limit rows, with each configuration's worst bus, stay).
 pub const MAX_BUS_ENTRIES: usize = 200_000;
@@ -95,6 +108,7 @@ pub struct Summary<'a> {
     tolerance: &'a [crate::study::tolerance::ToleranceBand],
     transients: &'a [crate::study::switching::SwitchingEvent],
     remedies: &'a [crate::jobs::check::BankRemedies],
+    damping: DampingJson<'a>,
     assumptions: &'a [Note],
     cautions: &'static [&'static str],
 }
@@ -158,6 +172,11 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         tolerance: &res.tolerance,
         transients: &res.switching.events,
         remedies: &res.remedies,
+        damping: DampingJson {
+            least_damped_resistance_model: crate::model::LEAST_DAMPED.0,
+            least_damped_load_model: crate::model::LEAST_DAMPED.1,
+            rows: &res.damping,
+        },
         assumptions: &res.notes,
         cautions: crate::present::cautions::CAUTIONS,
     }
@@ -189,8 +208,12 @@ fn distortion(res: &CheckResults) -> Vec<DistortionJson<'_>> {
 /// connections, background and the zero-sequence scan's peaks.
 fn model(res: &CheckResults) -> ModelJson<'_> {
     let f = res.plant.study.frequency_hz;
+    let study = &res.plant.study;
     ModelJson {
         scope: crate::present::model_scope(),
+        resistance_model: study.resistance_model,
+        load_model: study.load_model,
+        damping_meaning: crate::present::damping_meaning(study.resistance_model, study.load_model),
         summation: crate::present::terminal::summary::summation_word(res.plant.study.summation),
         summation_meaning: crate::present::summation_meaning(res.plant.study.summation),
         order_sequences: &res.penetration.injections.sequences,

@@ -11,7 +11,7 @@ pub mod sources;
 pub mod terminal;
 pub mod words;
 
-pub use words::{model_scope, summation_meaning, switching_scope};
+pub use words::{damping_meaning, damping_words, model_scope, summation_meaning, switching_scope};
 
 /// A bank's series reactor in words: `7 % detuned`, `tuned at 4.7`; `None` for a plain bank.
 pub fn reactor_words(r: crate::model::Reactor) -> Option<String> {

@@ -123,8 +123,18 @@ pub const SOURCES: &[(&str, &str, &str)] = &[
         "common practice",
     ),
     (
-        "Resistance growing as √h (skin); linear load as parallel R-L; motor as R + jhX''",
-        "IEEE task force on harmonic modelling (1996)",
+        "R·√h for sources and reactors (skin); motor R + jhX''; linear load as parallel R-L",
+        "IEEE harmonics-modelling task force, IEEE Trans. PWRD 11(1), 1996",
+        "from memory",
+    ),
+    (
+        "Transformer, motor R·(1 + 0.1·h^1.5)/1.1; cable R by the IEC 60287-1-1 skin effect y_s",
+        "Breuer et al., IEEE Trans. PAS-101(3), 1982; IEC 60287-1-1 clause 2.1.2",
+        "from memory",
+    ),
+    (
+        "CIGRE load: R_s = V²/P + jX_s = 0.073·h·R_s, parallel X_p = h·R_s/(6.7·Q/P − 0.74)",
+        "CIGRE WG 36-05, Electra 77, 1981",
         "from memory",
     ),
     (

@@ -2,7 +2,7 @@
 //! and the review workbook.
 
 use crate::model::Sequence;
-use crate::model::Summation;
+use crate::model::{LoadModel, ResistanceModel, Summation};
 use crate::study::operating::{OperatingPoint, PfVerdict};
 use crate::study::remedy::RemedyResult;
 use crate::study::resonance::{ResonanceRow, Verdict};
@@ -15,6 +15,36 @@ pub fn model_scope() -> &'static str {
 /// What the switching simulation models, in one paragraph (report and review).
 pub fn switching_scope() -> &'static str {
     "Switching: time-domain simulation (trapezoidal rule, companion models) of each capacitor step closing its three poles at once, exact for the balanced plant in Clarke components (the zero sequence is not excited, so the bank's connection does not change the peaks); the network at its fundamental parameters (R at h = 1 also under the skin model): sources as EMFs of Voltage (pu) behind R-L, transformers and cables as R-L with cable charging (C/2 at each end behind the cable's surge impedance), every energized step with its reactor and its inrush inductance (default 10 µH per step, common practice), linear loads as the parallel R-L drawing their P and Q at the load flow's voltage, motors as an EMF behind R + jX'', converters as their fundamental current, so the state before closing is the operating point of that configuration; every closing instant over a cycle at once by superposition, each figure at its worst; trapped charge as a balanced set whose largest phase holds the given value, at the worst polarity; the other banks at their highest studied step; peaks read in the first cycle at a time step of 1/60 of the fastest capacitor loop's period at the bus (at most 100,000 steps), then a step of 1/20 of it until the inrush decays below 5 % (at least 5 cycles, at most 60 cycles or 100,000 steps). Not modelled: arcs, restrikes and prestrikes, breaker pole scatter, surge arresters, saturation, frequency-dependent losses. The IEEE C37.012 formulas (from memory; undamped, closing at the voltage peak, scaled by 1 + |trapped charge|) stand beside each event as the hand check."
+}
+
+/// The damping models in a few words, as the verdict line states them.
+pub fn damping_words(rm: ResistanceModel, lm: LoadModel) -> String {
+    format!("{} R, {} loads", rm.word(), lm.word())
+}
+
+/// What the Study sheet's resistance and load models mean, in one paragraph (review
+/// Assumptions, README).
+pub fn damping_meaning(rm: ResistanceModel, lm: LoadModel) -> String {
+    let r = match rm {
+        ResistanceModel::Constant => {
+            "resistance model constant: every R at its fundamental value at every order (the least damping, pessimistic)"
+        }
+        ResistanceModel::Skin => {
+            "resistance model skin: R·√h on sources, transformers, cables and reactors, motors' R constant"
+        }
+        ResistanceModel::FrequencyDependent => {
+            "resistance model frequency-dependent: sources and detuning reactors R·√h (IEEE harmonics-modelling task force, 1996); transformers and motors R·(1 + 0.1·h^1.5)/1.1 (Breuer et al., IEEE Trans. PAS, 1982, kept at R at h = 1); cables R·(1 + y_s(h))/(1 + y_s(1)) with the skin-effect factor y_s of IEC 60287-1-1"
+        }
+    };
+    let l = match lm {
+        LoadModel::ParallelRl => "linear loads as R = V²/P in parallel with X = h·V²/Q",
+        LoadModel::Cigre => {
+            "linear loads by the CIGRE model: R_s = V²/P in series with X_s = 0.073·h·R_s, in parallel with X_p = h·R_s/(6.7·Q/P − 0.74) (CIGRE WG 36-05, Electra 77, 1981)"
+        }
+    };
+    format!(
+        "Damping: {r}; {l}; motors R + jhX'' with X'' = 0.17 pu on kW·qty/pf and X''/R = 10 at the fundamental; converters add no damping. Every flagged resonance's amplification, bus THD and capacitor current are also given under the least-damped models (constant R, CIGRE loads)."
+    )
 }
 
 /// What the Study sheet's summation law means for the results.

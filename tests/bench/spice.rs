@@ -52,11 +52,12 @@ fn netlist(net: &Network, s: usize, steps: &[u32], at: usize, out: &str) -> Stri
         match sh.model {
             ShuntModel::SeriesRl(z) => rl_to(&mut n, id(), node, "0", z.r_pu, z.x_pu),
             ShuntModel::Motor { r_pu, x_pu } => rl_to(&mut n, id(), node, "0", r_pu, x_pu),
-            ShuntModel::ParallelRl { g_pu, b_l_pu } => {
+            // The netlist holds the parallel R-L load model (the plant is studied under it).
+            ShuntModel::LinearLoad { p_pu, q_pu, .. } => {
                 let i = id();
-                let _ = writeln!(n, "R{i} {node} 0 {:e}", 1.0 / g_pu);
-                if b_l_pu > 0.0 {
-                    let _ = writeln!(n, "L{i} {node} 0 {:e}", 1.0 / b_l_pu / w1);
+                let _ = writeln!(n, "R{i} {node} 0 {:e}", 1.0 / p_pu);
+                if q_pu > 0.0 {
+                    let _ = writeln!(n, "L{i} {node} 0 {:e}", 1.0 / q_pu / w1);
                 }
             }
             ShuntModel::Capacitance { b_pu } => {
@@ -96,7 +97,11 @@ fn main() {
         println!("ngspice is not installed (Debian: apt-get install ngspice); nothing to compare");
         return;
     }
-    let plant = with_two_scenarios(generated_plant(300, 0, 4, 6, 17));
+    let mut plant = with_two_scenarios(generated_plant(300, 0, 4, 6, 17));
+    // The netlist's elements are frequency-independent R, L and C: the constant-R,
+    // parallel R-L models.
+    plant.study.resistance_model = overtone::model::ResistanceModel::Constant;
+    plant.study.load_model = overtone::model::LoadModel::ParallelRl;
     let t = Instant::now();
     let res = run_check(&plant, &Default::default()).expect("runs");
     let overtone_s = t.elapsed().as_secs_f64();

@@ -12,6 +12,16 @@ pub fn assert_close(got: f64, expected: f64, rel: f64) {
     );
 }
 
+/// A plant at `hz` under the models the hand formulas and the circuit simulator's netlists
+/// use: constant resistance and linear loads as parallel R-L (the Study sheet's `constant`
+/// and `parallel R-L`; the defaults add frequency-dependent damping).
+pub fn textbook_plant(hz: f64) -> Plant {
+    let mut p = Plant::new(hz);
+    p.study.resistance_model = ResistanceModel::Constant;
+    p.study.load_model = LoadModel::ParallelRl;
+    p
+}
+
 pub fn bus(id: &str, kv: f64) -> Bus {
     Bus {
         id: id.into(),
@@ -221,7 +231,7 @@ pub fn service(
     (mva, x_over_r): (f64, f64),
     (kva, z_percent, t_x_over_r): (f64, f64, f64),
 ) -> Plant {
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses = vec![bus(hv.0, hv.1), bus(lv.0, lv.1)];
     p.sources = vec![source("U", hv.0, mva, x_over_r)];
     p.transformers = vec![transformer("T", hv.0, lv.0, kva, z_percent, t_x_over_r)];

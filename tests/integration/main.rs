@@ -1,7 +1,8 @@
 //! The integration tests, one binary. Where new tests go:
 //! - `reference_resonance`, `reference_operating` (load flow), `reference_capacitors`,
 //!   `reference_limits`, `reference_sequence` (sequence networks, background, phasor sums),
-//!   `reference_data` (built-in data and helpers): checks against published or textbook
+//!   `reference_damping` (resistance and load models), `reference_data` (built-in data and
+//!   helpers): checks against published or textbook
 //!   values (source named beside each);
 //! - `simulator`: phasor summation with background against ngspice (when installed);
 //! - `solver`: sparse factorization and step-combination engine against independent dense algebra;
@@ -30,6 +31,7 @@ mod printed;
 mod properties;
 mod reader;
 mod reference_capacitors;
+mod reference_damping;
 mod reference_data;
 mod reference_limits;
 mod reference_operating;

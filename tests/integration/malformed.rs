@@ -362,7 +362,7 @@ fn malformed_cells_each_give_their_message_and_cell() {
         ),
         (
             Book::base().set("Study", "B4", s("linear")),
-            "Study!B4: \"Resistance model\" must be constant or skin, found \"linear\"",
+            "Study!B4: \"Resistance model\" must be frequency-dependent, constant or skin, found \"linear\"",
         ),
         (
             Book::base().set("Study", "B5", s("IEEE 519-1992")),
@@ -710,7 +710,7 @@ fn every_study_item_out_of_range_at_its_cell() {
             "B4",
             None,
             s("quadratic"),
-            "Study!B4: \"Resistance model\" must be constant or skin, found \"quadratic\"",
+            "Study!B4: \"Resistance model\" must be frequency-dependent, constant or skin, found \"quadratic\"",
         ),
         (
             "B5",
@@ -747,6 +747,12 @@ fn every_study_item_out_of_range_at_its_cell() {
             Some("Resonance margin (%)"),
             N(150.0),
             "Study!B7: \"Resonance margin\" must be between 0 and 100 %, found 150",
+        ),
+        (
+            "B7",
+            Some("Load model"),
+            s("constant impedance"),
+            "Study!B7: \"Load model\" must be CIGRE or parallel R-L, found \"constant impedance\"",
         ),
         (
             "B7",

@@ -84,7 +84,7 @@ proptest! {
         let (l, c) = (l_mh * 1e-3, c_uf * 1e-6);
         let f0 = 1.0 / (2.0 * std::f64::consts::PI * (l * c).sqrt());
         prop_assume!(f0 > 70.0 && f0 < 2900.0);
-        let mut p = Plant::new(60.0);
+        let mut p = textbook_plant(60.0);
         p.buses.push(bus("B", 1.0));
         p.sources.push(source("L", "B", 1.0 / (w * l), 1e7));
         p.loads.push(load("R", "B", LoadType::Linear, 1000.0 / r_ohm, 1.0));

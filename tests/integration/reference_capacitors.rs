@@ -148,7 +148,7 @@ fn detuning_table_capacitor_voltages() {
 fn filter_at_4_7_dips_there_and_peaks_below_at_the_hand_order() {
     // Single-tuned filter (tests/references.md): X_L = X_C/h_t², the step's series resonance at
     // h_t; the parallel resonance with the supply below it at h_p = √(X_C/(X_sys + X_L)).
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses.push(bus("B", 0.48));
     p.sources.push(source("S", "B", 25.0, 100.0));
     p.banks
@@ -216,7 +216,7 @@ fn tolerance_band_reaches_the_5th_that_the_nominal_clears() {
     // A plain bank whose nominal resonance (≈ 5.6) is 12 % above the 5th, outside the 10 %
     // margin; with +10 % capacitance it moves to 5.6/√1.1 ≈ 5.34 (textbook: f ∝ 1/√C,
     // df/f ≈ −½·dC/C), inside the margin: flagged by the band, not by the nominal check.
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.study.capacitance_tolerance = Tolerance {
         minus_percent: 0.0,
         plus_percent: 10.0,
@@ -255,7 +255,7 @@ fn tolerance_band_against_rescans_with_scaled_capacitance() {
     // and 3e-5 (detuned), asked to 1e-4.
     for reactor in [Reactor::None, Reactor::Detuning { percent: 7.0 }] {
         let plant = |scale: f64| {
-            let mut p = Plant::new(60.0);
+            let mut p = textbook_plant(60.0);
             p.study.capacitance_tolerance = Tolerance {
                 minus_percent: -5.0,
                 plus_percent: 10.0,

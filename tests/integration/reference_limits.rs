@@ -160,7 +160,7 @@ fn iec_61000_2_4_every_stored_cell_of_every_class() {
 
 /// One bus: a source, a drive with a two-line spectrum and a plain bank.
 fn single_bus(law: Summation, drives: usize) -> Plant {
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.study.summation = law;
     p.study.max_demand_current_a = Some(400.0);
     p.buses.push(bus("B", 0.48));
@@ -390,7 +390,7 @@ fn iec_limit_sets_end_to_end() {
     // PCC current limit, so no TDD or Ih limit), THD 8 % at every bus, the 5th at 6 %; the
     // capacitors held to IEC 60831-1 up to 1 kV rated and IEC 60871-1 above (tests/references.md,
     // IEC capacitor standards: 1.10 U_n and 1.30 I_n, from memory).
-    let mut p = Plant::new(50.0);
+    let mut p = textbook_plant(50.0);
     p.study.limits = LimitSet::Iec61000_2_4Class2;
     p.study.max_demand_current_a = Some(100.0);
     p.buses = vec![bus("MV", 11.0), bus("LV", 0.4)];

@@ -6,7 +6,7 @@ use num_complex::Complex64;
 use overtone::jobs::check::{CheckOptions, CheckResults, run_check};
 use overtone::model::*;
 
-use crate::common::{assert_close, bank, bus, load, source};
+use crate::common::{assert_close, bank, bus, load, source, textbook_plant};
 
 fn run(p: &Plant) -> CheckResults {
     run_check(
@@ -49,7 +49,7 @@ fn two_bus_matches_the_closed_form() {
     // Textbook: a constant-power load S = P + jQ fed from an EMF E through Z = R + jX has
     // |V|⁴ + (2(RP + XQ) − E²)|V|² + |Z|²|S|² = 0, whose upper root is the operating point:
     // |V|² = (E² − 2(RP+XQ) + √((E² − 2(RP+XQ))² − 4|Z|²|S|²)) / 2 (all per unit).
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses = vec![bus("B", 13.8)];
     let mut s = source("U", "B", 40.0, 6.0);
     s.voltage_pu = 1.03;
@@ -79,7 +79,7 @@ fn textbook_three_bus_example() {
     // slack power 409.5 MW + j189 Mvar (printed to 4 decimals / 0.1 MW; data from memory,
     // and these voltages reproduce the scheduled loads exactly). The slack bus is a source
     // of 1e8 MVA (z = 1e-6 pu), which shifts the voltages by about 5e-6 pu.
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     // 100 kV buses: Z_base = 100 ohm, so a 1 km line of R, X ohm is R/100, X/100 pu.
     p.buses = vec![bus("B1", 100.0), bus("B2", 100.0), bus("B3", 100.0)];
     let mut s = source("SLACK", "B1", 1e8, 10.0);
@@ -121,7 +121,7 @@ fn textbook_three_bus_example() {
 
 /// A stiff 13.8 kV bus with a load and one bank of `steps` × `kvar` at its rated kV.
 fn stiff(steps: u32, kvar: f64) -> Plant {
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses = vec![bus("B", 13.8)];
     p.sources = vec![source("U", "B", 500.0, 10.0)];
     p.loads = vec![load("L", "B", LoadType::Linear, 4000.0, 0.85)];
@@ -192,7 +192,7 @@ fn overloaded_feeder_has_no_solution_and_is_said() {
     // can draw through R is V²/(4R) = 0.238 MW (textbook maximum power transfer), so the load
     // flow has no solution; the report names scenario and configuration, the other studies
     // still run.
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses = vec![bus("A", 0.69), bus("B", 0.69)];
     p.sources = vec![source("U", "A", 50.0, 10.0)];
     p.cables = vec![line("K", "A", "B", 0.5, 0.05)];
@@ -236,7 +236,7 @@ fn a_transformer_far_below_its_load_collapses_and_the_verdict_says_why() {
     // load-flow solution. The verdict block says so with the scenario and the likely cause
     // (the transformer's load against its rating: 2000/0.85 = 2353 kVA on 25 kVA), and the
     // collapse note comes first among the notes (issue 31).
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
     p.sources = vec![source("U", "HV", 250.0, 10.0)];
     p.transformers = vec![crate::common::transformer("T1", "HV", "LV", 25.0, 5.0, 8.0)];

@@ -45,7 +45,7 @@ fn series_lc_dip_at_the_textbook_ring_frequency() {
     // far above the L-C branch near its resonance) and a detuned step whose reactor is the
     // 67 mH (p = X_L/X_C at 60 Hz) and whose capacitor is the 100 nF; the scan's deepest
     // dip must sit at 1944 Hz within 1 Hz.
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.study.highest_order = 40.0;
     p.buses.push(bus("B", 1.0));
     p.sources.push(source("S", "B", 1.0 / 10_000.0, 50.0));
@@ -75,7 +75,7 @@ fn parallel_rlc_peak_is_r_at_f0() {
     // load the resistor, a plain bank the capacitor. Textbook: |Z| is maximum, equal to R,
     // at f0 = 1/(2π√(LC)).
     let r_ohm = 1000.0;
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses.push(bus("B", 1.0));
     p.sources.push(source("L", "B", 1.0 / x_l_ohm(), 1e6));
     p.loads
@@ -110,7 +110,7 @@ fn series_rlc_dip_is_r_at_f0() {
     // Series R-L-C: a detuned step is R_L + j(h·X_L − X_C/h). Textbook: |Z| is minimum,
     // equal to R, at f0. The source is made very weak so the bus sees the step alone.
     let r_ohm = 10.0;
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses.push(bus("B", 1.0));
     p.sources.push(source("S", "B", 1e-9, 1.0));
     let mut c = bank(
@@ -142,7 +142,7 @@ fn series_rlc_dip_is_r_at_f0() {
 
 /// Hand check and scan for a plain bank behind a transformer.
 fn bank_behind_transformer(utility_mva: f64, kva: f64, z_percent: f64, kvar: f64) -> CheckResults {
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses.push(bus("HV", 13.8));
     p.buses.push(bus("LV", 0.48));
     p.sources.push(source("U", "HV", utility_mva, 200.0));
@@ -179,7 +179,7 @@ fn detuning_table_orders() {
     // 14 % -> 2.673; tuning order 1/√p. The series-resonance dip of a single detuned step
     // at its bus (weak source, constant resistance) within 0.001 order.
     for (percent, expected) in [(5.67, 4.200), (7.0, 3.780), (14.0, 2.673)] {
-        let mut p = Plant::new(50.0);
+        let mut p = textbook_plant(50.0);
         p.buses.push(bus("B", 0.4));
         p.sources.push(source("S", "B", 0.01, 5.0));
         p.banks
@@ -199,7 +199,7 @@ fn detuning_table_orders() {
 fn tuned_order_is_where_the_dip_lands() {
     // Single-tuned filter (tests/references.md): X_L = X_C / h_t², so the step's series resonance
     // is at h_t; here h_t = 4.7 (common practice for the 5th).
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses.push(bus("B", 0.48));
     p.sources.push(source("S", "B", 0.01, 5.0));
     p.banks
@@ -217,7 +217,7 @@ fn detuned_hand_order_by_hand() {
     // √(X_C/(|Z_th| + X_L)) = 3.4300 (the plain law with the reactor's inductance added,
     // textbook); the lossless parallel resonance with X_th = 5/√1.01 is 3.4315, and the
     // scanned peak lies within 0.2 % of it.
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses.push(bus("B", 0.48));
     p.sources.push(source("U", "B", 20.0, 10.0));
     p.banks.push(bank(
@@ -243,7 +243,7 @@ fn hand_check_counts_every_step_on_the_bus() {
     // With both on, the hand check is h = √(S_sc/Q_c) with Q_c = 800 kvar, the capacitance
     // the supply resonates with: √(20/0.8) = 5.00 (common practice); with one, √(20/0.4)
     // = 7.07. The scanned peak agrees within 1 %.
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses = vec![bus("B", 0.48)];
     p.sources = vec![source("U", "B", 20.0, 10.0)];
     p.banks = vec![

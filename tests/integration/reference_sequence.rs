@@ -18,7 +18,7 @@ fn bus_index(res: &CheckResults, id: &str) -> usize {
 /// A 13.8 kV service feeding two identical 480 V drive buses through 1500 kVA
 /// transformers of groups `a` and `b`, one 500 kW 6-pulse drive on each.
 fn drive_pair(a: &str, b: &str, law: Summation) -> Plant {
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.study.pcc_bus = Some("MV".into());
     p.study.summation = law;
     p.study.max_demand_current_a = Some(100.0);
@@ -95,7 +95,7 @@ fn twelve_pulse_pair_cancels_the_5th_and_7th_at_the_common_bus() {
 /// 13.8 kV service (250 MVA, X/R 10), a Dyn1 2000 kVA 5.75 % X/R 8 transformer and a
 /// 480 V bus with 300 kW of single-phase electronic load; optionally a 375 kvar bank.
 fn electronic_behind_dyn(connection: Option<BankConnection>) -> Plant {
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.study.pcc_bus = Some("HV".into());
     p.study.max_demand_current_a = Some(50.0);
     p.buses = vec![bus("HV", 13.8), bus("LV", 0.48)];
@@ -247,7 +247,7 @@ fn a_grounded_wye_bank_behind_a_delta_winding_has_no_zero_sequence_result() {
 /// A 13.8 kV service with a 2 % 5th behind it (angle 30°), a 500 m cable and a 1200 kvar
 /// plain wye bank; no loads.
 fn background_only(law: Summation) -> Plant {
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.study.pcc_bus = Some("PCC".into());
     p.study.summation = law;
     p.study.max_demand_current_a = Some(100.0);
@@ -314,7 +314,7 @@ fn phasor_sum_of_two_drives_on_one_bus_by_hand() {
     // V_h = |Z(h)·Σ I_h,k·e^{j(φ_h,k + h·θ1,k)}|. Z(h) by hand: the source R + j·h·X at
     // 480 V (20 MVA, X/R 10) in parallel with a 300 kvar plain bank. θ_V is the load
     // flow's (checked against closed forms in reference_operating).
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.study.summation = Summation::Phasor;
     p.study.max_demand_current_a = Some(400.0);
     p.buses = vec![bus("B", 0.48)];

@@ -106,7 +106,7 @@ fn series_rlc_from_dc_source_matches_textbook_solution() {
 /// One 480 V bus behind a source of `mva` MVA (X/R 50), one plain bank of `steps` steps
 /// of 100 kvar with `inrush_uh` per step, no load.
 fn one_bus(mva: f64, steps: u32, inrush_uh: f64) -> Plant {
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.buses = vec![bus("B", 0.48)];
     p.sources = vec![source("U", "B", mva, 50.0)];
     let mut b = bank("C1", "B", 0.48, 100.0, steps, Reactor::None);

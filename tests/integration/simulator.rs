@@ -18,7 +18,7 @@ const KV: f64 = 4.16;
 /// two cables (one with charging), a plain bank, a linear load, a motor and two converters
 /// with custom spectra.
 fn plant() -> Plant {
-    let mut p = Plant::new(60.0);
+    let mut p = textbook_plant(60.0);
     p.study.pcc_bus = Some("S".into());
     p.study.summation = Summation::Phasor;
     p.study.max_demand_current_a = Some(300.0);

@@ -142,7 +142,8 @@ fn skin_resistance_model_scales_r_by_root_h() {
     // force on harmonic modelling, 1996, from memory) and 1 for `constant`.
     use overtone::model::ResistanceModel;
     use overtone::network::SeriesImpedance;
-    let z = SeriesImpedance::from_magnitude(0.05, 8.0);
+    use overtone::network::damping::Growth;
+    let z = SeriesImpedance::from_magnitude(0.05, 8.0, Growth::Source);
     crate::common::assert_close(z.r_pu, 0.05 / 65f64.sqrt(), 1e-12);
     for h in [1.0, 5.0, 13.7] {
         let skin = z.at(h, ResistanceModel::Skin);

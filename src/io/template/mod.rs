@@ -278,10 +278,7 @@ fn study_values(plant: &Plant) -> Vec<V> {
         s.max_demand_current_a.map_or(Blank, N),
         N(s.highest_order),
         N(s.scan_step_order),
-        t(match s.resistance_model {
-            ResistanceModel::Constant => "constant",
-            ResistanceModel::Skin => "skin",
-        }),
+        t(s.resistance_model.word()),
         t(match s.limits {
             LimitSet::Ieee519_2014 => LIMITS[0],
             LimitSet::Iec61000_2_4Class1 => LIMITS[1],
@@ -301,6 +298,7 @@ fn study_values(plant: &Plant) -> Vec<V> {
             "{}/{}",
             s.voltage_range.low_pu, s.voltage_range.high_pu
         )),
+        t(s.load_model.word()),
     ]
 }
 

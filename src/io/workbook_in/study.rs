@@ -5,7 +5,9 @@ use std::collections::HashMap;
 use calamine::Data;
 
 use super::table::{Column, Diagnostics, Table, a1, normalize, shown};
-use crate::model::{LimitSet, ResistanceModel, StudySettings, Summation, Tolerance, VoltageRange};
+use crate::model::{
+    LimitSet, LoadModel, ResistanceModel, StudySettings, Summation, Tolerance, VoltageRange,
+};
 
 pub const COLUMNS: &[Column] = &[
     Column {
@@ -125,7 +127,16 @@ pub fn read(t: &Table, file_stem: &str, d: &mut Diagnostics) -> (StudySettings, 
                 None => {}
                 Some("constant") => s.resistance_model = ResistanceModel::Constant,
                 Some("skin") => s.resistance_model = ResistanceModel::Skin,
-                Some(_) => bad(d, "constant or skin"),
+                Some("frequencydependent") => {
+                    s.resistance_model = ResistanceModel::FrequencyDependent
+                }
+                Some(_) => bad(d, "frequency-dependent, constant or skin"),
+            },
+            "loadmodel" => match text().map(|v| normalize(&v)).as_deref() {
+                None => {}
+                Some("cigre") => s.load_model = LoadModel::Cigre,
+                Some("parallelrl") => s.load_model = LoadModel::ParallelRl,
+                Some(_) => bad(d, "CIGRE or parallel R-L"),
             },
             "limits" => match text() {
                 None => {}

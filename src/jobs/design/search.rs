@@ -59,6 +59,7 @@ fn check_options(options: &DesignOptions, scan_only: bool) -> CheckOptions {
         scan_only,
         switching: false,
         evaluation: options.evaluation,
+        damping_band: Some(false),
         ..Default::default()
     }
 }

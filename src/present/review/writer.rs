@@ -69,10 +69,8 @@ pub fn header(ws: &mut Worksheet, row: u32, headers: &[(&str, f64)]) -> Result<(
 /// Rows a long table prints: the rest stay on the sheet, hidden.
 pub const PRINTED_ROWS: usize = 45;
 
-/// Tables up to this many rows (about two printed pages) print whole.
-pub const PRINTED_WHOLE: usize = 90;
-
-/// Keeps the printout of a table longer than [`PRINTED_WHOLE`] rows to [`PRINTED_ROWS`]:
+/// Keeps the printout of a table longer than 2 × [`PRINTED_ROWS`] rows (about two printed
+/// pages) to [`PRINTED_ROWS`]:
 /// the flagged rows first, then the most severe (`keys[i]` = (flagged, severity) of the table's row `first + i`); the other
 /// rows are hidden, not removed (every row and formula stays on the sheet for the audit).
 /// The page header says how many rows print and how to see the rest; an autofilter on
@@ -84,6 +82,18 @@ pub fn print_digest(
     keys: &[(bool, f64)],
     what: &str,
 ) -> Result<(), XlsxError> {
+    print_digest_of(ws, first, last_col, keys, what, PRINTED_ROWS)
+}
+
+/// [`print_digest`] printing `printed` rows of a table longer than 2 × `printed`.
+pub fn print_digest_of(
+    ws: &mut Worksheet,
+    first: u32,
+    last_col: u16,
+    keys: &[(bool, f64)],
+    what: &str,
+    printed: usize,
+) -> Result<(), XlsxError> {
     if keys.is_empty() {
         return Ok(());
     }
@@ -93,7 +103,7 @@ pub fn print_digest(
         first + keys.len() as u32 - 1,
         last_col,
     )?;
-    if keys.len() <= PRINTED_WHOLE {
+    if keys.len() <= 2 * printed {
         return Ok(());
     }
     let mut order: Vec<usize> = (0..keys.len()).collect();
@@ -105,11 +115,11 @@ pub fn print_digest(
             .then(a.cmp(&b))
     });
     let flagged = keys.iter().filter(|k| k.0).count();
-    for &i in &order[PRINTED_ROWS..] {
+    for &i in &order[printed..] {
         ws.set_row_hidden(first + i as u32)?;
     }
     ws.set_header(format!(
-        "&L{what}: {PRINTED_ROWS} of {} rows printed ({flagged} flagged): the flagged, then the most severe, in table order; every row is on the sheet (unhide rows to see them all)&R&P / &N",
+        "&L{what}: {printed} of {} rows printed ({flagged} flagged): the flagged, then the most severe, in table order; every row is on the sheet (unhide rows to see them all)&R&P / &N",
         keys.len()
     ));
     Ok(())

@@ -141,7 +141,18 @@ fn bank_word(res: &CheckResults, bank: &str) -> &'static str {
 /// Writes the verdict block: a sentence per bank (and its recommended remedy), one for the
 /// plant, and the plant-level limits note.
 pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
-    writeln!(out, "VERDICT (the tables below give every figure)")?;
+    let study = &res.plant.study;
+    let models = (study.resistance_model, study.load_model);
+    writeln!(
+        out,
+        "VERDICT (the tables below give every figure; damping: {}{})",
+        crate::present::damping_words(models.0, models.1),
+        if models == crate::model::LEAST_DAMPED {
+            ", the least damped"
+        } else {
+            ""
+        }
+    )?;
     let not_studied = res
         .notes
         .iter()
@@ -206,6 +217,9 @@ fn write_bank_verdict(
         &format!("{head}{}.", bank_line(res, &b.id)),
         WIDTH,
     )?;
+    if let Some(line) = damping_line(res, &b.id) {
+        write_hanging(out, "  ~ ", "    ", &line, WIDTH)?;
+    }
     if let Some(br) = res.remedies.iter().find(|r| r.bank == b.id)
         && let Some(x) = br.results.first()
     {
@@ -238,6 +252,55 @@ fn write_bank_verdict(
         write_hanging(out, "  > ", "    ", &why.to_string(), WIDTH)?;
     }
     Ok(())
+}
+
+/// A flagged bank's key figures at its flagged resonances under the least-damped models,
+/// each the worst over those rows, with the study's own in brackets; `None` when the bank
+/// has no flagged resonance.
+fn damping_line(res: &CheckResults, bank: &str) -> Option<String> {
+    let rows: Vec<_> = res.damping.iter().filter(|d| d.bank == bank).collect();
+    let study = &res.plant.study;
+    if rows.is_empty() || (study.resistance_model, study.load_model) == crate::model::LEAST_DAMPED {
+        return None;
+    }
+    let worst = |f: &dyn Fn(&crate::jobs::damping::DampingBand) -> Option<f64>| {
+        rows.iter()
+            .filter_map(|d| f(d))
+            .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+    };
+    let fig = |name: &str, least: Option<f64>, study: Option<f64>, fmt: &dyn Fn(f64) -> String| {
+        least.map(|l| (format!("{name}{}", fmt(l)), study.map_or("-".into(), fmt)))
+    };
+    let figures: Vec<(String, String)> = [
+        fig(
+            "",
+            worst(&|d| d.least_damped.amplification),
+            worst(&|d| d.study.amplification),
+            &|v| format!("x{v:.1}"),
+        ),
+        fig(
+            "THD ",
+            worst(&|d| d.least_damped.bus_thd_percent),
+            worst(&|d| d.study.bus_thd_percent),
+            &|v| format!("{v:.1} %"),
+        ),
+        fig(
+            "cap. current ",
+            worst(&|d| d.least_damped.capacitor_current_percent),
+            worst(&|d| d.study.capacitor_current_percent),
+            &|v| format!("{v:.0} %"),
+        ),
+    ]
+    .into_iter()
+    .flatten()
+    .collect();
+    let least: Vec<&str> = figures.iter().map(|f| f.0.as_str()).collect();
+    let study: Vec<&str> = figures.iter().map(|f| f.1.as_str()).collect();
+    Some(format!(
+        "least damped {} (as studied {})",
+        least.join(", "),
+        study.join(", ")
+    ))
 }
 
 /// The plant in one line: configurations over the harmonic limits (where the limit set

@@ -277,7 +277,8 @@ pub fn setup(
                 }
             }
             LoadType::Motor => {
-                if let Some(ShuntModel::Motor { r_pu, x_pu }) = ShuntModel::load(l) {
+                if let Some(ShuntModel::Motor { r_pu, x_pu }) = ShuntModel::load(l, net.load_model)
+                {
                     let e = v - Complex64::new(r_pu, x_pu) * i;
                     push(
                         bus,

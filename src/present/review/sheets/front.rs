@@ -6,7 +6,7 @@ use super::super::Provenance;
 use super::super::writer::{Cell, header, n, on, row, t};
 use super::verdict_colours;
 use crate::jobs::check::CheckResults;
-use crate::model::{ResistanceModel, Summation};
+use crate::model::Summation;
 use crate::present::limit_set_name;
 use crate::study::Verdict;
 
@@ -33,14 +33,8 @@ fn provenance_items(res: &CheckResults, prov: &Provenance) -> Vec<(&'static str,
             }
             .into(),
         ),
-        (
-            "Resistance model",
-            match p.resistance_model {
-                ResistanceModel::Constant => "constant",
-                ResistanceModel::Skin => "skin",
-            }
-            .into(),
-        ),
+        ("Resistance model", p.resistance_model.word().into()),
+        ("Load model", p.load_model.word().into()),
         (
             "Scan",
             format!("orders 1 to {} at {}", p.highest_order, p.scan_step_order),

@@ -1,5 +1,6 @@
 //! The sheets of the review workbook.
 
+mod damping;
 mod design;
 mod front;
 mod input;
@@ -15,7 +16,6 @@ use rust_xlsxwriter::{
 use super::Provenance;
 use crate::jobs::charts::ScanCharts;
 use crate::jobs::check::CheckResults;
-use crate::model::ResistanceModel;
 use crate::present::cautions::CAUTIONS;
 use crate::present::limit_set_name;
 
@@ -85,6 +85,7 @@ pub fn write_all(
     let charts = scan::scan(wb.add_worksheet().set_name("Scan")?, res, charts)?;
     results::distortion(wb.add_worksheet().set_name("Distortion")?, res)?;
     results::duty(wb.add_worksheet().set_name("Duty")?, res)?;
+    damping::damping(wb.add_worksheet().set_name("Damping")?, res)?;
     results::remedies(wb.add_worksheet().set_name("Remedies")?, res)?;
     switching::switching(wb.add_worksheet().set_name("Switching")?, res)?;
     switching::waveforms(wb.add_worksheet().set_name("Waveforms")?, "Waveforms", res)?;
@@ -120,8 +121,8 @@ fn assumptions(res: &CheckResults) -> Vec<String> {
     let mut a = vec![
         "Every built-in value (limit tables, spectra, defaults, formulas) is listed with its source and confidence on the Sources sheet; a licensed copy of a standard wins over any value here.".to_string(),
         crate::present::model_scope().to_string(),
-        format!("Per-unit base 100 MVA, bus nominal kV; resistance model {} (R·√h with skin).", match p.resistance_model { ResistanceModel::Constant => "constant", ResistanceModel::Skin => "skin" }),
-        "Sources and transformers: series R-L from the fault level or impedance and X/R; cables: pi model; linear loads: parallel R-L (R = V²/P, X = V²/Q); motors: R + jhX'' with X'' = 0.17 pu on kW·qty/pf and X''/R = 10 (defaults of the input contract).".into(),
+        "Per-unit base 100 MVA, bus nominal kV. Sources and transformers: series R-L from the fault level or impedance and X/R; cables: pi model.".into(),
+        crate::present::damping_meaning(p.resistance_model, p.load_model),
         "Capacitor steps: X_C = kV_rated²/Mvar per step; detuned: X_L = p·X_C, R = X_L/Q; tuned: p = 1/order².".into(),
         format!("Harmonic loads inject I_h = I₁·m_h/100, I₁ = P/(√3·kV·pf); {}", crate::present::summation_meaning(p.summation)),
         format!("Limits: {}; interharmonics and orders outside the stored tables have no individual limit (they count in THD/TDD). The PCC current is the current into the scenario's supply equivalents.", limit_set_name(p.limits)),
@@ -183,7 +184,8 @@ fn sources(ws: &mut Worksheet) -> Result<(), XlsxError> {
     ws.set_column_width(1, 45)?;
     ws.set_column_width(2, 25)?;
     ws.set_landscape();
-    ws.set_print_fit_to_pages(1, 0);
+    // One page: the table is a little longer than a landscape page at full size.
+    ws.set_print_fit_to_pages(1, 1);
     Ok(())
 }
 

@@ -1,0 +1,126 @@
+//! How much the verdict leans on damping: the key figures of every flagged resonance (its
+//! peak's amplification, the bank bus's voltage THD and the capacitor current) under the
+//! study's damping models and again under the least-damped ones
+//! ([`crate::model::LEAST_DAMPED`]), re-run over the flagged configurations only.
+
+use serde::Serialize;
+
+use super::results::{CheckError, CheckOptions, CheckResults};
+use super::studies::run_studies;
+use crate::model::{LEAST_DAMPED, Sequence};
+use crate::study::Verdict;
+
+/// The key figures of one bank in one scenario and configuration under one damping model.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct KeyFigures {
+    /// The screened peak's order (`None`: no peak).
+    pub peak_order: Option<f64>,
+    /// |Z| at the peak against no banks, ×.
+    pub amplification: Option<f64>,
+    /// Voltage THD at the bank's bus, % of nominal (`None`: not evaluated).
+    pub bus_thd_percent: Option<f64>,
+    /// The bank's rms current, % of rated (IEEE 18 duty; `None`: no duty row).
+    pub capacitor_current_percent: Option<f64>,
+}
+
+/// One flagged resonance's key figures under the study's models and the least-damped ones.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct DampingBand {
+    pub scenario: String,
+    pub configuration: String,
+    pub bank: String,
+    pub sequence: Sequence,
+    /// Under the Study sheet's resistance and load models.
+    pub study: KeyFigures,
+    /// Under constant resistance and CIGRE loads.
+    pub least_damped: KeyFigures,
+}
+
+/// The key figures of `bank` in (`scenario`, `configuration`, `sequence`) of `res`; `None`
+/// when that row was not studied.
+pub fn key_figures(
+    res: &CheckResults,
+    scenario: &str,
+    configuration: &str,
+    bank: &str,
+    sequence: Sequence,
+) -> Option<KeyFigures> {
+    let row = res.resonance.rows.iter().find(|r| {
+        r.scenario == scenario
+            && r.configuration == configuration
+            && r.bank == bank
+            && r.sequence == sequence
+    })?;
+    let s = (res.network.scenarios.iter()).position(|sc| sc.name == scenario)?;
+    let nc = res.scan.configurations.len();
+    let c = (0..nc).find(|&c| res.label(c) == configuration)?;
+    let bus = (res.network.banks.iter()).find(|b| b.id == bank)?.bus;
+    let thd = (res.penetration.results.get(s * nc + c))
+        .and_then(|d| d.thd_percent.get(bus).copied())
+        .filter(|v| v.is_finite());
+    let current = (res.duty.iter())
+        .find(|d| d.scenario == scenario && d.configuration == configuration && d.bank == bank)
+        .map(|d| d.ratios.rms_current * 100.0);
+    Some(KeyFigures {
+        peak_order: row.peak.map(|p| p.order),
+        amplification: row.peak.map(|p| p.amplification),
+        bus_thd_percent: thd,
+        capacitor_current_percent: current,
+    })
+}
+
+/// The band of every resonance row of `res` flagged `RESONANT`. Under the least-damped
+/// models already, the band's two sides are the same figures; otherwise the plant is
+/// re-run under them over the flagged configurations (and `none`, the reference).
+pub fn damping_bands(
+    res: &CheckResults,
+    options: &CheckOptions,
+) -> Result<Vec<DampingBand>, CheckError> {
+    let flagged: Vec<_> = (res.resonance.rows.iter())
+        .filter(|r| r.verdict == Verdict::Resonant)
+        .collect();
+    if flagged.is_empty() {
+        return Ok(Vec::new());
+    }
+    let study = &res.plant.study;
+    let least = if (study.resistance_model, study.load_model) == LEAST_DAMPED {
+        None
+    } else {
+        let mut plant = res.plant.clone();
+        (plant.study.resistance_model, plant.study.load_model) = LEAST_DAMPED;
+        let mut labels: Vec<String> = Vec::new();
+        for r in &flagged {
+            if !labels.contains(&r.configuration) {
+                labels.push(r.configuration.clone());
+            }
+        }
+        let rerun = CheckOptions {
+            buses: options.buses.clone(),
+            configurations: labels,
+            progress: None,
+            remedies: Some(false),
+            scan_only: false,
+            switching: false,
+            evaluation: options.evaluation,
+            damping_band: Some(false),
+        };
+        Some(run_studies(&plant, &rerun)?)
+    };
+    let least_res = least.as_ref().unwrap_or(res);
+    Ok(flagged
+        .iter()
+        .filter_map(|r| {
+            let key = |x: &CheckResults| {
+                key_figures(x, &r.scenario, &r.configuration, &r.bank, r.sequence)
+            };
+            Some(DampingBand {
+                scenario: r.scenario.clone(),
+                configuration: r.configuration.clone(),
+                bank: r.bank.clone(),
+                sequence: r.sequence,
+                study: key(res)?,
+                least_damped: key(least_res)?,
+            })
+        })
+        .collect())
+}
