@@ -134,6 +134,8 @@ impl CheckResults {
             .rows
             .iter()
             .any(|r| r.verdict == crate::study::Verdict::Resonant)
+            || (self.resonance.pcc_rows.iter())
+                .any(|r| r.verdict == crate::study::Verdict::Resonant)
             || self.limit_rows.iter().any(|r| r.exceeds)
             || self.duty.iter().any(|r| r.exceeds)
             || self.tolerance.iter().any(|t| t.flagged)

@@ -226,7 +226,14 @@ fn screen(
         scan,
         map: &zero_map,
     });
-    let resonance = ResonanceStudy::run(plant, &ctx.network, engine, &scan, zero_view.as_ref())?;
+    let resonance = ResonanceStudy::run(
+        plant,
+        &ctx.network,
+        engine,
+        &scan,
+        zero_view.as_ref(),
+        ctx.pcc,
+    )?;
     Ok(Screen {
         scan,
         zero_scan,

@@ -96,6 +96,82 @@ pub enum Verdict {
     NoPeak,
 }
 
+/// One parallel-resonance peak screened against the characteristic orders.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct ScreenedPeak {
+    pub peak: Extremum,
+    pub nearest_characteristic: Option<f64>,
+    /// (h_peak − h_char) / h_char × 100.
+    pub margin_percent: Option<f64>,
+    /// Within the resonance margin of `nearest_characteristic`.
+    pub resonant: bool,
+}
+
+impl ScreenedPeak {
+    /// Screens `peak` against `chars` with a margin of `margin` percent.
+    pub fn new(peak: Extremum, chars: &[f64], margin: f64) -> Self {
+        let nearest = chars
+            .iter()
+            .copied()
+            .min_by(|x, y| (x - peak.order).abs().total_cmp(&(y - peak.order).abs()));
+        let margin_percent = nearest.map(|h| (peak.order - h) / h * 100.0);
+        ScreenedPeak {
+            peak,
+            nearest_characteristic: nearest,
+            margin_percent,
+            resonant: margin_percent.is_some_and(|m| m.abs() <= margin),
+        }
+    }
+
+    /// True when `self` is the worse of two peaks: a resonant peak before a clear one; among
+    /// resonant peaks the higher amplification; among clear ones the nearer a
+    /// characteristic order (smaller |margin|).
+    pub fn worse(&self, other: &ScreenedPeak) -> bool {
+        match (self.resonant, other.resonant) {
+            (true, false) => true,
+            (false, true) => false,
+            (true, true) => self.peak.amplification > other.peak.amplification,
+            (false, false) => {
+                let m = |p: &ScreenedPeak| p.margin_percent.map_or(f64::INFINITY, f64::abs);
+                m(self) < m(other)
+            }
+        }
+    }
+}
+
+/// The test a scanned maximum of |Z| passes to count as a parallel resonance: the banks
+/// raise |Z| there (amplification against no banks above 1), and the phase of Z passes
+/// through zero at the peak: either |angle at the peak| < 45°, or the reactance changes
+/// from inductive to capacitive between the grid points on either side (a lossless or very
+/// sharp peak, whose angle jumps from +90° to −90°). Near one mode
+/// Z ≈ R / (1 + j·Q·(h/h₀ − h₀/h)) (circuit theory): the angle is 0 at the mode and ±45° at
+/// the half-power orders, so within 45° the zero crossing lies inside the half-power band;
+/// a shoulder whose angle stays beyond 45° on one side (an inductive bump between two
+/// modes) is not a resonance.
+pub fn is_parallel_resonance(peak: &Extremum) -> bool {
+    peak.amplification > 1.0 && (peak.angle_deg.abs() < 45.0 || peak.phase_crosses_zero)
+}
+
+/// The parallel-resonance peaks of `peaks`, screened, in order.
+pub fn screen_peaks(peaks: &[Extremum], chars: &[f64], margin: f64) -> Vec<ScreenedPeak> {
+    peaks
+        .iter()
+        .filter(|p| is_parallel_resonance(p))
+        .map(|p| ScreenedPeak::new(*p, chars, margin))
+        .collect()
+}
+
+/// The worst of `peaks` ([`ScreenedPeak::worse`]; the first of equals).
+pub fn worst_peak(peaks: &[ScreenedPeak]) -> Option<ScreenedPeak> {
+    let mut worst: Option<ScreenedPeak> = None;
+    for p in peaks {
+        if worst.is_none_or(|w| p.worse(&w)) {
+            worst = Some(*p);
+        }
+    }
+    worst
+}
+
 /// One bank in one scenario and configuration: hand check beside scan.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ResonanceRow {
@@ -128,12 +204,19 @@ pub struct ResonanceRow {
     /// detuned steps alone; with plain and detuned steps on the bus, the lossless
     /// susceptance zero of them all.
     pub hand_order: f64,
-    /// The scanned peak at the bank's bus nearest the hand-check order.
+    /// The worst parallel-resonance peak at the bank's bus ([`ScreenedPeak::worse`]): the
+    /// verdict's, whose order and characteristic order the reports name.
     pub peak: Option<Extremum>,
     pub nearest_characteristic: Option<f64>,
-    /// (h_peak − h_char) / h_char × 100.
+    /// (h_peak − h_char) / h_char × 100, of `peak`.
     pub margin_percent: Option<f64>,
+    /// `RESONANT` when any of `peaks` lies within the margin of a characteristic order.
     pub verdict: Verdict,
+    /// Every parallel-resonance peak at the bank's bus ([`is_parallel_resonance`]), each
+    /// screened against the characteristic orders of its sequence, ascending in order.
+    pub peaks: Vec<ScreenedPeak>,
+    /// The order of the peak the hand check explains (the one nearest `hand_order`).
+    pub hand_peak_order: Option<f64>,
     /// The sequence network scanned: `positive` (which carries the positive- and
     /// negative-sequence orders) or `zero` (triplen orders, grounded-wye banks only).
     pub sequence: Sequence,
@@ -145,6 +228,21 @@ pub struct ResonanceStudy {
     pub characteristic_orders: Vec<f64>,
     pub margin_percent: f64,
     pub rows: Vec<ResonanceRow>,
+    /// The PCC's driving-point peaks per scenario × configuration with a bank energized
+    /// (positive sequence), screened like a bank's.
+    pub pcc_rows: Vec<PccResonance>,
+}
+
+/// The parallel-resonance peaks at the PCC in one scenario and configuration.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PccResonance {
+    pub scenario: String,
+    pub configuration: String,
+    pub bus: String,
+    /// The worst of `peaks` ([`ScreenedPeak::worse`]).
+    pub peak: Option<ScreenedPeak>,
+    pub verdict: Verdict,
+    pub peaks: Vec<ScreenedPeak>,
 }
 
 impl ResonanceStudy {
@@ -161,10 +259,13 @@ impl ResonanceStudy {
         engine: &Engine<'_>,
         scan: &Scan,
         zero: Option<&ZeroScan<'_, '_>>,
+        pcc: usize,
     ) -> Result<ResonanceStudy, SolveError> {
         let chars = characteristic_orders(plant, plant.study.highest_order);
         let margin = plant.study.resonance_margin_percent;
         let mut rows = Vec::new();
+        let mut pcc_rows = Vec::new();
+        let pcc_scanned = scan.buses.iter().position(|&i| i == pcc);
         let positive = orders_of_sequence(&chars, Sequence::Positive);
         let zero_chars = orders_of_sequence(&chars, Sequence::Zero);
         for s in 0..net.scenarios.len() {
@@ -194,6 +295,24 @@ impl ResonanceStudy {
             };
             for (c, cfg) in scan.configurations.iter().enumerate() {
                 let label = cfg.label(&plant.banks);
+                if let Some(sb) = pcc_scanned
+                    && !cfg.is_none()
+                {
+                    let peaks = screen_peaks(&scan.series(s, c, sb).peaks, &positive, margin);
+                    let peak = worst_peak(&peaks);
+                    pcc_rows.push(PccResonance {
+                        scenario: net.scenarios[s].name.clone(),
+                        configuration: label.clone(),
+                        bus: net.buses[pcc].id.clone(),
+                        peak,
+                        verdict: match peak {
+                            None => Verdict::NoPeak,
+                            Some(w) if w.resonant => Verdict::Resonant,
+                            Some(_) => Verdict::Clear,
+                        },
+                        peaks,
+                    });
+                }
                 for (b, bank) in net.banks.iter().enumerate() {
                     let n = cfg.steps[b];
                     if n == 0 {
@@ -246,6 +365,7 @@ impl ResonanceStudy {
             characteristic_orders: chars,
             margin_percent: margin,
             rows,
+            pcc_rows,
         })
     }
 }
@@ -311,28 +431,16 @@ fn row(
     } else {
         crate::study::hand::resonance_order(z_th_pu, &reactances, group)
     };
-    let peak = peaks
+    let screened = screen_peaks(peaks, chars, margin);
+    let hand_peak_order = screened
         .iter()
-        .min_by(|x, y| {
-            (x.order - hand_order)
-                .abs()
-                .total_cmp(&(y.order - hand_order).abs())
-        })
-        .copied();
-    let nearest = peak.and_then(|p| {
-        chars
-            .iter()
-            .copied()
-            .min_by(|x, y| (x - p.order).abs().total_cmp(&(y - p.order).abs()))
-    });
-    let margin_percent = match (peak, nearest) {
-        (Some(p), Some(h)) => Some((p.order - h) / h * 100.0),
-        _ => None,
-    };
-    let verdict = match (peak, margin_percent) {
-        (None, _) => Verdict::NoPeak,
-        (Some(_), Some(m)) if m.abs() <= margin => Verdict::Resonant,
-        _ => Verdict::Clear,
+        .map(|p| p.peak.order)
+        .min_by(|x, y| (x - hand_order).abs().total_cmp(&(y - hand_order).abs()));
+    let worst = worst_peak(&screened);
+    let verdict = match worst {
+        None => Verdict::NoPeak,
+        Some(w) if w.resonant => Verdict::Resonant,
+        Some(_) => Verdict::Clear,
     };
     ResonanceRow {
         scenario: net.scenarios[s].name.clone(),
@@ -347,10 +455,12 @@ fn row(
         x_c_ohm: xc_pu * bus.z_base_ohm,
         mixed: groups.len() > 1,
         hand_order,
-        peak,
-        nearest_characteristic: nearest,
-        margin_percent,
+        peak: worst.map(|w| w.peak),
+        nearest_characteristic: worst.and_then(|w| w.nearest_characteristic),
+        margin_percent: worst.and_then(|w| w.margin_percent),
         verdict,
+        peaks: screened,
+        hand_peak_order,
         sequence,
     }
 }

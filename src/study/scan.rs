@@ -65,6 +65,10 @@ pub struct Extremum {
     /// (peaks) or √2·|Z_dip| (dips), the half-power bandwidth; `None` when the curve does not
     /// cross that level on both sides within the scan.
     pub sharpness: Option<f64>,
+    /// Peaks: the angle of Z is positive (inductive) at the grid point below and negative
+    /// (capacitive) at the grid point above, as across a parallel resonance, lossless ones
+    /// included (whose angle jumps from +90° to −90°). Dips: the reverse.
+    pub phase_crosses_zero: bool,
 }
 
 /// The peaks and dips of one bus in one scenario and configuration.
@@ -398,12 +402,19 @@ fn extrema(
         )?;
         let (z, z0) = eval(h)?;
         let zabs = (sign * best).abs();
+        let (below, above) = (eval(orders[i - 1])?.0.im, eval(orders[i + 1])?.0.im);
+        let phase_crosses_zero = if peaks {
+            below > 0.0 && above < 0.0
+        } else {
+            below < 0.0 && above > 0.0
+        };
         out.push(Extremum {
             order: h,
             z_ohm: zabs,
             angle_deg: z.arg().to_degrees(),
             amplification: z.norm() / z0.norm().max(f64::MIN_POSITIVE),
             sharpness: sharpness(orders, mags, h, zabs, peaks, eval)?,
+            phase_crosses_zero,
         });
     }
     Ok(out)

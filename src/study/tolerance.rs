@@ -69,24 +69,48 @@ pub fn bands(
         let configuration = group[0].configuration.clone();
         let bank = group[0].bank.clone();
         let p = p_of(&bank);
+        let sequence = group[0].sequence;
+        let chars = orders_of_sequence(chars, sequence);
+        let band_of = |order: f64, hand: f64| {
+            let mut b = (f64::INFINITY, f64::NEG_INFINITY);
+            for t in [minus_percent / 100.0, 0.0, plus_percent / 100.0] {
+                let h = shifted(order, hand, p, t);
+                b = (b.0.min(h), b.1.max(h));
+            }
+            b
+        };
+        let reached = |(lo, hi): (f64, f64)| {
+            chars
+                .iter()
+                .copied()
+                .find(|&c| lo <= c * (1.0 + margin / 100.0) && hi >= c * (1.0 - margin / 100.0))
+        };
+        // The named (worst) peak's band over the scenarios; then every peak's own band, the
+        // first that reaches a characteristic order replacing it.
         let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
         for r in &group {
             let Some(peak) = r.peak else { continue };
-            for t in [minus_percent / 100.0, 0.0, plus_percent / 100.0] {
-                let h = shifted(peak.order, r.hand_order, p, t);
-                lo = lo.min(h);
-                hi = hi.max(h);
-            }
+            let (l, h) = band_of(peak.order, r.hand_order);
+            (lo, hi) = (lo.min(l), hi.max(h));
         }
         if !lo.is_finite() {
             continue;
         }
+        let mut reaches = reached((lo, hi));
+        if reaches.is_none()
+            && let Some((band, c)) = group
+                .iter()
+                .flat_map(|r| {
+                    r.peaks
+                        .iter()
+                        .map(|sp| band_of(sp.peak.order, r.hand_order))
+                })
+                .find_map(|b| reached(b).map(|c| (b, c)))
+        {
+            (lo, hi) = band;
+            reaches = Some(c);
+        }
         let nominal_clear = group.iter().all(|r| r.verdict != Verdict::Resonant);
-        let sequence = group[0].sequence;
-        let reaches = orders_of_sequence(chars, sequence)
-            .iter()
-            .copied()
-            .find(|&c| lo <= c * (1.0 + margin / 100.0) && hi >= c * (1.0 - margin / 100.0));
         out.push(ToleranceBand {
             configuration,
             bank,

@@ -44,3 +44,4 @@ mod simulator;
 mod solver;
 #[path = "../support/synthetic.rs"]
 mod synthetic;
+mod two_bank_modes;

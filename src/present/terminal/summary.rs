@@ -23,7 +23,11 @@ fn cells(r: &ResonanceRow) -> Vec<String> {
         r.bank.clone(),
         format!("{:.0}", r.q_c_kvar),
         format!("{:.1}", r.s_sc_mva),
-        format!("{:.2}", r.hand_order),
+        format!(
+            "{:.2}{}",
+            r.hand_order,
+            if explains_another(r) { "*" } else { "" }
+        ),
         fmt_opt(r.peak.map(|p| p.order), 3),
         fmt_opt(r.peak.map(|p| p.z_ohm), 4),
         fmt_opt(r.peak.map(|p| p.amplification), 2),
@@ -31,6 +35,15 @@ fn cells(r: &ResonanceRow) -> Vec<String> {
         fmt_opt(r.margin_percent, 1),
         crate::present::words::resonance_verdict(r),
     ]
+}
+
+/// True when the hand check explains a peak other than the one the row names (the bus has
+/// several resonance peaks and another is worse).
+fn explains_another(r: &ResonanceRow) -> bool {
+    match (r.hand_peak_order, r.peak) {
+        (Some(h), Some(p)) => (h - p.order).abs() > 1e-9,
+        _ => false,
+    }
 }
 
 const HEADERS: [&str; 11] = [
@@ -228,10 +241,13 @@ fn write_resonance(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
         "Ssc: sources, transformers and cables in series (loads and motors left out; with several \
          sources or a loop, the network's Thevenin impedance with loads); Qc: every step on the bus; \
          hand h: sqrt(Ssc/Qc) (with a series reactor: sqrt(Xc/(Xth+XL)); plain and detuned steps \
-         together: the zero of the bus susceptance); scan h, |Z|: the scanned \
-         parallel-resonance peak at the bank's bus nearest the hand check; ampl: |Z| / |Z| without \
-         banks at that order; margin: (scan h - near h)/near h; the bank's bus, steps and the \
-         peak's sharpness are in --json and the review.",
+         together: the zero of the bus susceptance); scan h, |Z|: the worst of every \
+         parallel-resonance peak at the bank's bus (a maximum of |Z| the banks raise, amplification \
+         above 1, whose phase passes through zero within its half-power band, |angle| < 45 deg), \
+         each screened against the characteristic orders: a resonant peak before a clear one, then \
+         the higher amplification, else the nearer a characteristic order; hand h*: the hand check \
+         explains another of the bus's peaks; ampl: |Z| / |Z| without banks at that order; margin: \
+         (scan h - near h)/near h; every peak, the bank's bus and steps are in --json and the review.",
         100,
     )?;
     Ok(())

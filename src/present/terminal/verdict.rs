@@ -106,8 +106,18 @@ fn resonance_words(res: &CheckResults, bank: &str) -> String {
             c.dedup();
             c.len()
         };
+        let worst = rows
+            .iter()
+            .filter_map(|r| Some((r.peak?, r.nearest_characteristic?)))
+            .max_by(|a, b| a.0.amplification.total_cmp(&b.0.amplification));
+        let worst = worst.map_or_else(String::new, |(p, h)| {
+            format!(
+                "; worst peak h {:.2} x{:.1} near h {h}",
+                p.order, p.amplification
+            )
+        });
         format!(
-            "RESONANT at {}step(s) {} in {configs} configuration(s), scenario {}",
+            "RESONANT at {}step(s) {} in {configs} configuration(s), scenario {}{worst}",
             bank_word(res, bank),
             per_step.join(", "),
             scenarios.join(", ")
@@ -159,6 +169,9 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         .find(|n| matches!(n, Note::RemediesNotStudied { .. }));
     for (b, m) in res.plant.banks.iter().zip(&res.network.banks) {
         write_bank_verdict(out, res, b, m, not_studied)?;
+    }
+    if let Some(line) = pcc_line(res) {
+        write_hanging(out, "- ", "    ", &line, WIDTH)?;
     }
     if let Some(line) = plant_line(res) {
         write_hanging(out, "- ", "    ", &line, WIDTH)?;
@@ -300,6 +313,26 @@ fn damping_line(res: &CheckResults, bank: &str) -> Option<String> {
         "least damped {} (as studied {})",
         least.join(", "),
         study.join(", ")
+    ))
+}
+
+/// The PCC's resonance when a peak there is within the margin of a characteristic order:
+/// how many configurations and the worst peak; `None` when every PCC peak is clear.
+fn pcc_line(res: &CheckResults) -> Option<String> {
+    let rows: Vec<_> = (res.resonance.pcc_rows.iter())
+        .filter(|r| r.verdict == Verdict::Resonant)
+        .collect();
+    let worst = rows
+        .iter()
+        .filter_map(|r| r.peak)
+        .max_by(|a, b| a.peak.amplification.total_cmp(&b.peak.amplification))?;
+    Some(format!(
+        "PCC {}: RESONANT in {} scenario-configuration(s); worst peak h {:.2} x{:.1} near h {}.",
+        rows[0].bus,
+        rows.len(),
+        worst.peak.order,
+        worst.peak.amplification,
+        worst.nearest_characteristic.unwrap_or(f64::NAN)
     ))
 }
 

@@ -79,7 +79,28 @@ const RESONANCE_HEADS: &[(&str, f64)] = &[
     ("Band low h", 10.0),
     ("Band high h", 10.0),
     ("Verdict", 11.0),
+    ("Peak the hand check explains (h)", 11.0),
+    (
+        "Every resonance peak at the bus: h (x amplification) verdict",
+        30.0,
+    ),
 ];
+
+/// Every screened peak of a row in words: `9.617 (x5.5) clear; 11.301 (x32.2) RESONANT`.
+pub(super) fn peaks_words(peaks: &[crate::study::resonance::ScreenedPeak]) -> String {
+    peaks
+        .iter()
+        .map(|p| {
+            format!(
+                "{:.3} (x{:.1}) {}",
+                p.peak.order,
+                p.peak.amplification,
+                if p.resonant { "RESONANT" } else { "clear" }
+            )
+        })
+        .collect::<Vec<_>>()
+        .join("; ")
+}
 
 /// The cells of resonance row `r`, written at sheet row `rr` (its formulas refer to that
 /// row and to the Input sheet's cells).
@@ -171,6 +192,8 @@ fn resonance_cells(
         on(band.map(|b| b.low_order), "0.000"),
         on(band.map(|b| b.high_order), "0.000"),
         t(crate::present::words::resonance_verdict(r)),
+        on(r.hand_peak_order, "0.000"),
+        t(peaks_words(&r.peaks)),
     ]
 }
 
@@ -195,7 +218,7 @@ pub(super) fn resonance(
             )
         })
         .collect();
-    print_digest(ws, 1, 19, &keys, "Resonance")?;
+    print_digest(ws, 1, 21, &keys, "Resonance")?;
     verdict_colours(ws, 1, res.resonance.rows.len() as u32, 19)
 }
 
