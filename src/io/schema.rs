@@ -92,6 +92,7 @@ pub const LIMITS: &[&str] = &[
 ];
 pub const SUMMATION: &[&str] = &["arithmetic", "IEC 61000-3-6", "phasor"];
 pub const BANK_CONNECTIONS: &[&str] = &["delta", "wye", "wye grounded"];
+pub const WIRINGS: &[&str] = &["3-wire", "4-wire"];
 pub const RESISTANCE: &[&str] = &["frequency-dependent", "constant", "skin"];
 pub const LOAD_MODELS: &[&str] = &["CIGRE", "parallel R-L"];
 
@@ -437,6 +438,13 @@ pub fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                     "Name of a spectrum on the Spectra sheet. Required for custom; overrides the type's built-in spectrum otherwise; not allowed for linear and motor.",
                     Text,
                     12.0,
+                ),
+                col(
+                    false,
+                    "Connection",
+                    "3-wire (no neutral: its triplen harmonics flow as positive/negative sequence) or 4-wire (phase-to-neutral: triplens in the neutral, zero sequence). Default 4-wire for electronic, 3-wire for every other type.",
+                    List(WIRINGS),
+                    11.0,
                 ),
             ],
         ),

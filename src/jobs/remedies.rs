@@ -22,14 +22,7 @@ pub fn outcome(res: &CheckResults, bank: &str, labels: &[String]) -> Outcome {
         .iter()
         .filter(|t| t.bank == bank && has(&t.configuration))
         .collect();
-    let chars = &res.resonance.characteristic_orders;
-    let of_sequence = |seq: Sequence| -> Vec<f64> {
-        chars
-            .iter()
-            .copied()
-            .filter(|&h| (Sequence::of(h) == Sequence::Zero) == (seq == Sequence::Zero))
-            .collect()
-    };
+    let of_sequence = |seq: Sequence| -> Vec<f64> { res.resonance.orders_of(seq).to_vec() };
     let margin_percent = bands
         .iter()
         .filter_map(|t| {

@@ -5,7 +5,7 @@
 
 use super::notes::Note;
 use super::results::{CheckError, CheckOptions, CheckResults, MAX_CONFIGURATIONS};
-use crate::model::{Plant, Sequence};
+use crate::model::Plant;
 use crate::network::Network;
 use crate::solve::Engine;
 use crate::study::background::background_shares;
@@ -201,8 +201,9 @@ fn screen(
     options: &CheckOptions,
 ) -> Result<Screen, CheckError> {
     let plant = ctx.plant;
-    let chars = crate::study::resonance::characteristic_orders(plant, plant.study.highest_order);
-    let zero_orders = chars.iter().any(|&h| Sequence::of(h) == Sequence::Zero);
+    let (_, zero_chars) =
+        crate::study::resonance::sequence_orders(plant, plant.study.highest_order);
+    let zero_orders = !zero_chars.is_empty();
     let grid = ScanGrid::new(plant.study.highest_order, plant.study.scan_step_order);
     let quiet = |_: u64, _: u64| {};
     let progress: &(dyn Fn(u64, u64) + Sync) = match &options.progress {
@@ -426,7 +427,7 @@ fn tolerance(ctx: &Context<'_>, resonance: &ResonanceStudy) -> Vec<ToleranceBand
         &p_of,
         tol.minus_percent,
         tol.plus_percent,
-        &resonance.characteristic_orders,
+        (&resonance.positive_orders, &resonance.zero_orders),
         resonance.margin_percent,
     )
 }

@@ -2,7 +2,7 @@
 
 use serde::Serialize;
 
-use super::{BankConnection, VectorGroup};
+use super::{BankConnection, Sequence, VectorGroup};
 
 /// How series resistance varies with harmonic order h (Study sheet, `Resistance model`);
 /// each element's law is in `network::damping`.
@@ -429,9 +429,61 @@ pub struct Load {
     pub load_factor: f64,
     /// Name of a spectrum on the Spectra sheet.
     pub spectrum: Option<String>,
+    /// `Connection`: 3-wire or 4-wire; `None` = the type's default ([`Wiring::default_for`]).
+    pub wiring: Option<Wiring>,
+}
+
+/// How a load is wired (sheet `Loads`, `Connection`): whether its triplen currents can
+/// return through a neutral.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+pub enum Wiring {
+    /// No neutral: line-to-line loads (welders, three-wire drives and rectifiers). Their
+    /// triplen currents, present under unbalance, flow as positive/negative sequence.
+    #[serde(rename = "3-wire")]
+    ThreeWire,
+    /// Phase-to-neutral loads: triplen currents flow in the neutral, zero sequence.
+    #[serde(rename = "4-wire")]
+    FourWire,
+}
+
+impl Wiring {
+    /// The contract's default: 4-wire for electronic (single-phase rectifier) loads, 3-wire
+    /// for every other type (common practice).
+    pub fn default_for(kind: LoadType) -> Wiring {
+        if kind == LoadType::Electronic {
+            Wiring::FourWire
+        } else {
+            Wiring::ThreeWire
+        }
+    }
+
+    /// The contract's spelling.
+    pub fn label(self) -> &'static str {
+        match self {
+            Wiring::ThreeWire => "3-wire",
+            Wiring::FourWire => "4-wire",
+        }
+    }
 }
 
 impl Load {
+    /// The load's wiring, its default resolved.
+    pub fn wiring(&self) -> Wiring {
+        self.wiring
+            .unwrap_or_else(|| Wiring::default_for(self.kind))
+    }
+
+    /// The sequence network that carries this load's current at order `order`: a triplen
+    /// order of a 3-wire load flows in the positive/negative-sequence network (carried by
+    /// the positive-sequence one, whose impedances equal the negative's); every other order
+    /// by [`Sequence::of`].
+    pub fn sequence_at(&self, order: f64) -> Sequence {
+        match Sequence::of(order) {
+            Sequence::Zero if self.wiring() == Wiring::ThreeWire => Sequence::Positive,
+            s => s,
+        }
+    }
+
     /// Active power at the study point, kW: P = kW × Quantity × Load factor.
     pub fn p_kw(&self) -> f64 {
         self.kw * self.quantity * self.load_factor

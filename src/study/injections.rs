@@ -57,7 +57,8 @@ pub struct Injections {
     /// Orders with a non-zero injection or background, ascending (orders within 1e-9 are
     /// one).
     pub orders: Vec<f64>,
-    /// The sequence of each order ([`Sequence::of`]).
+    /// The sequence network of each order: [`Sequence::of`], except a triplen order
+    /// injected by 3-wire loads alone, which is positive sequence.
     pub sequences: Vec<Sequence>,
     /// Network bus index of each column: the buses with harmonic loads, then the buses of
     /// sources with a background EMF.
@@ -78,6 +79,12 @@ pub struct Injections {
     /// Sentences naming zero-sequence injections that cannot flow (no grounded neutral at
     /// the bus in some scenario): those are not studied there.
     pub blocked: Vec<String>,
+    /// Per order: the 3-wire loads' part of a triplen order whose primary tables
+    /// (`current_pu`, `phasor_pu`) are zero sequence (4-wire loads or background at the
+    /// same order), carried by the positive-sequence network: (current_pu, phasor_pu) per
+    /// column, as the primary tables. `None` for every other order.
+    #[serde(skip)]
+    pub three_wire: Vec<Option<(Vec<f64>, Vec<Complex64>)>>,
 }
 
 impl Injections {
@@ -91,7 +98,7 @@ impl Injections {
         let law = plant.study.summation;
         let mut chosen = Vec::new();
         // (bus, order) → magnitudes and the summed fixed phasor of the loads at that bus.
-        let mut per: HashMap<(usize, u64), (Vec<f64>, Complex64)> = HashMap::new();
+        let mut per: HashMap<(usize, u64, bool), (Vec<f64>, Complex64)> = HashMap::new();
         let mut orders: Vec<f64> = Vec::new();
         let mut buses: Vec<usize> = Vec::new();
         let intern = |orders: &mut Vec<f64>, h: f64| {
@@ -120,7 +127,7 @@ impl Injections {
                     continue;
                 }
                 let h = intern(&mut orders, h);
-                let seq = Sequence::of(h);
+                let seq = load.sequence_at(h);
                 if seq == Sequence::Zero {
                     let floating: Vec<&str> = net
                         .scenarios
@@ -146,7 +153,9 @@ impl Injections {
                     s => net.rotation_rad(bus, s),
                 };
                 let arg = angle.to_radians() - h * phi + h * zone - rot;
-                let e = per.entry((bus, h.to_bits())).or_default();
+                // Triplen orders of 3-wire loads are kept apart (`true`).
+                let three_wire = seq != Sequence::of(h);
+                let e = per.entry((bus, h.to_bits(), three_wire)).or_default();
                 e.0.push(i1 * m / 100.0);
                 e.1 += Complex64::from_polar(i1 * m / 100.0, arg);
             }
@@ -186,30 +195,53 @@ impl Injections {
                 }
             })
             .collect();
-        // One table per order and column from the loads at that bus.
+        // A triplen order is zero sequence when a 4-wire load or the background injects it,
+        // else (3-wire loads alone) positive sequence; a 3-wire part beside a zero-sequence
+        // one is kept apart (`three_wire`).
+        let zero_used = |h: f64| {
+            per.keys().any(|&(_, o, tw)| o == h.to_bits() && !tw)
+                || lines.iter().any(|&(o, ..)| o == h)
+        };
+        let sequences: Vec<Sequence> = orders
+            .iter()
+            .map(|&h| match Sequence::of(h) {
+                Sequence::Zero if !zero_used(h) => Sequence::Positive,
+                q => q,
+            })
+            .collect();
+        // One table per order and column from the loads at that bus (`tw`: the 3-wire part).
         type AtBus = (Vec<f64>, Complex64);
-        let table = |f: &dyn Fn(f64, &AtBus) -> Complex64| -> Vec<Vec<Complex64>> {
-            orders
+        let row = |h: f64, tw: bool, f: &dyn Fn(f64, &AtBus) -> Complex64| -> Vec<Complex64> {
+            buses
                 .iter()
-                .map(|&h| {
-                    buses
-                        .iter()
-                        .map(|&b| {
-                            per.get(&(b, h.to_bits()))
-                                .map_or_else(Complex64::default, |v| f(h, v))
-                        })
-                        .collect()
+                .map(|&b| {
+                    per.get(&(b, h.to_bits(), tw))
+                        .map_or_else(Complex64::default, |v| f(h, v))
                 })
                 .collect()
         };
-        let current_pu = table(&|h, v| Complex64::new(combine(law, h, v.0.iter().copied()), 0.0))
-            .into_iter()
-            .map(|row| row.into_iter().map(|z| z.re).collect())
+        let magnitude =
+            |h: f64, v: &AtBus| Complex64::new(combine(law, h, v.0.iter().copied()), 0.0);
+        let phasor = |_: f64, v: &AtBus| v.1;
+        let re = |row: Vec<Complex64>| row.into_iter().map(|z| z.re).collect::<Vec<f64>>();
+        let primary_tw = |o: usize| sequences[o] != Sequence::of(orders[o]);
+        let current_pu = (0..orders.len())
+            .map(|o| re(row(orders[o], primary_tw(o), &magnitude)))
             .collect();
-        let phasor_pu = table(&|_, v| v.1);
+        let phasor_pu = (0..orders.len())
+            .map(|o| row(orders[o], primary_tw(o), &phasor))
+            .collect();
+        let three_wire = (0..orders.len())
+            .map(|o| {
+                let h = orders[o];
+                let split = sequences[o] == Sequence::Zero
+                    && per.keys().any(|&(_, k, tw)| k == h.to_bits() && tw);
+                split.then(|| (re(row(h, true, &magnitude)), row(h, true, &phasor)))
+            })
+            .collect();
         blocked.dedup();
         Injections {
-            sequences: orders.iter().map(|&h| Sequence::of(h)).collect(),
+            sequences,
             orders,
             buses,
             current_pu,
@@ -217,6 +249,7 @@ impl Injections {
             background,
             spectra: chosen,
             blocked,
+            three_wire,
         }
     }
 
@@ -231,6 +264,7 @@ impl Injections {
             background: Vec::new(),
             spectra: Vec::new(),
             blocked: Vec::new(),
+            three_wire: Vec::new(),
         }
     }
 

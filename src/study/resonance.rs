@@ -17,60 +17,78 @@ use crate::study::hand::SscBasis;
 /// spectrum for custom loads or any load given a spectrum, and the orders of the Background
 /// sheet (the harmonics the utility already carries).
 pub fn characteristic_orders(plant: &Plant, highest: f64) -> Vec<f64> {
-    let mut orders: Vec<f64> = Vec::new();
-    let mut add = |h: f64| {
-        if h > 1.0 && h <= highest + 1e-9 && !orders.iter().any(|&o| (o - h).abs() < 1e-9) {
-            orders.push(h);
+    let (mut positive, zero) = sequence_orders(plant, highest);
+    for h in zero {
+        if !positive.iter().any(|&o| (o - h).abs() < 1e-9) {
+            positive.push(h);
+        }
+    }
+    positive.sort_by(f64::total_cmp);
+    positive
+}
+
+/// The characteristic orders of one harmonic-producing load up to `highest` (see
+/// [`characteristic_orders`]), unsorted.
+fn load_orders(plant: &Plant, l: &crate::model::Load, highest: f64) -> Vec<f64> {
+    let mut orders = Vec::new();
+    if let Some(sp) = l.spectrum.as_deref().and_then(|n| plant.spectrum(n)) {
+        orders.extend(sp.lines.iter().map(|line| line.order));
+        return orders;
+    }
+    let pulses = match l.kind {
+        LoadType::TwelvePulseDrive => Some(12.0),
+        LoadType::EighteenPulseDrive => Some(18.0),
+        LoadType::Electronic => None,
+        _ => Some(6.0),
+    };
+    match pulses {
+        Some(p) => {
+            let mut k = 1.0;
+            while k * p - 1.0 <= highest {
+                orders.push(k * p - 1.0);
+                orders.push(k * p + 1.0);
+                k += 1.0;
+            }
+        }
+        None => {
+            let mut h = 3.0;
+            while h <= highest {
+                orders.push(h);
+                h += 2.0;
+            }
+        }
+    }
+    orders
+}
+
+/// The characteristic orders each sequence network carries, each ascending: (positive,
+/// zero). The positive-sequence network (which also carries the negative-sequence orders)
+/// takes every non-triplen order and the triplen orders of 3-wire loads; the zero-sequence
+/// network the triplen orders of 4-wire loads and of the Background sheet.
+pub fn sequence_orders(plant: &Plant, highest: f64) -> (Vec<f64>, Vec<f64>) {
+    let (mut positive, mut zero): (Vec<f64>, Vec<f64>) = (Vec::new(), Vec::new());
+    let add = |list: &mut Vec<f64>, h: f64| {
+        if h > 1.0 && h <= highest + 1e-9 && !list.iter().any(|&o| (o - h).abs() < 1e-9) {
+            list.push(h);
         }
     };
     for l in plant.loads.iter().filter(|l| l.kind.is_harmonic_source()) {
-        if let Some(sp) = l.spectrum.as_deref().and_then(|n| plant.spectrum(n)) {
-            for line in &sp.lines {
-                add(line.order);
-            }
-            continue;
-        }
-        let pulses = match l.kind {
-            LoadType::TwelvePulseDrive => Some(12.0),
-            LoadType::EighteenPulseDrive => Some(18.0),
-            LoadType::Electronic => None,
-            _ => Some(6.0),
-        };
-        match pulses {
-            Some(p) => {
-                let mut k = 1.0;
-                while k * p - 1.0 <= highest {
-                    add(k * p - 1.0);
-                    add(k * p + 1.0);
-                    k += 1.0;
-                }
-            }
-            None => {
-                let mut h = 3.0;
-                while h <= highest {
-                    add(h);
-                    h += 2.0;
-                }
+        for h in load_orders(plant, l, highest) {
+            match l.sequence_at(h) {
+                Sequence::Zero => add(&mut zero, h),
+                _ => add(&mut positive, h),
             }
         }
     }
     for b in plant.background.iter().filter(|b| b.voltage_percent > 0.0) {
-        add(b.order);
+        match Sequence::of(b.order) {
+            Sequence::Zero => add(&mut zero, b.order),
+            _ => add(&mut positive, b.order),
+        }
     }
-    orders.sort_by(f64::total_cmp);
-    orders
-}
-
-/// The characteristic orders a scan of `sequence` can amplify: the zero-sequence ones
-/// (h = 3k) for the zero-sequence scan, every other order for the positive-sequence scan
-/// (which also carries the negative-sequence orders, with the same impedances).
-pub fn orders_of_sequence(chars: &[f64], sequence: Sequence) -> Vec<f64> {
-    let zero = sequence == Sequence::Zero;
-    chars
-        .iter()
-        .copied()
-        .filter(|&h| (Sequence::of(h) == Sequence::Zero) == zero)
-        .collect()
+    positive.sort_by(f64::total_cmp);
+    zero.sort_by(f64::total_cmp);
+    (positive, zero)
 }
 
 /// The zero-sequence scan of the banks with a zero-sequence path (grounded wye).
@@ -226,6 +244,12 @@ pub struct ResonanceRow {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ResonanceStudy {
     pub characteristic_orders: Vec<f64>,
+    /// The characteristic orders the positive-sequence scan is screened against (every
+    /// non-triplen order and the triplens of 3-wire loads).
+    pub positive_orders: Vec<f64>,
+    /// The characteristic orders the zero-sequence scan is screened against (the triplens
+    /// of 4-wire loads and of the background).
+    pub zero_orders: Vec<f64>,
     pub margin_percent: f64,
     pub rows: Vec<ResonanceRow>,
     /// The PCC's driving-point peaks per scenario × configuration with a bank energized
@@ -246,6 +270,15 @@ pub struct PccResonance {
 }
 
 impl ResonanceStudy {
+    /// The characteristic orders a scan of `sequence` is screened against.
+    pub fn orders_of(&self, sequence: Sequence) -> &[f64] {
+        if sequence == Sequence::Zero {
+            &self.zero_orders
+        } else {
+            &self.positive_orders
+        }
+    }
+
     /// Builds the rows from a scan that includes every bank bus, and from the zero-sequence
     /// scan of the grounded-wye banks when one was run. A grounded-wye bank on a bus with
     /// no zero-sequence path of its own network (no grounded winding or source in its
@@ -266,8 +299,7 @@ impl ResonanceStudy {
         let mut rows = Vec::new();
         let mut pcc_rows = Vec::new();
         let pcc_scanned = scan.buses.iter().position(|&i| i == pcc);
-        let positive = orders_of_sequence(&chars, Sequence::Positive);
-        let zero_chars = orders_of_sequence(&chars, Sequence::Zero);
+        let (positive, zero_chars) = sequence_orders(plant, plant.study.highest_order);
         for s in 0..net.scenarios.len() {
             let fundamental = scan.fundamental(engine, s)?;
             // The engineer's S_sc per bank: the radial path's series sum where there is one.
@@ -363,6 +395,8 @@ impl ResonanceStudy {
         }
         Ok(ResonanceStudy {
             characteristic_orders: chars,
+            positive_orders: positive,
+            zero_orders: zero_chars,
             margin_percent: margin,
             rows,
             pcc_rows,

@@ -9,7 +9,7 @@
 
 use serde::Serialize;
 
-use super::resonance::{ResonanceRow, Verdict, orders_of_sequence};
+use super::resonance::{ResonanceRow, Verdict};
 use crate::model::Sequence;
 
 /// One bank in one configuration across scenarios and tolerance.
@@ -42,13 +42,14 @@ fn shifted(order: f64, hand: f64, p: f64, t: f64) -> f64 {
 
 /// The bands of every bank and configuration from the resonance rows; `p_of(bank)` gives
 /// a bank's detuning factor, tolerance in percent (minus ≤ 0 ≤ plus), `chars` the
-/// characteristic orders and `margin` in percent.
+/// characteristic orders of the positive- and the zero-sequence scan and `margin` in
+/// percent.
 pub fn bands(
     rows: &[ResonanceRow],
     p_of: &dyn Fn(&str) -> f64,
     minus_percent: f64,
     plus_percent: f64,
-    chars: &[f64],
+    chars: (&[f64], &[f64]),
     margin: f64,
 ) -> Vec<ToleranceBand> {
     let mut out: Vec<ToleranceBand> = Vec::new();
@@ -70,7 +71,11 @@ pub fn bands(
         let bank = group[0].bank.clone();
         let p = p_of(&bank);
         let sequence = group[0].sequence;
-        let chars = orders_of_sequence(chars, sequence);
+        let chars = if sequence == Sequence::Zero {
+            chars.1
+        } else {
+            chars.0
+        };
         let band_of = |order: f64, hand: f64| {
             let mut b = (f64::INFINITY, f64::NEG_INFINITY);
             for t in [minus_percent / 100.0, 0.0, plus_percent / 100.0] {

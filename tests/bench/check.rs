@@ -37,6 +37,7 @@ pub fn bench_plant() -> overtone::model::Plant {
             quantity: 2.0,
             load_factor: 0.8,
             spectrum: None,
+            wiring: None,
         });
     }
     plant

@@ -78,6 +78,7 @@ fn workbook(loads: usize) -> Vec<u8> {
             quantity: 1.0,
             load_factor: 0.8,
             spectrum: None,
+            wiring: None,
         })
         .collect();
     plant_workbook(&plant).expect("workbook")

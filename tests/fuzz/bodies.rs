@@ -488,6 +488,7 @@ impl PlantSpec {
                         "MISSING".into()
                     }
                 }),
+                wiring: None,
             })
             .collect();
         plant.spectra = self.spectra[..ns]

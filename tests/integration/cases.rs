@@ -100,6 +100,7 @@ fn load(id: &str, bus: &str, kind: LoadType, kw: f64, pf: f64, qty: f64, lf: f64
         quantity: qty,
         load_factor: lf,
         spectrum: None,
+        wiring: None,
     }
 }
 

@@ -112,6 +112,7 @@ pub fn load(id: &str, bus: &str, kind: LoadType, kw: f64, pf: f64) -> Load {
         quantity: 1.0,
         load_factor: 1.0,
         spectrum: None,
+        wiring: None,
     }
 }
 

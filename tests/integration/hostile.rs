@@ -124,7 +124,7 @@ proptest! {
             reactor: if p > 0.0 { Reactor::Detuning { percent: p } } else { Reactor::None },
             reactor_q: 50.0, status: BankStatus::Proposed, studied_steps: (0..=steps).collect(), inrush_uh: None, connection: None, trapped_charge_pu: 0.0, inrush_limit_ka: None,
         }];
-        plant.loads = vec![Load { id: "D".into(), bus: "LV".into(), kind: LoadType::SixPulseDrive, kw, power_factor: pf, quantity: 1.0, load_factor: 1.0, spectrum: None }];
+        plant.loads = vec![Load { id: "D".into(), bus: "LV".into(), kind: LoadType::SixPulseDrive, kw, power_factor: pf, quantity: 1.0, load_factor: 1.0, spectrum: None, wiring: None }];
         match run_check(&plant, &CheckOptions { remedies: Some(true), ..Default::default() }) {
             Err(e) => prop_assert!(!e.to_string().is_empty()),
             Ok(res) => {

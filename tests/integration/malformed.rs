@@ -377,6 +377,13 @@ fn malformed_cells_each_give_their_message_and_cell() {
             "Study!B3: \"PCC bus\": bus \"NOWHERE\" does not exist",
         ),
         (
+            // Input contract: Loads `Connection` is 3-wire or 4-wire (a new header in H1).
+            Book::base()
+                .set("Loads", "H1", s("Connection"))
+                .set("Loads", "H2", s("5-wire")),
+            "Loads!H2: \"Connection\" must be 3-wire or 4-wire, found \"5-wire\"",
+        ),
+        (
             Book::base().set("Loads", "C2", s("VFD")),
             "Loads!C2: \"Type\" must be one of linear, motor, 6-pulse drive, 6-pulse drive with reactor, 12-pulse drive, 18-pulse drive, active front end, electronic, custom, found \"VFD\"",
         ),

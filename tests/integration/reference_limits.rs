@@ -158,7 +158,8 @@ fn iec_61000_2_4_every_stored_cell_of_every_class() {
     }
 }
 
-/// One bus: a source, a drive with a two-line spectrum and a plain bank.
+/// One bus: a source, a drive with a four-line spectrum and a plain bank. The drives are
+/// wired 4-wire (Loads `Connection`), so their 3rd is zero sequence.
 fn single_bus(law: Summation, drives: usize) -> Plant {
     let mut p = textbook_plant(60.0);
     p.study.summation = law;
@@ -173,6 +174,7 @@ fn single_bus(law: Summation, drives: usize) -> Plant {
     for i in 0..drives {
         let mut d = load(&format!("D{i}"), "B", LoadType::SixPulseDrive, 200.0, 1.0);
         d.spectrum = Some("S".into());
+        d.wiring = Some(Wiring::FourWire);
         p.loads.push(d);
     }
     p

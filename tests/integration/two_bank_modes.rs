@@ -216,3 +216,169 @@ fn every_row_names_its_worst_peak() {
     }
     assert!(multi >= 8, "{multi} rows with two modes");
 }
+
+/// A 400 V bus behind an 11 kV / 400 V 1,000 kVA 6 % Dyn11 transformer (X/R 8; source
+/// 250 MVA, X/R 10, 50 Hz) with 300 kW of line-to-line welders (custom spectrum: 3rd at
+/// 20 %, pf 0.7) and a plain delta bank of 6 × 250 kvar (invented).
+fn welders(wiring: Option<Wiring>) -> Plant {
+    let mut p = textbook_plant(50.0);
+    p.study.max_demand_current_a = Some(60.0);
+    p.buses = vec![bus("HV", 11.0), bus("LV", 0.4)];
+    p.sources = vec![source("U", "HV", 250.0, 10.0)];
+    p.transformers = vec![Transformer {
+        connection: Some(VectorGroup {
+            hv: Winding::Delta,
+            lv: Winding::WyeGrounded,
+            clock: 11,
+        }),
+        ..transformer("T", "HV", "LV", 1000.0, 6.0, 8.0)
+    }];
+    p.banks = vec![CapacitorBank {
+        connection: Some(BankConnection::Delta),
+        ..bank("C", "LV", 0.4, 250.0, 6, Reactor::None)
+    }];
+    p.spectra = vec![spectrum("WELD", &[(3.0, 20.0)])];
+    let mut w = load("W", "LV", LoadType::Custom, 300.0, 0.7);
+    w.spectrum = Some("WELD".into());
+    w.wiring = wiring;
+    p.loads = vec![w];
+    p
+}
+
+#[test]
+fn a_three_wire_third_flows_in_the_positive_sequence_network() {
+    // Line-to-line loads have no neutral: their 3rd flows as positive/negative sequence,
+    // whose passive impedances are equal (symmetrical components, textbook), so the 3rd
+    // at the 400 V bus is a dense solve of the positive-sequence network: one bus, the
+    // supply Z(h) = (R_s + R_T) + j·h·(X_s + X_T) in parallel with the bank −j·X_C/h, ohm at
+    // 400 V; I₃ = 0.2·P/(√3·0.4·pf) A; V₃ % = I₃·|Z(3)|/(400/√3)·100.
+    let split = |z: f64, xr: f64| {
+        let r = z / (1.0 + xr * xr).sqrt();
+        (r, r * xr)
+    };
+    let (rs, xs) = split(0.4 * 0.4 / 250.0, 10.0);
+    let (rt, xt) = split(0.06 * 0.4 * 0.4 / 1.0, 8.0);
+    let i3 = 0.2 * 300.0 / (3f64.sqrt() * 0.4 * 0.7);
+    for wiring in [None, Some(Wiring::ThreeWire)] {
+        let p = welders(wiring);
+        let res = run_check(&p, &Default::default()).expect("runs");
+        let o = res
+            .penetration
+            .injections
+            .orders
+            .iter()
+            .position(|&h| h == 3.0)
+            .unwrap();
+        assert_eq!(res.penetration.injections.sequences[o], Sequence::Positive);
+        for steps in [0u32, 3, 6] {
+            let xc = 0.4 * 0.4 / (0.25 * f64::from(steps));
+            let zsys = num_complex::Complex64::new(rs + rt, 3.0 * (xs + xt));
+            let y = zsys.inv()
+                + num_complex::Complex64::new(0.0, if steps > 0 { 3.0 / xc } else { 0.0 });
+            let expected = i3 * y.inv().norm() / (400.0 / 3f64.sqrt()) * 100.0;
+            let v = res.penetration.voltages(0, &[steps]).expect("solvable");
+            assert_close(v[1][o] * 100.0, expected, 1e-9);
+            let c = (0..res.scan.configurations.len())
+                .find(|&c| res.scan.configurations[c].steps == [steps])
+                .unwrap();
+            let d = res.penetration.result(0, c, res.scan.configurations.len());
+            assert_close(d.bank_voltage_percent[0][o], expected, 1e-9);
+        }
+        // The delta bank is screened against the 3rd in the positive-sequence scan: with 6
+        // steps its peak sits near h 3 (hand check: S_sc = 0.4²/(0.4²/250 + 0.06·0.4²) =
+        // 15.6 MVA, √(15.6/1.5) = 3.23, within 10 % of the 3rd).
+        assert!(res.resonance.positive_orders.contains(&3.0));
+        let row = (res.resonance.rows.iter())
+            .find(|r| r.configuration == "C=6")
+            .expect("row");
+        assert_eq!(row.nearest_characteristic, Some(3.0));
+        assert_eq!(row.verdict, overtone::study::Verdict::Resonant);
+    }
+    // As a 4-wire load its 3rd stays zero sequence: the delta bank has no zero-sequence
+    // path, so the 3rd sees the transformer's grounded-wye winding alone and the bank is
+    // not screened against it.
+    let res = run_check(&welders(Some(Wiring::FourWire)), &Default::default()).expect("runs");
+    let o = res
+        .penetration
+        .injections
+        .orders
+        .iter()
+        .position(|&h| h == 3.0)
+        .unwrap();
+    assert_eq!(res.penetration.injections.sequences[o], Sequence::Zero);
+    assert!(!res.resonance.positive_orders.contains(&3.0));
+}
+
+#[test]
+fn a_third_from_both_wirings_adds_its_sequence_parts() {
+    // The welders (3-wire) beside 40 kW of single-phase electronic load (4-wire, 3rd at 80 %,
+    // pf 0.9) on the same bus: the 3rd is zero sequence for the electronic load, which sees
+    // the transformer's grounded-wye winding alone (Z_T0 = Z_T, the delta bank has no
+    // zero-sequence path), and positive sequence for the welders, which see the supply in
+    // parallel with the bank (dense solves above). Phase a carries the sum of the sequence
+    // components; under arithmetic summation their magnitudes add (an upper bound). The
+    // bank carries the positive-sequence part only.
+    let mut p = welders(None);
+    p.spectra.push(spectrum("ELEC", &[(3.0, 80.0)]));
+    let mut e = load("E", "LV", LoadType::Electronic, 40.0, 0.9);
+    e.spectrum = Some("ELEC".into());
+    p.loads.push(e);
+    let res = run_check(&p, &Default::default()).expect("runs");
+    let o = res
+        .penetration
+        .injections
+        .orders
+        .iter()
+        .position(|&h| h == 3.0)
+        .unwrap();
+    assert_eq!(res.penetration.injections.sequences[o], Sequence::Zero);
+    let split = |z: f64, xr: f64| {
+        let r = z / (1.0 + xr * xr).sqrt();
+        (r, r * xr)
+    };
+    let (rs, xs) = split(0.4 * 0.4 / 250.0, 10.0);
+    let (rt, xt) = split(0.06 * 0.4 * 0.4 / 1.0, 8.0);
+    let v_base = 400.0 / 3f64.sqrt();
+    let i_weld = 0.2 * 300.0 / (3f64.sqrt() * 0.4 * 0.7);
+    let i_elec = 0.8 * 40.0 / (3f64.sqrt() * 0.4 * 0.9);
+    let z0 = num_complex::Complex64::new(rt, 3.0 * xt).norm();
+    let steps = 3u32;
+    let xc = 0.4 * 0.4 / (0.25 * f64::from(steps));
+    let zsys = num_complex::Complex64::new(rs + rt, 3.0 * (xs + xt));
+    let z1 = (zsys.inv() + num_complex::Complex64::new(0.0, 3.0 / xc))
+        .inv()
+        .norm();
+    let v1 = i_weld * z1 / v_base * 100.0;
+    let v0 = i_elec * z0 / v_base * 100.0;
+    let v = res.penetration.voltages(0, &[steps]).expect("solvable");
+    assert_close(v[1][o] * 100.0, v1 + v0, 1e-9);
+    let c = (0..res.scan.configurations.len())
+        .find(|&c| res.scan.configurations[c].steps == [steps])
+        .unwrap();
+    let d = res.penetration.result(0, c, res.scan.configurations.len());
+    assert_close(d.bank_voltage_percent[0][o], v1 + v0, 1e-9);
+    // Bank current: V₁ across X_C/3, A.
+    assert_close(d.bank_current_a[0][o], v1 / 100.0 * v_base * 3.0 / xc, 1e-9);
+}
+
+#[test]
+fn the_connection_column_round_trips_through_the_workbook() {
+    // Input contract: Loads `Connection`, written by the template and read back; a blank
+    // cell is the type's default (3-wire for a custom load, 4-wire for electronic), noted.
+    let mut p = welders(Some(Wiring::FourWire));
+    p.loads
+        .push(load("E", "LV", LoadType::Electronic, 10.0, 0.9));
+    let bytes = overtone::io::template::plant_workbook(&p).expect("workbook");
+    let read =
+        overtone::io::workbook_in::read_workbook_bytes("p", "p.xlsx", &bytes).expect("reads");
+    assert_eq!(read.plant.loads[0].wiring, Some(Wiring::FourWire));
+    assert_eq!(read.plant.loads[1].wiring, None);
+    assert_eq!(read.plant.loads[1].wiring(), Wiring::FourWire);
+    assert!(
+        read.warnings
+            .iter()
+            .any(|w| w.to_string().contains("Connection")),
+        "{:?}",
+        read.warnings
+    );
+}

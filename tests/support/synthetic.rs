@@ -23,6 +23,7 @@ fn load(id: &str, bus: &str, kind: LoadType, kw: f64) -> Load {
         quantity: 1.0,
         load_factor: 1.0,
         spectrum: None,
+        wiring: None,
     }
 }
 
@@ -233,6 +234,7 @@ pub fn with_converters(mut plant: Plant, seed: u64) -> Plant {
             quantity: 1.0,
             load_factor: 1.0,
             spectrum: Some("VFD-51".into()),
+            wiring: None,
         });
     }
     plant

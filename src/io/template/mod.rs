@@ -185,6 +185,7 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                     N(l.quantity),
                     N(l.load_factor),
                     t(l.spectrum.as_deref().unwrap_or("")),
+                    t(l.wiring.map_or("", Wiring::label)),
                 ]
             })
             .collect(),

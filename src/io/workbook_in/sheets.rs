@@ -362,9 +362,42 @@ pub fn loads(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Loa
                         1.0
                     }),
                 spectrum,
+                wiring: wiring(t, r, d, defaults),
             }
         })
         .collect()
+}
+
+/// A load's `Connection` (`None` when blank: the type's default, noted).
+fn wiring(
+    t: &Table,
+    r: &super::table::Row,
+    d: &mut Diagnostics,
+    defaults: &mut Defaults,
+) -> Option<Wiring> {
+    match t.text(r, "Connection", d) {
+        None => {
+            defaults.note(
+                "Loads",
+                "Connection",
+                "4-wire (electronic) or 3-wire (other types)",
+                t.default_at(r, "Connection"),
+            );
+            None
+        }
+        Some(s) => match normalize(&s).as_str() {
+            "3wire" | "3w" | "threewire" => Some(Wiring::ThreeWire),
+            "4wire" | "4w" | "fourwire" => Some(Wiring::FourWire),
+            _ => {
+                d.error(
+                    &t.sheet,
+                    t.cell(r, "Connection"),
+                    format!("\"Connection\" must be 3-wire or 4-wire, found \"{s}\""),
+                );
+                None
+            }
+        },
+    }
 }
 
 /// Spectra grouped by name in order of first appearance; each line checked at its cell

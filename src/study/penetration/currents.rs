@@ -73,6 +73,35 @@ pub(super) fn order_inputs(
     }
 }
 
+/// What the 3-wire part (`current`, `phasor` per column) of order `h` injects in scenario
+/// `s` in the positive-sequence network `net`: its loads, no background.
+pub(super) fn part_inputs(
+    net: &crate::network::Network,
+    inj: &Injections,
+    (current, phasor): (&[f64], &[Complex64]),
+    s: usize,
+    h: f64,
+) -> OrderInputs {
+    let rm = net.resistance;
+    let in_service = &net.scenarios[s].sources;
+    OrderInputs {
+        loads: (0..inj.buses.len())
+            .filter(|&c| current[c] > 0.0)
+            .map(|c| (c, current[c], phasor[c]))
+            .collect(),
+        background: Vec::new(),
+        sources: in_service
+            .iter()
+            .map(|&i| (net.sources[i].bus, net.sources[i].model.y_pu(h, rm)))
+            .collect(),
+        branches: net
+            .branches
+            .iter()
+            .map(|b| (b.from, b.to, b.index, b.z.at(h, rm).inv()))
+            .collect(),
+    }
+}
+
 /// The operating voltage angle at each column per scenario × configuration; where the
 /// load flow has no solution, the scenario's configuration without banks, else 0.
 pub(super) fn phasor_angles(

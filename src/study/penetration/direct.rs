@@ -36,10 +36,20 @@ impl Ctx<'_> {
         let mut inj_bg = Vec::new();
         let mut v = vec![Complex64::default(); n];
         let mut v_mag = vec![0.0; n];
+        let mut z_tw = Vec::new();
+        let mut part = ThreeWirePart::default();
         for (o, p) in self.points[s].iter().enumerate() {
             let h = p.order;
             if !p.evaluate(&plan, &mut scratch, &mut z) {
                 return Err(self.singular(s, h));
+            }
+            // The 3-wire part of a zero-sequence triplen order, in the positive network.
+            let tw = self.three_wire_part(s, o);
+            if let Some((p2, _)) = tw {
+                z_tw.resize(chunk.len() * n * l, Complex64::default());
+                if !p2.evaluate(&plan, &mut scratch, &mut z_tw) {
+                    return Err(self.singular(s, h));
+                }
             }
             let inp = &self.inputs[s][o];
             let bg_only = OrderInputs {
@@ -54,18 +64,36 @@ impl Ctx<'_> {
                     let k = f64::from(steps.get(b).copied().unwrap_or(0));
                     abs(p.y_step(b) * k)
                 };
+                let theta = self
+                    .angles
+                    .get(s * nc + d.configuration)
+                    .map_or(&[][..], |a| a);
+                if let Some((p2, inp2)) = tw {
+                    let zb2 = &z_tw[slot * n * l..(slot + 1) * n * l];
+                    part.solve(self.law, (p2, inp2, zb2), theta, steps, net);
+                }
                 let supply;
                 let mut bank_bg = vec![0.0; nk];
                 if self.law == Summation::Phasor {
-                    let theta = &self.angles[s * nc + d.configuration];
                     phasor_currents(inp, h, theta, l, &mut inj);
                     for r in 0..n {
                         v[r] = dot(&zb[r * l..(r + 1) * l], &inj);
-                        v_mag[r] = abs(v[r]);
                     }
                     let drawn: Complex64 = inp.sources.iter().map(|&(b, y)| y * v[b]).sum();
                     let own: Complex64 = inp.background.iter().map(|&(_, i)| i).sum();
-                    supply = abs(drawn - own);
+                    if tw.is_some() {
+                        part.keep_primary(net, |r| abs(v[r]));
+                        // Phase a carries the sum of the sequence components.
+                        for (vr, v2) in v.iter_mut().zip(&part.v) {
+                            *vr += v2;
+                        }
+                        supply = abs(drawn - own + part.drawn);
+                    } else {
+                        supply = abs(drawn - own);
+                    }
+                    for r in 0..n {
+                        v_mag[r] = abs(v[r]);
+                    }
                     if !inp.background.is_empty() {
                         background_currents(inp, l, &mut inj_bg);
                         for (b, bank) in net.banks.iter().enumerate() {
@@ -83,12 +111,24 @@ impl Ctx<'_> {
                     supply = combine(
                         self.law,
                         h,
-                        inp.loads.iter().map(|&(c, a, _)| abs(into(c)) * a).chain(
-                            inp.background
-                                .iter()
-                                .map(|&(c, i)| abs(into(c) - 1.0) * abs(i)),
-                        ),
+                        inp.loads
+                            .iter()
+                            .map(|&(c, a, _)| abs(into(c)) * a)
+                            .chain(
+                                inp.background
+                                    .iter()
+                                    .map(|&(c, i)| abs(into(c) - 1.0) * abs(i)),
+                            )
+                            .chain(tw.map(|_| part.supply)),
                     );
+                    if tw.is_some() {
+                        part.keep_primary(net, |r| v_mag[r]);
+                        // Nested combinations equal one over every contribution (the law
+                        // is a power sum).
+                        for (vm, v2) in v_mag.iter_mut().zip(&part.v_mag) {
+                            *vm = combine(self.law, h, [*vm, *v2].into_iter());
+                        }
+                    }
                     if !inp.background.is_empty() {
                         for (b, bank) in net.banks.iter().enumerate() {
                             let r = bank.bus;
@@ -98,8 +138,17 @@ impl Ctx<'_> {
                         }
                     }
                 }
-                let y_abs: Vec<f64> = (0..nk).map(y_bank).collect();
-                self.record(d, o, h, &v_mag, supply, &bank_bg, &y_abs);
+                let bank_i: Vec<f64> = (net.banks.iter().enumerate())
+                    .map(|(b, bank)| match tw {
+                        // Each sequence's current in the bank, combined by the law.
+                        Some(_) => {
+                            let own = part.primary_bank_v[b] * y_bank(b);
+                            combine(self.law, h, [own, part.bank_i[b]].into_iter())
+                        }
+                        None => v_mag[bank.bus] * y_bank(b),
+                    })
+                    .collect();
+                self.record(d, o, h, &v_mag, supply, &bank_bg, &bank_i);
             }
         }
         for d in &mut out {
@@ -108,11 +157,23 @@ impl Ctx<'_> {
         Ok(out)
     }
 
+    /// The positive-sequence point and inputs of the 3-wire part of order `o` in scenario
+    /// `s`, when that order is zero sequence and 3-wire loads inject it too.
+    pub(super) fn three_wire_part(
+        &self,
+        s: usize,
+        o: usize,
+    ) -> Option<(&crate::solve::HarmonicPoint, &OrderInputs)> {
+        let p = self.points_tw.get(s)?.get(o)?.as_ref()?;
+        let i = self.inputs_tw.get(s)?.get(o)?.as_ref()?;
+        Some((p, i))
+    }
+
     /// Records order `o` (`h`) of result `d` from the harmonic voltage magnitude at every
     /// bus (per unit), the current drawn from the supply (per unit), each bank's current
-    /// from the background alone (per unit) and each bank's admittance magnitude (per
-    /// unit): THD sums, worst individual harmonics, the PCC current (A) and the banks'
-    /// voltages (%) and currents (A).
+    /// from the background alone (per unit) and each bank's current (per unit): THD sums,
+    /// worst individual harmonics, the PCC current (A) and the banks' voltages (%) and
+    /// currents (A).
     #[allow(clippy::too_many_arguments)]
     pub(super) fn record(
         &self,
@@ -122,7 +183,7 @@ impl Ctx<'_> {
         v_mag: &[f64],
         supply: f64,
         bank_bg: &[f64],
-        y_abs: &[f64],
+        bank_i: &[f64],
     ) {
         let net = self.net;
         d.pcc_current_a[o] = supply * amps_per_pu(net.buses[self.pcc].kv);
@@ -142,7 +203,7 @@ impl Ctx<'_> {
             let amps = amps_per_pu(net.buses[bank.bus].kv);
             let vb = v_mag[bank.bus];
             d.bank_voltage_percent[b][o] = vb * 100.0;
-            d.bank_current_a[b][o] = vb * y_abs[b] * amps;
+            d.bank_current_a[b][o] = bank_i[b] * amps;
             let a = bank_bg[b] * amps;
             d.bank_background_rms_a[b] += a * a;
         }
@@ -156,5 +217,70 @@ impl Ctx<'_> {
         d.bank_background_rms_a
             .iter_mut()
             .for_each(|t| *t = t.sqrt());
+    }
+}
+
+/// The 3-wire part of a zero-sequence triplen order in one configuration, solved in the
+/// positive-sequence network: its bus voltages, the current it draws from the supply and
+/// its current in each bank; and the primary (zero-sequence) voltage at each bank's bus.
+#[derive(Default)]
+pub(super) struct ThreeWirePart {
+    /// Phasor voltages (`phasor` summation), per unit.
+    pub v: Vec<Complex64>,
+    /// Voltage magnitudes by the summation law, per unit.
+    pub v_mag: Vec<f64>,
+    /// Σ y_s·V over the sources (`phasor`), per unit.
+    pub drawn: Complex64,
+    /// The supply current by the law (magnitude summation), per unit.
+    pub supply: f64,
+    /// Each bank's current from this part, per unit.
+    pub bank_i: Vec<f64>,
+    /// The primary part's voltage magnitude at each bank's bus, per unit.
+    pub primary_bank_v: Vec<f64>,
+    inj: Vec<Complex64>,
+}
+
+impl ThreeWirePart {
+    /// Solves the part from its point's transfer impedances `zb` (n × l of this
+    /// configuration), operating angles `theta` (`phasor`) and bank `steps`.
+    pub fn solve(
+        &mut self,
+        law: Summation,
+        (p, inp, zb): (&crate::solve::HarmonicPoint, &OrderInputs, &[Complex64]),
+        theta: &[f64],
+        steps: &[u32],
+        net: &crate::network::Network,
+    ) {
+        let (n, h) = (net.buses.len(), p.order);
+        let l = zb.len() / n.max(1);
+        self.v.resize(n, Complex64::default());
+        self.v_mag.resize(n, 0.0);
+        if law == Summation::Phasor {
+            phasor_currents(inp, h, theta, l, &mut self.inj);
+            for r in 0..n {
+                self.v[r] = dot(&zb[r * l..(r + 1) * l], &self.inj);
+                self.v_mag[r] = abs(self.v[r]);
+            }
+            self.drawn = inp.sources.iter().map(|&(b, y)| y * self.v[b]).sum();
+        } else {
+            for r in 0..n {
+                self.v_mag[r] = magnitude_sum(law, h, inp, |c| abs(zb[r * l + c]));
+            }
+            let into = |c: usize| -> Complex64 {
+                inp.sources.iter().map(|&(b, y)| zb[b * l + c] * y).sum()
+            };
+            self.supply = combine(law, h, inp.loads.iter().map(|&(c, a, _)| abs(into(c)) * a));
+        }
+        self.bank_i = (net.banks.iter().enumerate())
+            .map(|(b, bank)| {
+                let k = f64::from(steps.get(b).copied().unwrap_or(0));
+                self.v_mag[bank.bus] * abs(p.y_step(b) * k)
+            })
+            .collect();
+    }
+
+    /// Keeps the primary part's voltage magnitude at each bank's bus (`mag(bus)`).
+    pub fn keep_primary(&mut self, net: &crate::network::Network, mag: impl Fn(usize) -> f64) {
+        self.primary_bank_v = net.banks.iter().map(|b| mag(b.bus)).collect();
     }
 }

@@ -87,8 +87,10 @@ impl Ctx<'_> {
                         *slot = abs(vb) * abs(y[b]);
                     }
                 }
-                let y_abs: Vec<f64> = y.iter().map(|&z| abs(z)).collect();
-                self.record(&mut d, o, h, &v_mag, supply, &bank_bg, &y_abs);
+                let bank_i: Vec<f64> = (net.banks.iter().zip(&y))
+                    .map(|(bank, &yb)| v_mag[bank.bus] * abs(yb))
+                    .collect();
+                self.record(&mut d, o, h, &v_mag, supply, &bank_bg, &bank_i);
             }
             self.conclude(&mut d);
             out.push(d);

@@ -178,6 +178,10 @@ pub struct Penetration {
     /// Z per scenario and order, kept to recompute voltages on demand.
     points: Vec<Vec<HarmonicPoint>>,
     inputs: Vec<Vec<OrderInputs>>,
+    /// Per scenario and order: the 3-wire part of a zero-sequence triplen order in the
+    /// positive-sequence network (`None` for every other order).
+    points_tw: Vec<Vec<Option<HarmonicPoint>>>,
+    inputs_tw: Vec<Vec<Option<OrderInputs>>>,
     /// Per scenario × configuration: the operating voltage angle at each column, radians
     /// (`phasor` only, else empty).
     angles: Vec<Vec<f64>>,
@@ -233,11 +237,15 @@ impl Penetration {
         let law = plant.study.summation;
         let ns = net.scenarios.len();
         let nc = configurations.len();
-        let fast = match evaluation {
-            Evaluation::Direct => false,
-            Evaluation::Fast => true,
-            Evaluation::Auto => ns * nc * net.buses.len() > BOUNDED_ABOVE,
-        };
+        // Orders split between the zero- and the positive-sequence network are summed by
+        // the direct evaluation only.
+        let split = injections.three_wire.iter().any(Option::is_some);
+        let fast = !split
+            && match evaluation {
+                Evaluation::Direct => false,
+                Evaluation::Fast => true,
+                Evaluation::Auto => ns * nc * net.buses.len() > BOUNDED_ABOVE,
+            };
         let bounded = fast && law != Summation::Phasor;
         let linear = fast && law == Summation::Phasor;
         // Fast: lean points keep Z₀ to the injection buses only at the PCC, bank and source
@@ -273,6 +281,7 @@ impl Penetration {
                     .collect()
             })
             .collect();
+        let (points_tw, inputs_tw) = three_wire_parts(engines, &injections, ns)?;
         let (angles, angle_fallbacks) = if law == Summation::Phasor {
             phasor_angles(operating, configurations, &injections.buses, ns)
         } else {
@@ -292,6 +301,8 @@ impl Penetration {
             injections: &injections,
             points: &points,
             inputs: &inputs,
+            points_tw: &points_tw,
+            inputs_tw: &inputs_tw,
             angles: &angles,
             configurations,
             limits,
@@ -333,6 +344,8 @@ impl Penetration {
             angle_fallbacks,
             points,
             inputs,
+            points_tw,
+            inputs_tw,
             angles,
             steps: configurations.iter().map(|c| c.steps.clone()).collect(),
             law,
@@ -365,36 +378,79 @@ impl Penetration {
     /// Harmonic voltage at every bus and injected order for scenario `s` with `steps`, per
     /// unit of nominal phase voltage: `v[bus][order]`. `None` if singular.
     pub fn voltages(&self, s: usize, steps: &[u32]) -> Option<Vec<Vec<f64>>> {
+        let mut out: Option<Vec<Vec<f64>>> = None;
+        self.each_order(s, steps, |o, v, _| {
+            let n = v.len();
+            let no = self.points[s].len();
+            let rows = out.get_or_insert_with(|| vec![vec![0.0; no]; n]);
+            for (r, row) in rows.iter_mut().enumerate() {
+                row[o] = v[r].0;
+            }
+        })?;
+        Some(out.unwrap_or_default())
+    }
+
+    /// Calls `f(order index, per-bus (magnitude, phasor), inputs)` for every injected order
+    /// of scenario `s` with `steps`: the primary network's voltages, with the 3-wire part of
+    /// a split triplen order added (phasors under `phasor` summation, else by the law).
+    /// `None` if singular.
+    fn each_order(
+        &self,
+        s: usize,
+        steps: &[u32],
+        mut f: impl FnMut(usize, &[(f64, Complex64)], &[&OrderInputs]),
+    ) -> Option<()> {
         let (plan, pts, theta) = self.one_configuration(s, steps)?;
         let mut scratch = TransferScratch::default();
         let (n, l) = pts.first().map_or((0, 0), HarmonicPoint::shape);
-        let mut v = vec![vec![0.0; pts.len()]; n];
         let mut z = vec![Complex64::default(); n * l];
         let mut inj = Vec::new();
+        let mut v: Vec<(f64, Complex64)> = vec![(0.0, Complex64::default()); n];
         for (o, p) in pts.iter().enumerate() {
-            if !p.evaluate(&plan, &mut scratch, &mut z) {
-                return None;
+            let mut parts: Vec<(&HarmonicPoint, &OrderInputs)> = vec![(p, &self.inputs[s][o])];
+            if let (Some(Some(p2)), Some(Some(i2))) = (
+                self.points_tw.get(s).and_then(|x| x.get(o)),
+                self.inputs_tw.get(s).and_then(|x| x.get(o)),
+            ) {
+                parts.push((p2, i2));
             }
-            let inp = &self.inputs[s][o];
+            for (k, &(pt, inp)) in parts.iter().enumerate() {
+                if !pt.evaluate(&plan, &mut scratch, &mut z) {
+                    return None;
+                }
+                for (r, slot) in v.iter_mut().enumerate() {
+                    let (mag, ph) = if self.law == Summation::Phasor {
+                        phasor_currents(inp, pt.order, theta, l, &mut inj);
+                        let ph = dot(&z[r * l..(r + 1) * l], &inj);
+                        (0.0, ph)
+                    } else {
+                        let m = magnitude_sum(self.law, pt.order, inp, |c| abs(z[r * l + c]));
+                        (m, Complex64::default())
+                    };
+                    *slot = if k == 0 {
+                        (mag, ph)
+                    } else {
+                        (
+                            combine(self.law, pt.order, [slot.0, mag].into_iter()),
+                            slot.1 + ph,
+                        )
+                    };
+                }
+            }
             if self.law == Summation::Phasor {
-                phasor_currents(inp, p.order, theta, l, &mut inj);
-                for (r, row) in v.iter_mut().enumerate() {
-                    row[o] = abs(dot(&z[r * l..(r + 1) * l], &inj));
-                }
-            } else {
-                for (r, row) in v.iter_mut().enumerate() {
-                    row[o] = magnitude_sum(self.law, p.order, inp, |c| abs(z[r * l + c]));
-                }
+                v.iter_mut().for_each(|x| x.0 = abs(x.1));
             }
+            let inputs: Vec<&OrderInputs> = parts.iter().map(|x| x.1).collect();
+            f(o, &v, &inputs);
         }
-        Some(v)
+        Some(())
     }
 }
 
 impl Penetration {
     /// rms of the harmonic currents in each branch for scenario `s` with `steps`, A at the
-    /// branch's from-bus kV (every contribution by the summation law, as the bus voltages);
-    /// `None` if singular.
+    /// branch's from-bus kV (every contribution by the summation law, as the bus voltages;
+    /// the two parts of a split triplen order as the voltages); `None` if singular.
     pub fn branch_rms_a(&self, net: &Network, s: usize, steps: &[u32]) -> Option<Vec<f64>> {
         let (plan, pts, theta) = self.one_configuration(s, steps)?;
         let mut scratch = TransferScratch::default();
@@ -404,37 +460,104 @@ impl Penetration {
             .iter()
             .map(|b| amps_per_pu(net.buses[b.from].kv))
             .collect();
-        let mut rms = vec![0.0; net.branches.len()];
+        let nb = net.branches.len();
+        let mut rms = vec![0.0; nb];
         let mut z = vec![Complex64::default(); n * l];
         let mut inj = Vec::new();
         let mut v = vec![Complex64::default(); n];
         for (o, p) in pts.iter().enumerate() {
-            if !p.evaluate(&plan, &mut scratch, &mut z) {
-                return None;
+            let mut parts: Vec<(&HarmonicPoint, &OrderInputs)> = vec![(p, &self.inputs[s][o])];
+            if let (Some(Some(p2)), Some(Some(i2))) = (
+                self.points_tw.get(s).and_then(|x| x.get(o)),
+                self.inputs_tw.get(s).and_then(|x| x.get(o)),
+            ) {
+                parts.push((p2, i2));
             }
-            let inp = &self.inputs[s][o];
-            let h = p.order;
-            if self.law == Summation::Phasor {
-                phasor_currents(inp, h, theta, l, &mut inj);
-                for (r, vr) in v.iter_mut().enumerate() {
-                    *vr = dot(&z[r * l..(r + 1) * l], &inj);
+            // Per branch: the phasor (`phasor`) or the magnitude by the law.
+            let mut i_ph = vec![Complex64::default(); nb];
+            let mut i_mag = vec![0.0; nb];
+            for (part, &(pt, inp)) in parts.iter().enumerate() {
+                if !pt.evaluate(&plan, &mut scratch, &mut z) {
+                    return None;
                 }
-                for &(from, to, k, y) in &inp.branches {
-                    let a = abs((v[from] - v[to]) * y) * amps[k];
-                    rms[k] += a * a;
+                let h = pt.order;
+                if self.law == Summation::Phasor {
+                    phasor_currents(inp, h, theta, l, &mut inj);
+                    for (r, vr) in v.iter_mut().enumerate() {
+                        *vr = dot(&z[r * l..(r + 1) * l], &inj);
+                    }
+                    for &(from, to, k, y) in &inp.branches {
+                        i_ph[k] += (v[from] - v[to]) * y;
+                    }
+                } else {
+                    for &(from, to, k, y) in &inp.branches {
+                        let i = magnitude_sum(self.law, h, inp, |c| {
+                            abs((z[from * l + c] - z[to * l + c]) * y)
+                        });
+                        i_mag[k] = if part == 0 {
+                            i
+                        } else {
+                            combine(self.law, h, [i_mag[k], i].into_iter())
+                        };
+                    }
                 }
-            } else {
-                for &(from, to, k, y) in &inp.branches {
-                    let i = magnitude_sum(self.law, h, inp, |c| {
-                        abs((z[from * l + c] - z[to * l + c]) * y)
-                    });
-                    let a = i * amps[k];
-                    rms[k] += a * a;
-                }
+            }
+            for k in 0..nb {
+                let i = if self.law == Summation::Phasor {
+                    abs(i_ph[k])
+                } else {
+                    i_mag[k]
+                };
+                let a = i * amps[k];
+                rms[k] += a * a;
             }
         }
         Some(rms.into_iter().map(f64::sqrt).collect())
     }
+}
+
+/// The positive-sequence points and inputs of the 3-wire parts of zero-sequence triplen
+/// orders, per scenario and order.
+#[allow(clippy::type_complexity)]
+fn three_wire_parts(
+    engines: &SequenceEngines<'_, '_>,
+    inj: &Injections,
+    ns: usize,
+) -> Result<
+    (
+        Vec<Vec<Option<HarmonicPoint>>>,
+        Vec<Vec<Option<OrderInputs>>>,
+    ),
+    SolveError,
+> {
+    let mut points = Vec::with_capacity(ns);
+    let mut inputs = Vec::with_capacity(ns);
+    for s in 0..ns {
+        let mut ps = Vec::new();
+        let mut is = Vec::new();
+        for (o, part) in inj.three_wire.iter().enumerate() {
+            match part {
+                Some((current, phasor)) => {
+                    let h = inj.orders[o];
+                    ps.push(Some(engines.positive.harmonic_point(h, s, &inj.buses)?));
+                    is.push(Some(currents::part_inputs(
+                        engines.positive.network(),
+                        inj,
+                        (current, phasor),
+                        s,
+                        h,
+                    )));
+                }
+                None => {
+                    ps.push(None);
+                    is.push(None);
+                }
+            }
+        }
+        points.push(ps);
+        inputs.push(is);
+    }
+    Ok((points, inputs))
 }
 
 /// Fills a result's worst buses and in-plant flag from its per-bus values (every bus
@@ -489,6 +612,8 @@ struct Ctx<'a> {
     injections: &'a Injections,
     points: &'a [Vec<HarmonicPoint>],
     inputs: &'a [Vec<OrderInputs>],
+    points_tw: &'a [Vec<Option<HarmonicPoint>>],
+    inputs_tw: &'a [Vec<Option<OrderInputs>>],
     angles: &'a [Vec<f64>],
     configurations: &'a [Configuration],
     limits: &'a IndividualLimits,

@@ -244,6 +244,7 @@ pub(in crate::present::review) fn input(
             "Quantity",
             "Load factor",
             "Spectrum used",
+            "Connection",
         ],
         p.loads
             .iter()
@@ -264,6 +265,10 @@ pub(in crate::present::review) fn input(
                     n(l.quantity, "0.##"),
                     n(l.load_factor, "0.00"),
                     t(used),
+                    t(match l.wiring {
+                        Some(w) => w.label().to_string(),
+                        None => format!("{} (default)", l.wiring().label()),
+                    }),
                 ]
             })
             .collect(),
