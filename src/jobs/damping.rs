@@ -3,6 +3,8 @@
 //! study's damping models and again under the least-damped ones
 //! ([`crate::model::LEAST_DAMPED`]), re-run over the flagged configurations only.
 
+use std::collections::HashMap;
+
 use serde::Serialize;
 
 use super::results::{CheckError, CheckOptions, CheckResults};
@@ -45,28 +47,74 @@ pub fn key_figures(
     bank: &str,
     sequence: Sequence,
 ) -> Option<KeyFigures> {
-    let row = res.resonance.rows.iter().find(|r| {
-        r.scenario == scenario
-            && r.configuration == configuration
-            && r.bank == bank
-            && r.sequence == sequence
-    })?;
-    let s = (res.network.scenarios.iter()).position(|sc| sc.name == scenario)?;
-    let nc = res.scan.configurations.len();
-    let c = (0..nc).find(|&c| res.label(c) == configuration)?;
-    let bus = (res.network.banks.iter()).find(|b| b.id == bank)?.bus;
-    let thd = (res.penetration.results.get(s * nc + c))
-        .and_then(|d| d.thd_percent.get(bus).copied())
-        .filter(|v| v.is_finite());
-    let current = (res.duty.iter())
-        .find(|d| d.scenario == scenario && d.configuration == configuration && d.bank == bank)
-        .map(|d| d.ratios.rms_current * 100.0);
-    Some(KeyFigures {
-        peak_order: row.peak.map(|p| p.order),
-        amplification: row.peak.map(|p| p.amplification),
-        bus_thd_percent: thd,
-        capacitor_current_percent: current,
-    })
+    Lookup::new(res).figures(scenario, configuration, bank, sequence)
+}
+
+/// The rows, configurations and duty rows of one result by name, indexed once.
+struct Lookup<'r> {
+    res: &'r CheckResults,
+    rows: HashMap<(&'r str, &'r str, &'r str, Sequence), usize>,
+    configurations: HashMap<String, usize>,
+    duty: HashMap<(&'r str, &'r str, &'r str), usize>,
+}
+
+impl<'r> Lookup<'r> {
+    fn new(res: &'r CheckResults) -> Self {
+        Lookup {
+            res,
+            rows: (res.resonance.rows.iter().enumerate())
+                .map(|(i, r)| {
+                    let key = (
+                        r.scenario.as_str(),
+                        r.configuration.as_str(),
+                        r.bank.as_str(),
+                        r.sequence,
+                    );
+                    (key, i)
+                })
+                .collect(),
+            configurations: (0..res.scan.configurations.len())
+                .map(|c| (res.label(c), c))
+                .collect(),
+            duty: (res.duty.iter().enumerate())
+                .map(|(i, d)| {
+                    let key = (
+                        d.scenario.as_str(),
+                        d.configuration.as_str(),
+                        d.bank.as_str(),
+                    );
+                    (key, i)
+                })
+                .collect(),
+        }
+    }
+
+    fn figures(
+        &self,
+        scenario: &str,
+        configuration: &str,
+        bank: &str,
+        sequence: Sequence,
+    ) -> Option<KeyFigures> {
+        let res = self.res;
+        let row =
+            &res.resonance.rows[*self.rows.get(&(scenario, configuration, bank, sequence))?];
+        let s = (res.network.scenarios.iter()).position(|sc| sc.name == scenario)?;
+        let nc = res.scan.configurations.len();
+        let c = *self.configurations.get(configuration)?;
+        let bus = (res.network.banks.iter()).find(|b| b.id == bank)?.bus;
+        let thd = (res.penetration.results.get(s * nc + c))
+            .and_then(|d| d.thd_percent.get(bus).copied())
+            .filter(|v| v.is_finite());
+        let current = (self.duty.get(&(scenario, configuration, bank)))
+            .map(|&i| res.duty[i].ratios.rms_current * 100.0);
+        Some(KeyFigures {
+            peak_order: row.peak.map(|p| p.order),
+            amplification: row.peak.map(|p| p.amplification),
+            bus_thd_percent: thd,
+            capacitor_current_percent: current,
+        })
+    }
 }
 
 /// The band of every resonance row of `res` flagged `RESONANT`. Under the least-damped
@@ -107,19 +155,19 @@ pub fn damping_bands(
         Some(run_studies(&plant, &rerun)?)
     };
     let least_res = least.as_ref().unwrap_or(res);
+    let (here, there) = (Lookup::new(res), Lookup::new(least_res));
     Ok(flagged
         .iter()
         .filter_map(|r| {
-            let key = |x: &CheckResults| {
-                key_figures(x, &r.scenario, &r.configuration, &r.bank, r.sequence)
-            };
+            let key =
+                |x: &Lookup<'_>| x.figures(&r.scenario, &r.configuration, &r.bank, r.sequence);
             Some(DampingBand {
                 scenario: r.scenario.clone(),
                 configuration: r.configuration.clone(),
                 bank: r.bank.clone(),
                 sequence: r.sequence,
-                study: key(res)?,
-                least_damped: key(least_res)?,
+                study: key(&here)?,
+                least_damped: key(&there)?,
             })
         })
         .collect())

@@ -5,7 +5,7 @@
 
 use super::notes::Note;
 use super::results::{CheckError, CheckOptions, CheckResults, MAX_CONFIGURATIONS};
-use crate::model::Plant;
+use crate::model::{Plant, Sequence};
 use crate::network::Network;
 use crate::solve::Engine;
 use crate::study::background::background_shares;
@@ -227,7 +227,7 @@ fn screen(
         scan,
         map: &zero_map,
     });
-    let resonance = ResonanceStudy::run(
+    let mut resonance = ResonanceStudy::run(
         plant,
         &ctx.network,
         engine,
@@ -235,12 +235,54 @@ fn screen(
         zero_view.as_ref(),
         ctx.pcc,
     )?;
+    modes(plant, &mut resonance, &scan, engine, zero_view.as_ref())?;
     Ok(Screen {
         scan,
         zero_scan,
         zero_map,
         resonance,
     })
+}
+
+/// The critical mode at the worst peak of every `RESONANT` row (resonance mode analysis),
+/// in the row's own sequence network.
+fn modes(
+    plant: &Plant,
+    resonance: &mut ResonanceStudy,
+    scan: &Scan,
+    engine: &Engine<'_>,
+    zero: Option<&ZeroScan<'_, '_>>,
+) -> Result<(), CheckError> {
+    use rayon::prelude::*;
+    let label_of: std::collections::HashMap<String, usize> = (0..scan.configurations.len())
+        .map(|c| (scan.configurations[c].label(&plant.banks), c))
+        .collect();
+    let scenario_of = |name: &str| scan.scenarios.iter().position(|s| s == name);
+    resonance
+        .rows
+        .par_iter_mut()
+        .filter(|r| r.verdict == crate::study::Verdict::Resonant)
+        .try_for_each(|r| -> Result<(), CheckError> {
+            let (Some(peak), Some(s), Some(&c)) = (
+                r.peak,
+                scenario_of(&r.scenario),
+                label_of.get(&r.configuration),
+            ) else {
+                return Ok(());
+            };
+            let mode = match (r.sequence, zero) {
+                (Sequence::Zero, Some(z)) => {
+                    let steps = &z.scan.configurations[z.map[c]].steps;
+                    crate::study::modal::critical_mode(z.engine, peak.order, s, steps)?
+                }
+                _ => {
+                    let steps = &scan.configurations[c].steps;
+                    crate::study::modal::critical_mode(engine, peak.order, s, steps)?
+                }
+            };
+            r.mode = Some(mode);
+            Ok(())
+        })
 }
 
 /// Capacitor duty of every energized bank in every scenario × configuration, at the bank

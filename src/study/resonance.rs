@@ -235,6 +235,9 @@ pub struct ResonanceRow {
     pub peaks: Vec<ScreenedPeak>,
     /// The order of the peak the hand check explains (the one nearest `hand_order`).
     pub hand_peak_order: Option<f64>,
+    /// At a `RESONANT` row, the critical mode at its worst peak: which buses and banks
+    /// form it ([`crate::study::modal`]); `None` otherwise.
+    pub mode: Option<crate::study::modal::CriticalMode>,
     /// The sequence network scanned: `positive` (which carries the positive- and
     /// negative-sequence orders) or `zero` (triplen orders, grounded-wye banks only).
     pub sequence: Sequence,
@@ -495,6 +498,7 @@ fn row(
         verdict,
         peaks: screened,
         hand_peak_order,
+        mode: None,
         sequence,
     }
 }

@@ -213,6 +213,16 @@ fn every_row_names_its_worst_peak() {
         if r.peaks.len() > 1 {
             multi += 1;
         }
+        // Resonance mode analysis at every flagged row: the row's own bank takes part,
+        // and the banks' shares are parts of the bus participation (which sums to 1).
+        if let Some(m) = &r.mode {
+            assert!(m.converged, "{r:?}");
+            let total: f64 = m.banks.iter().map(|b| b.1).sum();
+            assert!(total <= 1.0 + 1e-12 && total > 0.0, "{total}");
+            assert!(m.banks.iter().any(|b| b.0 == r.bank && b.1 > 0.0));
+        } else {
+            assert_ne!(r.verdict, overtone::study::Verdict::Resonant);
+        }
     }
     assert!(multi >= 8, "{multi} rows with two modes");
 }
@@ -381,4 +391,54 @@ fn the_connection_column_round_trips_through_the_workbook() {
         "{:?}",
         read.warnings
     );
+}
+
+#[test]
+fn modal_participation_of_a_two_bus_two_bank_network_by_hand() {
+    // Two 480 V buses: A fed by a 10 MVA source (X/R 10), a 100 m cable (0.1 + j0.08 ohm/km,
+    // no charging) to B; a plain 300 kvar bank at A and 100 kvar at B (invented). By hand,
+    // per unit on 100 MVA: y_s = 1/(z_s·(1/√101)(1 + j10)·1), z_s = 100/10;
+    // y_l = 1/((0.1 + j·h·0.08)·0.1/Z_b), Z_b = 0.48²/100; y_A = j·h·0.003, y_B = j·h·0.001;
+    // Y = [[y_s + y_l + y_A, −y_l], [−y_l, y_l + y_B]]. A 2 × 2 symmetric matrix has the
+    // eigenvalues λ = (a + d)/2 ± √(((a − d)/2)² + b²) and the eigenvector (b, λ − a)
+    // (the quadratic formula); the critical one is the smaller |λ|; participation
+    // |T_k|²/Σ|T|² (Xu et al., IEEE Trans. Power Delivery 20(2), 2005, in magnitude).
+    use num_complex::Complex64 as C64;
+    let mut p = textbook_plant(60.0);
+    p.buses = vec![bus("A", 0.48), bus("B", 0.48)];
+    p.sources = vec![source("U", "A", 10.0, 10.0)];
+    p.cables = vec![Cable {
+        r_ohm_per_km: 0.1,
+        x_ohm_per_km: 0.08,
+        c_uf_per_km: 0.0,
+        ..cable("K", "A", "B", 100.0)
+    }];
+    p.banks = vec![
+        bank("CA", "A", 0.48, 300.0, 1, Reactor::None),
+        bank("CB", "B", 0.48, 100.0, 1, Reactor::None),
+    ];
+    let net = overtone::network::Network::build(&p).expect("network");
+    let engine = overtone::solve::Engine::new(&net, &[0, 1]);
+    let zb = 0.48 * 0.48 / 100.0;
+    for h in [5.0, 9.7, 23.0] {
+        let zs = 10.0 / 101f64.sqrt() * C64::new(1.0, 10.0 * h);
+        let yl = (C64::new(0.1, h * 0.08) * 0.1 / zb).inv();
+        let (ya, yb) = (C64::new(0.0, h * 0.003), C64::new(0.0, h * 0.001));
+        let (a, b, d) = (zs.inv() + yl + ya, -yl, yl + yb);
+        let root = (((a - d) / 2.0).powi(2) + b * b).sqrt();
+        let (l1, l2) = ((a + d) / 2.0 + root, (a + d) / 2.0 - root);
+        let lc = if l1.norm() < l2.norm() { l1 } else { l2 };
+        let t = [b, lc - a];
+        let total = t[0].norm_sqr() + t[1].norm_sqr();
+        let pf = [t[0].norm_sqr() / total, t[1].norm_sqr() / total];
+        let mode = overtone::study::modal::critical_mode(&engine, h, 0, &[1, 1]).expect("mode");
+        assert!(mode.converged, "h {h}");
+        assert_close(mode.eigenvalue_pu.re, lc.re, 1e-8);
+        assert_close(mode.eigenvalue_pu.im, lc.im, 1e-8);
+        assert_close(mode.modal_impedance_pu, 1.0 / lc.norm(), 1e-8);
+        let share = |id: &str| mode.banks.iter().find(|x| x.0 == id).map_or(0.0, |x| x.1);
+        // One bank per bus: each bank's share is its bus's participation.
+        assert_close(share("CA"), pf[0], 1e-8);
+        assert_close(share("CB"), pf[1], 1e-8);
+    }
 }

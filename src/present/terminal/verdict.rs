@@ -108,11 +108,22 @@ fn resonance_words(res: &CheckResults, bank: &str) -> String {
         };
         let worst = rows
             .iter()
-            .filter_map(|r| Some((r.peak?, r.nearest_characteristic?)))
+            .filter_map(|r| Some((r.peak?, r.nearest_characteristic?, r.mode.as_ref())))
             .max_by(|a, b| a.0.amplification.total_cmp(&b.0.amplification));
-        let worst = worst.map_or_else(String::new, |(p, h)| {
+        let worst = worst.map_or_else(String::new, |(p, h, mode)| {
+            let formed = mode.map_or_else(String::new, |m| {
+                let banks: Vec<String> = (m.banks.iter())
+                    .filter(|b| b.1 >= 0.01)
+                    .map(|(id, share)| format!("{id} {share:.2}"))
+                    .collect();
+                if banks.is_empty() {
+                    String::new()
+                } else {
+                    format!(", mode formed by {}", banks.join(" and "))
+                }
+            });
             format!(
-                "; worst peak h {:.2} x{:.1} near h {h}",
+                "; worst peak h {:.2} x{:.1} near h {h}{formed}",
                 p.order, p.amplification
             )
         });

@@ -194,6 +194,17 @@ fn resonance_cells(
         t(crate::present::words::resonance_verdict(r)),
         on(r.hand_peak_order, "0.000"),
         t(peaks_words(&r.peaks)),
+        t(r.mode.as_ref().map_or_else(String::new, |m| {
+            let banks: Vec<String> = (m.banks.iter())
+                .map(|(id, share)| format!("{id} {share:.2}"))
+                .collect();
+            format!(
+                "{}; {:.4}{}",
+                banks.join(", "),
+                m.modal_impedance_pu,
+                if m.converged { "" } else { " (not separated)" }
+            )
+        })),
     ]
 }
 
@@ -218,7 +229,7 @@ pub(super) fn resonance(
             )
         })
         .collect();
-    print_digest(ws, 1, 21, &keys, "Resonance")?;
+    print_digest(ws, 1, 22, &keys, "Resonance")?;
     verdict_colours(ws, 1, res.resonance.rows.len() as u32, 19)
 }
 

@@ -1,0 +1,156 @@
+//! Resonance mode analysis (Xu, Huang, Cui and Wang, "Harmonic resonance mode analysis",
+//! IEEE Trans. Power Delivery 20(2), 2005): at a resonance order h the nodal admittance
+//! matrix Y(h) has one eigenvalue λ_c much smaller than the others (the critical mode);
+//! its eigenvector says which buses take part. Y(h) of a reciprocal network is complex
+//! symmetric, so the left eigenvector is the right one transposed (L = Tᵀ) and the
+//! participation factor of bus k, L_k·T_k, is T_k² over Tᵀ·T; it is reported here in
+//! magnitude, |T_k|² / Σ|T_j|², which sums to 1.
+//!
+//! λ_c is found as the dominant eigenvalue of Z(h) = Y(h)⁻¹ by power iteration on the
+//! sparse factor of Y(h) (inverse iteration), with the symmetric quotient
+//! μ = xᵀ·Z·x / xᵀ·x; a mode the iteration cannot separate from the next (their |μ| within
+//! a few percent) is reported as not converged.
+
+use num_complex::Complex64;
+use serde::Serialize;
+
+use crate::solve::{Engine, SolveError};
+
+/// Iterations of the power method at most.
+const MAX_ITERATIONS: usize = 300;
+/// Change of the unit eigenvector between iterations (its phase aligned) below which the
+/// mode has converged.
+const TOLERANCE: f64 = 1e-12;
+
+/// The critical mode of Y(h) at one order, scenario and configuration.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CriticalMode {
+    /// The order analysed (the peak's).
+    pub order: f64,
+    /// The modal impedance 1/|λ_c|, per unit on the 100 MVA base.
+    pub modal_impedance_pu: f64,
+    /// The critical eigenvalue λ_c of Y(h), per unit.
+    #[serde(skip)]
+    pub eigenvalue_pu: Complex64,
+    /// Buses by participation factor, descending; those below 1 % left out.
+    pub buses: Vec<(String, f64)>,
+    /// Each energized bank's share: its bus's participation factor, split among the banks
+    /// energized on that bus by their admittance at h; descending.
+    pub banks: Vec<(String, f64)>,
+    /// False when the power iteration did not settle (two modes of nearly equal |λ|): the
+    /// participation is then a mixture and only indicative.
+    pub converged: bool,
+}
+
+/// The participation factors |T_k|² / Σ|T_j|² of eigenvector `t`.
+pub fn participation(t: &[Complex64]) -> Vec<f64> {
+    let total: f64 = t.iter().map(|x| x.norm_sqr()).sum();
+    t.iter()
+        .map(|x| {
+            if total > 0.0 {
+                x.norm_sqr() / total
+            } else {
+                0.0
+            }
+        })
+        .collect()
+}
+
+/// The dominant eigenpair of Z = Y⁻¹ by power iteration, `solve(x)` replacing x by Z·x:
+/// (μ, eigenvector scaled to ‖x‖ = 1, converged).
+pub fn dominant(
+    n: usize,
+    mut solve: impl FnMut(&mut [Complex64]),
+) -> (Complex64, Vec<Complex64>, bool) {
+    // A start with a component on every mode: 1 + small distinct parts.
+    let mut x: Vec<Complex64> = (0..n)
+        .map(|k| Complex64::new(1.0 + 0.01 * (k % 7) as f64, 0.001 * (k % 5) as f64))
+        .collect();
+    let normalize = |x: &mut [Complex64]| {
+        let norm = x.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
+        if norm > 0.0 {
+            x.iter_mut().for_each(|v| *v /= norm);
+        }
+    };
+    normalize(&mut x);
+    let mut mu = Complex64::default();
+    let mut converged = false;
+    let mut y = x.clone();
+    for _ in 0..MAX_ITERATIONS {
+        y.copy_from_slice(&x);
+        solve(&mut y);
+        let num: Complex64 = x.iter().zip(&y).map(|(a, b)| a * b).sum();
+        let den: Complex64 = x.iter().map(|a| a * a).sum();
+        let next = if den.norm() > 0.0 { num / den } else { num };
+        normalize(&mut y);
+        // The iterate turns by arg(μ) each step: compare it with x turned alike.
+        let turn: Complex64 = x.iter().zip(&y).map(|(a, b)| a.conj() * b).sum();
+        let phase = if turn.norm() > 0.0 {
+            turn / turn.norm()
+        } else {
+            Complex64::new(1.0, 0.0)
+        };
+        let change = (x.iter().zip(&y))
+            .map(|(a, b)| (b - a * phase).norm_sqr())
+            .sum::<f64>()
+            .sqrt();
+        std::mem::swap(&mut x, &mut y);
+        mu = next;
+        if change <= TOLERANCE {
+            converged = true;
+            break;
+        }
+    }
+    (mu, x, converged)
+}
+
+/// The critical mode of `engine`'s network at `order` in `scenario` with `steps` of each
+/// bank energized.
+pub fn critical_mode(
+    engine: &Engine<'_>,
+    order: f64,
+    scenario: usize,
+    steps: &[u32],
+) -> Result<CriticalMode, SolveError> {
+    let net = engine.network();
+    let f = engine.factor(order, scenario, steps)?;
+    let n = net.buses.len();
+    let (mu, t, converged) = dominant(n, |x| engine.solve(&f, x));
+    let pf = participation(&t);
+    let mut buses: Vec<(String, f64)> = (net.buses.iter().zip(&pf))
+        .filter(|(_, p)| **p >= 0.01)
+        .map(|(b, p)| (b.id.clone(), *p))
+        .collect();
+    buses.sort_by(|a, b| b.1.total_cmp(&a.1));
+    let y = engine.y_steps(order);
+    let y_bank = |b: usize| y[b].norm() * f64::from(steps.get(b).copied().unwrap_or(0));
+    let mut banks: Vec<(String, f64)> = (net.banks.iter().enumerate())
+        .filter(|(b, _)| steps.get(*b).is_some_and(|&k| k > 0))
+        .map(|(b, bank)| {
+            let on_bus: f64 = (0..net.banks.len())
+                .filter(|&o| net.banks[o].bus == bank.bus)
+                .map(y_bank)
+                .sum();
+            let share = if on_bus > 0.0 {
+                pf[bank.bus] * y_bank(b) / on_bus
+            } else {
+                0.0
+            };
+            (bank.id.clone(), share)
+        })
+        .collect();
+    banks.sort_by(|a, b| b.1.total_cmp(&a.1));
+    let lambda = if mu.norm() > 0.0 {
+        mu.inv()
+    } else {
+        Complex64::default()
+    };
+    Ok(CriticalMode {
+        order,
+        modal_impedance_pu: mu.norm(),
+        eigenvalue_pu: lambda,
+        buses,
+        banks,
+        converged,
+    })
+}
