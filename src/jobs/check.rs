@@ -16,8 +16,14 @@ pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, 
     let auto = res.scan.configurations.len() <= AUTO_REMEDY_CONFIGURATIONS;
     match options.remedies {
         _ if options.scan_only => {}
-        Some(true) => res.remedies = super::remedies::remedies(&res, options),
-        None if auto => res.remedies = super::remedies::remedies(&res, options),
+        Some(true) => {
+            res.remedies = super::remedies::remedies(&res, options);
+            res.plant_remedies = super::remedies::plant_remedies(&res, options);
+        }
+        None if auto => {
+            res.remedies = super::remedies::remedies(&res, options);
+            res.plant_remedies = super::remedies::plant_remedies(&res, options);
+        }
         None => res.notes.push(Note::RemediesNotStudied {
             combinations: res.scan.configurations.len(),
             auto_limit: AUTO_REMEDY_CONFIGURATIONS,

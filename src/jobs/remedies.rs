@@ -2,7 +2,9 @@
 //! [`crate::study::remedy`] each re-run through the studies over every configuration with
 //! the bank on, counted with the same findings `check` reports, and ranked.
 
-use super::results::{BankRemedies, CheckOptions, CheckResults};
+use super::results::{
+    BankRemedies, CheckOptions, CheckResults, JointOption, JointResult, PlantRemedies,
+};
 use super::studies::run_studies;
 use crate::model::Sequence;
 use crate::study::limits::LimitRow;
@@ -11,7 +13,20 @@ use crate::study::tolerance::ToleranceBand;
 
 /// The before/after outcome for `bank` over the configurations labelled `labels` of `res`.
 pub fn outcome(res: &CheckResults, bank: &str, labels: &[String]) -> Outcome {
-    let has = |c: &str| labels.iter().any(|l| l == c);
+    outcome_of(res, &|b| b == bank, labels)
+}
+
+/// The whole plant's outcome over the configurations labelled `labels`: every bank's
+/// resonance, tolerance and duty rows, and the limits.
+pub fn plant_outcome(res: &CheckResults, labels: &[String]) -> Outcome {
+    outcome_of(res, &|_| true, labels)
+}
+
+/// The outcome of the banks `of_bank` accepts over the configurations `labels`.
+// Long: one count per finding, each over the same configurations.
+fn outcome_of(res: &CheckResults, of_bank: &dyn Fn(&str) -> bool, labels: &[String]) -> Outcome {
+    let labels: std::collections::HashSet<&str> = labels.iter().map(String::as_str).collect();
+    let has = |c: &str| labels.contains(c);
     let limits: Vec<&LimitRow> = res
         .limit_rows
         .iter()
@@ -20,7 +35,7 @@ pub fn outcome(res: &CheckResults, bank: &str, labels: &[String]) -> Outcome {
     let bands: Vec<&ToleranceBand> = res
         .tolerance
         .iter()
-        .filter(|t| t.bank == bank && has(&t.configuration))
+        .filter(|t| of_bank(&t.bank) && has(&t.configuration))
         .collect();
     let of_sequence = |seq: Sequence| -> Vec<f64> { res.resonance.orders_of(seq).to_vec() };
     let margin_percent = bands
@@ -42,7 +57,7 @@ pub fn outcome(res: &CheckResults, bank: &str, labels: &[String]) -> Outcome {
             .rows
             .iter()
             .filter(|r| {
-                r.bank == bank
+                of_bank(&r.bank)
                     && has(&r.configuration)
                     && r.verdict == crate::study::Verdict::Resonant
             })
@@ -51,7 +66,7 @@ pub fn outcome(res: &CheckResults, bank: &str, labels: &[String]) -> Outcome {
         duty_exceeded: res
             .duty
             .iter()
-            .filter(|r| r.bank == bank && has(&r.configuration) && r.exceeds)
+            .filter(|r| of_bank(&r.bank) && has(&r.configuration) && r.exceeds)
             .count(),
         worst_thd_percent: limits.iter().map(|r| r.worst_thd.value).fold(0.0, f64::max),
         worst_tdd_percent: limits.iter().map(|r| r.tdd.value).fold(0.0, f64::max),
@@ -189,6 +204,158 @@ pub fn remedies(res: &CheckResults, options: &CheckOptions) -> Vec<BankRemedies>
             bank: bank.id.clone(),
             reason,
             configurations: labels,
+            results,
+        });
+    }
+    out
+}
+
+/// The smallest share of a flagged mode that makes a bank one of the banks forming it.
+const MODE_SHARE: f64 = 0.1;
+
+/// The sets of banks (indices, sheet order) that form a flagged mode together: at every
+/// `RESONANT` row, the banks whose share of the critical mode is at least
+/// [`MODE_SHARE`]; each set of two or more once.
+pub fn mode_groups(res: &CheckResults) -> Vec<Vec<usize>> {
+    let mut groups: Vec<Vec<usize>> = Vec::new();
+    for r in &res.resonance.rows {
+        let Some(mode) = &r.mode else { continue };
+        let mut g: Vec<usize> = (mode.banks.iter())
+            .filter(|(_, share)| *share >= MODE_SHARE)
+            .filter_map(|(id, _)| res.plant.banks.iter().position(|b| &b.id == id))
+            .collect();
+        g.sort_unstable();
+        if g.len() >= 2 && !groups.contains(&g) {
+            groups.push(g);
+        }
+    }
+    groups
+}
+
+/// The joint options of a group: each detuning every bank of it can take (the same name
+/// for all), then one tuned filter in place of the bank with the largest share.
+fn joint_options(res: &CheckResults, group: &[usize]) -> Vec<JointOption> {
+    let per_bank: Vec<Vec<crate::study::remedy::RemedyOption>> = group
+        .iter()
+        .map(|&b| {
+            let bank = &res.plant.banks[b];
+            let bus_kv = res.network.buses[res.network.banks[b].bus].kv;
+            crate::study::remedy::options(
+                &res.plant,
+                bank,
+                bus_kv,
+                &res.resonance.characteristic_orders,
+                res.resonance.margin_percent,
+            )
+        })
+        .collect();
+    let ids: Vec<String> = group
+        .iter()
+        .map(|&b| res.plant.banks[b].id.clone())
+        .collect();
+    let mut out = Vec::new();
+    for first in per_bank.first().into_iter().flatten() {
+        if matches!(first.reactor, crate::model::Reactor::Tuned { .. }) {
+            continue;
+        }
+        let all: Option<Vec<(String, crate::study::remedy::RemedyOption)>> = (ids.iter())
+            .zip(&per_bank)
+            .map(|(id, opts)| {
+                opts.iter()
+                    .find(|o| o.reactor == first.reactor)
+                    .map(|o| (id.clone(), o.clone()))
+            })
+            .collect();
+        if let Some(banks) = all {
+            out.push(JointOption {
+                name: format!("{}: {}", first.name, ids.join(" and ")),
+                banks,
+            });
+        }
+    }
+    // One filter for the mode: in place of the bank with the largest share anywhere.
+    let top = (res.resonance.rows.iter())
+        .filter_map(|r| r.mode.as_ref())
+        .flat_map(|m| m.banks.iter())
+        .filter(|(id, _)| ids.contains(id))
+        .max_by(|a, b| a.1.total_cmp(&b.1))
+        .and_then(|(id, _)| ids.iter().position(|i| i == id));
+    if let Some(k) = top
+        && let Some(filter) = per_bank[k]
+            .iter()
+            .find(|o| matches!(o.reactor, crate::model::Reactor::Tuned { .. }))
+    {
+        out.push(JointOption {
+            name: format!("{} in place of {}", filter.name, ids[k]),
+            banks: vec![(ids[k].clone(), filter.clone())],
+        });
+    }
+    out
+}
+
+/// Whole-plant remedies: for every set of banks forming a flagged mode together, each
+/// joint option re-run over every studied configuration and ranked by the plant's
+/// outcome: an option that makes the plant's worst THD or TDD worse after every one that
+/// does not; then passing, fewer configurations over a limit, the lower worst THD.
+pub fn plant_remedies(res: &CheckResults, options: &CheckOptions) -> Vec<PlantRemedies> {
+    let labels: Vec<String> = (0..res.scan.configurations.len())
+        .map(|c| res.label(c))
+        .collect();
+    let before = plant_outcome(res, &labels);
+    let rerun = CheckOptions {
+        buses: options.buses.clone(),
+        configurations: labels.clone(),
+        progress: None,
+        remedies: Some(false),
+        scan_only: false,
+        switching: false,
+        evaluation: options.evaluation,
+        damping_band: Some(false),
+    };
+    let mut out = Vec::new();
+    for group in mode_groups(res) {
+        let mut results: Vec<JointResult> = joint_options(res, &group)
+            .into_iter()
+            .filter_map(|option| {
+                let mut changed = res.plant.clone();
+                for (id, o) in &option.banks {
+                    let b = changed.banks.iter().position(|x| &x.id == id)?;
+                    changed.banks[b] = crate::study::remedy::apply(&changed.banks[b], o);
+                }
+                let after_res = run_studies(&changed, &rerun).ok()?;
+                let after = plant_outcome(&after_res, &labels);
+                Some(JointResult {
+                    passes: after.resonant == 0
+                        && after.duty_exceeded == 0
+                        && after.tolerance_flagged == 0,
+                    worsens: crate::study::remedy::worsens(&before, &after),
+                    option,
+                    before: before.clone(),
+                    after,
+                    rank: 0,
+                })
+            })
+            .collect();
+        results.sort_by(|a, b| {
+            a.worsens
+                .cmp(&b.worsens)
+                .then(b.passes.cmp(&a.passes))
+                .then(a.after.limits_exceeded.cmp(&b.after.limits_exceeded))
+                .then(a.after.resonant.cmp(&b.after.resonant))
+                .then(
+                    a.after
+                        .worst_thd_percent
+                        .total_cmp(&b.after.worst_thd_percent),
+                )
+        });
+        for (i, r) in results.iter_mut().enumerate() {
+            r.rank = i + 1;
+        }
+        out.push(PlantRemedies {
+            banks: group
+                .iter()
+                .map(|&b| res.plant.banks[b].id.clone())
+                .collect(),
             results,
         });
     }

@@ -10,7 +10,7 @@ use crate::study::duty::DutyRow;
 use crate::study::limits::{LimitContext, LimitRow};
 use crate::study::operating::{OperatingSolver, OperatingStudy};
 use crate::study::penetration::{BankAmplification, Penetration};
-use crate::study::remedy::RemedyResult;
+use crate::study::remedy::{Outcome, RemedyOption, RemedyResult};
 use crate::study::switching::SwitchingStudy;
 use crate::study::tolerance::ToleranceBand;
 use crate::study::{ResonanceStudy, Scan};
@@ -80,6 +80,41 @@ pub struct BankRemedies {
     pub results: Vec<RemedyResult>,
 }
 
+/// One whole-plant remedy option: a change to several banks at once.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct JointOption {
+    /// e.g. `7 % detuned: CAP-EX and CAP-A`.
+    pub name: String,
+    /// Each changed bank with its sized option.
+    pub banks: Vec<(String, RemedyOption)>,
+}
+
+/// A whole-plant option re-run over every configuration, judged by the plant's outcome.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct JointResult {
+    pub option: JointOption,
+    /// Every bank's rows, every configuration.
+    pub before: Outcome,
+    pub after: Outcome,
+    /// No bank resonant, beyond its duty or reaching a characteristic order across its
+    /// tolerance, in any configuration.
+    pub passes: bool,
+    /// The plant's worst THD or TDD is higher after.
+    pub worsens: bool,
+    /// 1 = best.
+    pub rank: usize,
+}
+
+/// The whole-plant options for the banks that form a flagged mode together.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct PlantRemedies {
+    /// The banks forming the mode (share of the critical mode at least 0.1 at a flagged
+    /// peak), in the Capacitors sheet's order.
+    pub banks: Vec<String>,
+    /// Options in rank order.
+    pub results: Vec<JointResult>,
+}
+
 /// Everything the studies found.
 #[derive(Debug, Clone)]
 pub struct CheckResults {
@@ -117,6 +152,9 @@ pub struct CheckResults {
     pub amplification: Vec<Vec<BankAmplification>>,
     /// Remedies for the flagged banks (empty when not studied; see `notes`).
     pub remedies: Vec<BankRemedies>,
+    /// Whole-plant remedies for the banks that form a flagged mode together (empty when no
+    /// flagged mode has two banks, or remedies were not studied).
+    pub plant_remedies: Vec<PlantRemedies>,
     /// Every flagged resonance's key figures under the study's damping models and the
     /// least-damped ones (empty when nothing is flagged or it was not asked).
     pub damping: Vec<super::damping::DampingBand>,

@@ -551,6 +551,7 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
         background,
         amplification,
         remedies: Vec::new(),
+        plant_remedies: Vec::new(),
         damping: Vec::new(),
         notes,
         pcc: ctx.pcc,

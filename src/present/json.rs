@@ -108,6 +108,8 @@ pub struct Summary<'a> {
     tolerance: &'a [crate::study::tolerance::ToleranceBand],
     transients: &'a [crate::study::switching::SwitchingEvent],
     remedies: &'a [crate::jobs::check::BankRemedies],
+    /// Whole-plant options for the banks that form a flagged mode together.
+    plant_remedies: &'a [crate::jobs::check::PlantRemedies],
     damping: DampingJson<'a>,
     assumptions: &'a [Note],
     cautions: &'static [&'static str],
@@ -172,6 +174,7 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         tolerance: &res.tolerance,
         transients: &res.switching.events,
         remedies: &res.remedies,
+        plant_remedies: &res.plant_remedies,
         damping: DampingJson {
             least_damped_resistance_model: crate::model::LEAST_DAMPED.0,
             least_damped_load_model: crate::model::LEAST_DAMPED.1,

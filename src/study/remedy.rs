@@ -151,13 +151,26 @@ pub fn apply(bank: &CapacitorBank, option: &RemedyOption) -> CapacitorBank {
     }
 }
 
-/// Orders results by the ranking rule and numbers them.
+/// True when `after` makes the plant's worst figure worse than `before`: a higher worst
+/// voltage THD or TDD over the configurations compared.
+pub fn worsens(before: &Outcome, after: &Outcome) -> bool {
+    const SLACK: f64 = 1e-9;
+    after.worst_thd_percent > before.worst_thd_percent * (1.0 + SLACK)
+        || after.worst_tdd_percent > before.worst_tdd_percent * (1.0 + SLACK)
+}
+
+/// Orders results by the ranking rule and numbers them: an option that makes the plant's
+/// worst figure worse ([`worsens`]) after every one that does not; then the bank's own
+/// checks passing, the capacitor voltage class, the margin across the tolerance band,
+/// linearity headroom and the reactor's size.
 pub fn rank(results: &mut [RemedyResult]) {
     let margin = |r: &RemedyResult| r.after.margin_percent.unwrap_or(f64::NEG_INFINITY);
     let linearity = |r: &RemedyResult| r.linearity_ratio.unwrap_or(0.0);
+    let worse = |r: &RemedyResult| worsens(&r.before, &r.after);
     results.sort_by(|a, b| {
-        b.passes
-            .cmp(&a.passes)
+        worse(a)
+            .cmp(&worse(b))
+            .then(b.passes.cmp(&a.passes))
             .then(
                 a.option
                     .step

@@ -442,3 +442,43 @@ fn modal_participation_of_a_two_bus_two_bank_network_by_hand() {
         assert_close(share("CB"), pf[1], 1e-8);
     }
 }
+
+#[test]
+fn the_banks_forming_a_mode_are_remedied_together() {
+    // Consistency: on the two-switchboard plant the flagged modes are formed by CAP-EX and
+    // CAP-A together; the whole-plant options change both (or put one filter in place of
+    // the bank with the largest share), each is re-run over every configuration, and an
+    // option that makes the plant's worst THD or TDD worse never ranks above one that
+    // does not. The first option's outcome is that of the changed plant checked afresh.
+    let p = two_switchboards();
+    let options = overtone::jobs::check::CheckOptions {
+        remedies: Some(true),
+        ..Default::default()
+    };
+    let res = run_check(&p, &options).expect("runs");
+    let pr = res
+        .plant_remedies
+        .iter()
+        .find(|r| r.banks == ["CAP-EX", "CAP-A"])
+        .expect("the two banks form a mode together");
+    assert!(pr.results.len() >= 3, "{:?}", pr.results.len());
+    let first_worse = pr.results.iter().position(|r| r.worsens);
+    if let Some(k) = first_worse {
+        assert!(pr.results[k..].iter().all(|r| r.worsens));
+    }
+    let best = &pr.results[0];
+    let mut changed = p.clone();
+    for (id, o) in &best.option.banks {
+        let b = changed.banks.iter().position(|x| &x.id == id).unwrap();
+        changed.banks[b] = overtone::study::remedy::apply(&changed.banks[b], o);
+    }
+    let after = run_check(&changed, &Default::default()).expect("runs");
+    let resonant = (after.resonance.rows.iter())
+        .filter(|r| r.verdict == overtone::study::Verdict::Resonant)
+        .count();
+    assert_eq!(best.after.resonant, resonant);
+    assert!(best.before.resonant > 0);
+    // Detuning both banks clears every mode of this plant.
+    assert!(best.passes, "{:?}", best.option.name);
+    assert_eq!(best.after.resonant, 0);
+}

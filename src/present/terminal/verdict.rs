@@ -181,6 +181,33 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     for (b, m) in res.plant.banks.iter().zip(&res.network.banks) {
         write_bank_verdict(out, res, b, m, not_studied)?;
     }
+    for pr in &res.plant_remedies {
+        if let Some(x) = pr.results.first() {
+            write_hanging(
+                out,
+                "- ",
+                "    ",
+                &format!(
+                    "Mode of {} together: recommended {} ({}{}); resonant rows {} -> {}, duty rows over {} -> {}, worst THD {:.1} -> {:.1} %.",
+                    pr.banks.join(" and "),
+                    x.option.name,
+                    if x.passes { "passes" } else { "still flagged" },
+                    if x.worsens {
+                        ", worsens the worst figure"
+                    } else {
+                        ""
+                    },
+                    x.before.resonant,
+                    x.after.resonant,
+                    x.before.duty_exceeded,
+                    x.after.duty_exceeded,
+                    x.before.worst_thd_percent,
+                    x.after.worst_thd_percent
+                ),
+                WIDTH,
+            )?;
+        }
+    }
     if let Some(line) = pcc_line(res) {
         write_hanging(out, "- ", "    ", &line, WIDTH)?;
     }
