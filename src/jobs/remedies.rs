@@ -293,6 +293,22 @@ fn joint_options(res: &CheckResults, group: &[usize]) -> Vec<JointOption> {
     out
 }
 
+/// The largest step peak current over √2 × the reactor's linearity current among the
+/// changed banks of `option` in `after` (see [`RemedyResult::linearity_ratio`]); `None`
+/// without a reactor.
+fn joint_linearity(after: &CheckResults, option: &JointOption) -> Option<f64> {
+    option
+        .banks
+        .iter()
+        .filter(|(_, o)| o.step.linearity_a > 0.0)
+        .flat_map(|(id, o)| {
+            (after.duty.iter())
+                .filter(move |r| &r.bank == id)
+                .map(move |r| r.ratios.step_peak_a / (2f64.sqrt() * o.step.linearity_a))
+        })
+        .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.max(v))))
+}
+
 /// Whole-plant remedies: for every set of banks forming a flagged mode together, each
 /// joint option re-run over every studied configuration and ranked by the plant's
 /// outcome: an option that makes the plant's worst THD or TDD worse after every one that
@@ -324,10 +340,13 @@ pub fn plant_remedies(res: &CheckResults, options: &CheckOptions) -> Vec<PlantRe
                 }
                 let after_res = run_studies(&changed, &rerun).ok()?;
                 let after = plant_outcome(&after_res, &labels);
+                let linearity_ratio = joint_linearity(&after_res, &option);
                 Some(JointResult {
                     passes: after.resonant == 0
                         && after.duty_exceeded == 0
-                        && after.tolerance_flagged == 0,
+                        && after.tolerance_flagged == 0
+                        && linearity_ratio.is_none_or(|r| r <= 1.0),
+                    linearity_ratio,
                     worsens: crate::study::remedy::worsens(&before, &after),
                     option,
                     before: before.clone(),

@@ -97,8 +97,11 @@ pub struct JointResult {
     pub before: Outcome,
     pub after: Outcome,
     /// No bank resonant, beyond its duty or reaching a characteristic order across its
-    /// tolerance, in any configuration.
+    /// tolerance, in any configuration, and no changed bank's reactor beyond its linearity.
     pub passes: bool,
+    /// The changed banks' largest step peak current over the reactor's linearity peak
+    /// (`None` without a reactor).
+    pub linearity_ratio: Option<f64>,
     /// The plant's worst THD or TDD is higher after.
     pub worsens: bool,
     /// 1 = best.

@@ -564,5 +564,61 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
             r += 1;
         }
     }
-    verdict_colours(ws, first, r.saturating_sub(1), 14)
+    verdict_colours(ws, first, r.saturating_sub(1), 14)?;
+    plant_remedies(ws, res, r + 1)
+}
+
+const PLANT_REMEDY_HEADS: &[(&str, f64)] = &[
+    ("Banks forming the mode", 16.0),
+    ("Rank", 6.0),
+    ("Whole-plant option", 40.0),
+    ("Resonant rows before", 10.0),
+    ("after", 8.0),
+    ("Duty rows over before", 10.0),
+    ("after", 8.0),
+    ("Configurations over a limit after", 12.0),
+    ("Worst THD before (%)", 10.0),
+    ("after (%)", 9.0),
+    ("Worst TDD after (%)", 10.0),
+    ("Verdict", 24.0),
+];
+
+/// The whole-plant options (every bank of a flagged mode changed together), from row `r`.
+fn plant_remedies(ws: &mut Worksheet, res: &CheckResults, r: u32) -> Result<(), XlsxError> {
+    if res.plant_remedies.is_empty() {
+        return Ok(());
+    }
+    header(ws, r, PLANT_REMEDY_HEADS)?;
+    let first = r + 1;
+    let mut r = first;
+    for pr in &res.plant_remedies {
+        for x in &pr.results {
+            let verdict = match (x.passes, x.worsens) {
+                (true, false) => "passes",
+                (true, true) => "passes; worsens the worst figure",
+                (false, false) => "fails",
+                (false, true) => "fails; worsens the worst figure",
+            };
+            row(
+                ws,
+                r,
+                &[
+                    t(pr.banks.join(", ")),
+                    n(x.rank as f64, "0"),
+                    t(&x.option.name),
+                    n(x.before.resonant as f64, "0"),
+                    n(x.after.resonant as f64, "0"),
+                    n(x.before.duty_exceeded as f64, "0"),
+                    n(x.after.duty_exceeded as f64, "0"),
+                    n(x.after.limits_exceeded as f64, "0"),
+                    n(x.before.worst_thd_percent, "0.00"),
+                    n(x.after.worst_thd_percent, "0.00"),
+                    n(x.after.worst_tdd_percent, "0.00"),
+                    t(verdict),
+                ],
+            )?;
+            r += 1;
+        }
+    }
+    verdict_colours(ws, first, r.saturating_sub(1), 11)
 }
