@@ -278,3 +278,35 @@ fn no_plan_passing_is_a_result_with_the_nearest_plans_and_what_each_fails() {
             .all(|w| w[0].fails.len() <= w[1].fails.len())
     );
 }
+
+#[test]
+fn a_plan_the_controller_never_switches_in_is_not_recommended() {
+    // A stiff 480 V bus with 400 kW at pf 0.8 (Q = 300 kvar, textbook) and an existing plain
+    // 300 kvar bank: the existing bank alone brings the PCC to unity, and one 50 kvar step
+    // more would lead, so the controller never switches the designed step in. Such a plan
+    // reaches the target only through the other bank's states: it fails, saying so.
+    let mut p = stiff_bus(400.0, 0.8);
+    p.banks = vec![CapacitorBank {
+        status: BankStatus::Existing,
+        ..crate::common::bank("EX", "B", 0.48, 300.0, 1, Reactor::None)
+    }];
+    p.design = vec![row("B", &[50.0], (1, 1), &[Reactor::None], &[0.48])];
+    let d = design(&p);
+    assert!(!d.plans.is_empty());
+    for plan in &d.plans {
+        let never = plan
+            .control
+            .iter()
+            .flatten()
+            .all(|c| c.steps.last() == Some(&0));
+        assert!(never, "{:?}", plan.control);
+        assert!(
+            plan.fails
+                .iter()
+                .any(|f| f.contains("never switches it in")),
+            "{:?}",
+            plan.fails
+        );
+    }
+    assert_eq!(d.recommended, None);
+}

@@ -79,6 +79,7 @@ pub(super) fn evaluate(
         baseline,
         (pcc_thd_percent, tdd_percent),
     ));
+    fails.extend(controller_fails(res, &control, levels));
     let (pf_weighted, pf_lowest) = pf_over_levels(&control, levels);
     PlanResult {
         effective_kvar: f64::from(plan.steps) * plan.effective_step_kvar(bus_kv),
@@ -101,6 +102,62 @@ pub(super) fn evaluate(
         rank: 0,
         row,
     }
+}
+
+/// What the plan's controller does that the plant cannot accept: a designed bank (the last)
+/// it never switches in at any level and scenario (the target is then reached, if at all,
+/// by the other banks alone), and a state it reaches where another bank is RESONANT (the
+/// designed bank's own resonance is judged over every configuration already).
+fn controller_fails(res: &CheckResults, control: &[Vec<Control>], levels: &[Level]) -> Vec<String> {
+    let mut fails = Vec::new();
+    let designed = res.plant.banks.len().saturating_sub(1);
+    let used = control
+        .iter()
+        .flatten()
+        .any(|c| c.steps.get(designed).is_some_and(|&k| k > 0));
+    if !used && !control.is_empty() {
+        let others = control
+            .iter()
+            .flatten()
+            .any(|c| c.reaches && c.steps.iter().any(|&k| k > 0));
+        fails.push(if others {
+            "the controller never switches it in: only the other banks' steps reach the target"
+                .to_string()
+        } else {
+            "the controller never switches it in at any level".to_string()
+        });
+    }
+    let mut seen: Vec<(usize, Vec<u32>)> = Vec::new();
+    for (l, per) in control.iter().enumerate() {
+        for (s, c) in per.iter().enumerate() {
+            if seen.contains(&(s, c.steps.clone())) {
+                continue;
+            }
+            seen.push((s, c.steps.clone()));
+            let label = crate::study::Configuration {
+                steps: c.steps.clone(),
+            }
+            .label(&res.plant.banks);
+            let scenario = &res.network.scenarios[s].name;
+            let resonant: Vec<&str> = (res.resonance.rows.iter())
+                .filter(|r| {
+                    &r.scenario == scenario
+                        && r.configuration == label
+                        && r.verdict == Verdict::Resonant
+                        && r.bank != res.plant.banks[designed].id
+                })
+                .map(|r| r.bank.as_str())
+                .collect();
+            if !resonant.is_empty() {
+                fails.push(format!(
+                    "at {} ({scenario}) the controller reaches {label}, where {} is RESONANT",
+                    levels[l].name,
+                    resonant.join(" and ")
+                ));
+            }
+        }
+    }
+    fails
 }
 
 /// The levels and scenarios where the plan leaves the power factor below the target although
