@@ -33,6 +33,9 @@ pub struct Context<'p> {
     pub configurations: Vec<Configuration>,
     /// The grounded-wye banks' buses (the zero-sequence scan's buses).
     pub zero_buses: Vec<usize>,
+    /// The positive-sequence network without shunts: sources, transformers and cables
+    /// alone (Isc at the PCC, the hand check's S_sc where the path is not unique).
+    pub short_circuit: Network,
 }
 
 impl<'p> Context<'p> {
@@ -64,6 +67,7 @@ impl<'p> Context<'p> {
         }
         Ok(Context {
             plant,
+            short_circuit: network.short_circuit_network(),
             network,
             zero,
             pcc,
@@ -145,13 +149,15 @@ fn zero_projections(
     (distinct, map)
 }
 
-/// The PCC's short-circuit current Isc, kA: the largest fault current over the scenarios,
-/// from the fundamental Thevenin impedance without banks, I = S_base / (|Z_pu| · √3 · kV)
-/// (the PCC is the first bus scanned).
-fn pcc_isc_ka(ctx: &Context<'_>, engine: &Engine<'_>, scan: &Scan) -> Result<f64, CheckError> {
+/// The PCC's short-circuit current Isc, kA, as IEEE 519-2014 takes it (the available
+/// short-circuit current at the PCC): the largest fault current over the scenarios from the
+/// fundamental Thevenin impedance of the sources, transformers and cables alone (loads,
+/// motors, cable charging and banks left out), I = S_base / (|Z_pu| · √3 · kV).
+fn pcc_isc_ka(ctx: &Context<'_>) -> Result<f64, CheckError> {
+    let engine = Engine::new(&ctx.short_circuit, &[ctx.pcc]);
     let mut s_sc_mva: f64 = 0.0;
     for s in 0..ctx.network.scenarios.len() {
-        let z = scan.fundamental(engine, s)?.z0_pu(0);
+        let z = engine.point(1.0, s)?.z0_pu(0);
         s_sc_mva = s_sc_mva.max(crate::network::BASE_MVA / z.norm());
     }
     Ok(s_sc_mva / (3f64.sqrt() * ctx.network.buses[ctx.pcc].kv))
@@ -227,10 +233,12 @@ fn screen(
         scan,
         map: &zero_map,
     });
+    let sc_buses: Vec<usize> = ctx.network.banks.iter().map(|b| b.bus).collect();
+    let short_circuit = Engine::new(&ctx.short_circuit, &sc_buses);
     let mut resonance = ResonanceStudy::run(
         plant,
         &ctx.network,
-        engine,
+        &short_circuit,
         &scan,
         zero_view.as_ref(),
         ctx.pcc,
@@ -410,7 +418,7 @@ fn harmonics(
     options: &CheckOptions,
 ) -> Result<(Penetration, LimitContext), CheckError> {
     let (plant, network) = (ctx.plant, &ctx.network);
-    let isc_ka = pcc_isc_ka(ctx, engines.positive, scan)?;
+    let isc_ka = pcc_isc_ka(ctx)?;
     let injections = if options.scan_only {
         Injections::none()
     } else {

@@ -262,6 +262,16 @@ impl Network {
         self.branches.iter().map(|b| (b.from, b.to)).collect()
     }
 
+    /// The same network without its shunts (loads, motors, cable charging): sources,
+    /// transformers and cables alone, as IEEE 519-2014's short-circuit current at the PCC
+    /// and the engineer's hand check count them (the banks kept, to be energized or not).
+    pub fn short_circuit_network(&self) -> Network {
+        Network {
+            shunts: Vec::new(),
+            ..self.clone()
+        }
+    }
+
     /// Calls `add(i, j, y)` for every per-unit entry of the fundamental admittance matrix of
     /// the operating point in `scenario`, without capacitor banks: branches, cable charging
     /// and the source impedances at h = 1. Loads and motors are not in it: they draw

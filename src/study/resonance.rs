@@ -199,9 +199,10 @@ pub struct ResonanceRow {
     pub bus: String,
     pub steps: u32,
     /// Short-circuit power at the bank's bus without banks, MVA: S_sc = S_base / |Z_th(1)|,
-    /// from the sources, transformers and cables alone on a radial plant (the engineer's
-    /// number), from the network with its loads where several sources or a loop make the
-    /// path not unique (see `s_sc_basis`).
+    /// from the sources, transformers and cables alone: their series sum on a radial plant
+    /// (the engineer's number), the Thevenin impedance of the network of sources,
+    /// transformers and cables where several sources or a loop make the path not unique
+    /// (see `s_sc_basis`); loads, motors and cable charging left out either way.
     pub s_sc_mva: f64,
     /// How `s_sc_mva` was found.
     #[serde(skip)]
@@ -286,7 +287,10 @@ impl ResonanceStudy {
     /// scan of the grounded-wye banks when one was run. A grounded-wye bank on a bus with
     /// no zero-sequence path of its own network (no grounded winding or source in its
     /// zero-sequence component: only the bank's neutral) has no zero-sequence row: its scan
-    /// there would be the regularizing conductance's, not the plant's.
+    /// there would be the regularizing conductance's, not the plant's. `engine` is the
+    /// engine of the network of sources, transformers and cables alone
+    /// ([`Network::short_circuit_network`]), whose fundamental Thevenin impedance is the
+    /// hand check's S_sc where the path is not unique.
     // Long: the rows of every bank, scenario and configuration, in parallel, with the zero-sequence
     // rows beside.
     pub fn run(
@@ -304,7 +308,8 @@ impl ResonanceStudy {
         let pcc_scanned = scan.buses.iter().position(|&i| i == pcc);
         let (positive, zero_chars) = sequence_orders(plant, plant.study.highest_order);
         for s in 0..net.scenarios.len() {
-            let fundamental = scan.fundamental(engine, s)?;
+            // `engine` is the short-circuit network's: sources, transformers and cables.
+            let fundamental = engine.point(1.0, s)?;
             // The engineer's S_sc per bank: the radial path's series sum where there is one.
             let paths: Vec<Option<(Vec<crate::study::hand::PathElement>, f64)>> = net
                 .banks

@@ -541,3 +541,44 @@ fn ieee_519_verdict_is_at_the_pcc_and_in_plant_buses_are_informational() {
         }
     }
 }
+
+#[test]
+fn isc_at_the_pcc_counts_the_sources_transformers_and_cables_alone() {
+    // IEEE 519-2014 clause 3 (definitions): I_SC is the maximum short-circuit current at the
+    // PCC, the utility's available fault current; loads and motors are not part of it.
+    // Two 13.8 kV sources in parallel at the PCC (250 and 150 MVA, so the path is not
+    // unique) feed a 1,500 kVA transformer to 480 V with a 1,000 kW motor and 800 kW of
+    // linear load (invented): by hand the sources' impedances in parallel,
+    // Z = 1/(1/Z1 + 1/Z2) with each Z = 100/S split by its X/R, per unit on 100 MVA;
+    // Isc = 100 MVA / (|Z| · √3 · 13.8 kV).
+    let mut p = service(
+        ("HV", 13.8),
+        ("LV", 0.48),
+        (250.0, 10.0),
+        (1500.0, 5.75, 7.0),
+    );
+    p.sources.push(source("U2", "HV", 150.0, 6.0));
+    p.loads = vec![
+        load("M", "LV", LoadType::Motor, 1000.0, 0.85),
+        load("L", "LV", LoadType::Linear, 800.0, 0.85),
+    ];
+    p.banks = vec![bank("C", "LV", 0.48, 300.0, 1, Reactor::None)];
+    let res = run_check(&p, &Default::default()).unwrap();
+    let z = |s: f64, xr: f64| {
+        let m = 100.0 / s;
+        let r = m / (1.0f64 + xr * xr).sqrt();
+        num_complex::Complex64::new(r, r * xr)
+    };
+    let zth = (z(250.0, 10.0).inv() + z(150.0, 6.0).inv()).inv();
+    let isc = 100.0 / (zth.norm() * 3f64.sqrt() * 13.8);
+    assert_close(res.limits.isc_ka, isc, 1e-12);
+    // The hand check's S_sc at the bank's bus (path not unique: two sources): the same
+    // network with the transformer in series, loads and motor left out.
+    let zt = {
+        let m = 0.0575 * 100.0 / 1.5;
+        let r = m / 50f64.sqrt();
+        num_complex::Complex64::new(r, 7.0 * r)
+    };
+    let row = res.resonance.rows.first().expect("a row");
+    assert_close(row.s_sc_mva, 100.0 / (zth + zt).norm(), 1e-12);
+}

@@ -239,7 +239,8 @@ fn write_resonance(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     super::table::write_wrapped(
         out,
         "Ssc: sources, transformers and cables in series (loads and motors left out; with several \
-         sources or a loop, the network's Thevenin impedance with loads); Qc: every step on the bus; \
+         sources or a loop, the Thevenin impedance of the sources, transformers and cables); Qc: every \
+         step on the bus; \
          hand h: sqrt(Ssc/Qc) (with a series reactor: sqrt(Xc/(Xth+XL)); plain and detuned steps \
          together: the zero of the bus susceptance); scan h, |Z|: the worst of every \
          parallel-resonance peak at the bank's bus (a maximum of |Z| the banks raise, amplification \
