@@ -5,6 +5,8 @@
 //!   helpers): checks against published or textbook
 //!   values (source named beside each);
 //! - `simulator`: phasor summation with background against ngspice (when installed);
+//! - `two_bank_modes`: several banks, several modes (every peak, modal analysis, whole-plant
+//!   remedies) and triplens by wiring;
 //! - `solver`: sparse factorization and step-combination engine against independent dense algebra;
 //! - `model`: validation of plants and topology errors;
 //! - `scan`: grid, configurations, peak finding;
