@@ -142,17 +142,7 @@ pub fn damping_bands(
                 labels.push(r.configuration.clone());
             }
         }
-        let rerun = CheckOptions {
-            buses: options.buses.clone(),
-            configurations: labels,
-            progress: None,
-            remedies: Some(false),
-            scan_only: false,
-            switching: false,
-            evaluation: options.evaluation,
-            damping_band: Some(false),
-        };
-        Some(run_studies(&plant, &rerun)?)
+        Some(run_studies(&plant, &options.rerun(labels))?)
     };
     let least_res = least.as_ref().unwrap_or(res);
     let (here, there) = (Lookup::new(res), Lookup::new(least_res));

@@ -112,16 +112,7 @@ fn try_option(
     let (plant, bank) = (&res.plant, &res.plant.banks[b]);
     let mut changed = plant.clone();
     changed.banks[b] = crate::study::remedy::apply(bank, &option);
-    let rerun = CheckOptions {
-        buses: options.buses.clone(),
-        configurations: labels.to_vec(),
-        progress: None,
-        remedies: Some(false),
-        scan_only: false,
-        switching: false,
-        evaluation: options.evaluation,
-        damping_band: Some(false),
-    };
+    let rerun = options.rerun(labels.to_vec());
     // `remedies: Some(false)`: the studies alone, as `run_check` runs them.
     let after_res = run_studies(&changed, &rerun).ok()?;
     let after = outcome(&after_res, &bank.id, labels);
@@ -318,16 +309,7 @@ pub fn plant_remedies(res: &CheckResults, options: &CheckOptions) -> Vec<PlantRe
         .map(|c| res.label(c))
         .collect();
     let before = plant_outcome(res, &labels);
-    let rerun = CheckOptions {
-        buses: options.buses.clone(),
-        configurations: labels.clone(),
-        progress: None,
-        remedies: Some(false),
-        scan_only: false,
-        switching: false,
-        evaluation: options.evaluation,
-        damping_band: Some(false),
-    };
+    let rerun = options.rerun(labels.clone());
     let mut out = Vec::new();
     for group in mode_groups(res) {
         let mut results: Vec<JointResult> = joint_options(res, &group)

@@ -65,6 +65,24 @@ pub struct CheckOptions {
     pub damping_band: Option<bool>,
 }
 
+impl CheckOptions {
+    /// The options of a re-run over the configurations `labels` (a remedy, the damping
+    /// band): the same buses and evaluation, the studies alone (no remedies, switching,
+    /// progress or damping band).
+    pub fn rerun(&self, labels: Vec<String>) -> CheckOptions {
+        CheckOptions {
+            buses: self.buses.clone(),
+            configurations: labels,
+            progress: None,
+            remedies: Some(false),
+            scan_only: false,
+            switching: false,
+            evaluation: self.evaluation,
+            damping_band: Some(false),
+        }
+    }
+}
+
 /// Step combinations up to which remedies are studied without being asked.
 pub const AUTO_REMEDY_CONFIGURATIONS: usize = 200;
 

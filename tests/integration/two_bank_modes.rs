@@ -255,6 +255,26 @@ fn welders(wiring: Option<Wiring>) -> Plant {
     p
 }
 
+/// The welders' supply in ohm at 400 V: the source's and the transformer's (R, X), each
+/// split by its X/R (input contract, Sources and Transformers).
+fn welders_supply_ohm() -> ((f64, f64), (f64, f64)) {
+    let split = |z: f64, xr: f64| {
+        let r = z / (1.0 + xr * xr).sqrt();
+        (r, r * xr)
+    };
+    (
+        split(0.4 * 0.4 / 250.0, 10.0),
+        split(0.06 * 0.4 * 0.4 / 1.0, 8.0),
+    )
+}
+
+/// The index of order `h` among the injected orders.
+fn order_of(res: &overtone::jobs::check::CheckResults, h: f64) -> usize {
+    (res.penetration.injections.orders.iter())
+        .position(|&o| o == h)
+        .expect("injected")
+}
+
 #[test]
 fn a_three_wire_third_flows_in_the_positive_sequence_network() {
     // Line-to-line loads have no neutral: their 3rd flows as positive/negative sequence,
@@ -262,23 +282,12 @@ fn a_three_wire_third_flows_in_the_positive_sequence_network() {
     // at the 400 V bus is a dense solve of the positive-sequence network: one bus, the
     // supply Z(h) = (R_s + R_T) + j·h·(X_s + X_T) in parallel with the bank −j·X_C/h, ohm at
     // 400 V; I₃ = 0.2·P/(√3·0.4·pf) A; V₃ % = I₃·|Z(3)|/(400/√3)·100.
-    let split = |z: f64, xr: f64| {
-        let r = z / (1.0 + xr * xr).sqrt();
-        (r, r * xr)
-    };
-    let (rs, xs) = split(0.4 * 0.4 / 250.0, 10.0);
-    let (rt, xt) = split(0.06 * 0.4 * 0.4 / 1.0, 8.0);
+    let ((rs, xs), (rt, xt)) = welders_supply_ohm();
     let i3 = 0.2 * 300.0 / (3f64.sqrt() * 0.4 * 0.7);
     for wiring in [None, Some(Wiring::ThreeWire)] {
         let p = welders(wiring);
         let res = run_check(&p, &Default::default()).expect("runs");
-        let o = res
-            .penetration
-            .injections
-            .orders
-            .iter()
-            .position(|&h| h == 3.0)
-            .unwrap();
+        let o = order_of(&res, 3.0);
         assert_eq!(res.penetration.injections.sequences[o], Sequence::Positive);
         for steps in [0u32, 3, 6] {
             let xc = 0.4 * 0.4 / (0.25 * f64::from(steps));
@@ -308,13 +317,7 @@ fn a_three_wire_third_flows_in_the_positive_sequence_network() {
     // path, so the 3rd sees the transformer's grounded-wye winding alone and the bank is
     // not screened against it.
     let res = run_check(&welders(Some(Wiring::FourWire)), &Default::default()).expect("runs");
-    let o = res
-        .penetration
-        .injections
-        .orders
-        .iter()
-        .position(|&h| h == 3.0)
-        .unwrap();
+    let o = order_of(&res, 3.0);
     assert_eq!(res.penetration.injections.sequences[o], Sequence::Zero);
     assert!(!res.resonance.positive_orders.contains(&3.0));
 }
@@ -334,20 +337,9 @@ fn a_third_from_both_wirings_adds_its_sequence_parts() {
     e.spectrum = Some("ELEC".into());
     p.loads.push(e);
     let res = run_check(&p, &Default::default()).expect("runs");
-    let o = res
-        .penetration
-        .injections
-        .orders
-        .iter()
-        .position(|&h| h == 3.0)
-        .unwrap();
+    let o = order_of(&res, 3.0);
     assert_eq!(res.penetration.injections.sequences[o], Sequence::Zero);
-    let split = |z: f64, xr: f64| {
-        let r = z / (1.0 + xr * xr).sqrt();
-        (r, r * xr)
-    };
-    let (rs, xs) = split(0.4 * 0.4 / 250.0, 10.0);
-    let (rt, xt) = split(0.06 * 0.4 * 0.4 / 1.0, 8.0);
+    let ((rs, xs), (rt, xt)) = welders_supply_ohm();
     let v_base = 400.0 / 3f64.sqrt();
     let i_weld = 0.2 * 300.0 / (3f64.sqrt() * 0.4 * 0.7);
     let i_elec = 0.8 * 40.0 / (3f64.sqrt() * 0.4 * 0.9);

@@ -61,7 +61,19 @@ pub(super) fn order_inputs(
     OrderInputs {
         loads,
         background,
-        sources: in_service
+        ..network_inputs(net, s, h)
+    }
+}
+
+/// The in-service sources' and the branches' admittances of `net` at order `h` in scenario
+/// `s` (no loads, no background).
+fn network_inputs(net: &crate::network::Network, s: usize, h: f64) -> OrderInputs {
+    let rm = net.resistance;
+    OrderInputs {
+        loads: Vec::new(),
+        background: Vec::new(),
+        sources: net.scenarios[s]
+            .sources
             .iter()
             .map(|&i| (net.sources[i].bus, net.sources[i].model.y_pu(h, rm)))
             .collect(),
@@ -82,23 +94,12 @@ pub(super) fn part_inputs(
     s: usize,
     h: f64,
 ) -> OrderInputs {
-    let rm = net.resistance;
-    let in_service = &net.scenarios[s].sources;
     OrderInputs {
         loads: (0..inj.buses.len())
             .filter(|&c| current[c] > 0.0)
             .map(|c| (c, current[c], phasor[c]))
             .collect(),
-        background: Vec::new(),
-        sources: in_service
-            .iter()
-            .map(|&i| (net.sources[i].bus, net.sources[i].model.y_pu(h, rm)))
-            .collect(),
-        branches: net
-            .branches
-            .iter()
-            .map(|b| (b.from, b.to, b.index, b.z.at(h, rm).inv()))
-            .collect(),
+        ..network_inputs(net, s, h)
     }
 }
 
