@@ -11,7 +11,11 @@ use crate::model::Plant;
 pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, CheckError> {
     let mut res = super::studies::run_studies(plant, options)?;
     if !options.scan_only && options.damping_band != Some(false) {
-        res.damping = super::damping::damping_bands(&res, options)?;
+        // The band explains a verdict and never stops the check.
+        match super::damping::damping_bands(&res, options) {
+            Ok(band) => res.damping = band,
+            Err(e) => res.notes.push(Note::DampingBand(e.to_string())),
+        }
     }
     let auto = res.scan.configurations.len() <= AUTO_REMEDY_CONFIGURATIONS;
     match options.remedies {

@@ -55,6 +55,9 @@ pub enum Note {
     NoZeroPath(Vec<(String, String, Vec<String>)>),
     /// A sentence of the design search.
     Design(String),
+    /// The least-damped re-run of the flagged resonances could not be solved (its
+    /// reason): their key figures are given under the study's models only.
+    DampingBand(String),
 }
 
 impl fmt::Display for Note {
@@ -112,6 +115,10 @@ impl fmt::Display for Note {
                     each.join("; ")
                 )
             }
+            Note::DampingBand(why) => write!(
+                f,
+                "the flagged resonances could not be re-run under the least-damped models (constant R, CIGRE loads): {why}; their figures are given under the study's models only"
+            ),
             Note::RemediesNotStudied {
                 combinations,
                 auto_limit,

@@ -243,7 +243,7 @@ fn screen(
         zero_view.as_ref(),
         ctx.pcc,
     )?;
-    modes(plant, &mut resonance, &scan, engine, zero_view.as_ref())?;
+    modes(plant, &mut resonance, &scan, engine, zero_view.as_ref());
     Ok(Screen {
         scan,
         zero_scan,
@@ -253,14 +253,16 @@ fn screen(
 }
 
 /// The critical mode at the worst peak of every `RESONANT` row (resonance mode analysis),
-/// in the row's own sequence network.
+/// in the row's own sequence network. A row whose Y(h) cannot be factored at the peak (a
+/// lossless network exactly at its resonance) keeps no mode: the analysis explains a
+/// verdict and never stops the check.
 fn modes(
     plant: &Plant,
     resonance: &mut ResonanceStudy,
     scan: &Scan,
     engine: &Engine<'_>,
     zero: Option<&ZeroScan<'_, '_>>,
-) -> Result<(), CheckError> {
+) {
     use rayon::prelude::*;
     let label_of: std::collections::HashMap<String, usize> = (0..scan.configurations.len())
         .map(|c| (scan.configurations[c].label(&plant.banks), c))
@@ -270,27 +272,25 @@ fn modes(
         .rows
         .par_iter_mut()
         .filter(|r| r.verdict == crate::study::Verdict::Resonant)
-        .try_for_each(|r| -> Result<(), CheckError> {
+        .for_each(|r| {
             let (Some(peak), Some(s), Some(&c)) = (
                 r.peak,
                 scenario_of(&r.scenario),
                 label_of.get(&r.configuration),
             ) else {
-                return Ok(());
+                return;
             };
-            let mode = match (r.sequence, zero) {
+            r.mode = match (r.sequence, zero) {
                 (Sequence::Zero, Some(z)) => {
                     let steps = &z.scan.configurations[z.map[c]].steps;
-                    crate::study::modal::critical_mode(z.engine, peak.order, s, steps)?
+                    crate::study::modal::critical_mode(z.engine, peak.order, s, steps).ok()
                 }
                 _ => {
                     let steps = &scan.configurations[c].steps;
-                    crate::study::modal::critical_mode(engine, peak.order, s, steps)?
+                    crate::study::modal::critical_mode(engine, peak.order, s, steps).ok()
                 }
             };
-            r.mode = Some(mode);
-            Ok(())
-        })
+        });
 }
 
 /// Capacitor duty of every energized bank in every scenario × configuration, at the bank
