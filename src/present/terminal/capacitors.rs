@@ -220,7 +220,7 @@ pub fn write_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()>
         out,
         "",
         "  ",
-        "Remedies, re-run over every configuration with the bank on. Ranked: the bank's own checks pass (resonance, tolerance band, duty, reactor linearity), then the lowest capacitor voltage class, the widest margin to a characteristic order across the tolerance band, linearity headroom, reactor size. Plant-wide limits are shown, not ranked. pk/lin: step peak current (background included) over the reactor's linearity peak; margin % across the band; res, duty: rows flagged after.",
+        "Remedies, re-run over every configuration with the bank on. Ranked: an option that raises the worst THD or TDD after every one that does not, then the bank's own checks pass (resonance, tolerance band, duty, reactor linearity), the lowest capacitor voltage class, the widest margin to a characteristic order across the tolerance band, linearity headroom, reactor size; the limits' exceedances are shown, not ranked. pk/lin: step peak current (background included) over the reactor's linearity peak; margin % across the band; res, duty: rows flagged after.",
         100,
     )?;
     for br in &res.remedies {
