@@ -482,6 +482,24 @@ fn tolerance(ctx: &Context<'_>, resonance: &ResonanceStudy) -> Vec<ToleranceBand
     )
 }
 
+/// The switching simulation of every step of every bank at its operating point.
+fn switching(
+    ctx: &Context<'_>,
+    engine: &Engine<'_>,
+    scan: &Scan,
+    (operating, load_flow): (&OperatingStudy, &OperatingSolver),
+) -> Result<SwitchingStudy, CheckError> {
+    Ok(crate::study::switching::run(
+        &crate::study::switching::Inputs {
+            plant: ctx.plant,
+            net: &ctx.network,
+            operating,
+            load_flow,
+            z_th_ohm: &switching_z_th_ohm(&ctx.network, engine, scan)?,
+        },
+    ))
+}
+
 /// Runs every study `options` asks for on `plant` (remedies excepted: see
 /// [`super::check::run_check`]).
 pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, CheckError> {
@@ -525,13 +543,7 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     let switching = if options.scan_only || !options.switching {
         SwitchingStudy::default()
     } else {
-        crate::study::switching::run(&crate::study::switching::Inputs {
-            plant,
-            net: network,
-            operating: &operating,
-            load_flow: &load_flow,
-            z_th_ohm: &switching_z_th_ohm(network, &engine, &scan)?,
-        })
+        switching(&ctx, &engine, &scan, (&operating, &load_flow))?
     };
     notes.extend(switching.failures.iter().cloned().map(Note::Switching));
     let background = background_shares(&penetration, network, &plant.banks, &scan.configurations);

@@ -181,33 +181,7 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     for (b, m) in res.plant.banks.iter().zip(&res.network.banks) {
         write_bank_verdict(out, res, b, m, not_studied)?;
     }
-    for pr in &res.plant_remedies {
-        if let Some(x) = pr.results.first() {
-            write_hanging(
-                out,
-                "- ",
-                "    ",
-                &format!(
-                    "Mode of {} together: recommended {} ({}{}); resonant rows {} -> {}, duty rows over {} -> {}, worst THD {:.1} -> {:.1} %.",
-                    pr.banks.join(" and "),
-                    x.option.name,
-                    if x.passes { "passes" } else { "still flagged" },
-                    if x.worsens {
-                        ", worsens the worst figure"
-                    } else {
-                        ""
-                    },
-                    x.before.resonant,
-                    x.after.resonant,
-                    x.before.duty_exceeded,
-                    x.after.duty_exceeded,
-                    x.before.worst_thd_percent,
-                    x.after.worst_thd_percent
-                ),
-                WIDTH,
-            )?;
-        }
-    }
+    write_plant_remedies(out, res)?;
     if let Some(line) = pcc_line(res) {
         write_hanging(out, "- ", "    ", &line, WIDTH)?;
     }
@@ -244,6 +218,38 @@ pub fn write_verdict(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
         .find(|n| matches!(n, Note::PlantLevelLimits { .. }))
     {
         write_hanging(out, "- ", "    ", &note.to_string(), WIDTH)?;
+    }
+    Ok(())
+}
+
+/// The first-ranked whole-plant option of every set of banks forming a flagged mode.
+fn write_plant_remedies(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    for pr in &res.plant_remedies {
+        if let Some(x) = pr.results.first() {
+            write_hanging(
+                out,
+                "- ",
+                "    ",
+                &format!(
+                    "Mode of {} together: recommended {} ({}{}); resonant rows {} -> {}, duty rows over {} -> {}, worst THD {:.1} -> {:.1} %.",
+                    pr.banks.join(" and "),
+                    x.option.name,
+                    if x.passes { "passes" } else { "still flagged" },
+                    if x.worsens {
+                        ", worsens the worst figure"
+                    } else {
+                        ""
+                    },
+                    x.before.resonant,
+                    x.after.resonant,
+                    x.before.duty_exceeded,
+                    x.after.duty_exceeded,
+                    x.before.worst_thd_percent,
+                    x.after.worst_thd_percent
+                ),
+                WIDTH,
+            )?;
+        }
     }
     Ok(())
 }

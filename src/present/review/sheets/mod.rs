@@ -5,6 +5,7 @@ mod design;
 mod front;
 mod input;
 mod operating;
+mod remedies;
 mod results;
 mod scan;
 mod switching;
@@ -86,7 +87,7 @@ pub fn write_all(
     results::distortion(wb.add_worksheet().set_name("Distortion")?, res)?;
     results::duty(wb.add_worksheet().set_name("Duty")?, res)?;
     damping::damping(wb.add_worksheet().set_name("Damping")?, res)?;
-    results::remedies(wb.add_worksheet().set_name("Remedies")?, res)?;
+    remedies::remedies(wb.add_worksheet().set_name("Remedies")?, res)?;
     switching::switching(wb.add_worksheet().set_name("Switching")?, res)?;
     switching::waveforms(wb.add_worksheet().set_name("Waveforms")?, "Waveforms", res)?;
     text_sheet(
