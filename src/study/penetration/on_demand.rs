@@ -12,11 +12,29 @@ use crate::network::Network;
 use crate::solve::{HarmonicPoint, TransferScratch};
 
 impl Penetration {
+    /// The parts of order `o` (point `p`) in scenario `s`: its own network's, then the
+    /// 3-wire part of a split triplen order in the positive network.
+    fn parts<'a>(
+        &'a self,
+        s: usize,
+        o: usize,
+        p: &'a HarmonicPoint,
+    ) -> Vec<(&'a HarmonicPoint, &'a OrderInputs)> {
+        let mut parts = vec![(p, &self.inputs[s][o])];
+        if let (Some(Some(p2)), Some(Some(i2))) = (
+            self.points_tw.get(s).and_then(|x| x.get(o)),
+            self.inputs_tw.get(s).and_then(|x| x.get(o)),
+        ) {
+            parts.push((p2, i2));
+        }
+        parts
+    }
+
     /// Harmonic voltage at every bus and injected order for scenario `s` with `steps`, per
     /// unit of nominal phase voltage: `v[bus][order]`. `None` if singular.
     pub fn voltages(&self, s: usize, steps: &[u32]) -> Option<Vec<Vec<f64>>> {
         let mut out: Option<Vec<Vec<f64>>> = None;
-        self.each_order(s, steps, |o, v, _| {
+        self.each_order(s, steps, |o, v| {
             let n = v.len();
             let no = self.points[s].len();
             let rows = out.get_or_insert_with(|| vec![vec![0.0; no]; n]);
@@ -27,7 +45,7 @@ impl Penetration {
         Some(out.unwrap_or_default())
     }
 
-    /// Calls `f(order index, per-bus (magnitude, phasor), inputs)` for every injected order
+    /// Calls `f(order index, per-bus (magnitude, phasor))` for every injected order
     /// of scenario `s` with `steps`: the primary network's voltages, with the 3-wire part of
     /// a split triplen order added (phasors under `phasor` summation, else by the law).
     /// `None` if singular.
@@ -35,7 +53,7 @@ impl Penetration {
         &self,
         s: usize,
         steps: &[u32],
-        mut f: impl FnMut(usize, &[(f64, Complex64)], &[&OrderInputs]),
+        mut f: impl FnMut(usize, &[(f64, Complex64)]),
     ) -> Option<()> {
         let (plan, pts, theta) = self.one_configuration(s, steps)?;
         let mut scratch = TransferScratch::default();
@@ -44,13 +62,7 @@ impl Penetration {
         let mut inj = Vec::new();
         let mut v: Vec<(f64, Complex64)> = vec![(0.0, Complex64::default()); n];
         for (o, p) in pts.iter().enumerate() {
-            let mut parts: Vec<(&HarmonicPoint, &OrderInputs)> = vec![(p, &self.inputs[s][o])];
-            if let (Some(Some(p2)), Some(Some(i2))) = (
-                self.points_tw.get(s).and_then(|x| x.get(o)),
-                self.inputs_tw.get(s).and_then(|x| x.get(o)),
-            ) {
-                parts.push((p2, i2));
-            }
+            let parts = self.parts(s, o, p);
             for (k, &(pt, inp)) in parts.iter().enumerate() {
                 if !pt.evaluate(&plan, &mut scratch, &mut z) {
                     return None;
@@ -77,8 +89,7 @@ impl Penetration {
             if self.law == Summation::Phasor {
                 v.iter_mut().for_each(|x| x.0 = abs(x.1));
             }
-            let inputs: Vec<&OrderInputs> = parts.iter().map(|x| x.1).collect();
-            f(o, &v, &inputs);
+            f(o, &v);
         }
         Some(())
     }
@@ -103,13 +114,7 @@ impl Penetration {
         let mut inj = Vec::new();
         let mut v = vec![Complex64::default(); n];
         for (o, p) in pts.iter().enumerate() {
-            let mut parts: Vec<(&HarmonicPoint, &OrderInputs)> = vec![(p, &self.inputs[s][o])];
-            if let (Some(Some(p2)), Some(Some(i2))) = (
-                self.points_tw.get(s).and_then(|x| x.get(o)),
-                self.inputs_tw.get(s).and_then(|x| x.get(o)),
-            ) {
-                parts.push((p2, i2));
-            }
+            let parts = self.parts(s, o, p);
             // Per branch: the phasor (`phasor`) or the magnitude by the law.
             let mut i_ph = vec![Complex64::default(); nb];
             let mut i_mag = vec![0.0; nb];
