@@ -93,6 +93,7 @@ pub const LIMITS: &[&str] = &[
 pub const SUMMATION: &[&str] = &["arithmetic", "IEC 61000-3-6", "phasor"];
 pub const BANK_CONNECTIONS: &[&str] = &["delta", "wye", "wye grounded"];
 pub const WIRINGS: &[&str] = &["3-wire", "4-wire"];
+pub const SOURCE_KINDS: &[&str] = &["utility", "generator"];
 pub const RESISTANCE: &[&str] = &["frequency-dependent", "constant", "skin"];
 pub const LOAD_MODELS: &[&str] = &["CIGRE", "parallel R-L"];
 
@@ -187,6 +188,13 @@ pub fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                     "X/R of the zero-sequence source impedance, > 0. Default: the positive-sequence X/R.",
                     Positive,
                     12.0,
+                ),
+                col(
+                    false,
+                    "Kind",
+                    "utility (the supply on the other side of the PCC) or generator (on-site generation, part of the plant). The PCC's power, harmonic currents and TDD are the flow between the PCC bus and the utility side. Default utility.",
+                    List(SOURCE_KINDS),
+                    11.0,
                 ),
             ],
         ),

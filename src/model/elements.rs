@@ -209,6 +209,30 @@ pub struct Source {
     pub zero_short_circuit_mva: Option<f64>,
     /// Zero-sequence X/R; `None` = the positive sequence's.
     pub zero_x_over_r: Option<f64>,
+    /// Whose source it is (sheet `Sources`, `Kind`): the utility's supply or the plant's own
+    /// generation. The PCC's flow is what the utility side exchanges with the plant.
+    pub kind: SourceKind,
+}
+
+/// Whose source a row of the Sources sheet is (input contract, version 2, `Kind`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum SourceKind {
+    /// The utility's supply: the other side of the PCC (the default).
+    #[default]
+    Utility,
+    /// On-site generation: part of the plant; its output is not drawn from the utility.
+    Generator,
+}
+
+impl SourceKind {
+    /// The word the input contract and the reports use.
+    pub fn label(self) -> &'static str {
+        match self {
+            SourceKind::Utility => "utility",
+            SourceKind::Generator => "generator",
+        }
+    }
 }
 
 /// Default source EMF `Voltage (pu)` (input contract, version 2).

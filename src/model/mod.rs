@@ -92,12 +92,16 @@ impl Plant {
         self.buses.iter().position(|b| b.id == id)
     }
 
-    /// The PCC bus id: the Study sheet's `PCC bus`, else the bus of the first source.
+    /// The PCC bus id: the Study sheet's `PCC bus`, else the bus of the first utility
+    /// source (the first source when none is marked utility).
     pub fn pcc_bus(&self) -> Option<&str> {
-        self.study
-            .pcc_bus
-            .as_deref()
-            .or_else(|| self.sources.first().map(|s| s.bus.as_str()))
+        self.study.pcc_bus.as_deref().or_else(|| {
+            self.sources
+                .iter()
+                .find(|s| s.kind == SourceKind::Utility)
+                .or(self.sources.first())
+                .map(|s| s.bus.as_str())
+        })
     }
 
     /// The spectrum named `name` on the Spectra sheet.

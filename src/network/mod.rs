@@ -13,15 +13,17 @@
 
 pub mod damping;
 mod elements;
+mod pcc;
 mod sequence;
 mod topology;
 
 pub use elements::{BankModel, SeriesImpedance, ShuntModel};
+pub use pcc::PccTie;
 pub use topology::TopologyError;
 
 use num_complex::Complex64;
 
-use crate::model::{LoadModel, Plant, ResistanceModel, Sequence};
+use crate::model::{LoadModel, Plant, ResistanceModel, Sequence, SourceKind};
 
 /// System base power, MVA three-phase.
 pub const BASE_MVA: f64 = 100.0;
@@ -57,6 +59,8 @@ pub struct Shunt {
     pub id: String,
     pub bus: usize,
     pub model: ShuntModel,
+    /// The branch (positive-sequence index) whose charging this is, for a cable's half.
+    pub branch: Option<usize>,
 }
 
 /// A supply scenario: which source shunts are in service.
@@ -97,6 +101,12 @@ pub struct Network {
     /// neutral in the fixed network (no source, no grounded transformer winding): a unit
     /// conductance keeps Y regular there and no injection is studied at such a bus.
     pub floating: Vec<Vec<bool>>,
+    /// The PCC bus (Study sheet's `PCC bus`, else the first utility source's bus).
+    pub pcc: usize,
+    /// Whether each source (order of `sources`) is the utility's (`Kind`), not the plant's.
+    pub source_utility: Vec<bool>,
+    /// Per scenario, the PCC's ties to the utility side ([`PccTie`]).
+    pub pcc_tie: Vec<PccTie>,
 }
 
 /// A load of the operating point: constant power drawn at its bus (input contract,
@@ -172,6 +182,7 @@ impl Network {
                     shunts.push(Shunt {
                         id: format!("cable {} charging", c.id),
                         bus,
+                        branch: Some(branches.len() - 1),
                         model: half,
                     });
                 }
@@ -183,6 +194,7 @@ impl Network {
                 shunts.push(Shunt {
                     id: format!("load {}", l.id),
                     bus,
+                    branch: None,
                     model,
                 });
             }
@@ -205,6 +217,7 @@ impl Network {
             sources.push(Shunt {
                 id: format!("source {}", s.id),
                 bus,
+                branch: None,
                 model: ShuntModel::source(s, buses[bus].kv),
             });
         }
@@ -245,9 +258,25 @@ impl Network {
             sequence: Sequence::Positive,
             zone_deg: Vec::new(),
             floating: Vec::new(),
+            pcc: plant
+                .pcc_bus()
+                .map_or(Ok(0), |id| find(id, "Study: PCC bus"))?,
+            source_utility: plant
+                .sources
+                .iter()
+                .map(|s| s.kind == SourceKind::Utility)
+                .collect(),
+            pcc_tie: Vec::new(),
         };
         net.check_topology()?;
         net.zone_deg = net.zones(plant)?;
+        net.pcc_tie = net.pcc_ties(net.pcc);
+        if let Some((sc, _)) = (net.scenarios.iter().zip(&net.pcc_tie)).find(|(_, t)| !t.exists()) {
+            return Err(TopologyError::PccWithoutUtility {
+                scenario: sc.name.clone(),
+                pcc: net.buses[net.pcc].id.clone(),
+            });
+        }
         Ok(net)
     }
 
@@ -262,12 +291,23 @@ impl Network {
         self.branches.iter().map(|b| (b.from, b.to)).collect()
     }
 
-    /// The same network without its shunts (loads, motors, cable charging): sources,
-    /// transformers and cables alone, as IEEE 519-2014's short-circuit current at the PCC
+    /// The same network without its shunts (loads, motors, cable charging) and without
+    /// on-site generators: utility sources, transformers and cables alone, as IEEE 519-2014's short-circuit current at the PCC
     /// and the engineer's hand check count them (the banks kept, to be energized or not).
     pub fn short_circuit_network(&self) -> Network {
+        let scenarios = self
+            .scenarios
+            .iter()
+            .map(|sc| Scenario {
+                name: sc.name.clone(),
+                sources: (sc.sources.iter().copied())
+                    .filter(|&k| self.source_utility.get(k).copied().unwrap_or(true))
+                    .collect(),
+            })
+            .collect();
         Network {
             shunts: Vec::new(),
+            scenarios,
             ..self.clone()
         }
     }

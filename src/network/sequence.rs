@@ -118,6 +118,7 @@ impl Network {
             let shunt = |bus: usize| Shunt {
                 id: format!("transformer {} zero sequence", t.id),
                 bus,
+                branch: None,
                 model: ShuntModel::SeriesRl(z0),
             };
             match group.zero_path() {
@@ -155,6 +156,7 @@ impl Network {
                 Shunt {
                     id: ps.id.clone(),
                     bus: ps.bus,
+                    branch: None,
                     model: ShuntModel::SeriesRl(SeriesImpedance::from_magnitude(
                         BASE_MVA / mva,
                         s.zero_x_over_r.unwrap_or(s.x_over_r),
@@ -187,6 +189,9 @@ impl Network {
             sequence: Sequence::Zero,
             zone_deg: Vec::new(),
             floating: Vec::new(),
+            pcc: self.pcc,
+            source_utility: self.source_utility.clone(),
+            pcc_tie: self.pcc_tie.clone(),
         };
         zero.zone_deg = zero.zones(plant)?;
         zero.floating = zero.floating_buses(&grounded);

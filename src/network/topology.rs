@@ -19,6 +19,10 @@ pub enum TopologyError {
         "Transformers: {element} closes a loop whose phase shifts do not agree ({shift_deg}° around it): transformers of different vector groups cannot run in parallel; check the \"Connection\" column"
     )]
     ShiftLoop { element: String, shift_deg: String },
+    #[error(
+        "Sources: in scenario \"{scenario}\" no utility source is in service, so the PCC bus \"{pcc}\" has no utility side: IEEE 519-2014 judges what the plant exchanges with the utility at the PCC; mark the supply's row Kind = utility (only on-site generation is Kind = generator)"
+    )]
+    PccWithoutUtility { scenario: String, pcc: String },
 }
 
 fn find(parent: &mut [usize], mut i: usize) -> usize {

@@ -58,7 +58,8 @@ struct ModelJson<'a> {
 }
 
 /// The operating point: per scenario and configuration `pcc_p_kw`, `pcc_q_kvar` (positive =
-/// drawn lagging) and `pcc_power_factor` (input contract, version 2), bus voltage extremes
+/// drawn lagging) and `pcc_power_factor` (input contract, version 2): the flow from the
+/// utility side into the PCC bus (on-site generation is the plant's), bus voltage extremes
 /// and verdicts; the worst voltage change per step; the kvar needed per bank.
 #[derive(Serialize)]
 struct OperatingJson<'a> {

@@ -92,15 +92,17 @@ pub fn element_z_pu(plant: &Plant, e: PathElement) -> Complex64 {
     }
 }
 
-/// The radial path from `bus` to the one source in service in `scenario` (the sources
-/// with no scenario or that scenario's name): `None` when the scenario has several
-/// sources, the in-service branches form a loop, or the bus is not connected.
+/// The radial path from `bus` to the one utility source in service in `scenario` (the
+/// sources with no scenario or that scenario's name; on-site generators left out, as IEEE
+/// 519-2014's short-circuit current at the PCC): `None` when the scenario has several
+/// utility sources, the in-service branches form a loop, or the bus is not connected.
 pub fn radial_path(plant: &Plant, scenario: &str, bus: &str) -> Option<Vec<PathElement>> {
     let sources: Vec<usize> = plant
         .sources
         .iter()
         .enumerate()
         .filter(|(_, s)| s.scenario.as_deref().is_none_or(|n| n == scenario))
+        .filter(|(_, s)| s.kind == crate::model::SourceKind::Utility)
         .map(|(i, _)| i)
         .collect();
     let [source] = sources[..] else {

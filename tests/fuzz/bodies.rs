@@ -386,6 +386,7 @@ impl PlantSpec {
                     voltage_pu: 1.0,
                     zero_short_circuit_mva: None,
                     zero_x_over_r: None,
+                    kind: SourceKind::Utility,
                 }
             })
             .collect();

@@ -23,6 +23,7 @@ fn source(id: &str, bus: &str, scenario: Option<&str>, mva: f64, x_over_r: f64) 
         voltage_pu: 1.0,
         zero_short_circuit_mva: None,
         zero_x_over_r: None,
+        kind: SourceKind::Utility,
     }
 }
 
@@ -141,6 +142,7 @@ pub fn bottling_plant() -> Plant {
             voltage_pu: 1.02,
             zero_short_circuit_mva: None,
             zero_x_over_r: None,
+            kind: SourceKind::Utility,
         },
         Source {
             id: "UTIL-MIN".into(),
@@ -151,6 +153,7 @@ pub fn bottling_plant() -> Plant {
             voltage_pu: 0.99,
             zero_short_circuit_mva: None,
             zero_x_over_r: None,
+            kind: SourceKind::Utility,
         },
     ];
     p.transformers = vec![
@@ -383,12 +386,14 @@ pub fn water_plant() -> Plant {
             voltage_pu: 1.03,
             zero_short_circuit_mva: None,
             zero_x_over_r: None,
+            kind: SourceKind::Utility,
             ..source("UTIL-MAX", "MAIN", Some("max"), 350.0, 14.0)
         },
         Source {
             voltage_pu: 0.98,
             zero_short_circuit_mva: None,
             zero_x_over_r: None,
+            kind: SourceKind::Utility,
             ..source("UTIL-MIN", "MAIN", Some("min"), 120.0, 9.0)
         },
     ];

@@ -40,6 +40,7 @@ pub fn source(id: &str, bus: &str, mva: f64, x_over_r: f64) -> Source {
         voltage_pu: 1.0,
         zero_short_circuit_mva: None,
         zero_x_over_r: None,
+        kind: SourceKind::Utility,
     }
 }
 

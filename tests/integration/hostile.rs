@@ -117,7 +117,7 @@ proptest! {
             Bus { id: "HV".into(), nominal_kv: 13.8, description: String::new() },
             Bus { id: "LV".into(), nominal_kv: kv, description: String::new() },
         ];
-        plant.sources = vec![Source { id: "U".into(), bus: "HV".into(), scenario: None, short_circuit: ShortCircuit::Mva(mva), x_over_r: xr, voltage_pu: 1.0, zero_short_circuit_mva: None, zero_x_over_r: None }];
+        plant.sources = vec![Source { id: "U".into(), bus: "HV".into(), scenario: None, short_circuit: ShortCircuit::Mva(mva), x_over_r: xr, voltage_pu: 1.0, zero_short_circuit_mva: None, zero_x_over_r: None, kind: SourceKind::Utility }];
         plant.transformers = vec![Transformer { id: "T".into(), hv_bus: "HV".into(), lv_bus: "LV".into(), kva: 1000.0, impedance_percent: z, x_over_r: 6.0, in_service: true, connection: None, zero_impedance_percent: None }];
         plant.banks = vec![CapacitorBank {
             id: "C".into(), bus: "LV".into(), rated_kv: kv.abs().max(0.1), step_kvar: kvar, steps,

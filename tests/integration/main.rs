@@ -37,6 +37,7 @@ mod reference_damping;
 mod reference_data;
 mod reference_limits;
 mod reference_operating;
+mod reference_pcc;
 mod reference_resonance;
 mod reference_sequence;
 mod reference_switching;

@@ -60,6 +60,7 @@ pub fn generated_plant(n: usize, extra_links: usize, banks: usize, steps: u32, s
         voltage_pu: DEFAULT_SOURCE_VOLTAGE_PU,
         zero_short_circuit_mva: None,
         zero_x_over_r: None,
+        kind: SourceKind::Utility,
     });
     let mut mv = vec![0usize];
     let mut lv = Vec::new();

@@ -66,9 +66,37 @@ pub fn sources(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<S
                     }),
                 zero_short_circuit_mva: t.number(r, "Zero-sequence MVA", "a positive number", d),
                 zero_x_over_r: t.number(r, "Zero-sequence X/R", "a positive number", d),
+                kind: source_kind(t, r, d, defaults),
             }
         })
         .collect()
+}
+
+/// A source's `Kind` (blank: utility, noted).
+fn source_kind(
+    t: &Table,
+    r: &super::table::Row,
+    d: &mut Diagnostics,
+    defaults: &mut Defaults,
+) -> SourceKind {
+    match t.text(r, "Kind", d) {
+        None => {
+            defaults.note("Sources", "Kind", "utility", t.default_at(r, "Kind"));
+            SourceKind::Utility
+        }
+        Some(s) => match normalize(&s).as_str() {
+            "utility" => SourceKind::Utility,
+            "generator" => SourceKind::Generator,
+            _ => {
+                d.error(
+                    &t.sheet,
+                    t.cell(r, "Kind"),
+                    format!("\"Kind\" must be utility or generator, found \"{s}\""),
+                );
+                SourceKind::Utility
+            }
+        },
+    }
 }
 
 pub fn transformers(

@@ -12,7 +12,7 @@
 use super::DesignError;
 use crate::model::{LoadLevelRow, Plant};
 use crate::network::Network;
-use crate::study::operating::{OperatingSolver, supply_power};
+use crate::study::operating::OperatingSolver;
 
 /// One load level: its name, its weight (hours per year) and the plant at that level.
 #[derive(Debug, Clone)]
@@ -118,7 +118,7 @@ pub fn control(
 ) -> Control {
     let eval = |steps: &[u32]| -> Option<(f64, f64)> {
         let v = study.shift_free_voltages(s, steps).ok()?;
-        Some(supply_power(net, s, &v))
+        Some(net.pcc_power(s, &v))
     };
     let pf_of = |p: f64, q: f64| {
         let s = p.hypot(q);

@@ -1,6 +1,7 @@
 //! The operating point: the fundamental load flow of every scenario × configuration, and
-//! what the engineer reads from it: the P, Q and power factor drawn from the supply at the
-//! PCC against the target, every bus's voltage against its range, the voltage change at a
+//! what the engineer reads from it: the P, Q and power factor the plant draws from the
+//! utility at the PCC (the flow across the PCC bus's ties to the utility side, IEEE
+//! 519-2014's point of common coupling; see `network::pcc`) against the target, every bus's voltage against its range, the voltage change at a
 //! bank's bus when one step switches, and the kvar the load needs to reach the target.
 //!
 //! Model (input contract, version 2): sources are EMFs of `Voltage (pu)` at angle 0 behind
@@ -12,13 +13,12 @@
 
 use std::collections::HashMap;
 
-use num_complex::Complex64;
 use rayon::prelude::*;
 use serde::Serialize;
 
 use super::Configuration;
 use crate::model::Plant;
-use crate::network::{BASE_MVA, Network};
+use crate::network::Network;
 use crate::solve::{LoadFlowFailure, LoadFlowScratch, decreasing_root};
 
 mod solver;
@@ -55,9 +55,10 @@ pub enum PfVerdict {
 pub struct OperatingPoint {
     pub scenario: String,
     pub configuration: String,
-    /// Active power drawn from the supply (the scenario's sources), kW.
+    /// Active power the plant draws from the utility at the PCC (the flow from the utility
+    /// side into the PCC bus; on-site generation is the plant's), kW.
     pub pcc_p_kw: f64,
-    /// Reactive power drawn from the supply, kvar; positive = lagging (drawn).
+    /// Reactive power drawn from the utility at the PCC, kvar; positive = lagging (drawn).
     pub pcc_q_kvar: f64,
     /// P / √(P² + Q²); `None` without load.
     pub pcc_power_factor: Option<f64>,
@@ -363,7 +364,7 @@ impl OperatingStudy {
             let Some(base) = solver.solved_base(s) else {
                 continue;
             };
-            let (p0, q0) = supply_power(net, s, base);
+            let (p0, q0) = net.pcc_power(s, base);
             let (pf0, _) = power_factor(p0, q0, self.target_power_factor);
             let tan0 = if p0 > 0.0 { q0 / p0 } else { 0.0 };
             for (b, bank) in plant.banks.iter().enumerate() {
@@ -376,7 +377,7 @@ impl OperatingStudy {
                     let mut steps = vec![0.0; nk];
                     steps[b] = x;
                     solver.solve_into(s, &steps, &mut v, &mut w).ok()?;
-                    let (p, q) = supply_power(net, s, &v);
+                    let (p, q) = net.pcc_power(s, &v);
                     Some(q - p * tan_t)
                 };
                 let hi = 4.0 * f64::from(bank.steps.max(1));
@@ -445,7 +446,7 @@ fn solve_chunk(
             let x: Vec<f64> = steps.iter().map(|&k| f64::from(k)).collect();
             match solver.solve_into(s, &x, &mut v, &mut w) {
                 Ok(iterations) => {
-                    let (p_kw, q_kvar) = supply_power(net, s, &v);
+                    let (p_kw, q_kvar) = net.pcc_power(s, &v);
                     Ok(Solved {
                         p_kw,
                         q_kvar,
@@ -465,22 +466,6 @@ fn solve_chunk(
             }
         })
         .collect()
-}
-
-/// P (kW) and Q (kvar) the scenario's sources deliver into their buses:
-/// S = Σ V·conj(y_s·(E − V)) × S_base.
-pub fn supply_power(net: &Network, s: usize, v: &[Complex64]) -> (f64, f64) {
-    let mut total = Complex64::default();
-    if let Some(sc) = net.scenarios.get(s) {
-        for &k in &sc.sources {
-            let src = &net.sources[k];
-            let vb = v[src.bus];
-            let i = src.model.y_pu(1.0, net.resistance) * (net.source_emf_pu[k] - vb);
-            total += vb * i.conj();
-        }
-    }
-    let kva = BASE_MVA * 1000.0;
-    (total.re * kva, total.im * kva)
 }
 
 /// PF = P / √(P² + Q²) and its verdict against `target` (lagging when Q ≥ 0).

@@ -22,6 +22,9 @@ pub struct OperatingSolver {
     bank_y: Vec<(usize, Complex64)>,
     /// e^{jθ} of each bus's transformer phase-shift zone (positive sequence).
     zone: Vec<Complex64>,
+    /// Per scenario, e^{−jθ} of the zone of its first in-service utility source's bus: the
+    /// reference of the reported angles (that source's EMF at 0°).
+    reference: Vec<Complex64>,
 }
 
 impl OperatingSolver {
@@ -79,6 +82,18 @@ impl OperatingSolver {
                 .iter()
                 .map(|d| Complex64::from_polar(1.0, d.to_radians()))
                 .collect(),
+            reference: (net.scenarios.iter())
+                .map(|sc| {
+                    let first = (sc.sources.iter())
+                        .find(|&&k| net.source_utility.get(k).copied().unwrap_or(true))
+                        .or(sc.sources.first());
+                    let deg = first
+                        .and_then(|&k| net.zone_deg.get(net.sources[k].bus))
+                        .copied()
+                        .unwrap_or(0.0);
+                    Complex64::from_polar(1.0, -deg.to_radians())
+                })
+                .collect(),
         }
     }
 
@@ -117,11 +132,17 @@ impl OperatingSolver {
 
     /// Every bus voltage (per unit, complex, by bus) of scenario `s` with `steps`, solved
     /// from the solution without banks; the same values as the study's to about 1e-14.
-    /// Angles include each bus's transformer phase shift (its zone against the PCC).
+    /// Angles are against the EMF of the scenario's first utility source (in the Sources
+    /// sheet's order) and include each bus's transformer phase shift.
     pub fn voltages(&self, s: usize, steps: &[u32]) -> Result<Vec<Complex64>, LoadFlowFailure> {
         let mut v = self.shift_free_voltages(s, steps)?;
+        let r = self
+            .reference
+            .get(s)
+            .copied()
+            .unwrap_or(Complex64::new(1.0, 0.0));
         for (x, z) in v.iter_mut().zip(&self.zone) {
-            *x *= z;
+            *x *= z * r;
         }
         Ok(v)
     }

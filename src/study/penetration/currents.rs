@@ -52,31 +52,29 @@ pub(super) fn order_inputs(
         .map(|c| (c, inj.current_pu[o][c], inj.phasor_pu[o][c]))
         .collect();
     let in_service = &net.scenarios[s].sources;
-    let background = inj
-        .background
-        .iter()
+    let terms: Vec<_> = (inj.background.iter())
         .filter(|b| b.order == o && in_service.contains(&b.source))
-        .map(|b| (b.column, b.emf_pu * net.sources[b.source].model.y_pu(h, rm)))
         .collect();
+    let (_, own) = net.pcc_flow(s, h);
     OrderInputs {
         loads,
-        background,
+        background: (terms.iter())
+            .map(|b| (b.column, b.emf_pu * net.sources[b.source].model.y_pu(h, rm)))
+            .collect(),
+        background_own: terms.iter().map(|b| own.contains(&b.source)).collect(),
         ..network_inputs(net, s, h)
     }
 }
 
-/// The in-service sources' and the branches' admittances of `net` at order `h` in scenario
-/// `s` (no loads, no background).
+/// The PCC's flow functional and the branches' admittances of `net` at order `h` in
+/// scenario `s` (no loads, no background).
 fn network_inputs(net: &crate::network::Network, s: usize, h: f64) -> OrderInputs {
     let rm = net.resistance;
     OrderInputs {
         loads: Vec::new(),
         background: Vec::new(),
-        sources: net.scenarios[s]
-            .sources
-            .iter()
-            .map(|&i| (net.sources[i].bus, net.sources[i].model.y_pu(h, rm)))
-            .collect(),
+        background_own: Vec::new(),
+        pcc: net.pcc_flow(s, h).0,
         branches: net
             .branches
             .iter()

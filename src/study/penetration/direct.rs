@@ -79,17 +79,16 @@ impl Ctx<'_> {
                     for r in 0..n {
                         v[r] = dot(&zb[r * l..(r + 1) * l], &inj);
                     }
-                    let drawn: Complex64 = inp.sources.iter().map(|&(b, y)| y * v[b]).sum();
-                    let own: Complex64 = inp.background.iter().map(|&(_, i)| i).sum();
+                    let drawn = inp.pcc_current(&v);
                     if tw.is_some() {
                         part.keep_primary(net, |r| abs(v[r]));
                         // Phase a carries the sum of the sequence components.
                         for (vr, v2) in v.iter_mut().zip(&part.v) {
                             *vr += v2;
                         }
-                        supply = abs(drawn - own + part.drawn);
+                        supply = abs(drawn + part.drawn);
                     } else {
-                        supply = abs(drawn - own);
+                        supply = abs(drawn);
                     }
                     for r in 0..n {
                         v_mag[r] = abs(v[r]);
@@ -105,20 +104,18 @@ impl Ctx<'_> {
                     for (r, vm) in v_mag.iter_mut().enumerate() {
                         *vm = magnitude_sum(self.law, h, inp, |c| abs(zb[r * l + c]));
                     }
-                    let into = |c: usize| -> Complex64 {
-                        inp.sources.iter().map(|&(b, y)| zb[b * l + c] * y).sum()
-                    };
+                    let into = |c: usize| inp.pcc_transfer(|b| zb[b * l + c]);
                     supply = combine(
                         self.law,
                         h,
                         inp.loads
                             .iter()
                             .map(|&(c, a, _)| abs(into(c)) * a)
-                            .chain(
-                                inp.background
-                                    .iter()
-                                    .map(|&(c, i)| abs(into(c) - 1.0) * abs(i)),
-                            )
+                            .chain((inp.background.iter().zip(&inp.background_own)).map(
+                                |(&(c, i), &own)| {
+                                    abs(into(c) - if own { 1.0 } else { 0.0 }) * abs(i)
+                                },
+                            ))
                             .chain(tw.map(|_| part.supply)),
                     );
                     if tw.is_some() {
@@ -229,7 +226,7 @@ pub(super) struct ThreeWirePart {
     pub v: Vec<Complex64>,
     /// Voltage magnitudes by the summation law, per unit.
     pub v_mag: Vec<f64>,
-    /// Σ y_s·V over the sources (`phasor`), per unit.
+    /// The current from the PCC toward the utility (`phasor`), per unit.
     pub drawn: Complex64,
     /// The supply current by the law (magnitude summation), per unit.
     pub supply: f64,
@@ -261,14 +258,12 @@ impl ThreeWirePart {
                 self.v[r] = dot(&zb[r * l..(r + 1) * l], &self.inj);
                 self.v_mag[r] = abs(self.v[r]);
             }
-            self.drawn = inp.sources.iter().map(|&(b, y)| y * self.v[b]).sum();
+            self.drawn = inp.pcc_current(&self.v);
         } else {
             for r in 0..n {
                 self.v_mag[r] = magnitude_sum(law, h, inp, |c| abs(zb[r * l + c]));
             }
-            let into = |c: usize| -> Complex64 {
-                inp.sources.iter().map(|&(b, y)| zb[b * l + c] * y).sum()
-            };
+            let into = |c: usize| inp.pcc_transfer(|b| zb[b * l + c]);
             self.supply = combine(law, h, inp.loads.iter().map(|&(c, a, _)| abs(into(c)) * a));
         }
         self.bank_i = (net.banks.iter().enumerate())

@@ -58,9 +58,7 @@ impl Ctx<'_> {
                     }
                     v_mag[r] = abs(*vr);
                 }
-                let drawn: Complex64 = inp.sources.iter().map(|&(b, ys)| ys * v[b]).sum();
-                let own: Complex64 = inp.background.iter().map(|&(_, i)| i).sum();
-                let supply = abs(drawn - own);
+                let supply = abs(inp.pcc_current(&v));
                 // The background alone at the bank buses: Z₀[bank, c]·I_N summed, then the
                 // same correction.
                 bank_bg.iter_mut().for_each(|x| *x = 0.0);

@@ -161,10 +161,33 @@ struct OrderInputs {
     loads: Vec<(usize, f64, Complex64)>,
     /// Background of the scenario's sources: (column, Norton current E·y_s per unit).
     background: Vec<(usize, Complex64)>,
-    /// In-service sources: (bus, y_s(h)).
-    sources: Vec<(usize, Complex64)>,
+    /// Per background term: true where its source is a utility source at the PCC bus (its
+    /// Norton current is part of the flow across the PCC).
+    background_own: Vec<bool>,
+    /// The flow from the PCC bus toward the utility: I = Σ c·V over (bus, c)
+    /// ([`crate::network::Network::pcc_flow`]), less the own background terms.
+    pcc: Vec<(usize, Complex64)>,
     /// Branches of the order's network: (from, to, positive-network index, y(h)).
     branches: Vec<(usize, usize, usize, Complex64)>,
+}
+
+impl OrderInputs {
+    /// The current from the PCC bus toward the utility for bus voltages `v` (per unit):
+    /// Σ c·V less the Norton currents of the own background terms.
+    fn pcc_current(&self, v: &[Complex64]) -> Complex64 {
+        let flow: Complex64 = self.pcc.iter().map(|&(b, c)| c * v[b]).sum();
+        let own: Complex64 = (self.background.iter().zip(&self.background_own))
+            .filter(|(_, o)| **o)
+            .map(|(&(_, i), _)| i)
+            .sum();
+        flow - own
+    }
+
+    /// The PCC current per unit current injected at a column, from the transfer impedance
+    /// `z(bus)` of every bus to that column: Σ c·Z[bus, column].
+    fn pcc_transfer(&self, z: impl Fn(usize) -> Complex64) -> Complex64 {
+        self.pcc.iter().map(|&(b, c)| c * z(b)).sum()
+    }
 }
 
 /// The whole penetration study.

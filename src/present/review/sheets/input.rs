@@ -89,6 +89,8 @@ pub(in crate::present::review) fn input(
             "X/R",
             "Zero-sequence MVA",
             "Zero-sequence X/R",
+            "Voltage (pu)",
+            "Kind",
         ],
         p.sources
             .iter()
@@ -109,6 +111,8 @@ pub(in crate::present::review) fn input(
                         "0.0",
                     ),
                     n(s.zero_x_over_r.unwrap_or(s.x_over_r), "0.0"),
+                    n(s.voltage_pu, "0.000"),
+                    t(s.kind.label()),
                 ]
             })
             .collect(),

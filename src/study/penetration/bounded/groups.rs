@@ -95,8 +95,11 @@ pub(super) struct Group {
     /// Σ |ρ_c|·w_c and Σ (|ρ_c|·w_c)^α over the members.
     pub w1: f64,
     pub wa: f64,
-    /// A background term: |I_N| (its supply term is |into − 1|·|I_N|, not proportional).
+    /// A background term: |I_N| (its PCC term is |into − own|·|I_N|, not proportional).
     pub background: Option<f64>,
+    /// A background term of a utility source at the PCC bus (its own Norton current
+    /// crosses the PCC).
+    pub own: bool,
 }
 
 /// The groups of one scenario and order.
@@ -120,7 +123,7 @@ impl Groups {
     pub(super) fn new(
         law: Law,
         loads: &[(usize, f64)],
-        background: &[(usize, f64)],
+        background: &[(usize, f64, bool)],
         s_rows: &[Vec<Complex64>],
         bank_inj: &[Complex64],
         k: usize,
@@ -169,6 +172,7 @@ impl Groups {
                         w1: 0.0,
                         wa: 0.0,
                         background: None,
+                        own: false,
                     });
                     let g = groups.len() - 1;
                     if !key.is_empty() {
@@ -183,12 +187,13 @@ impl Groups {
             groups[g].wa += law.term(t);
             members.push((g, rho, w));
         }
-        for &(c, i) in background {
+        for &(c, i, own) in background {
             groups.push(Group {
                 rep: c,
                 w1: i,
                 wa: law.term(i),
                 background: Some(i),
+                own,
             });
         }
         let ng = groups.len();

@@ -69,9 +69,14 @@ pub(super) struct Prepared {
     limit: Vec<Vec<(f64, f64)>>,
 }
 
-/// The buses always summed exactly: the PCC, the bank buses and the source buses (sorted).
+/// The buses always summed exactly: the PCC and its neighbours (the far ends of its ties
+/// to the utility among them), the bank buses and the source buses (sorted).
 pub(super) fn always_summed(net: &crate::network::Network, pcc: usize) -> Vec<usize> {
+    let neighbours = (net.branches.iter())
+        .filter(|b| b.from == pcc || b.to == pcc)
+        .flat_map(|b| [b.from, b.to]);
     let mut always: Vec<usize> = std::iter::once(pcc)
+        .chain(neighbours)
         .chain(net.banks.iter().map(|b| b.bus))
         .chain(net.sources.iter().map(|s| s.bus))
         .collect();
@@ -292,17 +297,14 @@ impl Prepared {
                 key_acc[r] = key_acc[r].max((bound * inv).max(bound * 1e-12));
                 over[r] |= bound > lp;
             }
-            // The current drawn from the supply, by group: into(g) = Σ_src y_s·Z[src, p_g].
+            // The current across the PCC, by group: into(g) = Σ c_b·Z[b, p_g] over the
+            // PCC's flow functional.
             let mut supply = 0.0;
             for (g, grp) in gr.groups.iter().enumerate() {
-                let into: Complex64 = inp
-                    .sources
-                    .iter()
-                    .map(|&(b, ys)| rows[self.always_at[b].unwrap_or(0) * ng + g] * ys)
-                    .sum();
+                let into = inp.pcc_transfer(|b| rows[self.always_at[b].unwrap_or(0) * ng + g]);
                 supply += match grp.background {
                     None => law.group(abs(into), grp.w1, grp.wa),
-                    Some(i) => law.term(abs(into - 1.0) * i),
+                    Some(i) => law.term(abs(into - if grp.own { 1.0 } else { 0.0 }) * i),
                 };
             }
             d.pcc_current_a[o] = law.finish(supply) * pcc_amps;

@@ -62,10 +62,14 @@ impl Prepared {
                             row
                         })
                         .collect();
+                    let bg_own: Vec<(usize, f64, bool)> =
+                        (bg_terms.iter().zip(&inp.background_own))
+                            .map(|(&(c, i), &own)| (c, i, own))
+                            .collect();
                     let grouped = Groups::new(
                         Law::new(ctx.law, p.order),
                         &load_terms,
-                        &bg_terms,
+                        &bg_own,
                         &kept,
                         z0.bank_inj,
                         k,
