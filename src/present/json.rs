@@ -26,7 +26,16 @@ struct DistortionJson<'a> {
     bank_amplification: &'a [BankAmplification],
     /// Every bus against its limits; omitted (null) for large studies.
     buses: Option<Vec<BusCheck>>,
+    /// The flow across the PCC toward the utility per injected order, A: the plant's emission
+    /// and the background-driven part together.
     pcc_current_a: &'a [f64],
+    /// The plant's own emission across the PCC (background off), A: what IEEE 519 judges.
+    pcc_plant_current_a: &'a [f64],
+    /// The background-driven part alone (the plant's loads off), A: reported, not judged.
+    pcc_background_current_a: &'a [f64],
+    /// Under `phasor` summation, per injected order at the PCC: the worst case over blank
+    /// background angles and the arithmetic bound (empty under the other laws).
+    pcc_bounds: &'a [crate::study::penetration::PccBounds],
     bank_current_a: &'a [Vec<f64>],
     bank_voltage_percent: &'a [Vec<f64>],
     /// rms of each bank's harmonic current from the background alone, A.
@@ -201,6 +210,9 @@ fn distortion(res: &CheckResults) -> Vec<DistortionJson<'_>> {
             buses: (per_bus && d.evaluated.is_none())
                 .then(|| bus_checks(d, &res.limits, &res.network)),
             pcc_current_a: &d.pcc_current_a,
+            pcc_plant_current_a: &d.pcc_plant_current_a,
+            pcc_background_current_a: &d.pcc_background_current_a,
+            pcc_bounds: &d.pcc_bounds,
             bank_current_a: &d.bank_current_a,
             bank_voltage_percent: &d.bank_voltage_percent,
             bank_background_rms_a: &d.bank_background_rms_a,

@@ -49,6 +49,8 @@ pub struct BackgroundInjection {
     /// angle matters under `phasor` summation only).
     #[serde(skip)]
     pub emf_pu: Complex64,
+    /// Whether the Background sheet gives its angle (blank: 0° stated, any angle possible).
+    pub angle_given: bool,
 }
 
 /// The harmonic sources of the plant and of the supply.
@@ -192,6 +194,7 @@ impl Injections {
                     source: k,
                     column: buses.iter().position(|&c| c == bus).unwrap_or(0),
                     emf_pu: Complex64::from_polar(b.voltage_percent / 100.0, arg),
+                    angle_given: b.angle_deg.is_some(),
                 }
             })
             .collect();

@@ -190,10 +190,16 @@ pub struct LimitRow {
     pub worst_individual_bus: String,
     pub worst_individual_order: Option<f64>,
     pub worst_individual: Option<Checked>,
-    /// TDD at the PCC, % of I_L.
+    /// TDD at the PCC, % of I_L, of the plant's own emission (the background off): what
+    /// IEEE 519-2014 clause 5.2 judges.
     pub tdd: Checked,
+    /// TDD of the whole flow across the PCC, the background-driven part included, % of
+    /// I_L: reported, not judged.
+    pub tdd_with_background_percent: f64,
+    /// Under `phasor` summation, the PCC's figures beside the stated-angle ones.
+    pub pcc_phasor: Option<PccPhasor>,
     pub worst_pcc_order: Option<f64>,
-    /// The PCC harmonic current with the highest ratio to its limit, % of I_L.
+    /// The plant's own PCC harmonic current with the highest ratio to its limit, % of I_L.
     pub worst_pcc_current: Option<Checked>,
     /// Voltage THD at the PCC, %.
     pub pcc_thd: Checked,
@@ -207,6 +213,52 @@ pub struct LimitRow {
     /// Any value above its limit where the limit set applies: under IEEE 519 the PCC's
     /// voltage, TDD and current; under IEC 61000-2-4 every bus's voltage.
     pub exceeds: bool,
+}
+
+/// Under `phasor` summation, the PCC's THD and TDD beside the stated-angle figures: the
+/// worst case over blank background angles (`None` without one; each order's angle free)
+/// and the arithmetic bound (every term's magnitude added), %.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct PccPhasor {
+    pub thd_worst_angle_percent: Option<f64>,
+    pub thd_arithmetic_percent: f64,
+    /// The whole flow's TDD (background included) at the worst angles.
+    pub tdd_with_background_worst_angle_percent: Option<f64>,
+    /// The plant's own TDD, arithmetic bound.
+    pub tdd_arithmetic_percent: f64,
+}
+
+/// The PCC's phasor bounds of result `d` over its orders (`None` unless `phasor`).
+fn pcc_phasor(d: &Distortion, orders: &[f64], i_l_a: f64) -> Option<PccPhasor> {
+    if d.pcc_bounds.is_empty() {
+        return None;
+    }
+    let rss = |f: &dyn Fn(usize) -> f64| -> f64 {
+        (0..d.pcc_bounds.len())
+            .map(|o| f(o).powi(2))
+            .sum::<f64>()
+            .sqrt()
+    };
+    let b = &d.pcc_bounds;
+    let free = b.iter().any(|x| x.v_worst_angle_percent.is_some());
+    let worst_i: Vec<f64> = (b.iter().zip(&d.pcc_current_a))
+        .map(|(x, i)| x.i_worst_angle_a.unwrap_or(*i))
+        .collect();
+    let plant_arith: Vec<f64> = b.iter().map(|x| x.i_plant_arithmetic_a).collect();
+    let tdd = |i: &[f64]| {
+        if i_l_a > 0.0 {
+            tdd_percent(i, orders, i_l_a)
+        } else {
+            0.0
+        }
+    };
+    Some(PccPhasor {
+        thd_worst_angle_percent: free
+            .then(|| rss(&|o| b[o].v_worst_angle_percent.unwrap_or(b[o].v_stated_percent))),
+        thd_arithmetic_percent: rss(&|o| b[o].v_arithmetic_percent),
+        tdd_with_background_worst_angle_percent: free.then(|| tdd(&worst_i)),
+        tdd_arithmetic_percent: tdd(&plant_arith),
+    })
 }
 
 /// Every bus of one result against its limits.
@@ -267,14 +319,19 @@ pub fn limit_row(
     let demand = ctx.i_l_a > 0.0;
     let tdd = Checked::new(
         if demand {
-            tdd_percent(&d.pcc_current_a, orders, ctx.i_l_a)
+            tdd_percent(&d.pcc_plant_current_a, orders, ctx.i_l_a)
         } else {
             0.0
         },
         ctx.tdd_limit.filter(|_| demand).map(|l| l.value),
     );
+    let tdd_with_background_percent = if demand {
+        tdd_percent(&d.pcc_current_a, orders, ctx.i_l_a)
+    } else {
+        0.0
+    };
     let pcc: Vec<(f64, Checked)> = d
-        .pcc_current_a
+        .pcc_plant_current_a
         .iter()
         .zip(orders)
         .zip(&ctx.pcc_limit)
@@ -299,6 +356,8 @@ pub fn limit_row(
         worst_individual_order: ind.worst_order,
         worst_individual: ind.worst_percent,
         tdd,
+        tdd_with_background_percent,
+        pcc_phasor: pcc_phasor(d, orders, ctx.i_l_a),
         worst_pcc_order: worst_pcc.as_ref().map(|p| p.0),
         worst_pcc_current: worst_pcc.map(|p| p.1),
         pcc_thd: at_pcc.thd_percent,

@@ -79,6 +79,39 @@ fn agree(p: &Plant) -> usize {
         for (x, y) in a.pcc_current_a.iter().zip(&b.pcc_current_a) {
             close(*x, *y, "PCC current");
         }
+        for (x, y) in a.pcc_plant_current_a.iter().zip(&b.pcc_plant_current_a) {
+            close(*x, *y, "PCC plant current");
+        }
+        for (x, y) in a
+            .pcc_background_current_a
+            .iter()
+            .zip(&b.pcc_background_current_a)
+        {
+            close(*x, *y, "PCC background current");
+        }
+        assert_eq!(a.pcc_bounds.len(), b.pcc_bounds.len());
+        for (x, y) in a.pcc_bounds.iter().zip(&b.pcc_bounds) {
+            close(
+                x.v_arithmetic_percent,
+                y.v_arithmetic_percent,
+                "PCC arithmetic bound",
+            );
+            close(
+                x.i_arithmetic_a,
+                y.i_arithmetic_a,
+                "PCC arithmetic current bound",
+            );
+            close_opt(
+                x.v_worst_angle_percent,
+                y.v_worst_angle_percent,
+                "PCC worst angle",
+            );
+            close_opt(
+                x.i_worst_angle_a,
+                y.i_worst_angle_a,
+                "PCC worst-angle current",
+            );
+        }
         for (bank, (x, y)) in a
             .bank_voltage_percent
             .iter()
@@ -208,12 +241,16 @@ fn linear_and_direct_agree_under_phasor_summation() {
         let mut p = converter_plant(n, links, seed, reactor, Summation::Phasor);
         if seed == 11 {
             for s in p.sources.clone() {
-                for (h, v, a) in [(5.0, 1.5, 30.0), (7.0, 1.0, -45.0)] {
+                for (h, v, a) in [
+                    (5.0, 1.5, Some(30.0)),
+                    (7.0, 1.0, Some(-45.0)),
+                    (11.0, 0.8, None),
+                ] {
                     p.background.push(BackgroundLine {
                         source: s.id.clone(),
                         order: h,
                         voltage_percent: v,
-                        angle_deg: Some(a),
+                        angle_deg: a,
                     });
                 }
             }

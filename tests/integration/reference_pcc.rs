@@ -240,3 +240,141 @@ fn a_pcc_without_a_utility_side_is_a_located_error() {
         "{text}"
     );
 }
+
+fn with_background(mut p: Plant, angle_deg: Option<f64>) -> Plant {
+    p.background = vec![BackgroundLine {
+        source: "UTIL".into(),
+        order: 5.0,
+        voltage_percent: 1.5,
+        angle_deg,
+    }];
+    p
+}
+
+#[test]
+fn worst_background_angle_matches_a_brute_force_sweep() {
+    // Under `phasor` summation a blank background angle is stated as 0°; the worst case
+    // over it is |known| + |background term| (the triangle inequality, exact). Checked
+    // against a sweep of the angle in 2° steps, each a whole check.
+    let mut p = with_background(plant(), None);
+    p.study.summation = Summation::Phasor;
+    let res = run(&p);
+    let o = order_index(&res, 5.0);
+    for k in [0u32, 2, 3] {
+        let c = config_index(&res, &[k]);
+        let b = res.penetration.results[c].pcc_bounds[o];
+        let (worst_i, worst_v) = (
+            b.i_worst_angle_a.expect("blank"),
+            b.v_worst_angle_percent.expect("blank"),
+        );
+        let (mut max_i, mut max_v): (f64, f64) = (0.0, 0.0);
+        for step in 0..180 {
+            let mut q = with_background(plant(), Some(f64::from(step) * 2.0));
+            q.study.summation = Summation::Phasor;
+            let r = run(&q);
+            assert!(
+                r.penetration.results[c].pcc_bounds[o]
+                    .i_worst_angle_a
+                    .is_none()
+            );
+            max_i = max_i.max(r.penetration.results[c].pcc_current_a[o]);
+            let v = r.penetration.voltages(0, &[k]).expect("solves");
+            max_v = max_v.max(v[1][o] * 100.0);
+        }
+        // A 2° grid is within 1 − cos(1°) = 1.5e-4 of the maximum.
+        assert!(
+            max_i <= worst_i * (1.0 + 1e-12) && max_i >= worst_i * (1.0 - 2e-4),
+            "{k}: {max_i} vs {worst_i}"
+        );
+        assert!(
+            max_v <= worst_v * (1.0 + 1e-12) && max_v >= worst_v * (1.0 - 2e-4),
+            "{k}: {max_v} vs {worst_v}"
+        );
+        // The arithmetic bound is what arithmetic summation gives (one load per bus).
+        let mut a = with_background(plant(), None);
+        a.study.summation = Summation::Arithmetic;
+        let ra = run(&a);
+        assert_close(
+            b.i_arithmetic_a,
+            ra.penetration.results[c].pcc_current_a[o],
+            1e-9,
+        );
+        assert!(b.i_arithmetic_a >= worst_i * (1.0 - 1e-12));
+    }
+}
+
+#[test]
+fn tdd_judges_the_plants_own_emission_and_reports_the_background_apart() {
+    let p = with_background(plant(), Some(0.0));
+    let res = run(&p);
+    let without_bg = run(&plant());
+    let mut no_drive = with_background(plant(), Some(0.0));
+    no_drive.spectra[0]
+        .lines
+        .iter_mut()
+        .for_each(|l| l.magnitude_percent = 0.0);
+    let bg_alone = run(&no_drive);
+    let o = order_index(&res, 5.0);
+    for k in 0..=3u32 {
+        let c = config_index(&res, &[k]);
+        let d = &res.penetration.results[c];
+        // The plant's own emission is the flow with the background off.
+        assert_close(
+            d.pcc_plant_current_a[o],
+            without_bg.penetration.results[c].pcc_current_a[o],
+            1e-9,
+        );
+        // The background's part is the flow with the plant's drive silent.
+        assert_close(
+            d.pcc_background_current_a[o],
+            bg_alone.penetration.results[c].pcc_current_a[o],
+            1e-9,
+        );
+        // Arithmetic summation (the default): the total is their sum.
+        assert_close(
+            d.pcc_current_a[o],
+            d.pcc_plant_current_a[o] + d.pcc_background_current_a[o],
+            1e-12,
+        );
+        // IEEE 519-2014 clause 5.2 judges the plant's TDD: the same with and without the
+        // background; the whole flow's TDD is reported beside it, higher.
+        let row = &res.limit_rows[c];
+        assert_close(row.tdd.value, without_bg.limit_rows[c].tdd.value, 1e-9);
+        assert!(row.tdd_with_background_percent > row.tdd.value);
+    }
+}
+
+#[test]
+fn a_utility_source_at_the_pcc_bus_takes_its_own_background_current_out() {
+    // One bus: the utility (100 MVA, X/R 10) at the PCC, a 3 × 400 kvar bank and a 2 MW
+    // linear load. The background EMF E behind y_s drives into the plant the current
+    // I = E·y_s·y_p / (y_s + y_p), y_p = bank + load (Thevenin; textbook).
+    let mut p = textbook_plant(60.0);
+    p.buses = vec![bus("MAIN", 4.16)];
+    p.sources = vec![source("UTIL", "MAIN", 100.0, 10.0)];
+    p.loads = vec![load("M1", "MAIN", LoadType::Linear, 2000.0, 0.85)];
+    p.banks = vec![bank("CAP", "MAIN", 4.16, 400.0, 3, Reactor::None)];
+    p.background = vec![BackgroundLine {
+        source: "UTIL".into(),
+        order: 7.0,
+        voltage_percent: 2.0,
+        angle_deg: None,
+    }];
+    let res = run(&p);
+    let o = order_index(&res, 7.0);
+    let h = 7.0;
+    let y_s = z_at(1.0, 10.0, h).inv();
+    let i_base = S_BASE_MVA * 1e6 / (3f64.sqrt() * 4160.0);
+    for k in 0..=3u32 {
+        let y_p = Complex64::new(0.02, -0.02 * 0.85f64.acos().tan() / h)
+            + Complex64::new(0.0, h * f64::from(k) * 0.004);
+        let want = (0.02 * y_s * y_p / (y_s + y_p)).norm() * i_base;
+        let c = config_index(&res, &[k]);
+        assert_close(
+            res.penetration.results[c].pcc_background_current_a[o],
+            want,
+            1e-9,
+        );
+        assert_close(res.penetration.results[c].pcc_current_a[o], want, 1e-9);
+    }
+}

@@ -4,6 +4,7 @@
 pub mod capacitors;
 pub mod design;
 pub mod operating;
+mod pcc;
 pub mod summary;
 pub mod table;
 pub mod verdict;

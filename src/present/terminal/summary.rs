@@ -379,7 +379,7 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     super::table::write_wrapped(
         out,
         if ctx.set == LimitSet::Ieee519_2014 {
-            "value/limit; THD and Vh in % of nominal voltage, Vh the worst individual order; TDD and Ih in % of I_L (current into the supply); in-plant THD: the worst other bus; * an in-plant bus above the IEEE 519 voltage values (THD or an individual order; informational: IEEE 519 applies at the PCC); ampl: the largest ratio over the banks of the voltage THD at the bank's bus to that without banks."
+            "value/limit; THD and Vh in % of nominal voltage, Vh the worst individual order; TDD and Ih in % of I_L (the plant's own emission across the PCC toward the utility); in-plant THD: the worst other bus; * an in-plant bus above the IEEE 519 voltage values (THD or an individual order; informational: IEEE 519 applies at the PCC); ampl: the largest ratio over the banks of the voltage THD at the bank's bus to that without banks."
         } else {
             "value/limit; THD and Vh in % of nominal voltage at the PCC; in-plant THD: the worst other bus (IEC 61000-2-4 limits apply there too and count in the verdict); ampl: the largest ratio over the banks of the voltage THD at the bank's bus to that without banks."
         },
@@ -429,7 +429,7 @@ fn write_limit_table(
     if !table.is_empty() {
         write_table(out, &LIMIT_HEADERS, &[0, 5, 7], &table)?;
     }
-    Ok(())
+    super::pcc::write_pcc_lines(out, res, s)
 }
 
 /// The cells of a limits row: PCC THD, Vh, TDD and Ih against their limits, the in-plant

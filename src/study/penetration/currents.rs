@@ -36,6 +36,23 @@ pub(super) fn phasor_currents(
     }
 }
 
+/// The loads' phasor injection alone by column at `order` for the operating angles
+/// `theta` (as [`phasor_currents`], the background left out), per unit.
+pub(super) fn load_phasors(
+    inp: &OrderInputs,
+    order: f64,
+    theta: &[f64],
+    l: usize,
+    out: &mut Vec<Complex64>,
+) {
+    out.clear();
+    out.resize(l, Complex64::default());
+    for &(c, _, a) in &inp.loads {
+        let t = theta.get(c).copied().unwrap_or(0.0);
+        out[c] += a * Complex64::from_polar(1.0, order * t);
+    }
+}
+
 /// What scenario `s` injects at order `o`, in the order's sequence network.
 pub(super) fn order_inputs(
     engines: &SequenceEngines<'_, '_>,
@@ -62,6 +79,7 @@ pub(super) fn order_inputs(
             .map(|b| (b.column, b.emf_pu * net.sources[b.source].model.y_pu(h, rm)))
             .collect(),
         background_own: terms.iter().map(|b| own.contains(&b.source)).collect(),
+        background_angle_known: terms.iter().map(|b| b.angle_given).collect(),
         ..network_inputs(net, s, h)
     }
 }
@@ -74,6 +92,7 @@ fn network_inputs(net: &crate::network::Network, s: usize, h: f64) -> OrderInput
         loads: Vec::new(),
         background: Vec::new(),
         background_own: Vec::new(),
+        background_angle_known: Vec::new(),
         pcc: net.pcc_flow(s, h).0,
         branches: net
             .branches

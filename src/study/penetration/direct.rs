@@ -5,9 +5,10 @@
 
 use num_complex::Complex64;
 
+use super::pcc::{self, PartAtPcc};
 use super::{
     Ctx, Distortion, Individual, OrderInputs, abs, amps_per_pu, background_currents, combine, dot,
-    magnitude_sum, phasor_currents, summarize, update_worst,
+    load_phasors, magnitude_sum, phasor_currents, summarize, update_worst,
 };
 use crate::model::Summation;
 use crate::solve::{ComboPlan, SolveError, TransferScratch};
@@ -135,6 +136,25 @@ impl Ctx<'_> {
                         }
                     }
                 }
+                if self.law == Summation::Phasor {
+                    load_phasors(inp, h, theta, l, &mut inj);
+                }
+                let at_pcc = tw.map(|_| PartAtPcc {
+                    i: part.drawn,
+                    i_law: part.supply,
+                    v: part.v.get(self.pcc).copied().unwrap_or_default(),
+                });
+                let split = pcc::split(
+                    inp,
+                    self.law,
+                    h,
+                    self.pcc,
+                    |b, c| zb[b * l + c],
+                    &inj,
+                    at_pcc,
+                    self.pcc_units(),
+                );
+                self.record_pcc(d, o, split);
                 let bank_i: Vec<f64> = (net.banks.iter().enumerate())
                     .map(|(b, bank)| match tw {
                         // Each sequence's current in the bank, combined by the law.
@@ -152,6 +172,23 @@ impl Ctx<'_> {
             self.conclude(d);
         }
         Ok(out)
+    }
+
+    /// Per unit to A at the PCC and to % of nominal voltage.
+    pub(super) fn pcc_units(&self) -> (f64, f64) {
+        (amps_per_pu(self.net.buses[self.pcc].kv), 100.0)
+    }
+
+    /// Records order `o`'s PCC split and bounds (per unit) into `d`.
+    pub(super) fn record_pcc(&self, d: &mut Distortion, o: usize, split: pcc::PccSplit) {
+        let (amps, _) = self.pcc_units();
+        d.pcc_plant_current_a[o] = split.plant * amps;
+        d.pcc_background_current_a[o] = split.background * amps;
+        if let Some(b) = split.bounds {
+            let no = d.pcc_current_a.len();
+            d.pcc_bounds.resize(no, pcc::PccBounds::default());
+            d.pcc_bounds[o] = b;
+        }
     }
 
     /// The positive-sequence point and inputs of the 3-wire part of order `o` in scenario

@@ -13,7 +13,8 @@
 use num_complex::Complex64;
 
 use super::dense::{bank_admittances, woodbury_solve};
-use super::{Ctx, Distortion, abs, background_currents, phasor_currents};
+use super::{Ctx, Distortion, abs, background_currents, load_phasors, pcc, phasor_currents};
+use crate::solve::HarmonicPoint;
 use crate::solve::SolveError;
 
 impl Ctx<'_> {
@@ -44,6 +45,11 @@ impl Ctx<'_> {
                 let k = z0.k;
                 let inp = &self.inputs[s][o];
                 let (y, energized) = bank_admittances(p, steps);
+                let mut pcc_buses: Vec<usize> = std::iter::once(self.pcc)
+                    .chain(inp.pcc.iter().map(|&(b, _)| b))
+                    .collect();
+                pcc_buses.sort_unstable();
+                pcc_buses.dedup();
                 // V = V₀ − Z₀[:,E]·X at every bus.
                 phasor_currents(inp, h, theta, l, &mut inj);
                 p.z0_times(&inj, &mut v, &mut work);
@@ -89,10 +95,56 @@ impl Ctx<'_> {
                     .map(|(bank, &yb)| v_mag[bank.bus] * abs(yb))
                     .collect();
                 self.record(&mut d, o, h, &v_mag, supply, &bank_bg, &bank_i);
+                // The PCC's split and bounds from the rows of Z at the PCC's buses.
+                let Some(rows) = rows_now(p, &y, &energized, &pcc_buses) else {
+                    return Err(self.singular(s, h));
+                };
+                let row = |b: usize| pcc_buses.iter().position(|&q| q == b).unwrap_or(0);
+                load_phasors(inp, h, theta, l, &mut inj);
+                let split = pcc::split(
+                    inp,
+                    self.law,
+                    h,
+                    self.pcc,
+                    |b, c| rows[row(b)][c],
+                    &inj,
+                    None,
+                    self.pcc_units(),
+                );
+                self.record_pcc(&mut d, o, split);
             }
             self.conclude(&mut d);
             out.push(d);
         }
         Ok(out)
     }
+}
+
+/// Rows of Z (this configuration, per unit) from each bus of `buses` to every injection
+/// column: Z[q,:] = Z₀[q,:] − u·Z₀[E,:] with (D⁻¹ + Z₀[E,E])·u = Z₀[E,q] (the Woodbury
+/// identity; Z₀ and that matrix are symmetric, Y being reciprocal). `None` when singular.
+fn rows_now(
+    p: &HarmonicPoint,
+    y: &[Complex64],
+    energized: &[usize],
+    buses: &[usize],
+) -> Option<Vec<Vec<Complex64>>> {
+    let z0 = p.z0_blocks();
+    let (k, l) = (z0.k, z0.l);
+    let mut out = Vec::with_capacity(buses.len());
+    for &q in buses {
+        let mut row = Vec::new();
+        p.bus_inj_row(q, &mut row);
+        let mut u: Vec<Complex64> = energized.iter().map(|&b| z0.bus_bank[q * k + b]).collect();
+        if !woodbury_solve(z0.bank_bank, k, y, energized, &mut u, 1) {
+            return None;
+        }
+        for (&b, uj) in energized.iter().zip(&u) {
+            for (r, z) in row.iter_mut().zip(&z0.bank_inj[b * l..(b + 1) * l]) {
+                *r -= uj * z;
+            }
+        }
+        out.push(row);
+    }
+    Some(out)
 }

@@ -21,7 +21,9 @@ mod dense;
 mod direct;
 mod linear;
 mod on_demand;
-use currents::{background_currents, order_inputs, phasor_angles, phasor_currents};
+mod pcc;
+use currents::{background_currents, load_phasors, order_inputs, phasor_angles, phasor_currents};
+pub use pcc::PccBounds;
 use serde::Serialize;
 
 use super::Configuration;
@@ -58,8 +60,19 @@ pub struct Distortion {
     pub thd_percent: Vec<f64>,
     /// The worst individual harmonic at each bus against `limits`.
     pub worst: Vec<Option<Individual>>,
-    /// Harmonic current drawn from the supply at each injected order, A at the PCC's kV.
+    /// Harmonic current across the PCC (the flow from the PCC bus toward the utility side,
+    /// `network::pcc`) at each injected order, A at the PCC's kV: the plant's emission and
+    /// the background's part together.
     pub pcc_current_a: Vec<f64>,
+    /// The plant's own emission across the PCC (its loads, the background off), A per
+    /// injected order: what IEEE 519-2014's current limits and TDD judge.
+    pub pcc_plant_current_a: Vec<f64>,
+    /// The background's part across the PCC (the plant's loads off), A per injected order:
+    /// reported, not judged.
+    pub pcc_background_current_a: Vec<f64>,
+    /// Under `phasor` summation, per injected order, the PCC's worst case over blank
+    /// background angles and arithmetic bound (empty under the other laws).
+    pub pcc_bounds: Vec<PccBounds>,
     /// Harmonic voltage at each bank's bus, % of nominal, per injected order.
     pub bank_voltage_percent: Vec<Vec<f64>>,
     /// Harmonic current in each bank, A per phase, per injected order.
@@ -90,6 +103,9 @@ impl Distortion {
             thd_percent: vec![0.0; n],
             worst: vec![None; n],
             pcc_current_a: vec![0.0; no],
+            pcc_plant_current_a: vec![0.0; no],
+            pcc_background_current_a: vec![0.0; no],
+            pcc_bounds: Vec::new(),
             bank_voltage_percent: vec![vec![0.0; no]; nk],
             bank_current_a: vec![vec![0.0; no]; nk],
             bank_background_rms_a: vec![0.0; nk],
@@ -164,6 +180,8 @@ struct OrderInputs {
     /// Per background term: true where its source is a utility source at the PCC bus (its
     /// Norton current is part of the flow across the PCC).
     background_own: Vec<bool>,
+    /// Per background term: whether its angle is given (else the worst case turns it).
+    background_angle_known: Vec<bool>,
     /// The flow from the PCC bus toward the utility: I = Σ c·V over (bus, c)
     /// ([`crate::network::Network::pcc_flow`]), less the own background terms.
     pcc: Vec<(usize, Complex64)>,

@@ -299,15 +299,20 @@ impl Prepared {
             }
             // The current across the PCC, by group: into(g) = Σ c_b·Z[b, p_g] over the
             // PCC's flow functional.
-            let mut supply = 0.0;
+            // The plant's own part (load groups) and the background's, apart.
+            let (mut plant, mut background) = (0.0, 0.0);
             for (g, grp) in gr.groups.iter().enumerate() {
                 let into = inp.pcc_transfer(|b| rows[self.always_at[b].unwrap_or(0) * ng + g]);
-                supply += match grp.background {
-                    None => law.group(abs(into), grp.w1, grp.wa),
-                    Some(i) => law.term(abs(into - if grp.own { 1.0 } else { 0.0 }) * i),
-                };
+                match grp.background {
+                    None => plant += law.group(abs(into), grp.w1, grp.wa),
+                    Some(i) => {
+                        background += law.term(abs(into - if grp.own { 1.0 } else { 0.0 }) * i)
+                    }
+                }
             }
-            d.pcc_current_a[o] = law.finish(supply) * pcc_amps;
+            d.pcc_current_a[o] = law.finish(plant + background) * pcc_amps;
+            d.pcc_plant_current_a[o] = law.finish(plant) * pcc_amps;
+            d.pcc_background_current_a[o] = law.finish(background) * pcc_amps;
             for (b, bank) in net.banks.iter().enumerate() {
                 let y_bank = abs(y[b]);
                 let qi = self.always_at[bank.bus].unwrap_or(0);
