@@ -6,6 +6,7 @@ pub mod charts;
 pub mod check;
 pub mod damping;
 pub mod design;
+mod duty;
 pub mod exports;
 pub mod notes;
 pub mod remedies;

@@ -161,6 +161,8 @@ pub struct CheckResults {
     pub limit_rows: Vec<LimitRow>,
     /// Capacitor duty of every energized bank in every scenario × configuration.
     pub duty: Vec<DutyRow>,
+    /// The duty envelope's high-voltage case as studied (`None` when it could not be built).
+    pub duty_envelope: Option<crate::study::duty::DutyEnvelope>,
     /// Resonance bands across capacitance tolerance and scenarios.
     pub tolerance: Vec<ToleranceBand>,
     /// Energizing every step of every bank, per scenario: simulated, with the formulas

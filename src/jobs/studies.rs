@@ -10,7 +10,6 @@ use crate::network::Network;
 use crate::solve::Engine;
 use crate::study::background::background_shares;
 use crate::study::config::configuration_count;
-use crate::study::duty::{DutyRow, duty_rows};
 use crate::study::limits::{LimitContext, LimitRow, estimated_demand_a, limit_row};
 use crate::study::operating::{OperatingSolver, OperatingStudy};
 use crate::study::penetration::{Injections, Penetration, SequenceEngines, bank_amplification};
@@ -293,40 +292,6 @@ fn modes(
         });
 }
 
-/// Capacitor duty of every energized bank in every scenario × configuration, at the bank
-/// buses' solved voltages.
-fn duty(
-    ctx: &Context<'_>,
-    scan: &Scan,
-    operating: &OperatingStudy,
-    penetration: &Penetration,
-) -> Vec<DutyRow> {
-    let (plant, network) = (ctx.plant, &ctx.network);
-    let nc = scan.configurations.len();
-    let orders = &penetration.injections.orders;
-    penetration
-        .results
-        .iter()
-        .flat_map(|d| {
-            let cfg = &scan.configurations[d.configuration];
-            let bank_v = operating
-                .point_at(d.scenario, d.configuration, nc)
-                .map_or(&[][..], |p| &p.bank_bus_v_pu[..]);
-            duty_rows(
-                d,
-                &plant.banks,
-                &cfg.steps,
-                bank_v,
-                network,
-                orders,
-                plant.study.limits,
-                &network.scenarios[d.scenario].name,
-                &cfg.label(&plant.banks),
-            )
-        })
-        .collect()
-}
-
 /// The notes of the penetration, limits and load-flow studies, in report order.
 fn study_notes(
     ctx: &Context<'_>,
@@ -534,10 +499,10 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     } else {
         limit_rows(&ctx, &scan, &penetration, &limits)
     };
-    let duty = if options.scan_only {
-        Vec::new()
+    let (duty, duty_envelope) = if options.scan_only {
+        (Vec::new(), None)
     } else {
-        duty(&ctx, &scan, &operating, &penetration)
+        super::duty::duty(&ctx, &scan, &operating, &penetration)
     };
     let tolerance = tolerance(&ctx, &resonance);
     let switching = if options.scan_only || !options.switching {
@@ -566,6 +531,7 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
         limits,
         limit_rows,
         duty,
+        duty_envelope,
         tolerance,
         switching,
         background,

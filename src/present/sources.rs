@@ -44,7 +44,7 @@ pub const SOURCES: &[(&str, &str, &str)] = &[
     ),
     (
         "Capacitor switching overvoltage allowance: 2 × rated peak",
-        "IEC 60831-1, switching overvoltages",
+        "IEEE 18-2012 transient overvoltage capability (IEEE limit set); IEC 60831-1 / 60871-1 switching overvoltages (IEC sets)",
         "from memory",
     ),
     (

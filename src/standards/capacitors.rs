@@ -43,3 +43,26 @@ pub const IEC_60871_1: DutyLimits = DutyLimits {
     kvar: None,
     source: "IEC 60871-1 (from memory)",
 };
+
+/// A capacitor's transient (switching) overvoltage capability: the peak it withstands as a
+/// multiple of its rated peak phase voltage √2·U_r, and the clause it comes from.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct TransientCapability {
+    pub peak_multiple: f64,
+    pub source: &'static str,
+}
+
+/// IEEE Std 18-2012, transient overvoltage capability of shunt capacitors: 2.0 × rated peak
+/// for switching transients of infrequent occurrence (from memory; the standard ties the
+/// multiple to the number of events per year; confirm against the capacitor's data).
+pub const IEEE_18_TRANSIENT: TransientCapability = TransientCapability {
+    peak_multiple: 2.0,
+    source: "IEEE 18-2012, transient overvoltage capability (from memory)",
+};
+
+/// IEC 60831-1 (and IEC 60871-1 above 1 kV), switching overvoltages: 2·√2·U_N peak
+/// (from memory).
+pub const IEC_TRANSIENT: TransientCapability = TransientCapability {
+    peak_multiple: 2.0,
+    source: "IEC 60831-1 / IEC 60871-1, switching overvoltages (from memory)",
+};

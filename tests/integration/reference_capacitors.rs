@@ -61,6 +61,11 @@ fn duty_of_a_plain_bank_by_hand() {
     // A 7 % detuned step sees U/(1 − p) at its terminals (tests/references.md).
     let d = duty_ratios(&b, 1, 0.07, 0.48, &[], &[]);
     assert_close(d.rms_voltage, 1.0 / 0.93, 1e-12);
+    // At +10 % capacitance the detuning factor is 1.1·p (p = X_L/X_C, X_C/1.1), so the
+    // terminal voltage is U/(1 − 0.077) and the current 1.1/(1 − 0.077) of nominal (by hand).
+    let k = overtone::study::duty::duty_ratios_at(&b, 1, 0.07, 0.48, 1.1, &[], &[]);
+    assert_close(k.rms_voltage, 1.0 / 0.923, 1e-12);
+    assert_close(k.rms_current, 1.1 / 0.923, 1e-12);
 }
 
 #[test]
@@ -541,4 +546,43 @@ fn remedy_outcomes_agree_with_a_check_of_the_plant_with_the_remedy_in_place() {
             }
         }
     }
+}
+
+#[test]
+fn duty_at_upper_capacitance_and_high_voltage_by_hand() {
+    // One 480 V bus: a 20 MVA X/R 8 source at 1.00 pu, a 200 kW linear load (pf 0.8) and a
+    // plain 3 × 50 kvar bank rated 480 V, no harmonic source. The envelope's high-voltage
+    // case: light load (every load factor halved, the default levels), the EMF raised to
+    // the top of the voltage range (1.05 pu), the capacitance at +10 % (IEEE 18-2012: 0/+10 %,
+    // from memory). By hand at that case, with V the bus voltage (pu) of the one-bus load
+    // flow V = (E·y_s − conj(S/V)) / (y_s + 1.1·j·B) iterated to rounding: the capacitor sees
+    // V (plain bank), its current is 1.1·V of nominal and its kvar 1.1·V² of rated.
+    let mut p = textbook_plant(60.0);
+    p.buses = vec![bus("B", 0.48)];
+    p.sources = vec![source("U", "B", 20.0, 8.0)];
+    p.loads = vec![load("L", "B", LoadType::Linear, 200.0, 0.8)];
+    p.banks = vec![bank("C", "B", 0.48, 50.0, 3, Reactor::None)];
+    let res = run_check(&p, &Default::default()).unwrap();
+    let z = 100.0 / 20.0;
+    let r = z / 65f64.sqrt();
+    let y_s = num_complex::Complex64::new(r, 8.0 * r).inv();
+    let row = res.duty.iter().find(|d| d.steps == 3).expect("3 steps");
+    let solve = |e: f64, c: f64, load: f64| {
+        let s = num_complex::Complex64::new(0.2 * load, 0.2 * load * 0.75) / 100.0;
+        let y = y_s + num_complex::Complex64::new(0.0, c * 3.0 * 0.05 / 100.0);
+        let mut v = num_complex::Complex64::new(1.0, 0.0);
+        for _ in 0..200 {
+            v = (e * y_s - (s / v).conj()) / y;
+        }
+        v.norm()
+    };
+    let v_high = solve(1.05, 1.1, 0.5);
+    assert_eq!(row.case, overtone::study::duty::DutyCase::HighVoltageUpperC);
+    assert_close(row.bus_v_pu, v_high, 1e-9);
+    assert_close(row.ratios.rms_voltage, v_high, 1e-9);
+    assert_close(row.ratios.rms_current, 1.1 * v_high, 1e-9);
+    assert_close(row.ratios.kvar, 1.1 * v_high * v_high, 1e-9);
+    // The study point (full load, 1.00 pu, nominal C) stays beside it.
+    let v0 = solve(1.0, 1.0, 1.0);
+    assert_close(row.study_point.rms_current, v0, 1e-9);
 }

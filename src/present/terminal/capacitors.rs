@@ -29,6 +29,18 @@ pub fn write_duty(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
         ),
         100,
     )?;
+    if let Some(e) = &res.duty_envelope {
+        super::table::write_hanging(
+            out,
+            "  ",
+            "  ",
+            &format!(
+                "each row at its governing case: the study point (study); light load (level {}) with every source EMF at least {:.3} pu (light/Vmax); the same with the capacitance at +{:.0} % (light/Vmax/C+; IEEE 18-2012 allows 0/+10 %). Harmonic currents are the study point's.",
+                e.level, e.source_voltage_floor_pu, e.capacitance_plus_percent
+            ),
+            100,
+        )?;
+    }
     let shown: Vec<&DutyRow> = if res.duty.len() <= MAX_ROWS_PER_SCENARIO {
         res.duty.iter().collect()
     } else {
@@ -56,6 +68,7 @@ pub fn write_duty(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
                 ratio(r.ratios.peak_voltage, r.limits.peak_voltage),
                 ratio(r.ratios.rms_current, Some(r.limits.rms_current)),
                 ratio(r.ratios.kvar, r.limits.kvar),
+                r.case.short().to_string(),
                 if r.exceeds { "EXCEEDS" } else { "meets" }.to_string(),
             ]
         })
@@ -72,9 +85,10 @@ pub fn write_duty(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
                 "Vpeak %",
                 "Irms %",
                 "kvar %",
+                "case",
                 "verdict",
             ],
-            &[0, 1, 2, 8],
+            &[0, 1, 2, 8, 9],
             &rows,
         )?;
     }

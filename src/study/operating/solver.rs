@@ -147,6 +147,47 @@ impl OperatingSolver {
         Ok(v)
     }
 
+    /// |V| (pu) at each bank's bus of `net` in scenario `s` for each step vector of `list`
+    /// (possibly fractional), solved in turn, each from the solution before it (from the
+    /// start again after a failure); `None` where the load flow has no solution.
+    pub fn bank_bus_voltages(
+        &self,
+        net: &Network,
+        s: usize,
+        list: &[Vec<f64>],
+    ) -> Vec<Option<Vec<f64>>> {
+        let Some(start) = self.base.get(s) else {
+            return vec![None; list.len()];
+        };
+        let mut v = start.clone();
+        let mut w = LoadFlowScratch::default();
+        list.iter()
+            .map(|steps| match self.solve_into(s, steps, &mut v, &mut w) {
+                Ok(_) => Some(net.banks.iter().map(|b| v[b.bus].norm()).collect()),
+                Err(_) => {
+                    v.copy_from_slice(start);
+                    None
+                }
+            })
+            .collect()
+    }
+
+    /// Every bus voltage of scenario `s` with `steps` (possibly fractional: a capacitance
+    /// above rated) in the shift-free network, per unit, by bus, solved from the solution
+    /// without banks.
+    pub fn shift_free_voltages_at(
+        &self,
+        s: usize,
+        steps: &[f64],
+    ) -> Result<Vec<Complex64>, LoadFlowFailure> {
+        if self.base.get(s).is_none() {
+            return Err(LoadFlowFailure::NoConvergence);
+        }
+        let mut v = self.base[s].clone();
+        self.solve_into(s, steps, &mut v, &mut LoadFlowScratch::default())?;
+        Ok(v)
+    }
+
     /// Every bus voltage of scenario `s` with `steps` in the shift-free network (each
     /// zone's phase shift left out, every source EMF at angle 0), per unit, by bus.
     pub fn shift_free_voltages(

@@ -54,11 +54,6 @@ pub const MAX_STEPS: usize = 100_000;
 pub const MAX_STEPS: usize = 1_000;
 /// The ring-down ends when the transient stays below this fraction of its peak.
 pub const RING_DOWN_FRACTION: f64 = 0.05;
-/// Transient overvoltage a capacitor withstands, peak, per unit of its rated peak phase
-/// voltage: 2·√2·U_N for switching transients (IEC 60831-1, switching overvoltages; from
-/// memory). IEEE Std 18 allows comparable multiples for a limited number of events per
-/// year (from memory). Confirm against the capacitor's data sheet.
-pub const CAPACITOR_TRANSIENT_PU: f64 = 2.0;
 
 /// How the step closes.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -134,7 +129,8 @@ pub struct SwitchingEvent {
     /// Inrush inductance per step (µH) that brings the peak under the limit, when
     /// exceeded (`None` when none up to 10 mH does).
     pub needed_inrush_uh: Option<f64>,
-    /// The capacitor's peak exceeds [`CAPACITOR_TRANSIENT_PU`] of its rated peak.
+    /// The capacitor's peak exceeds the limit set's transient capability
+    /// ([`crate::study::duty::transient_capability`]) of its rated peak.
     pub overvoltage_exceeds: bool,
 }
 

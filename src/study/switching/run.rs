@@ -4,8 +4,8 @@
 use rayon::prelude::*;
 
 use super::{
-    CAPACITOR_TRANSIENT_PU, Case, EventSpec, RemotePeak, Sim, SwitchingEvent, SwitchingStudy,
-    Waveform, events, measure, setup, simulate,
+    Case, EventSpec, RemotePeak, Sim, SwitchingEvent, SwitchingStudy, Waveform, events, measure,
+    setup, simulate,
 };
 use crate::model::Plant;
 use crate::network::Network;
@@ -221,7 +221,8 @@ fn one(inp: &Inputs<'_>, ev: &EventSpec) -> Result<SwitchingEvent, String> {
         inrush_limit_a,
         inrush_exceeds,
         needed_inrush_uh,
-        overvoltage_exceeds: capacitor_peak_rated > CAPACITOR_TRANSIENT_PU,
+        overvoltage_exceeds: capacitor_peak_rated
+            > crate::study::duty::transient_capability(plant.study.limits).peak_multiple,
     })
 }
 

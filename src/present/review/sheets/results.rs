@@ -348,6 +348,8 @@ const DUTY_HEADS: &[(&str, f64)] = &[
     ("limit", 7.0),
     ("Standard", 24.0),
     ("Verdict", 10.0),
+    ("Governing case", 22.0),
+    ("Bus V (pu)", 8.0),
 ];
 
 // Long: the Duty sheet's table and the background table below it, on one row counter.
@@ -374,6 +376,8 @@ pub(super) fn duty(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxErr
                 opct(r.limits.kvar),
                 t(r.limits.source),
                 t(if r.exceeds { "EXCEEDS" } else { "meets" }),
+                t(r.case.label()),
+                n(r.bus_v_pu, "0.000"),
             ],
         )?;
     }

@@ -9,7 +9,6 @@ use rust_xlsxwriter::{
 use super::super::writer::{Cell, header, n, on, row, t};
 use super::verdict_colours;
 use crate::jobs::check::CheckResults;
-use crate::study::switching::CAPACITOR_TRANSIENT_PU;
 
 /// Columns and widths of a table of `switching`.
 const SWITCHING_HEADS: &[(&str, f64)] = &[
@@ -85,9 +84,11 @@ pub(super) fn switching(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
     }
     let last = events.len() as u32;
     let note = last + 2;
+    let cap = crate::study::duty::transient_capability(res.plant.study.limits);
     for (k, line) in [
         format!(
-            "Time-domain simulation (trapezoidal rule) of each step closing, the three poles at once, at the worst instant over a cycle for each figure; capacitor transient allowance {CAPACITOR_TRANSIENT_PU} x rated peak (IEC 60831-1, from memory)."
+            "Time-domain simulation (trapezoidal rule) of each step closing, the three poles at once, at the worst instant over a cycle for each figure; capacitor transient allowance {} x rated peak ({}).",
+            cap.peak_multiple, cap.source
         ),
         "Formula columns: IEEE C37.012 closed formulas (from memory), undamped, closing at the voltage peak, scaled by 1 + |trapped charge|: the hand check.".to_string(),
     ]
