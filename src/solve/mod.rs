@@ -11,6 +11,7 @@
 
 mod engine;
 mod load_flow;
+mod pencil;
 mod roots;
 mod sparse;
 mod transfer;
@@ -19,6 +20,7 @@ pub use engine::{ComboPlan, Engine, PointSolution, Scratch, SolveError};
 pub use load_flow::{
     LoadFlowFailure, LoadFlowScratch, LoadFlowSystem, MAX_ITERATIONS, MISMATCH_PU,
 };
+pub use pencil::{Pole, matrix_pencil};
 pub use roots::decreasing_root;
 pub use sparse::{Factor, SingularPivot, Symbolic};
 pub use transfer::{HarmonicPoint, TransferScratch, Z0Blocks};

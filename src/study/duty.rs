@@ -98,8 +98,8 @@ impl DutyCase {
     pub fn short(self) -> &'static str {
         match self {
             DutyCase::StudyPoint => "study",
-            DutyCase::HighVoltage => "light/Vmax",
-            DutyCase::HighVoltageUpperC => "light/Vmax/C+",
+            DutyCase::HighVoltage => "Vmax",
+            DutyCase::HighVoltageUpperC => "Vmax+C",
         }
     }
 }

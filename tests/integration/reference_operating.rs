@@ -182,8 +182,10 @@ fn duty_uses_the_solved_voltage() {
     let row = res.duty.iter().find(|r| r.steps == 1).expect("duty row");
     let v = res.operating.points[1].bank_bus_v_pu[0];
     assert!(v > 1.04, "the source at 1.05 pu lifts the bus: {v}");
-    assert_close(row.bus_v_pu, v, 1e-12);
-    assert_close(row.ratios.rms_voltage, v * 13.8 / (0.93 * 14.4), 1e-9);
+    // The study point's figures (the envelope's cases govern the row; see
+    // reference_capacitors.rs).
+    assert_close(row.study_point.rms_voltage, v * 13.8 / (0.93 * 14.4), 1e-9);
+    assert!(row.bus_v_pu >= v);
 }
 
 #[test]

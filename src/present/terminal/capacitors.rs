@@ -35,7 +35,7 @@ pub fn write_duty(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
             "  ",
             "  ",
             &format!(
-                "each row at its governing case: the study point (study); light load (level {}) with every source EMF at least {:.3} pu (light/Vmax); the same with the capacitance at +{:.0} % (light/Vmax/C+; IEEE 18-2012 allows 0/+10 %). Harmonic currents are the study point's.",
+                "each row at its governing case: the study point (study); light load (level {}) with every source EMF at least {:.3} pu (Vmax); the same with the capacitance at +{:.0} % (Vmax+C; IEEE 18-2012 allows 0/+10 %). Harmonic currents are the study point's.",
                 e.level, e.source_voltage_floor_pu, e.capacitance_plus_percent
             ),
             100,
@@ -175,7 +175,9 @@ pub fn write_transients(out: &mut dyn Write, res: &CheckResults) -> io::Result<(
                     "b2b".to_string()
                 },
                 format!("{:.0}", e.peak_a),
-                format!("{:.0}", e.formula.peak_a),
+                e.formula
+                    .as_ref()
+                    .map_or_else(|| "n/a".to_string(), |f| format!("{:.0}", f.peak_a)),
                 e.frequency_hz
                     .map_or_else(|| "-".to_string(), |f| format!("{f:.0}")),
                 format!("{:.2}", e.bus_peak_pu),

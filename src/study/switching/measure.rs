@@ -1,6 +1,7 @@
 //! What is read off a simulated waveform: the peak (refined between samples), the ringing
-//! frequency from zero crossings, the damping ratio from the logarithmic decrement, and a
-//! thinned copy for a chart.
+//! modes (frequency and damping) from a matrix-pencil fit, and a thinned copy for a chart.
+
+use serde::Serialize;
 
 /// The largest of `env` refined by the parabola through the largest sample and its two
 /// neighbours (vertex e_n − (e_{n+1} − e_{n−1})² / (8·(e_{n+1} − 2e_n + e_{n−1}))), with
@@ -22,70 +23,76 @@ pub fn refined_peak(env: &[f64]) -> (f64, usize) {
     }
 }
 
-/// Times (s) at which `x` (sampled every `dt` from τ = dt) swings through zero from one
-/// side to the other, a swing counting only once it reaches `band` on the far side (a
-/// Schmitt trigger: ripple of a faster, smaller mode riding on the dominant one does not
-/// count); linearly interpolated at the last zero before the band; at most `most`.
-fn zero_crossings(x: &[f64], dt: f64, band: f64, most: usize) -> Vec<f64> {
-    let mut out = Vec::new();
-    let mut side = 0.0f64;
-    let mut zero_at = 0.0;
-    for n in 0..x.len() {
-        if n > 0 && (x[n - 1] < 0.0) != (x[n] < 0.0) {
-            let (a, b) = (x[n - 1], x[n]);
-            zero_at = (n as f64 + a / (a - b)) * dt;
-        }
-        let now = if x[n] >= band {
-            1.0
-        } else if x[n] <= -band {
-            -1.0
-        } else {
-            continue;
-        };
-        if side != 0.0 && now != side {
-            out.push(zero_at);
-            if out.len() >= most {
-                break;
-            }
-        }
-        side = now;
-    }
-    out
+/// One mode of a ringing transient: its frequency (Hz), damping ratio ζ = −Re(s)/|s| and
+/// amplitude as a share of the largest mode's.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct RingingMode {
+    pub frequency_hz: f64,
+    pub zeta: f64,
+    pub share: f64,
 }
 
-/// How the transient component rings: the dominant frequency (Hz) from the mean spacing
-/// of its first zero crossings (half periods; swings under a fifth of its largest value
-/// ignored), and the damping ratio ζ = δ/√(4π² + δ²) from the logarithmic decrement
-/// δ = ln(A₁/A₃) of the extremes of the first and the third half-cycle (one period apart;
-/// textbook). `None` when it swings through zero fewer than four times (over-damped or
-/// too slow for the window).
-pub fn ringing(transient: &[f64], dt: f64) -> Option<(f64, f64)> {
-    let top = transient.iter().fold(0.0f64, |m, v| m.max(v.abs()));
-    let z = zero_crossings(transient, dt, 0.2 * top, 9);
-    if z.len() < 4 {
-        return None;
+/// Samples the fit works on: the transient thinned to about this many.
+const FIT_SAMPLES: usize = 300;
+
+/// Modes below this share of the largest are not listed.
+const MODE_SHARE: f64 = 0.05;
+
+/// How the transient component rings, from a matrix-pencil fit of the waveform
+/// ([`crate::solve::matrix_pencil`]) on the first stage thinned to about 300 samples: every
+/// oscillating mode with at least 5 % of the largest mode's amplitude (a conjugate pair's
+/// amplitude 2|a|, a real pole's |a|), largest first, and whether the largest is an
+/// oscillation (under-damped) or a real pole (over-damped). Empty when nothing was fitted.
+pub fn ringing(transient: &[f64], dt: f64) -> (Vec<RingingMode>, bool) {
+    let stride = (transient.len() / FIT_SAMPLES).max(1);
+    let y: Vec<f64> = transient.iter().step_by(stride).copied().collect();
+    let poles = crate::solve::matrix_pencil(&y, dt * stride as f64);
+    // (frequency, ζ, amplitude, oscillating): pairs once (Im s > 0), real poles alone.
+    let comps: Vec<(f64, f64, f64, bool)> = poles
+        .iter()
+        .filter(|p| p.s.re.is_finite() && p.s.im.is_finite())
+        .filter_map(|p| {
+            let w = p.s.im.abs();
+            let nyquist = std::f64::consts::PI / (dt * stride as f64);
+            // Poles near the sampling's Nyquist frequency are the integration's own
+            // (the trapezoidal rule's alternating mode), not the circuit's.
+            if w > 0.8 * nyquist {
+                None
+            } else if w < 1e-6 * nyquist {
+                Some((0.0, 1.0, p.amplitude.norm(), false))
+            } else if p.s.im > 0.0 {
+                // A lossless mode fits with ζ of rounding size either side of 0.
+                let zeta = (-p.s.re / p.s.norm()).max(0.0);
+                Some((
+                    w / (2.0 * std::f64::consts::PI),
+                    zeta,
+                    2.0 * p.amplitude.norm(),
+                    true,
+                ))
+            } else {
+                None
+            }
+        })
+        .collect();
+    let top = comps.iter().map(|c| c.2).fold(0.0, f64::max);
+    if top.is_nan() || top <= 0.0 {
+        return (Vec::new(), false);
     }
-    let half = (z[z.len() - 1] - z[0]) / (z.len() - 1) as f64;
-    let f = 1.0 / (2.0 * half);
-    // Extremes of |x| between the first crossings: half-cycles 1 and 3.
-    let extreme = |from: f64, to: f64| {
-        let (s, e) = (
-            (from / dt) as usize,
-            ((to / dt) as usize + 1).min(transient.len()),
-        );
-        transient[s.min(e)..e]
-            .iter()
-            .fold(0.0f64, |m, v| m.max(v.abs()))
-    };
-    let a1 = extreme(z[0], z[1]);
-    let a3 = extreme(z[2], z[3]);
-    let zeta = if a1 > 0.0 && a3 > 0.0 && a3 < a1 {
-        let d = (a1 / a3).ln();
-        d / (4.0 * std::f64::consts::PI * std::f64::consts::PI + d * d).sqrt()
-    } else {
-        0.0
-    };
-    Some((f, zeta))
+    let under = comps
+        .iter()
+        .max_by(|a, b| a.2.total_cmp(&b.2))
+        .is_some_and(|c| c.3 && c.1 < 1.0);
+    let mut modes: Vec<RingingMode> = comps
+        .iter()
+        .filter(|c| c.3 && c.2 >= MODE_SHARE * top)
+        .map(|c| RingingMode {
+            frequency_hz: c.0,
+            zeta: c.1,
+            share: c.2 / top,
+        })
+        .collect();
+    modes.sort_by(|a, b| b.share.total_cmp(&a.share));
+    (modes, under)
 }
 
 /// Sample indices for a chart of at most about `points` points over the first `len`

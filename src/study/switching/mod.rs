@@ -99,10 +99,16 @@ pub struct SwitchingEvent {
     pub trapped_charge_pu: f64,
     /// Peak inrush current through the closing step, A.
     pub peak_a: f64,
-    /// Dominant ringing frequency of the inrush, Hz (`None`: no oscillation seen).
+    /// Dominant ringing frequency of the inrush, Hz: the largest oscillating mode of the
+    /// matrix-pencil fit of its transient (`None`: no oscillation fitted).
     pub frequency_hz: Option<f64>,
-    /// Damping ratio from the logarithmic decrement of the inrush.
+    /// That mode's damping ratio ζ = −Re(s)/|s|.
     pub zeta: Option<f64>,
+    /// Every oscillating mode with at least 5 % of the largest one's amplitude, largest
+    /// first (a multi-mode event lists several).
+    pub modes: Vec<measure::RingingMode>,
+    /// Under-damped when the largest component of the fit oscillates, over-damped when it
+    /// is a real pole.
     pub regime: Regime,
     /// Peak phase voltage at the bank's bus, per unit of nominal peak.
     pub bus_peak_pu: f64,
@@ -121,8 +127,9 @@ pub struct SwitchingEvent {
     /// Closing instant of the largest inrush: degrees of the bus's phase voltage
     /// v = V̂·sin θ (90° = closing at its positive peak).
     pub closing_deg: f64,
-    /// The closed formulas (hand check).
-    pub formula: Inrush,
+    /// The closed formulas (hand check); `None` where they do not apply
+    /// ([`run::formula_applies`]): said "not applicable".
+    pub formula: Option<Inrush>,
     /// The switching device's inrush limit, A peak, when given.
     pub inrush_limit_a: Option<f64>,
     pub inrush_exceeds: bool,
@@ -156,7 +163,7 @@ pub struct Waveform {
     /// Capacitor voltage of the closing step, per unit of the bus's nominal peak.
     pub capacitor_pu: Vec<f64>,
     /// The formula's peak inrush, A.
-    pub formula_peak_a: f64,
+    pub formula_peak_a: Option<f64>,
 }
 
 /// Every event of the plant.

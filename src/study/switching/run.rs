@@ -84,19 +84,45 @@ fn waveform(sim: &Sim, i_base_a: f64, hz: f64, e: &SwitchingEvent) -> Option<Wav
         current_a: idx.iter().map(|&n| i[n] * amp).collect(),
         bus_pu: idx.iter().map(|&n| v[n]).collect(),
         capacitor_pu: idx.iter().map(|&n| c[n]).collect(),
-        formula_peak_a: e.formula.peak_a,
+        formula_peak_a: e.formula.as_ref().map(|f| f.peak_a),
     })
 }
 
 /// The closed formulas for `ev` (hand check). A trapped charge q raises the voltage across
 /// the switch at a peak closing to (1 + |q|)·V̂, and the formulas scale with it: the peak
 /// inrush by (1 + |q|), the overshoot above 1 pu likewise (common practice).
-pub fn formula(plant: &Plant, net: &Network, ev: &EventSpec, z_th_ohm: (f64, f64)) -> Inrush {
+pub fn formula(
+    plant: &Plant,
+    net: &Network,
+    ev: &EventSpec,
+    z_th_ohm: (f64, f64),
+) -> Option<Inrush> {
+    if !formula_applies(net, ev) {
+        return None;
+    }
     let mut f = formula_discharged(plant, net, ev, z_th_ohm);
     let k = 1.0 + plant.banks[ev.bank].trapped_charge_pu.abs();
     f.peak_a *= k;
     f.overvoltage_pu = f.overvoltage_pu.map(|v| 1.0 + (v - 1.0) * k);
-    f
+    Some(f)
+}
+
+/// Whether the IEEE C37.012 closed formulas describe `ev`: a step energized alone against
+/// the supply (isolated), or back-to-back where the closing step and every energized step
+/// on its bus are plain capacitors (the formulas' circuit: capacitors discharging into each
+/// other through their inrush inductance). A detuned neighbour rings through its reactor
+/// at other frequencies; there the simulation alone answers.
+pub fn formula_applies(net: &Network, ev: &EventSpec) -> bool {
+    let bus = net.banks[ev.bank].bus;
+    match ev.case {
+        Case::Isolated => true,
+        Case::BackToBack => {
+            net.banks[ev.bank].p == 0.0
+                && (ev.before.iter().enumerate())
+                    .filter(|(o, n)| **n > 0 && net.banks[*o].bus == bus)
+                    .all(|(o, _)| net.banks[o].p == 0.0)
+        }
+    }
 }
 
 fn formula_discharged(
@@ -169,11 +195,13 @@ fn one(inp: &Inputs<'_>, ev: &EventSpec) -> Result<SwitchingEvent, String> {
             bank.id, ev.step
         ));
     }
-    let ringing = measure::ringing(&sim.transient, sim.dt);
-    let regime = match ringing {
-        Some((_, z)) if z < 1.0 => Regime::UnderDamped,
-        _ => Regime::OverDamped,
+    let (modes, under) = measure::ringing(&sim.transient, sim.dt);
+    let regime = if under {
+        Regime::UnderDamped
+    } else {
+        Regime::OverDamped
     };
+    let dominant = modes.first().copied();
     let z_th = inp
         .z_th_ohm
         .get(ev.scenario)
@@ -197,8 +225,9 @@ fn one(inp: &Inputs<'_>, ev: &EventSpec) -> Result<SwitchingEvent, String> {
         before: label,
         trapped_charge_pu: q.abs(),
         peak_a,
-        frequency_hz: ringing.map(|r| r.0),
-        zeta: ringing.map(|r| r.1),
+        frequency_hz: dominant.map(|m| m.frequency_hz),
+        zeta: dominant.map(|m| m.zeta),
+        modes,
         regime,
         bus_peak_pu: sim.bus_peak_pu,
         capacitor_peak_pu: sim.cap_peak_pu,

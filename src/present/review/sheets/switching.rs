@@ -56,9 +56,13 @@ pub(super) fn switching(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
                 t(&e.before),
                 n(e.trapped_charge_pu, "0.00"),
                 n(e.peak_a, "0"),
-                n(e.formula.peak_a, "0"),
+                e.formula
+                    .as_ref()
+                    .map_or(t("not applicable"), |f| n(f.peak_a, "0")),
                 on(e.frequency_hz, "0"),
-                n(e.formula.frequency_hz, "0"),
+                e.formula
+                    .as_ref()
+                    .map_or(t("not applicable"), |f| n(f.frequency_hz, "0")),
                 on(e.zeta, "0.000"),
                 n(e.bus_peak_pu, "0.00"),
                 n(e.capacitor_peak_pu, "0.00"),
@@ -90,7 +94,7 @@ pub(super) fn switching(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xl
             "Time-domain simulation (trapezoidal rule) of each step closing, the three poles at once, at the worst instant over a cycle for each figure; capacitor transient allowance {} x rated peak ({}).",
             cap.peak_multiple, cap.source
         ),
-        "Formula columns: IEEE C37.012 closed formulas (from memory), undamped, closing at the voltage peak, scaled by 1 + |trapped charge|: the hand check.".to_string(),
+        "Formula columns: IEEE C37.012 closed formulas (from memory), undamped, closing at the voltage peak, scaled by 1 + |trapped charge|: the hand check, where they apply (a step energized alone; back-to-back between plain capacitors); \"not applicable\" where a detuned step takes part. Ringing frequency and damping: the largest mode of a matrix-pencil fit of the simulated inrush (every mode in the JSON).".to_string(),
     ]
     .iter()
     .enumerate()
@@ -147,19 +151,15 @@ pub(super) fn waveforms(
             ws.write_number(r, col + 3, *c)?;
         }
         let end = w.time_ms.last().copied().unwrap_or(0.0);
-        for (k, (tm, a)) in [
-            (0.0, w.formula_peak_a),
-            (end, w.formula_peak_a),
-            (0.0, -w.formula_peak_a),
-            (end, -w.formula_peak_a),
-        ]
-        .iter()
-        .enumerate()
+        let formula = w.formula_peak_a.filter(|a| a.is_finite());
+        for (k, (tm, a)) in formula
+            .map(|a| [(0.0, a), (end, a), (0.0, -a), (end, -a)])
+            .iter()
+            .flatten()
+            .enumerate()
         {
-            if a.is_finite() {
-                ws.write_number(3 + k as u32, col + 4, *tm)?;
-                ws.write_number(3 + k as u32, col + 5, *a)?;
-            }
+            ws.write_number(3 + k as u32, col + 4, *tm)?;
+            ws.write_number(3 + k as u32, col + 5, *a)?;
         }
         let last = 2 + w.time_ms.len() as u32;
         let title = format!(
@@ -179,7 +179,7 @@ pub(super) fn waveforms(
             .set_name("simulated")
             .set_categories((name, 3, col, last, col))
             .set_values((name, 3, col + 1, last, col + 1));
-        for pair in [3u32, 5] {
+        for pair in [3u32, 5].into_iter().filter(|_| formula.is_some()) {
             ic.add_series()
                 .set_name(if pair == 3 {
                     "formula peak"
