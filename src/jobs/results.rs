@@ -163,6 +163,8 @@ pub struct CheckResults {
     pub duty: Vec<DutyRow>,
     /// The duty envelope's high-voltage case as studied (`None` when it could not be built).
     pub duty_envelope: Option<crate::study::duty::DutyEnvelope>,
+    /// Neutral current of the 4-wire loads, per bus with zero-sequence injection.
+    pub neutral: Vec<crate::study::neutral::NeutralRow>,
     /// Resonance bands across capacitance tolerance and scenarios.
     pub tolerance: Vec<ToleranceBand>,
     /// Energizing every step of every bank, per scenario: simulated, with the formulas

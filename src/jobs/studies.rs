@@ -499,6 +499,11 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     } else {
         limit_rows(&ctx, &scan, &penetration, &limits)
     };
+    let neutral = if options.scan_only {
+        Vec::new()
+    } else {
+        crate::study::neutral::neutral_rows(plant, network, &penetration.injections)
+    };
     let (duty, duty_envelope) = if options.scan_only {
         (Vec::new(), None)
     } else {
@@ -532,6 +537,7 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
         limit_rows,
         duty,
         duty_envelope,
+        neutral,
         tolerance,
         switching,
         background,

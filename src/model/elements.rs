@@ -179,6 +179,9 @@ pub struct Bus {
     /// Nominal line-to-line voltage, kV.
     pub nominal_kv: f64,
     pub description: String,
+    /// The neutral conductor's rating, A rms (sheet `Buses`, `Neutral rating (A)`), for
+    /// the neutral-current check of 4-wire loads; `None` = not checked.
+    pub neutral_rating_a: Option<f64>,
 }
 
 /// Fault level of a source: exactly one of the two forms.
@@ -290,6 +293,27 @@ pub struct Cable {
     pub c_uf_per_km: f64,
     /// Parallel runs, ≥ 1.
     pub runs: u32,
+    /// Zero-sequence series resistance and reactance per phase, ohm/km (sheet `Cables`,
+    /// `R0 (ohm/km)`, `X0 (ohm/km)`); `None` = [`CABLE_ZERO_MULTIPLE`] × the positive
+    /// sequence's.
+    pub r0_ohm_per_km: Option<f64>,
+    pub x0_ohm_per_km: Option<f64>,
+}
+
+/// Z₀/Z₁ of a cable without zero-sequence data: 3 (common practice for a cable returning
+/// through its own neutral or sheath; the cable's data sheet gives R0 and X0).
+pub const CABLE_ZERO_MULTIPLE: f64 = 3.0;
+
+impl Cable {
+    /// The zero-sequence R and X per phase, ohm/km: as given, else the multiple.
+    pub fn zero_ohm_per_km(&self) -> (f64, f64) {
+        (
+            self.r0_ohm_per_km
+                .unwrap_or(CABLE_ZERO_MULTIPLE * self.r_ohm_per_km),
+            self.x0_ohm_per_km
+                .unwrap_or(CABLE_ZERO_MULTIPLE * self.x_ohm_per_km),
+        )
+    }
 }
 
 /// The series reactor of a capacitor bank, if any.

@@ -79,8 +79,9 @@ impl Network {
     ///   (%)` (default the positive-sequence impedance) and the positive X/R: in series
     ///   (YNyn), as a shunt to ground at the grounded side facing a delta (YNd, Dyn) or at a
     ///   grounded zigzag, or open;
-    /// - cables: the positive-sequence series impedance and charging (no zero-sequence
-    ///   cable data in the input; stated in the report);
+    /// - cables: R0 and X0 as given, else [`crate::model::CABLE_ZERO_MULTIPLE`] × the
+    ///   positive sequence's (common practice), the positive-sequence charging and skin
+    ///   effect;
     /// - loads and motors: no zero-sequence path (ungrounded, common practice);
     /// - banks: only grounded-wye banks conduct.
     ///
@@ -101,8 +102,24 @@ impl Network {
         let mut in_service = plant.transformers.iter().filter(|t| t.in_service);
         for pb in &self.branches {
             if !pb.id.starts_with("transformer ") {
+                // A cable: its zero-sequence R0, X0 (given, or the common-practice multiple).
+                let z = (plant.cables.iter())
+                    .find(|c| pb.id.strip_prefix("cable ") == Some(c.id.as_str()))
+                    .map_or(pb.z, |c| {
+                        let (r0, x0) = c.zero_ohm_per_km();
+                        let zero = crate::model::Cable {
+                            r_ohm_per_km: r0,
+                            x_ohm_per_km: x0,
+                            ..c.clone()
+                        };
+                        SeriesImpedance {
+                            growth: pb.z.growth,
+                            ..SeriesImpedance::cable(&zero, self.buses[pb.from].z_base_ohm, f)
+                        }
+                    });
                 branches.push(Branch {
                     shift_deg: 0.0,
+                    z,
                     ..pb.clone()
                 });
                 continue;

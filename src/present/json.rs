@@ -115,6 +115,10 @@ pub struct Summary<'a> {
     operating: OperatingJson<'a>,
     distortion: Vec<DistortionJson<'a>>,
     duty: &'a [crate::study::duty::DutyRow],
+    /// The duty envelope's high-voltage case as studied.
+    duty_envelope: Option<&'a crate::study::duty::DutyEnvelope>,
+    /// The neutral current of each bus's 4-wire loads (3·I₀ over the triplen orders).
+    neutral: &'a [crate::study::neutral::NeutralRow],
     tolerance: &'a [crate::study::tolerance::ToleranceBand],
     transients: &'a [crate::study::switching::SwitchingEvent],
     remedies: &'a [crate::jobs::check::BankRemedies],
@@ -181,6 +185,8 @@ pub fn summary(res: &CheckResults) -> Summary<'_> {
         },
         distortion,
         duty: &res.duty,
+        duty_envelope: res.duty_envelope.as_ref(),
+        neutral: &res.neutral,
         tolerance: &res.tolerance,
         transients: &res.switching.events,
         remedies: &res.remedies,

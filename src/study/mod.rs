@@ -10,6 +10,7 @@ pub mod hand;
 pub mod injections;
 pub mod limits;
 pub mod modal;
+pub mod neutral;
 pub mod operating;
 pub mod penetration;
 pub mod remedy;

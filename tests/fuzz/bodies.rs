@@ -364,6 +364,7 @@ impl PlantSpec {
                 id: format!("B{i}"),
                 nominal_kv: b.kv.get(KV),
                 description: String::new(),
+                neutral_rating_a: None,
             })
             .collect();
         plant.sources = self
@@ -421,6 +422,8 @@ impl PlantSpec {
                 x_ohm_per_km: c.x.get(R_PER_KM),
                 c_uf_per_km: c.c.get(C_PER_KM),
                 runs: u32::from(c.runs % 5),
+                r0_ohm_per_km: None,
+                x0_ohm_per_km: None,
             })
             .collect();
         plant.banks = self

@@ -52,6 +52,8 @@ fn cab(id: &str, from: &str, to: &str, m: f64, r: f64, x: f64, c: f64, runs: u32
         x_ohm_per_km: x,
         c_uf_per_km: c,
         runs,
+        r0_ohm_per_km: None,
+        x0_ohm_per_km: None,
     }
 }
 
@@ -87,6 +89,7 @@ fn bus(id: &str, kv: f64, description: &str) -> Bus {
         id: id.into(),
         nominal_kv: kv,
         description: description.into(),
+        neutral_rating_a: None,
     }
 }
 
@@ -190,6 +193,8 @@ pub fn bottling_plant() -> Plant {
             x_ohm_per_km: 0.12,
             c_uf_per_km: 0.30,
             runs: 1,
+            r0_ohm_per_km: None,
+            x0_ohm_per_km: None,
         },
         Cable {
             id: "K2".into(),
@@ -200,6 +205,8 @@ pub fn bottling_plant() -> Plant {
             x_ohm_per_km: 0.12,
             c_uf_per_km: 0.30,
             runs: 1,
+            r0_ohm_per_km: None,
+            x0_ohm_per_km: None,
         },
     ];
     p.banks = vec![

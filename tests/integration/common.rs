@@ -27,6 +27,7 @@ pub fn bus(id: &str, kv: f64) -> Bus {
         id: id.into(),
         nominal_kv: kv,
         description: String::new(),
+        neutral_rating_a: None,
     }
 }
 
@@ -75,6 +76,8 @@ pub fn cable(id: &str, from: &str, to: &str, length_m: f64) -> Cable {
         x_ohm_per_km: 0.1,
         c_uf_per_km: 0.25,
         runs: 1,
+        r0_ohm_per_km: None,
+        x0_ohm_per_km: None,
     }
 }
 

@@ -114,8 +114,8 @@ proptest! {
         plant.study.highest_order = 25.0;
         plant.study.scan_step_order = 0.05;
         plant.buses = vec![
-            Bus { id: "HV".into(), nominal_kv: 13.8, description: String::new() },
-            Bus { id: "LV".into(), nominal_kv: kv, description: String::new() },
+            Bus { id: "HV".into(), nominal_kv: 13.8, description: String::new(), neutral_rating_a: None },
+            Bus { id: "LV".into(), nominal_kv: kv, description: String::new(), neutral_rating_a: None },
         ];
         plant.sources = vec![Source { id: "U".into(), bus: "HV".into(), scenario: None, short_circuit: ShortCircuit::Mva(mva), x_over_r: xr, voltage_pu: 1.0, zero_short_circuit_mva: None, zero_x_over_r: None, kind: SourceKind::Utility }];
         plant.transformers = vec![Transformer { id: "T".into(), hv_bus: "HV".into(), lv_bus: "LV".into(), kva: 1000.0, impedance_percent: z, x_over_r: 6.0, in_service: true, connection: None, zero_impedance_percent: None }];

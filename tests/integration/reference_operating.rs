@@ -30,6 +30,8 @@ fn line(id: &str, from: &str, to: &str, r_ohm: f64, x_ohm: f64) -> Cable {
         x_ohm_per_km: x_ohm,
         c_uf_per_km: 0.0,
         runs: 1,
+        r0_ohm_per_km: None,
+        x0_ohm_per_km: None,
     }
 }
 

@@ -378,3 +378,59 @@ fn a_utility_source_at_the_pcc_bus_takes_its_own_background_current_out() {
         assert_close(res.penetration.results[c].pcc_current_a[o], want, 1e-9);
     }
 }
+
+#[test]
+fn neutral_current_of_four_wire_loads_by_hand() {
+    // Two 4-wire electronic loads of 40 kW (pf 0.9) on a 208 V bus, a spectrum of 3rd 80 %,
+    // 5th 60 %, 9th 30 %. By hand (symmetrical components, textbook): I_1 = P/(√3·kV·pf),
+    // the triplens are zero sequence and add in the neutral, I_N,h = 3·I_h; the loads add
+    // arithmetically (the default summation): I_N = 3·2·I_1·√(0.8² + 0.3²).
+    let mut p = textbook_plant(60.0);
+    p.buses = vec![bus("LV", 0.208)];
+    p.buses[0].neutral_rating_a = Some(500.0);
+    p.sources = vec![source("U", "LV", 10.0, 5.0)];
+    p.spectra = vec![spectrum("SMPS", &[(3.0, 80.0), (5.0, 60.0), (9.0, 30.0)])];
+    p.loads = (0..2)
+        .map(|i| {
+            let mut l = load(&format!("E{i}"), "LV", LoadType::Electronic, 40.0, 0.9);
+            l.spectrum = Some("SMPS".into());
+            l
+        })
+        .collect();
+    let res = run(&p);
+    let i1 = 40.0 / (3f64.sqrt() * 0.208 * 0.9);
+    let want = 3.0 * 2.0 * i1 * (0.8f64.powi(2) + 0.3f64.powi(2)).sqrt();
+    let row = &res.neutral[0];
+    assert_eq!(row.bus, "LV");
+    assert_close(row.rms_a, want, 1e-9);
+    assert_close(row.worst_a, 3.0 * 2.0 * i1 * 0.8, 1e-9);
+    assert_eq!(row.worst_order, 3.0);
+    assert!(row.exceeds, "{} A over 500 A", row.rms_a);
+    // As 3-wire loads their triplens have no neutral to flow in.
+    for l in &mut p.loads {
+        l.wiring = Some(Wiring::ThreeWire);
+    }
+    assert!(run(&p).neutral.is_empty());
+}
+
+#[test]
+fn the_new_columns_round_trip_through_the_workbook() {
+    // Input contract: Sources `Kind`, Buses `Neutral rating (A)`, Cables `R0 (ohm/km)` and
+    // `X0 (ohm/km)`, written by the template and read back.
+    let mut p = plant();
+    p.buses[1].neutral_rating_a = Some(400.0);
+    p.cables = vec![overtone::model::Cable {
+        r0_ohm_per_km: Some(0.9),
+        x0_ohm_per_km: Some(0.4),
+        ..crate::common::cable("K", "MAIN", "MAIN2", 50.0)
+    }];
+    p.buses.push(bus("MAIN2", 4.16));
+    let bytes = overtone::io::template::plant_workbook(&p).expect("workbook");
+    let read =
+        overtone::io::workbook_in::read_workbook_bytes("p", "p.xlsx", &bytes).expect("reads");
+    assert_eq!(read.plant.sources[1].kind, SourceKind::Generator);
+    assert_eq!(read.plant.sources[0].kind, SourceKind::Utility);
+    assert_eq!(read.plant.buses[1].neutral_rating_a, Some(400.0));
+    assert_eq!(read.plant.cables[0].r0_ohm_per_km, Some(0.9));
+    assert_eq!(read.plant.cables[0].x0_ohm_per_km, Some(0.4));
+}

@@ -72,7 +72,14 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
         "Buses" => plant
             .buses
             .iter()
-            .map(|b| vec![t(&b.id), N(b.nominal_kv), t(&b.description)])
+            .map(|b| {
+                vec![
+                    t(&b.id),
+                    N(b.nominal_kv),
+                    t(&b.description),
+                    b.neutral_rating_a.map_or(Blank, N),
+                ]
+            })
             .collect(),
         "Sources" => plant
             .sources
@@ -92,6 +99,7 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                     N(s.voltage_pu),
                     s.zero_short_circuit_mva.map_or(Blank, N),
                     s.zero_x_over_r.map_or(Blank, N),
+                    t(s.kind.label()),
                 ]
             })
             .collect(),
@@ -125,6 +133,8 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                     N(c.x_ohm_per_km),
                     N(c.c_uf_per_km),
                     N(f64::from(c.runs)),
+                    c.r0_ohm_per_km.map_or(Blank, N),
+                    c.x0_ohm_per_km.map_or(Blank, N),
                 ]
             })
             .collect(),

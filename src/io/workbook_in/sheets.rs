@@ -15,6 +15,7 @@ pub fn buses(t: &Table, d: &mut Diagnostics) -> Vec<Bus> {
             id: t.id(r, "Bus", d),
             nominal_kv: t.required_number(r, "Nominal kV", "a positive number", d),
             description: t.text(r, "Description", d).unwrap_or_default(),
+            neutral_rating_a: t.number(r, "Neutral rating (A)", "a positive number", d),
         })
         .collect()
 }
@@ -177,6 +178,8 @@ pub fn cables(t: &Table, d: &mut Diagnostics, defaults: &mut Defaults) -> Vec<Ca
                 defaults.note("Cables", "Runs", "1", t.default_at(r, "Runs"));
                 1
             }),
+            r0_ohm_per_km: t.number(r, "R0 (ohm/km)", "a number of zero or more", d),
+            x0_ohm_per_km: t.number(r, "X0 (ohm/km)", "a number of zero or more", d),
         })
         .collect()
 }

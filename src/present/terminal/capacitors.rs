@@ -95,6 +95,32 @@ pub fn write_duty(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     Ok(())
 }
 
+/// The neutral current of 4-wire loads (3·I₀ over the triplen orders), per bus, against
+/// `Neutral rating (A)` where given; nothing without 4-wire triplen injection.
+pub fn write_neutral(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
+    if res.neutral.is_empty() {
+        return Ok(());
+    }
+    writeln!(out)?;
+    writeln!(
+        out,
+        "Neutral current of 4-wire loads (3 I0 over the triplen orders, A rms):"
+    )?;
+    for r in &res.neutral {
+        let against = match r.rating_a {
+            Some(lim) if r.exceeds => format!("against {lim:.0} A: EXCEEDS"),
+            Some(lim) => format!("against {lim:.0} A: meets"),
+            None => "no Neutral rating (A) given: not checked".to_string(),
+        };
+        writeln!(
+            out,
+            "  {}: {:.1} A (h {} {:.1} A), {against}",
+            r.bus, r.rms_a, r.worst_order, r.worst_a
+        )?;
+    }
+    Ok(())
+}
+
 /// Tolerance bands that reach a characteristic order although the nominal value does not.
 pub fn write_tolerance(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
     let t = res.plant.study.capacitance_tolerance;

@@ -82,6 +82,7 @@ pub fn write_summary(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> 
     write_limits(out, res)?;
     writeln!(out)?;
     super::capacitors::write_duty(out, res)?;
+    super::capacitors::write_neutral(out, res)?;
     writeln!(out)?;
     super::capacitors::write_tolerance(out, res)?;
     writeln!(out)?;
