@@ -609,6 +609,13 @@ pub fn sheets() -> Vec<(&'static str, Vec<Col>)> {
                     Between(0.5, 1.0),
                     11.0,
                 ),
+                col(
+                    false,
+                    "Replaces",
+                    "Capacitor id(s) on this bus, existing or proposed, that the designed bank replaces (removed from the plant while the plans are tried), comma-separated: e.g. an existing plain bank the plan may detune. Blank = the proposed bank on this bus.",
+                    Text,
+                    14.0,
+                ),
             ],
         ),
         (

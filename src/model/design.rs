@@ -31,6 +31,9 @@ pub struct DesignRow {
     /// The lowest leading power factor the controller may leave at the PCC (1 = never
     /// leading).
     pub leading_pf_limit: Option<f64>,
+    /// Banks (ids) on this bus the designed bank replaces, existing or proposed; empty =
+    /// the proposed bank on the bus.
+    pub replaces: Vec<String>,
     /// The A1 cells of the row's columns, for messages: bus, step kvar, steps, detuning,
     /// rated kV.
     pub cells: DesignCells,
@@ -48,6 +51,7 @@ pub struct DesignCells {
     pub rated_kv: String,
     pub capacitor_cost: String,
     pub leading_pf_limit: String,
+    pub replaces: String,
 }
 
 impl PartialEq for DesignCells {

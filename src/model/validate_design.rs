@@ -89,6 +89,28 @@ pub fn design_problems(plant: &Plant) -> Vec<DesignProblem> {
             );
         }
     }
+    for r in &plant.design {
+        for id in &r.replaces {
+            match plant.banks.iter().find(|b| &b.id == id) {
+                None => push(
+                    "Design",
+                    &r.cells.replaces,
+                    format!(
+                        "\"Replaces\" names \"{id}\", which is not a bank on the Capacitors sheet"
+                    ),
+                ),
+                Some(b) if b.bus != r.bus => push(
+                    "Design",
+                    &r.cells.replaces,
+                    format!(
+                        "\"Replaces\" names \"{id}\", which sits on bus \"{}\", not on this row's bus \"{}\"",
+                        b.bus, r.bus
+                    ),
+                ),
+                Some(_) => {}
+            }
+        }
+    }
     level_problems(plant, &mut push);
     for r in &plant.load_levels {
         if let Some(t) = &r.load

@@ -345,6 +345,7 @@ pub fn food_plant() -> Plant {
         reactor_cost_per_kvar: Some(1.2),
         step_cost: Some(35.0),
         leading_pf_limit: None,
+        replaces: Vec::new(),
         cells: DesignCells::default(),
     }];
     let level = |name: &str, hours: Option<f64>, load: Option<&str>, lf: f64| LoadLevelRow {

@@ -28,6 +28,7 @@ fn row(
         reactor_cost_per_kvar: None,
         step_cost: None,
         leading_pf_limit: None,
+        replaces: Vec::new(),
         cells: DesignCells {
             bus: "A2".into(),
             step_kvar: "B2".into(),
@@ -309,4 +310,63 @@ fn a_plan_the_controller_never_switches_in_is_not_recommended() {
         );
     }
     assert_eq!(d.recommended, None);
+}
+
+#[test]
+fn an_existing_bank_named_in_replaces_is_redesigned() {
+    // The 5th-harmonic plant (above) with an existing plain 2 × 250 kvar bank EX on the LV
+    // bus: EX alone sits on the 5th (h = √(S_sc/Q) near 5 for this bus; textbook), so every
+    // plan added beside it inherits its resonant states and none can pass. Naming EX in
+    // the Design row's `Replaces` takes it out while the plans are tried: a detuned plan
+    // passes, and the written plant has the plan in EX's place.
+    let mut p = fifth_plant();
+    p.banks = vec![CapacitorBank {
+        status: BankStatus::Existing,
+        ..crate::common::bank("EX", "LV", 0.48, 250.0, 2, Reactor::None)
+    }];
+    let res = run_check(
+        &p,
+        &CheckOptions {
+            remedies: Some(false),
+            ..Default::default()
+        },
+    )
+    .expect("check runs");
+    assert!(
+        res.resonance
+            .rows
+            .iter()
+            .any(|r| r.verdict == overtone::study::Verdict::Resonant),
+        "EX resonates on its own"
+    );
+    let beside = design(&p);
+    assert!(
+        beside.recommended.is_none(),
+        "no plan passes beside the resonant bank"
+    );
+    p.design[0].replaces = vec!["EX".into()];
+    let replaced = design(&p);
+    let i = replaced
+        .recommended
+        .expect("a plan passes once EX is replaced");
+    assert!(
+        replaced.plans[i].plan.reactor.p() > 0.0,
+        "{:?}",
+        replaced.plans[i].plan
+    );
+    // The plan takes EX's place (and its id), as a proposed bank of the plan's make-up.
+    let written = replaced.plant_with(i);
+    let on_lv: Vec<_> = written.banks.iter().filter(|b| b.bus == "LV").collect();
+    assert_eq!(on_lv.len(), 1, "EX replaced, not kept beside the plan");
+    assert_eq!(on_lv[0].reactor, replaced.plans[i].plan.reactor);
+    assert_eq!(on_lv[0].status, BankStatus::Proposed);
+    // A Replaces cell naming no bank is a located input error.
+    p.design[0].replaces = vec!["NOPE".into()];
+    p.design[0].cells.replaces = "M2".into();
+    let err = run_design(&p, &DesignOptions::default()).expect_err("bad id");
+    let text = err.to_string();
+    assert!(
+        text.contains("Design") && text.contains("M2") && text.contains("NOPE"),
+        "{text}"
+    );
 }

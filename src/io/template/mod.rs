@@ -257,6 +257,7 @@ fn rows(plant: &Plant, sheet: &str) -> Vec<Vec<V>> {
                     d.reactor_cost_per_kvar.map_or(Blank, N),
                     d.step_cost.map_or(Blank, N),
                     d.leading_pf_limit.map_or(Blank, N),
+                    t(&d.replaces.join(", ")),
                 ]
             })
             .collect(),

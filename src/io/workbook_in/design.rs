@@ -172,6 +172,15 @@ pub fn design(t: &Table, d: &mut Diagnostics) -> Vec<DesignRow> {
                 reactor_cost_per_kvar: positive(reactor_cost, "Reactor cost (per kvar)", d),
                 step_cost: positive(step_cost, "Step cost", d),
                 leading_pf_limit: leading,
+                replaces: t
+                    .text(r, "Replaces", d)
+                    .map(|s| {
+                        s.split([',', ';'])
+                            .map(|x| x.trim().to_string())
+                            .filter(|x| !x.is_empty())
+                            .collect()
+                    })
+                    .unwrap_or_default(),
                 cells: DesignCells {
                     bus: t.cell(r, "Bus"),
                     step_kvar: t.cell(r, "Step kvar"),
@@ -180,6 +189,7 @@ pub fn design(t: &Table, d: &mut Diagnostics) -> Vec<DesignRow> {
                     rated_kv: t.cell(r, "Rated kV"),
                     capacitor_cost: t.cell(r, "Capacitor cost (per kvar)"),
                     leading_pf_limit: t.cell(r, "Leading PF limit"),
+                    replaces: t.cell(r, "Replaces"),
                 },
             }
         })

@@ -41,6 +41,7 @@ fn design_rows(plant: &Plant) -> Result<(Vec<DesignRow>, bool), DesignError> {
             reactor_cost_per_kvar: None,
             step_cost: None,
             leading_pf_limit: None,
+            replaces: Vec::new(),
             cells: DesignCells::default(),
         });
     }
@@ -148,8 +149,14 @@ impl<'p> Search<'p> {
             });
         }
         let (rows, derived) = design_rows(plant)?;
-        let proposed_on =
-            |b: &CapacitorBank, r: &DesignRow| b.status == BankStatus::Proposed && b.bus == r.bus;
+        // The banks a row's plan replaces: those it names, else the proposed bank there.
+        let proposed_on = |b: &CapacitorBank, r: &DesignRow| {
+            if r.replaces.is_empty() {
+                b.status == BankStatus::Proposed && b.bus == r.bus
+            } else {
+                r.replaces.contains(&b.id)
+            }
+        };
         let bases: Vec<Plant> = rows
             .iter()
             .map(|r| {

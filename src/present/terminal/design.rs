@@ -107,6 +107,24 @@ fn write_search(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
         ),
         WIDTH,
     )?;
+    for (base, id) in d.bases.iter().zip(&d.bank_ids) {
+        let replaced: Vec<&str> = (d.plant.banks.iter())
+            .filter(|b| !base.banks.iter().any(|x| x.id == b.id))
+            .map(|b| b.id.as_str())
+            .collect();
+        if !replaced.is_empty() {
+            write_hanging(
+                out,
+                "",
+                "  ",
+                &format!(
+                    "The designed bank {id} replaces {} (taken out of the plant while its plans are tried; the written plant has the plan in its place).",
+                    replaced.join(", ")
+                ),
+                WIDTH,
+            )?;
+        }
+    }
     if d.baselines
         .iter()
         .all(|b| b.control.iter().flatten().all(|c| c.reaches))

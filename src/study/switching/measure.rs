@@ -38,51 +38,79 @@ const FIT_SAMPLES: usize = 300;
 /// Modes below this share of the largest are not listed.
 const MODE_SHARE: f64 = 0.05;
 
-/// How the transient component rings, from a matrix-pencil fit of the waveform
-/// ([`crate::solve::matrix_pencil`]) on the first stage thinned to about 300 samples: every
-/// oscillating mode with at least 5 % of the largest mode's amplitude (a conjugate pair's
-/// amplitude 2|a|, a real pole's |a|), largest first, and whether the largest is an
-/// oscillation (under-damped) or a real pole (over-damped). Empty when nothing was fitted.
+/// How the transient component rings, from matrix-pencil fits of the waveform
+/// ([`crate::solve::matrix_pencil`]): every oscillating mode with at least 5 % of the
+/// largest mode's amplitude (a conjugate pair's amplitude 2|a|, a real pole's |a|), largest
+/// first, and whether the largest is an oscillation (under-damped) or a real pole
+/// (over-damped). Empty when nothing was fitted.
+///
+/// Modes far apart in frequency (a back-to-back ring at tens of kHz over a system mode of a
+/// few hundred Hz) cannot both be resolved by one sampling, so the fit runs over a ladder of
+/// windows from the closing instant: 300 samples at strides 1, 4, 16, … up to the whole
+/// first stage. Each window answers for the band it resolves, from two periods in the
+/// window up to 0.4 of its sampling rate (the longest window also for the slowest modes and
+/// the real poles); a mode found in two windows within 1 % is kept once, from the longer.
 pub fn ringing(transient: &[f64], dt: f64) -> (Vec<RingingMode>, bool) {
-    let stride = (transient.len() / FIT_SAMPLES).max(1);
-    let y: Vec<f64> = transient.iter().step_by(stride).copied().collect();
-    let poles = crate::solve::matrix_pencil(&y, dt * stride as f64);
-    // (frequency, ζ, amplitude, oscillating): pairs once (Im s > 0), real poles alone.
-    let comps: Vec<(f64, f64, f64, bool)> = poles
-        .iter()
-        .filter(|p| p.s.re.is_finite() && p.s.im.is_finite())
-        .filter_map(|p| {
-            let w = p.s.im.abs();
-            let nyquist = std::f64::consts::PI / (dt * stride as f64);
-            // Poles near the sampling's Nyquist frequency are the integration's own
-            // (the trapezoidal rule's alternating mode), not the circuit's.
-            if w > 0.8 * nyquist {
-                None
-            } else if w < 1e-6 * nyquist {
-                Some((0.0, 1.0, p.amplitude.norm(), false))
-            } else if p.s.im > 0.0 {
+    let n = transient.len();
+    let mut strides = vec![1usize];
+    while strides.last().is_some_and(|&s| FIT_SAMPLES * s * 4 <= n) {
+        let next = strides.last().map_or(1, |s| s * 4);
+        strides.push(next);
+    }
+    let longest = (n / FIT_SAMPLES).max(1);
+    if strides.last().is_some_and(|&s| s < longest) {
+        strides.push(longest);
+    }
+    // (frequency, ζ, amplitude, oscillating, window length in s)
+    let mut comps: Vec<(f64, f64, f64, bool, f64)> = Vec::new();
+    let last = strides.len() - 1;
+    for (k, &stride) in strides.iter().enumerate() {
+        let y: Vec<f64> = transient
+            .iter()
+            .step_by(stride)
+            .take(FIT_SAMPLES)
+            .copied()
+            .collect();
+        let step = dt * stride as f64;
+        let window = step * y.len() as f64;
+        let f_lo = if k == last { 0.0 } else { 2.0 / window };
+        let f_hi = 0.4 / step;
+        for p in crate::solve::matrix_pencil(&y, step) {
+            if !(p.s.re.is_finite() && p.s.im.is_finite()) {
+                continue;
+            }
+            let f = p.s.im.abs() / (2.0 * std::f64::consts::PI);
+            if f < 1e-6 / step {
+                if k == last {
+                    comps.push((0.0, 1.0, p.amplitude.norm(), false, window));
+                }
+            } else if p.s.im > 0.0 && f >= f_lo && f <= f_hi {
                 // A lossless mode fits with ζ of rounding size either side of 0.
                 let zeta = (-p.s.re / p.s.norm()).max(0.0);
-                Some((
-                    w / (2.0 * std::f64::consts::PI),
-                    zeta,
-                    2.0 * p.amplitude.norm(),
-                    true,
-                ))
-            } else {
-                None
+                comps.push((f, zeta, 2.0 * p.amplitude.norm(), true, window));
             }
-        })
-        .collect();
-    let top = comps.iter().map(|c| c.2).fold(0.0, f64::max);
+        }
+    }
+    // One entry per mode: a mode another window found within 1 % is kept from the longer
+    // window (modes of one window are distinct however close).
+    comps.sort_by(|a, b| b.4.total_cmp(&a.4));
+    let mut kept: Vec<(f64, f64, f64, bool, f64)> = Vec::new();
+    for c in comps {
+        let seen =
+            |k: &(f64, f64, f64, bool, f64)| k.3 && k.4 != c.4 && (k.0 - c.0).abs() <= 0.01 * c.0;
+        if !c.3 || !kept.iter().any(seen) {
+            kept.push(c);
+        }
+    }
+    let top = kept.iter().map(|c| c.2).fold(0.0, f64::max);
     if top.is_nan() || top <= 0.0 {
         return (Vec::new(), false);
     }
-    let under = comps
+    let under = kept
         .iter()
         .max_by(|a, b| a.2.total_cmp(&b.2))
         .is_some_and(|c| c.3 && c.1 < 1.0);
-    let mut modes: Vec<RingingMode> = comps
+    let mut modes: Vec<RingingMode> = kept
         .iter()
         .filter(|c| c.3 && c.2 >= MODE_SHARE * top)
         .map(|c| RingingMode {
