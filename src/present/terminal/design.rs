@@ -5,6 +5,7 @@ use std::io::{self, Write};
 
 use super::table::{write_hanging, write_table};
 use crate::jobs::design::{DesignResult, PlanResult};
+use crate::model::{BankStatus, CapacitorBank};
 
 const WIDTH: usize = 100;
 
@@ -108,11 +109,15 @@ fn write_search(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
         WIDTH,
     )?;
     for (base, id) in d.bases.iter().zip(&d.bank_ids) {
-        let replaced: Vec<&str> = (d.plant.banks.iter())
+        let gone: Vec<&CapacitorBank> = (d.plant.banks.iter())
             .filter(|b| !base.banks.iter().any(|x| x.id == b.id))
-            .map(|b| b.id.as_str())
             .collect();
-        if !replaced.is_empty() {
+        let replaced: Vec<&str> = gone.iter().map(|b| b.id.as_str()).collect();
+        // The proposed bank a plan stands in for goes without saying; an existing one not.
+        let said = gone
+            .iter()
+            .any(|b| b.status == BankStatus::Existing || b.id != *id);
+        if said {
             write_hanging(
                 out,
                 "",
