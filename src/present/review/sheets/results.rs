@@ -269,6 +269,10 @@ pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), X
             ("PCC Vh limit (%)", 9.0),
             (in_plant_head, 12.0),
             ("Verdict", 10.0),
+            ("TDD with background (%, reported)", 11.0),
+            ("PCC THD, worst background angle (%)", 11.0),
+            ("PCC THD, arithmetic bound (%)", 11.0),
+            ("PCC TDD, arithmetic bound (%)", 11.0),
         ],
     )?;
     for (i, r) in res.limit_rows.iter().enumerate() {
@@ -307,6 +311,10 @@ pub(super) fn distortion(ws: &mut Worksheet, res: &CheckResults) -> Result<(), X
                 on(r.pcc_individual.as_ref().and_then(|c| c.limit), "0.00"),
                 t(if r.in_plant_above { "yes" } else { "no" }),
                 t(if r.exceeds { "EXCEEDS" } else { "meets" }),
+                n(r.tdd_with_background_percent, "0.00"),
+                on(r.pcc_phasor.and_then(|p| p.thd_worst_angle_percent), "0.00"),
+                on(r.pcc_phasor.map(|p| p.thd_arithmetic_percent), "0.00"),
+                on(r.pcc_phasor.map(|p| p.tdd_arithmetic_percent), "0.00"),
             ],
         )?;
     }
