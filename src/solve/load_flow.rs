@@ -192,7 +192,9 @@ impl LoadFlowSystem {
             loop {
                 trial.clear();
                 trial.extend(vp.iter().zip(&w.x).map(|(v, dv)| v + dv * step));
-                let collapsed = trial.iter().any(|v| v.norm().is_nan() || v.norm() <= 1e-3);
+                let collapsed = trial
+                    .iter()
+                    .any(|v| v.norm_sqr().is_nan() || v.norm_sqr() <= 1e-6);
                 let next = if collapsed {
                     f64::INFINITY
                 } else {
@@ -259,8 +261,11 @@ impl LoadFlowSystem {
             if self.s[k] != Complex64::default() {
                 w.f[k] += (self.s[k] / v).conj();
             }
-            let ds = (v * w.f[k].conj()).norm();
-            let allowed = MISMATCH_PU + 1e-13 * v.norm() * w.tol[k];
+            // |ΔS| = |V|·|F|: square roots of squared magnitudes, no hypot (the mismatch is
+            // the load flow's hottest loop and its values are far from overflow).
+            let v2 = v.norm_sqr();
+            let ds = (v2 * w.f[k].norm_sqr()).sqrt();
+            let allowed = MISMATCH_PU + 1e-13 * v2.sqrt() * w.tol[k];
             if !ds.is_finite() {
                 return f64::INFINITY;
             }
