@@ -499,11 +499,8 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     } else {
         limit_rows(&ctx, &scan, &penetration, &limits)
     };
-    let neutral = if options.scan_only {
-        Vec::new()
-    } else {
-        crate::study::neutral::neutral_rows(plant, network, &penetration.injections)
-    };
+    // Empty under scan_only: the scan injects nothing.
+    let neutral = crate::study::neutral::neutral_rows(plant, network, &penetration.injections);
     let (duty, duty_envelope) = if options.scan_only {
         (Vec::new(), None)
     } else {

@@ -89,6 +89,27 @@ pub fn design_problems(plant: &Plant) -> Vec<DesignProblem> {
             );
         }
     }
+    replaces_problems(plant, &mut push);
+    level_problems(plant, &mut push);
+    for r in &plant.load_levels {
+        if let Some(t) = &r.load
+            && LoadType::from_text(t).is_none()
+            && !plant.loads.iter().any(|l| l.id == *t)
+        {
+            push(
+                "Load levels",
+                &r.cell.0,
+                format!(
+                    "\"Load\" names \"{t}\", which is neither a load on the Loads sheet nor a load type"
+                ),
+            );
+        }
+    }
+    out
+}
+
+/// A Design row's `Replaces` naming a bank that does not exist or sits on another bus.
+fn replaces_problems(plant: &Plant, push: &mut impl FnMut(&'static str, &str, String)) {
     for r in &plant.design {
         for id in &r.replaces {
             match plant.banks.iter().find(|b| &b.id == id) {
@@ -111,22 +132,6 @@ pub fn design_problems(plant: &Plant) -> Vec<DesignProblem> {
             }
         }
     }
-    level_problems(plant, &mut push);
-    for r in &plant.load_levels {
-        if let Some(t) = &r.load
-            && LoadType::from_text(t).is_none()
-            && !plant.loads.iter().any(|l| l.id == *t)
-        {
-            push(
-                "Load levels",
-                &r.cell.0,
-                format!(
-                    "\"Load\" names \"{t}\", which is neither a load on the Loads sheet nor a load type"
-                ),
-            );
-        }
-    }
-    out
 }
 
 /// The Load levels rows that contradict each other: a level's hours given twice and

@@ -178,48 +178,9 @@ pub fn write_transients(out: &mut dyn Write, res: &CheckResults) -> io::Result<(
         out,
         "Switching (time-domain simulation, worst closing instant; formula = IEEE C37.012 hand check)"
     )?;
-    let rows: Vec<Vec<String>> = sw
-        .events
-        .iter()
+    let rows: Vec<Vec<String>> = (sw.events.iter())
         .take(4 * MAX_ROWS_PER_SCENARIO)
-        .map(|e| {
-            let remote = e
-                .remote
-                .iter()
-                .max_by(|a, b| a.peak_pu.total_cmp(&b.peak_pu))
-                .map_or_else(
-                    || "-".to_string(),
-                    |r| format!("{:.2} {}", r.peak_pu, r.bank),
-                );
-            vec![
-                e.scenario.clone(),
-                e.bank.clone(),
-                e.step.to_string(),
-                if e.case == crate::study::switching::Case::Isolated {
-                    "isol".to_string()
-                } else {
-                    "b2b".to_string()
-                },
-                format!("{:.0}", e.peak_a),
-                e.formula
-                    .as_ref()
-                    .map_or_else(|| "n/a".to_string(), |f| format!("{:.0}", f.peak_a)),
-                e.frequency_hz
-                    .map_or_else(|| "-".to_string(), |f| format!("{f:.0}")),
-                format!("{:.2}", e.bus_peak_pu),
-                format!("{:.2}", e.capacitor_peak_pu),
-                remote,
-                e.ring_down_ms
-                    .map_or_else(|| format!(">{:.0}", e.simulated_ms), |t| format!("{t:.0}")),
-                if e.inrush_exceeds {
-                    "INRUSH".to_string()
-                } else if e.overvoltage_exceeds {
-                    "OVERVOLT".to_string()
-                } else {
-                    "ok".to_string()
-                },
-            ]
-        })
+        .map(transient_cells)
         .collect();
     write_table(out, &TRANSIENT_HEADERS, &[0, 1, 3, 9, 11], &rows)?;
     if sw.events.len() > rows.len() {
@@ -250,6 +211,46 @@ pub fn write_transients(out: &mut dyn Write, res: &CheckResults) -> io::Result<(
         )?;
     }
     Ok(())
+}
+
+/// The summary row of one switching event.
+fn transient_cells(e: &crate::study::switching::SwitchingEvent) -> Vec<String> {
+    let remote = e
+        .remote
+        .iter()
+        .max_by(|a, b| a.peak_pu.total_cmp(&b.peak_pu))
+        .map_or_else(
+            || "-".to_string(),
+            |r| format!("{:.2} {}", r.peak_pu, r.bank),
+        );
+    vec![
+        e.scenario.clone(),
+        e.bank.clone(),
+        e.step.to_string(),
+        if e.case == crate::study::switching::Case::Isolated {
+            "isol".to_string()
+        } else {
+            "b2b".to_string()
+        },
+        format!("{:.0}", e.peak_a),
+        e.formula
+            .as_ref()
+            .map_or_else(|| "n/a".to_string(), |f| format!("{:.0}", f.peak_a)),
+        e.frequency_hz
+            .map_or_else(|| "-".to_string(), |f| format!("{f:.0}")),
+        format!("{:.2}", e.bus_peak_pu),
+        format!("{:.2}", e.capacitor_peak_pu),
+        remote,
+        e.ring_down_ms
+            .map_or_else(|| format!(">{:.0}", e.simulated_ms), |t| format!("{t:.0}")),
+        if e.inrush_exceeds {
+            "INRUSH".to_string()
+        } else if e.overvoltage_exceeds {
+            "OVERVOLT".to_string()
+        } else {
+            "ok".to_string()
+        },
+    ]
 }
 
 /// Remedies for each flagged bank, ranked, with the studies before and after: one table

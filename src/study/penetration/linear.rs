@@ -26,12 +26,9 @@ impl Ctx<'_> {
     ) -> Result<Vec<Distortion>, SolveError> {
         let net = self.net;
         let (n, nk) = (net.buses.len(), net.banks.len());
-        let no = self.injections.orders.len();
-        let l = self.injections.buses.len();
+        let (no, l) = (self.injections.orders.len(), self.injections.buses.len());
         let nc = self.configurations.len();
-        let mut inj = Vec::new();
-        let mut v = Vec::new();
-        let mut work = Vec::new();
+        let (mut inj, mut v, mut work) = (Vec::new(), Vec::new(), Vec::new());
         let mut v_mag = vec![0.0; n];
         let mut bank_bg = vec![0.0; nk];
         let mut out = Vec::with_capacity(chunk.len());
@@ -45,11 +42,6 @@ impl Ctx<'_> {
                 let k = z0.k;
                 let inp = &self.inputs[s][o];
                 let (y, energized) = bank_admittances(p, steps);
-                let mut pcc_buses: Vec<usize> = std::iter::once(self.pcc)
-                    .chain(inp.pcc.iter().map(|&(b, _)| b))
-                    .collect();
-                pcc_buses.sort_unstable();
-                pcc_buses.dedup();
                 // V = V₀ − Z₀[:,E]·X at every bus.
                 phasor_currents(inp, h, theta, l, &mut inj);
                 p.z0_times(&inj, &mut v, &mut work);
@@ -95,28 +87,47 @@ impl Ctx<'_> {
                     .map(|(bank, &yb)| v_mag[bank.bus] * abs(yb))
                     .collect();
                 self.record(&mut d, o, h, &v_mag, supply, &bank_bg, &bank_i);
-                // The PCC's split and bounds from the rows of Z at the PCC's buses.
-                let Some(rows) = rows_now(p, &y, &energized, &pcc_buses) else {
-                    return Err(self.singular(s, h));
-                };
-                let row = |b: usize| pcc_buses.iter().position(|&q| q == b).unwrap_or(0);
-                load_phasors(inp, h, theta, l, &mut inj);
-                let split = pcc::split(
-                    inp,
-                    self.law,
-                    h,
-                    self.pcc,
-                    |b, c| rows[row(b)][c],
-                    &inj,
-                    None,
-                    self.pcc_units(),
-                );
+                let split = self
+                    .linear_pcc(p, inp, (&y, &energized), theta, &mut inj)
+                    .ok_or_else(|| self.singular(s, h))?;
                 self.record_pcc(&mut d, o, split);
             }
             self.conclude(&mut d);
             out.push(d);
         }
         Ok(out)
+    }
+}
+
+impl Ctx<'_> {
+    /// The PCC's split and bounds of one order and configuration (bank admittances `y` of
+    /// the energized banks), from the rows of Z at the PCC's buses; `None` when singular.
+    fn linear_pcc(
+        &self,
+        p: &HarmonicPoint,
+        inp: &super::OrderInputs,
+        (y, energized): (&[Complex64], &[usize]),
+        theta: &[f64],
+        inj: &mut Vec<Complex64>,
+    ) -> Option<pcc::PccSplit> {
+        let mut buses: Vec<usize> = std::iter::once(self.pcc)
+            .chain(inp.pcc.iter().map(|&(b, _)| b))
+            .collect();
+        buses.sort_unstable();
+        buses.dedup();
+        let rows = rows_now(p, y, energized, &buses)?;
+        let row = |b: usize| buses.iter().position(|&q| q == b).unwrap_or(0);
+        load_phasors(inp, p.order, theta, p.z0_blocks().l, inj);
+        Some(pcc::split(
+            inp,
+            self.law,
+            p.order,
+            self.pcc,
+            |b, c| rows[row(b)][c],
+            inj,
+            None,
+            self.pcc_units(),
+        ))
     }
 }
 

@@ -66,33 +66,39 @@ pub(super) fn split(
     z: impl Fn(usize, usize) -> Complex64,
     load_i: &[Complex64],
     part: Option<PartAtPcc>,
-    (amps, percent): (f64, f64),
+    units: (f64, f64),
 ) -> PccSplit {
     let into = |c: usize| inp.pcc_transfer(|b| z(b, c));
-    let bg_into = |c: usize, own: bool| into(c) - if own { 1.0 } else { 0.0 };
-    let bg = inp.background.iter().zip(&inp.background_own);
     if law != Summation::Phasor {
+        let bg = inp.background.iter().zip(&inp.background_own);
+        let own = |c: usize, own: bool| into(c) - if own { 1.0 } else { 0.0 };
         let plant = combine(
             law,
             h,
             (inp.loads.iter().map(|&(c, a, _)| abs(into(c)) * a)).chain(part.map(|p| p.i_law)),
         );
-        let background = combine(
-            law,
-            h,
-            bg.map(|(&(c, i), &own)| abs(bg_into(c, own)) * abs(i)),
-        );
+        let background = combine(law, h, bg.map(|(&(c, i), &o)| abs(own(c, o)) * abs(i)));
         return PccSplit {
             plant,
             background,
             bounds: None,
         };
     }
-    let (mut i_plant, mut v_known, mut i_known) = (
-        Complex64::default(),
-        Complex64::default(),
-        Complex64::default(),
-    );
+    phasor_split(inp, pcc, &z, &into, load_i, part, units)
+}
+
+/// [`split`] under `phasor` summation: the stated-angle phasors, the worst case over the
+/// blank background angles and the arithmetic bound.
+fn phasor_split(
+    inp: &OrderInputs,
+    pcc: usize,
+    z: &impl Fn(usize, usize) -> Complex64,
+    into: &impl Fn(usize) -> Complex64,
+    load_i: &[Complex64],
+    part: Option<PartAtPcc>,
+    (amps, percent): (f64, f64),
+) -> PccSplit {
+    let (mut i_plant, mut v_known) = (Complex64::default(), Complex64::default());
     let (mut v_arith, mut i_arith) = (0.0, 0.0);
     for &(c, _, _) in &inp.loads {
         let (vz, iz) = (z(pcc, c) * load_i[c], into(c) * load_i[c]);
@@ -107,12 +113,13 @@ pub(super) fn split(
         v_arith += abs(p.v);
         i_arith += abs(p.i);
     }
-    i_known += i_plant;
+    let mut i_known = i_plant;
     let i_plant_arith = i_arith;
     let mut v_stated = v_known;
     let (mut i_bg, mut v_free, mut i_free, mut free) = (Complex64::default(), 0.0, 0.0, false);
-    for ((&(c, i), &own), &known) in bg.zip(&inp.background_angle_known) {
-        let (vz, iz) = (z(pcc, c) * i, bg_into(c, own) * i);
+    let terms = (inp.background.iter().zip(&inp.background_own)).zip(&inp.background_angle_known);
+    for ((&(c, i), &own), &known) in terms {
+        let (vz, iz) = (z(pcc, c) * i, (into(c) - if own { 1.0 } else { 0.0 }) * i);
         i_bg += iz;
         v_stated += vz;
         v_arith += abs(vz);
