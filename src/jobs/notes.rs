@@ -33,6 +33,8 @@ pub enum Note {
         before_kva: f64,
         after_kva: f64,
         target_power_factor: f64,
+        /// From the PCC's draw (on-site generation netted out), not the loads'.
+        from_pcc: bool,
     },
     /// Scenario-configurations without a load-flow solution: how many, the first, the
     /// scenarios they fall in and the element that carries the most load for its
@@ -85,9 +87,20 @@ impl fmt::Display for Note {
                 before_kva,
                 after_kva,
                 target_power_factor,
+                from_pcc,
             } => write!(
                 f,
-                "I_L ESTIMATED from the Loads sheet: {i_l_a:.1} A at the PCC, the demand after correction ({after_kva:.0} kVA: the loads' P at the study point at the better of the target PF {target_power_factor} and their own; {before_kva:.0} kVA before correction; no diversity); give \"Max demand current (A)\" on the Study sheet (IEEE 519-2014 takes the average of the 12 monthly maximum demands)"
+                "I_L ESTIMATED from the {}: {i_l_a:.1} A at the PCC, the demand after correction ({after_kva:.0} kVA: {} at the better of the target PF {target_power_factor} and the loads' own; {before_kva:.0} kVA before correction; no diversity); give \"Max demand current (A)\" on the Study sheet (IEEE 519-2014 takes the average of the 12 monthly maximum demands)",
+                if *from_pcc {
+                    "PCC's draw"
+                } else {
+                    "Loads sheet"
+                },
+                if *from_pcc {
+                    "the P the PCC draws from the utility without banks, on-site generation netted out,"
+                } else {
+                    "the loads' P at the study point"
+                }
             ),
             Note::Collapse {
                 count,

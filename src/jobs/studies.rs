@@ -148,6 +148,21 @@ fn zero_projections(
     (distinct, map)
 }
 
+/// With on-site generation (a `Kind = generator` source), the active power the PCC draws
+/// from the utility without banks, kW, the largest over the scenarios; `None` without
+/// generation or without that operating point (I_L is then estimated from the loads).
+fn pcc_draw_kw(ctx: &Context<'_>, operating: &OperatingStudy) -> Option<f64> {
+    let generation =
+        (ctx.plant.sources.iter()).any(|s| s.kind == crate::model::SourceKind::Generator);
+    if !generation {
+        return None;
+    }
+    (operating.points.iter())
+        .filter(|p| p.configuration == "none")
+        .map(|p| p.pcc_p_kw)
+        .reduce(f64::max)
+}
+
 /// The PCC's short-circuit current Isc, kA, as IEEE 519-2014 takes it (the available
 /// short-circuit current at the PCC): the largest fault current over the scenarios from the
 /// fundamental Thevenin impedance of the sources, transformers and cables alone (loads,
@@ -308,13 +323,15 @@ fn study_notes(
         });
     }
     if limits.i_l_estimated {
+        let from_pcc = pcc_draw_kw(ctx, operating);
         let (_, before_kva, after_kva) =
-            estimated_demand_a(ctx.plant, ctx.network.buses[ctx.pcc].kv);
+            estimated_demand_a(ctx.plant, ctx.network.buses[ctx.pcc].kv, from_pcc);
         notes.push(Note::DemandEstimated {
             i_l_a: limits.i_l_a,
             before_kva,
             after_kva,
             target_power_factor: ctx.plant.study.target_power_factor,
+            from_pcc: from_pcc.is_some(),
         });
     }
     if let Some(first) = operating.collapsed.first() {
@@ -389,7 +406,13 @@ fn harmonics(
     } else {
         Injections::new(plant, network, &ctx.zero)
     };
-    let limits = LimitContext::new(plant, network, &injections, ctx.pcc, isc_ka);
+    let limits = LimitContext::new(
+        plant,
+        network,
+        &injections,
+        (ctx.pcc, pcc_draw_kw(ctx, operating)),
+        isc_ka,
+    );
     let thd_limits: Vec<f64> = limits.thd_limit.iter().map(|l| l.value).collect();
     let penetration = Penetration::run(
         plant,

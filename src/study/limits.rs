@@ -66,10 +66,12 @@ pub fn thd_limit(set: LimitSet, kv: f64) -> Limit {
 /// and the loads' own PF √(P² + Q²) (Q = Σ P·tan φ), over √3·kV of the PCC:
 /// I_L = P / (PF_after·√3·kV). IEEE 519-2014 (clause 3.1, "maximum demand load current")
 /// takes I_L at normal operation, which after correction is the corrected demand; diversity
-/// is ignored (an upper estimate of P). Returns (I_L A, kVA before, kVA after).
-pub fn estimated_demand_a(plant: &Plant, pcc_kv: f64) -> (f64, f64, f64) {
+/// is ignored (an upper estimate of P). With on-site generation (`pcc_p_kw` given) P is the
+/// active power the PCC draws from the utility instead, the generators' output netted out.
+/// Returns (I_L A, kVA before, kVA after).
+pub fn estimated_demand_a(plant: &Plant, pcc_kv: f64, pcc_p_kw: Option<f64>) -> (f64, f64, f64) {
     // `+ 0.0` turns the −0.0 of an empty sum into 0.
-    let p_kw: f64 = plant.loads.iter().map(|l| l.p_kw()).sum::<f64>() + 0.0;
+    let loads_kw: f64 = plant.loads.iter().map(|l| l.p_kw()).sum::<f64>() + 0.0;
     let q_kvar: f64 = plant
         .loads
         .iter()
@@ -81,12 +83,14 @@ pub fn estimated_demand_a(plant: &Plant, pcc_kv: f64) -> (f64, f64, f64) {
         })
         .sum::<f64>()
         + 0.0;
-    let before_kva = p_kw.hypot(q_kvar);
-    let own_pf = if before_kva > 0.0 {
-        p_kw / before_kva
+    let own_pf = if loads_kw.hypot(q_kvar) > 0.0 {
+        loads_kw / loads_kw.hypot(q_kvar)
     } else {
         1.0
     };
+    // With on-site generation the utility supplies the PCC's P, not the loads'.
+    let p_kw = pcc_p_kw.map_or(loads_kw, |p| p.max(0.0));
+    let before_kva = p_kw / own_pf;
     let pf_after = own_pf.max(plant.study.target_power_factor.clamp(0.01, 1.0));
     let after_kva = p_kw / pf_after;
     (after_kva / (3f64.sqrt() * pcc_kv), before_kva, after_kva)
@@ -95,12 +99,18 @@ pub fn estimated_demand_a(plant: &Plant, pcc_kv: f64) -> (f64, f64, f64) {
 impl LimitContext {
     /// The limits of `plant` at the network's buses for the injected orders; `isc_ka` is
     /// the maximum short-circuit current at the PCC over the scenarios.
-    pub fn new(plant: &Plant, net: &Network, inj: &Injections, pcc: usize, isc_ka: f64) -> Self {
+    pub fn new(
+        plant: &Plant,
+        net: &Network,
+        inj: &Injections,
+        (pcc, pcc_p_kw): (usize, Option<f64>),
+        isc_ka: f64,
+    ) -> Self {
         let set = plant.study.limits;
         let pcc_kv = net.buses[pcc].kv;
         let (i_l_a, i_l_estimated) = match plant.study.max_demand_current_a {
             Some(i) => (i, false),
-            None => (estimated_demand_a(plant, pcc_kv).0, true),
+            None => (estimated_demand_a(plant, pcc_kv, pcc_p_kw).0, true),
         };
         let isc_over_il = (i_l_a > 0.0).then(|| isc_ka * 1000.0 / i_l_a);
         let ratio_for_row = isc_over_il.unwrap_or(f64::INFINITY);

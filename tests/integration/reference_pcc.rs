@@ -434,3 +434,30 @@ fn the_new_columns_round_trip_through_the_workbook() {
     assert_eq!(read.plant.cables[0].r0_ohm_per_km, Some(0.9));
     assert_eq!(read.plant.cables[0].x0_ohm_per_km, Some(0.4));
 }
+
+#[test]
+fn estimated_demand_nets_out_on_site_generation() {
+    // No "Max demand current (A)": I_L is estimated after correction (IEEE 519-2014 clause 3:
+    // the maximum demand current at the PCC). With a generator at the PCC the utility
+    // supplies only the PCC's draw: I_L = P_pcc / (PF_after·√3·kV), P_pcc the flow through
+    // T1 without banks (the dense load flow above), PF_after the better of the target 0.95
+    // and the loads' own PF (by hand from the Loads sheet).
+    let res = run(&plant());
+    let (v, d) = load_flow(0);
+    let p_pcc_kw = (v[1] * (d.y_t1 * (v[0] - v[1])).conj()).re * S_BASE_MVA * 1000.0;
+    let (p, q) = (
+        2500.0 + 800.0,
+        2500.0 * 0.82f64.acos().tan() + 800.0 * 0.95f64.acos().tan(),
+    );
+    let pf_after = (p / f64::hypot(p, q)).max(0.95);
+    assert!(res.limits.i_l_estimated);
+    assert_close(
+        res.limits.i_l_a,
+        p_pcc_kw / pf_after / (3f64.sqrt() * 4.16),
+        1e-9,
+    );
+    assert!(
+        p_pcc_kw < p - 100.0,
+        "the generator carries part of the load"
+    );
+}

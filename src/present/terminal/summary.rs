@@ -341,7 +341,7 @@ pub fn write_limits(out: &mut dyn Write, res: &CheckResults) -> io::Result<()> {
             "Harmonic limits ({set}, {at}): I_L {:.1} A{}, Isc {:.2} kA, Isc/IL {}; {} harmonic load(s), {} injected order(s)",
             ctx.i_l_a,
             if ctx.i_l_estimated {
-                " (ESTIMATED from the loads after correction)"
+                " (ESTIMATED after correction, see the note)"
             } else {
                 ""
             },
