@@ -195,12 +195,7 @@ impl OperatingSolver {
         s: usize,
         steps: &[u32],
     ) -> Result<Vec<Complex64>, LoadFlowFailure> {
-        if self.base.get(s).is_none() {
-            return Err(LoadFlowFailure::NoConvergence);
-        }
-        let mut v = self.base[s].clone();
         let x: Vec<f64> = steps.iter().map(|&k| f64::from(k)).collect();
-        self.solve_into(s, &x, &mut v, &mut LoadFlowScratch::default())?;
-        Ok(v)
+        self.shift_free_voltages_at(s, &x)
     }
 }

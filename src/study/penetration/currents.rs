@@ -25,12 +25,7 @@ pub(super) fn phasor_currents(
     l: usize,
     out: &mut Vec<Complex64>,
 ) {
-    out.clear();
-    out.resize(l, Complex64::default());
-    for &(c, _, a) in &inp.loads {
-        let t = theta.get(c).copied().unwrap_or(0.0);
-        out[c] += a * Complex64::from_polar(1.0, order * t);
-    }
+    load_phasors(inp, order, theta, l, out);
     for &(c, i) in &inp.background {
         out[c] += i;
     }
