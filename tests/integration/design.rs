@@ -370,3 +370,31 @@ fn an_existing_bank_named_in_replaces_is_redesigned() {
         "{text}"
     );
 }
+
+#[test]
+fn when_only_another_bank_reaches_the_target_that_bank_is_designed_too() {
+    // The stiff bus above: the existing plain 300 kvar bank EX alone brings 400 kW at pf 0.8
+    // (Q = 300 kvar, textbook) to unity, so the controller never switches a designed step
+    // in. The search says so and designs EX too: its row now replaces EX, and a plan of the
+    // allowed sizes reaches the target by itself (Q = P·(tan φ₁ − tan φ₂) = 168.5 kvar at
+    // 0.95, IEEE Std 141-1993 chapter 8, from memory).
+    let mut p = stiff_bus(400.0, 0.8);
+    p.banks = vec![CapacitorBank {
+        status: BankStatus::Existing,
+        ..crate::common::bank("EX", "B", 0.48, 300.0, 1, Reactor::None)
+    }];
+    p.design = vec![row("B", &[50.0, 100.0], (1, 4), &[Reactor::None], &[0.48])];
+    let d = design(&p);
+    let i = d
+        .recommended
+        .expect("a plan passes once EX is designed too");
+    let first = d.notes.first().map(ToString::to_string).unwrap_or_default();
+    assert!(
+        first.contains("EX") && first.contains("designed too"),
+        "{first}"
+    );
+    let written = d.plant_with(i);
+    assert_eq!(written.banks.len(), 1, "the plan stands in for EX");
+    let kvar = f64::from(d.plans[i].plan.steps) * d.plans[i].plan.step_kvar;
+    assert!((168.5..=300.0).contains(&kvar), "{kvar} kvar");
+}

@@ -366,7 +366,7 @@ impl<'p> Search<'p> {
             target,
         );
         if self.rows.len() > 1 {
-            notes.push(Note::Design("Several design buses: each plan puts one bank at one of them, replacing the proposed bank on that bus only; the other banks stay as on the Capacitors sheet.".into()));
+            notes.push(Note::Design("Several design buses: each plan puts one bank at one of them, replacing the banks its row replaces (the proposed bank there by default); the other banks stay as on the Capacitors sheet (the buses are searched one at a time, not together).".into()));
         }
         if baselines
             .iter()
@@ -404,8 +404,107 @@ fn unreachable(
     out
 }
 
-/// Runs the design search on `plant` (its `Design` and `Load levels` rows).
+/// Runs the design search on `plant` (its `Design` and `Load levels` rows). When no plan
+/// passes and the controller never switches a row's plans in because other banks' steps
+/// alone reach the target, those banks are designed too: the search runs once more with a
+/// derived Design row replacing each of them, and says so.
 pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult, DesignError> {
+    let first = search_once(plant, options)?;
+    if first.recommended.is_some() {
+        return Ok(first);
+    }
+    let others = other_banks_used(&first);
+    if others.is_empty() {
+        return Ok(first);
+    }
+    let mut wider = plant.clone();
+    if wider.design.is_empty() {
+        // The rows the first search derived from the proposed banks, made explicit.
+        wider.design = Search::new(plant)?.rows;
+    }
+    for id in &others {
+        let Some(b) = plant.banks.iter().find(|b| &b.id == id) else {
+            continue;
+        };
+        match wider.design.iter_mut().find(|r| r.bus == b.bus) {
+            // One row per bus: that row's bank replaces this one too (and, as before, the
+            // proposed bank there).
+            Some(r) => {
+                if r.replaces.is_empty() {
+                    r.replaces = (plant.banks.iter())
+                        .filter(|x| x.bus == r.bus && x.status == BankStatus::Proposed)
+                        .map(|x| x.id.clone())
+                        .collect();
+                }
+                r.replaces.push(id.clone());
+            }
+            None => wider.design.push(derived_row(b)),
+        }
+    }
+    // The wider search answers only if it runs; else the first one's answer stands.
+    let Ok(mut second) = search_once(&wider, options) else {
+        return Ok(first);
+    };
+    second.plant = plant.clone();
+    second.notes.insert(
+        0,
+        Note::Design(format!(
+            "No plan at the design bus(es) is ever switched in: the other banks' steps alone reach the target ({}), so {} designed too (a derived Design row replacing each, steps of half, one and two times its own, 1 to 8 steps, the default detuning choices).",
+            others.join(", "),
+            if others.len() == 1 { "it is" } else { "they are" }
+        )),
+    );
+    Ok(second)
+}
+
+/// The banks (ids) other than the designed one that the controller switches in, over the
+/// plans whose failures include "never switches it in" (empty unless every plan of some
+/// row has that failure).
+fn other_banks_used(d: &DesignResult) -> Vec<String> {
+    let never = |p: &PlanResult| p.fails.iter().any(|f| f.contains("never switches it in"));
+    let mut out: Vec<String> = Vec::new();
+    for (r, base) in d.bases.iter().enumerate() {
+        let plans: Vec<&PlanResult> = d.plans.iter().filter(|p| p.row == r).collect();
+        if plans.is_empty() || !plans.iter().all(|p| never(p)) {
+            continue;
+        }
+        for p in plans {
+            for c in p.control.iter().flatten() {
+                for (b, &k) in c.steps.iter().enumerate().take(base.banks.len()) {
+                    let id = &base.banks[b].id;
+                    if k > 0 && !out.contains(id) {
+                        out.push(id.clone());
+                    }
+                }
+            }
+        }
+    }
+    // A bank some Design row already replaces is designed already.
+    out.retain(|id| !d.plant.design.iter().any(|r| r.replaces.contains(id)));
+    out
+}
+
+/// A Design row replacing bank `b`: its bus, steps of half, one and two times its step, 1
+/// to 8 steps (at least its own count), the default detuning choices and classes.
+fn derived_row(b: &CapacitorBank) -> DesignRow {
+    DesignRow {
+        bus: b.bus.clone(),
+        step_kvar: vec![b.step_kvar / 2.0, b.step_kvar, b.step_kvar * 2.0],
+        steps_min: DEFAULT_STEPS.0,
+        steps_max: DEFAULT_STEPS.1.max(b.steps),
+        reactors: DEFAULT_REACTORS.to_vec(),
+        rated_kv: Vec::new(),
+        capacitor_cost_per_kvar: Vec::new(),
+        reactor_cost_per_kvar: None,
+        step_cost: None,
+        leading_pf_limit: None,
+        replaces: vec![b.id.clone()],
+        cells: DesignCells::default(),
+    }
+}
+
+/// One design search over `plant`'s rows.
+fn search_once(plant: &Plant, options: &DesignOptions) -> Result<DesignResult, DesignError> {
     let search = Search::new(plant)?;
     let rows = &search.rows;
     let mut counts = Counts {
