@@ -242,3 +242,15 @@ pub fn service(
     p.transformers = vec![transformer("T", hv.0, lv.0, kva, z_percent, t_x_over_r)];
     p
 }
+
+/// `check` without remedies (the studies alone).
+pub fn check_only(p: &Plant) -> overtone::jobs::check::CheckResults {
+    overtone::jobs::check::run_check(
+        p,
+        &overtone::jobs::check::CheckOptions {
+            remedies: Some(false),
+            ..Default::default()
+        },
+    )
+    .expect("runs")
+}

@@ -3,20 +3,13 @@
 //! for the voltage rise of a capacitor step, and the duty at the solved voltage by hand.
 
 use num_complex::Complex64;
-use overtone::jobs::check::{CheckOptions, CheckResults, run_check};
+use overtone::jobs::check::CheckResults;
 use overtone::model::*;
 
 use crate::common::{assert_close, bank, bus, load, source, textbook_plant};
 
 fn run(p: &Plant) -> CheckResults {
-    run_check(
-        p,
-        &CheckOptions {
-            remedies: Some(false),
-            ..Default::default()
-        },
-    )
-    .expect("runs")
+    crate::common::check_only(p)
 }
 
 /// A cable of R, X ohm over 1 km (no charging).

@@ -6,7 +6,7 @@
 
 use nalgebra::{DMatrix, DVector};
 use num_complex::Complex64;
-use overtone::jobs::check::{CheckOptions, CheckResults, run_check};
+use overtone::jobs::check::CheckResults;
 use overtone::model::*;
 
 use crate::common::{
@@ -43,14 +43,7 @@ fn plant() -> Plant {
 }
 
 fn run(p: &Plant) -> CheckResults {
-    run_check(
-        p,
-        &CheckOptions {
-            remedies: Some(false),
-            ..Default::default()
-        },
-    )
-    .expect("runs")
+    crate::common::check_only(p)
 }
 
 /// Per-unit series impedance R + jhX of |Z| = z at X/R (constant R).

@@ -30,20 +30,7 @@ fn design_rows(plant: &Plant) -> Result<(Vec<DesignRow>, bool), DesignError> {
         if rows.iter().any(|r| r.bus == b.bus) {
             continue;
         }
-        rows.push(DesignRow {
-            bus: b.bus.clone(),
-            step_kvar: vec![b.step_kvar / 2.0, b.step_kvar, b.step_kvar * 2.0],
-            steps_min: DEFAULT_STEPS.0,
-            steps_max: DEFAULT_STEPS.1,
-            reactors: DEFAULT_REACTORS.to_vec(),
-            rated_kv: Vec::new(),
-            capacitor_cost_per_kvar: Vec::new(),
-            reactor_cost_per_kvar: None,
-            step_cost: None,
-            leading_pf_limit: None,
-            replaces: Vec::new(),
-            cells: DesignCells::default(),
-        });
+        rows.push(row_for(b, DEFAULT_STEPS.1, Vec::new()));
     }
     if rows.is_empty() {
         return Err(DesignError::Sheet(
@@ -438,7 +425,9 @@ pub fn run_design(plant: &Plant, options: &DesignOptions) -> Result<DesignResult
                 }
                 r.replaces.push(id.clone());
             }
-            None => wider.design.push(derived_row(b)),
+            None => wider
+                .design
+                .push(row_for(b, DEFAULT_STEPS.1.max(b.steps), vec![b.id.clone()])),
         }
     }
     // The wider search answers only if it runs; else the first one's answer stands.
@@ -484,21 +473,21 @@ fn other_banks_used(d: &DesignResult) -> Vec<String> {
     out
 }
 
-/// A Design row replacing bank `b`: its bus, steps of half, one and two times its step, 1
-/// to 8 steps (at least its own count), the default detuning choices and classes.
-fn derived_row(b: &CapacitorBank) -> DesignRow {
+/// A derived Design row at bank `b`'s bus: steps of half, one and two times its step, 1 to
+/// `steps_max` steps, the default detuning choices and classes, replacing `replaces`.
+fn row_for(b: &CapacitorBank, steps_max: u32, replaces: Vec<String>) -> DesignRow {
     DesignRow {
         bus: b.bus.clone(),
         step_kvar: vec![b.step_kvar / 2.0, b.step_kvar, b.step_kvar * 2.0],
         steps_min: DEFAULT_STEPS.0,
-        steps_max: DEFAULT_STEPS.1.max(b.steps),
+        steps_max,
         reactors: DEFAULT_REACTORS.to_vec(),
         rated_kv: Vec::new(),
         capacitor_cost_per_kvar: Vec::new(),
         reactor_cost_per_kvar: None,
         step_cost: None,
         leading_pf_limit: None,
-        replaces: vec![b.id.clone()],
+        replaces,
         cells: DesignCells::default(),
     }
 }
