@@ -106,3 +106,29 @@ fn whole_check_phasor(bencher: divan::Bencher, n: usize) {
             .len()
     });
 }
+
+/// Issue 28's heavy shape: the 300-bus converter plant with every load scaled to 92 MW in
+/// all, its transformers and the supply scaled with it (so the plant stays sized for its
+/// load), 2,401 configurations × 2 scenarios, the whole check with the switching simulation.
+#[divan::bench(sample_count = 3, sample_size = 1)]
+fn heavy_92_mw_whole_check(bencher: divan::Bencher) {
+    let mut p = plant(300);
+    let total: f64 = p.loads.iter().map(|l| l.p_kw()).sum();
+    let f = 92_000.0 / total;
+    for l in &mut p.loads {
+        l.kw *= f;
+    }
+    for t in &mut p.transformers {
+        t.kva *= f;
+    }
+    for s in &mut p.sources {
+        if let overtone::model::ShortCircuit::Mva(m) = &mut s.short_circuit {
+            *m *= f;
+        }
+    }
+    bencher.bench_local(|| {
+        let res = run_check(&p, &options(true, Evaluation::Auto)).expect("runs");
+        assert!(res.operating.collapsed.is_empty(), "sized for its load");
+        res.limit_rows.len()
+    });
+}
