@@ -16,6 +16,11 @@ pub fn outcome(res: &CheckResults, bank: &str, labels: &[String]) -> Outcome {
     outcome_of(res, &|b| b == bank, labels)
 }
 
+/// The outcome of the banks `ids` together over the configurations labelled `labels`.
+pub fn banks_outcome(res: &CheckResults, ids: &[&str], labels: &[String]) -> Outcome {
+    outcome_of(res, &|b| ids.contains(&b), labels)
+}
+
 /// The whole plant's outcome over the configurations labelled `labels`: every bank's
 /// resonance, tolerance and duty rows, and the limits.
 pub fn plant_outcome(res: &CheckResults, labels: &[String]) -> Outcome {

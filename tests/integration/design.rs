@@ -398,3 +398,110 @@ fn when_only_another_bank_reaches_the_target_that_bank_is_designed_too() {
     let kvar = f64::from(d.plans[i].plan.steps) * d.plans[i].plan.step_kvar;
     assert!((168.5..=300.0).contains(&kvar), "{kvar} kvar");
 }
+
+#[test]
+fn several_design_buses_split_the_textbook_kvar_between_them() {
+    // Two 480 V buses a metre apart on a stiff source, 400 kW at pf 0.80 on each: from 0.80
+    // to 0.95 the plant needs Q = P(tan φ1 − tan φ2) = 800 × (0.75 − 0.328684) = 337.05
+    // kvar (IEEE Std 141-1993, chapter 8, from memory). Each bus allows at most 4 × 50 kvar,
+    // so no plan at one bus reaches it: only a bank at both does, and the controller,
+    // rotating between them, switches in the first multiple of 50 at or above it, 7 steps:
+    // 4 at A (first in the rotation) and 3 at B.
+    let mut p = Plant::new(60.0);
+    p.buses = vec![bus("A", 0.48), bus("B", 0.48)];
+    p.sources = vec![source("U", "A", 10_000.0, 10.0)];
+    p.cables = vec![crate::common::cable("K", "A", "B", 1.0)];
+    p.loads = vec![
+        load("LA", "A", LoadType::Linear, 400.0, 0.80),
+        load("LB", "B", LoadType::Linear, 400.0, 0.80),
+    ];
+    p.load_levels = full_only();
+    p.design = vec![
+        row("A", &[50.0], (1, 4), &[Reactor::None], &[0.48]),
+        row("B", &[50.0], (1, 4), &[Reactor::None], &[0.48]),
+    ];
+    let d = design(&p);
+    let r = recommended(&d);
+    assert_eq!(r.also.len(), 1, "a bank at both buses: {}", r.plan.label());
+    let steps: Vec<(String, u32)> = r
+        .banks()
+        .map(|(pl, _)| (pl.bus.clone(), pl.steps))
+        .collect();
+    assert_eq!(steps, vec![("A".to_string(), 4), ("B".to_string(), 3)]);
+    let textbook = 800.0 * ((0.8f64.acos()).tan() - (0.95f64.acos()).tan());
+    assert!((textbook - 337.05).abs() < 0.01, "{textbook}");
+    assert!(r.effective_kvar >= textbook && r.effective_kvar - 50.0 < textbook);
+    assert_eq!(r.control[0][0].steps, vec![4, 3]);
+    // Every plan at one bus misses the target, and says so.
+    for q in d.plans.iter().filter(|q| q.also.is_empty()) {
+        assert!(
+            q.fails.iter().any(|f| f.starts_with("PF ")),
+            "{}: {:?}",
+            q.plan.label(),
+            q.fails
+        );
+    }
+}
+
+/// The two switchboards of `two_bank_modes` loaded with converters on both: SWB1 with an
+/// existing plain 300 kvar bank, 400 kW linear and a 600 kW six-pulse drive; SWB2 with the
+/// proposed plain 6 × 100 kvar bank, 300 kW linear and a 200 kW drive (invented).
+fn two_loaded_switchboards() -> Plant {
+    let mut p = crate::two_bank_modes::two_switchboards();
+    p.banks[0] = CapacitorBank {
+        status: BankStatus::Existing,
+        ..crate::common::bank("CAP-EX", "SWB1", 0.48, 300.0, 1, Reactor::None)
+    };
+    p.loads = vec![
+        load("L1", "SWB1", LoadType::Linear, 400.0, 0.85),
+        load("VFD1", "SWB1", LoadType::SixPulseDrive, 600.0, 0.95),
+        load("L2", "SWB2", LoadType::Linear, 300.0, 0.85),
+        load("VFD", "SWB2", LoadType::SixPulseDrive, 200.0, 0.95),
+    ];
+    p
+}
+
+#[test]
+fn only_a_plan_at_both_switchboards_passes_and_check_agrees() {
+    // One bus at a time nothing passes: at SWB2 the existing plain bank stays and the
+    // controller reaches its resonant states; at SWB1 the proposed plain bank stays. The
+    // design bus rows name the banks they replace, so a plan at both replaces both.
+    let mut p = two_loaded_switchboards();
+    let sizes = [50.0, 100.0];
+    let reactors = [Reactor::None, Reactor::Detuning { percent: 7.0 }];
+    p.design = vec![
+        row("SWB1", &sizes, (1, 6), &reactors, &[0.525]),
+        row("SWB2", &sizes, (1, 6), &reactors, &[0.525]),
+    ];
+    p.design[0].replaces = vec!["CAP-EX".into()];
+    p.design[1].replaces = vec!["CAP-A".into()];
+    let d = design(&p);
+    for q in d.plans.iter().filter(|q| q.also.is_empty()) {
+        assert!(
+            !q.passes(),
+            "{} at {} passes alone",
+            q.plan.label(),
+            q.plan.bus
+        );
+    }
+    let i = d.recommended.expect("a plan at both switchboards passes");
+    let r = &d.plans[i];
+    assert_eq!(r.also.len(), 1);
+    assert_eq!(r.plan.reactor, Reactor::Detuning { percent: 7.0 });
+    // The controller switches both banks in at some level.
+    for b in 0..2 {
+        let used = (r.control.iter().flatten()).any(|c| c.steps[c.steps.len() - 2 + b] > 0);
+        assert!(used, "bank {b} never switched in: {:?}", r.control);
+    }
+    // `check` on the written plant: both banks clear in every configuration and across the
+    // tolerance band, and their duty within limits.
+    let written = d.plant_with(i);
+    assert_eq!(written.banks.len(), 2, "both banks replaced");
+    let res = run_check(&written, &CheckOptions::default()).expect("check runs");
+    assert!(!res.resonance.rows.is_empty());
+    for row in &res.resonance.rows {
+        assert_ne!(row.verdict, overtone::study::Verdict::Resonant, "{row:?}");
+    }
+    assert!(res.tolerance.iter().all(|t| !t.flagged));
+    assert!(res.duty.iter().all(|d| !d.exceeds));
+}

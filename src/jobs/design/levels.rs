@@ -2,8 +2,9 @@
 //!
 //! A level scales the loads' load factors (the `Load levels` sheet, or full and light load
 //! by default). At each level and supply scenario a controller picks the step counts:
-//! banks in order (the plant's other banks first, the designed bank last), each adding
-//! steps from its fewest studied count while the PCC power factor is below the target and
+//! banks in order (the plant's other banks first, the designed bank last; several banks
+//! designed together share their steps in rotation), each adding steps from its fewest
+//! studied count while the PCC power factor is below the target and
 //! the next step would not leave it leading beyond the limit (common practice: a PF
 //! controller switches a step in while the PF is below its setting and blocks a step that
 //! would lead). The power factor is the operating point's, solved by the load flow of
@@ -105,14 +106,17 @@ impl Control {
     }
 }
 
-/// The PF controller over `allowed[b]` (ascending step counts of bank b, in controller
-/// order `order`) at scenario `s` of `study` (built on `net`).
+/// The PF controller over `allowed[b]` (ascending step counts of bank b) at scenario `s` of
+/// `study` (built on `net`). `groups` is the controller order: group after group; the banks
+/// of one group take one step each in rotation (a bank whose next step would lead beyond the
+/// limit, or that has none left, drops out of the rotation), so a group of several banks
+/// shares its steps among them (common practice: a controller rotating its outputs).
 pub fn control(
     study: &OperatingSolver,
     net: &Network,
     s: usize,
     allowed: &[Vec<u32>],
-    order: &[usize],
+    groups: &[Vec<usize>],
     target: f64,
     leading_limit: f64,
 ) -> Control {
@@ -134,26 +138,33 @@ pub fn control(
         .map(|a| a.first().copied().unwrap_or(0))
         .collect();
     let mut now = eval(&steps);
-    for &b in order {
-        if now.is_some_and(|(p, q)| reaches(p, q)) {
-            break;
+    // Index into `allowed[b]` of each bank's present count.
+    let mut at: Vec<usize> = vec![0; allowed.len()];
+    for group in groups {
+        let mut rotating: Vec<usize> = group.clone();
+        while !rotating.is_empty() && !now.is_some_and(|(p, q)| reaches(p, q)) {
+            rotating.retain(|&b| {
+                if now.is_some_and(|(p, q)| reaches(p, q)) {
+                    return true;
+                }
+                let Some(&k) = allowed[b].get(at[b] + 1) else {
+                    return false;
+                };
+                let before = steps[b];
+                steps[b] = k;
+                match eval(&steps) {
+                    Some((p, q)) if acceptable(p, q) => {
+                        at[b] += 1;
+                        now = Some((p, q));
+                        true
+                    }
+                    _ => {
+                        steps[b] = before;
+                        false
+                    }
+                }
+            });
         }
-        let mut chosen = steps[b];
-        let mut chosen_pq = now;
-        for &k in allowed[b].iter().skip(1) {
-            steps[b] = k;
-            let Some((p, q)) = eval(&steps) else { break };
-            if !acceptable(p, q) {
-                break;
-            }
-            chosen = k;
-            chosen_pq = Some((p, q));
-            if reaches(p, q) {
-                break;
-            }
-        }
-        steps[b] = chosen;
-        now = chosen_pq;
     }
     let (p_kw, q_kvar) = now.unwrap_or((f64::NAN, f64::NAN));
     Control {

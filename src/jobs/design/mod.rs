@@ -2,17 +2,20 @@
 //! factor and stay clear of resonance, each checked exhaustively.
 //!
 //! 1. **Plans.** Per design bus: step size × detuning × capacitor voltage class (a family),
-//!    × step count within the allowed range; equal steps.
+//!    × step count within the allowed range; equal steps. With several design buses also
+//!    every kit of one family per bus with one detuning choice ([`kits::joint_kits`]): a
+//!    bank at every design bus together, the kvar split across the buses.
 //! 2. **Step count, pruned by the power factor (provably safe).** At each load level and
 //!    scenario the controller of [`levels::control`] uses the fewest steps that reach the
-//!    target. A family's count is the most steps the controller uses at any level with the
-//!    largest count allowed: a count above it is never switched in (same power factor at
-//!    every level, a higher cost, and more configurations, so no larger resonance margin:
-//!    dominated), and a count below it misses the target at the level that needed it.
+//!    target (banks designed together take one step each in rotation). Each bank's count is
+//!    the most steps the controller uses of it at any level with the largest counts allowed:
+//!    a count above it is never switched in (the same choices at every level, a higher cost,
+//!    and more configurations, so no larger resonance margin: dominated), and a count below
+//!    it misses the target at the level that needed it.
 //! 3. **Scan (exact).** Each remaining plan is scanned by the combination engine over every
-//!    configuration: its step counts 0..N × every studied configuration of the other banks
-//!    × every scenario, across the capacitance tolerance band; a plan whose bank resonates
-//!    near a characteristic order stops there.
+//!    configuration: its banks' step counts 0..N × every studied configuration of the other
+//!    banks × every scenario, across the capacitance tolerance band; a plan whose bank
+//!    resonates near a characteristic order stops there.
 //! 4. **Check (exact).** Survivors run every study of `check` (the same code): duty at the
 //!    solved voltage, harmonic limits at the PCC against the plant without the bank, the
 //!    step voltage change.
@@ -21,6 +24,7 @@
 //! differs from the scan by up to 12.5 % (loads and motors), more than the 10 % margin, so
 //! it could discard a plan that passes. The scan-only pass in 3 is exact and cheap.
 
+mod kits;
 pub mod levels;
 mod outcome;
 pub mod plans;
@@ -97,13 +101,49 @@ pub struct PlanResult {
     /// On the Pareto set of the passing plans (cost, margin, PF).
     pub pareto: bool,
     pub rank: usize,
-    /// Index of the design row (bus) of the plan.
+    /// Index into [`DesignResult::bases`] of the plant the plan joins: its design row's, or
+    /// for a plan at every design bus together the last (every row's replaced banks gone).
     pub row: usize,
+    /// The plan's banks at the other design buses, when it puts a bank at every design bus
+    /// together (empty for a plan at one bus; `plan` and `bank` are then the first row's).
+    pub also: Vec<Part>,
+}
+
+/// A plan's bank at one more design bus (a plan at several buses together).
+#[derive(Debug, Clone, Serialize)]
+pub struct Part {
+    pub plan: Plan,
+    pub bank: CapacitorBank,
+    /// Index of its design row.
+    pub row: usize,
+    /// Output of every step at the bus's nominal voltage, kvar.
+    pub effective_kvar: f64,
 }
 
 impl PlanResult {
     pub fn passes(&self) -> bool {
         self.fails.is_empty()
+    }
+
+    /// Every bank of the plan with its plan: the first design bus's, then the others'.
+    pub fn banks(&self) -> impl Iterator<Item = (&Plan, &CapacitorBank)> {
+        std::iter::once((&self.plan, &self.bank))
+            .chain(self.also.iter().map(|a| (&a.plan, &a.bank)))
+    }
+
+    /// `f` of each of the plan's banks, joined by ` + ` (one term for a plan at one bus).
+    pub fn joined(&self, f: impl Fn(&Plan, &CapacitorBank) -> String) -> String {
+        self.banks()
+            .map(|(p, b)| f(p, b))
+            .collect::<Vec<_>>()
+            .join(" + ")
+    }
+
+    /// The steps of the plan's banks that the controller switches in at `c` (the designed
+    /// banks are the last in `c.steps`).
+    pub fn steps_in(&self, c: &Control) -> u32 {
+        let k = 1 + self.also.len();
+        c.steps.iter().rev().take(k).sum()
     }
 }
 
@@ -136,7 +176,8 @@ pub struct Counts {
 #[derive(Debug, Clone)]
 pub struct DesignResult {
     pub plant: Plant,
-    /// Per design row, the plant its plans join (the proposed bank on its bus removed).
+    /// Per design row, the plant its plans join (the banks the row replaces removed), and
+    /// with several rows one more: the plant the plans at every design bus join.
     pub bases: Vec<Plant>,
     pub levels: Vec<(String, f64)>,
     pub scenarios: Vec<String>,
@@ -146,7 +187,7 @@ pub struct DesignResult {
     /// Index into `plans` of the recommended plan (`None`: no plan passes every check).
     pub recommended: Option<usize>,
     pub reason: String,
-    /// Per design row, the plant without the bank.
+    /// Per plant of `bases`, the plant without the designed bank(s).
     pub baselines: Vec<Baseline>,
     pub counts: Counts,
     /// Levels × scenarios at which no allowed plan reaches the target (waived there).
@@ -172,7 +213,8 @@ impl DesignResult {
     /// The plant with plan `i` in place: what `--write-plant` writes and `check` reruns.
     pub fn plant_with(&self, i: usize) -> Plant {
         let mut p = self.bases[self.plans[i].row].clone();
-        p.banks.push(self.plans[i].bank.clone());
+        p.banks
+            .extend(self.plans[i].banks().map(|(_, b)| b.clone()));
         p.design = self.plant.design.clone();
         p.load_levels = self.plant.load_levels.clone();
         p

@@ -3,7 +3,7 @@
 //! assumptions the design states.
 
 use super::levels::{self, Control, Level, lowest_pf};
-use super::{Baseline, Plan, PlanResult};
+use super::{Baseline, Part, PlanResult};
 use crate::jobs::check::CheckResults;
 use crate::jobs::notes::Note;
 use crate::model::*;
@@ -15,15 +15,14 @@ pub(super) fn margin(p: &PlanResult) -> f64 {
     p.outcome.margin_percent.unwrap_or(100.0)
 }
 
-/// Every figure and failure of one plan from its check results.
+/// Every figure and failure of one plan from its check results. `parts` are the plan's
+/// banks, first design row first; they are the last banks of `res.plant`.
 // Long: one plan's every figure, gathered from its check results into one struct.
 #[allow(clippy::too_many_arguments)]
 pub(super) fn evaluate(
     res: &CheckResults,
-    plan: &Plan,
-    bank: CapacitorBank,
+    mut parts: Vec<Part>,
     cost: f64,
-    bus_kv: f64,
     control: Vec<Vec<Control>>,
     levels: &[Level],
     reachable: &[Vec<bool>],
@@ -32,14 +31,16 @@ pub(super) fn evaluate(
     scan_only: bool,
     row: usize,
 ) -> PlanResult {
-    let labels = res.energized_labels(res.plant.banks.len() - 1);
-    let outcome = crate::jobs::remedies::outcome(res, &bank.id, &labels);
+    let ids: Vec<&str> = parts.iter().map(|p| p.bank.id.as_str()).collect();
+    let first = res.plant.banks.len().saturating_sub(parts.len());
+    let labels: Vec<String> = (res.scan.configurations.iter())
+        .filter(|c| c.steps.iter().skip(first).any(|&k| k > 0))
+        .map(|c| c.label(&res.plant.banks))
+        .collect();
+    let outcome = crate::jobs::remedies::banks_outcome(res, &ids, &labels);
     let has = |c: &str| labels.iter().any(|l| l == c);
-    let mine: Vec<&crate::study::ResonanceRow> = res
-        .resonance
-        .rows
-        .iter()
-        .filter(|r| r.bank == bank.id)
+    let mine: Vec<&crate::study::ResonanceRow> = (res.resonance.rows.iter())
+        .filter(|r| ids.contains(&r.bank.as_str()))
         .collect();
     let peaks: Vec<f64> = mine
         .iter()
@@ -53,14 +54,11 @@ pub(super) fn evaluate(
     });
     let hand_order = mine
         .iter()
-        .filter(|r| r.steps == bank.steps)
+        .filter(|r| (parts.iter()).any(|p| p.bank.id == r.bank && p.bank.steps == r.steps))
         .map(|r| r.hand_order)
         .fold(None, |m: Option<f64>, v| Some(m.map_or(v, |m| m.min(v))));
-    let steps: Vec<&crate::study::operating::StepChange> = res
-        .operating
-        .step_changes
-        .iter()
-        .filter(|s| s.bank == bank.id)
+    let steps: Vec<&crate::study::operating::StepChange> = (res.operating.step_changes.iter())
+        .filter(|s| ids.contains(&s.bank.as_str()))
         .collect();
     let rows: Vec<&crate::study::limits::LimitRow> = res
         .limit_rows
@@ -79,12 +77,13 @@ pub(super) fn evaluate(
         baseline,
         (pcc_thd_percent, tdd_percent),
     ));
-    fails.extend(controller_fails(res, &control, levels));
+    fails.extend(controller_fails(res, &control, levels, parts.len()));
     let (pf_weighted, pf_lowest) = pf_over_levels(&control, levels);
+    let main = parts.remove(0);
     PlanResult {
-        effective_kvar: f64::from(plan.steps) * plan.effective_step_kvar(bus_kv),
-        plan: plan.clone(),
-        bank,
+        effective_kvar: main.effective_kvar + parts.iter().map(|p| p.effective_kvar).sum::<f64>(),
+        plan: main.plan,
+        bank: main.bank,
         cost,
         control,
         pf_weighted,
@@ -101,30 +100,43 @@ pub(super) fn evaluate(
         pareto: false,
         rank: 0,
         row,
+        also: parts,
     }
 }
 
-/// What the plan's controller does that the plant cannot accept: a designed bank (the last)
-/// it never switches in at any level and scenario (the target is then reached, if at all,
-/// by the other banks alone), and a state it reaches where another bank is RESONANT (the
-/// designed bank's own resonance is judged over every configuration already).
-fn controller_fails(res: &CheckResults, control: &[Vec<Control>], levels: &[Level]) -> Vec<String> {
+/// What the plan's controller does that the plant cannot accept: a designed bank (the last
+/// `designed` banks) it never switches in at any level and scenario (the target is then
+/// reached, if at all, by the other banks alone), and a state it reaches where another bank
+/// is RESONANT (the designed banks' own resonance is judged over every configuration
+/// already).
+fn controller_fails(
+    res: &CheckResults,
+    control: &[Vec<Control>],
+    levels: &[Level],
+    designed: usize,
+) -> Vec<String> {
     let mut fails = Vec::new();
-    let designed = res.plant.banks.len().saturating_sub(1);
-    let used = control
-        .iter()
-        .flatten()
-        .any(|c| c.steps.get(designed).is_some_and(|&k| k > 0));
-    if !used && !control.is_empty() {
+    let first = res.plant.banks.len().saturating_sub(designed);
+    let ids: Vec<&str> = (res.plant.banks[first..].iter())
+        .map(|b| b.id.as_str())
+        .collect();
+    for (i, id) in ids.iter().enumerate() {
+        let used =
+            (control.iter().flatten()).any(|c| c.steps.get(first + i).is_some_and(|&k| k > 0));
+        if used || control.is_empty() {
+            continue;
+        }
         let others = control
             .iter()
             .flatten()
             .any(|c| c.reaches && c.steps.iter().any(|&k| k > 0));
-        fails.push(if others {
-            "the controller never switches it in: only the other banks' steps reach the target"
-                .to_string()
-        } else {
-            "the controller never switches it in at any level".to_string()
+        fails.push(match (designed, others) {
+            (1, true) => {
+                "the controller never switches it in: only the other banks' steps reach the target"
+                    .to_string()
+            }
+            (1, false) => "the controller never switches it in at any level".to_string(),
+            _ => format!("the controller never switches {id} in at any level"),
         });
     }
     let mut seen: Vec<(usize, Vec<u32>)> = Vec::new();
@@ -144,7 +156,7 @@ fn controller_fails(res: &CheckResults, control: &[Vec<Control>], levels: &[Leve
                     &r.scenario == scenario
                         && r.configuration == label
                         && r.verdict == Verdict::Resonant
-                        && r.bank != res.plant.banks[designed].id
+                        && !ids.contains(&r.bank.as_str())
                 })
                 .map(|r| r.bank.as_str())
                 .collect();
@@ -312,6 +324,7 @@ pub(super) fn rank(plans: &mut [PlanResult]) {
                     .unwrap_or(0.0)
                     .total_cmp(&a.pf_weighted.unwrap_or(0.0)),
             )
+            .then(a.also.len().cmp(&b.also.len()))
             .then(a.plan.bus.cmp(&b.plan.bus))
             .then(a.plan.step_kvar.total_cmp(&b.plan.step_kvar))
             .then(a.plan.rated_kv.total_cmp(&b.plan.rated_kv))
@@ -337,10 +350,8 @@ pub(super) fn reason(plans: &[PlanResult], recommended: Option<usize>) -> String
         .max_by(|a, b| margin(a).total_cmp(&margin(b)))
     {
         s.push_str(&format!(
-            " For more margin to the nearest characteristic order, {} at {} ({}) costs {:.0} % more for {:.1} % margin against {:.1} %.",
-            wider.plan.label(),
-            wider.plan.bus,
-            wider.bank.id,
+            " For more margin to the nearest characteristic order, {} costs {:.0} % more for {:.1} % margin against {:.1} %.",
+            wider.joined(|p, b| format!("{} at {} ({})", p.label(), p.bus, b.id)),
             (wider.cost / r.cost - 1.0) * 100.0,
             margin(wider),
             margin(r)
@@ -359,10 +370,10 @@ pub(super) fn notes(
 ) -> Vec<Note> {
     let mut out: Vec<String> = vec![
         format!(
-            "Controller (common practice): at each load level and scenario the plant's other banks switch first, then the designed bank; each adds steps while the PCC power factor is below the target {target} and blocks a step that would leave it leading beyond the leading limit."
+            "Controller (common practice): at each load level and scenario the plant's other banks switch first, then the designed bank (banks designed together at several buses take one step each in rotation); each adds steps while the PCC power factor is below the target {target} and blocks a step that would leave it leading beyond the leading limit."
         ),
-        "Equal steps only; one bank per plan, at one of the design buses. The step count of a plan is the most steps the controller uses at any level: more steps are never switched in (dominated), fewer miss the target.".into(),
-        "Harmonic checks (resonance, tolerance band, duty, limits, step voltage change) run at the Loads sheet's study point over every step count of the bank × every studied configuration of the other banks × every scenario, as `check` does.".into(),
+        "Equal steps within a bank. The step count of each bank of a plan is the most steps the controller uses at any level: more steps are never switched in (dominated: the same choices at every level, a higher cost), fewer miss the target.".into(),
+        "Harmonic checks (resonance, tolerance band, duty, limits, step voltage change) run at the Loads sheet's study point over every step count of the designed bank(s) × every studied configuration of the other banks × every scenario, as `check` does.".into(),
     ];
     if levels.iter().any(|l| l.name == "full")
         && levels.iter().any(|l| l.name == "light")

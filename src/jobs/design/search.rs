@@ -5,15 +5,14 @@
 
 use rayon::prelude::*;
 
+use super::kits::{self, Kit};
 use super::levels::{self, Control, Level};
 use super::outcome::{evaluate, notes, rank, reason};
 use super::plans::{self, Family, Plan};
 use super::*;
 use crate::jobs::check::{CheckError, CheckOptions, run_check};
 use crate::jobs::notes::Note;
-use crate::network::Network;
 use crate::study::Verdict;
-use crate::study::operating::OperatingSolver;
 
 /// The design rows: the `Design` sheet's, or one per proposed bank (its bus, steps of half,
 /// one and two times its step, 1 to 8 steps, the default detuning choices and classes).
@@ -52,67 +51,22 @@ fn check_options(options: &DesignOptions, scan_only: bool) -> CheckOptions {
     }
 }
 
-/// The controller's choices per level and scenario for a plant whose banks are `banks`,
-/// with `designed` (index of the designed bank, last in controller order) allowed `0..=max`.
-fn controls(
-    levels: &[Level],
-    bank: Option<&CapacitorBank>,
-    max: u32,
-    leading_limit: f64,
-) -> Result<Vec<Vec<Control>>, DesignError> {
-    let mut out = Vec::new();
-    for level in levels {
-        let mut plant = level.plant.clone();
-        if let Some(b) = bank {
-            let mut b = b.clone();
-            b.steps = max;
-            b.studied_steps = (0..=max).collect();
-            plant.banks.push(b);
-        }
-        let net = Network::build(&plant).map_err(CheckError::from)?;
-        let study = OperatingSolver::new(&net);
-        let allowed: Vec<Vec<u32>> = plant
-            .banks
-            .iter()
-            .map(|b| b.studied_steps.clone())
-            .collect();
-        let order: Vec<usize> = (0..plant.banks.len()).collect();
-        out.push(
-            (0..net.scenarios.len())
-                .map(|s| {
-                    levels::control(
-                        &study,
-                        &net,
-                        s,
-                        &allowed,
-                        &order,
-                        plant.study.target_power_factor,
-                        leading_limit,
-                    )
-                })
-                .collect(),
-        );
-    }
-    Ok(out)
+/// A kit's plans at their bounded step counts (one per bank, in the kit's order), with the
+/// controller's choices at the largest counts and at those counts (`[level][scenario]`).
+type Bounded = (Vec<Plan>, Vec<Vec<Control>>, Vec<Vec<Control>>);
+
+/// One plan to scan: its kit, its banks' plans, the controller's choices.
+struct Candidate {
+    kit: usize,
+    plans: Vec<Plan>,
+    control: Vec<Vec<Control>>,
 }
 
-fn designed_steps(control: &[Vec<Control>]) -> u32 {
-    control
-        .iter()
-        .flatten()
-        .map(|c| c.steps.last().copied().unwrap_or(0))
-        .max()
-        .unwrap_or(0)
-}
-
-/// A family's plan at its bounded step count, with the controller's choices at the largest
-/// count and at that count (`[level][scenario]`).
-type Bounded = (Plan, Vec<Vec<Control>>, Vec<Vec<Control>>);
-
-/// What the search holds for its design rows: the plant each row's plans join (the proposed
-/// bank on that row's bus is what is designed; every other bank stays as on the Capacitors
-/// sheet), the proposed bank a plan replaces, the designed bank's id, the load levels of
-/// each row's plant and every family of plans.
+/// What the search holds for its design rows: the plant each row's plans join (the banks
+/// the row replaces removed; every other bank stays as on the Capacitors sheet) and, with
+/// several rows, the plant the plans at every row together join (every row's replaced banks
+/// removed); the bank a row's plan stands in for, the designed bank's id per row, the load
+/// levels of each plant, every family of plans and the kits tried.
 struct Search<'p> {
     plant: &'p Plant,
     rows: Vec<DesignRow>,
@@ -122,6 +76,8 @@ struct Search<'p> {
     bank_ids: Vec<String>,
     row_levels: Vec<Vec<Level>>,
     families: Vec<Family>,
+    kits: Vec<Kit>,
+    joint_note: Option<String>,
 }
 
 impl<'p> Search<'p> {
@@ -137,38 +93,32 @@ impl<'p> Search<'p> {
         }
         let (rows, derived) = design_rows(plant)?;
         // The banks a row's plan replaces: those it names, else the proposed bank there.
-        let proposed_on = |b: &CapacitorBank, r: &DesignRow| {
+        let replaced_by = |b: &CapacitorBank, r: &DesignRow| {
             if r.replaces.is_empty() {
                 b.status == BankStatus::Proposed && b.bus == r.bus
             } else {
                 r.replaces.contains(&b.id)
             }
         };
-        let bases: Vec<Plant> = rows
-            .iter()
-            .map(|r| {
-                let mut base = plant.clone();
-                base.banks.retain(|b| !proposed_on(b, r));
-                base
-            })
+        let without = |gone: &dyn Fn(&CapacitorBank) -> bool| {
+            let mut base = plant.clone();
+            base.banks.retain(|b| !gone(b));
+            base
+        };
+        let mut bases: Vec<Plant> = (rows.iter())
+            .map(|r| without(&|b| replaced_by(b, r)))
             .collect();
         let templates: Vec<Option<&CapacitorBank>> = rows
             .iter()
-            .map(|r| plant.banks.iter().find(|b| proposed_on(b, r)))
+            .map(|r| plant.banks.iter().find(|b| replaced_by(b, r)))
             .collect();
         let bank_ids: Vec<String> = rows
             .iter()
             .zip(&templates)
             .map(|(r, t)| t.map_or_else(|| format!("PFC-{}", r.bus), |b| b.id.clone()))
             .collect();
-        let mut row_levels: Vec<Vec<Level>> = Vec::new();
-        for base in &bases {
-            row_levels.push(levels::levels(base)?);
-        }
         let bus_kv = |bus: &str| {
-            plant
-                .buses
-                .iter()
+            (plant.buses.iter())
                 .find(|b| b.id == bus)
                 .map_or(f64::NAN, |b| b.nominal_kv)
         };
@@ -177,6 +127,24 @@ impl<'p> Search<'p> {
             .enumerate()
             .flat_map(|(i, r)| plans::families(i, r, bus_kv(&r.bus)))
             .collect();
+        let mut kits: Vec<Kit> = (0..families.len())
+            .map(|i| Kit {
+                families: vec![i],
+                base: families[i].row,
+            })
+            .collect();
+        let mut joint_note = None;
+        let distinct = (0..bank_ids.len()).all(|i| !bank_ids[..i].contains(&bank_ids[i]));
+        if rows.len() > 1 && distinct {
+            bases.push(without(&|b| rows.iter().any(|r| replaced_by(b, r))));
+            let (joint, note) = kits::joint_kits(&families, rows.len(), rows.len());
+            kits.extend(joint);
+            joint_note = note;
+        }
+        let mut row_levels: Vec<Vec<Level>> = Vec::new();
+        for base in &bases {
+            row_levels.push(levels::levels(base)?);
+        }
         Ok(Search {
             plant,
             rows,
@@ -186,14 +154,19 @@ impl<'p> Search<'p> {
             bank_ids,
             row_levels,
             families,
+            kits,
+            joint_note,
         })
     }
 
-    /// The leading power-factor limit of design row `r`.
-    fn leading(&self, r: usize) -> f64 {
-        self.rows[r]
-            .leading_pf_limit
-            .unwrap_or(DEFAULT_LEADING_PF_LIMIT)
+    /// The leading power-factor limit of kit `k`: the strictest of its rows'.
+    fn leading(&self, k: &Kit) -> f64 {
+        (k.families.iter())
+            .map(|&f| {
+                let row = &self.rows[self.families[f].row];
+                row.leading_pf_limit.unwrap_or(DEFAULT_LEADING_PF_LIMIT)
+            })
+            .fold(f64::NEG_INFINITY, f64::max)
     }
 
     /// Family `f`'s plan with `steps` steps.
@@ -207,29 +180,60 @@ impl<'p> Search<'p> {
         }
     }
 
-    /// The bank of family `f`'s `plan`.
-    fn bank(&self, f: &Family, plan: &Plan) -> CapacitorBank {
-        plans::bank(plan, &self.bank_ids[f.row], self.templates[f.row], f.bus_kv)
+    /// The banks of kit `k`'s `plans` (one per family of the kit, in its order).
+    fn banks(&self, k: &Kit, plans: &[Plan]) -> Vec<CapacitorBank> {
+        (k.families.iter().zip(plans))
+            .map(|(&fi, plan)| {
+                let f = &self.families[fi];
+                plans::bank(plan, &self.bank_ids[f.row], self.templates[f.row], f.bus_kv)
+            })
+            .collect()
     }
 
-    /// Step 2: each family at the step count the controller uses at the largest count.
+    /// Every plan allowed: per kit, the product of its rows' step-count ranges.
+    fn enumerated(&self) -> usize {
+        (self.kits.iter())
+            .map(|k| {
+                (k.families.iter())
+                    .map(|&f| {
+                        let row = &self.rows[self.families[f].row];
+                        (row.steps_max - row.steps_min + 1) as usize
+                    })
+                    .fold(1usize, usize::saturating_mul)
+            })
+            .fold(0usize, usize::saturating_add)
+    }
+
+    /// Step 2: each kit at the step counts the controller uses at the largest counts.
     fn bounded(&self) -> Result<Vec<Bounded>, DesignError> {
         let bounded: Vec<Result<Bounded, DesignError>> = self
-            .families
+            .kits
             .par_iter()
-            .map(|f| {
-                let row = &self.rows[f.row];
-                let b = self.bank(f, &self.plan_of(f, row.steps_max));
-                let lv = &self.row_levels[f.row];
-                let leading = self.leading(f.row);
-                let at_max = controls(lv, Some(&b), row.steps_max, leading)?;
-                let n = designed_steps(&at_max).clamp(row.steps_min, row.steps_max);
-                let at_n = if n == row.steps_max {
+            .map(|k| {
+                let lv = &self.row_levels[k.base];
+                let leading = self.leading(k);
+                let largest: Vec<Plan> = (k.families.iter())
+                    .map(|&fi| {
+                        let f = &self.families[fi];
+                        self.plan_of(f, self.rows[f.row].steps_max)
+                    })
+                    .collect();
+                let at_max = kits::controls(lv, &self.banks(k, &largest), leading)?;
+                let first = self.bases[k.base].banks.len();
+                let plans: Vec<Plan> = (k.families.iter().enumerate())
+                    .map(|(i, &fi)| {
+                        let f = &self.families[fi];
+                        let row = &self.rows[f.row];
+                        let n = kits::most_steps(&at_max, first + i);
+                        self.plan_of(f, n.clamp(row.steps_min, row.steps_max))
+                    })
+                    .collect();
+                let at_n = if plans == largest {
                     at_max.clone()
                 } else {
-                    controls(lv, Some(&b), n, leading)?
+                    kits::controls(lv, &self.banks(k, &plans), leading)?
                 };
-                Ok((self.plan_of(f, n), at_max, at_n))
+                Ok((plans, at_max, at_n))
             })
             .collect();
         bounded.into_iter().collect()
@@ -265,8 +269,8 @@ impl<'p> Search<'p> {
         })
     }
 
-    /// The plant without the designed bank per row (for the limits comparison), with the
-    /// controller's choices there, and the notes of the first row's check.
+    /// Per plant of `bases`, the plant without the designed bank(s) (for the limits
+    /// comparison) with the controller's choices there, and the notes of the first check.
     fn baselines(
         &self,
         options: &DesignOptions,
@@ -274,7 +278,9 @@ impl<'p> Search<'p> {
         let mut baselines = Vec::new();
         let mut base_notes = Vec::new();
         for (r, base) in self.bases.iter().enumerate() {
-            let control = controls(&self.row_levels[r], None, 0, self.leading(r))?;
+            let leading = (self.rows.get(r).and_then(|row| row.leading_pf_limit))
+                .unwrap_or(DEFAULT_LEADING_PF_LIMIT);
+            let control = kits::controls(&self.row_levels[r], &[], leading)?;
             let base_res = run_check(base, &check_options(options, false))?;
             let rows = &base_res.limit_rows;
             baselines.push(Baseline {
@@ -293,46 +299,49 @@ impl<'p> Search<'p> {
     /// Steps 3 and 4 for one plan: scanned, and checked when clear of resonance.
     fn check_plan(
         &self,
-        candidate: &(usize, Plan, Vec<Vec<Control>>),
+        c: &Candidate,
         options: &DesignOptions,
         reachable: &[Vec<bool>],
         baselines: &[Baseline],
     ) -> Result<PlanResult, DesignError> {
-        let (fi, plan, control) = candidate;
-        let f = &self.families[*fi];
-        let row = &self.rows[f.row];
-        let bank = self.bank(f, plan);
-        let mut p = self.bases[f.row].clone();
-        p.banks.push(bank.clone());
+        let k = &self.kits[c.kit];
+        let banks = self.banks(k, &c.plans);
+        let ids: Vec<&str> = banks.iter().map(|b| b.id.as_str()).collect();
+        let mut p = self.bases[k.base].clone();
+        p.banks.extend(banks.iter().cloned());
         let scan = run_check(&p, &check_options(options, true))?;
-        let resonant = scan
-            .resonance
-            .rows
-            .iter()
-            .any(|r| r.bank == bank.id && r.verdict == Verdict::Resonant);
-        let band = scan
-            .tolerance
-            .iter()
-            .any(|t| t.bank == bank.id && t.flagged);
+        let resonant = (scan.resonance.rows.iter())
+            .any(|r| ids.contains(&r.bank.as_str()) && r.verdict == Verdict::Resonant);
+        let band = (scan.tolerance.iter()).any(|t| ids.contains(&t.bank.as_str()) && t.flagged);
         let clear = !resonant && !band;
         let res = if clear {
             run_check(&p, &check_options(options, false))?
         } else {
             scan
         };
+        let mut cost = 0.0;
+        let mut parts = Vec::new();
+        for ((&fi, plan), bank) in k.families.iter().zip(&c.plans).zip(banks) {
+            let f = &self.families[fi];
+            cost += plans::cost(f, &self.rows[f.row], plan.steps);
+            parts.push(Part {
+                effective_kvar: f64::from(plan.steps) * plan.effective_step_kvar(f.bus_kv),
+                plan: plan.clone(),
+                bank,
+                row: f.row,
+            });
+        }
         Ok(evaluate(
             &res,
-            plan,
-            bank,
-            plans::cost(f, row, plan.steps),
-            f.bus_kv,
-            control.clone(),
-            &self.row_levels[f.row],
+            parts,
+            cost,
+            c.control.clone(),
+            &self.row_levels[k.base],
             reachable,
-            &baselines[f.row],
+            &baselines[k.base],
             self.plant.study.target_power_factor,
             !clear,
-            f.row,
+            k.base,
         ))
     }
 
@@ -353,7 +362,10 @@ impl<'p> Search<'p> {
             target,
         );
         if self.rows.len() > 1 {
-            notes.push(Note::Design("Several design buses: each plan puts one bank at one of them, replacing the banks its row replaces (the proposed bank there by default); the other banks stay as on the Capacitors sheet (the buses are searched one at a time, not together).".into()));
+            notes.push(Note::Design("Several design buses, searched one at a time and together: a plan puts one bank at one of them, or a bank at every one of them (one detuning choice for all, each bus's own step sizes and classes: the kvar split across the buses; their steps counted by the controller switching them in rotation after the plant's other banks). Each plan replaces the banks its rows replace (the proposed bank at the bus by default) and is scanned and checked over every configuration of the whole plant.".into()));
+        }
+        if let Some(n) = &self.joint_note {
+            notes.push(Note::Design(n.clone()));
         }
         if baselines
             .iter()
@@ -495,12 +507,9 @@ fn row_for(b: &CapacitorBank, steps_max: u32, replaces: Vec<String>) -> DesignRo
 /// One design search over `plant`'s rows.
 fn search_once(plant: &Plant, options: &DesignOptions) -> Result<DesignResult, DesignError> {
     let search = Search::new(plant)?;
-    let rows = &search.rows;
     let mut counts = Counts {
-        families: search.families.len(),
-        enumerated: (search.families.iter())
-            .map(|f| (rows[f.row].steps_max - rows[f.row].steps_min + 1) as usize)
-            .sum(),
+        families: search.kits.len(),
+        enumerated: search.enumerated(),
         ..Default::default()
     };
     // Step 2, and where no allowed plan reaches the target it is waived.
@@ -508,10 +517,16 @@ fn search_once(plant: &Plant, options: &DesignOptions) -> Result<DesignResult, D
     let reachable = search.reachable(&bounded)?;
     let scenarios = plant.scenarios();
     let unreachable = unreachable(&search.row_levels[0], &scenarios, &reachable);
-    let mut candidates: Vec<(usize, Plan, Vec<Vec<Control>>)> = Vec::new();
-    for (i, (plan, _, at_n)) in bounded.into_iter().enumerate() {
-        if !candidates.iter().any(|(_, p, _)| *p == plan) {
-            candidates.push((i, plan, at_n));
+    let mut candidates: Vec<Candidate> = Vec::new();
+    for (kit, (plans, _, control)) in bounded.into_iter().enumerate() {
+        let base = search.kits[kit].base;
+        let seen = (candidates.iter()).any(|c| search.kits[c.kit].base == base && c.plans == plans);
+        if !seen {
+            candidates.push(Candidate {
+                kit,
+                plans,
+                control,
+            });
         }
     }
     counts.after_pf_bound = candidates.len();

@@ -17,11 +17,7 @@ pub fn level_words(d: &DesignResult, p: &PlanResult) -> String {
         .zip(&p.control)
         .map(|((name, _), per)| {
             let pf = crate::jobs::design::levels::lowest_pf(per);
-            let steps = per
-                .iter()
-                .map(|c| c.steps.last().copied().unwrap_or(0))
-                .max()
-                .unwrap_or(0);
+            let steps = per.iter().map(|c| p.steps_in(c)).max().unwrap_or(0);
             let lead = if per.iter().any(|c| c.leading()) {
                 " leading"
             } else {
@@ -50,11 +46,10 @@ pub fn plan_words(p: &PlanResult) -> String {
         }
         _ => String::new(),
     };
+    let banks = p.joined(|plan, b| format!("{} at {}: {}", b.id, plan.bus, plan.label()));
+    let total = if p.also.is_empty() { "" } else { " in all" };
     format!(
-        "{} at {}: {}{tuned}, {:.0} kvar at bus voltage",
-        p.bank.id,
-        p.plan.bus,
-        p.plan.label(),
+        "{banks}{tuned}, {:.0} kvar at bus voltage{total}",
         p.effective_kvar
     )
 }
@@ -224,9 +219,9 @@ fn write_plans(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
         .map(|p| {
             vec![
                 format!("{}{}", p.rank, if p.pareto { "*" } else { "" }),
-                p.plan.bus.clone(),
-                format!("{} × {}", p.plan.steps, p.plan.step_kvar),
-                format!("{}", p.plan.rated_kv),
+                p.joined(|plan, _| plan.bus.clone()),
+                p.joined(|plan, _| format!("{} × {}", plan.steps, plan.step_kvar)),
+                p.joined(|plan, _| format!("{}", plan.rated_kv)),
                 p.plan.reactor_label(),
                 format!("{:.0}", p.effective_kvar),
                 format!("{:.0}", p.cost),

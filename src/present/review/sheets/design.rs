@@ -4,7 +4,8 @@
 use rust_xlsxwriter::{Format, Worksheet, XlsxError};
 
 use super::super::writer::{Cell, LINE_POINTS, header, n, on, row, t, wrapped_lines};
-use crate::jobs::design::DesignResult;
+use crate::jobs::design::{DesignResult, Plan, PlanResult};
+use crate::model::CapacitorBank;
 use crate::present::terminal::design::{baseline_words, level_words, plan_words};
 
 fn title(ws: &mut Worksheet, r: u32, text: &str, size: f64) -> Result<(), XlsxError> {
@@ -117,11 +118,11 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
             &[
                 n(p.rank as f64, "0"),
                 t(if p.pareto { "yes" } else { "" }),
-                t(p.bank.id.clone()),
-                t(p.plan.bus.clone()),
-                n(f64::from(p.plan.steps), "0"),
-                n(p.plan.step_kvar, "0.0"),
-                n(p.plan.rated_kv, "0.000"),
+                per_line(p, |_, b| b.id.clone()),
+                per_line(p, |plan, _| plan.bus.clone()),
+                joint(p, |plan| f64::from(plan.steps), "0"),
+                joint(p, |plan| plan.step_kvar, "0.0"),
+                joint(p, |plan| plan.rated_kv, "0.000"),
                 t(p.plan.reactor_label()),
                 n(p.effective_kvar, "0"),
                 n(p.cost, "0"),
@@ -145,7 +146,23 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
             ],
         )?;
         ws.write_string_with_format(r, LAST, &verdict, &wrap)?;
-        ws.set_row_height(r, LINE_POINTS * wrapped_lines(&verdict, 34.0, false))?;
+        // A plan at several buses: each bank on its own line of its cells.
+        for (c, cell) in [
+            (2, per_line(p, |_, b| b.id.clone())),
+            (3, per_line(p, |plan, _| plan.bus.clone())),
+            (4, joint(p, |plan| f64::from(plan.steps), "0")),
+            (5, joint(p, |plan| plan.step_kvar, "0.0")),
+            (6, joint(p, |plan| plan.rated_kv, "0.000")),
+        ] {
+            if let (false, Cell::Text(text)) = (p.also.is_empty(), cell) {
+                ws.write_string_with_format(r, c, &text, &wrap)?;
+            }
+        }
+        let banks = (1 + p.also.len()) as f64;
+        ws.set_row_height(
+            r,
+            LINE_POINTS * wrapped_lines(&verdict, 34.0, false).max(banks),
+        )?;
     }
     super::verdict_colours(ws, head + 1, head + d.plans.len() as u32, LAST)?;
     ws.set_freeze_panes(head + 1, 0)?;
@@ -155,11 +172,28 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
     Ok(())
 }
 
+/// A plan's figure `f` as a number for a plan at one bus, else each bank's on its own line
+/// as text (in design row order).
+fn joint(p: &PlanResult, f: impl Fn(&Plan) -> f64, format: &'static str) -> Cell {
+    if p.also.is_empty() {
+        return n(f(&p.plan), format);
+    }
+    per_line(p, |plan, _| format!("{}", f(plan)))
+}
+
+/// `f` of each of a plan's banks, one per line.
+fn per_line(p: &PlanResult, f: impl Fn(&Plan, &CapacitorBank) -> String) -> Cell {
+    t(p.banks()
+        .map(|(plan, b)| f(plan, b))
+        .collect::<Vec<_>>()
+        .join("\n"))
+}
+
 /// The `Load levels` sheet: per level and scenario, the controller's steps and the PCC
 /// power factor without the bank and with the recommended plan.
 pub fn load_levels(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
     title(ws, 0, "Load levels: what the controller switches", 14.0)?;
-    let text = "At each level and scenario the plant's other banks switch first, then the designed bank; each adds steps while the PCC power factor is below the target and blocks a step that would lead beyond the limit (common practice). Steps are listed bank by bank in the Capacitors sheet's order, the designed bank last.";
+    let text = "At each level and scenario the plant's other banks switch first, then the designed bank (banks designed together at several buses take one step each in rotation); each adds steps while the PCC power factor is below the target and blocks a step that would lead beyond the limit (common practice). Steps are listed bank by bank in the Capacitors sheet's order, the designed bank(s) last.";
     sentence(ws, 1, text, 8)?;
     header(
         ws,
