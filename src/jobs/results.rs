@@ -63,12 +63,15 @@ pub struct CheckOptions {
     /// Give every flagged resonance's key figures under the least-damped models too
     /// (`None` = yes; `Some(false)` = no, for the re-runs of remedies and design).
     pub damping_band: Option<bool>,
+    /// Analyse the resonance mode at every flagged peak (`None` = yes; `Some(false)` = no,
+    /// for re-runs read for their figures alone: remedies, the damping band, design plans).
+    pub mode_analysis: Option<bool>,
 }
 
 impl CheckOptions {
     /// The options of a re-run over the configurations `labels` (a remedy, the damping
     /// band): the same buses and evaluation, the studies alone (no remedies, switching,
-    /// progress or damping band).
+    /// progress, damping band or mode analysis).
     pub fn rerun(&self, labels: Vec<String>) -> CheckOptions {
         CheckOptions {
             buses: self.buses.clone(),
@@ -79,6 +82,7 @@ impl CheckOptions {
             switching: false,
             evaluation: self.evaluation,
             damping_band: Some(false),
+            mode_analysis: Some(false),
         }
     }
 }

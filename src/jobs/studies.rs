@@ -257,7 +257,9 @@ fn screen(
         zero_view.as_ref(),
         ctx.pcc,
     )?;
-    modes(plant, &mut resonance, &scan, engine, zero_view.as_ref());
+    if options.mode_analysis != Some(false) {
+        modes(plant, &mut resonance, &scan, engine, zero_view.as_ref());
+    }
     Ok(Screen {
         scan,
         zero_scan,

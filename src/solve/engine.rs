@@ -257,6 +257,18 @@ impl<'a> Engine<'a> {
     /// Factors Y(h) in `scenario` with `steps[b]` steps of bank b energized (an empty slice
     /// means no banks).
     pub fn factor(&self, order: f64, scenario: usize, steps: &[u32]) -> Result<Factor, SolveError> {
+        self.factor_shifted(order, scenario, steps, Complex64::new(0.0, 0.0))
+    }
+
+    /// Factors Y(h) − σ·I at `order` (σ = `shift`, per unit, on every diagonal entry): the
+    /// shifted matrix of inverse iteration.
+    pub fn factor_shifted(
+        &self,
+        order: f64,
+        scenario: usize,
+        steps: &[u32],
+        shift: Complex64,
+    ) -> Result<Factor, SolveError> {
         let mut values = self.sym.zeros();
         self.net.stamp(order, scenario, |i, j, y| {
             if let Some(s) = self.sym.slot(i, j) {
@@ -267,6 +279,11 @@ impl<'a> Engine<'a> {
             if n > 0 {
                 values[self.sym.slot(b.bus, b.bus).unwrap_or(b.bus)] +=
                     b.y_step_pu(order, self.net.resistance) * f64::from(n);
+            }
+        }
+        for i in 0..self.sym.n() {
+            if let Some(s) = self.sym.slot(i, i) {
+                values[s] -= shift;
             }
         }
         self.sym

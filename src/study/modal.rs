@@ -8,8 +8,9 @@
 //!
 //! λ_c is found as the dominant eigenvalue of Z(h) = Y(h)⁻¹ by power iteration on the
 //! sparse factor of Y(h) (inverse iteration), with the symmetric quotient
-//! μ = xᵀ·Z·x / xᵀ·x; a mode the iteration cannot separate from the next (their |μ| within
-//! a few percent) is reported as not converged.
+//! μ = xᵀ·Z·x / xᵀ·x, then refined by Rayleigh-quotient iteration (the shift at the
+//! estimate of λ_c); a mode the power iteration cannot separate from the next (their |μ|
+//! within a few percent) is reported as not converged.
 
 use num_complex::Complex64;
 use serde::Serialize;
@@ -21,6 +22,10 @@ const MAX_ITERATIONS: usize = 300;
 /// Change of the unit eigenvector between iterations (its phase aligned) below which the
 /// mode has converged.
 const TOLERANCE: f64 = 1e-12;
+/// The change at which the power method hands over to Rayleigh-quotient iteration.
+const HANDOVER: f64 = 1e-5;
+/// Rayleigh-quotient iterations at most (each converges quadratically or better).
+const RQI_ITERATIONS: usize = 8;
 
 /// The critical mode of Y(h) at one order, scenario and configuration.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -60,7 +65,16 @@ pub fn participation(t: &[Complex64]) -> Vec<f64> {
 /// (μ, eigenvector scaled to ‖x‖ = 1, converged).
 pub fn dominant(
     n: usize,
+    solve: impl FnMut(&mut [Complex64]),
+) -> (Complex64, Vec<Complex64>, bool) {
+    dominant_to(n, solve, TOLERANCE)
+}
+
+/// [`dominant`] to the eigenvector change `tolerance`.
+fn dominant_to(
+    n: usize,
     mut solve: impl FnMut(&mut [Complex64]),
+    tolerance: f64,
 ) -> (Complex64, Vec<Complex64>, bool) {
     // A start with a component on every mode: 1 + small distinct parts.
     let mut x: Vec<Complex64> = (0..n)
@@ -96,12 +110,68 @@ pub fn dominant(
             .sqrt();
         std::mem::swap(&mut x, &mut y);
         mu = next;
-        if change <= TOLERANCE {
+        if change <= tolerance {
             converged = true;
             break;
         }
     }
     (mu, x, converged)
+}
+
+/// Rayleigh-quotient iteration from the power method's (μ, unit eigenvector t): with the
+/// shift σ = 1/μ (the estimate of λ_c), x ← (Y − σI)⁻¹·x normalized and λ ← σ + 1/ν with
+/// ν = xᵀ(Y − σI)⁻¹x / xᵀx, until the eigenvector changes by at most [`TOLERANCE`]
+/// (Parlett, "The Symmetric Eigenvalue Problem", chapter 4; here for the complex-symmetric
+/// Y(h) with the unconjugated quotient). Returns (μ = 1/λ, t, converged); a shift the
+/// factorization finds singular is an eigenvalue to working precision, so the iterate
+/// stands.
+fn refine(
+    engine: &Engine<'_>,
+    (order, scenario, steps): (f64, usize, &[u32]),
+    mu: Complex64,
+    mut x: Vec<Complex64>,
+) -> (Complex64, Vec<Complex64>, bool) {
+    if mu.norm() == 0.0 {
+        return (mu, x, false);
+    }
+    let mut lambda = mu.inv();
+    let mut y = x.clone();
+    let mut change = f64::INFINITY;
+    for _ in 0..RQI_ITERATIONS {
+        let Ok(f) = engine.factor_shifted(order, scenario, steps, lambda) else {
+            return (lambda.inv(), x, true);
+        };
+        y.copy_from_slice(&x);
+        engine.solve(&f, &mut y);
+        let num: Complex64 = x.iter().zip(&y).map(|(a, b)| a * b).sum();
+        let den: Complex64 = x.iter().map(|a| a * a).sum();
+        if num.norm() == 0.0 || den.norm() == 0.0 {
+            break;
+        }
+        let next = lambda + den / num;
+        let norm = y.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
+        y.iter_mut().for_each(|v| *v /= norm);
+        let turn: Complex64 = x.iter().zip(&y).map(|(a, b)| a.conj() * b).sum();
+        let phase = if turn.norm() > 0.0 {
+            turn / turn.norm()
+        } else {
+            Complex64::new(1.0, 0.0)
+        };
+        change = (x.iter().zip(&y))
+            .map(|(a, b)| (b - a * phase).norm_sqr())
+            .sum::<f64>()
+            .sqrt();
+        // Keep the eigenvector's phase: the next iterate aligned with the last.
+        x.iter_mut()
+            .zip(&y)
+            .for_each(|(a, b)| *a = b * phase.conj());
+        lambda = next;
+        if change <= TOLERANCE {
+            return (lambda.inv(), x, true);
+        }
+    }
+    // Rounding can hold the change a little above the tolerance at convergence.
+    (lambda.inv(), x, change <= 1e3 * TOLERANCE)
 }
 
 /// The critical mode of `engine`'s network at `order` in `scenario` with `steps` of each
@@ -115,7 +185,10 @@ pub fn critical_mode(
     let net = engine.network();
     let f = engine.factor(order, scenario, steps)?;
     let n = net.buses.len();
-    let (mu, t, converged) = dominant(n, |x| engine.solve(&f, x));
+    let (mu, t, converged) = match dominant_to(n, |x| engine.solve(&f, x), HANDOVER) {
+        (mu, t, true) => refine(engine, (order, scenario, steps), mu, t),
+        unsettled => unsettled,
+    };
     let pf = participation(&t);
     let mut buses: Vec<(String, f64)> = (net.buses.iter().zip(&pf))
         .filter(|(_, p)| **p >= 0.01)

@@ -47,6 +47,7 @@ fn check_options(options: &DesignOptions, scan_only: bool) -> CheckOptions {
         switching: false,
         evaluation: options.evaluation,
         damping_band: Some(false),
+        mode_analysis: Some(false),
         ..Default::default()
     }
 }
