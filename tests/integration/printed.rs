@@ -66,6 +66,51 @@ fn printed_text(review: &Path, stderr: &[u8]) -> String {
     std::fs::read_to_string(&txt).unwrap()
 }
 
+/// The `Plant` item of a bundled case's Study sheet.
+fn plant_name(case: &str) -> String {
+    let root = PathBuf::from(env!("CARGO_MANIFEST_DIR"));
+    let mut wb: Xlsx<_> = open_workbook(root.join("cases").join(format!("{case}.xlsx"))).unwrap();
+    let study = wb.worksheet_range("Study").unwrap();
+    study
+        .rows()
+        .find(|row| row.first().map(|c| c.to_string()) == Some("Plant".into()))
+        .and_then(|row| row.get(1).map(|c| c.to_string()))
+        .unwrap_or_default()
+}
+
+/// Every printed page of `review`'s PDF carries the plant in its header and "Page i of n"
+/// in its footer (read in the PDF's drawing order, as a chart spilling from the page
+/// before may sit beside the header).
+fn page_furniture(case: &str, review: &Path) {
+    let txt = review.with_extension("raw.txt");
+    let pdf = review.with_extension("pdf");
+    output_within(
+        Command::new("pdftotext").arg("-raw").arg(&pdf).arg(&txt),
+        120,
+    );
+    let text = std::fs::read_to_string(&txt).unwrap();
+    let plant = plant_name(case);
+    assert!(!plant.is_empty(), "{case}: no plant name");
+    let pages: Vec<&str> = text
+        .split('\u{c}')
+        .filter(|p| !p.trim().is_empty())
+        .collect();
+    let n = pages.len();
+    for (i, page) in pages.iter().enumerate() {
+        let flat = squash(page);
+        assert!(
+            flat.contains(&squash(&format!("Page {} of {n}", i + 1))),
+            "{case}: page {} has no page number",
+            i + 1
+        );
+        assert!(
+            flat.contains(&squash(&plant)),
+            "{case}: page {} has no plant in its header",
+            i + 1
+        );
+    }
+}
+
 #[test]
 fn printed_reviews_are_short_and_print_every_sentence_whole() {
     if !external_tool("soffice", "the review printed to PDF")
@@ -91,6 +136,7 @@ fn printed_reviews_are_short_and_print_every_sentence_whole() {
             (2..=MAX_PAGES).contains(&pages),
             "{case}: {pages} printed pages (target at most {MAX_PAGES})"
         );
+        page_furniture(case, review);
         let flat = squash(&text);
         for sheet in ["Assumptions", "Cautions"] {
             let lines = sentences(review, sheet);
@@ -156,6 +202,7 @@ fn the_printed_design_review_opens_with_the_plans_and_keeps_the_cautions() {
     let raw = printed_text(&review, &out.stderr);
     let pages = raw.matches('\u{c}').count();
     assert!((3..=MAX_PAGES + 4).contains(&pages), "{pages} pages");
+    page_furniture("food-plant", &review);
     let text = squash(&raw);
     // The first page is the design: the proposal caution and the recommended plan.
     let first = squash(raw.split('\u{c}').next().unwrap_or_default());

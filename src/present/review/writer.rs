@@ -73,7 +73,7 @@ pub const PRINTED_ROWS: usize = 45;
 /// pages) to [`PRINTED_ROWS`]:
 /// the flagged rows first, then the most severe (`keys[i]` = (flagged, severity) of the table's row `first + i`); the other
 /// rows are hidden, not removed (every row and formula stays on the sheet for the audit).
-/// The page header says how many rows print and how to see the rest; an autofilter on
+/// The page footer says how many rows print and where the rest are; an autofilter on
 /// the header row (`first - 1`, columns `0..=last_col`) lets the reviewer sort and filter.
 pub fn print_digest(
     ws: &mut Worksheet,
@@ -118,10 +118,10 @@ pub fn print_digest_of(
     for &i in &order[printed..] {
         ws.set_row_hidden(first + i as u32)?;
     }
-    ws.set_header(format!(
-        "&L{what}: {printed} of {} rows printed ({flagged} flagged): the flagged, then the most severe, in table order; every row is on the sheet (unhide rows to see them all)&R&P / &N",
+    ws.set_footer(super::sheets::footer(Some(&format!(
+        "{what}, {printed} of {} rows printed ({flagged} flagged; then the most severe); the rest are hidden on the sheet",
         keys.len()
-    ));
+    ))));
     Ok(())
 }
 

@@ -66,8 +66,9 @@ pub fn write_design(
     charts: &ScanCharts,
     prov: &Provenance,
 ) -> Result<(), XlsxError> {
-    design::design(wb.add_worksheet().set_name("Design")?, d)?;
-    design::load_levels(wb.add_worksheet().set_name("Load levels")?, d)?;
+    let page = &Page::of(res, prov);
+    design::design(sheet(wb, "Design", page)?, d)?;
+    design::load_levels(sheet(wb, "Load levels", page)?, d)?;
     write_all(wb, res, charts, prov)
 }
 
@@ -79,35 +80,86 @@ pub fn write_all(
     charts: &ScanCharts,
     prov: &Provenance,
 ) -> Result<(), XlsxError> {
-    front::summary(wb.add_worksheet().set_name("Summary")?, res, prov)?;
-    let cells = input::input(wb.add_worksheet().set_name("Input")?, res, prov)?;
-    operating::operating(wb.add_worksheet().set_name("Operating point")?, res)?;
-    results::resonance(wb.add_worksheet().set_name("Resonance")?, res, &cells)?;
-    let charts = scan::scan(wb.add_worksheet().set_name("Scan")?, res, charts)?;
-    results::distortion(wb.add_worksheet().set_name("Distortion")?, res)?;
-    results::duty(wb.add_worksheet().set_name("Duty")?, res)?;
-    damping::damping(wb.add_worksheet().set_name("Damping")?, res)?;
-    remedies::remedies(wb.add_worksheet().set_name("Remedies")?, res)?;
-    switching::switching(wb.add_worksheet().set_name("Switching")?, res)?;
-    switching::waveforms(wb.add_worksheet().set_name("Waveforms")?, "Waveforms", res)?;
+    let page = &Page::of(res, prov);
+    front::summary(sheet(wb, "Summary", page)?, res, prov)?;
+    let cells = input::input(sheet(wb, "Input", page)?, res, prov)?;
+    operating::operating(sheet(wb, "Operating point", page)?, res)?;
+    results::resonance(sheet(wb, "Resonance", page)?, res, &cells)?;
+    let charts = scan::scan(sheet(wb, "Scan", page)?, res, charts)?;
+    results::distortion(sheet(wb, "Distortion", page)?, res)?;
+    results::duty(sheet(wb, "Duty", page)?, res)?;
+    damping::damping(sheet(wb, "Damping", page)?, res)?;
+    remedies::remedies(sheet(wb, "Remedies", page)?, res)?;
+    switching::switching(sheet(wb, "Switching", page)?, res)?;
+    switching::waveforms(sheet(wb, "Waveforms", page)?, "Waveforms", res)?;
     text_sheet(
-        wb.add_worksheet().set_name("Assumptions")?,
+        sheet(wb, "Assumptions", page)?,
         "Assumptions and scope",
         &assumptions(res),
     )?;
-    sources(wb.add_worksheet().set_name("Sources")?)?;
+    sources(sheet(wb, "Sources", page)?)?;
     let cautions: Vec<String> = CAUTIONS
         .iter()
         .map(|c| c.to_string())
         .chain(extra_cautions())
         .collect();
-    text_sheet(
-        wb.add_worksheet().set_name("Cautions")?,
-        "Cautions",
-        &cautions,
-    )?;
-    scan::charts_sheet(wb.add_worksheet().set_name("Charts")?, charts)?;
+    text_sheet(sheet(wb, "Cautions", page)?, "Cautions", &cautions)?;
+    scan::charts_sheet(sheet(wb, "Charts", page)?, charts)?;
     Ok(())
+}
+
+/// What every printed page carries: the title, plant and date in the header (one section,
+/// the page's full width); the sheet, the review caution and "Page x of y" in the footer.
+pub(super) struct Page {
+    header: String,
+}
+
+impl Page {
+    fn of(res: &CheckResults, prov: &Provenance) -> Page {
+        let study = &res.plant.study;
+        let title = if study.title.is_empty() {
+            "overtone review"
+        } else {
+            &study.title
+        };
+        let (y, m, d) = prov.date;
+        Page {
+            header: format!(
+                "&C{} | {} | {y:04}-{m:02}-{d:02}",
+                header_text(title),
+                header_text(&study.plant)
+            ),
+        }
+    }
+}
+
+/// The footer of every printed page: the sheet's name (and `note`, a long table's digest),
+/// the caution, the page number.
+pub(super) fn footer(note: Option<&str>) -> String {
+    match note {
+        Some(n) => format!("&L&A: {}&RPage &P of &N", header_text(n)),
+        None => "&L&A&CA proposal for a licensed engineer's review (Cautions sheet)&RPage &P of &N"
+            .to_string(),
+    }
+}
+
+/// `text` for a page header or footer: `&` doubled (a literal ampersand there), cut to 80
+/// characters (the header's three parts stay within its 255).
+fn header_text(text: &str) -> String {
+    let cut: String = text.chars().take(80).collect();
+    cut.replace('&', "&&")
+}
+
+/// Adds the sheet `name` with the page furniture.
+fn sheet<'w>(
+    wb: &'w mut Workbook,
+    name: &str,
+    page: &Page,
+) -> Result<&'w mut Worksheet, XlsxError> {
+    let ws = wb.add_worksheet().set_name(name)?;
+    ws.set_header(&page.header);
+    ws.set_footer(footer(None));
+    Ok(ws)
 }
 
 fn extra_cautions() -> Vec<String> {
