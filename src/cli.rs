@@ -38,6 +38,9 @@ pub struct Outputs {
     /// Write the review workbook (.xlsx) to this file.
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
+    /// Write the typeset study report (.pdf) to this file.
+    #[arg(long, value_name = "FILE")]
+    pub report: Option<PathBuf>,
     /// The report date, YYYY-MM-DD (default: the input workbook's modification date; the
     /// demo's is fixed at 2026-01-01).
     #[arg(long, value_name = "DATE")]
@@ -136,6 +139,10 @@ pub struct DesignArgs {
     /// study of the recommended plan.
     #[arg(short = 'o', long = "output", value_name = "FILE")]
     pub output: Option<PathBuf>,
+    /// Write the typeset study report (.pdf): the plans compared, then the recommended
+    /// plan's study.
+    #[arg(long, value_name = "FILE")]
+    pub report: Option<PathBuf>,
     /// Write the plant with the recommended plan on its Capacitors sheet (.xlsx), ready for
     /// `overtone check`.
     #[arg(long, value_name = "FILE")]
@@ -192,9 +199,10 @@ pub struct SizeArgs {
 
 impl Outputs {
     /// The outputs a study writes, with their kinds, in the order they are checked.
-    pub fn exports(&self) -> [(Option<&Path>, OutputKind); 5] {
+    pub fn exports(&self) -> [(Option<&Path>, OutputKind); 6] {
         [
             (self.output.as_deref(), OutputKind::Review),
+            (self.report.as_deref(), OutputKind::Report),
             (self.scan_csv.as_deref(), OutputKind::Csv),
             (self.voltages_csv.as_deref(), OutputKind::Csv),
             (self.operating_csv.as_deref(), OutputKind::Csv),
@@ -206,6 +214,7 @@ impl Outputs {
     pub fn outputs(&self) -> CheckOutputs<'_> {
         CheckOutputs {
             review: self.output.as_deref(),
+            report: self.report.as_deref(),
             scan_csv: self.scan_csv.as_deref(),
             voltages_csv: self.voltages_csv.as_deref(),
             operating_csv: self.operating_csv.as_deref(),

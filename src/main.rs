@@ -176,6 +176,7 @@ fn study(
 fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
     let exports = [
         (a.output.as_deref(), OutputKind::Review),
+        (a.report.as_deref(), OutputKind::Report),
         (a.write_plant.as_deref(), OutputKind::Template),
     ];
     let plan = ExportPlan::check(&exports, Some(&a.plant), a.force)?;
@@ -190,17 +191,11 @@ fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
     let res = overtone::jobs::design::run_design(&read.plant, &options);
     bar.finish_and_clear();
     let res = res?;
-    let prov = match &a.output {
-        Some(_) => {
-            let mut prov = file_provenance(&a.plant, &read.warnings, overtone::demo::DEMO_DATE)
-                .map_err(|e| Failure(format!("{}: {e}", a.plant.display())))?;
-            prov.date = date.unwrap_or(prov.date);
-            Some(prov)
-        }
-        None => None,
-    };
-    let review = a.output.as_deref().zip(prov.as_ref());
-    plan.write_design(&res, a.write_plant.as_deref(), review)?;
+    let mut prov = file_provenance(&a.plant, &read.warnings, overtone::demo::DEMO_DATE)
+        .map_err(|e| Failure(format!("{}: {e}", a.plant.display())))?;
+    prov.date = date.unwrap_or(prov.date);
+    let documents = (a.output.as_deref(), a.report.as_deref());
+    plan.write_design(&res, a.write_plant.as_deref(), documents, &prov)?;
     let code = print(|w| match a.json {
         true => writeln!(w, "{}", json::design_json(&res)),
         false => terminal::design::write_design(w, &res),

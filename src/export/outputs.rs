@@ -29,6 +29,11 @@ pub enum ExportFailure {
     Review { path: String, source: XlsxError },
     #[error("{path}: the workbook cannot be written ({source})")]
     Workbook { path: String, source: XlsxError },
+    #[error("{path}: the report cannot be written ({source})")]
+    Report {
+        path: String,
+        source: crate::present::report::RenderError,
+    },
 }
 
 /// The outputs of `check` and `demo` (`None` = not asked for) and the command line's
@@ -36,6 +41,7 @@ pub enum ExportFailure {
 #[derive(Debug, Clone, Copy, Default)]
 pub struct CheckOutputs<'a> {
     pub review: Option<&'a Path>,
+    pub report: Option<&'a Path>,
     pub scan_csv: Option<&'a Path>,
     pub voltages_csv: Option<&'a Path>,
     pub operating_csv: Option<&'a Path>,
@@ -83,6 +89,27 @@ impl ExportPlan {
             })?;
             self.write(path, &bytes)?;
         }
+        if let Some(path) = out.report {
+            self.write_report(path, res, prov, None)?;
+        }
+        Ok(())
+    }
+
+    /// Writes the study report of `res` (with the design `d` before it).
+    fn write_report(
+        &self,
+        path: &Path,
+        res: &CheckResults,
+        prov: &Provenance,
+        d: Option<&DesignResult>,
+    ) -> Result<(), ExportFailure> {
+        let bytes = crate::present::report::report_bytes(res, &scan_charts(res), prov, d).map_err(
+            |source| ExportFailure::Report {
+                path: path.display().to_string(),
+                source,
+            },
+        )?;
+        self.write(path, &bytes)?;
         Ok(())
     }
 
@@ -102,12 +129,14 @@ impl ExportPlan {
     }
 
     /// Writes the outputs of `design`: the plant with the recommended plan (nothing when no
-    /// plan passes) and the design review, whose recommended plan is studied first.
+    /// plan passes), the design review and the report, whose recommended plan is studied
+    /// first.
     pub fn write_design(
         &self,
         d: &DesignResult,
         write_plant: Option<&Path>,
-        review: Option<(&Path, &Provenance)>,
+        (review, report): (Option<&Path>, Option<&Path>),
+        prov: &Provenance,
     ) -> Result<(), ExportFailure> {
         if let Some(path) = write_plant
             && let Some(i) = d.recommended
@@ -121,14 +150,20 @@ impl ExportPlan {
                 })?;
             self.write(path, &bytes)?;
         }
-        if let Some((path, prov)) = review {
-            let study = recommended_study(d)?;
+        if review.is_none() && report.is_none() {
+            return Ok(());
+        }
+        let study = recommended_study(d)?;
+        if let Some(path) = review {
             let bytes = review::design_review_bytes(d, &study, &scan_charts(&study), prov)
                 .map_err(|source| ExportFailure::Review {
                     path: path.display().to_string(),
                     source,
                 })?;
             self.write(path, &bytes)?;
+        }
+        if let Some(path) = report {
+            self.write_report(path, &study, prov, Some(d))?;
         }
         Ok(())
     }

@@ -25,6 +25,8 @@ pub enum OutputKind {
     Template,
     /// A CSV of the input contract.
     Csv,
+    /// The typeset study report (`--report`).
+    Report,
 }
 
 impl OutputKind {
@@ -32,12 +34,14 @@ impl OutputKind {
         match self {
             OutputKind::Review | OutputKind::Template => "xlsx",
             OutputKind::Csv => "csv",
+            OutputKind::Report => "pdf",
         }
     }
 }
 
 /// True when the existing file `path` is one this tool wrote: a review workbook (its
-/// document property), a blank template (byte for byte the current one), or a CSV whose
+/// document property), a blank template (byte for byte the current one), a study report
+/// (its mark), or a CSV whose
 /// first line is one of the input contract's headers. Anything else, a filled plant
 /// workbook above all, is not replaced without `--force`.
 pub fn written_by_us(path: &Path) -> bool {
@@ -46,6 +50,9 @@ pub fn written_by_us(path: &Path) -> bool {
     };
     if crate::io::template::template_bytes().is_ok_and(|t| t == bytes) {
         return true;
+    }
+    if bytes.starts_with(b"%PDF") {
+        return crate::present::report::is_ours(&bytes);
     }
     if let Ok(mut zip) = zip::ZipArchive::new(std::io::Cursor::new(&bytes)) {
         let mut xml = String::new();
@@ -82,6 +89,7 @@ pub fn check_output(
             "this output is {}: give a name ending in .{}",
             match kind {
                 OutputKind::Csv => "a CSV file",
+                OutputKind::Report => "a PDF report",
                 _ => "an .xlsx workbook",
             },
             kind.extension()
@@ -174,6 +182,7 @@ impl ExportPlan {
                 OutputKind::Review => format!("the review workbook cannot be written ({e})"),
                 OutputKind::Template => format!("the workbook cannot be written ({e})"),
                 OutputKind::Csv => e.to_string(),
+                OutputKind::Report => format!("the report cannot be written ({e})"),
             })
         })
     }

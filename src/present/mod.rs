@@ -6,6 +6,7 @@
 pub mod cautions;
 pub mod csv;
 pub mod json;
+pub mod report;
 pub mod review;
 pub mod sources;
 pub mod terminal;

@@ -12,6 +12,8 @@
 //! - `scan`: grid, configurations, peak finding;
 //! - `cli`: the `overtone` binary as a user runs it (exit codes, output paths, interrupts);
 //! - `design`: the design search against power-factor sizing and its own checks;
+//! - `printed`, `report`: the review printed by LibreOffice and the typeset study report, as
+//!   a reviewer reads them (pdftotext, pdfinfo, pdffonts);
 //! - `reader`, `malformed`, `bounds`: the workbook reader, its messages and its resource bounds;
 //! - `degenerate`: degenerate physics, each through the full report audit;
 //! - `hostile`, `properties`: the fuzz bodies over the kept corpus (`fuzz_bodies` is
@@ -41,6 +43,7 @@ mod reference_pcc;
 mod reference_resonance;
 mod reference_sequence;
 mod reference_switching;
+mod report;
 mod review;
 mod scan;
 mod simulator;
