@@ -126,6 +126,9 @@ fn design_section(out: &mut layout::Layout<'_>, d: &DesignResult) {
         }
         None => out.paragraph(&format!("No plan satisfies every check. {}", d.reason)),
     }
+    for line in crate::present::terminal::design::replaced_words(d) {
+        out.paragraph(&line);
+    }
     let rows = plan_rows(d);
     out.table(
         &[

@@ -21,40 +21,6 @@ fn col(head: &str, share: f32, numeric: bool) -> Column<'_> {
     }
 }
 
-/// The verdict block of the terminal answer as items: each `- ` line with its hanging
-/// lines joined, the `~` and `>` lines of a bank kept as their own items.
-pub fn verdict_items(res: &CheckResults) -> Vec<String> {
-    let mut buf: Vec<u8> = Vec::new();
-    if crate::present::terminal::verdict::write_verdict(&mut buf, res).is_err() {
-        return Vec::new();
-    }
-    let text = String::from_utf8_lossy(&buf);
-    let mut items: Vec<String> = Vec::new();
-    for line in text.lines().skip(1) {
-        let t = line.trim();
-        let starts = line.starts_with("- ") || t.starts_with("~ ") || t.starts_with("> ");
-        match items.last_mut() {
-            Some(last) if !starts && !t.is_empty() => {
-                last.push(' ');
-                last.push_str(t);
-            }
-            _ if !t.is_empty() => {
-                let t = t.trim_start_matches("- ");
-                let t = if let Some(r) = t.strip_prefix("> ") {
-                    format!("Remedy: {r}")
-                } else if let Some(r) = t.strip_prefix("~ ") {
-                    format!("Under the least-damped models: {r}")
-                } else {
-                    t.to_string()
-                };
-                items.push(t);
-            }
-            _ => {}
-        }
-    }
-    items
-}
-
 /// The cover: title, plant, who and when, the input's SHA-256, then the verdict.
 pub fn cover(out: &mut Layout<'_>, res: &CheckResults, prov: &Provenance, kind: &str) {
     let study = &res.plant.study;
@@ -98,7 +64,7 @@ pub fn cover(out: &mut Layout<'_>, res: &CheckResults, prov: &Provenance, kind: 
         8.5,
     );
     out.heading("Verdict", 1);
-    for item in verdict_items(res) {
+    for item in crate::present::terminal::verdict::verdict_items(res) {
         out.bullet(&item);
     }
     out.paragraph("Each figure behind these sentences is in the sections that follow and, row by row, in the review workbook (`-o`), which recalculates its hand checks.");

@@ -54,6 +54,50 @@ pub fn plan_words(p: &PlanResult) -> String {
     )
 }
 
+/// The sentences saying which banks of the Capacitors sheet the plans replace: per design
+/// row whose plans replace an existing bank or one of another id, and the recommended
+/// plan's (the proposed bank a plan stands in for goes without saying).
+pub fn replaced_words(d: &DesignResult) -> Vec<String> {
+    let gone = |base: &crate::model::Plant| -> Vec<&CapacitorBank> {
+        (d.plant.banks.iter())
+            .filter(|b| !base.banks.iter().any(|x| x.id == b.id))
+            .collect()
+    };
+    let ids = |banks: &[&CapacitorBank]| {
+        (banks.iter())
+            .map(|b| match b.status {
+                BankStatus::Existing => format!("{} (existing)", b.id),
+                BankStatus::Proposed => format!("{} (proposed)", b.id),
+            })
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    let mut out = Vec::new();
+    for (base, id) in d.bases.iter().zip(&d.bank_ids) {
+        let gone = gone(base);
+        // The proposed bank a plan stands in for goes without saying; an existing one not.
+        if gone
+            .iter()
+            .any(|b| b.status == BankStatus::Existing || b.id != *id)
+        {
+            out.push(format!(
+                "The designed bank {id} replaces {} (taken out of the plant while its plans are tried; the written plant has the plan in its place).",
+                ids(&gone)
+            ));
+        }
+    }
+    if let Some(p) = d.recommended.map(|i| &d.plans[i]) {
+        let gone = gone(&d.bases[p.row]);
+        if !gone.is_empty() {
+            out.push(format!(
+                "The recommended plan replaces {} on the Capacitors sheet.",
+                ids(&gone)
+            ));
+        }
+    }
+    out
+}
+
 /// Writes the design comparison: the search in figures, the recommended plan and why, the
 /// plans ranked, what the listed plans fail, the notes and the caution.
 pub fn write_design(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
@@ -103,27 +147,8 @@ fn write_search(out: &mut dyn Write, d: &DesignResult) -> io::Result<()> {
         ),
         WIDTH,
     )?;
-    for (base, id) in d.bases.iter().zip(&d.bank_ids) {
-        let gone: Vec<&CapacitorBank> = (d.plant.banks.iter())
-            .filter(|b| !base.banks.iter().any(|x| x.id == b.id))
-            .collect();
-        let replaced: Vec<&str> = gone.iter().map(|b| b.id.as_str()).collect();
-        // The proposed bank a plan stands in for goes without saying; an existing one not.
-        let said = gone
-            .iter()
-            .any(|b| b.status == BankStatus::Existing || b.id != *id);
-        if said {
-            write_hanging(
-                out,
-                "",
-                "  ",
-                &format!(
-                    "The designed bank {id} replaces {} (taken out of the plant while its plans are tried; the written plant has the plan in its place).",
-                    replaced.join(", ")
-                ),
-                WIDTH,
-            )?;
-        }
+    for line in replaced_words(d) {
+        write_hanging(out, "", "  ", &line, WIDTH)?;
     }
     if d.baselines
         .iter()

@@ -436,3 +436,38 @@ fn plant_line(res: &CheckResults) -> Option<String> {
     }
     (!parts.is_empty()).then(|| format!("Plant (configurations): {}.", parts.join("; ")))
 }
+
+/// The verdict block of the terminal answer as sentences for the documents (report,
+/// review): each `- ` line with its hanging lines joined; a bank's `~` and `>` lines as
+/// their own items, said in words.
+pub fn verdict_items(res: &CheckResults) -> Vec<String> {
+    let mut buf: Vec<u8> = Vec::new();
+    if write_verdict(&mut buf, res).is_err() {
+        return Vec::new();
+    }
+    let text = String::from_utf8_lossy(&buf);
+    let mut items: Vec<String> = Vec::new();
+    for line in text.lines().skip(1) {
+        let t = line.trim();
+        let starts = line.starts_with("- ") || t.starts_with("~ ") || t.starts_with("> ");
+        match items.last_mut() {
+            Some(last) if !starts && !t.is_empty() => {
+                last.push(' ');
+                last.push_str(t);
+            }
+            _ if !t.is_empty() => {
+                let t = t.trim_start_matches("- ");
+                let t = if let Some(r) = t.strip_prefix("> ") {
+                    format!("Remedy: {r}")
+                } else if let Some(r) = t.strip_prefix("~ ") {
+                    format!("Under the least-damped models: {r}")
+                } else {
+                    t.to_string()
+                };
+                items.push(t);
+            }
+            _ => {}
+        }
+    }
+    items
+}

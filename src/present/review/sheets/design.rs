@@ -6,7 +6,7 @@ use rust_xlsxwriter::{Format, Worksheet, XlsxError};
 use super::super::writer::{Cell, LINE_POINTS, header, n, on, row, t, wrapped_lines};
 use crate::jobs::design::{DesignResult, Plan, PlanResult};
 use crate::model::CapacitorBank;
-use crate::present::terminal::design::{baseline_words, level_words, plan_words};
+use crate::present::terminal::design::{baseline_words, level_words, plan_words, replaced_words};
 
 fn title(ws: &mut Worksheet, r: u32, text: &str, size: f64) -> Result<(), XlsxError> {
     ws.write_string_with_format(r, 0, text, &Format::new().set_bold().set_font_size(size))?;
@@ -78,6 +78,7 @@ pub fn design(ws: &mut Worksheet, d: &DesignResult) -> Result<(), XlsxError> {
             c.enumerated, c.families, c.after_pf_bound, c.scanned, c.checked, c.passed
         ),
     ];
+    lines.extend(replaced_words(d));
     match d.recommended.map(|i| &d.plans[i]) {
         Some(p) => {
             lines.push(format!(

@@ -3,7 +3,7 @@
 use rust_xlsxwriter::{Format, Worksheet, XlsxError};
 
 use super::super::Provenance;
-use super::super::writer::{Cell, header, n, on, row, t};
+use super::super::writer::{Cell, LINE_POINTS, header, n, on, row, t, wrapped_lines};
 use super::verdict_colours;
 use crate::jobs::check::CheckResults;
 use crate::model::Summation;
@@ -109,16 +109,34 @@ pub(super) fn summary(
         },
         &big,
     )?;
+    // The verdict in sentences first, each across the page.
+    let wrap = Format::new()
+        .set_text_wrap()
+        .set_align(rust_xlsxwriter::FormatAlign::Top);
+    let width: f64 = VERDICT_HEADS.iter().map(|h| h.1).sum();
+    let sentences = crate::present::terminal::verdict::verdict_items(res);
+    for (i, text) in sentences.iter().enumerate() {
+        let r = 2 + i as u32;
+        ws.merge_range(r, 0, r, 7, &format!("• {text}"), &wrap)?;
+        ws.set_row_height(r, LINE_POINTS * wrapped_lines(text, width, false) + 2.0)?;
+    }
+    let first = 3 + sentences.len() as u32;
     let items = provenance_items(res, prov);
     let bold = Format::new().set_bold();
     for (i, (k, v)) in items.iter().enumerate() {
-        ws.write_string_with_format(i as u32 + 2, 0, *k, &bold)?;
-        ws.write_string(i as u32 + 2, 1, v)?;
+        ws.write_string_with_format(first + i as u32, 0, *k, &bold)?;
+        ws.write_string(first + i as u32, 1, v)?;
     }
-    let top = items.len() as u32 + 3;
+    let top = first + items.len() as u32 + 1;
     header(ws, top, VERDICT_HEADS)?;
     let mut rows = verdict_rows(res);
-    rows.sort_by(|a, b| b.0.total_cmp(&a.0));
+    // Flagged rows first, then the informational, then the rest; by severity within.
+    let rank = |cells: &[Cell]| match cells.last() {
+        Some(Cell::Text(v)) if v.contains("info") => 1,
+        Some(Cell::Text(v)) if v.chars().any(char::is_lowercase) => 2,
+        _ => 0,
+    };
+    rows.sort_by(|a, b| rank(&a.1).cmp(&rank(&b.1)).then(b.0.total_cmp(&a.0)));
     for (i, (_, cells)) in rows.iter().enumerate() {
         row(ws, top + 1 + i as u32, cells)?;
     }
@@ -126,6 +144,8 @@ pub(super) fn summary(
     verdict_colours(ws, top + 1, last, 7)?;
     let sign = last + 3;
     ws.write_string_with_format(sign, 0, "Reviewer sign-off", &big)?;
+    // A line to write on beside each label, and room for the seal.
+    let line = Format::new().set_border_bottom(rust_xlsxwriter::FormatBorder::Thin);
     for (i, k) in [
         "Reviewed by",
         "Licence / registration no.",
@@ -136,7 +156,17 @@ pub(super) fn summary(
     .iter()
     .enumerate()
     {
-        ws.write_string_with_format(sign + 1 + i as u32, 0, *k, &bold)?;
+        let r = sign + 1 + i as u32;
+        ws.write_string_with_format(r, 0, *k, &bold)?;
+        ws.merge_range(r, 1, r, 4, "", &line)?;
+        ws.set_row_height(
+            r,
+            if *k == "Signature and seal" {
+                60.0
+            } else {
+                26.0
+            },
+        )?;
     }
     // The verdict table's widths stand (its check names are the longest texts in column
     // A); the provenance values run on into the empty cells to their right.
