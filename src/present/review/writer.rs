@@ -46,15 +46,49 @@ pub fn header_format() -> Format {
         .set_align(FormatAlign::Center)
 }
 
+/// The width a header column needs: its given width, or its longest word's (a header
+/// wraps at word boundaries, never inside a word; bold text taken 12 % wider, as in
+/// [`wrapped_lines`]).
+pub fn header_width(h: &str, w: f64) -> f64 {
+    let word = h
+        .split_whitespace()
+        .map(|x| x.chars().count())
+        .max()
+        .unwrap_or(0);
+    w.max((word as f64 / 0.85).ceil() + 1.0)
+}
+
+/// Several tables on one sheet share its columns: each table's headers with every column
+/// as wide as the widest any of `tables` needs there.
+pub fn shared_widths<'a>(tables: &[&[(&'a str, f64)]]) -> Vec<Vec<(&'a str, f64)>> {
+    let n = tables.iter().map(|t| t.len()).max().unwrap_or(0);
+    let widths: Vec<f64> = (0..n)
+        .map(|c| {
+            (tables.iter())
+                .filter_map(|t| t.get(c).map(|(h, w)| header_width(h, *w)))
+                .fold(0.0, f64::max)
+        })
+        .collect();
+    (tables.iter())
+        .map(|t| {
+            t.iter()
+                .enumerate()
+                .map(|(c, (h, _))| (*h, widths[c]))
+                .collect()
+        })
+        .collect()
+}
+
 /// Writes `headers` in `row` and sets widths; prints landscape, fit to one page wide, with
 /// the header row repeated.
 pub fn header(ws: &mut Worksheet, row: u32, headers: &[(&str, f64)]) -> Result<(), XlsxError> {
     let f = header_format();
     let mut lines: f64 = 1.0;
     for (c, (h, w)) in headers.iter().enumerate() {
+        let w = header_width(h, *w);
         ws.write_string_with_format(row, c as u16, *h, &f)?;
-        ws.set_column_width(c as u16, *w)?;
-        lines = lines.max(wrapped_lines(h, *w, true));
+        ws.set_column_width(c as u16, w)?;
+        lines = lines.max(wrapped_lines(h, w, true));
     }
     // A spreadsheet does not grow a row written from a file: the header's wrapped lines
     // get their height, or a printout loses the first lines of a long header.
@@ -162,6 +196,13 @@ pub fn row(ws: &mut Worksheet, r: u32, cells: &[Cell]) -> Result<(), XlsxError> 
         match cell {
             Cell::Num(v, fmt) => {
                 ws.write_number_with_format(r, c, *v, &Format::new().set_num_format(*fmt))?;
+            }
+            // Text right after a number (right-aligned) is indented, or the two print run
+            // together ("0.914lagging").
+            Cell::Text(s)
+                if c > 0 && matches!(cells[c as usize - 1], Cell::Num(..) | Cell::Formula(..)) =>
+            {
+                ws.write_string_with_format(r, c, s, &Format::new().set_indent(1))?;
             }
             Cell::Text(s) => {
                 ws.write_string(r, c, s)?;

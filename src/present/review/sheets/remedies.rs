@@ -3,7 +3,7 @@
 
 use rust_xlsxwriter::{Worksheet, XlsxError};
 
-use super::super::writer::{header, n, on, row, t};
+use super::super::writer::{header, n, on, row, shared_widths, t};
 use super::verdict_colours;
 use crate::jobs::check::CheckResults;
 
@@ -50,8 +50,14 @@ const REMEDY_HEADS_2: &[(&str, f64)] = &[
 /// row per option) and, below, what it does (the studies re-run with it in place); the
 /// bank's figures before any remedy on a line of their own.
 // Long: the two remedy tables written on one row counter.
+/// The headers of the sheet's three tables (`i`: options, after, whole plant), each column
+/// as wide as any of them needs it.
+fn heads(i: usize) -> Vec<(&'static str, f64)> {
+    shared_widths(&[REMEDY_HEADS, REMEDY_HEADS_2, PLANT_REMEDY_HEADS]).swap_remove(i)
+}
+
 pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), XlsxError> {
-    header(ws, 0, REMEDY_HEADS)?;
+    header(ws, 0, &heads(0))?;
     if res.remedies.is_empty() {
         ws.write_string(
             1,
@@ -103,7 +109,7 @@ pub(super) fn remedies(ws: &mut Worksheet, res: &CheckResults) -> Result<(), Xls
         }
     }
     r += 1;
-    header(ws, r, REMEDY_HEADS_2)?;
+    header(ws, r, &heads(1))?;
     // The sizing table's header repeats on every printed page; the outcome table is short.
     ws.set_repeat_rows(0, 0)?;
     ws.set_freeze_panes(1, 0)?;
@@ -159,7 +165,7 @@ fn plant_remedies(ws: &mut Worksheet, res: &CheckResults, r: u32) -> Result<(), 
     if res.plant_remedies.is_empty() {
         return Ok(());
     }
-    header(ws, r, PLANT_REMEDY_HEADS)?;
+    header(ws, r, &heads(2))?;
     let first = r + 1;
     let mut r = first;
     for pr in &res.plant_remedies {
