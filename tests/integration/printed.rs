@@ -91,6 +91,42 @@ fn page_furniture(case: &str, review: &Path) {
     let text = std::fs::read_to_string(&txt).unwrap();
     let plant = plant_name(case);
     assert!(!plant.is_empty(), "{case}: no plant name");
+    // The widest tables (Resonance, Distortion) print on A3 (1190.55 × 841.89 pt), not
+    // shrunk onto a small page.
+    let info = output_within(
+        Command::new("pdfinfo")
+            .args(["-f", "1", "-l", "999"])
+            .arg(&pdf),
+        60,
+    );
+    let sizes: Vec<f64> = String::from_utf8_lossy(&info.stdout)
+        .lines()
+        .filter(|l| l.starts_with("Page") && l.contains(" size:"))
+        .filter_map(|l| {
+            l.split("size:")
+                .nth(1)?
+                .split_whitespace()
+                .next()?
+                .parse()
+                .ok()
+        })
+        .collect();
+    let mut wide = 0;
+    for (i, page) in text.split('\u{c}').enumerate() {
+        let footer_sheet = page
+            .lines()
+            .rev()
+            .find(|l| l.contains("Page "))
+            .unwrap_or("");
+        if footer_sheet.starts_with("Resonance ") || footer_sheet.starts_with("Distortion ") {
+            let width = sizes.get(i).copied().unwrap_or(0.0);
+            assert!(
+                width > 1100.0,
+                "{case}: page {} ({footer_sheet}) is {width} pt wide",
+                i + 1
+            );
+        }
+    }
     let pages: Vec<&str> = text
         .split('\u{c}')
         .filter(|p| !p.trim().is_empty())
