@@ -118,15 +118,20 @@ fn page_furniture(case: &str, review: &Path) {
             .rev()
             .find(|l| l.contains("Page "))
             .unwrap_or("");
-        if footer_sheet.starts_with("Resonance ") || footer_sheet.starts_with("Distortion ") {
+        if footer_sheet.starts_with("Resonance") || footer_sheet.starts_with("Distortion") {
             let width = sizes.get(i).copied().unwrap_or(0.0);
             assert!(
                 width > 1100.0,
                 "{case}: page {} ({footer_sheet}) is {width} pt wide",
                 i + 1
             );
+            wide += 1;
         }
     }
+    assert!(
+        wide >= 2,
+        "{case}: {wide} Resonance and Distortion pages found"
+    );
     let pages: Vec<&str> = text
         .split('\u{c}')
         .filter(|p| !p.trim().is_empty())
