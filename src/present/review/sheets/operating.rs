@@ -5,7 +5,9 @@
 
 use rust_xlsxwriter::{Format, Worksheet, XlsxError, utility::row_col_to_cell};
 
-use super::super::writer::{Cell, header, n, on, print_digest, row, t};
+use super::super::writer::{
+    Cell, LINE_POINTS, header, header_width, n, on, print_digest, row, t, wrapped_lines,
+};
 use super::verdict_colours;
 use crate::jobs::check::CheckResults;
 
@@ -16,7 +18,14 @@ fn sub_header(ws: &mut Worksheet, r: u32, heads: &[&str]) -> Result<(), XlsxErro
         .set_bold()
         .set_text_wrap()
         .set_background_color("#DCE6F0");
-    ws.set_row_height(r, 48)?;
+    // As tall as the most wrapped header in the first table's column widths.
+    let lines = (heads.iter().enumerate())
+        .map(|(c, h)| {
+            let w = POINT_HEADS.get(c).map_or(9.0, |p| header_width(p.0, p.1));
+            wrapped_lines(h, w, true)
+        })
+        .fold(1.0, f64::max);
+    ws.set_row_height(r, LINE_POINTS * lines + 2.0)?;
     for (c, h) in heads.iter().enumerate() {
         ws.write_string_with_format(r, c as u16, *h, &head)?;
     }
@@ -192,12 +201,13 @@ fn step_changes(ws: &mut Worksheet, res: &CheckResults, mut r: u32) -> Result<()
         &bold,
     )?;
     r += 1;
+    // The configuration in the first table's wide Configuration column.
     let heads = [
         "Bank",
+        "Configuration after",
         "Bus",
         "Step",
         "Scenario",
-        "Configuration after",
         "V before (pu)",
         "V after (pu)",
         "Change (%) (formula)",
@@ -214,10 +224,10 @@ fn step_changes(ws: &mut Worksheet, res: &CheckResults, mut r: u32) -> Result<()
             r,
             &[
                 t(&s.bank),
+                t(&s.configuration),
                 t(&s.bus),
                 n(f64::from(s.step), "0"),
                 t(&s.scenario),
-                t(&s.configuration),
                 n(s.v_before_pu, "0.00000"),
                 n(s.v_after_pu, "0.00000"),
                 Cell::Formula(
