@@ -675,12 +675,12 @@ fn a_template_plant_with_background_and_phasor_runs_every_command() {
     assert!(text.contains("summation phasor"), "{text}");
     assert!(text.contains("(zero seq)"), "{text}");
     assert!(text.contains("from the background"), "{text}");
-    // The review's Scan sheet carries the grounded-wye bank's zero-sequence scan beside
+    // The review's Charts sheet carries the grounded-wye bank's zero-sequence scan beside
     // its positive-sequence one.
     {
         use calamine::{Reader, Xlsx, open_workbook};
         let mut wb: Xlsx<_> = open_workbook(path("review.xlsx")).unwrap();
-        let scan = wb.worksheet_range("Scan").unwrap();
+        let scan = wb.worksheet_range("Charts").unwrap();
         // Row 0 is the sheet's note; the header is row 1.
         let heads: Vec<String> = scan
             .rows()

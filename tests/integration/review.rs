@@ -51,7 +51,7 @@ fn sheets_headers_numbers_and_formulas_read_back() {
         "Summary",
         "Input",
         "Resonance",
-        "Scan",
+        "Charts",
         "Distortion",
         "Duty",
         "Remedies",

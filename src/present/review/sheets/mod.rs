@@ -85,7 +85,7 @@ pub fn write_all(
     let cells = input::input(sheet(wb, "Input", page)?, res, prov)?;
     operating::operating(sheet(wb, "Operating point", page)?, res)?;
     results::resonance(sheet(wb, "Resonance", page)?, res, &cells)?;
-    let charts = scan::scan(sheet(wb, "Scan", page)?, res, charts)?;
+    scan::charts(sheet(wb, scan::SHEET, page)?, res, charts)?;
     results::distortion(sheet(wb, "Distortion", page)?, res)?;
     results::duty(sheet(wb, "Duty", page)?, res)?;
     damping::damping(sheet(wb, "Damping", page)?, res)?;
@@ -104,7 +104,6 @@ pub fn write_all(
         .chain(extra_cautions())
         .collect();
     text_sheet(sheet(wb, "Cautions", page)?, "Cautions", &cautions)?;
-    scan::charts_sheet(sheet(wb, "Charts", page)?, charts)?;
     Ok(())
 }
 

@@ -1,15 +1,19 @@
-//! The scan data sheet and its charts: one chart per bank bus and scenario, with the
-//! configurations of that bank alone step by step, no banks, and the worst configuration
-//! of that bus (the resonance row nearest a characteristic order) plotted and named. The
-//! data sit outside the print area: the reviewer prints the charts, not 5,000 rows.
+//! The Charts sheet: one chart per bank bus and scenario, with the configurations of that
+//! bank alone step by step, no banks, and the worst configuration of that bus (the
+//! resonance row nearest a characteristic order) plotted and named, and the scan data
+//! behind them to the right, outside the print area: the reviewer prints the charts, not
+//! 5,000 rows.
 
 use rust_xlsxwriter::{
     Chart, ChartMarker, ChartMarkerType, ChartType, Format, Worksheet, XlsxError,
 };
 
-use super::super::writer::{header, n, row};
+use super::super::writer::header_format;
 use crate::jobs::charts::ScanCharts;
 use crate::jobs::check::CheckResults;
+
+/// The sheet's name, as the charts' series refer to it.
+pub(super) const SHEET: &str = "Charts";
 
 /// A chart's size, pixels: two charts to a portrait page.
 const CHART_WIDTH_PX: u32 = 690;
@@ -17,13 +21,14 @@ const CHART_HEIGHT_PX: u32 = 440;
 /// Rows of 20 px a chart and its gap take.
 const CHART_ROWS: u32 = 23;
 
-/// The charts on one sheet, two to a printed page, in the order given.
-pub(super) fn charts_sheet(
-    ws: &mut Worksheet,
-    charts: Vec<(String, Chart)>,
-) -> Result<(), XlsxError> {
+/// The first column of the scan data, right of the charts.
+const DATA_COL: u16 = 14;
+
+/// The charts at the sheet's left, two to a printed page, in the order given; the print
+/// area is theirs alone.
+fn place_charts(ws: &mut Worksheet, charts: &[Chart]) -> Result<(), XlsxError> {
     let mut breaks = Vec::new();
-    for (i, (_, chart)) in charts.iter().enumerate() {
+    for (i, chart) in charts.iter().enumerate() {
         let r = i as u32 * CHART_ROWS;
         if i > 0 && i % 2 == 0 {
             breaks.push(r);
@@ -31,26 +36,28 @@ pub(super) fn charts_sheet(
         ws.insert_chart(r, 0, chart)?;
     }
     ws.set_page_breaks(&breaks)?;
+    let rows = (charts.len() as u32 * CHART_ROWS).max(1);
+    ws.set_print_area(0, 0, rows - 1, DATA_COL - 3)?;
     ws.set_portrait();
     ws.set_print_fit_to_pages(1, 0);
     Ok(())
 }
 
-/// Rows above the table: the note (the only printed cell) and the header.
+/// Rows above the table: the note and the header.
 const FIRST_DATA_ROW: u32 = 2;
 
-/// Writes the scan table for every scenario and returns one chart per bank bus and
-/// scenario, named for its chart sheet.
-pub(super) fn scan(
+/// Writes the Charts sheet: the scan table of every charted curve (right of the charts)
+/// and one chart per bank bus and scenario.
+pub(super) fn charts(
     ws: &mut Worksheet,
     res: &CheckResults,
     charts_data: &ScanCharts,
-) -> Result<Vec<(String, Chart)>, XlsxError> {
+) -> Result<(), XlsxError> {
     let orders = &res.scan.grid.orders;
     let (columns, groups) = (&charts_data.curves, &charts_data.groups);
     ws.write_string_with_format(
         0,
-        0,
+        DATA_COL,
         format!(
             "Scan data behind the charts ({} scan points x {} curves); not printed: the charts are.",
             orders.len(),
@@ -69,37 +76,33 @@ pub(super) fn scan(
         };
         (format!("|Z| {} {}{scenario} (ohm)", c.bus, c.label), 14.0)
     }));
-    let head_refs: Vec<(&str, f64)> = heads.iter().map(|(h, w)| (h.as_str(), *w)).collect();
-    header(ws, FIRST_DATA_ROW - 1, &head_refs)?;
-    let f = res.plant.study.frequency_hz;
-    for (i, &h) in orders.iter().enumerate() {
-        let mut cells = vec![n(h, "0.00"), n(h * f, "0.0")];
-        cells.extend(columns.iter().map(|c| n(c.z_ohm[i], "0.00000")));
-        row(ws, i as u32 + FIRST_DATA_ROW, &cells)?;
+    let head = header_format();
+    for (i, (h, w)) in heads.iter().enumerate() {
+        let c = DATA_COL + i as u16;
+        ws.write_string_with_format(FIRST_DATA_ROW - 1, c, h, &head)?;
+        ws.set_column_width(c, *w)?;
     }
-    ws.set_print_area(0, 0, 0, 0)?;
+    let f = res.plant.study.frequency_hz;
+    let (order_fmt, hz_fmt, z_fmt) = (
+        Format::new().set_num_format("0.00"),
+        Format::new().set_num_format("0.0"),
+        Format::new().set_num_format("0.00000"),
+    );
+    for (i, &h) in orders.iter().enumerate() {
+        let r = i as u32 + FIRST_DATA_ROW;
+        ws.write_number_with_format(r, DATA_COL, h, &order_fmt)?;
+        ws.write_number_with_format(r, DATA_COL + 1, h * f, &hz_fmt)?;
+        for (k, c) in columns.iter().enumerate() {
+            ws.write_number_with_format(r, DATA_COL + 2 + k as u16, c.z_ohm[i], &z_fmt)?;
+        }
+    }
     let last = orders.len() as u32 + FIRST_DATA_ROW - 1;
-    let mark_col = (columns.len() + 3) as u16;
+    let mark_col = DATA_COL + (columns.len() + 3) as u16;
     let mut charts = Vec::new();
     for (g, group) in groups.iter().enumerate() {
-        let chart = chart(ws, res, columns, g, group, mark_col, last)?;
-        let scenario = &res.scan.scenarios[group.scenario];
-        let title = if scenarios > 1 {
-            format!("Chart {} {scenario}", group.bus)
-        } else {
-            format!("Chart {}", group.bus)
-        };
-        let mut name: String = title
-            .chars()
-            .filter(|c| !"[]:*?/\\'".contains(*c))
-            .take(27)
-            .collect();
-        if charts.iter().any(|(n, _): &(String, Chart)| *n == name) {
-            name = format!("{name} {g}");
-        }
-        charts.push((name, chart));
+        charts.push(chart(ws, res, columns, g, group, mark_col, last)?);
     }
-    Ok(charts)
+    place_charts(ws, &charts)
 }
 
 /// Chart `g` of `group`: its curves from the data table (rows up to `last`), with its
@@ -147,20 +150,20 @@ fn chart(
     chart.x_axis().set_name("Harmonic order");
     chart.y_axis().set_name("|Z| (ohm)");
     for col in group.columns.clone() {
-        let c = (col + 2) as u16;
+        let c = DATA_COL + (col + 2) as u16;
         chart
             .add_series()
             .set_name(&columns[col].label)
-            .set_categories(("Scan", FIRST_DATA_ROW, 0, last, 0))
-            .set_values(("Scan", FIRST_DATA_ROW, c, last, c));
+            .set_categories((SHEET, FIRST_DATA_ROW, DATA_COL, last, DATA_COL))
+            .set_values((SHEET, FIRST_DATA_ROW, c, last, c));
     }
     if !chars.is_empty() {
         let end = FIRST_DATA_ROW + chars.len() as u32 - 1;
         chart
             .add_series()
             .set_name("characteristic orders")
-            .set_categories(("Scan", FIRST_DATA_ROW, mc, end, mc))
-            .set_values(("Scan", FIRST_DATA_ROW, mc + 1, end, mc + 1))
+            .set_categories((SHEET, FIRST_DATA_ROW, mc, end, mc))
+            .set_values((SHEET, FIRST_DATA_ROW, mc + 1, end, mc + 1))
             .set_marker(ChartMarker::new().set_type(ChartMarkerType::Triangle))
             .set_format(rust_xlsxwriter::ChartFormat::new().set_no_line());
     }
