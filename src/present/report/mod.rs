@@ -32,8 +32,8 @@ pub fn is_ours(pdf: &[u8]) -> bool {
         .any(|w| w == REPORT_MARK.as_bytes())
 }
 
-/// The page header's text: title, plant and date.
-fn header(res: &CheckResults, prov: &Provenance) -> String {
+/// The page header's text: the title, and then the plant and date.
+fn header(res: &CheckResults, prov: &Provenance) -> (String, String) {
     let s = &res.plant.study;
     let (y, m, d) = prov.date;
     let title = if s.title.is_empty() {
@@ -41,7 +41,10 @@ fn header(res: &CheckResults, prov: &Provenance) -> String {
     } else {
         &s.title
     };
-    format!("{title} | {} | {y:04}-{m:02}-{d:02}", s.plant)
+    (
+        title.to_string(),
+        format!(" | {} | {y:04}-{m:02}-{d:02}", s.plant),
+    )
 }
 
 /// The cautions the report prints whole.
@@ -80,10 +83,12 @@ pub fn report_bytes(
     sections::remedies(&mut out, res);
     sections::cautions(&mut out, &cautions());
     sections::sign_off(&mut out);
+    let (title, tail) = header(res, prov);
     let furniture = render::Furniture {
-        header: header(res, prov),
+        header: title.clone(),
         footer: "A proposal for a licensed engineer's review; see Cautions".into(),
-        title: header(res, prov),
+        title: format!("{title}{tail}"),
+        header_tail: tail,
     };
     render::render(&out.pages, &furniture, (REGULAR, BOLD), &metrics)
 }

@@ -15,8 +15,9 @@ use super::layout::{BLACK, GREY, MARGIN, Metrics, Op, PAGE_H, PAGE_W, RULE, Rgb,
 
 /// What every page carries.
 pub struct Furniture {
-    /// Header: title, plant and date, one line.
+    /// Header: the title (cut to fit), then `header_tail` (plant and date), one line.
     pub header: String,
+    pub header_tail: String,
     /// Footer, left: the caution in a few words.
     pub footer: String,
     /// The document's title (its metadata).
@@ -59,6 +60,13 @@ pub fn render(
             .keywords(vec![super::REPORT_MARK.into()]),
     );
     let n = pages.len();
+    let tail = &furniture.header_tail;
+    let room = WIDTH - metrics.width(tail, 8.0, false);
+    let header = fit(
+        &format!("{}{tail}", fit(&furniture.header, room, metrics)),
+        WIDTH,
+        metrics,
+    );
     for (i, ops) in pages.iter().enumerate() {
         let settings = PageSettings::from_wh(PAGE_W, PAGE_H).ok_or(RenderError::Page)?;
         let mut page = doc.start_page_with(settings);
@@ -75,7 +83,7 @@ pub fn render(
                 size: 8.0,
                 bold: false,
                 color: GREY,
-                text: furniture.header.clone(),
+                text: header.clone(),
             },
             Op::Line {
                 from: (MARGIN, 47.0),
@@ -115,6 +123,25 @@ pub fn render(
         page.finish();
     }
     doc.finish().map_err(|e| RenderError::Pdf(format!("{e:?}")))
+}
+
+/// `text` cut to fit `width` points at the furniture's 8 pt, with an ellipsis when cut.
+fn fit(text: &str, width: f32, metrics: &Metrics<'_>) -> String {
+    if metrics.width(text, 8.0, false) <= width {
+        return text.to_string();
+    }
+    let mut cut: String = String::new();
+    for c in text.chars() {
+        let mut next = cut.clone();
+        next.push(c);
+        next.push('…');
+        if metrics.width(&next, 8.0, false) > width {
+            break;
+        }
+        cut.push(c);
+    }
+    cut.push('…');
+    cut
 }
 
 /// Draws one operation.
