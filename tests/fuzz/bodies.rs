@@ -99,8 +99,11 @@ pub fn audit_reports(res: &CheckResults) {
         date: (2026, 1, 1),
         warnings: Vec::new(),
     };
-    let bytes = review_bytes(res, &overtone::jobs::charts::scan_charts(res), &prov)
-        .expect("review workbook to memory");
+    let charts = overtone::jobs::charts::scan_charts(res);
+    let pdf = overtone::present::report::report_bytes(res, &charts, &prov, None)
+        .expect("study report to memory");
+    assert!(pdf.starts_with(b"%PDF"), "the study report is a PDF");
+    let bytes = review_bytes(res, &charts, &prov).expect("review workbook to memory");
     let mut zip = zip::ZipArchive::new(std::io::Cursor::new(bytes)).expect("review is a zip");
     for i in 0..zip.len() {
         let mut part = zip.by_index(i).expect("zip part");
