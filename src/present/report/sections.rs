@@ -91,7 +91,6 @@ pub fn basis(out: &mut Layout<'_>, res: &CheckResults) {
         s.voltage_range.low_pu,
         s.voltage_range.high_pu,
     ));
-    out.paragraph(crate::present::words::model_scope());
     sources_table(out, p);
     banks_table(out, p);
     let kw: f64 = p.loads.iter().map(|l| l.p_kw()).sum();
@@ -103,8 +102,12 @@ pub fn basis(out: &mut Layout<'_>, res: &CheckResults) {
         p.transformers.len(),
         p.cables.len()
     ));
+    out.heading("Assumptions and scope", 2);
+    for a in crate::present::review::assumptions(res) {
+        out.bullet(&a);
+    }
     if !res.notes.is_empty() {
-        out.heading("Assumptions and notes of this study", 2);
+        out.heading("Notes of this study", 2);
         for n in &res.notes {
             out.bullet(&n.to_string());
         }

@@ -6,6 +6,7 @@
 mod sheets;
 mod writer;
 
+pub use sheets::assumptions;
 pub use writer::NOT_COMPUTED;
 
 use rust_xlsxwriter::{DocProperties, ExcelDateTime, Workbook, XlsxError};

@@ -168,7 +168,9 @@ fn extra_cautions() -> Vec<String> {
     ]
 }
 
-fn assumptions(res: &CheckResults) -> Vec<String> {
+/// The study's assumptions and scope, one sentence or paragraph each (the Assumptions
+/// sheet; the study report prints them too).
+pub fn assumptions(res: &CheckResults) -> Vec<String> {
     let p = &res.plant.study;
     let mut a = vec![
         "Every built-in value (limit tables, spectra, defaults, formulas) is listed with its source and confidence on the Sources sheet; a licensed copy of a standard wins over any value here.".to_string(),
