@@ -61,6 +61,31 @@ pub fn participation(t: &[Complex64]) -> Vec<f64> {
         .collect()
 }
 
+/// Scales `x` to unit norm (a zero vector stays as it is).
+fn normalize(x: &mut [Complex64]) {
+    let norm = x.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
+    if norm > 0.0 {
+        x.iter_mut().for_each(|v| *v /= norm);
+    }
+}
+
+/// How far the unit iterate `y` is from the unit `x` once the turn between them is taken
+/// out (an eigenvector is defined up to a phase, and the iterate turns by arg(μ) each
+/// step): (the phase of xᴴ·y, ‖y − x·phase‖).
+fn aligned_change(x: &[Complex64], y: &[Complex64]) -> (Complex64, f64) {
+    let turn: Complex64 = x.iter().zip(y).map(|(a, b)| a.conj() * b).sum();
+    let phase = if turn.norm() > 0.0 {
+        turn / turn.norm()
+    } else {
+        Complex64::new(1.0, 0.0)
+    };
+    let change = (x.iter().zip(y))
+        .map(|(a, b)| (b - a * phase).norm_sqr())
+        .sum::<f64>()
+        .sqrt();
+    (phase, change)
+}
+
 /// The dominant eigenpair of Z = Y⁻¹ by power iteration, `solve(x)` replacing x by Z·x:
 /// (μ, eigenvector scaled to ‖x‖ = 1, converged).
 pub fn dominant(
@@ -80,12 +105,6 @@ fn dominant_to(
     let mut x: Vec<Complex64> = (0..n)
         .map(|k| Complex64::new(1.0 + 0.01 * (k % 7) as f64, 0.001 * (k % 5) as f64))
         .collect();
-    let normalize = |x: &mut [Complex64]| {
-        let norm = x.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
-        if norm > 0.0 {
-            x.iter_mut().for_each(|v| *v /= norm);
-        }
-    };
     normalize(&mut x);
     let mut mu = Complex64::default();
     let mut converged = false;
@@ -97,17 +116,7 @@ fn dominant_to(
         let den: Complex64 = x.iter().map(|a| a * a).sum();
         let next = if den.norm() > 0.0 { num / den } else { num };
         normalize(&mut y);
-        // The iterate turns by arg(μ) each step: compare it with x turned alike.
-        let turn: Complex64 = x.iter().zip(&y).map(|(a, b)| a.conj() * b).sum();
-        let phase = if turn.norm() > 0.0 {
-            turn / turn.norm()
-        } else {
-            Complex64::new(1.0, 0.0)
-        };
-        let change = (x.iter().zip(&y))
-            .map(|(a, b)| (b - a * phase).norm_sqr())
-            .sum::<f64>()
-            .sqrt();
+        let (_, change) = aligned_change(&x, &y);
         std::mem::swap(&mut x, &mut y);
         mu = next;
         if change <= tolerance {
@@ -149,18 +158,9 @@ fn refine(
             break;
         }
         let next = lambda + den / num;
-        let norm = y.iter().map(|v| v.norm_sqr()).sum::<f64>().sqrt();
-        y.iter_mut().for_each(|v| *v /= norm);
-        let turn: Complex64 = x.iter().zip(&y).map(|(a, b)| a.conj() * b).sum();
-        let phase = if turn.norm() > 0.0 {
-            turn / turn.norm()
-        } else {
-            Complex64::new(1.0, 0.0)
-        };
-        change = (x.iter().zip(&y))
-            .map(|(a, b)| (b - a * phase).norm_sqr())
-            .sum::<f64>()
-            .sqrt();
+        normalize(&mut y);
+        let phase;
+        (phase, change) = aligned_change(&x, &y);
         // Keep the eigenvector's phase: the next iterate aligned with the last.
         x.iter_mut()
             .zip(&y)
