@@ -3,6 +3,7 @@
 //! provenance of an input file.
 
 pub mod provenance;
+pub mod recordings;
 pub mod schema;
 pub mod template;
 pub mod workbook_in;
