@@ -128,6 +128,36 @@ pub enum Command {
     /// Search the bank plans (step size × count × detuning × voltage class at the Design
     /// sheet's buses) that reach the target power factor and pass every check.
     Design(DesignArgs),
+    /// Calibrate the model from recordings at the PCC: switching events in COMTRADE
+    /// captures give S_sc, X/R, Z(h) and the background; a harmonic log is judged by
+    /// IEEE 519-2014's statistical evaluation.
+    Calibrate(CalibrateArgs),
+}
+
+#[derive(clap::Args)]
+pub struct CalibrateArgs {
+    /// The plant's input workbook (.xlsx, .xlsm, .xls or .ods).
+    pub plant: PathBuf,
+    /// Recordings: COMTRADE (.cfg with its .dat, or .cff) and harmonic logs (.csv).
+    #[arg(required = true, value_name = "RECORDING")]
+    pub recordings: Vec<PathBuf>,
+    /// The bus the recordings were taken at (default: the PCC).
+    #[arg(long, value_name = "BUS")]
+    pub bus: Option<String>,
+    /// The steps in service when the first recording starts, e.g. "C1=0 C2=2" (default:
+    /// the fewest steps consistent with the switching events found).
+    #[arg(long, value_name = "STEPS")]
+    pub configuration: Option<String>,
+    /// Write the calibrated plant (.xlsx): a supply scenario `measured` with the fitted
+    /// source and its Background rows, ready for `overtone check`.
+    #[arg(long, value_name = "FILE")]
+    pub write_plant: Option<PathBuf>,
+    /// Print the calibration as JSON instead of the terminal summary.
+    #[arg(long)]
+    pub json: bool,
+    /// Replace an existing output file that overtone did not write.
+    #[arg(long)]
+    pub force: bool,
 }
 
 #[derive(clap::Args)]

@@ -9,7 +9,7 @@ use std::path::Path;
 use std::process::ExitCode;
 
 use clap::Parser;
-use cli::{Cli, Command, DesignArgs, Outputs, Select};
+use cli::{CalibrateArgs, Cli, Command, DesignArgs, Outputs, Select};
 use overtone::export::{ExportPlan, OutputKind};
 use overtone::io::provenance::{Provenance, file_provenance, parse_date};
 use overtone::io::workbook_in::{ReadOutcome, read_workbook};
@@ -96,6 +96,7 @@ fn run(command: Command) -> Result<ExitCode, Failure> {
             print(|w| terminal::summary::write_sizing(w, &outcome.sizing, outcome.tuned))
         }
         Command::Design(a) => design(&a),
+        Command::Calibrate(a) => calibrate(&a),
         Command::Template { file, force } => {
             let plan = ExportPlan::check(&[(Some(&file), OutputKind::Template)], None, force)?;
             plan.write_template(&file)?;
@@ -207,6 +208,46 @@ fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
         );
     }
     Ok(code)
+}
+
+/// `calibrate`: the recordings read, the model calibrated, the calibrated plant written.
+fn calibrate(a: &CalibrateArgs) -> Result<ExitCode, Failure> {
+    use overtone::jobs::calibrate::{CalibrateOptions, Recording, run_calibrate};
+    let exports = [(a.write_plant.as_deref(), OutputKind::Template)];
+    let plan = ExportPlan::check(&exports, Some(&a.plant), a.force)?;
+    let read = read(&a.plant)?;
+    let mut recordings = Vec::new();
+    for path in &a.recordings {
+        let ext = path
+            .extension()
+            .map(|e| e.to_string_lossy().to_ascii_lowercase());
+        recordings.push(match ext.as_deref() {
+            Some("csv") => Recording::Log(overtone::io::recordings::harmonic_log::read_log(path)?),
+            _ => Recording::Waveforms(Box::new(overtone::io::recordings::comtrade::read_comtrade(
+                path,
+            )?)),
+        });
+    }
+    let options = CalibrateOptions {
+        bus: a.bus.clone(),
+        start: a.configuration.clone(),
+    };
+    let res = run_calibrate(&read.plant, &recordings, &options)?;
+    if let Some(path) = &a.write_plant {
+        let prov = file_provenance(&a.plant, &read.warnings, overtone::demo::DEMO_DATE)
+            .map_err(|e| Failure(format!("{}: {e}", a.plant.display())))?;
+        let words = format!("plant {} SHA-256 {}", prov.input, prov.sha256);
+        if !plan.write_calibrated(&res, path, &words)? {
+            let _ = writeln!(
+                io::stderr(),
+                "overtone: no switching event was found, so --write-plant wrote nothing"
+            );
+        }
+    }
+    print(|w| match a.json {
+        true => writeln!(w, "{}", json::calibrate_json(&res)),
+        false => terminal::calibrate::write_calibration(w, &res),
+    })
 }
 
 /// Prints to stdout; a closed pipe is a quiet success.

@@ -168,6 +168,28 @@ impl ExportPlan {
         Ok(())
     }
 
+    /// Writes the calibrated plant of `c` (nothing without one), its added rows noted with
+    /// their provenance.
+    pub fn write_calibrated(
+        &self,
+        c: &crate::jobs::calibrate::CalibrationResults,
+        path: &Path,
+        provenance: &str,
+    ) -> Result<bool, ExportFailure> {
+        let Some(plant) = &c.calibrated else {
+            return Ok(false);
+        };
+        let notes = crate::jobs::calibrate::provenance_notes(c, provenance);
+        let bytes = crate::io::template::plant_workbook_noted(plant, &notes).map_err(|source| {
+            ExportFailure::Workbook {
+                path: path.display().to_string(),
+                source,
+            }
+        })?;
+        self.write(path, &bytes)?;
+        Ok(true)
+    }
+
     /// Writes the blank template.
     pub fn write_template(&self, path: &Path) -> Result<(), ExportFailure> {
         let bytes =

@@ -2,6 +2,7 @@
 //! command names and returns data (result structs that the [`crate::present`] layer only
 //! reads). Jobs compose studies; no study imports a job.
 
+pub mod calibrate;
 pub mod charts;
 pub mod check;
 pub mod damping;

@@ -298,3 +298,45 @@ pub fn design_json(d: &crate::jobs::design::DesignResult) -> String {
     };
     serde_json::to_string_pretty(&j).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
 }
+
+/// The JSON of a calibration: the recordings, every event, the source fit, Z(h), the
+/// background, the resonance and per-order comparison, the verdicts by scenario, the
+/// measured compliance rows and the notes.
+pub fn calibrate_json(c: &crate::jobs::calibrate::CalibrationResults) -> String {
+    #[derive(serde::Serialize)]
+    struct CalibrationJson<'a> {
+        bus: &'a str,
+        kv: f64,
+        verdict: Vec<String>,
+        recordings: &'a [crate::jobs::calibrate::RecordingSummary],
+        events: &'a [crate::jobs::calibrate::EventRow],
+        source: Option<&'a crate::jobs::calibrate::SourceFit>,
+        impedance: &'a [crate::jobs::calibrate::estimate::OrderImpedance],
+        background: &'a [crate::jobs::calibrate::estimate::BackgroundEstimate],
+        background_basis: &'a str,
+        resonance: &'a [crate::jobs::calibrate::ResonanceCompare],
+        comparison: &'a [crate::jobs::calibrate::OrderCompare],
+        verdicts: &'a [crate::jobs::calibrate::VerdictCount],
+        compliance: &'a [crate::study::measured::compliance::Compliance],
+        notes: &'a [String],
+        cautions: &'static [&'static str],
+    }
+    let j = CalibrationJson {
+        bus: &c.bus,
+        kv: c.kv,
+        verdict: crate::present::terminal::calibrate::verdict_items(c),
+        recordings: &c.recordings,
+        events: &c.events,
+        source: c.source.as_ref(),
+        impedance: &c.impedance,
+        background: &c.background,
+        background_basis: &c.background_basis,
+        resonance: &c.resonance,
+        comparison: &c.comparison,
+        verdicts: &c.verdicts,
+        compliance: &c.compliance,
+        notes: &c.notes,
+        cautions: crate::present::cautions::CAUTIONS,
+    };
+    serde_json::to_string_pretty(&j).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"))
+}

@@ -9,6 +9,7 @@ pub mod duty;
 pub mod hand;
 pub mod injections;
 pub mod limits;
+pub mod measured;
 pub mod modal;
 pub mod neutral;
 pub mod operating;

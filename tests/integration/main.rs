@@ -20,6 +20,7 @@
 //!   `tests/fuzz/bodies.rs`) and proptest properties.
 
 mod bounds;
+mod calibration;
 mod cases;
 mod cli;
 mod common;
@@ -34,6 +35,8 @@ mod model;
 mod printed;
 mod properties;
 mod reader;
+#[path = "../support/recording.rs"]
+mod recording;
 mod reference_capacitors;
 mod reference_damping;
 mod reference_data;

@@ -321,8 +321,18 @@ fn note(text: &str) -> Note {
         .set_height(120)
 }
 
-/// Builds the workbook: blank (`None`, the template) or holding `plant`.
-fn build(plant: Option<&Plant>) -> Result<Workbook, XlsxError> {
+/// A note (cell comment) on a data row of the written workbook: its sheet, the row's index
+/// among that sheet's data rows (0 = the first under the header) and the text.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RowNote {
+    pub sheet: &'static str,
+    pub row: usize,
+    pub text: String,
+}
+
+/// Builds the workbook: blank (`None`, the template) or holding `plant`, with `notes` on
+/// the first cell of the rows they name.
+fn build(plant: Option<&Plant>, notes: &[RowNote]) -> Result<Workbook, XlsxError> {
     let mut wb = Workbook::new();
     wb.set_properties(
         &DocProperties::new()
@@ -375,6 +385,9 @@ fn build(plant: Option<&Plant>) -> Result<Workbook, XlsxError> {
             for (i, row) in rows(p, name).iter().enumerate() {
                 write_row(ws, i as u32 + 1, row)?;
             }
+            for n in notes.iter().filter(|n| n.sheet == name) {
+                ws.insert_note(n.row as u32 + 1, 0, &note(&n.text))?;
+            }
         }
     }
     Ok(wb)
@@ -382,10 +395,16 @@ fn build(plant: Option<&Plant>) -> Result<Workbook, XlsxError> {
 
 /// The bytes of `plant`'s input workbook (deterministic: fixed document date).
 pub fn plant_workbook(plant: &Plant) -> Result<Vec<u8>, XlsxError> {
-    build(Some(plant))?.save_to_buffer()
+    build(Some(plant), &[])?.save_to_buffer()
+}
+
+/// The bytes of `plant`'s input workbook with `notes` on the rows they name (provenance of
+/// rows a job added).
+pub fn plant_workbook_noted(plant: &Plant, notes: &[RowNote]) -> Result<Vec<u8>, XlsxError> {
+    build(Some(plant), notes)?.save_to_buffer()
 }
 
 /// The bytes of the blank template.
 pub fn template_bytes() -> Result<Vec<u8>, XlsxError> {
-    build(None)?.save_to_buffer()
+    build(None, &[])?.save_to_buffer()
 }

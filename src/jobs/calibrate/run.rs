@@ -1,0 +1,580 @@
+//! The calibration itself: recordings analysed, events matched, the source fitted, the
+//! calibrated plant built and checked.
+
+use num_complex::Complex64;
+use serde::Serialize;
+
+use super::estimate::{self, BackgroundEstimate, OrderImpedance, Spread};
+use super::matching::{Match, match_event, states};
+use super::model::{self, OrderCompare, ResonanceCompare, VerdictCount};
+use super::{CalibrateError, channels};
+use crate::io::recordings::comtrade::Waveforms;
+use crate::io::recordings::harmonic_log::HarmonicLog;
+use crate::model::{BackgroundLine, Plant, ResistanceModel, ShortCircuit, Source, SourceKind};
+use crate::study::measured::compliance::{Compliance, evaluate};
+use crate::study::measured::events::{EventOptions, Window, analyse};
+
+/// A recording given to the job.
+#[derive(Debug, Clone)]
+pub enum Recording {
+    Waveforms(Box<Waveforms>),
+    Log(HarmonicLog),
+}
+
+/// What the job is asked.
+#[derive(Debug, Clone, Default)]
+pub struct CalibrateOptions {
+    /// The bus the recordings were taken at; `None` = the PCC.
+    pub bus: Option<String>,
+    /// The steps in service at the first recording's start (`C1=1 C2=0`); `None` = inferred
+    /// from the events (the fewest steps consistent with them).
+    pub start: Option<String>,
+}
+
+/// The name of the supply scenario the calibration adds.
+pub const MEASURED: &str = "measured";
+
+/// One waveform recording, described.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RecordingSummary {
+    pub file: String,
+    /// `COMTRADE 2013 ASCII`, ...
+    pub kind: String,
+    pub duration_s: f64,
+    pub samples: usize,
+    /// Samples per cycle the analysis used.
+    pub per_cycle: usize,
+    pub events: usize,
+    /// The current channels pointed toward the source and were reversed.
+    pub reversed_current: bool,
+}
+
+/// One switching event, as the reports list it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct EventRow {
+    pub file: String,
+    pub time_s: f64,
+    pub delta_q_kvar: f64,
+    pub delta_v_percent: f64,
+    /// S_sc from ΔV/V ≈ ΔQ/S_sc, MVA.
+    pub s_sc_approx_mva: f64,
+    /// S_sc from the complex ratio kV²/|ΔV₁/ΔI₁|, MVA.
+    pub s_sc_mva: f64,
+    pub x_over_r: f64,
+    pub matched: Option<Match>,
+    /// The configuration in service after the event.
+    pub configuration_after: String,
+    /// The measured ringing after an energizing, Hz, and its damping ratio.
+    pub ringing_hz: Option<f64>,
+    pub ringing_zeta: Option<f64>,
+    /// f₁·√(S_sc/Q) with the fitted S_sc and the kvar in service at the bus after the
+    /// event, Hz.
+    pub ringing_hand_hz: Option<f64>,
+}
+
+/// The source fitted to the events.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SourceFit {
+    /// The utility source at the recording bus whose scenario rows give the bounds.
+    pub source: String,
+    /// Least-squares Z(1) over the events, ohm per phase.
+    #[serde(serialize_with = "crate::study::measured::ser_complex")]
+    pub z1_ohm: Complex64,
+    /// kV²/|Z(1)|, MVA, and its spread over the events.
+    pub s_sc_mva: f64,
+    pub s_sc_spread: Spread,
+    /// The ΔV/V ≈ ΔQ/S_sc estimate's spread, MVA.
+    pub s_sc_approx_spread: Spread,
+    pub x_over_r: f64,
+    pub x_over_r_spread: Spread,
+    /// The range the Sources sheet gives for this source: (S_sc min, max), (X/R min, max).
+    pub bounds: ((f64, f64), (f64, f64)),
+    /// The values the `measured` scenario holds (the estimate held within the bounds).
+    pub fitted_s_sc_mva: f64,
+    pub fitted_x_over_r: f64,
+    /// The estimate lay outside the bounds and was held at them.
+    pub held_at_bound: bool,
+    /// The fundamental EMF behind the source, pu of nominal (mean over the windows).
+    pub emf_pu: f64,
+}
+
+/// Everything a calibration finds.
+#[derive(Debug, Clone)]
+pub struct CalibrationResults {
+    pub plant: Plant,
+    /// The plant with the `measured` scenario and its background (`None` without events).
+    pub calibrated: Option<Plant>,
+    pub bus: String,
+    pub kv: f64,
+    pub recordings: Vec<RecordingSummary>,
+    pub events: Vec<EventRow>,
+    pub source: Option<SourceFit>,
+    pub impedance: Vec<OrderImpedance>,
+    pub background: Vec<BackgroundEstimate>,
+    /// Which windows the background came from.
+    pub background_basis: String,
+    pub resonance: Vec<ResonanceCompare>,
+    pub comparison: Vec<OrderCompare>,
+    pub verdicts: Vec<VerdictCount>,
+    pub compliance: Vec<Compliance>,
+    /// Per recording, the fundamental reactive power per cycle, kvar (for the plots).
+    pub q_kvar: Vec<Vec<f64>>,
+    pub notes: Vec<String>,
+}
+
+/// Runs the calibration of `plant` (validated) against `recordings`.
+pub fn run_calibrate(
+    plant: &Plant,
+    recordings: &[Recording],
+    options: &CalibrateOptions,
+) -> Result<CalibrationResults, CalibrateError> {
+    if recordings.is_empty() {
+        return Err(CalibrateError::NoRecording);
+    }
+    let bus = match &options.bus {
+        Some(b) => b.clone(),
+        None => plant.pcc_bus().unwrap_or_default().to_string(),
+    };
+    let kv = plant
+        .buses
+        .iter()
+        .find(|b| b.id == bus)
+        .map(|b| b.nominal_kv)
+        .ok_or_else(|| CalibrateError::UnknownBus(bus.clone()))?;
+    let source = plant
+        .sources
+        .iter()
+        .find(|s| s.bus == bus && s.kind == SourceKind::Utility)
+        .ok_or_else(|| CalibrateError::NoSource(bus.clone()))?
+        .clone();
+    let start = match &options.start {
+        Some(text) => Some(crate::study::parse_configuration(text, &plant.banks)?.steps),
+        None => None,
+    };
+    let mut res = CalibrationResults {
+        plant: plant.clone(),
+        calibrated: None,
+        bus: bus.clone(),
+        kv,
+        recordings: Vec::new(),
+        events: Vec::new(),
+        source: None,
+        impedance: Vec::new(),
+        background: Vec::new(),
+        background_basis: String::new(),
+        resonance: Vec::new(),
+        comparison: Vec::new(),
+        verdicts: Vec::new(),
+        compliance: Vec::new(),
+        q_kvar: Vec::new(),
+        notes: Vec::new(),
+    };
+    let f1 = plant.study.frequency_hz;
+    let v_nominal = kv * 1e3 / 3f64.sqrt();
+    let min_step = plant
+        .banks
+        .iter()
+        .map(|b| b.step_kvar)
+        .fold(f64::INFINITY, f64::min);
+    let threshold_var = if min_step.is_finite() {
+        0.4 * min_step * 1e3
+    } else {
+        100e3
+    };
+    let opt = EventOptions {
+        threshold_var,
+        orders: 50,
+        window_cycles: (0.2 * f1).round() as usize,
+        settle_cycles: 6,
+        kv_nominal: kv,
+    };
+    // (event, its window pair, the state index) over every waveform recording.
+    let mut events = Vec::new();
+    let mut windows: Vec<(Window, Vec<u32>)> = Vec::new();
+    let mut rows = Vec::new();
+    for rec in recordings {
+        match rec {
+            Recording::Log(log) => res
+                .compliance
+                .extend(evaluate(log, &model::limits_at(plant, kv))),
+            Recording::Waveforms(w) => {
+                if (w.config.line_frequency_hz - f1).abs() > 0.5 && w.config.line_frequency_hz > 0.0
+                {
+                    res.notes.push(format!(
+                        "{}: the recording says {} Hz; the plant is {f1} Hz, used for the analysis",
+                        w.file, w.config.line_frequency_hz
+                    ));
+                }
+                let s = channels::sampled(w, f1)?;
+                let a = analyse(&s, &opt);
+                let named: Vec<Option<String>> = a
+                    .events
+                    .iter()
+                    .map(|e| status_channel(w, plant, e.time_s, f1))
+                    .collect();
+                let matches: Vec<Option<Match>> = a
+                    .events
+                    .iter()
+                    .zip(&named)
+                    .map(|(e, n)| {
+                        match_event(
+                            plant,
+                            e.delta_q_kvar,
+                            e.v_before_v / v_nominal,
+                            n.as_deref(),
+                        )
+                    })
+                    .collect();
+                let st = states(plant, &matches, start.clone());
+                for (k, e) in a.events.iter().enumerate() {
+                    rows.push(event_row(w, e, &matches[k], &st[k + 1], plant));
+                }
+                // Steady windows in time order alternate before/after; pair each with its
+                // stretch's state by time.
+                for win in &a.steady {
+                    let stretch = a
+                        .events
+                        .iter()
+                        .filter(|e| (e.time_s - s.t0_s) * f1 < win.start_cycle as f64)
+                        .count();
+                    windows.push((win.clone(), st[stretch.min(st.len() - 1)].clone()));
+                }
+                res.recordings
+                    .push(summary(w, &s, a.events.len(), a.reversed_current));
+                if a.reversed_current {
+                    res.notes.push(format!("{}: the current channels pointed toward the source; they were reversed so that the plant draws power", w.file));
+                }
+                res.q_kvar.push(a.q_kvar.clone());
+                events.extend(a.events);
+            }
+        }
+    }
+    res.events = rows;
+    fit(&mut res, plant, &source, &events, &windows, v_nominal);
+    Ok(res)
+}
+
+/// The source fit, the background, the calibrated plant and its checks.
+fn fit(
+    res: &mut CalibrationResults,
+    plant: &Plant,
+    source: &Source,
+    events: &[crate::study::measured::events::Event],
+    windows: &[(Window, Vec<u32>)],
+    v_nominal: f64,
+) {
+    let kv = res.kv;
+    let Some(z1) = estimate::least_squares_z(events, 1) else {
+        if res.recordings.is_empty() {
+            return;
+        }
+        res.notes.push("no capacitor switching event was found: the source and the background cannot be estimated from these recordings".into());
+        return;
+    };
+    let s_sc = kv * kv / z1.norm();
+    let xr = z1.im / z1.re;
+    let bounds = source_bounds(plant, source, kv);
+    let fitted_s = s_sc.clamp(bounds.0.0, bounds.0.1);
+    let fitted_xr = if xr.is_finite() && xr > 0.0 {
+        xr.clamp(bounds.1.0, bounds.1.1)
+    } else {
+        bounds.1.0
+    };
+    let held = fitted_s != s_sc || fitted_xr != xr;
+    if held {
+        res.notes.push(format!(
+            "the measured S_sc {s_sc:.1} MVA and X/R {xr:.2} lie outside the Sources sheet's range ({:.1}–{:.1} MVA, X/R {:.2}–{:.2}); the `measured` scenario holds the nearest bound: ask the utility for current figures",
+            bounds.0.0, bounds.0.1, bounds.1.0, bounds.1.1
+        ));
+    }
+    let law = plant.study.resistance_model;
+    let zf = model::source_z(kv, fitted_s, fitted_xr, law);
+    res.impedance = estimate::impedances(events, &zf);
+    let measured_z = |h: usize| -> Complex64 {
+        match h {
+            1 => zf(1),
+            _ => res
+                .impedance
+                .iter()
+                .find(|o| o.order == h)
+                .map_or_else(|| zf(h), |o| o.z_ohm),
+        }
+    };
+    let off: Vec<&Window> = windows
+        .iter()
+        .filter(|w| w.1.iter().all(|&n| n == 0))
+        .map(|w| &w.0)
+        .collect();
+    let all: Vec<&Window> = windows.iter().map(|w| &w.0).collect();
+    let (used, basis) = if off.is_empty() {
+        (all, "every steady window (no window had every bank off)")
+    } else {
+        (off, "the windows with every bank off")
+    };
+    res.background_basis = format!("{basis}: {} of {}", used.len(), windows.len());
+    res.background = estimate::background(&used, measured_z, v_nominal);
+    let emf_pu = used
+        .iter()
+        .map(|w| (w.v[1] + zf(1) * w.i[1]).norm() / v_nominal)
+        .sum::<f64>()
+        / used.len().max(1) as f64;
+    let fit = SourceFit {
+        source: source.id.clone(),
+        z1_ohm: z1,
+        s_sc_mva: s_sc,
+        s_sc_spread: Spread::of(events.iter().map(|e| e.s_sc_mva)).unwrap_or(Spread {
+            min: s_sc,
+            max: s_sc,
+            std: 0.0,
+            events: 0,
+        }),
+        s_sc_approx_spread: Spread::of(events.iter().map(|e| e.s_sc_approx_mva)).unwrap_or(
+            Spread {
+                min: f64::NAN,
+                max: f64::NAN,
+                std: 0.0,
+                events: 0,
+            },
+        ),
+        x_over_r: xr,
+        x_over_r_spread: Spread::of(events.iter().map(|e| e.x_over_r)).unwrap_or(Spread {
+            min: xr,
+            max: xr,
+            std: 0.0,
+            events: 0,
+        }),
+        bounds,
+        fitted_s_sc_mva: fitted_s,
+        fitted_x_over_r: fitted_xr,
+        held_at_bound: held,
+        emf_pu,
+    };
+    for row in res.events.iter_mut() {
+        row.ringing_hand_hz = row.ringing_hz.and_then(|_| {
+            let q = model::kvar_at_bus(plant, &res.bus, &row.configuration_after)?;
+            (q > 0.0).then(|| plant.study.frequency_hz * (fitted_s * 1e3 / q).sqrt())
+        });
+    }
+    let calibrated = calibrated_plant(plant, source, &fit, &res.background);
+    let x1 = estimate::reactance_slope(&res.impedance, z1);
+    let states: Vec<Vec<u32>> = windows.iter().map(|w| w.1.clone()).collect();
+    match model::compare(plant, &calibrated, &res.bus, &states, windows, x1) {
+        Ok(c) => {
+            res.resonance = c.0;
+            res.comparison = c.1;
+            res.verdicts = c.2;
+        }
+        Err(e) => res
+            .notes
+            .push(format!("the calibrated plant could not be checked: {e}")),
+    }
+    res.source = Some(fit);
+    res.calibrated = Some(calibrated);
+}
+
+/// (S_sc range, X/R range) of the rows of `source`'s id and bus over the scenarios.
+fn source_bounds(plant: &Plant, source: &Source, kv: f64) -> ((f64, f64), (f64, f64)) {
+    let rows: Vec<&Source> = plant
+        .sources
+        .iter()
+        .filter(|s| s.bus == source.bus && s.kind == SourceKind::Utility)
+        .collect();
+    let mva = |s: &Source| match s.short_circuit {
+        ShortCircuit::Mva(m) => m,
+        ShortCircuit::Ka(ka) => 3f64.sqrt() * kv * ka,
+    };
+    let lo = |f: &dyn Fn(&Source) -> f64| rows.iter().map(|s| f(s)).fold(f64::INFINITY, f64::min);
+    let hi =
+        |f: &dyn Fn(&Source) -> f64| rows.iter().map(|s| f(s)).fold(f64::NEG_INFINITY, f64::max);
+    (
+        (lo(&mva), hi(&mva)),
+        (lo(&|s| s.x_over_r), hi(&|s| s.x_over_r)),
+    )
+}
+
+/// The plant with a `measured` utility source at the recording bus (the fitted S_sc, X/R and
+/// EMF) and its background rows. A source row that named no scenario is given `base`, so
+/// that it does not stand in parallel with the measured one.
+pub fn calibrated_plant(
+    plant: &Plant,
+    source: &Source,
+    fit: &SourceFit,
+    background: &[BackgroundEstimate],
+) -> Plant {
+    let mut p = plant.clone();
+    for s in p.sources.iter_mut() {
+        if s.bus == source.bus && s.kind == SourceKind::Utility && s.scenario.is_none() {
+            s.scenario = Some(crate::model::DEFAULT_SCENARIO.to_string());
+        }
+    }
+    let id = unique_id(&p, &format!("{}-{MEASURED}", source.id));
+    p.sources.push(Source {
+        id: id.clone(),
+        bus: source.bus.clone(),
+        scenario: Some(MEASURED.to_string()),
+        short_circuit: ShortCircuit::Mva(fit.fitted_s_sc_mva),
+        x_over_r: fit.fitted_x_over_r,
+        voltage_pu: fit.emf_pu,
+        zero_short_circuit_mva: source.zero_short_circuit_mva,
+        zero_x_over_r: source.zero_x_over_r,
+        kind: SourceKind::Utility,
+    });
+    for b in background {
+        p.background.push(BackgroundLine {
+            source: id.clone(),
+            order: b.order as f64,
+            voltage_percent: b.percent,
+            angle_deg: Some(b.angle_deg),
+        });
+    }
+    p
+}
+
+/// `base`, or `base-2`, `base-3` ... whichever no source has.
+fn unique_id(p: &Plant, base: &str) -> String {
+    let mut id = base.to_string();
+    let mut k = 2;
+    while p.sources.iter().any(|s| s.id == id) {
+        id = format!("{base}-{k}");
+        k += 1;
+    }
+    id
+}
+
+/// The bank a digital channel names, when that channel changes within 2 cycles of `t`.
+fn status_channel(w: &Waveforms, plant: &Plant, t: f64, f1: f64) -> Option<String> {
+    for (spec, bits) in &w.digital {
+        let Some(bank) = plant.banks.iter().find(|b| {
+            spec.id.trim().eq_ignore_ascii_case(&b.id)
+                || spec.circuit.trim().eq_ignore_ascii_case(&b.id)
+        }) else {
+            continue;
+        };
+        let changes = bits
+            .windows(2)
+            .enumerate()
+            .filter(|(_, x)| x[0] != x[1])
+            .map(|(k, _)| w.time_s.get(k + 1).copied().unwrap_or(f64::NAN));
+        if changes.into_iter().any(|tc| (tc - t).abs() <= 2.0 / f1) {
+            return Some(bank.id.clone());
+        }
+    }
+    None
+}
+
+fn event_row(
+    w: &Waveforms,
+    e: &crate::study::measured::events::Event,
+    m: &Option<Match>,
+    after: &[u32],
+    plant: &Plant,
+) -> EventRow {
+    let cfg = crate::study::Configuration {
+        steps: after.to_vec(),
+    };
+    EventRow {
+        file: w.file.clone(),
+        time_s: e.time_s,
+        delta_q_kvar: e.delta_q_kvar,
+        delta_v_percent: e.delta_v_percent,
+        s_sc_approx_mva: e.s_sc_approx_mva,
+        s_sc_mva: e.s_sc_mva,
+        x_over_r: e.x_over_r,
+        matched: m.clone(),
+        configuration_after: cfg.label(&plant.banks),
+        ringing_hz: e.ringing.map(|r| r.0),
+        ringing_zeta: e.ringing.map(|r| r.1),
+        ringing_hand_hz: None,
+    }
+}
+
+fn summary(
+    w: &Waveforms,
+    s: &crate::study::measured::signals::Sampled,
+    events: usize,
+    reversed: bool,
+) -> RecordingSummary {
+    let rev = match w.config.revision {
+        crate::io::recordings::comtrade::Revision::Y1999 => "1999",
+        crate::io::recordings::comtrade::Revision::Y2013 => "2013",
+    };
+    let fmt = serde_json::to_value(w.config.format)
+        .ok()
+        .and_then(|v| v.as_str().map(String::from))
+        .unwrap_or_default();
+    RecordingSummary {
+        file: w.file.clone(),
+        kind: format!("COMTRADE {rev} {fmt}"),
+        duration_s: w.time_s.last().copied().unwrap_or(0.0),
+        samples: w.time_s.len(),
+        per_cycle: s.per_cycle,
+        events,
+        reversed_current: reversed,
+    }
+}
+
+/// The resistance law's factor for a source at order `h` (network::damping: √h except under
+/// the constant model).
+pub fn source_r_factor(law: ResistanceModel, h: f64) -> f64 {
+    match law {
+        ResistanceModel::Constant => 1.0,
+        _ => crate::network::damping::skin_factor(h),
+    }
+}
+
+/// Notes for the rows the calibration added to the plant workbook: the `measured` source
+/// row and its Background rows, each saying where its values came from.
+pub fn provenance_notes(
+    c: &CalibrationResults,
+    provenance: &str,
+) -> Vec<crate::io::template::RowNote> {
+    let (Some(p), Some(fit)) = (&c.calibrated, &c.source) else {
+        return Vec::new();
+    };
+    let files: Vec<&str> = c.recordings.iter().map(|r| r.file.as_str()).collect();
+    let mut notes = Vec::new();
+    if let Some(row) = p
+        .sources
+        .iter()
+        .position(|s| s.scenario.as_deref() == Some(MEASURED))
+    {
+        notes.push(crate::io::template::RowNote {
+            sheet: "Sources",
+            row,
+            text: format!(
+                "Calibrated by overtone from {} switching events in {} ({provenance}). S_sc {:.1} MVA (events {:.1}–{:.1}), X/R {:.2} (events {:.2}–{:.2}); the Sources sheet gave {:.1}–{:.1} MVA{}.",
+                fit.s_sc_spread.events,
+                files.join(", "),
+                fit.fitted_s_sc_mva,
+                fit.s_sc_spread.min,
+                fit.s_sc_spread.max,
+                fit.fitted_x_over_r,
+                fit.x_over_r_spread.min,
+                fit.x_over_r_spread.max,
+                fit.bounds.0.0,
+                fit.bounds.0.1,
+                if fit.held_at_bound { "; the estimate was held at that range" } else { "" }
+            ),
+        });
+    }
+    let id = p
+        .sources
+        .iter()
+        .find(|s| s.scenario.as_deref() == Some(MEASURED))
+        .map(|s| s.id.clone())
+        .unwrap_or_default();
+    for (row, b) in p
+        .background
+        .iter()
+        .enumerate()
+        .filter(|(_, b)| b.source == id)
+    {
+        notes.push(crate::io::template::RowNote {
+            sheet: "Background",
+            row,
+            text: format!("Estimated by overtone: E = V + Z(h)·I at the recording point over {}, from {} ({provenance}).", c.background_basis, files.join(", ")),
+        });
+        let _ = b;
+    }
+    notes
+}
