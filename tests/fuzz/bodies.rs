@@ -35,6 +35,36 @@ pub fn read_workbook(data: &[u8]) {
     }
 }
 
+/// Feeds `data` to the recording readers: as a single-file COMTRADE (.cff) and, when it is
+/// text, as a harmonic log (.csv). Each gives a recording whose channels all hold one value
+/// per sample, or an error naming the file.
+pub fn read_recording(data: &[u8]) {
+    match overtone::io::recordings::comtrade::parse_cff("fuzz.cff", data) {
+        Ok(w) => {
+            for c in &w.analog {
+                assert_eq!(
+                    c.values.len(),
+                    w.time_s.len(),
+                    "a channel without every sample"
+                );
+            }
+            assert!(w.time_s.windows(2).all(|t| t[1] >= t[0]), "time goes back");
+        }
+        Err(e) => assert!(
+            e.to_string().contains("fuzz.cff"),
+            "message without the file: {e}"
+        ),
+    }
+    if let Ok(text) = std::str::from_utf8(data)
+        && let Err(e) = overtone::io::recordings::harmonic_log::parse_log("fuzz.csv", text)
+    {
+        assert!(
+            e.to_string().contains("fuzz.csv"),
+            "message without the file: {e}"
+        );
+    }
+}
+
 /// Builds a plant from `data` (structured by [`PlantSpec`]) and runs every study and every
 /// report on it.
 pub fn plant_study(data: &[u8]) {

@@ -60,6 +60,13 @@ fn reader_corpus_replays_clean() {
 }
 
 #[test]
+fn recording_corpus_replays_clean() {
+    // The seeds: COMTRADE single files (ASCII, BINARY, FLOAT32) and harmonic logs written
+    // by hand, and what the libFuzzer runs kept.
+    replay("read_recording", fuzz_bodies::read_recording, 5);
+}
+
+#[test]
 fn plant_corpus_replays_clean() {
     replay("plant_study", fuzz_bodies::plant_study, 1200);
 }

@@ -4,6 +4,8 @@
 //!   `reference_damping` (resistance and load models), `reference_data` (built-in data and
 //!   helpers): checks against published or textbook
 //!   values (source named beside each);
+//! - `calibration`: recordings (COMTRADE reader, harmonic logs) and the calibration against
+//!   ngspice `.tran` recordings and hand-computed statistics;
 //! - `simulator`: phasor summation with background against ngspice (when installed);
 //! - `two_bank_modes`: several banks, several modes (every peak, modal analysis, whole-plant
 //!   remedies) and triplens by wiring;

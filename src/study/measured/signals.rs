@@ -38,6 +38,14 @@ impl Sampled {
 /// common practice).
 pub const MIN_PER_CYCLE: usize = 128;
 
+/// The most samples per cycle the analysis keeps (faster recordings are interpolated down
+/// to this; orders to 50 need far fewer).
+pub const MAX_PER_CYCLE: usize = 4096;
+
+/// The most samples per channel analysed (about 36 min at 128 samples per 60 Hz cycle);
+/// a longer recording is analysed from its start to there.
+pub const MAX_SAMPLES: usize = 1 << 24;
+
 /// Resamples `channels` (recorded at `time_s`) to a uniform grid with a whole number of
 /// samples per cycle of `f1_hz`: the recorded grid itself when it is uniform and whole
 /// (within 1e-6), else linear interpolation onto 2^k ≥ max(native, 128) samples per cycle.
