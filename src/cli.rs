@@ -152,6 +152,17 @@ pub struct CalibrateArgs {
     /// source and its Background rows, ready for `overtone check`.
     #[arg(long, value_name = "FILE")]
     pub write_plant: Option<PathBuf>,
+    /// Write the review workbook (.xlsx): the Calibration sheet, then every sheet of the
+    /// calibrated plant's study.
+    #[arg(short = 'o', long = "output", value_name = "FILE")]
+    pub output: Option<PathBuf>,
+    /// Write the typeset study report (.pdf): the calibration, then the calibrated plant's
+    /// study.
+    #[arg(long, value_name = "FILE")]
+    pub report: Option<PathBuf>,
+    /// The report date, YYYY-MM-DD (default: the input workbook's modification date).
+    #[arg(long, value_name = "DATE")]
+    pub date: Option<String>,
     /// Print the calibration as JSON instead of the terminal summary.
     #[arg(long)]
     pub json: bool,

@@ -213,8 +213,13 @@ fn design(a: &DesignArgs) -> Result<ExitCode, Failure> {
 /// `calibrate`: the recordings read, the model calibrated, the calibrated plant written.
 fn calibrate(a: &CalibrateArgs) -> Result<ExitCode, Failure> {
     use overtone::jobs::calibrate::{CalibrateOptions, Recording, run_calibrate};
-    let exports = [(a.write_plant.as_deref(), OutputKind::Template)];
+    let exports = [
+        (a.write_plant.as_deref(), OutputKind::Template),
+        (a.output.as_deref(), OutputKind::Review),
+        (a.report.as_deref(), OutputKind::Report),
+    ];
     let plan = ExportPlan::check(&exports, Some(&a.plant), a.force)?;
+    let date = a.date.as_deref().map(parse_date).transpose()?;
     let read = read(&a.plant)?;
     let mut recordings = Vec::new();
     for path in &a.recordings {
@@ -233,21 +238,34 @@ fn calibrate(a: &CalibrateArgs) -> Result<ExitCode, Failure> {
         start: a.configuration.clone(),
     };
     let res = run_calibrate(&read.plant, &recordings, &options)?;
+    let mut prov = file_provenance(&a.plant, &read.warnings, overtone::demo::DEMO_DATE)
+        .map_err(|e| Failure(format!("{}: {e}", a.plant.display())))?;
+    prov.date = date.unwrap_or(prov.date);
+    let mut unwritten = Vec::new();
     if let Some(path) = &a.write_plant {
-        let prov = file_provenance(&a.plant, &read.warnings, overtone::demo::DEMO_DATE)
-            .map_err(|e| Failure(format!("{}: {e}", a.plant.display())))?;
         let words = format!("plant {} SHA-256 {}", prov.input, prov.sha256);
         if !plan.write_calibrated(&res, path, &words)? {
-            let _ = writeln!(
-                io::stderr(),
-                "overtone: no switching event was found, so --write-plant wrote nothing"
-            );
+            unwritten.push("--write-plant");
         }
     }
-    print(|w| match a.json {
+    let documents = (a.output.as_deref(), a.report.as_deref());
+    if (documents.0.is_some() || documents.1.is_some())
+        && !plan.write_calibration_documents(&res, documents, &prov)?
+    {
+        unwritten.push("the review and report");
+    }
+    let code = print(|w| match a.json {
         true => writeln!(w, "{}", json::calibrate_json(&res)),
         false => terminal::calibrate::write_calibration(w, &res),
-    })
+    })?;
+    if !unwritten.is_empty() {
+        let _ = writeln!(
+            io::stderr(),
+            "overtone: no switching event was found, so {} wrote nothing",
+            unwritten.join(" and ")
+        );
+    }
+    Ok(code)
 }
 
 /// Prints to stdout; a closed pipe is a quiet success.

@@ -190,6 +190,39 @@ impl ExportPlan {
         Ok(true)
     }
 
+    /// Writes the calibration's review workbook and study report (each when asked): the
+    /// calibration, then the calibrated plant's study. Nothing without a calibrated plant.
+    pub fn write_calibration_documents(
+        &self,
+        c: &crate::jobs::calibrate::CalibrationResults,
+        (review, report): (Option<&Path>, Option<&Path>),
+        prov: &Provenance,
+    ) -> Result<bool, ExportFailure> {
+        let Some(res) = c.study.as_deref() else {
+            return Ok(false);
+        };
+        let charts = scan_charts(res);
+        if let Some(path) = review {
+            let bytes =
+                review::calibration_review_bytes(c, res, &charts, prov).map_err(|source| {
+                    ExportFailure::Review {
+                        path: path.display().to_string(),
+                        source,
+                    }
+                })?;
+            self.write(path, &bytes)?;
+        }
+        if let Some(path) = report {
+            let bytes = crate::present::report::calibration_report_bytes(c, res, &charts, prov)
+                .map_err(|source| ExportFailure::Report {
+                    path: path.display().to_string(),
+                    source,
+                })?;
+            self.write(path, &bytes)?;
+        }
+        Ok(true)
+    }
+
     /// Writes the blank template.
     pub fn write_template(&self, path: &Path) -> Result<(), ExportFailure> {
         let bytes =

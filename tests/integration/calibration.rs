@@ -318,3 +318,126 @@ fn weekly_and_daily_percentiles_match_a_hand_computed_week() {
     assert_eq!(weekly[0].values, 1008);
     assert!((weekly[0].coverage_percent - 100.0).abs() < 1e-9);
 }
+
+/// Whitespace runs to one space and hyphens dropped (pdftotext joins a word broken at a
+/// line's end hyphen).
+fn squash(s: &str) -> String {
+    s.split_whitespace()
+        .collect::<Vec<_>>()
+        .join(" ")
+        .replace('-', "")
+}
+
+#[test]
+fn calibrate_writes_a_plant_check_reads_a_review_and_a_report() {
+    if !external_tool(
+        "ngspice",
+        "the recordings synthesized by a circuit simulator",
+    ) {
+        return;
+    }
+    let dir = tmp("cli");
+    let c = Circuit::standard();
+    let (_t, ch) = c.simulate(&dir);
+    write_comtrade(&dir, "rec", "BINARY32", 2013, 7680.0, &ch);
+    let plant_path = dir.join("plant.xlsx");
+    std::fs::write(
+        &plant_path,
+        overtone::io::template::plant_workbook(&plant()).unwrap(),
+    )
+    .unwrap();
+    let bin = env!("CARGO_BIN_EXE_overtone");
+    let run = |args: &[&str]| {
+        std::process::Command::new(bin)
+            .current_dir(&dir)
+            .args(args)
+            .output()
+            .unwrap()
+    };
+    let out = run(&[
+        "calibrate",
+        "plant.xlsx",
+        "rec.cfg",
+        "--write-plant",
+        "cal.xlsx",
+        "-o",
+        "rev.xlsx",
+        "--report",
+        "rep.pdf",
+        "--date",
+        "2026-12-05",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let stdout = String::from_utf8(out.stdout).unwrap();
+    for line in stdout.lines() {
+        assert!(
+            line.chars().count() <= 100,
+            "wider than 100 columns: {line}"
+        );
+    }
+    assert!(
+        stdout.contains("Source strength measured: S_sc 50.0 MVA"),
+        "{stdout}"
+    );
+    // The verdict items as the terminal prints them (each `- ` line with its hanging lines).
+    let mut items: Vec<String> = Vec::new();
+    for line in stdout.lines().skip(1) {
+        if line.trim().is_empty() {
+            break;
+        }
+        match line.strip_prefix("- ") {
+            Some(t) => items.push(t.to_string()),
+            None => items
+                .last_mut()
+                .unwrap()
+                .push_str(&format!(" {}", line.trim())),
+        }
+    }
+    assert!(items.len() >= 5, "{items:?}");
+    // The calibrated plant: `check` reads it and studies the `measured` scenario.
+    let json = run(&["check", "cal.xlsx", "--json"]);
+    assert!(
+        json.status.success(),
+        "{}",
+        String::from_utf8_lossy(&json.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    let scenarios: Vec<&str> = v["scenarios"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(|s| s.as_str())
+        .collect();
+    assert!(scenarios.contains(&MEASURED), "{scenarios:?}");
+    assert!(dir.join("rev.xlsx").is_file());
+    // The report carries every verdict item whole (as a reviewer reads it with pdftotext).
+    if external_tool("pdftotext", "the calibration report's text") {
+        let text = std::process::Command::new("pdftotext")
+            .arg("-raw")
+            .arg(dir.join("rep.pdf"))
+            .arg("-")
+            .output()
+            .unwrap();
+        let text = squash(&String::from_utf8_lossy(&text.stdout));
+        assert!(text.contains("Calibration from measurements"));
+        for item in &items {
+            assert!(text.contains(&squash(item)), "the report lacks: {item}");
+        }
+    }
+    // JSON of the calibration parses and carries the source fit.
+    let j = run(&["calibrate", "plant.xlsx", "rec.cfg", "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&j.stdout).unwrap();
+    assert!((v["source"]["s_sc_mva"].as_f64().unwrap() - 50.0).abs() < 1.0);
+    // A malformed recording: exit 2, the file and line named, nothing written.
+    std::fs::write(dir.join("bad.cfg"), HAND_CFG.replace("3,2A,1D", "3,2A")).unwrap();
+    std::fs::write(dir.join("bad.dat"), HAND_DAT).unwrap();
+    let bad = run(&["calibrate", "plant.xlsx", "bad.cfg", "-o", "never.xlsx"]);
+    assert_eq!(bad.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&bad.stderr);
+    assert!(err.contains("bad.cfg") && err.contains("line 2"), "{err}");
+    assert!(!dir.join("never.xlsx").exists());
+}

@@ -103,7 +103,12 @@ pub struct VerdictCount {
     pub rows: usize,
 }
 
-type Compared = (Vec<ResonanceCompare>, Vec<OrderCompare>, Vec<VerdictCount>);
+type Compared = (
+    Vec<ResonanceCompare>,
+    Vec<OrderCompare>,
+    Vec<VerdictCount>,
+    Box<crate::jobs::check::CheckResults>,
+);
 
 /// Checks `calibrated` in the configurations of `states` (scan and penetration), and in
 /// every configuration for the verdicts; `x1` is the measured source reactance, ohm.
@@ -150,12 +155,11 @@ pub fn compare(
         }
     }
     let comparison = orders_compared(&res, bus, &labels, windows);
+    // The calibrated plant's whole study, as `check` runs it (the review and report print it).
     let all = run_check(
         calibrated,
         &CheckOptions {
-            remedies: Some(false),
-            damping_band: Some(false),
-            mode_analysis: Some(false),
+            switching: true,
             ..Default::default()
         },
     )?;
@@ -184,7 +188,7 @@ pub fn compare(
             rows: all.limit_rows.iter().filter(|r| &r.scenario == s).count(),
         })
         .collect();
-    Ok((resonance, comparison, verdicts))
+    Ok((resonance, comparison, verdicts, Box::new(all)))
 }
 
 /// Per configuration seen, per scenario (`measured` and the plant's first), per integer

@@ -116,6 +116,8 @@ pub struct CalibrationResults {
     pub resonance: Vec<ResonanceCompare>,
     pub comparison: Vec<OrderCompare>,
     pub verdicts: Vec<VerdictCount>,
+    /// The calibrated plant's whole check, as `check` runs it (every scenario).
+    pub study: Option<Box<crate::jobs::check::CheckResults>>,
     pub compliance: Vec<Compliance>,
     /// Per recording, the fundamental reactive power per cycle, kvar (for the plots).
     pub q_kvar: Vec<Vec<f64>>,
@@ -165,6 +167,7 @@ pub fn run_calibrate(
         resonance: Vec::new(),
         comparison: Vec::new(),
         verdicts: Vec::new(),
+        study: None,
         compliance: Vec::new(),
         q_kvar: Vec::new(),
         notes: Vec::new(),
@@ -363,6 +366,7 @@ fn fit(
             res.resonance = c.0;
             res.comparison = c.1;
             res.verdicts = c.2;
+            res.study = Some(c.3);
         }
         Err(e) => res
             .notes
@@ -412,9 +416,10 @@ pub fn calibrated_plant(
         id: id.clone(),
         bus: source.bus.clone(),
         scenario: Some(MEASURED.to_string()),
-        short_circuit: ShortCircuit::Mva(fit.fitted_s_sc_mva),
-        x_over_r: fit.fitted_x_over_r,
-        voltage_pu: fit.emf_pu,
+        // Rounded as an engineer would enter them (the estimates' spread is far wider).
+        short_circuit: ShortCircuit::Mva(round_to(fit.fitted_s_sc_mva, 0.01)),
+        x_over_r: round_to(fit.fitted_x_over_r, 0.01),
+        voltage_pu: round_to(fit.emf_pu, 1e-4),
         zero_short_circuit_mva: source.zero_short_circuit_mva,
         zero_x_over_r: source.zero_x_over_r,
         kind: SourceKind::Utility,
@@ -423,11 +428,16 @@ pub fn calibrated_plant(
         p.background.push(BackgroundLine {
             source: id.clone(),
             order: b.order as f64,
-            voltage_percent: b.percent,
-            angle_deg: Some(b.angle_deg),
+            voltage_percent: round_to(b.percent, 1e-4),
+            angle_deg: Some(round_to(b.angle_deg, 0.01)),
         });
     }
     p
+}
+
+/// `x` rounded to a multiple of `step`.
+fn round_to(x: f64, step: f64) -> f64 {
+    (x / step).round() * step
 }
 
 /// `base`, or `base-2`, `base-3` ... whichever no source has.

@@ -8,6 +8,7 @@
 //! Fonts: Liberation Sans (SIL Open Font License 1.1, `fonts/OFL.txt`), embedded as
 //! subsets by the PDF writer.
 
+mod calibration;
 mod figures;
 mod layout;
 mod render;
@@ -63,18 +64,48 @@ pub fn report_bytes(
     prov: &Provenance,
     design: Option<&DesignResult>,
 ) -> Result<Vec<u8>, RenderError> {
-    let metrics = layout::Metrics::new(REGULAR, BOLD).ok_or(RenderError::Font)?;
-    let mut out = layout::Layout::new(&metrics);
     let kind = match design {
         Some(_) => {
             "Capacitor bank design study: the plans compared and the recommended plan studied"
         }
         None => "Capacitor bank harmonic study: resonance, distortion, duty and switching",
     };
+    build(res, charts, prov, kind, |out| {
+        if let Some(d) = design {
+            design_section(out, d);
+        }
+    })
+}
+
+/// The report's bytes for a calibration: its section, then the calibrated plant's study
+/// `res` (every scenario, `measured` among them).
+pub fn calibration_report_bytes(
+    c: &crate::jobs::calibrate::CalibrationResults,
+    res: &CheckResults,
+    charts: &ScanCharts,
+    prov: &Provenance,
+) -> Result<Vec<u8>, RenderError> {
+    let kind = "Model calibration from measurements, and the calibrated plant's harmonic study";
+    let chars = res.resonance.characteristic_orders.clone();
+    let margin = res.plant.study.resonance_margin_percent;
+    build(res, charts, prov, kind, |out| {
+        calibration::section(out, c, &chars, margin)
+    })
+}
+
+/// The cover, `front` (the design or calibration section), then every study section, the
+/// cautions and the sign-off, typeset.
+fn build(
+    res: &CheckResults,
+    charts: &ScanCharts,
+    prov: &Provenance,
+    kind: &str,
+    front: impl FnOnce(&mut layout::Layout<'_>),
+) -> Result<Vec<u8>, RenderError> {
+    let metrics = layout::Metrics::new(REGULAR, BOLD).ok_or(RenderError::Font)?;
+    let mut out = layout::Layout::new(&metrics);
     sections::cover(&mut out, res, prov, kind);
-    if let Some(d) = design {
-        design_section(&mut out, d);
-    }
+    front(&mut out);
     sections::basis(&mut out, res);
     sections::resonance(&mut out, res, charts);
     sections::limits(&mut out, res);

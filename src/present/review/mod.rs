@@ -62,3 +62,24 @@ pub fn design_review_bytes(
     sheets::write_design(&mut wb, d, res, charts, prov)?;
     wb.save_to_buffer()
 }
+
+/// The calibration review's bytes: the Calibration sheet (what the recordings measured and
+/// the model beside them), then the full study `res` of the calibrated plant.
+pub fn calibration_review_bytes(
+    c: &crate::jobs::calibrate::CalibrationResults,
+    res: &CheckResults,
+    charts: &ScanCharts,
+    prov: &Provenance,
+) -> Result<Vec<u8>, XlsxError> {
+    let mut wb = Workbook::new();
+    let (y, m, day) = prov.date;
+    wb.set_properties(
+        &DocProperties::new()
+            .set_title("overtone calibration review")
+            .set_author(&res.plant.study.prepared_by)
+            .set_custom_property(REVIEW_MARK.0, REVIEW_MARK.1)
+            .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, day)?),
+    );
+    sheets::write_calibration(&mut wb, c, res, charts, prov)?;
+    wb.save_to_buffer()
+}

@@ -111,8 +111,15 @@ pub fn verdict_items(c: &CalibrationResults) -> Vec<String> {
                 comp.rows.len()
             ),
         };
+        let basis = match comp.quantity {
+            crate::io::recordings::Quantity::Current => format!(
+                "; % of I_L {:.0} A, Isc/IL {:.1}",
+                comp.basis.i_l_a, comp.basis.isc_over_il
+            ),
+            _ => "; % of the fundamental".to_string(),
+        };
         items.push(format!(
-            "Measured compliance of {} channel {} ({} to {}, {:.2} days): {what}.",
+            "Measured compliance of {} channel {} ({} to {}, {:.2} days{basis}): {what}.",
             comp.file, comp.channel, comp.first, comp.last, comp.days
         ));
     }
@@ -230,6 +237,7 @@ pub fn write_calibration(out: &mut dyn Write, c: &CalibrationResults) -> io::Res
             &rows,
         )?;
     }
+    write_compliance(out, c)?;
     if !c.notes.is_empty() {
         writeln!(out, "\nNotes:")?;
         for n in &c.notes {
@@ -241,4 +249,61 @@ pub fn write_calibration(out: &mut dyn Write, c: &CalibrationResults) -> io::Res
         write_wrapped(out, &format!("- {cn}"), 100)?;
     }
     Ok(())
+}
+
+/// Per channel and test, the row nearest its limit (the review has every row).
+fn write_compliance(out: &mut dyn Write, c: &CalibrationResults) -> io::Result<()> {
+    if c.compliance.is_empty() {
+        return Ok(());
+    }
+    writeln!(
+        out,
+        "\nMeasured compliance, IEEE 519-2014 clause 5 (per test, the row nearest its limit):"
+    )?;
+    let mut rows = Vec::new();
+    for comp in &c.compliance {
+        let mut tests: Vec<&str> = comp.rows.iter().map(|r| r.test).collect();
+        tests.dedup();
+        for test in tests {
+            let worst = comp.rows.iter().filter(|r| r.test == test).max_by(|a, b| {
+                (a.value_percent / a.limit_percent).total_cmp(&(b.value_percent / b.limit_percent))
+            });
+            if let Some(r) = worst {
+                rows.push(vec![
+                    comp.channel.clone(),
+                    format!("{} ({})", short_test(r.test), r.clause),
+                    r.period.clone(),
+                    r.order
+                        .map_or_else(|| "total".to_string(), |h| h.to_string()),
+                    format!("{:.2}", r.value_percent),
+                    format!("{:.2}", r.limit_percent),
+                    if r.exceeds {
+                        "EXCEEDS".into()
+                    } else {
+                        "meets".into()
+                    },
+                ]);
+            }
+        }
+    }
+    write_table(
+        out,
+        &[
+            "channel", "test", "period", "order", "value %", "limit %", "verdict",
+        ],
+        &[0, 1, 2, 3, 6],
+        &rows,
+    )?;
+    for comp in &c.compliance {
+        for n in &comp.notes {
+            write_wrapped(out, &format!("- {n}"), 100)?;
+        }
+    }
+    Ok(())
+}
+
+/// A test's name shortened for the table: `weekly 95th pct, 10 min`.
+fn short_test(test: &str) -> String {
+    test.replace(" percentile of ", " pct, ")
+        .replace(" values", "")
 }

@@ -61,6 +61,8 @@ pub struct Compliance {
     pub file: String,
     pub channel: String,
     pub quantity: Quantity,
+    /// The limits' basis: the PCC's kV, I_L and Isc/IL.
+    pub basis: LimitsAt,
     pub rows: Vec<StatRow>,
     /// First and last time stamps logged, and the days between them.
     pub first: String,
@@ -109,6 +111,13 @@ pub fn evaluate(log: &HarmonicLog, at: &LimitsAt) -> Vec<Compliance> {
                 None => {}
             }
         }
+        if !series.contains_key(&Interval::VeryShort) {
+            notes.push(format!(
+                "{}: no 3-s values, so the daily 99th-percentile test (clause {}) was not evaluated",
+                ch.name,
+                if ch.quantity == Quantity::Voltage { "5.1 a)" } else { "5.2 a)" }
+            ));
+        }
         if !series.contains_key(&Interval::Short)
             && let Some(vs) = series.get(&Interval::VeryShort)
         {
@@ -136,6 +145,7 @@ pub fn evaluate(log: &HarmonicLog, at: &LimitsAt) -> Vec<Compliance> {
             file: log.file.clone(),
             channel: ch.name.clone(),
             quantity: ch.quantity,
+            basis: *at,
             rows,
             first: stamp(t0),
             last: stamp(t1),

@@ -1,5 +1,6 @@
 //! The sheets of the review workbook.
 
+mod calibration;
 mod damping;
 mod design;
 mod front;
@@ -69,6 +70,19 @@ pub fn write_design(
     let page = &Page::of(res, prov);
     design::design(sheet(wb, "Design", page)?, d)?;
     design::load_levels(sheet(wb, "Load levels", page)?, d)?;
+    write_all(wb, res, charts, prov)
+}
+
+/// Writes the Calibration sheet, then every sheet of the calibrated plant's study.
+pub fn write_calibration(
+    wb: &mut Workbook,
+    c: &crate::jobs::calibrate::CalibrationResults,
+    res: &CheckResults,
+    charts: &ScanCharts,
+    prov: &Provenance,
+) -> Result<(), XlsxError> {
+    let page = &Page::of(res, prov);
+    calibration::calibration(sheet(wb, calibration::SHEET, page)?, c)?;
     write_all(wb, res, charts, prov)
 }
 
