@@ -27,6 +27,11 @@ pub struct Circuit {
     pub closings: Vec<f64>,
     pub step_kvar: f64,
     pub stop_s: f64,
+    /// A series R (ohm) and L (H) per phase between the recorded PCC and the bus of the
+    /// loads and the bank (a transformer's leakage at 1:1), or none.
+    pub transformer: Option<(f64, f64)>,
+    /// The system's actual frequency, Hz (the plant's nominal is 60).
+    pub hz: f64,
 }
 
 impl Circuit {
@@ -45,6 +50,8 @@ impl Circuit {
             closings: vec![0.4, 0.7],
             step_kvar: 600.0,
             stop_s: 1.0,
+            transformer: None,
+            hz: 60.0,
         }
     }
 
@@ -65,31 +72,39 @@ impl Circuit {
         let (r, l) = self.source_rl();
         let mut n = String::from("* synthesized recording\n");
         for (p, s) in [("a", 0.0), ("b", -120.0), ("c", 120.0)] {
-            n += &format!("Vf{p} s{p}0 0 SIN(0 {v_pk} 60 0 0 {})\n", 90.0 + s);
+            n += &format!("Vf{p} s{p}0 0 SIN(0 {v_pk} {} 0 0 {})\n", self.hz, 90.0 + s);
             let mut node = format!("s{p}0");
             for (k, &(h, pct, ang)) in self.background.iter().enumerate() {
                 let next = format!("s{p}{}", k + 1);
                 let amp = pct / 100.0 * v_pk;
                 n += &format!(
                     "Vb{h}{p} {next} {node} SIN(0 {amp} {} 0 0 {})\n",
-                    60 * h,
+                    self.hz * h as f64,
                     90.0 + ang + h as f64 * s
                 );
                 node = next;
             }
             n += &format!("Rs{p} {node} r{p} {r}\nLs{p} r{p} m{p} {l}\nVm{p} m{p} p{p} 0\n");
-            n += &format!("Rl{p} p{p} l{p} 4.168\nLl{p} l{p} 0 6.85m\n");
+            // The plant's bus: the PCC itself, or behind the transformer.
+            let q = match self.transformer {
+                Some((rt, lt)) => {
+                    n += &format!("Rt{p} p{p} t{p} {rt}\nLt{p} t{p} q{p} {lt}\n");
+                    format!("q{p}")
+                }
+                None => format!("p{p}"),
+            };
+            n += &format!("Rl{p} {q} l{p} 4.168\nLl{p} l{p} 0 6.85m\n");
             for &(h, a, ang) in &self.drive {
                 n += &format!(
-                    "Ih{h}{p} p{p} 0 SIN(0 {} {} 0 0 {})\n",
+                    "Ih{h}{p} {q} 0 SIN(0 {} {} 0 0 {})\n",
                     a * 2f64.sqrt(),
-                    60 * h,
+                    self.hz * h as f64,
                     90.0 + ang + h as f64 * s
                 );
             }
             for k in 0..self.closings.len() {
                 n += &format!(
-                    "S{k}{p} p{p} c{k}{p} ct{k} 0 sw\nLr{k}{p} c{k}{p} d{k}{p} 20u\nC{k}{p} d{k}{p} 0 {}\n",
+                    "S{k}{p} {q} c{k}{p} ct{k} 0 sw\nLr{k}{p} c{k}{p} d{k}{p} 20u\nC{k}{p} d{k}{p} 0 {}\n",
                     self.step_farad()
                 );
             }

@@ -78,14 +78,24 @@ pub fn sampled(w: &Waveforms, f1_hz: f64) -> Result<Sampled, CalibrateError> {
         .chain(&is)
         .map(|&(_, k)| w.analog[k].values.as_slice())
         .collect();
-    let (per_cycle, t0_s, mut out) = resample(&w.time_s, &chans, f1_hz);
-    let currents = out.split_off(vs.len());
-    Ok(Sampled {
-        f1_hz,
-        per_cycle,
-        t0_s,
-        voltages: out,
-        currents,
-        line_to_line,
-    })
+    let at = |f: f64| {
+        let (per_cycle, t0_s, mut out) = resample(&w.time_s, &chans, f);
+        let currents = out.split_off(vs.len());
+        Sampled {
+            f1_hz: f,
+            per_cycle,
+            t0_s,
+            voltages: out,
+            currents,
+            line_to_line,
+        }
+    };
+    // Windows of whole cycles of the frequency the system actually ran at (within ±5 % of
+    // nominal; beyond that the recording is not of this system).
+    let nominal = at(f1_hz);
+    let f = crate::study::measured::signals::system_frequency(&nominal);
+    if (f - f1_hz).abs() > 1e-4 * f1_hz && (f - f1_hz).abs() < 0.05 * f1_hz {
+        return Ok(at(f));
+    }
+    Ok(nominal)
 }

@@ -69,11 +69,15 @@ pub fn limits_at(plant: &Plant, kv: f64) -> LimitsAt {
 pub struct ResonanceCompare {
     pub configuration: String,
     pub bank: String,
+    /// The bank's bus.
+    pub bus: String,
     /// kvar in service at the bus (nominal kV).
     pub q_kvar: f64,
     /// √(X_C/X_s) with X_s the measured source reactance (the slope of Im Z(h)), and X_C
     /// the bus's capacitance in service: the resonance the measurement implies.
     pub measured_order: Option<f64>,
+    /// How `measured_order` was found.
+    pub measured_basis: &'static str,
     /// The model's worst peak at the bank's bus per scenario (the `measured` one last).
     pub model_orders: Vec<(String, Option<f64>)>,
 }
@@ -91,6 +95,10 @@ pub struct OrderCompare {
     pub measured_i_a: f64,
     /// Across the PCC, A (the plant's emission with the background).
     pub model_i_a: f64,
+    /// Model − measured, percentage points of nominal voltage.
+    pub v_residual_percent: f64,
+    /// Model − measured, A.
+    pub i_residual_a: f64,
 }
 
 /// The verdicts of one scenario of the calibrated plant.
@@ -130,23 +138,35 @@ pub fn compare(
     let kv = res.network.buses[res.network.bus_index(bus).unwrap_or(0)].kv;
     let mut resonance = Vec::new();
     for label in &labels {
-        for b in plant.banks.iter().filter(|b| b.bus == bus) {
-            let rows: Vec<_> = res
-                .resonance
-                .rows
-                .iter()
-                .filter(|r| &r.configuration == label && r.bank == b.id)
+        for b in &plant.banks {
+            let rows: Vec<_> = (res.resonance.rows.iter())
+                .filter(|r| &r.configuration == label && r.bank == b.id && r.steps > 0)
                 .collect();
             if rows.is_empty() {
                 continue;
             }
-            let q = kvar_at_bus(plant, bus, label).unwrap_or(0.0);
-            let x_c = kv * kv / (q / 1e3);
+            let q = kvar_at_bus(plant, &b.bus, label).unwrap_or(0.0);
+            // At the recording bus, from the measured source reactance alone; elsewhere, the
+            // hand formula of the `measured` scenario (its S_sc at the bank's bus is the
+            // measured source in series with the plant's transformers and cables).
+            let (measured_order, measured_basis) = if b.bus == bus {
+                let x_c = kv * kv / (q / 1e3);
+                let h = x1.filter(|x| *x > 0.0 && q > 0.0).map(|x| (x_c / x).sqrt());
+                (h, "√(X_C/X_s), X_s measured")
+            } else {
+                let h = rows
+                    .iter()
+                    .find(|r| r.scenario == MEASURED)
+                    .map(|r| r.hand_order);
+                (h, "hand formula at the bank's bus with the measured source")
+            };
             resonance.push(ResonanceCompare {
                 configuration: label.clone(),
                 bank: b.id.clone(),
+                bus: b.bus.clone(),
                 q_kvar: q,
-                measured_order: x1.filter(|x| *x > 0.0 && q > 0.0).map(|x| (x_c / x).sqrt()),
+                measured_order: measured_order.filter(|h| h.is_finite()),
+                measured_basis,
                 model_orders: rows
                     .iter()
                     .map(|r| (r.scenario.clone(), r.peak.as_ref().map(|p| p.order)))
@@ -232,18 +252,24 @@ fn orders_compared(
                     continue;
                 }
                 let n = seen.len() as f64;
+                let measured_v_percent = seen
+                    .iter()
+                    .map(|w| 100.0 * w.v[hu].norm() / v_nom)
+                    .sum::<f64>()
+                    / n;
+                let measured_i_a = seen.iter().map(|w| w.i[hu].norm()).sum::<f64>() / n;
+                let model_v_percent = 100.0 * v[b][o];
+                let model_i_a = d.pcc_current_a.get(o).copied().unwrap_or(f64::NAN);
                 out.push(OrderCompare {
                     configuration: label.clone(),
                     scenario: res.scan.scenarios[s].clone(),
                     order: hu,
-                    measured_v_percent: seen
-                        .iter()
-                        .map(|w| 100.0 * w.v[hu].norm() / v_nom)
-                        .sum::<f64>()
-                        / n,
-                    model_v_percent: 100.0 * v[b][o],
-                    measured_i_a: seen.iter().map(|w| w.i[hu].norm()).sum::<f64>() / n,
-                    model_i_a: d.pcc_current_a.get(o).copied().unwrap_or(f64::NAN),
+                    measured_v_percent,
+                    model_v_percent,
+                    measured_i_a,
+                    model_i_a,
+                    v_residual_percent: model_v_percent - measured_v_percent,
+                    i_residual_a: model_i_a - measured_i_a,
                 });
             }
         }

@@ -44,6 +44,8 @@ pub struct RecordingSummary {
     pub samples: usize,
     /// Samples per cycle the analysis used.
     pub per_cycle: usize,
+    /// The system frequency measured, Hz (the analysis windows are whole cycles of it).
+    pub frequency_hz: f64,
     pub events: usize,
     /// The current channels pointed toward the source and were reversed.
     pub reversed_current: bool,
@@ -238,7 +240,7 @@ pub fn run_calibrate(
                     let stretch = a
                         .events
                         .iter()
-                        .filter(|e| (e.time_s - s.t0_s) * f1 < win.start_cycle as f64)
+                        .filter(|e| (e.time_s - s.t0_s) * s.f1_hz < win.start_cycle as f64)
                         .count();
                     windows.push((win.clone(), st[stretch.min(st.len() - 1)].clone()));
                 }
@@ -376,7 +378,8 @@ fn fit(
     res.calibrated = Some(calibrated);
 }
 
-/// (S_sc range, X/R range) of the rows of `source`'s id and bus over the scenarios.
+/// (S_sc range, X/R range) of the utility rows at `source`'s bus over the scenarios; a
+/// single value v gives the range v/2 … 2v.
 fn source_bounds(plant: &Plant, source: &Source, kv: f64) -> ((f64, f64), (f64, f64)) {
     let rows: Vec<&Source> = plant
         .sources
@@ -390,9 +393,18 @@ fn source_bounds(plant: &Plant, source: &Source, kv: f64) -> ((f64, f64), (f64, 
     let lo = |f: &dyn Fn(&Source) -> f64| rows.iter().map(|s| f(s)).fold(f64::INFINITY, f64::min);
     let hi =
         |f: &dyn Fn(&Source) -> f64| rows.iter().map(|s| f(s)).fold(f64::NEG_INFINITY, f64::max);
+    // One figure (a single letter value) bounds nothing: take half to twice it (common
+    // practice: a utility's stated fault level is often that far from today's).
+    let range = |a: f64, b: f64| {
+        if b <= a * 1.0001 {
+            (a / 2.0, b * 2.0)
+        } else {
+            (a, b)
+        }
+    };
     (
-        (lo(&mva), hi(&mva)),
-        (lo(&|s| s.x_over_r), hi(&|s| s.x_over_r)),
+        range(lo(&mva), hi(&mva)),
+        range(lo(&|s| s.x_over_r), hi(&|s| s.x_over_r)),
     )
 }
 
@@ -518,6 +530,7 @@ fn summary(
         duration_s: w.time_s.last().copied().unwrap_or(0.0),
         samples: w.time_s.len(),
         per_cycle: s.per_cycle,
+        frequency_hz: s.f1_hz,
         events,
         reversed_current: reversed,
     }

@@ -68,8 +68,9 @@ pub fn verdict_items(c: &CalibrationResults) -> Vec<String> {
             .measured_order
             .map_or("not measured".into(), |h| format!("{h:.2}"));
         items.push(format!(
-            "Resonance at {} with {} ({:.0} kvar): measured order {measured}; model {}.",
-            c.bus,
+            "Resonance of {} at {} with {} ({:.0} kvar): measured order {measured}; model {}.",
+            r.bank,
+            r.bus,
             r.configuration,
             r.q_kvar,
             model.join(", ")

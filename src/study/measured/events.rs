@@ -144,11 +144,11 @@ pub fn analyse(s: &Sampled, opt: &EventOptions) -> Analysis {
         let lo = if e == 0 {
             0
         } else {
-            instants[e - 1].0 + opt.settle_cycles
+            settled_cycle(s, instants[e - 1].1, opt.settle_cycles)
         };
         let hi = instants.get(e + 1).map_or(n, |x| x.0.saturating_sub(1));
         let b_end = cycle.saturating_sub(1);
-        let a_start = cycle + opt.settle_cycles;
+        let a_start = settled_cycle(s, sample, opt.settle_cycles);
         let wb = w.min(b_end.saturating_sub(lo));
         let wa = w.min(hi.saturating_sub(a_start));
         if wb < 3 || wa < 3 {
@@ -250,12 +250,54 @@ fn step_cycles(q: &[f64], threshold_kvar: f64) -> Vec<usize> {
     out
 }
 
+/// The first cycle of the steady state after a switching at `sample`: the first cycle,
+/// at least `min_cycles` after it, from which two cycles in a row differ from the cycle
+/// before them by less than 1 % of the largest such difference just after the switching,
+/// or 3 × the difference before it (rms over the cycle, every voltage channel); at most 40
+/// cycles after.
+fn settled_cycle(s: &Sampled, sample: usize, min_cycles: usize) -> usize {
+    let m = s.per_cycle;
+    let first = sample / m + 1;
+    let change = |c: usize| -> f64 {
+        (s.voltages.iter())
+            .map(|x| {
+                let (a, b) = (c * m, ((c + 1) * m).min(x.len()));
+                if a < m || a >= b {
+                    return 0.0;
+                }
+                let ss: f64 = (a..b).map(|n| (x[n] - x[n - m]).powi(2)).sum();
+                (ss / (b - a) as f64).sqrt()
+            })
+            .fold(0.0, f64::max)
+    };
+    let top = (first..first + 2).map(change).fold(0.0, f64::max);
+    // A steady waveform still changes from cycle to cycle when the system frequency is off
+    // nominal: three times the change before the switching counts as steady too.
+    let mut before: Vec<f64> = (first.saturating_sub(8)..first.saturating_sub(2))
+        .map(change)
+        .collect();
+    before.sort_by(f64::total_cmp);
+    let floor = before.get(before.len() / 2).copied().unwrap_or(0.0);
+    let steady = (0.01 * top).max(3.0 * floor);
+    let limit = first + 40;
+    let mut c = first + min_cycles.saturating_sub(1).max(1);
+    while c < limit {
+        if change(c) < steady && change(c + 1) < steady {
+            return c;
+        }
+        c += 1;
+    }
+    limit
+}
+
 /// The cycle and sample where the switching begins near cycle `k`: the first sample in
-/// cycles k−1 … k+2 where a voltage's change from one cycle earlier exceeds 20 % of its
+/// cycles k−4 … k+2 where a voltage's change from one cycle earlier exceeds 20 % of its
 /// largest there.
 fn switching_sample(s: &Sampled, k: usize) -> (usize, usize) {
     let m = s.per_cycle;
-    let (from, to) = ((k.saturating_sub(1)).max(1) * m, (k + 3) * m);
+    // The step detector's largest change falls up to a few cycles after the switching
+    // (a long ring keeps the reactive power moving): search from 4 cycles before.
+    let (from, to) = ((k.saturating_sub(4)).max(1) * m, (k + 3) * m);
     let mut best = (k, k * m);
     let mut top = 0.0;
     for x in &s.voltages {

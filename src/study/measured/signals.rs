@@ -172,3 +172,25 @@ pub fn line_to_neutral(order: usize, v_ll: Complex64) -> Complex64 {
     };
     v_ll / Complex64::from_polar(3f64.sqrt(), shift)
 }
+
+/// The system frequency the recording ran at, Hz: `nominal_hz` × (1 + the median turn of
+/// the first voltage's fundamental phasor from one nominal cycle to the next, in cycles).
+/// A window of whole *actual* cycles then leaves no leakage between the fundamental's
+/// positive and negative frequency (what a synchronized measurement window does, IEC
+/// 61000-4-7, from memory). `nominal_hz` when there is no voltage.
+pub fn system_frequency(s: &Sampled) -> f64 {
+    let Some(v) = s.voltages.first() else {
+        return s.f1_hz;
+    };
+    let p = cycle_phasors(v, s.per_cycle);
+    let mut turns: Vec<f64> = p
+        .windows(2)
+        .map(|w| (w[1] * w[0].conj()).arg() / std::f64::consts::TAU)
+        .filter(|t| t.is_finite())
+        .collect();
+    if turns.is_empty() {
+        return s.f1_hz;
+    }
+    turns.sort_by(f64::total_cmp);
+    s.f1_hz * (1.0 + turns[turns.len() / 2])
+}
