@@ -132,3 +132,21 @@ fn heavy_92_mw_whole_check(bencher: divan::Bencher) {
         res.limit_rows.len()
     });
 }
+
+/// Issue 28's many-bank shape: 120 buses with converters on two thirds, 8 banks of `steps`
+/// steps 7 % detuned (1 step: 256 configurations; 2: 6,561), 2 supply scenarios, the whole
+/// check with the switching simulation. (3 steps, 65,536 configurations, ran over 10 min
+/// and 7 GB before it was stopped; 4 steps exceed the configuration limit.)
+#[divan::bench(sample_count = 1, sample_size = 1, args = [1, 2])]
+fn eight_banks_whole_check(bencher: divan::Bencher, steps: u32) {
+    let mut p = with_converters(with_two_scenarios(generated_plant(120, 0, 8, steps, 17)), 17);
+    for b in &mut p.banks {
+        b.reactor = Reactor::Detuning { percent: 7.0 };
+    }
+    bencher.bench_local(|| {
+        run_check(&p, &options(true, Evaluation::Auto))
+            .expect("runs")
+            .limit_rows
+            .len()
+    });
+}
