@@ -139,7 +139,10 @@ fn heavy_92_mw_whole_check(bencher: divan::Bencher) {
 /// and 7 GB before it was stopped; 4 steps exceed the configuration limit.)
 #[divan::bench(sample_count = 1, sample_size = 1, args = [1, 2])]
 fn eight_banks_whole_check(bencher: divan::Bencher, steps: u32) {
-    let mut p = with_converters(with_two_scenarios(generated_plant(120, 0, 8, steps, 17)), 17);
+    let mut p = with_converters(
+        with_two_scenarios(generated_plant(120, 0, 8, steps, 17)),
+        17,
+    );
     for b in &mut p.banks {
         b.reactor = Reactor::Detuning { percent: 7.0 };
     }

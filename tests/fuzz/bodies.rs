@@ -49,6 +49,20 @@ pub fn read_recording(data: &[u8]) {
                 );
             }
             assert!(w.time_s.windows(2).all(|t| t[1] >= t[0]), "time goes back");
+            // A short recording is analysed too: the events and every estimate, no panic.
+            if w.time_s.last().is_some_and(|&t| t < 2.0)
+                && let Ok(s) = overtone::jobs::calibrate::channels::sampled(&w, 60.0)
+            {
+                let opt = overtone::study::measured::events::EventOptions {
+                    threshold_var: 1e3,
+                    orders: 50,
+                    window_cycles: 12,
+                    settle_cycles: 6,
+                    kv_nominal: 4.16,
+                };
+                let a = overtone::study::measured::events::analyse(&s, &opt);
+                assert!(a.steady.len() <= 2 * a.events.len() + 1);
+            }
         }
         Err(e) => assert!(
             e.to_string().contains("fuzz.cff"),

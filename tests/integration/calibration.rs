@@ -539,3 +539,50 @@ fn a_system_frequency_off_nominal_does_not_bias_the_estimates() {
         assert_close(b.percent, *pct, 0.05);
     }
 }
+
+#[test]
+fn daily_current_percentile_matches_a_hand_computed_day() {
+    // 1,000 very short (3 s) values of a current channel in amperes: the 5th at
+    // (k mod 100)/5 A with I_L = 100 A, i.e. (k mod 100)/5 % of I_L, each value 10 times.
+    // Nearest rank ⌈0.99·1000⌉ = 990 falls on v = 98 (10·(v + 1) ≥ 990): 19.6 %.
+    // IEEE 519-2014 Table 2, Isc/IL 20 < 50, h < 11: 7.0 %; the daily 3-s test allows 2× =
+    // 14.0 % (clause 5.2 a)); TDD 8.0 % → 16.0 %.
+    let mut csv = String::from("Time,Channel,Order,Value,Unit,Interval\n");
+    for k in 0..1000u32 {
+        let s = 3 * (k + 1);
+        let stamp = format!(
+            "2026-03-02 {:02}:{:02}:{:02}",
+            s / 3600,
+            s / 60 % 60,
+            s % 60
+        );
+        csv += &format!(
+            "{stamp},I1,1,100,A,3 s\n{stamp},I1,5,{},A,3 s\n",
+            (k % 100) as f64 / 5.0
+        );
+    }
+    let log = parse_log("day.csv", &csv).unwrap();
+    let at = LimitsAt {
+        kv: 4.16,
+        i_l_a: 100.0,
+        isc_over_il: 30.0,
+    };
+    let c = &evaluate(&log, &at)[0];
+    let daily = |order: Option<u32>| {
+        c.rows
+            .iter()
+            .find(|r| r.clause == "5.2 a)" && r.order == order)
+            .unwrap()
+    };
+    let h5 = daily(Some(5));
+    assert!((h5.value_percent - 19.6).abs() < 1e-12);
+    assert_eq!(h5.limit_percent, 14.0);
+    assert!(h5.exceeds);
+    let tdd = daily(None);
+    assert!((tdd.value_percent - 19.6).abs() < 1e-12);
+    assert_eq!(tdd.limit_percent, 16.0);
+    // Coverage: 1,000 of the day's 28,800 intervals.
+    assert!((h5.coverage_percent - 100.0 * 1000.0 / 28_800.0).abs() < 1e-9);
+    // The 10-min values are aggregated from the 3-s ones (rms per clock-aligned interval).
+    assert!(c.rows.iter().any(|r| r.clause == "5.2 c)"));
+}
