@@ -9,7 +9,7 @@ use std::f64::consts::PI;
 use crate::common::{
     assert_close, bank, bus, external_tool, load, source, spectrum, textbook_plant,
 };
-use crate::recording::{Circuit, write_comtrade};
+use crate::recording::{Circuit, write_channels, write_comtrade};
 use overtone::io::recordings::comtrade::{parse_cff, read_comtrade};
 use overtone::io::recordings::harmonic_log::parse_log;
 use overtone::jobs::calibrate::{CalibrateOptions, MEASURED, Recording, run_calibrate};
@@ -585,4 +585,63 @@ fn daily_current_percentile_matches_a_hand_computed_day() {
     assert!((h5.coverage_percent - 100.0 * 1000.0 / 28_800.0).abs() < 1e-9);
     // The 10-min values are aggregated from the 3-s ones (rms per clock-aligned interval).
     assert!(c.rows.iter().any(|r| r.clause == "5.2 c)"));
+}
+
+#[test]
+fn phase_to_phase_voltages_and_a_single_phase_recording_give_the_same_source() {
+    if !external_tool(
+        "ngspice",
+        "the recordings synthesized by a circuit simulator",
+    ) {
+        return;
+    }
+    let dir = tmp("wiring");
+    let c = Circuit::standard();
+    let (_t, ch) = c.simulate(&dir);
+    // Phase-to-phase voltages (a 3-wire analyzer hookup): V_ab = V_a − V_b, ...
+    let diff = |a: &[f64], b: &[f64]| a.iter().zip(b).map(|(x, y)| x - y).collect::<Vec<f64>>();
+    let ll = vec![
+        diff(&ch[0], &ch[1]),
+        diff(&ch[1], &ch[2]),
+        diff(&ch[2], &ch[0]),
+        ch[3].clone(),
+        ch[4].clone(),
+        ch[5].clone(),
+    ];
+    let names = ["VAB", "VBC", "VCA", "IA", "IB", "IC"];
+    let cfg = write_channels(
+        &dir,
+        "ll",
+        ("BINARY", 1999, 7680.0),
+        &names,
+        &["AB", "BC", "CA", "A", "B", "C"],
+        &ll,
+    );
+    // One phase only (a single-phase logger on a balanced system).
+    let one = write_channels(
+        &dir,
+        "one",
+        ("ASCII", 2013, 7680.0),
+        &["VA", "IA"],
+        &["A", "A"],
+        &[ch[0].clone(), ch[3].clone()],
+    );
+    for path in [cfg, one] {
+        let rec = Recording::Waveforms(Box::new(read_comtrade(&path).unwrap()));
+        let res = run_calibrate(&plant(), &[rec], &CalibrateOptions::default()).unwrap();
+        let f = res
+            .source
+            .as_ref()
+            .unwrap_or_else(|| panic!("{}: {:?}", path.display(), res.notes));
+        assert_close(f.s_sc_mva, c.s_sc_mva, 0.02);
+        assert_close(f.x_over_r, c.x_over_r, 0.10);
+        for (h, pct, _) in &c.background {
+            let b = res
+                .background
+                .iter()
+                .find(|b| b.order == *h as usize)
+                .unwrap();
+            assert_close(b.percent, *pct, 0.05);
+        }
+    }
 }

@@ -160,9 +160,9 @@ impl Circuit {
     }
 }
 
-/// Channel scaling used by the writer: volts per count and amperes per count.
-pub const V_PER_COUNT: f64 = 0.2;
-pub const A_PER_COUNT: f64 = 0.05;
+/// The writer's resolution: the largest |value| of a channel maps to this many counts (as
+/// a recorder's range is set), within BINARY's 16 bits.
+pub const FULL_SCALE_COUNTS: f64 = 30_000.0;
 
 /// Writes `name.cfg` + `name.dat` (ASCII, 2013 or 1999; BINARY 1999; BINARY32 or FLOAT32
 /// 2013) of the six channels sampled at `rate_hz`, and returns the .cfg path. Phase-a
@@ -175,18 +175,31 @@ pub fn write_comtrade(
     rate_hz: f64,
     ch: &[Vec<f64>],
 ) -> PathBuf {
-    let n = ch[0].len();
-    let vt = 4160.0 / 120.0;
-    let mut cfg = format!("Invented substation,Synthesized,{year}\n6,6A,0D\n");
     let names = ["VA", "VB", "VC", "IA", "IB", "IC"];
     let phases = ["A", "B", "C", "A", "B", "C"];
+    write_channels(dir, name, (format, year, rate_hz), &names, &phases, ch)
+}
+
+/// Writes the channels `ch` named `names` (a name starting with V is a voltage in V, else a
+/// current in A) with `phases` as their `ph` fields; the first channel is written as a
+/// secondary quantity behind 4160:120. Returns the .cfg path.
+pub fn write_channels(
+    dir: &Path,
+    name: &str,
+    (format, year, rate_hz): (&str, u32, f64),
+    names: &[&str],
+    phases: &[&str],
+    ch: &[Vec<f64>],
+) -> PathBuf {
+    let n = ch[0].len();
+    let count = ch.len();
+    let vt = 4160.0 / 120.0;
+    let mut cfg = format!("Invented substation,Synthesized,{year}\n{count},{count}A,0D\n");
     let mut scale = Vec::new();
-    for k in 0..6 {
-        let (unit, a) = if k < 3 {
-            ("V", V_PER_COUNT)
-        } else {
-            ("A", A_PER_COUNT)
-        };
+    for k in 0..count {
+        let unit = if names[k].starts_with('V') { "V" } else { "A" };
+        let top = ch[k].iter().fold(0.0f64, |m, x| m.max(x.abs()));
+        let a = (top / FULL_SCALE_COUNTS).max(1e-6);
         let (a, ps) = if k == 0 { (a / vt, "S") } else { (a, "P") };
         scale.push(if k == 0 { a * vt } else { a });
         let (lo, hi) = if format == "BINARY" {
@@ -215,14 +228,19 @@ pub fn write_comtrade(
     for s in 0..n {
         let stamp = (s as f64 * 1e6 / rate_hz).round() as u32;
         if format == "ASCII" {
-            let vals: Vec<String> = (0..6).map(|k| format!("{}", counts(k, s) as i64)).collect();
+            let vals: Vec<String> = (0..count)
+                .map(|k| format!("{}", counts(k, s) as i64))
+                .collect();
             dat.extend(format!("{},{stamp},{}\n", s + 1, vals.join(",")).bytes());
         } else {
             dat.extend((s as u32 + 1).to_le_bytes());
             dat.extend(stamp.to_le_bytes());
-            for k in 0..6 {
+            for k in 0..count {
                 match format {
-                    "BINARY" => dat.extend((counts(k, s) as i16).to_le_bytes()),
+                    // A recorder clips at its range (-32768 is the missing-value code).
+                    "BINARY" => {
+                        dat.extend((counts(k, s).clamp(-32767.0, 32767.0) as i16).to_le_bytes())
+                    }
                     "BINARY32" => dat.extend((counts(k, s) as i32).to_le_bytes()),
                     _ => dat.extend((counts(k, s) as f32).to_le_bytes()),
                 }

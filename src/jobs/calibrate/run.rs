@@ -210,6 +210,12 @@ pub fn run_calibrate(
                         w.file, w.config.line_frequency_hz
                     ));
                 }
+                for ch in w.analog.iter().filter(|c| c.at_range_limit > 0) {
+                    res.notes.push(format!(
+                        "{}: channel {} reaches its declared range in {} samples: the waveform is clipped there, and an event whose windows hold clipped samples is not reliable",
+                        w.file, ch.spec.id, ch.at_range_limit
+                    ));
+                }
                 let s = channels::sampled(w, f1)?;
                 let a = analyse(&s, &opt);
                 let named: Vec<Option<String>> = a
@@ -273,7 +279,10 @@ fn fit(
         if res.recordings.is_empty() {
             return;
         }
-        res.notes.push("no capacitor switching event was found: the source and the background cannot be estimated from these recordings".into());
+        res.notes.push(match events.len() {
+            0 => "no capacitor switching event was found: the source and the background cannot be estimated from these recordings".into(),
+            n => format!("{n} switching event(s) were found, but none had complete windows before and after it (missing samples): the source and the background cannot be estimated"),
+        });
         return;
     };
     let s_sc = kv * kv / z1.norm();

@@ -20,6 +20,9 @@ pub struct AnalogChannel {
     pub quantity: Quantity,
     /// Primary values, V or A (other units as written); NaN where the sample is missing.
     pub values: Vec<f64>,
+    /// Samples whose raw value sits at the channel's declared min or max: the recorder's
+    /// range was reached, and the waveform there is clipped.
+    pub at_range_limit: usize,
 }
 
 /// A COMTRADE recording, read and scaled.
@@ -273,11 +276,19 @@ fn scale(
                 spec.primary / spec.secondary
             };
             let k = unit * ratio;
+            let at_range_limit = if spec.min < spec.max {
+                xs.iter()
+                    .filter(|&&x| x <= spec.min || x >= spec.max)
+                    .count()
+            } else {
+                0
+            };
             let values = xs.into_iter().map(|x| (spec.a * x + spec.b) * k).collect();
             AnalogChannel {
                 spec: spec.clone(),
                 quantity,
                 values,
+                at_range_limit,
             }
         })
         .collect();
