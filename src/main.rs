@@ -252,7 +252,7 @@ fn calibrate(a: &CalibrateArgs) -> Result<ExitCode, Failure> {
     if (documents.0.is_some() || documents.1.is_some())
         && !plan.write_calibration_documents(&res, documents, &prov)?
     {
-        unwritten.push("the review and report");
+        unwritten.push("-o and --report");
     }
     let code = print(|w| match a.json {
         true => writeln!(w, "{}", json::calibrate_json(&res)),

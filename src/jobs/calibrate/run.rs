@@ -118,7 +118,8 @@ pub struct CalibrationResults {
     pub resonance: Vec<ResonanceCompare>,
     pub comparison: Vec<OrderCompare>,
     pub verdicts: Vec<VerdictCount>,
-    /// The calibrated plant's whole check, as `check` runs it (every scenario).
+    /// The calibrated plant's whole check, as `check` runs it (every scenario); with a
+    /// harmonic log alone, the plant's own check.
     pub study: Option<Box<crate::jobs::check::CheckResults>>,
     pub compliance: Vec<Compliance>,
     /// Per recording, the fundamental reactive power per cycle, kvar (for the plots).
@@ -262,6 +263,15 @@ pub fn run_calibrate(
     }
     res.events = rows;
     fit(&mut res, plant, &source, &events, &windows, v_nominal);
+    if res.study.is_none() && !res.compliance.is_empty() {
+        // A harmonic log alone: the review and report carry the measured compliance beside
+        // the plant's study as given.
+        let options = crate::jobs::check::CheckOptions {
+            switching: true,
+            ..Default::default()
+        };
+        res.study = Some(Box::new(crate::jobs::check::run_check(plant, &options)?));
+    }
     Ok(res)
 }
 

@@ -19,7 +19,9 @@ pub fn section(out: &mut Layout<'_>, c: &CalibrationResults, characteristic: &[f
     for item in crate::present::terminal::calibrate::verdict_items(c) {
         out.bullet(&item);
     }
-    out.paragraph("Method: each capacitor step switching in the recordings changes the current into the plant while the source's EMF stays; the source impedance is then Z(h) = −ΔV_h/ΔI_h at every order whose current moved (windows of whole cycles before and after the event), S_sc = kV²/|Z(1)| with ΔV/V ≈ ΔQ/S_sc beside it, and the background EMF E_h = V_h + Z(h)·I_h. The fit is held within the range the Sources sheet gives and becomes the supply scenario `measured`, studied below with the others.");
+    if !c.events.is_empty() {
+        out.paragraph("Method: each capacitor step switching in the recordings changes the current into the plant while the source's EMF stays; the source impedance is then Z(h) = −ΔV_h/ΔI_h at every order whose current moved (windows of whole cycles before and after the event), S_sc = kV²/|Z(1)| with ΔV/V ≈ ΔQ/S_sc beside it, and the background EMF E_h = V_h + Z(h)·I_h. The fit is held within the range the Sources sheet gives and becomes the supply scenario `measured`, studied below with the others.");
+    }
     if !c.events.is_empty() {
         out.heading("Switching events", 2);
         let rows: Vec<Vec<String>> = c

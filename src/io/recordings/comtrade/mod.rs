@@ -50,6 +50,9 @@ pub fn read_comtrade(path: &Path) -> Result<Waveforms, RecordingError> {
         .extension()
         .map(|e| e.to_string_lossy().to_ascii_lowercase())
         .unwrap_or_default();
+    if !path.is_file() {
+        return Err(RecordingError::whole(&name, "no such file".into()));
+    }
     match ext.as_str() {
         "cff" => {
             let bytes = read_bytes(path)?;
