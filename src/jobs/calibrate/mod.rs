@@ -9,9 +9,11 @@ pub mod estimate;
 pub mod matching;
 mod model;
 mod run;
+mod written;
 
 pub use model::{OrderCompare, ResonanceCompare, VerdictCount};
 pub use run::*;
+pub use written::{calibrated_plant, provenance_notes};
 
 /// Why a calibration cannot run.
 #[derive(Debug, thiserror::Error)]

@@ -7,10 +7,11 @@ use serde::Serialize;
 use super::estimate::{self, BackgroundEstimate, OrderImpedance, Spread};
 use super::matching::{Match, match_event, states};
 use super::model::{self, OrderCompare, ResonanceCompare, VerdictCount};
+use super::written::calibrated_plant;
 use super::{CalibrateError, channels};
 use crate::io::recordings::comtrade::Waveforms;
 use crate::io::recordings::harmonic_log::HarmonicLog;
-use crate::model::{BackgroundLine, Plant, ResistanceModel, ShortCircuit, Source, SourceKind};
+use crate::model::{Plant, ResistanceModel, ShortCircuit, Source, SourceKind};
 use crate::study::measured::compliance::{Compliance, evaluate};
 use crate::study::measured::events::{EventOptions, Window, analyse};
 
@@ -156,30 +157,10 @@ pub fn run_calibrate(
         Some(text) => Some(crate::study::parse_configuration(text, &plant.banks)?.steps),
         None => None,
     };
-    let mut res = CalibrationResults {
-        plant: plant.clone(),
-        calibrated: None,
-        bus: bus.clone(),
-        kv,
-        recordings: Vec::new(),
-        events: Vec::new(),
-        source: None,
-        impedance: Vec::new(),
-        background: Vec::new(),
-        background_basis: String::new(),
-        resonance: Vec::new(),
-        comparison: Vec::new(),
-        verdicts: Vec::new(),
-        study: None,
-        compliance: Vec::new(),
-        q_kvar: Vec::new(),
-        notes: Vec::new(),
-    };
+    let mut res = CalibrationResults::empty(plant, bus, kv);
     let f1 = plant.study.frequency_hz;
     let v_nominal = kv * 1e3 / 3f64.sqrt();
-    let min_step = plant
-        .banks
-        .iter()
+    let min_step = (plant.banks.iter())
         .map(|b| b.step_kvar)
         .fold(f64::INFINITY, f64::min);
     let threshold_var = if min_step.is_finite() {
@@ -194,75 +175,20 @@ pub fn run_calibrate(
         settle_cycles: 6,
         kv_nominal: kv,
     };
-    // (event, its window pair, the state index) over every waveform recording.
-    let mut events = Vec::new();
-    let mut windows: Vec<(Window, Vec<u32>)> = Vec::new();
-    let mut rows = Vec::new();
+    let mut gathered = Gathered::default();
     for rec in recordings {
         match rec {
             Recording::Log(log) => res
                 .compliance
                 .extend(evaluate(log, &model::limits_at(plant, kv))),
             Recording::Waveforms(w) => {
-                if (w.config.line_frequency_hz - f1).abs() > 0.5 && w.config.line_frequency_hz > 0.0
-                {
-                    res.notes.push(format!(
-                        "{}: the recording says {} Hz; the plant is {f1} Hz, used for the analysis",
-                        w.file, w.config.line_frequency_hz
-                    ));
-                }
-                for ch in w.analog.iter().filter(|c| c.at_range_limit > 0) {
-                    res.notes.push(format!(
-                        "{}: channel {} reaches its declared range in {} samples: the waveform is clipped there, and an event whose windows hold clipped samples is not reliable",
-                        w.file, ch.spec.id, ch.at_range_limit
-                    ));
-                }
-                let s = channels::sampled(w, f1)?;
-                let a = analyse(&s, &opt);
-                let named: Vec<Option<String>> = a
-                    .events
-                    .iter()
-                    .map(|e| status_channel(w, plant, e.time_s, f1))
-                    .collect();
-                let matches: Vec<Option<Match>> = a
-                    .events
-                    .iter()
-                    .zip(&named)
-                    .map(|(e, n)| {
-                        match_event(
-                            plant,
-                            e.delta_q_kvar,
-                            e.v_before_v / v_nominal,
-                            n.as_deref(),
-                        )
-                    })
-                    .collect();
-                let st = states(plant, &matches, start.clone());
-                for (k, e) in a.events.iter().enumerate() {
-                    rows.push(event_row(w, e, &matches[k], &st[k + 1], plant));
-                }
-                // Steady windows in time order alternate before/after; pair each with its
-                // stretch's state by time.
-                for win in &a.steady {
-                    let stretch = a
-                        .events
-                        .iter()
-                        .filter(|e| (e.time_s - s.t0_s) * s.f1_hz < win.start_cycle as f64)
-                        .count();
-                    windows.push((win.clone(), st[stretch.min(st.len() - 1)].clone()));
-                }
-                res.recordings
-                    .push(summary(w, &s, a.events.len(), a.reversed_current));
-                if a.reversed_current {
-                    res.notes.push(format!("{}: the current channels pointed toward the source; they were reversed so that the plant draws power", w.file));
-                }
-                res.q_kvar.push(a.q_kvar.clone());
-                events.extend(a.events);
+                waveform(&mut res, &mut gathered, plant, w, (&opt, start.clone()))?;
             }
         }
     }
-    res.events = rows;
-    fit(&mut res, plant, &source, &events, &windows, v_nominal);
+    res.events = std::mem::take(&mut gathered.rows);
+    let (events, windows) = (&gathered.events, &gathered.windows);
+    fit(&mut res, plant, &source, events, windows, v_nominal);
     if res.study.is_none() && !res.compliance.is_empty() {
         // A harmonic log alone: the review and report carry the measured compliance beside
         // the plant's study as given.
@@ -273,6 +199,99 @@ pub fn run_calibrate(
         res.study = Some(Box::new(crate::jobs::check::run_check(plant, &options)?));
     }
     Ok(res)
+}
+
+impl CalibrationResults {
+    /// Nothing found yet, at `bus` of `kv`.
+    fn empty(plant: &Plant, bus: String, kv: f64) -> Self {
+        CalibrationResults {
+            plant: plant.clone(),
+            calibrated: None,
+            bus,
+            kv,
+            recordings: Vec::new(),
+            events: Vec::new(),
+            source: None,
+            impedance: Vec::new(),
+            background: Vec::new(),
+            background_basis: String::new(),
+            resonance: Vec::new(),
+            comparison: Vec::new(),
+            verdicts: Vec::new(),
+            study: None,
+            compliance: Vec::new(),
+            q_kvar: Vec::new(),
+            notes: Vec::new(),
+        }
+    }
+}
+
+/// What the waveform recordings give, together: every event, every steady window with the
+/// steps in service during it, and the events as reported.
+#[derive(Default)]
+struct Gathered {
+    events: Vec<crate::study::measured::events::Event>,
+    windows: Vec<(Window, Vec<u32>)>,
+    rows: Vec<EventRow>,
+}
+
+/// One waveform recording analysed: its events matched to the plant's banks, the steps in
+/// service in each stretch, its summary and notes.
+fn waveform(
+    res: &mut CalibrationResults,
+    acc: &mut Gathered,
+    plant: &Plant,
+    w: &Waveforms,
+    (opt, start): (&EventOptions, Option<Vec<u32>>),
+) -> Result<(), CalibrateError> {
+    let f1 = plant.study.frequency_hz;
+    let v_nominal = res.kv * 1e3 / 3f64.sqrt();
+    if (w.config.line_frequency_hz - f1).abs() > 0.5 && w.config.line_frequency_hz > 0.0 {
+        res.notes.push(format!(
+            "{}: the recording says {} Hz; the plant is {f1} Hz, used for the analysis",
+            w.file, w.config.line_frequency_hz
+        ));
+    }
+    for ch in w.analog.iter().filter(|c| c.at_range_limit > 0) {
+        res.notes.push(format!(
+            "{}: channel {} reaches its declared range in {} samples: the waveform is clipped there, and an event whose windows hold clipped samples is not reliable",
+            w.file, ch.spec.id, ch.at_range_limit
+        ));
+    }
+    let s = channels::sampled(w, f1)?;
+    let a = analyse(&s, opt);
+    let matches: Vec<Option<Match>> = (a.events.iter())
+        .map(|e| {
+            let named = status_channel(w, plant, e.time_s, f1);
+            match_event(
+                plant,
+                e.delta_q_kvar,
+                e.v_before_v / v_nominal,
+                named.as_deref(),
+            )
+        })
+        .collect();
+    let st = states(plant, &matches, start);
+    for (k, e) in a.events.iter().enumerate() {
+        acc.rows
+            .push(event_row(w, e, &matches[k], &st[k + 1], plant));
+    }
+    // Each steady window gets the state of its stretch: the events before it, by time.
+    for win in &a.steady {
+        let stretch = (a.events.iter())
+            .filter(|e| (e.time_s - s.t0_s) * s.f1_hz < win.start_cycle as f64)
+            .count();
+        acc.windows
+            .push((win.clone(), st[stretch.min(st.len() - 1)].clone()));
+    }
+    res.recordings
+        .push(summary(w, &s, a.events.len(), a.reversed_current));
+    if a.reversed_current {
+        res.notes.push(format!("{}: the current channels pointed toward the source; they were reversed so that the plant draws power", w.file));
+    }
+    res.q_kvar.push(a.q_kvar.clone());
+    acc.events.extend(a.events);
+    Ok(())
 }
 
 /// The source fit, the background, the calibrated plant and its checks.
@@ -314,59 +333,15 @@ fn fit(
     let law = plant.study.resistance_model;
     let zf = model::source_z(kv, fitted_s, fitted_xr, law);
     res.impedance = estimate::impedances(events, &zf);
-    let measured_z = |h: usize| -> Complex64 {
-        match h {
-            1 => zf(1),
-            _ => res
-                .impedance
-                .iter()
-                .find(|o| o.order == h)
-                .map_or_else(|| zf(h), |o| o.z_ohm),
-        }
-    };
-    let off: Vec<&Window> = windows
-        .iter()
-        .filter(|w| w.1.iter().all(|&n| n == 0))
-        .map(|w| &w.0)
-        .collect();
-    let all: Vec<&Window> = windows.iter().map(|w| &w.0).collect();
-    let (used, basis) = if off.is_empty() {
-        (all, "every steady window (no window had every bank off)")
-    } else {
-        (off, "the windows with every bank off")
-    };
-    res.background_basis = format!("{basis}: {} of {}", used.len(), windows.len());
-    res.background = estimate::background(&used, measured_z, v_nominal);
-    let emf_pu = used
-        .iter()
-        .map(|w| (w.v[1] + zf(1) * w.i[1]).norm() / v_nominal)
-        .sum::<f64>()
-        / used.len().max(1) as f64;
+    let emf_pu = background_fit(res, windows, &zf, v_nominal);
     let fit = SourceFit {
         source: source.id.clone(),
         z1_ohm: z1,
         s_sc_mva: s_sc,
-        s_sc_spread: Spread::of(events.iter().map(|e| e.s_sc_mva)).unwrap_or(Spread {
-            min: s_sc,
-            max: s_sc,
-            std: 0.0,
-            events: 0,
-        }),
-        s_sc_approx_spread: Spread::of(events.iter().map(|e| e.s_sc_approx_mva)).unwrap_or(
-            Spread {
-                min: f64::NAN,
-                max: f64::NAN,
-                std: 0.0,
-                events: 0,
-            },
-        ),
+        s_sc_spread: spread(events.iter().map(|e| e.s_sc_mva), s_sc),
+        s_sc_approx_spread: spread(events.iter().map(|e| e.s_sc_approx_mva), f64::NAN),
         x_over_r: xr,
-        x_over_r_spread: Spread::of(events.iter().map(|e| e.x_over_r)).unwrap_or(Spread {
-            min: xr,
-            max: xr,
-            std: 0.0,
-            events: 0,
-        }),
+        x_over_r_spread: spread(events.iter().map(|e| e.x_over_r), xr),
         bounds,
         fitted_s_sc_mva: fitted_s,
         fitted_x_over_r: fitted_xr,
@@ -397,6 +372,52 @@ fn fit(
     res.calibrated = Some(calibrated);
 }
 
+/// The spread of `xs`, or `at` alone when there are none.
+fn spread(xs: impl IntoIterator<Item = f64>, at: f64) -> Spread {
+    Spread::of(xs).unwrap_or(Spread {
+        min: at,
+        max: at,
+        std: 0.0,
+        events: 0,
+    })
+}
+
+/// The background EMF per order over the windows with every bank off (else every window),
+/// with Z(h) measured where an event measured it and the calibrated model's `zf` elsewhere;
+/// returns the fundamental EMF, pu of `v_nominal`.
+fn background_fit(
+    res: &mut CalibrationResults,
+    windows: &[(Window, Vec<u32>)],
+    zf: &impl Fn(usize) -> Complex64,
+    v_nominal: f64,
+) -> f64 {
+    let impedance = &res.impedance;
+    let measured_z = |h: usize| -> Complex64 {
+        match h {
+            1 => zf(1),
+            _ => (impedance.iter())
+                .find(|o| o.order == h)
+                .map_or_else(|| zf(h), |o| o.z_ohm),
+        }
+    };
+    let off: Vec<&Window> = (windows.iter())
+        .filter(|w| w.1.iter().all(|&n| n == 0))
+        .map(|w| &w.0)
+        .collect();
+    let all: Vec<&Window> = windows.iter().map(|w| &w.0).collect();
+    let (used, basis) = if off.is_empty() {
+        (all, "every steady window (no window had every bank off)")
+    } else {
+        (off, "the windows with every bank off")
+    };
+    res.background = estimate::background(&used, measured_z, v_nominal);
+    res.background_basis = format!("{basis}: {} of {}", used.len(), windows.len());
+    (used.iter())
+        .map(|w| (w.v[1] + zf(1) * w.i[1]).norm() / v_nominal)
+        .sum::<f64>()
+        / used.len().max(1) as f64
+}
+
 /// (S_sc range, X/R range) of the utility rows at `source`'s bus over the scenarios; a
 /// single value v gives the range v/2 … 2v.
 fn source_bounds(plant: &Plant, source: &Source, kv: f64) -> ((f64, f64), (f64, f64)) {
@@ -425,61 +446,6 @@ fn source_bounds(plant: &Plant, source: &Source, kv: f64) -> ((f64, f64), (f64, 
         range(lo(&mva), hi(&mva)),
         range(lo(&|s| s.x_over_r), hi(&|s| s.x_over_r)),
     )
-}
-
-/// The plant with a `measured` utility source at the recording bus (the fitted S_sc, X/R and
-/// EMF) and its background rows. A source row that named no scenario is given `base`, so
-/// that it does not stand in parallel with the measured one.
-pub fn calibrated_plant(
-    plant: &Plant,
-    source: &Source,
-    fit: &SourceFit,
-    background: &[BackgroundEstimate],
-) -> Plant {
-    let mut p = plant.clone();
-    for s in p.sources.iter_mut() {
-        if s.bus == source.bus && s.kind == SourceKind::Utility && s.scenario.is_none() {
-            s.scenario = Some(crate::model::DEFAULT_SCENARIO.to_string());
-        }
-    }
-    let id = unique_id(&p, &format!("{}-{MEASURED}", source.id));
-    p.sources.push(Source {
-        id: id.clone(),
-        bus: source.bus.clone(),
-        scenario: Some(MEASURED.to_string()),
-        // Rounded as an engineer would enter them (the estimates' spread is far wider).
-        short_circuit: ShortCircuit::Mva(round_to(fit.fitted_s_sc_mva, 0.01)),
-        x_over_r: round_to(fit.fitted_x_over_r, 0.01),
-        voltage_pu: round_to(fit.emf_pu, 1e-4),
-        zero_short_circuit_mva: source.zero_short_circuit_mva,
-        zero_x_over_r: source.zero_x_over_r,
-        kind: SourceKind::Utility,
-    });
-    for b in background {
-        p.background.push(BackgroundLine {
-            source: id.clone(),
-            order: b.order as f64,
-            voltage_percent: round_to(b.percent, 1e-4),
-            angle_deg: Some(round_to(b.angle_deg, 0.01)),
-        });
-    }
-    p
-}
-
-/// `x` rounded to a multiple of `step`.
-fn round_to(x: f64, step: f64) -> f64 {
-    (x / step).round() * step
-}
-
-/// `base`, or `base-2`, `base-3` ... whichever no source has.
-fn unique_id(p: &Plant, base: &str) -> String {
-    let mut id = base.to_string();
-    let mut k = 2;
-    while p.sources.iter().any(|s| s.id == id) {
-        id = format!("{base}-{k}");
-        k += 1;
-    }
-    id
 }
 
 /// The bank a digital channel names, when that channel changes within 2 cycles of `t`.
@@ -562,61 +528,4 @@ pub fn source_r_factor(law: ResistanceModel, h: f64) -> f64 {
         ResistanceModel::Constant => 1.0,
         _ => crate::network::damping::skin_factor(h),
     }
-}
-
-/// Notes for the rows the calibration added to the plant workbook: the `measured` source
-/// row and its Background rows, each saying where its values came from.
-pub fn provenance_notes(
-    c: &CalibrationResults,
-    provenance: &str,
-) -> Vec<crate::io::template::RowNote> {
-    let (Some(p), Some(fit)) = (&c.calibrated, &c.source) else {
-        return Vec::new();
-    };
-    let files: Vec<&str> = c.recordings.iter().map(|r| r.file.as_str()).collect();
-    let mut notes = Vec::new();
-    if let Some(row) = p
-        .sources
-        .iter()
-        .position(|s| s.scenario.as_deref() == Some(MEASURED))
-    {
-        notes.push(crate::io::template::RowNote {
-            sheet: "Sources",
-            row,
-            text: format!(
-                "Calibrated by overtone from {} switching events in {} ({provenance}). S_sc {:.1} MVA (events {:.1}–{:.1}), X/R {:.2} (events {:.2}–{:.2}); the Sources sheet gave {:.1}–{:.1} MVA{}.",
-                fit.s_sc_spread.events,
-                files.join(", "),
-                fit.fitted_s_sc_mva,
-                fit.s_sc_spread.min,
-                fit.s_sc_spread.max,
-                fit.fitted_x_over_r,
-                fit.x_over_r_spread.min,
-                fit.x_over_r_spread.max,
-                fit.bounds.0.0,
-                fit.bounds.0.1,
-                if fit.held_at_bound { "; the estimate was held at that range" } else { "" }
-            ),
-        });
-    }
-    let id = p
-        .sources
-        .iter()
-        .find(|s| s.scenario.as_deref() == Some(MEASURED))
-        .map(|s| s.id.clone())
-        .unwrap_or_default();
-    for (row, b) in p
-        .background
-        .iter()
-        .enumerate()
-        .filter(|(_, b)| b.source == id)
-    {
-        notes.push(crate::io::template::RowNote {
-            sheet: "Background",
-            row,
-            text: format!("Estimated by overtone: E = V + Z(h)·I at the recording point over {}, from {} ({provenance}).", c.background_basis, files.join(", ")),
-        });
-        let _ = b;
-    }
-    notes
 }
