@@ -24,26 +24,7 @@ pub fn verdict_items(c: &CalibrationResults) -> Vec<String> {
         ));
     }
     if let Some(f) = &c.source {
-        let within = if f.held_at_bound {
-            format!(
-                "outside the Sources sheet's {:.1}–{:.1} MVA, X/R {:.2}–{:.2}: the `{MEASURED}` scenario holds {:.1} MVA, X/R {:.2}",
-                f.bounds.0.0,
-                f.bounds.0.1,
-                f.bounds.1.0,
-                f.bounds.1.1,
-                f.fitted_s_sc_mva,
-                f.fitted_x_over_r
-            )
-        } else {
-            format!(
-                "within the Sources sheet's {:.1}–{:.1} MVA, X/R {:.2}–{:.2}",
-                f.bounds.0.0, f.bounds.0.1, f.bounds.1.0, f.bounds.1.1
-            )
-        };
-        items.push(format!(
-            "Source strength measured: S_sc {:.1} MVA (events {:.1}–{:.1}; ΔV/V ≈ ΔQ/S_sc gives {:.1}–{:.1}), X/R {:.2} (events {:.2}–{:.2}); {within}.",
-            f.s_sc_mva, f.s_sc_spread.min, f.s_sc_spread.max, f.s_sc_approx_spread.min, f.s_sc_approx_spread.max, f.x_over_r, f.x_over_r_spread.min, f.x_over_r_spread.max
-        ));
+        items.push(source_item(f));
     }
     if !c.background.is_empty() {
         let orders: Vec<String> = c
@@ -92,39 +73,73 @@ pub fn verdict_items(c: &CalibrationResults) -> Vec<String> {
             parts.join("; ")
         ));
     }
-    for comp in &c.compliance {
-        let worst = comp.rows.iter().filter(|r| r.exceeds).max_by(|a, b| {
-            (a.value_percent / a.limit_percent).total_cmp(&(b.value_percent / b.limit_percent))
-        });
-        let what = match worst {
-            Some(r) => format!(
-                "EXCEEDS: {} {} {:.2} % > {:.2} % ({}, IEEE 519-2014 clause {})",
-                r.test,
-                r.order
-                    .map_or_else(|| "total".to_string(), |h| format!("order {h}")),
-                r.value_percent,
-                r.limit_percent,
-                r.period,
-                r.clause
-            ),
-            None => format!(
-                "within every test of IEEE 519-2014 clause 5 ({} rows)",
-                comp.rows.len()
-            ),
-        };
-        let basis = match comp.quantity {
-            crate::io::recordings::Quantity::Current => format!(
-                "; % of I_L {:.0} A, Isc/IL {:.1}",
-                comp.basis.i_l_a, comp.basis.isc_over_il
-            ),
-            _ => "; % of the fundamental".to_string(),
-        };
-        items.push(format!(
-            "Measured compliance of {} channel {} ({} to {}, {:.2} days{basis}): {what}.",
-            comp.file, comp.channel, comp.first, comp.last, comp.days
-        ));
-    }
+    items.extend(c.compliance.iter().map(compliance_item));
     items
+}
+
+/// The source fit in a sentence.
+fn source_item(f: &crate::jobs::calibrate::SourceFit) -> String {
+    let within = if f.held_at_bound {
+        format!(
+            "outside the Sources sheet's {:.1}–{:.1} MVA, X/R {:.2}–{:.2}: the `{MEASURED}` scenario holds {:.1} MVA, X/R {:.2}",
+            f.bounds.0.0,
+            f.bounds.0.1,
+            f.bounds.1.0,
+            f.bounds.1.1,
+            f.fitted_s_sc_mva,
+            f.fitted_x_over_r
+        )
+    } else {
+        format!(
+            "within the Sources sheet's {:.1}–{:.1} MVA, X/R {:.2}–{:.2}",
+            f.bounds.0.0, f.bounds.0.1, f.bounds.1.0, f.bounds.1.1
+        )
+    };
+    format!(
+        "Source strength measured: S_sc {:.1} MVA (events {:.1}–{:.1}; ΔV/V ≈ ΔQ/S_sc gives {:.1}–{:.1}), X/R {:.2} (events {:.2}–{:.2}); {within}.",
+        f.s_sc_mva,
+        f.s_sc_spread.min,
+        f.s_sc_spread.max,
+        f.s_sc_approx_spread.min,
+        f.s_sc_approx_spread.max,
+        f.x_over_r,
+        f.x_over_r_spread.min,
+        f.x_over_r_spread.max
+    )
+}
+
+/// One channel's measured compliance in a sentence.
+fn compliance_item(comp: &crate::study::measured::compliance::Compliance) -> String {
+    let worst = comp.rows.iter().filter(|r| r.exceeds).max_by(|a, b| {
+        (a.value_percent / a.limit_percent).total_cmp(&(b.value_percent / b.limit_percent))
+    });
+    let what = match worst {
+        Some(r) => format!(
+            "EXCEEDS: {} {} {:.2} % > {:.2} % ({}, IEEE 519-2014 clause {})",
+            r.test,
+            r.order
+                .map_or_else(|| "total".to_string(), |h| format!("order {h}")),
+            r.value_percent,
+            r.limit_percent,
+            r.period,
+            r.clause
+        ),
+        None => format!(
+            "within every test of IEEE 519-2014 clause 5 ({} rows)",
+            comp.rows.len()
+        ),
+    };
+    let basis = match comp.quantity {
+        crate::io::recordings::Quantity::Current => format!(
+            "; % of I_L {:.0} A, Isc/IL {:.1}",
+            comp.basis.i_l_a, comp.basis.isc_over_il
+        ),
+        _ => "; % of the fundamental".to_string(),
+    };
+    format!(
+        "Measured compliance of {} channel {} ({} to {}, {:.2} days{basis}): {what}.",
+        comp.file, comp.channel, comp.first, comp.last, comp.days
+    )
 }
 
 /// Writes the calibration summary.
@@ -133,6 +148,25 @@ pub fn write_calibration(out: &mut dyn Write, c: &CalibrationResults) -> io::Res
     for item in verdict_items(c) {
         write_hanging(out, "- ", "  ", &item, 100)?;
     }
+    write_events(out, c)?;
+    write_impedance(out, c)?;
+    write_comparison(out, c)?;
+    write_compliance(out, c)?;
+    if !c.notes.is_empty() {
+        writeln!(out, "\nNotes:")?;
+        for n in &c.notes {
+            write_wrapped(out, &format!("- {n}"), 100)?;
+        }
+    }
+    writeln!(out, "\nCautions:")?;
+    for cn in CAUTIONS {
+        write_wrapped(out, &format!("- {cn}"), 100)?;
+    }
+    Ok(())
+}
+
+/// The switching events, one row each.
+fn write_events(out: &mut dyn Write, c: &CalibrationResults) -> io::Result<()> {
     if !c.events.is_empty() {
         writeln!(out, "\nSwitching events:")?;
         let rows: Vec<Vec<String>> = c
@@ -171,6 +205,11 @@ pub fn write_calibration(out: &mut dyn Write, c: &CalibrationResults) -> io::Res
             &rows,
         )?;
     }
+    Ok(())
+}
+
+/// The source impedance per order, measured beside the calibrated model.
+fn write_impedance(out: &mut dyn Write, c: &CalibrationResults) -> io::Result<()> {
     if !c.impedance.is_empty() {
         writeln!(out, "\nSource impedance by order (ohm per phase):")?;
         let rows: Vec<Vec<String>> = c
@@ -201,6 +240,11 @@ pub fn write_calibration(out: &mut dyn Write, c: &CalibrationResults) -> io::Res
             &rows,
         )?;
     }
+    Ok(())
+}
+
+/// The measured harmonics against the calibrated model's, per configuration seen.
+fn write_comparison(out: &mut dyn Write, c: &CalibrationResults) -> io::Result<()> {
     let measured: Vec<&crate::jobs::calibrate::OrderCompare> = c
         .comparison
         .iter()
@@ -237,17 +281,6 @@ pub fn write_calibration(out: &mut dyn Write, c: &CalibrationResults) -> io::Res
             &[0],
             &rows,
         )?;
-    }
-    write_compliance(out, c)?;
-    if !c.notes.is_empty() {
-        writeln!(out, "\nNotes:")?;
-        for n in &c.notes {
-            write_wrapped(out, &format!("- {n}"), 100)?;
-        }
-    }
-    writeln!(out, "\nCautions:")?;
-    for cn in CAUTIONS {
-        write_wrapped(out, &format!("- {cn}"), 100)?;
     }
     Ok(())
 }

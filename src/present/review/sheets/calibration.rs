@@ -81,52 +81,29 @@ fn title(ws: &mut Worksheet, r: u32, text: &str) -> Result<(), XlsxError> {
     Ok(())
 }
 
-/// Writes the sheet.
-pub(super) fn calibration(ws: &mut Worksheet, c: &CalibrationResults) -> Result<(), XlsxError> {
-    // The tables share the columns: each column as wide as its widest header needs, and
-    // the text columns (step, configuration, test, period) wider for their contents.
-    let widths = shared_widths(&[EVENTS, IMPEDANCE, BACKGROUND, COMPARE, COMPLIANCE]);
-    let text_min = [10.0, 14.0, 26.0, 16.0, 11.0, 11.0, 9.0, 9.0, 11.0, 18.0];
-    for (k, (_, w)) in widths[0].iter().enumerate() {
-        ws.set_column_width(k as u16, w.max(text_min[k]))?;
+/// Writes `title` at `r`, the header under it and `rows` below; returns (first data row,
+/// the row after the table and a blank one).
+fn table(
+    ws: &mut Worksheet,
+    r: u32,
+    (name, heads): (&str, &[(&str, f64)]),
+    rows: Vec<Vec<Cell>>,
+) -> Result<(u32, u32), XlsxError> {
+    title(ws, r, name)?;
+    head(ws, r + 1, heads)?;
+    for (i, cells) in rows.iter().enumerate() {
+        row(ws, r + 2 + i as u32, cells)?;
     }
-    ws.write_string_with_format(
-        0,
-        0,
-        format!(
-            "Calibration at bus {} ({} kV) from the recordings",
-            c.bus, c.kv
-        ),
-        &Format::new().set_bold().set_font_size(14),
-    )?;
-    let wrap = Format::new()
-        .set_text_wrap()
-        .set_align(rust_xlsxwriter::FormatAlign::Top);
-    let mut r = 2;
-    for item in crate::present::terminal::calibrate::verdict_items(c) {
-        ws.merge_range(r, 0, r, 9, &item, &wrap)?;
-        ws.set_row_height(
-            r,
-            15.0 * super::super::writer::wrapped_lines(&item, 120.0, false) + 3.0,
-        )?;
-        r += 1;
-    }
-    r += 1;
-    title(
-        ws,
-        r,
-        "Switching events (each: the source measured by −ΔV/ΔI across it)",
-    )?;
-    head(ws, r + 1, EVENTS)?;
-    r += 2;
-    for e in &c.events {
-        let step = e.matched.as_ref().map_or("not matched".into(), |m| {
-            format!("{} {:+} ({})", m.bank, m.steps, m.basis)
-        });
-        row(
-            ws,
-            r,
-            &[
+    Ok((r + 2, r + 3 + rows.len() as u32))
+}
+
+fn event_rows(c: &CalibrationResults) -> Vec<Vec<Cell>> {
+    (c.events.iter())
+        .map(|e| {
+            let step = e.matched.as_ref().map_or("not matched".into(), |m| {
+                format!("{} {:+} ({})", m.bank, m.steps, m.basis)
+            });
+            vec![
                 n(e.time_s, "0.0000"),
                 n(e.delta_q_kvar, "0.0"),
                 t(step),
@@ -137,24 +114,15 @@ pub(super) fn calibration(ws: &mut Worksheet, c: &CalibrationResults) -> Result<
                 on(e.ringing_hz, "0"),
                 on(e.ringing_hand_hz, "0"),
                 t(&e.configuration_after),
-            ],
-        )?;
-        r += 1;
-    }
-    r += 1;
-    title(
-        ws,
-        r,
-        "Source impedance by order: measured (least squares over the events) and the calibrated model R·k(h) + j·h·X",
-    )?;
-    head(ws, r + 1, IMPEDANCE)?;
-    let z_first = r + 2;
-    r += 2;
-    for z in &c.impedance {
-        row(
-            ws,
-            r,
-            &[
+            ]
+        })
+        .collect()
+}
+
+fn impedance_rows(c: &CalibrationResults) -> Vec<Vec<Cell>> {
+    (c.impedance.iter())
+        .map(|z| {
+            vec![
                 n(z.order as f64, "0"),
                 n(z.z_ohm.re, "0.0000"),
                 n(z.z_ohm.im, "0.0000"),
@@ -163,27 +131,15 @@ pub(super) fn calibration(ws: &mut Worksheet, c: &CalibrationResults) -> Result<
                 n(z.spread.min, "0.0000"),
                 n(z.spread.max, "0.0000"),
                 n(z.spread.events as f64, "0"),
-            ],
-        )?;
-        r += 1;
-    }
-    let z_last = r.saturating_sub(1);
-    r += 1;
-    title(
-        ws,
-        r,
-        &format!(
-            "Background EMF behind the source: E = V + Z(h)·I over {}",
-            c.background_basis
-        ),
-    )?;
-    head(ws, r + 1, BACKGROUND)?;
-    r += 2;
-    for b in &c.background {
-        row(
-            ws,
-            r,
-            &[
+            ]
+        })
+        .collect()
+}
+
+fn background_rows(c: &CalibrationResults) -> Vec<Vec<Cell>> {
+    (c.background.iter())
+        .map(|b| {
+            vec![
                 n(b.order as f64, "0"),
                 n(b.percent, "0.000"),
                 n(b.angle_deg, "0.0"),
@@ -191,30 +147,15 @@ pub(super) fn calibration(ws: &mut Worksheet, c: &CalibrationResults) -> Result<
                 n(b.spread.min, "0.000"),
                 n(b.spread.max, "0.000"),
                 n(b.spread.events as f64, "0"),
-            ],
-        )?;
-        r += 1;
-    }
-    r += 1;
-    title(
-        ws,
-        r,
-        &format!(
-            "Measured against the model: harmonic voltage at {} and current into the plant, per configuration seen",
-            c.bus
-        ),
-    )?;
-    head(ws, r + 1, COMPARE)?;
-    r += 2;
-    let mut spectrum = (u32::MAX, 0u32);
-    for o in &c.comparison {
-        if o.scenario == MEASURED {
-            spectrum = (spectrum.0.min(r), spectrum.1.max(r));
-        }
-        row(
-            ws,
-            r,
-            &[
+            ]
+        })
+        .collect()
+}
+
+fn compare_rows(c: &CalibrationResults) -> Vec<Vec<Cell>> {
+    (c.comparison.iter())
+        .map(|o| {
+            vec![
                 n(o.order as f64, "0"),
                 t(&o.configuration),
                 t(&o.scenario),
@@ -222,18 +163,70 @@ pub(super) fn calibration(ws: &mut Worksheet, c: &CalibrationResults) -> Result<
                 n(o.model_v_percent, "0.000"),
                 n(o.measured_i_a, "0.00"),
                 n(o.model_i_a, "0.00"),
-            ],
-        )?;
+            ]
+        })
+        .collect()
+}
+
+/// Writes the sheet: the answer's sentences, the tables, the charts below them.
+pub(super) fn calibration(ws: &mut Worksheet, c: &CalibrationResults) -> Result<(), XlsxError> {
+    // The tables share the columns: each column as wide as its widest header needs, and
+    // the text columns (step, configuration, test, period) wider for their contents.
+    let widths = shared_widths(&[EVENTS, IMPEDANCE, BACKGROUND, COMPARE, COMPLIANCE]);
+    let text_min = [10.0, 14.0, 26.0, 16.0, 11.0, 11.0, 9.0, 9.0, 11.0, 18.0];
+    for (k, (_, w)) in widths[0].iter().enumerate() {
+        ws.set_column_width(k as u16, w.max(text_min[k]))?;
+    }
+    let heading = format!(
+        "Calibration at bus {} ({} kV) from the recordings",
+        c.bus, c.kv
+    );
+    ws.write_string_with_format(0, 0, heading, &Format::new().set_bold().set_font_size(14))?;
+    let wrap = (Format::new().set_text_wrap()).set_align(rust_xlsxwriter::FormatAlign::Top);
+    let mut r = 2;
+    for item in crate::present::terminal::calibrate::verdict_items(c) {
+        ws.merge_range(r, 0, r, 9, &item, &wrap)?;
+        let lines = super::super::writer::wrapped_lines(&item, 120.0, false);
+        ws.set_row_height(r, 15.0 * lines + 3.0)?;
         r += 1;
     }
-    r += 1;
-    r = compliance(ws, r, c)?;
+    let events = "Switching events (each: the source measured by −ΔV/ΔI across it)";
+    let (_, r) = table(ws, r + 1, (events, EVENTS), event_rows(c))?;
+    let z = "Source impedance by order: measured (least squares over the events) and the calibrated model R·k(h) + j·h·X";
+    let (z_first, r) = table(ws, r, (z, IMPEDANCE), impedance_rows(c))?;
+    let bg = format!(
+        "Background EMF behind the source: E = V + Z(h)·I over {}",
+        c.background_basis
+    );
+    let (_, r) = table(ws, r, (&bg, BACKGROUND), background_rows(c))?;
+    let cmp = format!(
+        "Measured against the model: harmonic voltage at {} and current into the plant, per configuration seen",
+        c.bus
+    );
+    let (cmp_first, r) = table(ws, r, (&cmp, COMPARE), compare_rows(c))?;
+    // The spectrum chart: the last configuration's rows under `measured` (one block).
+    let last = c.comparison.iter().rposition(|o| o.scenario == MEASURED);
+    let block = last.map(|l| {
+        let same = |o: &crate::jobs::calibrate::OrderCompare| {
+            o.scenario == MEASURED && o.configuration == c.comparison[l].configuration
+        };
+        let first = (0..=l)
+            .rev()
+            .take_while(|&i| same(&c.comparison[i]))
+            .last()
+            .unwrap_or(l);
+        (cmp_first + first as u32, cmp_first + l as u32)
+    });
+    let r = compliance(ws, r, c)?;
     let mut charts = Vec::new();
-    if z_last >= z_first && !c.impedance.is_empty() {
-        charts.push(impedance_chart(z_first, z_last));
+    if !c.impedance.is_empty() {
+        charts.push(impedance_chart(
+            z_first,
+            z_first + c.impedance.len() as u32 - 1,
+        ));
     }
-    if spectrum.0 != u32::MAX {
-        charts.push(spectrum_chart(spectrum.0, spectrum.1));
+    if let Some((a, b)) = block {
+        charts.push(spectrum_chart(a, b));
     }
     // Each chart starts a printed page of its own, so none is cut by a page break.
     let mut breaks = Vec::new();
@@ -319,7 +312,7 @@ fn impedance_chart(first: u32, last: u32) -> Chart {
 }
 
 /// The harmonic voltage spectrum at the recording bus: measured against the model under
-/// the `measured` scenario, every configuration seen in turn.
+/// the `measured` scenario, in the last configuration seen.
 fn spectrum_chart(first: u32, last: u32) -> Chart {
     let mut chart = Chart::new(ChartType::ScatterStraightWithMarkers);
     chart.set_width(690).set_height(420);
