@@ -108,6 +108,7 @@ pub fn read_log(path: &std::path::Path) -> Result<HarmonicLog, RecordingError> {
 
 /// Reads a harmonic log from `text` (file name `file` for messages).
 pub fn parse_log(file: &str, text: &str) -> Result<HarmonicLog, RecordingError> {
+    // Long: a reader that takes one column per step, each with its own located error.
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let mut lines = text
         .split('\n')

@@ -136,8 +136,55 @@ pub fn compare(
     labels.dedup();
     let res = run_check(calibrated, &CheckOptions::default().rerun(labels.clone()))?;
     let kv = res.network.buses[res.network.bus_index(bus).unwrap_or(0)].kv;
+    let resonance = resonance_compared(plant, &res, (bus, kv), &labels, x1);
+    let comparison = orders_compared(&res, bus, &labels, windows);
+    // The calibrated plant's whole study, as `check` runs it (the review and report print it).
+    let all = run_check(
+        calibrated,
+        &CheckOptions {
+            switching: true,
+            ..Default::default()
+        },
+    )?;
+    let verdicts = all
+        .scan
+        .scenarios
+        .iter()
+        .map(|s| VerdictCount {
+            scenario: s.clone(),
+            resonant: all
+                .resonance
+                .rows
+                .iter()
+                .filter(|r| &r.scenario == s && r.verdict == Verdict::Resonant)
+                .count(),
+            limits_exceeded: all
+                .limit_rows
+                .iter()
+                .filter(|r| &r.scenario == s && r.exceeds)
+                .count(),
+            duty_exceeded: all
+                .duty
+                .iter()
+                .filter(|r| &r.scenario == s && r.exceeds)
+                .count(),
+            rows: all.limit_rows.iter().filter(|r| &r.scenario == s).count(),
+        })
+        .collect();
+    Ok((resonance, comparison, verdicts, Box::new(all)))
+}
+
+/// Per configuration seen and bank in service: the resonance the measurement implies
+/// beside the model's peak in every scenario of `res` (the calibrated plant's check).
+fn resonance_compared(
+    plant: &Plant,
+    res: &crate::jobs::check::CheckResults,
+    (bus, kv): (&str, f64),
+    labels: &[String],
+    x1: Option<f64>,
+) -> Vec<ResonanceCompare> {
     let mut resonance = Vec::new();
-    for label in &labels {
+    for label in labels {
         for b in &plant.banks {
             let rows: Vec<_> = (res.resonance.rows.iter())
                 .filter(|r| &r.configuration == label && r.bank == b.id && r.steps > 0)
@@ -174,41 +221,7 @@ pub fn compare(
             });
         }
     }
-    let comparison = orders_compared(&res, bus, &labels, windows);
-    // The calibrated plant's whole study, as `check` runs it (the review and report print it).
-    let all = run_check(
-        calibrated,
-        &CheckOptions {
-            switching: true,
-            ..Default::default()
-        },
-    )?;
-    let verdicts = all
-        .scan
-        .scenarios
-        .iter()
-        .map(|s| VerdictCount {
-            scenario: s.clone(),
-            resonant: all
-                .resonance
-                .rows
-                .iter()
-                .filter(|r| &r.scenario == s && r.verdict == Verdict::Resonant)
-                .count(),
-            limits_exceeded: all
-                .limit_rows
-                .iter()
-                .filter(|r| &r.scenario == s && r.exceeds)
-                .count(),
-            duty_exceeded: all
-                .duty
-                .iter()
-                .filter(|r| &r.scenario == s && r.exceeds)
-                .count(),
-            rows: all.limit_rows.iter().filter(|r| &r.scenario == s).count(),
-        })
-        .collect();
-    Ok((resonance, comparison, verdicts, Box::new(all)))
+    resonance
 }
 
 /// Per configuration seen, per scenario (`measured` and the plant's first), per integer

@@ -22,6 +22,14 @@ pub fn section(out: &mut Layout<'_>, c: &CalibrationResults, characteristic: &[f
     if !c.events.is_empty() {
         out.paragraph("Method: each capacitor step switching in the recordings changes the current into the plant while the source's EMF stays; the source impedance is then Z(h) = −ΔV_h/ΔI_h at every order whose current moved (windows of whole cycles before and after the event), S_sc = kV²/|Z(1)| with ΔV/V ≈ ΔQ/S_sc beside it, and the background EMF E_h = V_h + Z(h)·I_h. The fit is held within the range the Sources sheet gives and becomes the supply scenario `measured`, studied below with the others.");
     }
+    events_table(out, c);
+    impedance_figure(out, c, characteristic, margin);
+    spectra(out, c, characteristic, margin);
+    compliance(out, c);
+}
+
+/// The switching events, one row each.
+fn events_table(out: &mut Layout<'_>, c: &CalibrationResults) {
     if !c.events.is_empty() {
         out.heading("Switching events", 2);
         let rows: Vec<Vec<String>> = c
@@ -57,6 +65,15 @@ pub fn section(out: &mut Layout<'_>, c: &CalibrationResults, characteristic: &[f
             7.5,
         );
     }
+}
+
+/// |Z(h)| of the source: the events' points against the calibrated model's curve.
+fn impedance_figure(
+    out: &mut Layout<'_>,
+    c: &CalibrationResults,
+    characteristic: &[f64],
+    margin: f64,
+) {
     if !c.impedance.is_empty() {
         let measured: Vec<(f64, f64)> = c
             .impedance
@@ -113,8 +130,6 @@ pub fn section(out: &mut Layout<'_>, c: &CalibrationResults, characteristic: &[f
             (characteristic, margin, highest),
         );
     }
-    spectra(out, c, characteristic, margin);
-    compliance(out, c);
 }
 
 /// The harmonic voltage spectrum of the last configuration seen: measured against the

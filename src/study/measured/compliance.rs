@@ -206,55 +206,30 @@ fn aggregate(vs: &Series) -> Series {
         .collect()
 }
 
+/// IEEE 519-2014 clause 5's statistical tests: (interval, voltage?, test, clause,
+/// percentile, multiplier of the table's limit, weekly?).
+#[rustfmt::skip]
+const TESTS: [(Interval, bool, &str, &str, f64, f64, bool); 5] = [
+    (Interval::VeryShort, true, "daily 99th percentile of 3 s values", "5.1 a)", 0.99, 1.5, false),
+    (Interval::Short, true, "weekly 95th percentile of 10 min values", "5.1 b)", 0.95, 1.0, true),
+    (Interval::VeryShort, false, "daily 99th percentile of 3 s values", "5.2 a)", 0.99, 2.0, false),
+    (Interval::Short, false, "weekly 99th percentile of 10 min values", "5.2 b)", 0.99, 1.5, true),
+    (Interval::Short, false, "weekly 95th percentile of 10 min values", "5.2 c)", 0.95, 1.0, true),
+];
+
 /// The tests of one interval class, per period.
 fn tests(s: &Series, interval: Interval, q: Quantity, at: &LimitsAt) -> Vec<StatRow> {
     let voltage = q == Quantity::Voltage;
-    // (test, clause, percentile, multiplier, weekly)
-    let specs: &[(&str, &str, f64, f64, bool)] = match (interval, voltage) {
-        (Interval::VeryShort, true) => &[(
-            "daily 99th percentile of 3 s values",
-            "5.1 a)",
-            0.99,
-            1.5,
-            false,
-        )],
-        (Interval::Short, true) => &[(
-            "weekly 95th percentile of 10 min values",
-            "5.1 b)",
-            0.95,
-            1.0,
-            true,
-        )],
-        (Interval::VeryShort, false) => &[(
-            "daily 99th percentile of 3 s values",
-            "5.2 a)",
-            0.99,
-            2.0,
-            false,
-        )],
-        (Interval::Short, false) => &[
-            (
-                "weekly 99th percentile of 10 min values",
-                "5.2 b)",
-                0.99,
-                1.5,
-                true,
-            ),
-            (
-                "weekly 95th percentile of 10 min values",
-                "5.2 c)",
-                0.95,
-                1.0,
-                true,
-            ),
-        ],
-    };
+    let specs: Vec<(&str, &str, f64, f64, bool)> = (TESTS.iter())
+        .filter(|t| t.0 == interval && t.1 == voltage)
+        .map(|t| (t.2, t.3, t.4, t.5, t.6))
+        .collect();
     let Some(&first) = s.keys().next() else {
         return Vec::new();
     };
     let day_of = |t: i64| (t - 1).div_euclid(86_400_000);
     let mut rows = Vec::new();
-    for &(test, clause, p, mult, weekly) in specs {
+    for (test, clause, p, mult, weekly) in specs {
         let mut periods: BTreeMap<i64, Vec<&BTreeMap<u32, f64>>> = BTreeMap::new();
         for (&t, v) in s {
             let key = if weekly {
@@ -273,34 +248,7 @@ fn tests(s: &Series, interval: Interval, q: Quantity, at: &LimitsAt) -> Vec<Stat
             };
             let expected = if weekly { 7.0 * 86_400.0 } else { 86_400.0 } / interval.seconds();
             let coverage = 100.0 * vals.len() as f64 / expected;
-            let mut orders: Vec<u32> = vals.iter().flat_map(|v| v.keys().copied()).collect();
-            orders.sort_unstable();
-            orders.dedup();
-            let mut items: Vec<(Option<u32>, Vec<f64>, Option<f64>)> = orders
-                .iter()
-                .map(|&h| {
-                    let limit = if voltage {
-                        Some(ieee519::voltage_limits(at.kv).0.value)
-                    } else {
-                        ieee519::current_limit(at.kv, at.isc_over_il, h as f64).map(|l| l.value)
-                    };
-                    (
-                        Some(h),
-                        vals.iter().filter_map(|v| v.get(&h).copied()).collect(),
-                        limit,
-                    )
-                })
-                .collect();
-            let total: Vec<f64> = vals
-                .iter()
-                .map(|v| v.values().map(|x| x * x).sum::<f64>().sqrt())
-                .collect();
-            let total_limit = if voltage {
-                ieee519::voltage_limits(at.kv).1.value
-            } else {
-                ieee519::tdd_limit(at.kv, at.isc_over_il).value
-            };
-            items.push((None, total, Some(total_limit)));
+            let items = period_items(&vals, voltage, at);
             for (order, mut xs, limit) in items {
                 let (Some(limit), Some(value)) = (limit, percentile(&mut xs, p)) else {
                     continue;
@@ -321,6 +269,39 @@ fn tests(s: &Series, interval: Interval, q: Quantity, at: &LimitsAt) -> Vec<Stat
         }
     }
     rows
+}
+
+/// Per order of a period's values, and for THD/TDD (`None`), the values and the table's
+/// limit (IEEE 519-2014 Table 1 for voltage, Tables 2–4 for current).
+fn period_items(
+    vals: &[&BTreeMap<u32, f64>],
+    voltage: bool,
+    at: &LimitsAt,
+) -> Vec<(Option<u32>, Vec<f64>, Option<f64>)> {
+    let mut orders: Vec<u32> = vals.iter().flat_map(|v| v.keys().copied()).collect();
+    orders.sort_unstable();
+    orders.dedup();
+    let mut items: Vec<(Option<u32>, Vec<f64>, Option<f64>)> = (orders.iter())
+        .map(|&h| {
+            let limit = if voltage {
+                Some(ieee519::voltage_limits(at.kv).0.value)
+            } else {
+                ieee519::current_limit(at.kv, at.isc_over_il, h as f64).map(|l| l.value)
+            };
+            let xs = vals.iter().filter_map(|v| v.get(&h).copied()).collect();
+            (Some(h), xs, limit)
+        })
+        .collect();
+    let total: Vec<f64> = (vals.iter())
+        .map(|v| v.values().map(|x| x * x).sum::<f64>().sqrt())
+        .collect();
+    let total_limit = if voltage {
+        ieee519::voltage_limits(at.kv).1.value
+    } else {
+        ieee519::tdd_limit(at.kv, at.isc_over_il).value
+    };
+    items.push((None, total, Some(total_limit)));
+    items
 }
 
 /// The nearest-rank `p` percentile of `xs`: the value at rank ⌈p·N⌉ of the sorted values

@@ -237,6 +237,7 @@ impl Field<'_> {
 /// Reads a configuration from `text`; `first_line` is the line number of its first line in
 /// the file (1, or later in a `.cff`).
 pub fn parse_config(file: &str, text: &str, first_line: usize) -> Result<Config, RecordingError> {
+    // Long: a reader that takes the standard's lines in order, each with its own located error.
     let mut all: Vec<(usize, &str)> = text
         .split('\n')
         .enumerate()

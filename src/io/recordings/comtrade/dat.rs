@@ -37,6 +37,7 @@ pub fn parse_ascii(
     first_line: usize,
     c: &Config,
 ) -> Result<RawData, RecordingError> {
+    // Long: a reader that takes one field per step, each with its own located error.
     let want = c.samples() as usize;
     let (na, nd) = (c.analog.len(), c.digital.len());
     let mut lines: Vec<(usize, &str)> = text

@@ -117,15 +117,20 @@ fn partner(path: &Path, ext: &str) -> Result<PathBuf, RecordingError> {
     ))
 }
 
-/// Reads a 2013 single-file recording: `--- file type: CFG ---`, then optional INF and
-/// HDR sections, then `--- file type: DAT ASCII ---` or `--- file type: DAT BINARY: n ---`
-/// (BINARY32, FLOAT32) followed by n bytes of records (IEEE Std C37.111-2013 clause 9,
-/// from memory).
-pub fn parse_cff(file: &str, bytes: &[u8]) -> Result<Waveforms, RecordingError> {
+/// A text section of a `.cff`: (kind, its header's line, first byte, end byte).
+type Section = (String, usize, usize, usize);
+/// The DAT section's header: (type, announced byte count, its line, first byte).
+type DatHeader = (String, Option<usize>, usize, usize);
+
+/// The sections of a `.cff` up to and including the DAT header.
+fn cff_sections(
+    file: &str,
+    bytes: &[u8],
+) -> Result<(Vec<Section>, Option<DatHeader>), RecordingError> {
     let mut at = 0usize;
     let mut line_no = 0usize;
-    let mut sections: Vec<(String, usize, usize, usize)> = Vec::new(); // (kind, line, start, end)
-    let mut dat: Option<(String, Option<usize>, usize, usize)> = None; // (type, bytes, line, start)
+    let mut sections: Vec<Section> = Vec::new();
+    let mut dat: Option<DatHeader> = None;
     while at < bytes.len() {
         let end = bytes[at..]
             .iter()
@@ -168,6 +173,15 @@ pub fn parse_cff(file: &str, bytes: &[u8]) -> Result<Waveforms, RecordingError> 
         }
         at = next;
     }
+    Ok((sections, dat))
+}
+
+/// Reads a 2013 single-file recording: `--- file type: CFG ---`, then optional INF and
+/// HDR sections, then `--- file type: DAT ASCII ---` or `--- file type: DAT BINARY: n ---`
+/// (BINARY32, FLOAT32) followed by n bytes of records (IEEE Std C37.111-2013 clause 9,
+/// from memory).
+pub fn parse_cff(file: &str, bytes: &[u8]) -> Result<Waveforms, RecordingError> {
+    let (sections, dat) = cff_sections(file, bytes)?;
     let Some(&(_, cfg_line, start, end)) = sections.iter().find(|s| s.0 == "CFG") else {
         return Err(RecordingError::whole(file, "no CFG section".into()));
     };
@@ -207,7 +221,19 @@ pub fn parse_cff(file: &str, bytes: &[u8]) -> Result<Waveforms, RecordingError> 
             format!("the DAT section is {ty}; the CFG section says {declared}"),
         ));
     }
-    let raw = match (config.format, n) {
+    let raw = cff_data(file, bytes, &config, (n, dat_line, start))?;
+    scale(file, file, config, raw)
+}
+
+/// The DAT section's records from byte `start` (the line after its header, `dat_line`):
+/// ASCII to the end of the file, or exactly the `n` bytes announced (whitespace after).
+fn cff_data(
+    file: &str,
+    bytes: &[u8],
+    config: &Config,
+    (n, dat_line, start): (Option<usize>, usize, usize),
+) -> Result<dat::RawData, RecordingError> {
+    Ok(match (config.format, n) {
         (DataFormat::Ascii, _) => {
             let text = std::str::from_utf8(&bytes[start..]).map_err(|_| {
                 RecordingError::at_line(
@@ -217,7 +243,7 @@ pub fn parse_cff(file: &str, bytes: &[u8]) -> Result<Waveforms, RecordingError> 
                     "ASCII data that are not text".into(),
                 )
             })?;
-            dat::parse_ascii(file, text, dat_line + 1, &config)?
+            dat::parse_ascii(file, text, dat_line + 1, config)?
         }
         (_, None) => {
             return Err(RecordingError::at_line(
@@ -244,10 +270,9 @@ pub fn parse_cff(file: &str, bytes: &[u8]) -> Result<Waveforms, RecordingError> 
                     format!("more than the {n} bytes announced follow"),
                 ));
             }
-            dat::parse_binary(file, data, &config)?
+            dat::parse_binary(file, data, config)?
         }
-    };
-    scale(file, file, config, raw)
+    })
 }
 
 /// `--- file type: KIND ---` → KIND (upper case).
