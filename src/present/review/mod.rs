@@ -24,20 +24,12 @@ pub fn review_bytes(
     charts: &ScanCharts,
     prov: &Provenance,
 ) -> Result<Vec<u8>, XlsxError> {
-    let mut wb = Workbook::new();
-    let (y, m, d) = prov.date;
     let title = if res.plant.study.title.is_empty() {
         "overtone review".to_string()
     } else {
         res.plant.study.title.clone()
     };
-    wb.set_properties(
-        &DocProperties::new()
-            .set_title(&title)
-            .set_author(&res.plant.study.prepared_by)
-            .set_custom_property(REVIEW_MARK.0, REVIEW_MARK.1)
-            .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, d)?),
-    );
+    let mut wb = review_workbook(&title, res, prov)?;
     sheets::write_all(&mut wb, res, charts, prov)?;
     wb.save_to_buffer()
 }
@@ -50,15 +42,7 @@ pub fn design_review_bytes(
     charts: &ScanCharts,
     prov: &Provenance,
 ) -> Result<Vec<u8>, XlsxError> {
-    let mut wb = Workbook::new();
-    let (y, m, day) = prov.date;
-    wb.set_properties(
-        &DocProperties::new()
-            .set_title("overtone design review")
-            .set_author(&res.plant.study.prepared_by)
-            .set_custom_property(REVIEW_MARK.0, REVIEW_MARK.1)
-            .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, day)?),
-    );
+    let mut wb = review_workbook("overtone design review", res, prov)?;
     sheets::write_design(&mut wb, d, res, charts, prov)?;
     wb.save_to_buffer()
 }
@@ -71,15 +55,26 @@ pub fn calibration_review_bytes(
     charts: &ScanCharts,
     prov: &Provenance,
 ) -> Result<Vec<u8>, XlsxError> {
-    let mut wb = Workbook::new();
-    let (y, m, day) = prov.date;
-    wb.set_properties(
-        &DocProperties::new()
-            .set_title("overtone calibration review")
-            .set_author(&res.plant.study.prepared_by)
-            .set_custom_property(REVIEW_MARK.0, REVIEW_MARK.1)
-            .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, day)?),
-    );
+    let mut wb = review_workbook("overtone calibration review", res, prov)?;
     sheets::write_calibration(&mut wb, c, res, charts, prov)?;
     wb.save_to_buffer()
+}
+
+/// A workbook with the review's properties: `title`, the preparer, the mark that tells
+/// `--force` it is ours, and the report date (fixed, so the bytes repeat).
+fn review_workbook(
+    title: &str,
+    res: &CheckResults,
+    prov: &Provenance,
+) -> Result<Workbook, XlsxError> {
+    let mut wb = Workbook::new();
+    let (y, m, d) = prov.date;
+    wb.set_properties(
+        &DocProperties::new()
+            .set_title(title)
+            .set_author(&res.plant.study.prepared_by)
+            .set_custom_property(REVIEW_MARK.0, REVIEW_MARK.1)
+            .set_creation_datetime(&ExcelDateTime::from_ymd(y, m, d)?),
+    );
+    Ok(wb)
 }
