@@ -124,6 +124,16 @@ fn compliance_item(comp: &crate::study::measured::compliance::Compliance) -> Str
             r.period,
             r.clause
         ),
+        None if comp.rows.is_empty() => {
+            let why = comp
+                .notes
+                .first()
+                .map_or("no values to judge", String::as_str);
+            return format!(
+                "Measured compliance of {} channel {}: not judged: {why}.",
+                comp.file, comp.channel
+            );
+        }
         None => format!(
             "within every test of IEEE 519-2014 clause 5 ({} rows)",
             comp.rows.len()

@@ -86,7 +86,27 @@ type Series = BTreeMap<i64, BTreeMap<u32, f64>>;
 pub fn evaluate(log: &HarmonicLog, at: &LimitsAt) -> Vec<Compliance> {
     let mut out = Vec::new();
     for (c, ch) in log.channels.iter().enumerate() {
+        // Currents are judged in % of I_L: without a positive I_L there is nothing to judge.
+        let no_demand =
+            ch.quantity == Quantity::Current && !(at.i_l_a > 0.0 && at.i_l_a.is_finite());
         if ch.quantity == Quantity::Other {
+            continue;
+        }
+        if no_demand {
+            out.push(Compliance {
+                file: log.file.clone(),
+                channel: ch.name.clone(),
+                quantity: ch.quantity,
+                basis: *at,
+                rows: Vec::new(),
+                first: String::new(),
+                last: String::new(),
+                days: 0.0,
+                notes: vec![format!(
+                    "{}: I_L is not known (no Max demand current on the Study sheet and no loads), so the currents cannot be judged in % of I_L",
+                    ch.name
+                )],
+            });
             continue;
         }
         let mut notes = Vec::new();
