@@ -219,21 +219,11 @@ fn compliance(out: &mut Layout<'_>, c: &CalibrationResults) {
             .filter(|s| s.exceeds || s.order.is_none())
             .take(super::sections::TABLE_ROWS)
         {
-            rows.push(vec![
-                comp.channel.clone(),
-                format!("{} (clause {})", s.test, s.clause),
-                s.period.clone(),
-                s.order
-                    .map_or_else(|| "total".to_string(), |h| h.to_string()),
-                format!("{:.3}", s.value_percent),
-                format!("{:.3}", s.limit_percent),
-                if s.exceeds {
-                    "EXCEEDS".into()
-                } else {
-                    "meets".into()
-                },
-                format!("{:.0}", s.coverage_percent),
-            ]);
+            let test = format!("{} (clause {})", s.test, s.clause);
+            let mut cells =
+                crate::present::terminal::calibrate::compliance_cells(&comp.channel, s, test, 3);
+            cells.push(format!("{:.0}", s.coverage_percent));
+            rows.push(cells);
         }
     }
     out.table(

@@ -313,20 +313,8 @@ fn write_compliance(out: &mut dyn Write, c: &CalibrationResults) -> io::Result<(
                 (a.value_percent / a.limit_percent).total_cmp(&(b.value_percent / b.limit_percent))
             });
             if let Some(r) = worst {
-                rows.push(vec![
-                    comp.channel.clone(),
-                    format!("{} ({})", short_test(r.test), r.clause),
-                    r.period.clone(),
-                    r.order
-                        .map_or_else(|| "total".to_string(), |h| h.to_string()),
-                    format!("{:.2}", r.value_percent),
-                    format!("{:.2}", r.limit_percent),
-                    if r.exceeds {
-                        "EXCEEDS".into()
-                    } else {
-                        "meets".into()
-                    },
-                ]);
+                let test = format!("{} ({})", short_test(r.test), r.clause);
+                rows.push(compliance_cells(&comp.channel, r, test, 2));
             }
         }
     }
@@ -350,4 +338,24 @@ fn write_compliance(out: &mut dyn Write, c: &CalibrationResults) -> io::Result<(
 fn short_test(test: &str) -> String {
     test.replace(" percentile of ", " pct, ")
         .replace(" values", "")
+}
+
+/// One measured-compliance row as text: channel, test, period, order (`total` for THD or
+/// TDD), value and limit with `decimals`, verdict (the terminal and the report share it).
+pub fn compliance_cells(
+    channel: &str,
+    r: &crate::study::measured::compliance::StatRow,
+    test: String,
+    decimals: usize,
+) -> Vec<String> {
+    vec![
+        channel.to_string(),
+        test,
+        r.period.clone(),
+        r.order
+            .map_or_else(|| "total".to_string(), |h| h.to_string()),
+        format!("{:.*}", decimals, r.value_percent),
+        format!("{:.*}", decimals, r.limit_percent),
+        if r.exceeds { "EXCEEDS" } else { "meets" }.to_string(),
+    ]
 }
