@@ -66,6 +66,10 @@ pub struct CheckOptions {
     /// Analyse the resonance mode at every flagged peak (`None` = yes; `Some(false)` = no,
     /// for re-runs read for their figures alone: remedies, the damping band, design plans).
     pub mode_analysis: Option<bool>,
+    /// Scan at these banks' buses alone (ids) and screen only their rows: what a search's
+    /// prescreen reads, at a fraction of the cost (the other banks' rows then have no peaks
+    /// and mean nothing). `None` = the PCC, every bank bus and `buses`.
+    pub screened_banks: Option<Vec<String>>,
 }
 
 impl CheckOptions {
@@ -83,6 +87,7 @@ impl CheckOptions {
             evaluation: self.evaluation,
             damping_band: Some(false),
             mode_analysis: Some(false),
+            screened_banks: None,
         }
     }
 }

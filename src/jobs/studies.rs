@@ -26,7 +26,8 @@ pub struct Context<'p> {
     pub zero: Network,
     /// Network index of the PCC bus.
     pub pcc: usize,
-    /// The buses scanned: the PCC first, then the bank buses, then those asked for.
+    /// The buses scanned: the PCC first, then the bank buses, then those asked for (under
+    /// `screened_banks`, those banks' buses alone).
     pub buses: Vec<usize>,
     /// The step combinations studied (`none` always among them).
     pub configurations: Vec<Configuration>,
@@ -51,14 +52,25 @@ impl<'p> Context<'p> {
         let pcc = network
             .bus_index(&pcc_id)
             .ok_or_else(|| CheckError::UnknownBus(pcc_id.clone()))?;
-        let buses = scan_buses(&network, pcc, &options.buses)?;
+        let screened = |id: &str| {
+            (options.screened_banks.as_ref()).is_none_or(|ids| ids.iter().any(|i| i == id))
+        };
+        let buses = match &options.screened_banks {
+            None => scan_buses(&network, pcc, &options.buses)?,
+            Some(_) => {
+                let mut buses: Vec<usize> = Vec::new();
+                for b in network.banks.iter().filter(|b| screened(&b.id)) {
+                    if !buses.contains(&b.bus) {
+                        buses.push(b.bus);
+                    }
+                }
+                buses
+            }
+        };
         let configurations = configurations(plant, &options.configurations)?;
         let zero = network.build_zero(plant)?;
         let mut zero_buses: Vec<usize> = Vec::new();
-        for b in network
-            .banks
-            .iter()
-            .filter(|b| b.connection.has_zero_path())
+        for b in (network.banks.iter()).filter(|b| b.connection.has_zero_path() && screened(&b.id))
         {
             if !zero_buses.contains(&b.bus) {
                 zero_buses.push(b.bus);

@@ -299,11 +299,16 @@ impl<'a> Engine<'a> {
 
     /// One step's admittance of every bank at order h, per unit.
     pub fn y_steps(&self, order: f64) -> Vec<Complex64> {
-        self.net
-            .banks
-            .iter()
-            .map(|b| b.y_step_pu(order, self.net.resistance))
-            .collect()
+        let mut y = Vec::with_capacity(self.net.banks.len());
+        self.y_steps_into(order, &mut y);
+        y
+    }
+
+    /// [`Engine::y_steps`] into `y` (cleared first): no allocation once `y` has grown.
+    pub fn y_steps_into(&self, order: f64, y: &mut Vec<Complex64>) {
+        y.clear();
+        let r = self.net.resistance;
+        y.extend(self.net.banks.iter().map(|b| b.y_step_pu(order, r)));
     }
 
     /// Factors Y₀(h) (no banks) and solves the columns of Z₀ at the bank buses and the
@@ -380,14 +385,28 @@ impl PointSolution {
         y_step: Vec<Complex64>,
         p: usize,
     ) -> Self {
-        let k = near[0].state.k;
-        let mut state = State {
-            k,
-            m: 1,
-            zss: vec![Complex64::default(); k * k],
-            zis: vec![Complex64::default(); k],
-            zii: vec![Complex64::default()],
+        let mut point = PointSolution {
+            order,
+            state: State::default(),
+            y_step,
         };
+        point.interpolate_bus_from(near, order, p);
+        point
+    }
+
+    /// [`PointSolution::interpolate_bus`] into this point, reusing its buffers: Z₀ at
+    /// `order` for bus of interest `p` from `near`; the bank step admittances `y_step` are
+    /// left as they are (the caller sets them for `order`).
+    pub fn interpolate_bus_from(&mut self, near: &[PointSolution], order: f64, p: usize) {
+        let k = near[0].state.k;
+        let state = &mut self.state;
+        (state.k, state.m) = (k, 1);
+        for v in [&mut state.zss, &mut state.zis, &mut state.zii] {
+            v.clear();
+        }
+        state.zss.resize(k * k, Complex64::default());
+        state.zis.resize(k, Complex64::default());
+        state.zii.resize(1, Complex64::default());
         for (a, pa) in near.iter().enumerate() {
             let mut w = 1.0;
             for (b, pb) in near.iter().enumerate() {
@@ -403,11 +422,13 @@ impl PointSolution {
             }
             state.zii[0] += pa.state.zii[p] * w;
         }
-        PointSolution {
-            order,
-            state,
-            y_step,
-        }
+        self.order = order;
+    }
+
+    /// The bank step admittances of this point, per unit (to be set with
+    /// [`Engine::y_steps_into`] after [`PointSolution::interpolate_bus_from`]).
+    pub fn y_step_mut(&mut self) -> &mut Vec<Complex64> {
+        &mut self.y_step
     }
 
     /// The same point restricted to bus of interest `p` alone (m = 1): what refining one

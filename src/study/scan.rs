@@ -243,18 +243,19 @@ impl Ctx<'_, '_> {
             }
         }
         let mut series = Vec::with_capacity(chunk.len() * nb);
+        let work = std::cell::RefCell::new(Work::default());
         for (slot, &c) in chunk.iter().enumerate() {
             for b in 0..nb {
                 let curve = &mags[(slot * nb + b) * np..(slot * nb + b + 1) * np];
                 let one = ComboPlan::new(&[&self.configurations[c].steps[..]]);
-                let scratch = std::cell::RefCell::new(Scratch::default());
-                let eval = |h: f64| self.exact(s, b, h, &one, &mut scratch.borrow_mut());
+                let eval = |h: f64| self.exact(s, b, h, &one, &mut work.borrow_mut());
+                let candidates = local_extrema(curve);
                 series.push(Series {
                     scenario: s,
                     configuration: c,
                     bus: b,
-                    peaks: extrema(&self.grid.orders, curve, true, &eval)?,
-                    dips: extrema(&self.grid.orders, curve, false, &eval)?,
+                    peaks: extrema(&self.grid.orders, curve, true, &candidates.0, &eval)?,
+                    dips: extrema(&self.grid.orders, curve, false, &candidates.1, &eval)?,
                 });
             }
         }
@@ -269,7 +270,7 @@ impl Ctx<'_, '_> {
         b: usize,
         h: f64,
         plan: &ComboPlan,
-        scratch: &mut Scratch,
+        work: &mut Work,
     ) -> Result<(Complex64, Complex64), SolveError> {
         let orders = &self.grid.orders;
         let n = orders.len();
@@ -282,13 +283,24 @@ impl Ctx<'_, '_> {
                 .min(n - 4)
         };
         let near = &self.points[s][start..(start + 4).min(n)];
-        let p = PointSolution::interpolate_bus(near, h, self.engine.y_steps(h), b);
+        let Work { point, scratch } = work;
+        let point = point.get_or_insert_with(|| near[0].clone());
+        point.interpolate_bus_from(near, h, b);
+        self.engine.y_steps_into(h, point.y_step_mut());
         let mut z = [Complex64::default()];
-        if !p.evaluate(plan, scratch, &mut z) {
+        if !point.evaluate(plan, scratch, &mut z) {
             return Err(self.singular(s, h));
         }
-        Ok((z[0] * self.z_base[b], p.z0_pu(0) * self.z_base[b]))
+        Ok((z[0] * self.z_base[b], point.z0_pu(0) * self.z_base[b]))
     }
+}
+
+/// What refining the curves of one block reuses from one evaluation to the next: the
+/// interpolated point and the plan's states (no allocation per evaluation).
+#[derive(Default)]
+struct Work {
+    point: Option<PointSolution>,
+    scratch: Scratch,
 }
 
 type Eval<'a> = dyn Fn(f64) -> Result<(Complex64, Complex64), SolveError> + 'a;
@@ -375,22 +387,40 @@ fn brent(
     Ok((x, fx))
 }
 
-/// Local maxima (`peaks`) or minima of `mags` (|Z| in ohm on the grid), each refined by
-/// Brent's method on [h_{i−1}, h_{i+1}] with the evaluator `eval(h) = (Z, Z_none)`.
+/// The interior grid points of `mags` that are local maxima (above the point before, not
+/// below the point after) and local minima (the reverse), in one pass: (maxima, minima).
+// The negated comparisons are meant: a NaN after the point does not stop it counting.
+#[allow(clippy::neg_cmp_op_on_partial_ord)]
+fn local_extrema(mags: &[f64]) -> (Vec<usize>, Vec<usize>) {
+    let (mut maxima, mut minima) = (Vec::new(), Vec::new());
+    for (i, w) in mags.windows(3).enumerate() {
+        let (l, m, r) = (w[0], w[1], w[2]);
+        // Non-short-circuit `&`: the comparisons are cheap and rarely true, and a branch per
+        // comparison costs more than both.
+        if (m > l) & !(r > m) {
+            maxima.push(i + 1);
+        }
+        if (m < l) & !(r < m) {
+            minima.push(i + 1);
+        }
+    }
+    (maxima, minima)
+}
+
+/// Of `mags` (|Z| in ohm on the grid), the local maxima (`peaks`) or minima at the grid
+/// points `at` (from [`local_extrema`]), each refined by Brent's method on
+/// [h_{i−1}, h_{i+1}] with the evaluator `eval(h) = (Z, Z_none)`.
 fn extrema(
     orders: &[f64],
     mags: &[f64],
     peaks: bool,
+    at: &[usize],
     eval: &Eval<'_>,
 ) -> Result<Vec<Extremum>, SolveError> {
-    let better = |a: f64, b: f64| if peaks { a > b } else { a < b };
     let sign = if peaks { -1.0 } else { 1.0 };
     let mut out = Vec::new();
-    for i in 1..mags.len().saturating_sub(1) {
-        let (l, m, r) = (mags[i - 1], mags[i], mags[i + 1]);
-        if !better(m, l) || better(r, m) {
-            continue;
-        }
+    for &i in at {
+        let m = mags[i];
         let mut objective = |h: f64| -> Result<f64, SolveError> { Ok(sign * eval(h)?.0.norm()) };
         let (h, best) = brent(
             &mut objective,

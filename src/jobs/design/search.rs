@@ -10,7 +10,7 @@ use super::levels::{self, Control, Level};
 use super::outcome::{evaluate, notes, rank, reason};
 use super::plans::{self, Family, Plan};
 use super::*;
-use crate::jobs::check::{CheckError, CheckOptions, run_check};
+use crate::jobs::check::{CheckError, CheckOptions, CheckResults, run_check};
 use crate::jobs::notes::Note;
 use crate::study::Verdict;
 
@@ -310,7 +310,12 @@ impl<'p> Search<'p> {
         let ids: Vec<&str> = banks.iter().map(|b| b.id.as_str()).collect();
         let mut p = self.bases[k.base].clone();
         p.banks.extend(banks.iter().cloned());
-        let scan = run_check(&p, &check_options(options, true))?;
+        // The prescreen reads the plan's own banks' rows alone: scanned at their buses only.
+        let prescreen = CheckOptions {
+            screened_banks: Some(ids.iter().map(|s| s.to_string()).collect()),
+            ..check_options(options, true)
+        };
+        let scan = run_check(&p, &prescreen)?;
         let resonant = (scan.resonance.rows.iter())
             .any(|r| ids.contains(&r.bank.as_str()) && r.verdict == Verdict::Resonant);
         let band = (scan.tolerance.iter()).any(|t| ids.contains(&t.bank.as_str()) && t.flagged);
@@ -318,7 +323,7 @@ impl<'p> Search<'p> {
         let res = if clear {
             run_check(&p, &check_options(options, false))?
         } else {
-            scan
+            reached_rows(scan, &p, &ids, &c.control, options)?
         };
         let mut cost = 0.0;
         let mut parts = Vec::new();
@@ -503,6 +508,47 @@ fn row_for(b: &CapacitorBank, steps_max: u32, replaces: Vec<String>) -> DesignRo
         replaces,
         cells: DesignCells::default(),
     }
+}
+
+/// A prescreen's results with the other banks' rows (which it did not scan) replaced by
+/// their rows in the configurations the controller reaches (`control`): what the plan's
+/// failures name besides its own banks' resonance. The rows come from a scan of those
+/// configurations alone at every bank bus, the same figures a scan of every configuration
+/// gives them.
+fn reached_rows(
+    mut prescreen: CheckResults,
+    plant: &Plant,
+    ids: &[&str],
+    control: &[Vec<Control>],
+    options: &DesignOptions,
+) -> Result<CheckResults, CheckError> {
+    let mut labels: Vec<String> = Vec::new();
+    for c in control.iter().flatten() {
+        let label = crate::study::Configuration {
+            steps: c.steps.clone(),
+        }
+        .label(&plant.banks);
+        if !labels.contains(&label) {
+            labels.push(label);
+        }
+    }
+    prescreen
+        .resonance
+        .rows
+        .retain(|r| ids.contains(&r.bank.as_str()));
+    if labels.is_empty() {
+        return Ok(prescreen);
+    }
+    let reached = run_check(
+        plant,
+        &CheckOptions {
+            configurations: labels,
+            ..check_options(options, true)
+        },
+    )?;
+    (prescreen.resonance.rows)
+        .extend((reached.resonance.rows.into_iter()).filter(|r| !ids.contains(&r.bank.as_str())));
+    Ok(prescreen)
 }
 
 /// One design search over `plant`'s rows.
