@@ -11,6 +11,7 @@ use super::results::{CheckError, CheckOptions, CheckResults};
 use super::studies::run_studies;
 use crate::model::{LEAST_DAMPED, Sequence};
 use crate::study::Verdict;
+use crate::study::penetration::Evaluation;
 
 /// The key figures of one bank in one scenario and configuration under one damping model.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -142,7 +143,18 @@ pub fn damping_bands(
                 labels.push(r.configuration.clone());
             }
         }
-        Some(run_studies(&plant, &options.rerun(labels))?)
+        // The key figures are read at the bank buses alone: neither the PCC nor the extra
+        // buses are scanned again, and penetration sums no bus beyond the PCC, bank and
+        // source buses.
+        let rerun = CheckOptions {
+            screened_banks: Some(plant.banks.iter().map(|b| b.id.clone()).collect()),
+            evaluation: match options.evaluation {
+                Evaluation::Direct => Evaluation::Direct,
+                _ => Evaluation::BankBuses,
+            },
+            ..options.rerun(labels)
+        };
+        Some(run_studies(&plant, &rerun)?)
     };
     let least_res = least.as_ref().unwrap_or(res);
     let (here, there) = (Lookup::new(res), Lookup::new(least_res));

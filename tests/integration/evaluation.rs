@@ -294,3 +294,54 @@ fn fast_and_direct_agree_on_the_bundled_cases() {
         agree(&phasor);
     }
 }
+
+/// The damping band's re-run sums only the PCC, bank and source buses under the fast
+/// evaluation (`Evaluation::BankBuses`) and scans only the bank buses: every key figure
+/// (peak, amplification, bank-bus THD, capacitor current, both damping models) equals the
+/// re-run evaluated directly at every bus to 1e-9 relative.
+#[test]
+fn the_damping_band_read_at_the_bank_buses_equals_the_direct_one() {
+    let mut compared = 0;
+    for (seed, reactor) in [(3, Reactor::None), (11, Reactor::Detuning { percent: 7.0 })] {
+        let mut p = converter_plant(60, 0, seed, reactor, Summation::Arithmetic);
+        p.study.resistance_model = ResistanceModel::FrequencyDependent;
+        let direct = run(&p, Evaluation::Direct);
+        let fast = run(&p, Evaluation::Fast);
+        assert_eq!(direct.damping.len(), fast.damping.len(), "seed {seed}");
+        // The least-damped side was re-run (not the study's figures again).
+        assert!(
+            (fast.damping.iter()).any(|d| d.study.amplification != d.least_damped.amplification),
+            "seed {seed}: no re-run"
+        );
+        for (a, b) in direct.damping.iter().zip(&fast.damping) {
+            let at = format!("{} {} {}", a.scenario, a.configuration, a.bank);
+            assert_eq!(
+                (&a.scenario, &a.configuration, &a.bank),
+                (&b.scenario, &b.configuration, &b.bank)
+            );
+            for (x, y, side) in [
+                (&a.study, &b.study, "study"),
+                (&a.least_damped, &b.least_damped, "least"),
+            ] {
+                close_opt(x.peak_order, y.peak_order, &format!("{at} {side} peak"));
+                close_opt(
+                    x.amplification,
+                    y.amplification,
+                    &format!("{at} {side} amplification"),
+                );
+                close_opt(
+                    x.bus_thd_percent,
+                    y.bus_thd_percent,
+                    &format!("{at} {side} THD"),
+                );
+                close_opt(
+                    x.capacitor_current_percent,
+                    y.capacitor_current_percent,
+                    &format!("{at} {side} current"),
+                );
+            }
+            compared += 1;
+        }
+    }
+    assert!(compared > 20, "only {compared} flagged resonances compared");
+}

@@ -131,6 +131,11 @@ pub enum Evaluation {
     /// Under `phasor` summation the linear one (`linear.rs`): superposition, every bus
     /// exact.
     Fast,
+    /// As [`Evaluation::Fast`], except that the bounded evaluation stops at the PCC, the
+    /// bank and the source buses: no other bus is bounded or summed, so the worst buses
+    /// and `in_plant_above` are among those alone. What a re-run that reads the banks'
+    /// figures alone needs (the damping band).
+    BankBuses,
 }
 
 /// Results × buses above which [`Evaluation::Auto`] is fast (the JSON's per-bus tables stop
@@ -285,7 +290,7 @@ impl Penetration {
         let fast = !split
             && match evaluation {
                 Evaluation::Direct => false,
-                Evaluation::Fast => true,
+                Evaluation::Fast | Evaluation::BankBuses => true,
                 Evaluation::Auto => ns * nc * net.buses.len() > BOUNDED_ABOVE,
             };
         let bounded = fast && law != Summation::Phasor;
@@ -350,6 +355,7 @@ impl Penetration {
             limits,
             law,
             pcc,
+            always_only: bounded && evaluation == Evaluation::BankBuses,
         };
         let prepared = if bounded {
             Some(bounded::Prepared::new(&ctx))
@@ -521,6 +527,8 @@ struct Ctx<'a> {
     limits: &'a IndividualLimits,
     law: Summation,
     pcc: usize,
+    /// The bounded evaluation sums the always-summed buses alone ([`Evaluation::BankBuses`]).
+    always_only: bool,
 }
 
 impl Ctx<'_> {

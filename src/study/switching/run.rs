@@ -47,26 +47,29 @@ pub fn run(inp: &Inputs<'_>) -> SwitchingStudy {
             Err(why) => study.failures.push(why),
         }
     }
-    for (b, bank) in inp.plant.banks.iter().enumerate() {
-        let worst = study
-            .events
-            .iter()
-            .zip(&kept)
-            .filter(|(_, ev)| ev.bank == b)
-            .max_by(|x, y| x.0.peak_a.total_cmp(&y.0.peak_a));
-        let Some((e, ev)) = worst else { continue };
-        let v = inp
-            .load_flow
-            .shift_free_voltages(ev.scenario, &ev.before)
-            .ok();
-        let s = setup(inp.plant, inp.net, ev, v.as_deref(), None);
-        let Ok(sim) = simulate(&s, bank.trapped_charge_pu, true) else {
-            continue;
-        };
-        if let Some(w) = waveform(&sim, s.i_base_a, inp.net.frequency_hz, e) {
-            study.waveforms.push(w);
-        }
-    }
+    // Each bank's worst event, simulated again with its waveforms kept (in parallel, in
+    // the banks' order).
+    let worst: Vec<(&SwitchingEvent, &EventSpec)> = (0..inp.plant.banks.len())
+        .filter_map(|b| {
+            (study.events.iter().zip(kept.iter().copied()))
+                .filter(|(_, ev)| ev.bank == b)
+                .max_by(|x, y| x.0.peak_a.total_cmp(&y.0.peak_a))
+        })
+        .collect();
+    let waveforms: Vec<Waveform> = worst
+        .par_iter()
+        .filter_map(|&(e, ev)| {
+            let v = inp
+                .load_flow
+                .shift_free_voltages(ev.scenario, &ev.before)
+                .ok();
+            let s = setup(inp.plant, inp.net, ev, v.as_deref(), None);
+            let q = inp.plant.banks[ev.bank].trapped_charge_pu;
+            let sim = simulate(&s, q, true).ok()?;
+            waveform(&sim, s.i_base_a, inp.net.frequency_hz, e)
+        })
+        .collect();
+    study.waveforms = waveforms;
     study
 }
 

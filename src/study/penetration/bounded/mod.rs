@@ -37,6 +37,30 @@ use super::{
 use crate::solve::SolveError;
 use groups::{Groups, Law, RowSplit};
 
+/// A result of the always-summed buses alone ([`super::Evaluation::BankBuses`]): the
+/// worst buses and `in_plant_above` among them, every other bus NaN and `None`.
+fn always_only(mut d: Distortion, evaluated: Vec<bool>, ctx: &Ctx<'_>) -> Distortion {
+    let thd_limit = ctx.thd_limit;
+    let argmax = |d: &Distortion, f: &dyn Fn(&Distortion, usize) -> f64| {
+        (0..evaluated.len())
+            .filter(|&r| evaluated[r])
+            .max_by(|&a, &b| f(d, a).total_cmp(&f(d, b)))
+            .unwrap_or(ctx.pcc)
+    };
+    d.worst_thd_bus = argmax(&d, &|d, r| d.thd_percent[r] / thd_limit[r]);
+    d.worst_individual_bus = argmax(&d, &|d, r| individual_key(d.worst[r]));
+    d.in_plant_above = (0..evaluated.len())
+        .any(|r| r != ctx.pcc && evaluated[r] && bus_above(&d, r, thd_limit[r]));
+    for (r, &ev) in evaluated.iter().enumerate() {
+        if !ev {
+            d.thd_percent[r] = f64::NAN;
+            d.worst[r] = None;
+        }
+    }
+    d.evaluated = Some(evaluated);
+    d
+}
+
 /// Relative slack on the bounds, far above rounding (1e-15) and far below any figure
 /// printed, so that rounding never rules out a bus that the exact sum would keep.
 const SLACK: f64 = 1e-9;
@@ -265,37 +289,40 @@ impl Prepared {
                     .sum();
                 w_full[b] = abs(y[b]) * l1;
             }
-            // δ_r = Σ_j |Z₀_rj|·W_j and the same with |Z₀_rj − Z₀_qj|, bank by bank over
-            // every bus; then each bus's bound and its running figures.
-            delta.iter_mut().for_each(|x| *x = 0.0);
-            near.iter_mut().for_each(|x| *x = 0.0);
-            for &b in &st.energized {
-                let wb = w_full[b];
-                let (ab, an) = (&abs_bank[b * n..(b + 1) * n], &abs_near[b * n..(b + 1) * n]);
+            // Under `always_only` no other bus is bounded.
+            if !ctx.always_only {
+                // δ_r = Σ_j |Z₀_rj|·W_j and the same with |Z₀_rj − Z₀_qj|, bank by bank over
+                // every bus; then each bus's bound and its running figures.
+                delta.iter_mut().for_each(|x| *x = 0.0);
+                near.iter_mut().for_each(|x| *x = 0.0);
+                for &b in &st.energized {
+                    let wb = w_full[b];
+                    let (ab, an) = (&abs_bank[b * n..(b + 1) * n], &abs_near[b * n..(b + 1) * n]);
+                    for r in 0..n {
+                        delta[r] += ab[r] * wb;
+                        near[r] += an[r] * wb;
+                    }
+                }
+                let now: Vec<f64> = exact_v
+                    .iter()
+                    .map(|v| v.last().copied().unwrap_or(f64::INFINITY))
+                    .collect();
+                let refs = &self.reference[s][o];
+                let limit = &self.limit[o];
+                let hi_o = &mut hi[o * n..(o + 1) * n];
                 for r in 0..n {
-                    delta[r] += ab[r] * wb;
-                    near[r] += an[r] * wb;
+                    if delta[r] > 0.0 {
+                        exact[r] = false;
+                    }
+                    let (qi, s_rq) = refs[r];
+                    let via_q = now[qi] + s_rq + near[r];
+                    let bound = (v0[r] + delta[r]).min(via_q) * (1.0 + SLACK) * 100.0;
+                    hi_o[r] = bound;
+                    thd_acc[r] += bound * bound;
+                    let (inv, lp) = limit[r];
+                    key_acc[r] = key_acc[r].max((bound * inv).max(bound * 1e-12));
+                    over[r] |= bound > lp;
                 }
-            }
-            let now: Vec<f64> = exact_v
-                .iter()
-                .map(|v| v.last().copied().unwrap_or(f64::INFINITY))
-                .collect();
-            let refs = &self.reference[s][o];
-            let limit = &self.limit[o];
-            let hi_o = &mut hi[o * n..(o + 1) * n];
-            for r in 0..n {
-                if delta[r] > 0.0 {
-                    exact[r] = false;
-                }
-                let (qi, s_rq) = refs[r];
-                let via_q = now[qi] + s_rq + near[r];
-                let bound = (v0[r] + delta[r]).min(via_q) * (1.0 + SLACK) * 100.0;
-                hi_o[r] = bound;
-                thd_acc[r] += bound * bound;
-                let (inv, lp) = limit[r];
-                key_acc[r] = key_acc[r].max((bound * inv).max(bound * 1e-12));
-                over[r] |= bound > lp;
             }
             // The current across the PCC, by group: into(g) = Σ c_b·Z[b, p_g] over the
             // PCC's flow functional.
@@ -346,6 +373,9 @@ impl Prepared {
         for (qi, &r) in self.always.iter().enumerate() {
             let v = std::mem::take(&mut exact_v[qi]);
             finish(r, &v, &mut d, &mut evaluated);
+        }
+        if ctx.always_only {
+            return Ok(always_only(d, evaluated, ctx));
         }
         for (r, &ex) in exact.iter().enumerate() {
             if ex && self.always_at[r].is_none() {
