@@ -6,6 +6,9 @@
 
 use std::time::Instant;
 
+#[path = "../support/synthetic.rs"]
+mod synthetic;
+
 use overtone::io::workbook_in::read_workbook;
 use overtone::jobs::design::{DesignOptions, run_design};
 use overtone::model::Plant;
@@ -51,5 +54,29 @@ fn design_case(bencher: divan::Bencher, name: &str) {
             .expect("runs")
             .plans
             .len()
+    });
+}
+
+/// Issue 28's design shape: the generated 300-bus plant with converters on two thirds of its
+/// buses (the `converters` bench's plant), 4 proposed banks of 6 steps 7 % detuned, 2
+/// scenarios: the Design rows derived from the proposed banks.
+#[divan::bench(sample_count = 1, sample_size = 1)]
+fn design_converter_plant_300_buses(bencher: divan::Bencher) {
+    use overtone::model::Reactor;
+    let mut p = synthetic::with_converters(
+        synthetic::with_two_scenarios(synthetic::generated_plant(300, 0, 4, 6, 17)),
+        17,
+    );
+    for b in &mut p.banks {
+        b.reactor = Reactor::Detuning { percent: 7.0 };
+    }
+    bencher.bench_local(|| {
+        let d = run_design(&p, &DesignOptions::default()).expect("runs");
+        let c = d.counts;
+        eprintln!(
+            "{} plans searched, {} scanned, {} checked, {} pass",
+            c.enumerated, c.scanned, c.checked, c.passed
+        );
+        d.plans.len()
     });
 }
