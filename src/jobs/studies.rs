@@ -115,9 +115,10 @@ fn configurations(plant: &Plant, labels: &[String]) -> Result<Vec<Configuration>
         all_configurations(&plant.banks)
     } else {
         let mut chosen = Vec::new();
+        let mut seen = std::collections::HashSet::new();
         for text in labels {
             let c = crate::study::parse_configuration(text, &plant.banks)?;
-            if !chosen.contains(&c) {
+            if seen.insert(c.steps.clone()) {
                 chosen.push(c);
             }
         }

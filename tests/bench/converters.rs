@@ -107,11 +107,9 @@ fn whole_check_phasor(bencher: divan::Bencher, n: usize) {
     });
 }
 
-/// Issue 28's heavy shape: the 300-bus converter plant with every load scaled to 92 MW in
-/// all, its transformers and the supply scaled with it (so the plant stays sized for its
-/// load), 2,401 configurations × 2 scenarios, the whole check with the switching simulation.
-#[divan::bench(sample_count = 3, sample_size = 1)]
-fn heavy_92_mw_whole_check(bencher: divan::Bencher) {
+/// The 300-bus converter plant with every load scaled to 92 MW in all, the supply scaled
+/// with it and the transformers by `transformers` times as much (1: sized for the load).
+fn heavy_plant(transformers: f64) -> overtone::model::Plant {
     let mut p = plant(300);
     let total: f64 = p.loads.iter().map(|l| l.p_kw()).sum();
     let f = 92_000.0 / total;
@@ -119,16 +117,41 @@ fn heavy_92_mw_whole_check(bencher: divan::Bencher) {
         l.kw *= f;
     }
     for t in &mut p.transformers {
-        t.kva *= f;
+        t.kva *= f * transformers;
     }
     for s in &mut p.sources {
         if let overtone::model::ShortCircuit::Mva(m) = &mut s.short_circuit {
             *m *= f;
         }
     }
+    p
+}
+
+/// Issue 28's heavy shape: the 300-bus converter plant with every load scaled to 92 MW in
+/// all, its transformers and the supply scaled with it (so the plant stays sized for its
+/// load), 2,401 configurations × 2 scenarios, the whole check with the switching simulation.
+#[divan::bench(sample_count = 3, sample_size = 1)]
+fn heavy_92_mw_whole_check(bencher: divan::Bencher) {
+    let p = heavy_plant(1.0);
     bencher.bench_local(|| {
         let res = run_check(&p, &options(true, Evaluation::Auto)).expect("runs");
         assert!(res.operating.collapsed.is_empty(), "sized for its load");
+        res.limit_rows.len()
+    });
+}
+
+/// Issue 28's second heavy shape: the same load on transformers of `percent` % of the
+/// sized plant's rating, so that some configurations come near voltage collapse.
+#[divan::bench(sample_count = 1, sample_size = 1, args = [50, 30])]
+fn heavy_92_mw_tight_whole_check(bencher: divan::Bencher, percent: u32) {
+    let p = heavy_plant(f64::from(percent) / 100.0);
+    bencher.bench_local(|| {
+        let res = run_check(&p, &options(true, Evaluation::Auto)).expect("runs");
+        eprintln!(
+            "transformers at {percent} %: {} of {} operating points collapsed",
+            res.operating.collapsed.len(),
+            res.operating.points.len()
+        );
         res.limit_rows.len()
     });
 }

@@ -310,9 +310,17 @@ impl<'p> Search<'p> {
         let ids: Vec<&str> = banks.iter().map(|b| b.id.as_str()).collect();
         let mut p = self.bases[k.base].clone();
         p.banks.extend(banks.iter().cloned());
-        // The prescreen reads the plan's own banks' rows alone: scanned at their buses only.
+        // The prescreen reads the plan's own banks' rows alone: scanned at their buses only,
+        // in the configurations where one of them is energized (the others have no row of
+        // theirs; `none` is added as always).
+        let first = p.banks.len() - banks.len();
+        let energized: Vec<String> = (crate::study::all_configurations(&p.banks).into_iter())
+            .filter(|c| c.steps[first..].iter().any(|&n| n > 0))
+            .map(|c| c.label(&p.banks))
+            .collect();
         let prescreen = CheckOptions {
             screened_banks: Some(ids.iter().map(|s| s.to_string()).collect()),
+            configurations: energized,
             ..check_options(options, true)
         };
         let scan = run_check(&p, &prescreen)?;
