@@ -70,6 +70,10 @@ pub struct CheckOptions {
     /// prescreen reads, at a fraction of the cost (the other banks' rows then have no peaks
     /// and mean nothing). `None` = the PCC, every bank bus and `buses`.
     pub screened_banks: Option<Vec<String>>,
+    /// Points of Y₀ kept from scans of plants that differ from this one in their banks
+    /// alone (a design search's plans), with the number of that network
+    /// ([`crate::study::scan::KnownPoints`]); `None` = solved afresh.
+    pub known_points: Option<(std::sync::Arc<crate::study::scan::KnownPoints>, usize)>,
 }
 
 impl CheckOptions {
@@ -88,6 +92,7 @@ impl CheckOptions {
             damping_band: Some(false),
             mode_analysis: Some(false),
             screened_banks: None,
+            known_points: None,
         }
     }
 }

@@ -244,7 +244,8 @@ fn screen(
         None => &quiet,
     };
     let zero_grid = grid.clone();
-    let scan = Scan::run(engine, grid, ctx.configurations.clone(), progress)?;
+    let known = (options.known_points.as_ref()).map(|(k, network)| (&**k, *network));
+    let scan = Scan::run_with(engine, grid, ctx.configurations.clone(), progress, known)?;
     let (zero_scan, zero_map) = if zero_orders && !ctx.zero_buses.is_empty() {
         let (distinct, map) = zero_projections(&ctx.network, &scan.configurations);
         (

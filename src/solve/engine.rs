@@ -425,6 +425,20 @@ impl PointSolution {
         self.order = order;
     }
 
+    /// True when `other` holds the same Z₀ (bit for bit) at the same order.
+    pub fn same_z0(&self, other: &PointSolution) -> bool {
+        let bits = |v: &[Complex64]| {
+            v.iter()
+                .map(|z| (z.re.to_bits(), z.im.to_bits()))
+                .collect::<Vec<_>>()
+        };
+        self.order.to_bits() == other.order.to_bits()
+            && (self.state.k, self.state.m) == (other.state.k, other.state.m)
+            && bits(&self.state.zss) == bits(&other.state.zss)
+            && bits(&self.state.zis) == bits(&other.state.zis)
+            && bits(&self.state.zii) == bits(&other.state.zii)
+    }
+
     /// The bank step admittances of this point, per unit (to be set with
     /// [`Engine::y_steps_into`] after [`PointSolution::interpolate_bus_from`]).
     pub fn y_step_mut(&mut self) -> &mut Vec<Complex64> {

@@ -155,3 +155,46 @@ fn scan_only_runs_the_scan_and_nothing_else() {
     assert!(only.operating.points.is_empty());
     assert!(only.duty.is_empty() && only.remedies.is_empty());
 }
+
+/// Points of Y₀ kept from the scan of one plant serve another that differs in its banks
+/// alone (a design search's plans): the scan equals a fresh one exactly (its banks' step
+/// admittances evaluated afresh); a plant whose network differs under the same number is
+/// detected by its fundamental point and solved afresh.
+#[test]
+fn kept_points_serve_a_plant_that_differs_in_its_banks_alone() {
+    use overtone::study::scan::KnownPoints;
+    use overtone::study::{Scan, ScanGrid};
+    let plant = overtone::demo::demo_plant().expect("demo");
+    let grid = ScanGrid::new(plant.study.highest_order, plant.study.scan_step_order);
+    let scan_of = |p: &overtone::model::Plant, known: Option<(&KnownPoints, usize)>| {
+        let net = overtone::network::Network::build(p).expect("builds");
+        let buses: Vec<usize> = net.banks.iter().map(|b| b.bus).collect();
+        let engine = overtone::solve::Engine::new(&net, &buses);
+        let configurations = all_configurations(&p.banks);
+        Scan::run_with(&engine, grid.clone(), configurations, &|_, _| {}, known)
+            .expect("scans")
+            .series
+    };
+    let known = KnownPoints::default();
+    let first = scan_of(&plant, Some((&known, 7)));
+    assert_eq!(first, scan_of(&plant, None));
+    // Other banks on the same buses: another detuning, another step size.
+    let mut other = plant.clone();
+    for b in &mut other.banks {
+        b.reactor = Reactor::Detuning { percent: 14.0 };
+        b.step_kvar *= 1.5;
+    }
+    let kept = scan_of(&other, Some((&known, 7)));
+    assert_eq!(kept, scan_of(&other, None));
+    assert_ne!(kept, first, "the banks changed the scan");
+    // Another network under the same number: a stiffer supply.
+    let mut stiffer = plant.clone();
+    for s in &mut stiffer.sources {
+        if let overtone::model::ShortCircuit::Mva(m) = &mut s.short_circuit {
+            *m *= 2.0;
+        }
+    }
+    let stiff = scan_of(&stiffer, Some((&known, 7)));
+    assert_ne!(stiff, first, "the supply changed the scan");
+    assert_eq!(stiff, scan_of(&stiffer, None));
+}

@@ -13,6 +13,7 @@ use super::*;
 use crate::jobs::check::{CheckError, CheckOptions, CheckResults, run_check};
 use crate::jobs::notes::Note;
 use crate::study::Verdict;
+use crate::study::scan::KnownPoints;
 
 /// The design rows: the `Design` sheet's, or one per proposed bank (its bus, steps of half,
 /// one and two times its step, 1 to 8 steps, the default detuning choices and classes).
@@ -304,6 +305,7 @@ impl<'p> Search<'p> {
         options: &DesignOptions,
         reachable: &[Vec<bool>],
         baselines: &[Baseline],
+        known: &std::sync::Arc<KnownPoints>,
     ) -> Result<PlanResult, DesignError> {
         let k = &self.kits[c.kit];
         let banks = self.banks(k, &c.plans);
@@ -321,6 +323,7 @@ impl<'p> Search<'p> {
         let prescreen = CheckOptions {
             screened_banks: Some(ids.iter().map(|s| s.to_string()).collect()),
             configurations: energized,
+            known_points: Some((known.clone(), k.base)),
             ..check_options(options, true)
         };
         let scan = run_check(&p, &prescreen)?;
@@ -329,7 +332,11 @@ impl<'p> Search<'p> {
         let band = (scan.tolerance.iter()).any(|t| ids.contains(&t.bank.as_str()) && t.flagged);
         let clear = !resonant && !band;
         let res = if clear {
-            run_check(&p, &check_options(options, false))?
+            let full = CheckOptions {
+                known_points: Some((known.clone(), k.base)),
+                ..check_options(options, false)
+            };
+            run_check(&p, &full)?
         } else {
             reached_rows(scan, &p, &ids, &c.control, options)?
         };
@@ -587,12 +594,13 @@ fn search_once(plant: &Plant, options: &DesignOptions) -> Result<DesignResult, D
     counts.after_pf_bound = candidates.len();
     let (baselines, base_notes) = search.baselines(options)?;
     // Steps 3 and 4: scan every plan, check the ones clear of resonance.
+    let known = std::sync::Arc::new(KnownPoints::default());
     let total = candidates.len() as u64;
     let done = std::sync::atomic::AtomicU64::new(0);
     let results: Vec<Result<PlanResult, DesignError>> = candidates
         .par_iter()
         .map(|c| {
-            let out = search.check_plan(c, options, &reachable, &baselines);
+            let out = search.check_plan(c, options, &reachable, &baselines, &known);
             let k = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
             if let Some(pr) = &options.progress {
                 pr(k, total);
