@@ -325,9 +325,9 @@ impl Ctx<'_, '_> {
         let mut series = Vec::with_capacity(chunk.len() * nb);
         let work = std::cell::RefCell::new(Work::default());
         for (slot, &c) in chunk.iter().enumerate() {
+            let one = ComboPlan::new(&[&self.configurations[c].steps[..]]);
             for b in 0..nb {
                 let curve = &mags[(slot * nb + b) * np..(slot * nb + b + 1) * np];
-                let one = ComboPlan::new(&[&self.configurations[c].steps[..]]);
                 let eval = |h: f64| self.exact(s, b, h, &one, &mut work.borrow_mut());
                 let candidates = local_extrema(curve);
                 series.push(Series {
@@ -501,7 +501,18 @@ fn extrema(
     let mut out = Vec::new();
     for &i in at {
         let m = mags[i];
-        let mut objective = |h: f64| -> Result<f64, SolveError> { Ok(sign * eval(h)?.0.norm()) };
+        // The evaluation at the best order so far, kept: Brent's answer is one of the orders
+        // it evaluated (or the grid point, not evaluated here), so its Z needs no second
+        // evaluation (used only when the orders are equal bit for bit).
+        let mut kept: Option<(f64, Complex64, Complex64, f64)> = None;
+        let mut objective = |h: f64| -> Result<f64, SolveError> {
+            let (z, z0) = eval(h)?;
+            let v = sign * z.norm();
+            if kept.is_none_or(|k| v <= k.3) {
+                kept = Some((h, z, z0, v));
+            }
+            Ok(v)
+        };
         let (h, best) = brent(
             &mut objective,
             orders[i - 1],
@@ -510,7 +521,10 @@ fn extrema(
             sign * m,
             REFINE_TOL,
         )?;
-        let (z, z0) = eval(h)?;
+        let (z, z0) = match kept {
+            Some((hk, z, z0, _)) if hk.to_bits() == h.to_bits() => (z, z0),
+            _ => eval(h)?,
+        };
         let zabs = (sign * best).abs();
         let (below, above) = (eval(orders[i - 1])?.0.im, eval(orders[i + 1])?.0.im);
         let phase_crosses_zero = if peaks {
