@@ -5,6 +5,7 @@
 pub mod calibrate;
 pub mod charts;
 pub mod check;
+mod context;
 pub mod damping;
 pub mod design;
 mod duty;

@@ -28,6 +28,7 @@ mod kits;
 pub mod levels;
 mod outcome;
 pub mod plans;
+mod prescreen;
 mod search;
 
 use std::sync::Arc;

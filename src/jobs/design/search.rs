@@ -9,10 +9,10 @@ use super::kits::{self, Kit};
 use super::levels::{self, Control, Level};
 use super::outcome::{evaluate, notes, rank, reason};
 use super::plans::{self, Family, Plan};
+use super::prescreen::studied;
 use super::*;
-use crate::jobs::check::{CheckError, CheckOptions, CheckResults, run_check};
+use crate::jobs::check::{CheckError, CheckOptions, run_check};
 use crate::jobs::notes::Note;
-use crate::study::Verdict;
 use crate::study::scan::KnownPoints;
 
 /// The design rows: the `Design` sheet's, or one per proposed bank (its bus, steps of half,
@@ -41,7 +41,7 @@ fn design_rows(plant: &Plant) -> Result<(Vec<DesignRow>, bool), DesignError> {
 }
 
 /// The check options of the search: no remedies, no switching simulation.
-fn check_options(options: &DesignOptions, scan_only: bool) -> CheckOptions {
+pub(super) fn check_options(options: &DesignOptions, scan_only: bool) -> CheckOptions {
     CheckOptions {
         remedies: Some(false),
         scan_only,
@@ -312,34 +312,8 @@ impl<'p> Search<'p> {
         let ids: Vec<&str> = banks.iter().map(|b| b.id.as_str()).collect();
         let mut p = self.bases[k.base].clone();
         p.banks.extend(banks.iter().cloned());
-        // The prescreen reads the plan's own banks' rows alone: scanned at their buses only,
-        // in the configurations where one of them is energized (the others have no row of
-        // theirs; `none` is added as always).
-        let first = p.banks.len() - banks.len();
-        let energized: Vec<String> = (crate::study::all_configurations(&p.banks).into_iter())
-            .filter(|c| c.steps[first..].iter().any(|&n| n > 0))
-            .map(|c| c.label(&p.banks))
-            .collect();
-        let prescreen = CheckOptions {
-            screened_banks: Some(ids.iter().map(|s| s.to_string()).collect()),
-            configurations: energized,
-            known_points: Some((known.clone(), k.base)),
-            ..check_options(options, true)
-        };
-        let scan = run_check(&p, &prescreen)?;
-        let resonant = (scan.resonance.rows.iter())
-            .any(|r| ids.contains(&r.bank.as_str()) && r.verdict == Verdict::Resonant);
-        let band = (scan.tolerance.iter()).any(|t| ids.contains(&t.bank.as_str()) && t.flagged);
-        let clear = !resonant && !band;
-        let res = if clear {
-            let full = CheckOptions {
-                known_points: Some((known.clone(), k.base)),
-                ..check_options(options, false)
-            };
-            run_check(&p, &full)?
-        } else {
-            reached_rows(scan, &p, &ids, &c.control, options)?
-        };
+        let known = (known.clone(), k.base);
+        let (res, clear) = studied(&p, (&ids, &c.control), known, options)?;
         let mut cost = 0.0;
         let mut parts = Vec::new();
         for ((&fi, plan), bank) in k.families.iter().zip(&c.plans).zip(banks) {
@@ -523,47 +497,6 @@ fn row_for(b: &CapacitorBank, steps_max: u32, replaces: Vec<String>) -> DesignRo
         replaces,
         cells: DesignCells::default(),
     }
-}
-
-/// A prescreen's results with the other banks' rows (which it did not scan) replaced by
-/// their rows in the configurations the controller reaches (`control`): what the plan's
-/// failures name besides its own banks' resonance. The rows come from a scan of those
-/// configurations alone at every bank bus, the same figures a scan of every configuration
-/// gives them.
-fn reached_rows(
-    mut prescreen: CheckResults,
-    plant: &Plant,
-    ids: &[&str],
-    control: &[Vec<Control>],
-    options: &DesignOptions,
-) -> Result<CheckResults, CheckError> {
-    let mut labels: Vec<String> = Vec::new();
-    for c in control.iter().flatten() {
-        let label = crate::study::Configuration {
-            steps: c.steps.clone(),
-        }
-        .label(&plant.banks);
-        if !labels.contains(&label) {
-            labels.push(label);
-        }
-    }
-    prescreen
-        .resonance
-        .rows
-        .retain(|r| ids.contains(&r.bank.as_str()));
-    if labels.is_empty() {
-        return Ok(prescreen);
-    }
-    let reached = run_check(
-        plant,
-        &CheckOptions {
-            configurations: labels,
-            ..check_options(options, true)
-        },
-    )?;
-    (prescreen.resonance.rows)
-        .extend((reached.resonance.rows.into_iter()).filter(|r| !ids.contains(&r.bank.as_str())));
-    Ok(prescreen)
 }
 
 /// One design search over `plant`'s rows.
