@@ -66,9 +66,10 @@ pub struct CheckOptions {
     /// Analyse the resonance mode at every flagged peak (`None` = yes; `Some(false)` = no,
     /// for re-runs read for their figures alone: remedies, the damping band, design plans).
     pub mode_analysis: Option<bool>,
-    /// Scan at these banks' buses alone (ids) and screen only their rows: what a search's
-    /// prescreen reads, at a fraction of the cost (the other banks' rows then have no peaks
-    /// and mean nothing). `None` = the PCC, every bank bus and `buses`.
+    /// Scan at these banks' buses alone (ids), their peaks alone (no dips), and screen only
+    /// their rows: what a search's prescreen and the damping band read, at a fraction of
+    /// the cost (the other banks' rows then have no peaks and mean nothing). `None` = the
+    /// PCC, every bank bus and `buses`, peaks and dips.
     pub screened_banks: Option<Vec<String>>,
     /// Points of Y₀ kept from scans of plants that differ from this one in their banks
     /// alone (a design search's plans), with the number of that network

@@ -15,6 +15,7 @@ use crate::study::limits::{LimitContext, LimitRow, estimated_demand_a, limit_row
 use crate::study::operating::{OperatingSolver, OperatingStudy};
 use crate::study::penetration::{Injections, Penetration, SequenceEngines, bank_amplification};
 use crate::study::resonance::ZeroScan;
+use crate::study::scan::ScanOptions;
 use crate::study::switching::SwitchingStudy;
 use crate::study::tolerance::{ToleranceBand, bands};
 use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid};
@@ -103,7 +104,13 @@ fn screen(
     };
     let zero_grid = grid.clone();
     let known = (options.known_points.as_ref()).map(|(k, network)| (&**k, *network));
-    let scan = Scan::run_with(engine, grid, ctx.configurations.clone(), progress, known)?;
+    // A run scanning some banks alone (a prescreen, the damping band) reads their peaks
+    // alone: no dips.
+    let with = ScanOptions {
+        known,
+        dips: options.screened_banks.is_none(),
+    };
+    let scan = Scan::run_with(engine, grid, ctx.configurations.clone(), progress, with)?;
     let (zero_scan, zero_map) = if zero_orders && !ctx.zero_buses.is_empty() {
         let (distinct, map) = zero_projections(&ctx.network, &scan.configurations);
         (

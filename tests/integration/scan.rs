@@ -171,7 +171,8 @@ fn kept_points_serve_a_plant_that_differs_in_its_banks_alone() {
         let buses: Vec<usize> = net.banks.iter().map(|b| b.bus).collect();
         let engine = overtone::solve::Engine::new(&net, &buses);
         let configurations = all_configurations(&p.banks);
-        Scan::run_with(&engine, grid.clone(), configurations, &|_, _| {}, known)
+        let with = overtone::study::scan::ScanOptions { known, dips: true };
+        Scan::run_with(&engine, grid.clone(), configurations, &|_, _| {}, with)
             .expect("scans")
             .series
     };

@@ -105,6 +105,25 @@ pub struct Scan {
     z_base: Vec<f64>,
 }
 
+/// How a scan may save work ([`Scan::run_with`]).
+#[derive(Clone, Copy)]
+pub struct ScanOptions<'a> {
+    /// Points of Y₀ kept from scans of the same network without banks, and its number.
+    pub known: Option<(&'a KnownPoints, usize)>,
+    /// Find and refine the series-resonance dips (`false`: a run that reads the peaks alone,
+    /// such as a search's prescreen; every `dips` is then empty).
+    pub dips: bool,
+}
+
+impl Default for ScanOptions<'_> {
+    fn default() -> Self {
+        ScanOptions {
+            known: None,
+            dips: true,
+        }
+    }
+}
+
 /// Bytes of curve magnitudes one block of configurations may hold while it is analysed.
 const BLOCK_BYTES: usize = 16 << 20;
 
@@ -153,18 +172,25 @@ impl Scan {
         configurations: Vec<Configuration>,
         progress: &(dyn Fn(u64, u64) + Sync),
     ) -> Result<Scan, SolveError> {
-        Scan::run_with(engine, grid, configurations, progress, None)
+        Scan::run_with(
+            engine,
+            grid,
+            configurations,
+            progress,
+            ScanOptions::default(),
+        )
     }
 
-    /// [`Scan::run`], taking the points of Y₀ from `known` where it holds them for the same
-    /// network (see [`KnownPoints`]).
+    /// [`Scan::run`] with `options`: the points of Y₀ taken from kept ones where they are
+    /// the same network's (see [`KnownPoints`]), the dips left out when no one reads them.
     pub fn run_with(
         engine: &Engine<'_>,
         grid: ScanGrid,
         configurations: Vec<Configuration>,
         progress: &(dyn Fn(u64, u64) + Sync),
-        known: Option<(&KnownPoints, usize)>,
+        options: ScanOptions<'_>,
     ) -> Result<Scan, SolveError> {
+        let ScanOptions { known, dips } = options;
         let net = engine.network();
         let buses = engine.interest().to_vec();
         let nb = buses.len();
@@ -189,6 +215,7 @@ impl Scan {
             configurations: &configurations,
             points: &points,
             z_base: &z_base,
+            dips,
         };
         let results: Vec<Vec<Series>> = tasks
             .par_iter()
@@ -222,6 +249,8 @@ struct Ctx<'a, 'e> {
     configurations: &'a [Configuration],
     points: &'a [Vec<PointSolution>],
     z_base: &'a [f64],
+    /// Refine the dips (else every series' `dips` stays empty).
+    dips: bool,
 }
 
 impl Ctx<'_, '_> {
@@ -269,7 +298,11 @@ impl Ctx<'_, '_> {
                     configuration: c,
                     bus: b,
                     peaks: extrema(&self.grid.orders, curve, true, &candidates.0, &eval)?,
-                    dips: extrema(&self.grid.orders, curve, false, &candidates.1, &eval)?,
+                    dips: if self.dips {
+                        extrema(&self.grid.orders, curve, false, &candidates.1, &eval)?
+                    } else {
+                        Vec::new()
+                    },
                 });
             }
         }
