@@ -48,22 +48,22 @@ pub struct Engine<'a> {
 pub struct PointSolution {
     /// Harmonic order of the point.
     pub order: f64,
-    state: State,
+    pub(super) state: State,
     /// One step's admittance of each bank, per unit.
-    y_step: Vec<Complex64>,
+    pub(super) y_step: Vec<Complex64>,
 }
 
 /// The impedances a step combination updates, per unit.
 #[derive(Debug, Clone, Default)]
-struct State {
-    k: usize,
-    m: usize,
+pub(super) struct State {
+    pub(super) k: usize,
+    pub(super) m: usize,
     /// Bank bus × bank bus, k×k row-major.
-    zss: Vec<Complex64>,
+    pub(super) zss: Vec<Complex64>,
     /// Bus of interest × bank bus, m×k row-major.
-    zis: Vec<Complex64>,
+    pub(super) zis: Vec<Complex64>,
     /// Driving point at each bus of interest.
-    zii: Vec<Complex64>,
+    pub(super) zii: Vec<Complex64>,
 }
 
 impl State {
@@ -125,7 +125,7 @@ pub struct Scratch {
 
 /// One step of a [`ComboPlan`].
 #[derive(Debug, Clone, Copy)]
-enum Op {
+pub(super) enum Op {
     /// levels[bank + 1] = levels[bank] with `n` steps of `bank` added.
     Apply { bank: usize, n: u32 },
     /// Output `slot` = driving points of levels[bank] with `n` steps of `bank` added.
@@ -140,7 +140,7 @@ enum Op {
 /// of the last bank) instead of N·k³.
 #[derive(Debug, Clone)]
 pub struct ComboPlan {
-    ops: Vec<Op>,
+    pub(super) ops: Vec<Op>,
     slots: usize,
 }
 

@@ -9,6 +9,7 @@
 //! so an LDLᵀ with a minimum-degree order computed once costs O(buses) per point on radial
 //! networks with no fill and no run-time pattern work; see DEVELOPERS.md for the figures.
 
+mod batch;
 mod engine;
 mod load_flow;
 mod pencil;
@@ -16,6 +17,7 @@ mod roots;
 mod sparse;
 mod transfer;
 
+pub use batch::{BATCH_POINTS, PointBatch};
 pub use engine::{ComboPlan, Engine, PointSolution, Scratch, SolveError};
 pub use load_flow::{
     LoadFlowFailure, LoadFlowScratch, LoadFlowSystem, MAX_ITERATIONS, MISMATCH_PU,

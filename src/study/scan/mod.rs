@@ -17,7 +17,9 @@ use rayon::prelude::*;
 use serde::Serialize;
 
 use super::Configuration;
-use crate::solve::{ComboPlan, Engine, PointSolution, Scratch, SolveError};
+use crate::solve::{
+    BATCH_POINTS, ComboPlan, Engine, PointBatch, PointSolution, Scratch, SolveError,
+};
 
 mod known;
 mod refine;
@@ -272,17 +274,16 @@ impl Ctx<'_, '_> {
             .collect();
         let plan = ComboPlan::new(&combos);
         let mut mags = vec![0.0f64; chunk.len() * nb * np];
-        let mut out = vec![Complex64::default(); chunk.len() * nb];
-        let mut scratch = Scratch::default();
-        for (i, p) in self.points[s].iter().enumerate() {
-            if !p.evaluate(&plan, &mut scratch, &mut out) {
-                return Err(self.singular(s, p.order));
-            }
-            // out is slot-major, bus-minor.
-            for (j0, zs) in (0..).step_by(nb).zip(out.chunks_exact(nb)) {
-                for (b, (z, base)) in zs.iter().zip(self.z_base).enumerate() {
-                    mags[(j0 + b) * np + i] = (z.re * z.re + z.im * z.im).sqrt() * base;
-                }
+        // The curves' magnitudes batch of points after batch (the same values as point by
+        // point, bit for bit; see `solve::batch`).
+        let mut batch = PointBatch::default();
+        for (first, points) in (0..)
+            .step_by(BATCH_POINTS)
+            .zip(self.points[s].chunks(BATCH_POINTS))
+        {
+            batch.load(points);
+            if let Err(t) = batch.magnitudes(&plan, self.z_base, &mut mags, (np, first)) {
+                return Err(self.singular(s, points[t].order));
             }
         }
         let mut series = Vec::with_capacity(chunk.len() * nb);
