@@ -269,6 +269,12 @@ impl<'a> Engine<'a> {
         steps: &[u32],
         shift: Complex64,
     ) -> Result<Factor, SolveError> {
+        self.factor_stamped(self.stamped(order, scenario, steps), order, scenario, shift)
+    }
+
+    /// The entries of Y(h) in `scenario` with `steps[b]` steps of bank b energized, laid out
+    /// for [`Engine::factor_stamped`] (stamped once, factored with several shifts).
+    pub fn stamped(&self, order: f64, scenario: usize, steps: &[u32]) -> Vec<Complex64> {
         let mut values = self.sym.zeros();
         self.net.stamp(order, scenario, |i, j, y| {
             if let Some(s) = self.sym.slot(i, j) {
@@ -281,6 +287,18 @@ impl<'a> Engine<'a> {
                     b.y_step_pu(order, self.net.resistance) * f64::from(n);
             }
         }
+        values
+    }
+
+    /// Factors the stamped Y(h) (from [`Engine::stamped`] at `order` and `scenario`, which
+    /// name a singular pivot) less σ = `shift` on every diagonal entry.
+    pub fn factor_stamped(
+        &self,
+        mut values: Vec<Complex64>,
+        order: f64,
+        scenario: usize,
+        shift: Complex64,
+    ) -> Result<Factor, SolveError> {
         for i in 0..self.sym.n() {
             if let Some(s) = self.sym.slot(i, i) {
                 values[s] -= shift;
@@ -295,6 +313,11 @@ impl<'a> Engine<'a> {
     pub fn solve(&self, f: &Factor, b: &mut [Complex64]) {
         let mut work = Vec::with_capacity(b.len());
         self.sym.solve_in_place(f, b, &mut work);
+    }
+
+    /// [`Engine::solve`] with the caller's work buffer (no allocation once it has grown).
+    pub fn solve_with(&self, f: &Factor, b: &mut [Complex64], work: &mut Vec<Complex64>) {
+        self.sym.solve_in_place(f, b, work);
     }
 
     /// One step's admittance of every bank at order h, per unit.

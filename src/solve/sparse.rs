@@ -59,6 +59,19 @@ impl Factor {
     }
 }
 
+/// True when the pivot `d` is finite and above 1e-13 of its original magnitude `a` (and
+/// above the smallest normal number): compared in squares (1e-26), with no square root,
+/// where the squares can neither overflow nor underflow, else in magnitudes.
+#[inline]
+fn regular_pivot(d: Complex64, a: Complex64) -> bool {
+    let (d2, a2) = (d.norm_sqr(), a.norm_sqr());
+    if d2.is_finite() && a2.is_finite() && d2 > 1e-250 && a2 < 1e250 {
+        return d2 > 1e-26 * a2;
+    }
+    let dn = d.norm();
+    dn.is_finite() && dn > 1e-13 * a.norm() && dn > f64::MIN_POSITIVE
+}
+
 impl Symbolic {
     /// Analyses the n×n symmetric pattern with the given off-diagonal entries (pairs in any
     /// order; duplicates and self-pairs ignored). Cost O(Σ d²·log n) over the eliminated
@@ -190,12 +203,11 @@ impl Symbolic {
     /// is reported as singular.
     pub fn factor(&self, mut values: Vec<Complex64>) -> Result<Factor, SingularPivot> {
         let n = self.n;
-        let scale: Vec<f64> = values[..n].iter().map(|v| v.norm()).collect();
+        let diagonal: Vec<Complex64> = values[..n].to_vec();
         let mut inv_d = Vec::with_capacity(n);
         for k in 0..n {
             let d = values[k];
-            let dn = d.norm();
-            if !(dn.is_finite() && dn > 1e-13 * scale[k] && dn > f64::MIN_POSITIVE) {
+            if !regular_pivot(d, diagonal[k]) {
                 return Err(SingularPivot {
                     index: self.perm[k],
                 });

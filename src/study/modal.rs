@@ -131,12 +131,16 @@ fn dominant_to(
 /// shift σ = 1/μ (the estimate of λ_c), x ← (Y − σI)⁻¹·x normalized and λ ← σ + 1/ν with
 /// ν = xᵀ(Y − σI)⁻¹x / xᵀx, until the eigenvector changes by at most [`TOLERANCE`]
 /// (Parlett, "The Symmetric Eigenvalue Problem", chapter 4; here for the complex-symmetric
-/// Y(h) with the unconjugated quotient). Returns (μ = 1/λ, t, converged); a shift the
-/// factorization finds singular is an eigenvalue to working precision, so the iterate
-/// stands.
+/// Y(h) with the unconjugated quotient). The second iteration keeps the first one's shift
+/// and factor: the power method's quotient is already within about the square of its
+/// eigenvector's error (1e-5) of λ_c, so one solve leaves the eigenvector converged and
+/// the second only confirms it; later iterations (a mode the first shift does not
+/// separate) are factored at the newest estimate. Returns (μ = 1/λ, t, converged); a shift
+/// the factorization finds singular is an eigenvalue to working precision, so the iterate
+/// stands. `y` is Y(h) as [`Engine::stamped`] gives it.
 fn refine(
     engine: &Engine<'_>,
-    (order, scenario, steps): (f64, usize, &[u32]),
+    (order, scenario, y_stamped): (f64, usize, &[Complex64]),
     mu: Complex64,
     mut x: Vec<Complex64>,
 ) -> (Complex64, Vec<Complex64>, bool) {
@@ -145,19 +149,28 @@ fn refine(
     }
     let mut lambda = mu.inv();
     let mut y = x.clone();
+    let mut work = Vec::with_capacity(x.len());
     let mut change = f64::INFINITY;
-    for _ in 0..RQI_ITERATIONS {
-        let Ok(f) = engine.factor_shifted(order, scenario, steps, lambda) else {
-            return (lambda.inv(), x, true);
+    let mut held: Option<(crate::solve::Factor, Complex64)> = None;
+    for iteration in 0..RQI_ITERATIONS {
+        if iteration != 1 || held.is_none() {
+            let shifted = engine.factor_stamped(y_stamped.to_vec(), order, scenario, lambda);
+            let Ok(f) = shifted else {
+                return (lambda.inv(), x, true);
+            };
+            held = Some((f, lambda));
+        }
+        let Some((f, sigma)) = &held else {
+            break;
         };
         y.copy_from_slice(&x);
-        engine.solve(&f, &mut y);
+        engine.solve_with(f, &mut y, &mut work);
         let num: Complex64 = x.iter().zip(&y).map(|(a, b)| a * b).sum();
         let den: Complex64 = x.iter().map(|a| a * a).sum();
         if num.norm() == 0.0 || den.norm() == 0.0 {
             break;
         }
-        let next = lambda + den / num;
+        let next = sigma + den / num;
         normalize(&mut y);
         let phase;
         (phase, change) = aligned_change(&x, &y);
@@ -183,10 +196,13 @@ pub fn critical_mode(
     steps: &[u32],
 ) -> Result<CriticalMode, SolveError> {
     let net = engine.network();
-    let f = engine.factor(order, scenario, steps)?;
+    let stamped = engine.stamped(order, scenario, steps);
+    let f = engine.factor_stamped(stamped.clone(), order, scenario, Complex64::default())?;
     let n = net.buses.len();
-    let (mu, t, converged) = match dominant_to(n, |x| engine.solve(&f, x), HANDOVER) {
-        (mu, t, true) => refine(engine, (order, scenario, steps), mu, t),
+    let mut work = Vec::with_capacity(n);
+    let power = dominant_to(n, |x| engine.solve_with(&f, x, &mut work), HANDOVER);
+    let (mu, t, converged) = match power {
+        (mu, t, true) => refine(engine, (order, scenario, &stamped), mu, t),
         unsettled => unsettled,
     };
     let pf = participation(&t);

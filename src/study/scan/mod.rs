@@ -221,8 +221,8 @@ impl Scan {
         };
         let results: Vec<Vec<Series>> = tasks
             .par_iter()
-            .map(|&(s, chunk)| {
-                let r = ctx.block(s, chunk);
+            .map_init(BlockWork::default, |w, &(s, chunk)| {
+                let r = ctx.block(s, chunk, w);
                 progress(done.fetch_add(1, Ordering::Relaxed) + 1, total);
                 r
             })
@@ -265,7 +265,12 @@ impl Ctx<'_, '_> {
     }
 
     /// Curves of the configurations `chunk` in scenario `s`, analysed.
-    fn block(&self, s: usize, chunk: &[usize]) -> Result<Vec<Series>, SolveError> {
+    fn block(
+        &self,
+        s: usize,
+        chunk: &[usize],
+        w: &mut BlockWork,
+    ) -> Result<Vec<Series>, SolveError> {
         let nb = self.z_base.len();
         let np = self.grid.orders.len();
         let combos: Vec<&[u32]> = chunk
@@ -273,21 +278,27 @@ impl Ctx<'_, '_> {
             .map(|&c| &self.configurations[c].steps[..])
             .collect();
         let plan = ComboPlan::new(&combos);
-        let mut mags = vec![0.0f64; chunk.len() * nb * np];
+        // Every magnitude of the block is written before it is read: the buffer of the last
+        // block is reused as it is.
+        let len = chunk.len() * nb * np;
+        if w.mags.len() < len {
+            w.mags.resize(len, 0.0);
+        }
+        let BlockWork { mags, batch, work } = w;
+        let mags = &mut mags[..len];
         // The curves' magnitudes batch of points after batch (the same values as point by
         // point, bit for bit; see `solve::batch`).
-        let mut batch = PointBatch::default();
         for (first, points) in (0..)
             .step_by(BATCH_POINTS)
             .zip(self.points[s].chunks(BATCH_POINTS))
         {
             batch.load(points);
-            if let Err(t) = batch.magnitudes(&plan, self.z_base, &mut mags, (np, first)) {
+            if let Err(t) = batch.magnitudes(&plan, self.z_base, mags, (np, first)) {
                 return Err(self.singular(s, points[t].order));
             }
         }
         let mut series = Vec::with_capacity(chunk.len() * nb);
-        let work = std::cell::RefCell::new(Work::default());
+        let work = std::cell::RefCell::new(work);
         for (slot, &c) in chunk.iter().enumerate() {
             let one = ComboPlan::new(&[&self.configurations[c].steps[..]]);
             for b in 0..nb {
@@ -341,6 +352,15 @@ impl Ctx<'_, '_> {
         }
         Ok((z[0] * self.z_base[b], point.z0_pu(0) * self.z_base[b]))
     }
+}
+
+/// What one task of the scan reuses from block to block: the curves' magnitudes, the batch
+/// of points and the refinement's work.
+#[derive(Default)]
+struct BlockWork {
+    mags: Vec<f64>,
+    batch: PointBatch,
+    work: Work,
 }
 
 /// What refining the curves of one block reuses from one evaluation to the next: the
