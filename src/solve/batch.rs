@@ -55,8 +55,12 @@ pub struct PointBatch {
     f: Rows,
     /// Scratch row: Z_ia·f or Z_pa·f of the current row, per point.
     g: Rows,
-    /// Per point: some update of some combination was singular or an output not finite.
-    bad: Vec<bool>,
+    /// Per point: Σ (x − x) over every denominator and output x, 0 while all are finite
+    /// (NaN once one is not); kept in floating point so that the loops stay vector code.
+    finite: Vec<f64>,
+    /// Per point: the smallest max(|Re|, |Im|) of a denominator 1 + y·Z_aa (a point whose
+    /// smallest is at most 1e-300 is singular, as `solve::admissible` says).
+    smallest: Vec<f64>,
 }
 
 impl PointBatch {
@@ -81,8 +85,10 @@ impl PointBatch {
             r.resize(1, n);
         }
         self.y_step.resize(k, n);
-        self.bad.clear();
-        self.bad.resize(n, false);
+        self.finite.clear();
+        self.finite.resize(n, 0.0);
+        self.smallest.clear();
+        self.smallest.resize(n, f64::INFINITY);
         let z0 = &mut self.levels[0];
         for (t, p) in points.iter().enumerate() {
             let s = &p.state;
@@ -139,7 +145,8 @@ impl PointBatch {
                 }
             }
         }
-        match self.bad[..n].iter().position(|&b| b) {
+        let (finite, smallest) = (&self.finite[..n], &self.smallest[..n]);
+        match (0..n).position(|t| !(finite[t] == 0.0 && smallest[t] > 1e-300)) {
             Some(t) => Err(t),
             None => Ok(()),
         }
@@ -154,13 +161,14 @@ impl PointBatch {
         let (yr, yi) = (&self.y_step.re[a * n..][..n], &self.y_step.im[a * n..][..n]);
         let (zr, zi) = (&z.re[(a * k + a) * n..][..n], &z.im[(a * k + a) * n..][..n]);
         let (fr, fi) = (&mut self.f.re[..n], &mut self.f.im[..n]);
+        let (finite, smallest) = (&mut self.finite[..n], &mut self.smallest[..n]);
         for t in 0..n {
             // y = y_step · n; denom = 1 + y·Z_aa; f = y / denom (num-complex's formulas).
             let (y_re, y_im) = (yr[t] * times, yi[t] * times);
             let d_re = 1.0 + (y_re * zr[t] - y_im * zi[t]);
             let d_im = y_re * zi[t] + y_im * zr[t];
-            let ok = d_re.is_finite() & d_im.is_finite() & (d_re.abs().max(d_im.abs()) > 1e-300);
-            self.bad[t] |= !ok;
+            finite[t] += (d_re - d_re) + (d_im - d_im);
+            smallest[t] = smallest[t].min(d_re.abs().max(d_im.abs()));
             let ns = d_re * d_re + d_im * d_im;
             fr[t] = (y_re * d_re + y_im * d_im) / ns;
             fi[t] = (y_im * d_re - y_re * d_im) / ns;
@@ -223,12 +231,12 @@ impl PointBatch {
             let (ar, ai) = row(&from.zis, p * k + a, n);
             let (zr, zi) = row(&from.zii, p, n);
             let dst = &mut out[(slot * self.m + p) * stride + offset..][..n];
-            let bad = &mut self.bad[..n];
+            let finite = &mut self.finite[..n];
             for t in 0..n {
                 let (sq_re, sq_im) = (ar[t] * ar[t] - ai[t] * ai[t], ar[t] * ai[t] + ai[t] * ar[t]);
                 let o_re = zr[t] - (sq_re * fr[t] - sq_im * fi[t]);
                 let o_im = zi[t] - (sq_re * fi[t] + sq_im * fr[t]);
-                bad[t] |= !(o_re.is_finite() & o_im.is_finite());
+                finite[t] += (o_re - o_re) + (o_im - o_im);
                 dst[t] = (o_re * o_re + o_im * o_im).sqrt() * base;
             }
         }
@@ -248,9 +256,9 @@ impl PointBatch {
         for (p, base) in scale.iter().enumerate().take(self.m) {
             let (zr, zi) = row(&from.zii, p, n);
             let dst = &mut out[(slot * self.m + p) * stride + offset..][..n];
-            let bad = &mut self.bad[..n];
+            let finite = &mut self.finite[..n];
             for t in 0..n {
-                bad[t] |= !(zr[t].is_finite() & zi[t].is_finite());
+                finite[t] += (zr[t] - zr[t]) + (zi[t] - zi[t]);
                 dst[t] = (zr[t] * zr[t] + zi[t] * zi[t]).sqrt() * base;
             }
         }

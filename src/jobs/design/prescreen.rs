@@ -17,7 +17,7 @@ use crate::study::scan::KnownPoints;
 /// their buses alone, in the configurations where one of them is energized (the others
 /// have no row of theirs; `none` is added as always), with Z₀ from `known` (the points of
 /// the search's network number `known.1`). A plan that is not clear gets the other banks'
-/// rows where the controller (`control`) goes ([`reached_rows`]).
+/// rows where the controller (`control`) goes ([`reached_rows`], with Z₀ from `known` too).
 pub(super) fn studied(
     plant: &Plant,
     (ids, control): (&[&str], &[Vec<Control>]),
@@ -40,7 +40,8 @@ pub(super) fn studied(
         .any(|r| ids.contains(&r.bank.as_str()) && r.verdict == Verdict::Resonant);
     let band = (scan.tolerance.iter()).any(|t| ids.contains(&t.bank.as_str()) && t.flagged);
     if resonant || band {
-        return Ok((reached_rows(scan, plant, ids, control, options)?, false));
+        let reached = reached_rows(scan, plant, (ids, control), known, options)?;
+        return Ok((reached, false));
     }
     let full = CheckOptions {
         known_points: Some(known),
@@ -57,8 +58,8 @@ pub(super) fn studied(
 fn reached_rows(
     mut prescreen: CheckResults,
     plant: &Plant,
-    ids: &[&str],
-    control: &[Vec<Control>],
+    (ids, control): (&[&str], &[Vec<Control>]),
+    known: (Arc<KnownPoints>, usize),
     options: &DesignOptions,
 ) -> Result<CheckResults, CheckError> {
     let mut labels: Vec<String> = Vec::new();
@@ -82,6 +83,7 @@ fn reached_rows(
         plant,
         &CheckOptions {
             configurations: labels,
+            known_points: Some(known),
             ..check_options(options, true)
         },
     )?;
