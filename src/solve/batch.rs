@@ -55,7 +55,7 @@ pub struct PointBatch {
     f: Rows,
     /// Scratch row: Z_ia·f or Z_pa·f of the current row, per point.
     g: Rows,
-    /// Per point: Σ (x − x) over every denominator and output x, 0 while all are finite
+    /// Per point: Σ x·0 over every denominator and output x, 0 while all are finite
     /// (NaN once one is not); kept in floating point so that the loops stay vector code.
     finite: Vec<f64>,
     /// Per point: the smallest max(|Re|, |Im|) of a denominator 1 + y·Z_aa (a point whose
@@ -167,7 +167,7 @@ impl PointBatch {
             let (y_re, y_im) = (yr[t] * times, yi[t] * times);
             let d_re = 1.0 + (y_re * zr[t] - y_im * zi[t]);
             let d_im = y_re * zi[t] + y_im * zr[t];
-            finite[t] += (d_re - d_re) + (d_im - d_im);
+            finite[t] += nonfinite(d_re) + nonfinite(d_im);
             smallest[t] = smallest[t].min(d_re.abs().max(d_im.abs()));
             let ns = d_re * d_re + d_im * d_im;
             fr[t] = (y_re * d_re + y_im * d_im) / ns;
@@ -236,7 +236,7 @@ impl PointBatch {
                 let (sq_re, sq_im) = (ar[t] * ar[t] - ai[t] * ai[t], ar[t] * ai[t] + ai[t] * ar[t]);
                 let o_re = zr[t] - (sq_re * fr[t] - sq_im * fi[t]);
                 let o_im = zi[t] - (sq_re * fi[t] + sq_im * fr[t]);
-                finite[t] += (o_re - o_re) + (o_im - o_im);
+                finite[t] += nonfinite(o_re) + nonfinite(o_im);
                 dst[t] = (o_re * o_re + o_im * o_im).sqrt() * base;
             }
         }
@@ -258,11 +258,18 @@ impl PointBatch {
             let dst = &mut out[(slot * self.m + p) * stride + offset..][..n];
             let finite = &mut self.finite[..n];
             for t in 0..n {
-                finite[t] += (zr[t] - zr[t]) + (zi[t] - zi[t]);
+                finite[t] += nonfinite(zr[t]) + nonfinite(zi[t]);
                 dst[t] = (zr[t] * zr[t] + zi[t] * zi[t]).sqrt() * base;
             }
         }
     }
+}
+
+/// 0 for a finite x, NaN for an infinite or NaN one (x·0): summed per point, the sum stays
+/// 0 while every value is finite.
+#[inline(always)]
+fn nonfinite(x: f64) -> f64 {
+    x * 0.0
 }
 
 /// Entry e's row of points (real, imaginary).
@@ -406,5 +413,11 @@ mod tests {
         let mut batch = PointBatch::default();
         batch.load(&pts);
         assert_eq!(batch.magnitudes(&plan, &[1.0], &mut out, (10, 0)), Err(6));
+        // And 1 + y·Z_aa exactly 0 at point 3 (Z_aa = 1, y = −1), the earlier point named.
+        pts[3].state.zss[0] = Complex64::new(1.0, 0.0);
+        pts[3].y_step_mut()[0] = Complex64::new(-1.0, 0.0);
+        assert_eq!(per_point(&pts, &plan, &[1.0], &mut out), Err(3));
+        batch.load(&pts);
+        assert_eq!(batch.magnitudes(&plan, &[1.0], &mut out, (10, 0)), Err(3));
     }
 }
