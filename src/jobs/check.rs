@@ -9,11 +9,18 @@ use crate::model::Plant;
 /// `options` asks for them (or, by default, when the plant has at most
 /// [`AUTO_REMEDY_CONFIGURATIONS`] step combinations).
 pub fn run_check(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, CheckError> {
-    let mut res = super::studies::run_studies(plant, options)?;
-    if !options.scan_only && options.damping_band != Some(false) {
+    let band = !options.scan_only && options.damping_band != Some(false);
+    // The damping band's re-run needs only the resonance screen: it runs beside the
+    // other studies.
+    let (res, least) = super::studies::run_studies_beside(plant, options, |rows| {
+        band.then(|| super::damping::least_damped_rerun(plant, rows, options))
+            .flatten()
+    });
+    let mut res = res?;
+    if band {
         // The band explains a verdict and never stops the check.
-        match super::damping::damping_bands(&res, options) {
-            Ok(band) => res.damping = band,
+        match least.flatten().transpose() {
+            Ok(least) => res.damping = super::damping::damping_bands(&res, least.as_ref()),
             Err(e) => res.notes.push(Note::DampingBand(e.to_string())),
         }
     }

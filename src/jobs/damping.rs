@@ -9,9 +9,9 @@ use serde::Serialize;
 
 use super::results::{CheckError, CheckOptions, CheckResults};
 use super::studies::run_studies;
-use crate::model::{LEAST_DAMPED, Sequence};
-use crate::study::Verdict;
+use crate::model::{LEAST_DAMPED, Plant, Sequence};
 use crate::study::penetration::Evaluation;
+use crate::study::{ResonanceRow, Verdict};
 
 /// The key figures of one bank in one scenario and configuration under one damping model.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -118,48 +118,53 @@ impl<'r> Lookup<'r> {
     }
 }
 
-/// The band of every resonance row of `res` flagged `RESONANT`. Under the least-damped
-/// models already, the band's two sides are the same figures; otherwise the plant is
-/// re-run under them over the flagged configurations (and `none`, the reference).
-pub fn damping_bands(
-    res: &CheckResults,
+/// The plant re-run under the least-damped models over the configurations with a row of
+/// `rows` flagged `RESONANT` (and `none`, the reference), at the bank buses alone; `None`
+/// when nothing is flagged or the study's models are the least-damped ones already (the
+/// band's two sides are then the same figures). Needs only the resonance screen, so the
+/// check runs it beside its other studies ([`super::studies::run_studies_beside`]).
+pub fn least_damped_rerun(
+    plant: &Plant,
+    rows: &[ResonanceRow],
     options: &CheckOptions,
-) -> Result<Vec<DampingBand>, CheckError> {
-    let flagged: Vec<_> = (res.resonance.rows.iter())
-        .filter(|r| r.verdict == Verdict::Resonant)
-        .collect();
-    if flagged.is_empty() {
-        return Ok(Vec::new());
+) -> Option<Result<CheckResults, CheckError>> {
+    let study = &plant.study;
+    if (study.resistance_model, study.load_model) == LEAST_DAMPED {
+        return None;
     }
-    let study = &res.plant.study;
-    let least = if (study.resistance_model, study.load_model) == LEAST_DAMPED {
-        None
-    } else {
-        let mut plant = res.plant.clone();
-        (plant.study.resistance_model, plant.study.load_model) = LEAST_DAMPED;
-        let mut labels: Vec<String> = Vec::new();
-        for r in &flagged {
-            if !labels.contains(&r.configuration) {
-                labels.push(r.configuration.clone());
-            }
+    let mut labels: Vec<String> = Vec::new();
+    let mut seen = std::collections::HashSet::new();
+    for r in rows.iter().filter(|r| r.verdict == Verdict::Resonant) {
+        if seen.insert(r.configuration.as_str()) {
+            labels.push(r.configuration.clone());
         }
-        // The key figures are read at the bank buses alone: neither the PCC nor the extra
-        // buses are scanned again, and penetration sums no bus beyond the PCC, bank and
-        // source buses.
-        let rerun = CheckOptions {
-            screened_banks: Some(plant.banks.iter().map(|b| b.id.clone()).collect()),
-            evaluation: match options.evaluation {
-                Evaluation::Direct => Evaluation::Direct,
-                _ => Evaluation::BankBuses,
-            },
-            ..options.rerun(labels)
-        };
-        Some(run_studies(&plant, &rerun)?)
+    }
+    if labels.is_empty() {
+        return None;
+    }
+    let mut plant = plant.clone();
+    (plant.study.resistance_model, plant.study.load_model) = LEAST_DAMPED;
+    // The key figures are read at the bank buses alone: neither the PCC nor the extra
+    // buses are scanned again, and penetration sums no bus beyond the PCC, bank and
+    // source buses.
+    let rerun = CheckOptions {
+        screened_banks: Some(plant.banks.iter().map(|b| b.id.clone()).collect()),
+        evaluation: match options.evaluation {
+            Evaluation::Direct => Evaluation::Direct,
+            _ => Evaluation::BankBuses,
+        },
+        ..options.rerun(labels)
     };
-    let least_res = least.as_ref().unwrap_or(res);
-    let (here, there) = (Lookup::new(res), Lookup::new(least_res));
-    Ok(flagged
-        .iter()
+    Some(run_studies(&plant, &rerun))
+}
+
+/// The band of every resonance row of `res` flagged `RESONANT`, its least-damped side read
+/// from `least` ([`least_damped_rerun`]; `None`: the study's models are the least-damped
+/// ones, and both sides are `res`'s figures).
+pub fn damping_bands(res: &CheckResults, least: Option<&CheckResults>) -> Vec<DampingBand> {
+    let flagged = (res.resonance.rows.iter()).filter(|r| r.verdict == Verdict::Resonant);
+    let (here, there) = (Lookup::new(res), Lookup::new(least.unwrap_or(res)));
+    flagged
         .filter_map(|r| {
             let key =
                 |x: &Lookup<'_>| x.figures(&r.scenario, &r.configuration, &r.bank, r.sequence);
@@ -172,5 +177,5 @@ pub fn damping_bands(
                 least_damped: key(&there)?,
             })
         })
-        .collect())
+        .collect()
 }

@@ -73,10 +73,11 @@ pub(super) fn duty(
     let c_upper = 1.0 + plant.study.capacitance_tolerance.plus_percent / 100.0;
     let floor_pu = plant.study.voltage_range.high_pu;
     let high = high_voltages(plant, scan, c_upper, floor_pu);
+    // In parallel over the results, in their order.
     let rows = penetration
         .results
-        .iter()
-        .flat_map(|d| {
+        .par_iter()
+        .flat_map_iter(|d| {
             let cfg = &scan.configurations[d.configuration];
             let study_point = operating
                 .point_at(d.scenario, d.configuration, nc)

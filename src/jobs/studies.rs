@@ -18,7 +18,7 @@ use crate::study::resonance::ZeroScan;
 use crate::study::scan::ScanOptions;
 use crate::study::switching::SwitchingStudy;
 use crate::study::tolerance::{ToleranceBand, bands};
-use crate::study::{Configuration, ResonanceStudy, Scan, ScanGrid};
+use crate::study::{Configuration, ResonanceRow, ResonanceStudy, Scan, ScanGrid};
 
 /// With on-site generation (a `Kind = generator` source), the active power the PCC draws
 /// from the utility without banks, kW, the largest over the scenarios; `None` without
@@ -316,10 +316,11 @@ fn limit_rows(
     penetration: &Penetration,
     limits: &LimitContext,
 ) -> Vec<LimitRow> {
+    use rayon::prelude::*;
     let network = &ctx.network;
     penetration
         .results
-        .iter()
+        .par_iter()
         .map(|d| {
             limit_row(
                 d,
@@ -372,16 +373,95 @@ fn switching(
 /// Runs every study `options` asks for on `plant` (remedies excepted: see
 /// [`super::check::run_check`]).
 pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults, CheckError> {
-    let ctx = Context::build(plant, options)?;
-    let network = &ctx.network;
-    let engine = Engine::new(network, &ctx.buses);
+    run_studies_beside(plant, options, |_| ()).0
+}
+
+/// [`run_studies`], with `beside(rows)` run on the resonance screen's rows in parallel with
+/// every study after the screen (the damping band's re-run needs nothing more): (the
+/// results, what `beside` returned; `None` when the check stopped before the screen was
+/// done).
+pub fn run_studies_beside<T: Send>(
+    plant: &Plant,
+    options: &CheckOptions,
+    beside: impl FnOnce(&[ResonanceRow]) -> T + Send,
+) -> (Result<CheckResults, CheckError>, Option<T>) {
+    let ctx = match Context::build(plant, options) {
+        Ok(ctx) => ctx,
+        Err(e) => return (Err(e), None),
+    };
+    let engine = Engine::new(&ctx.network, &ctx.buses);
     let zero_engine = Engine::new(&ctx.zero, &ctx.zero_buses);
-    let Screen {
-        scan,
-        zero_scan,
-        zero_map,
-        resonance,
-    } = screen(&ctx, &engine, &zero_engine, options)?;
+    let screened = match screen(&ctx, &engine, &zero_engine, options) {
+        Ok(s) => s,
+        Err(e) => return (Err(e), None),
+    };
+    let (studies, side) = rayon::join(
+        || after_screen(&ctx, (&engine, &zero_engine), &screened, options),
+        || beside(&screened.resonance.rows),
+    );
+    let results = studies.map(|studies| {
+        let Screen {
+            scan,
+            zero_scan,
+            zero_map,
+            resonance,
+        } = screened;
+        CheckResults {
+            plant: plant.clone(),
+            network: ctx.network.clone(),
+            scan,
+            zero_scan,
+            zero_map,
+            zero_network: ctx.zero.clone(),
+            resonance,
+            operating: studies.operating,
+            load_flow: studies.load_flow,
+            penetration: studies.penetration,
+            limits: studies.limits,
+            limit_rows: studies.limit_rows,
+            duty: studies.duty,
+            duty_envelope: studies.duty_envelope,
+            neutral: studies.neutral,
+            tolerance: studies.tolerance,
+            switching: studies.switching,
+            background: studies.background,
+            amplification: studies.amplification,
+            remedies: Vec::new(),
+            plant_remedies: Vec::new(),
+            damping: Vec::new(),
+            notes: studies.notes,
+            pcc: ctx.pcc,
+        }
+    });
+    (results, Some(side))
+}
+
+/// What the studies after the resonance screen give (see [`CheckResults`]).
+struct Studies {
+    operating: OperatingStudy,
+    load_flow: OperatingSolver,
+    penetration: Penetration,
+    limits: LimitContext,
+    limit_rows: Vec<LimitRow>,
+    duty: Vec<crate::study::duty::DutyRow>,
+    duty_envelope: Option<crate::study::duty::DutyEnvelope>,
+    neutral: Vec<crate::study::neutral::NeutralRow>,
+    tolerance: Vec<ToleranceBand>,
+    switching: SwitchingStudy,
+    background: Vec<crate::study::background::BackgroundShare>,
+    amplification: Vec<Vec<crate::study::penetration::BankAmplification>>,
+    notes: Vec<Note>,
+}
+
+/// Every study after the screen: load flows, penetration and limits, duty, the tolerance
+/// band, switching, and their notes.
+fn after_screen(
+    ctx: &Context<'_>,
+    (engine, zero_engine): (&Engine<'_>, &Engine<'_>),
+    screened: &Screen,
+    options: &CheckOptions,
+) -> Result<Studies, CheckError> {
+    let (plant, network, scan) = (ctx.plant, &ctx.network, &screened.scan);
     let studied: &[Configuration] = if options.scan_only {
         &[]
     } else {
@@ -390,47 +470,40 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
     let load_flow = OperatingSolver::new(network);
     let operating = OperatingStudy::run(plant, network, &load_flow, studied);
     let engines = SequenceEngines {
-        positive: &engine,
-        zero: &zero_engine,
+        positive: engine,
+        zero: zero_engine,
     };
-    let (penetration, limits) = harmonics(&ctx, &engines, &scan, &operating, options)?;
-    let mut notes = study_notes(&ctx, &penetration, &limits, &operating);
-    if zero_scan.is_some() {
-        notes.extend(no_zero_path(&ctx));
+    let (penetration, limits) = harmonics(ctx, &engines, scan, &operating, options)?;
+    let mut notes = study_notes(ctx, &penetration, &limits, &operating);
+    if screened.zero_scan.is_some() {
+        notes.extend(no_zero_path(ctx));
     }
     let limit_rows = if options.scan_only {
         Vec::new()
     } else {
-        limit_rows(&ctx, &scan, &penetration, &limits)
+        limit_rows(ctx, scan, &penetration, &limits)
     };
     // Empty under scan_only: the scan injects nothing.
     let neutral = crate::study::neutral::neutral_rows(plant, network, &penetration.injections);
     let (duty, duty_envelope) = if options.scan_only {
         (Vec::new(), None)
     } else {
-        super::duty::duty(&ctx, &scan, &operating, &penetration)
+        super::duty::duty(ctx, scan, &operating, &penetration)
     };
-    let tolerance = tolerance(&ctx, &resonance);
+    let tolerance = tolerance(ctx, &screened.resonance);
     let switching = if options.scan_only || !options.switching {
         SwitchingStudy::default()
     } else {
-        switching(&ctx, &engine, &scan, (&operating, &load_flow))?
+        switching(ctx, engine, scan, (&operating, &load_flow))?
     };
     notes.extend(switching.failures.iter().cloned().map(Note::Switching));
     let background = background_shares(&penetration, network, &plant.banks, &scan.configurations);
-    let amplification = amplification(&scan, &penetration);
+    let amplification = amplification(scan, &penetration);
     if let Some(note) = plant_level_limits(&limit_rows, &network.buses[ctx.pcc].id) {
         let at = usize::from(matches!(notes.first(), Some(Note::Collapse { .. })));
         notes.insert(at, note);
     }
-    Ok(CheckResults {
-        plant: plant.clone(),
-        network: ctx.network.clone(),
-        scan,
-        zero_scan,
-        zero_map,
-        zero_network: ctx.zero.clone(),
-        resonance,
+    Ok(Studies {
         operating,
         load_flow,
         penetration,
@@ -443,11 +516,7 @@ pub fn run_studies(plant: &Plant, options: &CheckOptions) -> Result<CheckResults
         switching,
         background,
         amplification,
-        remedies: Vec::new(),
-        plant_remedies: Vec::new(),
-        damping: Vec::new(),
         notes,
-        pcc: ctx.pcc,
     })
 }
 
