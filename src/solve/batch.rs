@@ -8,6 +8,8 @@
 //! operation and in the same order (Rust never contracts or reorders floating-point
 //! arithmetic), so the magnitudes are the same bit for bit: the tests compare them.
 
+use num_complex::Complex64;
+
 use super::engine::{ComboPlan, Op, PointSolution};
 
 /// Points per batch: the states of one bank level for 8 banks and 9 buses take
@@ -64,9 +66,10 @@ pub struct PointBatch {
 }
 
 impl PointBatch {
-    /// Takes the Z₀ and step admittances of `points` (all of one network, scenario and
-    /// buses of interest; at most [`BATCH_POINTS`] of them usefully).
-    pub fn load(&mut self, points: &[PointSolution]) {
+    /// Takes the Z₀ of `points` (all of one network, scenario and buses of interest; at most
+    /// [`BATCH_POINTS`] of them usefully) and the step admittances `y_steps` (one per point,
+    /// each bank's, per unit: the plant's, which kept points of another plant do not hold).
+    pub fn load(&mut self, points: &[PointSolution], y_steps: &[Vec<Complex64>]) {
         let Some(first) = points.first() else {
             self.n = 0;
             return;
@@ -102,7 +105,7 @@ impl PointBatch {
                 z0.zii.re[e * n + t] = v.re;
                 z0.zii.im[e * n + t] = v.im;
             }
-            for (e, v) in p.y_step.iter().enumerate() {
+            for (e, v) in y_steps[t].iter().enumerate() {
                 self.y_step.re[e * n + t] = v.re;
                 self.y_step.im[e * n + t] = v.im;
             }
@@ -318,7 +321,6 @@ fn sub_product(
 mod tests {
     use super::super::engine::State;
     use super::*;
-    use num_complex::Complex64;
 
     /// For `Complex64` rows in tests: the magnitudes of [`PointSolution::evaluate`] laid out as
     /// [`PointBatch::magnitudes`] lays them out.
@@ -390,8 +392,13 @@ mod tests {
             per_point(&pts, &plan, &scale, &mut want).expect("regular");
             let mut got = vec![0.0; plan.len() * m * np];
             let mut batch = PointBatch::default();
-            for (b, chunk) in pts.chunks(BATCH_POINTS).enumerate() {
-                batch.load(chunk);
+            let y: Vec<Vec<Complex64>> = pts.iter().map(|p| p.y_step.clone()).collect();
+            for (b, (chunk, y)) in pts
+                .chunks(BATCH_POINTS)
+                .zip(y.chunks(BATCH_POINTS))
+                .enumerate()
+            {
+                batch.load(chunk, y);
                 batch
                     .magnitudes(&plan, &scale, &mut got, (np, b * BATCH_POINTS))
                     .expect("regular");
@@ -411,13 +418,14 @@ mod tests {
         let mut out = vec![0.0; 3 * 10];
         assert_eq!(per_point(&pts, &plan, &[1.0], &mut out), Err(6));
         let mut batch = PointBatch::default();
-        batch.load(&pts);
+        let y = |pts: &[PointSolution]| pts.iter().map(|p| p.y_step.clone()).collect::<Vec<_>>();
+        batch.load(&pts, &y(&pts));
         assert_eq!(batch.magnitudes(&plan, &[1.0], &mut out, (10, 0)), Err(6));
         // And 1 + y·Z_aa exactly 0 at point 3 (Z_aa = 1, y = −1), the earlier point named.
         pts[3].state.zss[0] = Complex64::new(1.0, 0.0);
         pts[3].y_step_mut()[0] = Complex64::new(-1.0, 0.0);
         assert_eq!(per_point(&pts, &plan, &[1.0], &mut out), Err(3));
-        batch.load(&pts);
+        batch.load(&pts, &y(&pts));
         assert_eq!(batch.magnitudes(&plan, &[1.0], &mut out, (10, 0)), Err(3));
     }
 }

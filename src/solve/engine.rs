@@ -54,7 +54,7 @@ pub struct PointSolution {
 }
 
 /// The impedances a step combination updates, per unit.
-#[derive(Debug, Clone, Default)]
+#[derive(Debug, Default)]
 pub(super) struct State {
     pub(super) k: usize,
     pub(super) m: usize,
@@ -64,6 +64,27 @@ pub(super) struct State {
     pub(super) zis: Vec<Complex64>,
     /// Driving point at each bus of interest.
     pub(super) zii: Vec<Complex64>,
+}
+
+impl Clone for State {
+    fn clone(&self) -> Self {
+        State {
+            k: self.k,
+            m: self.m,
+            zss: self.zss.clone(),
+            zis: self.zis.clone(),
+            zii: self.zii.clone(),
+        }
+    }
+
+    /// Copies into the buffers already held (the plan copies a level at every bank left at
+    /// 0 steps, and every evaluation starts from Z₀: no allocation once they have grown).
+    fn clone_from(&mut self, source: &Self) {
+        (self.k, self.m) = (source.k, source.m);
+        self.zss.clone_from(&source.zss);
+        self.zis.clone_from(&source.zis);
+        self.zii.clone_from(&source.zii);
+    }
 }
 
 impl State {

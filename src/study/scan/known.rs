@@ -38,14 +38,14 @@ pub struct KnownPoints {
 type PointsKey = (usize, usize, Vec<u64>, Vec<usize>, Vec<usize>);
 
 impl KnownPoints {
-    /// The points of `engine`'s network on `grid`: kept ones with this plant's step
-    /// admittances, or solved and kept.
+    /// The points of `engine`'s network on `grid`: kept ones (whose step admittances are
+    /// the first plant's: the scan holds its own), or solved and kept.
     pub(super) fn points(
         &self,
         engine: &Engine<'_>,
         grid: &ScanGrid,
         network: usize,
-    ) -> Result<Vec<Vec<PointSolution>>, SolveError> {
+    ) -> Result<std::sync::Arc<Vec<Vec<PointSolution>>>, SolveError> {
         let net = engine.network();
         let key: PointsKey = (
             network,
@@ -62,17 +62,13 @@ impl KnownPoints {
                     _ => false,
                 });
             if same {
-                let mut points = (*kept).clone();
-                for p in points.iter_mut().flatten() {
-                    let h = p.order;
-                    engine.y_steps_into(h, p.y_step_mut());
-                }
-                return Ok(points);
+                // Shared as they are: the scan takes the step admittances from this plant.
+                return Ok(kept);
             }
         }
-        let points = solve_points(engine, grid)?;
+        let points = std::sync::Arc::new(solve_points(engine, grid)?);
         if let Ok(mut m) = self.kept.lock() {
-            m.insert(key, std::sync::Arc::new(points.clone()));
+            m.insert(key, points.clone());
         }
         Ok(points)
     }

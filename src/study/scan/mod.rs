@@ -10,6 +10,7 @@
 //! (CSV, chart) is recomputed from the kept points by [`Scan::curve`]. Results do not depend
 //! on the number of threads.
 
+use std::sync::Arc;
 use std::sync::atomic::{AtomicU64, Ordering};
 
 use num_complex::Complex64;
@@ -101,8 +102,11 @@ pub struct Scan {
     pub buses: Vec<usize>,
     /// One series per scenario × configuration × bus, in that nesting order.
     pub series: Vec<Series>,
-    /// Z₀ per scenario and grid point.
-    points: Vec<Vec<PointSolution>>,
+    /// Z₀ per scenario and grid point (shared with the search's kept points: their step
+    /// admittances may be another plant's; this plant's are `y_steps`).
+    points: Arc<Vec<Vec<PointSolution>>>,
+    /// Each bank's one-step admittance at every grid point, per unit.
+    y_steps: Vec<Vec<Complex64>>,
     /// Impedance base of each scanned bus, ohm.
     z_base: Vec<f64>,
 }
@@ -140,14 +144,13 @@ impl Scan {
     /// starts at order 1), else solved afresh.
     pub fn fundamental(&self, engine: &Engine<'_>, s: usize) -> Result<PointSolution, SolveError> {
         match self.grid.orders.first() {
-            Some(1.0) => Ok(self.points[s][0].clone()),
+            Some(1.0) => {
+                let mut p = self.points[s][0].clone();
+                p.y_step_mut().clone_from(&self.y_steps[0]);
+                Ok(p)
+            }
             _ => engine.point(1.0, s),
         }
-    }
-
-    /// Z₀ (no banks) of scenario `s` at grid point `i`.
-    pub fn point(&self, s: usize, i: usize) -> &PointSolution {
-        &self.points[s][i]
     }
 
     /// Z(h) in ohm at every grid order for scenario `s`, configuration `c`, scanned bus `b`,
@@ -155,10 +158,10 @@ impl Scan {
     pub fn curve(&self, s: usize, c: usize, b: usize) -> Option<Vec<Complex64>> {
         let steps = &self.configurations[c].steps;
         let mut scratch = Scratch::default();
-        self.points[s]
-            .iter()
-            .map(|p| {
-                let one = p.for_bus(b);
+        (self.points[s].iter().zip(&self.y_steps))
+            .map(|(p, y)| {
+                let mut one = p.for_bus(b);
+                one.y_step_mut().clone_from(y);
                 let mut z = [Complex64::default()];
                 one.driving_point_into(steps, &mut scratch, &mut z)
                     .then(|| z[0] * self.z_base[b])
@@ -201,8 +204,9 @@ impl Scan {
         let z_base: Vec<f64> = buses.iter().map(|&i| net.buses[i].z_base_ohm).collect();
         let points = match known {
             Some((known, network)) => known.points(engine, &grid, network)?,
-            None => solve_points(engine, &grid)?,
+            None => Arc::new(solve_points(engine, &grid)?),
         };
+        let y_steps: Vec<Vec<Complex64>> = grid.orders.iter().map(|&h| engine.y_steps(h)).collect();
         let mut order: Vec<usize> = (0..nc).collect();
         order.sort_by(|&a, &b| configurations[a].steps.cmp(&configurations[b].steps));
         let per_block = (BLOCK_BYTES / (grid.orders.len() * nb.max(1) * 8)).clamp(1, 256);
@@ -216,6 +220,7 @@ impl Scan {
             grid: &grid,
             configurations: &configurations,
             points: &points,
+            y_steps: &y_steps,
             z_base: &z_base,
             dips,
         };
@@ -240,6 +245,7 @@ impl Scan {
             buses,
             series,
             points,
+            y_steps,
             z_base,
         })
     }
@@ -250,6 +256,7 @@ struct Ctx<'a, 'e> {
     grid: &'a ScanGrid,
     configurations: &'a [Configuration],
     points: &'a [Vec<PointSolution>],
+    y_steps: &'a [Vec<Complex64>],
     z_base: &'a [f64],
     /// Refine the dips (else every series' `dips` stays empty).
     dips: bool,
@@ -288,11 +295,9 @@ impl Ctx<'_, '_> {
         let mags = &mut mags[..len];
         // The curves' magnitudes batch of points after batch (the same values as point by
         // point, bit for bit; see `solve::batch`).
-        for (first, points) in (0..)
-            .step_by(BATCH_POINTS)
-            .zip(self.points[s].chunks(BATCH_POINTS))
-        {
-            batch.load(points);
+        let batches = (self.points[s].chunks(BATCH_POINTS)).zip(self.y_steps.chunks(BATCH_POINTS));
+        for (first, (points, y_steps)) in (0..).step_by(BATCH_POINTS).zip(batches) {
+            batch.load(points, y_steps);
             if let Err(t) = batch.magnitudes(&plan, self.z_base, mags, (np, first)) {
                 return Err(self.singular(s, points[t].order));
             }
