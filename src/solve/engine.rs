@@ -341,6 +341,12 @@ impl<'a> Engine<'a> {
         self.sym.solve_in_place(f, b, work);
     }
 
+    /// [`Engine::solve_with`] multiplying by the inverse pivots ([`Symbolic::solve_in_place_fast`]:
+    /// about twice as fast on a radial network, different in the last bits only).
+    pub fn solve_fast_with(&self, f: &Factor, b: &mut [Complex64], work: &mut Vec<Complex64>) {
+        self.sym.solve_in_place_fast(f, b, work);
+    }
+
     /// One step's admittance of every bank at order h, per unit.
     pub fn y_steps(&self, order: f64) -> Vec<Complex64> {
         let mut y = Vec::with_capacity(self.net.banks.len());

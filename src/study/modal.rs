@@ -164,7 +164,7 @@ fn refine(
             break;
         };
         y.copy_from_slice(&x);
-        engine.solve_with(f, &mut y, &mut work);
+        engine.solve_fast_with(f, &mut y, &mut work);
         let num: Complex64 = x.iter().zip(&y).map(|(a, b)| a * b).sum();
         let den: Complex64 = x.iter().map(|a| a * a).sum();
         if num.norm() == 0.0 || den.norm() == 0.0 {
@@ -200,7 +200,7 @@ pub fn critical_mode(
     let f = engine.factor_stamped(stamped.clone(), order, scenario, Complex64::default())?;
     let n = net.buses.len();
     let mut work = Vec::with_capacity(n);
-    let power = dominant_to(n, |x| engine.solve_with(&f, x, &mut work), HANDOVER);
+    let power = dominant_to(n, |x| engine.solve_fast_with(&f, x, &mut work), HANDOVER);
     let (mu, t, converged) = match power {
         (mu, t, true) => refine(engine, (order, scenario, &stamped), mu, t),
         unsettled => unsettled,
