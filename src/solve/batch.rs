@@ -10,7 +10,8 @@
 
 use num_complex::Complex64;
 
-use super::engine::{ComboPlan, Op, PointSolution};
+use super::engine::PointSolution;
+use super::plan::{ComboPlan, Op};
 
 /// Points per batch: the states of one bank level for 8 banks and 9 buses take
 /// 145 × 32 × 16 B = 74 KB, so the levels of a plan stay within a core's second-level cache.

@@ -13,16 +13,18 @@ mod batch;
 mod engine;
 mod load_flow;
 mod pencil;
+mod plan;
 mod roots;
 mod sparse;
 mod transfer;
 
 pub use batch::{BATCH_POINTS, PointBatch};
-pub use engine::{ComboPlan, Engine, PointSolution, Scratch, SolveError};
+pub use engine::{Engine, PointSolution, Scratch, SolveError};
 pub use load_flow::{
     LoadFlowFailure, LoadFlowScratch, LoadFlowSystem, MAX_ITERATIONS, MISMATCH_PU,
 };
 pub use pencil::{Pole, matrix_pencil};
+pub use plan::ComboPlan;
 pub use roots::decreasing_root;
 pub use sparse::{Factor, SingularPivot, Symbolic};
 pub use transfer::{HarmonicPoint, TransferScratch, Z0Blocks};

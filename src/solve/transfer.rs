@@ -5,7 +5,7 @@
 
 use num_complex::Complex64;
 
-use super::engine::{PlanState, run_plan};
+use super::plan::{PlanState, run_plan};
 use super::{ComboPlan, Engine, SolveError, admissible};
 
 /// Z₀ at one harmonic order and scenario: among bank buses (k×k), every bus to the bank
