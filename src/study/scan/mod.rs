@@ -26,7 +26,7 @@ mod known;
 mod refine;
 pub use known::KnownPoints;
 use known::solve_points;
-use refine::{extrema, local_extrema};
+use refine::{extrema, local_extrema_in};
 
 /// The scan grid: orders 1 + i·step up to the highest order, which is included even when
 /// it is off the grid (input contract, "Outputs that other tools read").
@@ -291,15 +291,31 @@ impl Ctx<'_, '_> {
         if w.mags.len() < len {
             w.mags.resize(len, 0.0);
         }
-        let BlockWork { mags, batch, work } = w;
+        let BlockWork {
+            mags,
+            batch,
+            work,
+            candidates,
+        } = w;
         let mags = &mut mags[..len];
+        let curves = chunk.len() * nb;
+        candidates.resize_with(curves, Default::default);
+        candidates.iter_mut().for_each(|(max, min)| {
+            max.clear();
+            min.clear();
+        });
         // The curves' magnitudes batch of points after batch (the same values as point by
-        // point, bit for bit; see `solve::batch`).
+        // point, bit for bit; see `solve::batch`), and each curve's local extrema among the
+        // points whose neighbours are written, while they are still in cache.
         let batches = (self.points[s].chunks(BATCH_POINTS)).zip(self.y_steps.chunks(BATCH_POINTS));
         for (first, (points, y_steps)) in (0..).step_by(BATCH_POINTS).zip(batches) {
             batch.load(points, y_steps);
             if let Err(t) = batch.magnitudes(&plan, self.z_base, mags, (np, first)) {
                 return Err(self.singular(s, points[t].order));
+            }
+            let (from, to) = (first.max(1) - 1, first + points.len() - 1);
+            for (curve, (max, min)) in mags.chunks_exact(np.max(1)).zip(candidates.iter_mut()) {
+                local_extrema_in(curve, (from.max(1), to), max, min);
             }
         }
         let mut series = Vec::with_capacity(chunk.len() * nb);
@@ -309,7 +325,7 @@ impl Ctx<'_, '_> {
             for b in 0..nb {
                 let curve = &mags[(slot * nb + b) * np..(slot * nb + b + 1) * np];
                 let eval = |h: f64| self.exact(s, b, h, &one, &mut work.borrow_mut());
-                let candidates = local_extrema(curve);
+                let candidates = &candidates[slot * nb + b];
                 series.push(Series {
                     scenario: s,
                     configuration: c,
@@ -366,6 +382,8 @@ struct BlockWork {
     mags: Vec<f64>,
     batch: PointBatch,
     work: Work,
+    /// Per curve of the block: its local maxima and minima (grid indices, ascending).
+    candidates: Vec<(Vec<usize>, Vec<usize>)>,
 }
 
 /// What refining the curves of one block reuses from one evaluation to the next: the

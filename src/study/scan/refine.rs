@@ -92,22 +92,45 @@ fn brent(
 
 /// The interior grid points of `mags` that are local maxima (above the point before, not
 /// below the point after) and local minima (the reverse), in one pass: (maxima, minima).
-// The negated comparisons are meant: a NaN after the point does not stop it counting.
-#[allow(clippy::neg_cmp_op_on_partial_ord)]
+#[cfg(test)]
 pub(super) fn local_extrema(mags: &[f64]) -> (Vec<usize>, Vec<usize>) {
     let (mut maxima, mut minima) = (Vec::new(), Vec::new());
-    for (i, w) in mags.windows(3).enumerate() {
+    local_extrema_in(
+        mags,
+        (1, mags.len().saturating_sub(1)),
+        &mut maxima,
+        &mut minima,
+    );
+    (maxima, minima)
+}
+
+/// [`local_extrema`] of the points `from..to` of `mags` (each with both neighbours in
+/// `mags`; the range is cut to the interior), appended to `maxima` and `minima`: windows
+/// that follow one another give the whole curve's extrema in order.
+// The negated comparisons are meant: a NaN after the point does not stop it counting.
+#[allow(clippy::neg_cmp_op_on_partial_ord)]
+pub(super) fn local_extrema_in(
+    mags: &[f64],
+    (from, to): (usize, usize),
+    maxima: &mut Vec<usize>,
+    minima: &mut Vec<usize>,
+) {
+    let to = to.min(mags.len().saturating_sub(1));
+    let from = from.max(1);
+    if from >= to {
+        return;
+    }
+    for (i, w) in (from..).zip(mags[from - 1..=to].windows(3)) {
         let (l, m, r) = (w[0], w[1], w[2]);
         // Non-short-circuit `&`: the comparisons are cheap and rarely true, and a branch per
         // comparison costs more than both.
         if (m > l) & !(r > m) {
-            maxima.push(i + 1);
+            maxima.push(i);
         }
         if (m < l) & !(r < m) {
-            minima.push(i + 1);
+            minima.push(i);
         }
     }
-    (maxima, minima)
 }
 
 /// Of `mags` (|Z| in ohm on the grid), the local maxima (`peaks`) or minima at the grid
@@ -230,4 +253,60 @@ fn sharpness(
     let right = cross(b, b.saturating_sub(1))?;
     let width = right - left;
     Ok((width > 0.0).then(|| h / width))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::{local_extrema, local_extrema_in};
+
+    /// The plain pass: point by point over the whole curve.
+    #[allow(clippy::neg_cmp_op_on_partial_ord)]
+    fn point_by_point(mags: &[f64]) -> (Vec<usize>, Vec<usize>) {
+        let (mut maxima, mut minima) = (Vec::new(), Vec::new());
+        for (i, w) in mags.windows(3).enumerate() {
+            let (l, m, r) = (w[0], w[1], w[2]);
+            if m > l && !(r > m) {
+                maxima.push(i + 1);
+            }
+            if m < l && !(r < m) {
+                minima.push(i + 1);
+            }
+        }
+        (maxima, minima)
+    }
+
+    #[test]
+    fn windows_that_follow_one_another_find_the_whole_curves_extrema() {
+        // Consistency: the scan finds the extrema window by window, 32 points at a time, as
+        // the batches are written; curves of every length around the windows, with plateaus,
+        // repeated values and NaN.
+        let mut state = 12345u64;
+        let mut next = || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 33) as f64 / (1u64 << 31) as f64
+        };
+        for len in (0..100).chain([4901]) {
+            for kind in 0..4 {
+                let mags: Vec<f64> = (0..len)
+                    .map(|i| match kind {
+                        0 => next(),
+                        1 => (next() * 4.0).floor(),
+                        2 if i % 17 == 5 => f64::NAN,
+                        2 => next(),
+                        _ => ((i as f64) * 0.3).sin() + 2.0,
+                    })
+                    .collect();
+                let want = point_by_point(&mags);
+                assert_eq!(local_extrema(&mags), want, "{len} {kind}");
+                let (mut max, mut min) = (Vec::new(), Vec::new());
+                for first in (0..len).step_by(32) {
+                    let n = 32.min(len - first);
+                    local_extrema_in(&mags, (first.max(1) - 1, first + n - 1), &mut max, &mut min);
+                }
+                assert_eq!((max, min), want, "{len} {kind} by windows");
+            }
+        }
+    }
 }
