@@ -137,7 +137,7 @@ fn dominant_to(
 /// the second only confirms it; later iterations (a mode the first shift does not
 /// separate) are factored at the newest estimate. Returns (μ = 1/λ, t, converged); a shift
 /// the factorization finds singular is an eigenvalue to working precision, so the iterate
-/// stands. `y` is Y(h) as [`Engine::stamped`] gives it.
+/// stands. `y_stamped` is Y(h) as [`Engine::stamped`] gives it.
 fn refine(
     engine: &Engine<'_>,
     (order, scenario, y_stamped): (f64, usize, &[Complex64]),
